@@ -1,0 +1,376 @@
+"""Parts, contacts, probes and surface groups: the assembly of an axisymmetric wheel and brake.
+
+An :class:`Assembly` is a plain, immutable description. Every length is in [m], every
+conductance in [W/(m^2 K)], every temperature in [K]. Nothing here is meshed; the grid
+module turns an assembly into cells.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from itertools import combinations
+
+import numpy as np
+
+from .errors import GeometryError
+
+__all__ = [
+    "ROLES",
+    "HEAT_SINK_ROLES",
+    "SIDES",
+    "Part",
+    "Contact",
+    "Probe",
+    "FrictionSettings",
+    "GapPair",
+    "Assembly",
+]
+
+#: Roles a part may play. Rubbing interfaces are found between a rotor and a
+#: stator, pressure plate or end plate; the heat sink is the union of those four roles.
+ROLES = (
+    "rotor",
+    "stator",
+    "pressure_plate",
+    "end_plate",
+    "torque_tube",
+    "heat_shield",
+    "wheel",
+    "tyre_bead",
+    "other",
+)
+HEAT_SINK_ROLES = ("rotor", "stator", "pressure_plate", "end_plate")
+NON_ROTATING_STACK_ROLES = ("stator", "pressure_plate", "end_plate")
+#: Sides of an annular block: inner and outer cylinders, bottom (z_min) and top (z_max) faces.
+SIDES = ("inner", "outer", "bottom", "top")
+
+
+def _positive(value: float, what: str) -> float:
+    value = float(value)
+    if not np.isfinite(value) or value <= 0:
+        raise GeometryError(f"{what} must be a positive finite number, got {value}")
+    return value
+
+
+@dataclass(frozen=True)
+class Part:
+    """An axisymmetric annular block of one material.
+
+    Parameters
+    ----------
+    name : str
+        Unique name of the part (e.g. ``"rotor 1"``).
+    material : str
+        Name of a material file in ``materials/`` (or an inline material registered
+        with the model).
+    r_inner, r_outer : float
+        Inner and outer radius [m]; ``0 <= r_inner < r_outer``.
+    z_min, z_max : float
+        Axial extent [m]; ``z_min < z_max``.
+    role : str
+        One of :data:`ROLES`.
+    """
+
+    name: str
+    material: str
+    r_inner: float
+    r_outer: float
+    z_min: float
+    z_max: float
+    role: str = "other"
+
+    def __post_init__(self) -> None:
+        if not self.name or not isinstance(self.name, str):
+            raise GeometryError(f"part name must be a non-empty string, got {self.name!r}")
+        if self.role not in ROLES:
+            raise GeometryError(f"part {self.name!r}: role {self.role!r} is not one of {ROLES}")
+        for attr in ("r_inner", "r_outer", "z_min", "z_max"):
+            value = float(getattr(self, attr))
+            if not np.isfinite(value):
+                raise GeometryError(f"part {self.name!r}: {attr} must be finite, got {value}")
+            object.__setattr__(self, attr, value)
+        if self.r_inner < 0:
+            raise GeometryError(f"part {self.name!r}: r_inner must be >= 0, got {self.r_inner}")
+        _positive(self.r_outer - self.r_inner, f"part {self.name!r}: radial size r_outer - r_inner")
+        _positive(self.z_max - self.z_min, f"part {self.name!r}: axial size z_max - z_min")
+
+    def contains(self, r: float, z: float) -> bool:
+        """Whether the point (r [m], z [m]) lies in the part (boundary included)."""
+        return self.r_inner <= r <= self.r_outer and self.z_min <= z <= self.z_max
+
+    @property
+    def volume(self) -> float:
+        """Volume of the full annulus [m^3]."""
+        return np.pi * (self.r_outer**2 - self.r_inner**2) * (self.z_max - self.z_min)
+
+
+@dataclass(frozen=True)
+class Contact:
+    """Contact conductance between two touching parts, or between two roles.
+
+    Give either ``parts`` (two part names) or ``roles`` (two role names). ``None``
+    for a conductance means perfect contact (no interface resistance).
+
+    Parameters
+    ----------
+    parts : tuple of str, optional
+        The two part names.
+    roles : tuple of str, optional
+        The two roles (order does not matter).
+    clamped : float or None
+        Conductance [W/(m^2 K)] while the stack is clamped (brake applied).
+    released : float or None
+        Conductance [W/(m^2 K)] while released; defaults to ``clamped``.
+    """
+
+    parts: tuple[str, str] | None = None
+    roles: tuple[str, str] | None = None
+    clamped: float | None = None
+    released: float | None = None
+
+    def __post_init__(self) -> None:
+        if (self.parts is None) == (self.roles is None):
+            raise GeometryError("contact: give exactly one of 'parts' or 'roles'")
+        pair = self.parts if self.parts is not None else self.roles
+        if len(pair) != 2:
+            raise GeometryError(f"contact {pair!r}: needs exactly two names")
+        if self.roles is not None:
+            for role in self.roles:
+                if role not in ROLES:
+                    raise GeometryError(f"contact {self.roles!r}: unknown role {role!r}")
+        for attr in ("clamped", "released"):
+            value = getattr(self, attr)
+            if value is not None:
+                _positive(value, f"contact {pair!r}: {attr} conductance")
+        if self.released is None:
+            object.__setattr__(self, "released", self.clamped)
+
+    @property
+    def label(self) -> str:
+        """Readable name of the contact, e.g. ``"rotor 1 / stator 1"``."""
+        pair = self.parts if self.parts is not None else self.roles
+        return " / ".join(pair)
+
+
+@dataclass(frozen=True)
+class Probe:
+    """A named point at which the temperature history is recorded.
+
+    Parameters
+    ----------
+    name : str
+        Unique probe name (e.g. ``"sensor"``, ``"fuse plug 1"``).
+    r, z : float
+        Position [m]; must lie inside a part.
+    part : str, optional
+        Owning part; needed only on a boundary shared by two parts.
+    time_constant : float
+        First-order lag of the instrument [s]; 0 records the local temperature.
+    """
+
+    name: str
+    r: float
+    z: float
+    part: str | None = None
+    time_constant: float = 0.0
+
+    def __post_init__(self) -> None:
+        if not self.name:
+            raise GeometryError("probe name must be a non-empty string")
+        if not (np.isfinite(self.r) and np.isfinite(self.z)) or self.r < 0:
+            raise GeometryError(f"probe {self.name!r}: position ({self.r}, {self.z}) is not valid")
+        if not np.isfinite(self.time_constant) or self.time_constant < 0:
+            raise GeometryError(
+                f"probe {self.name!r}: time_constant must be >= 0 s, got {self.time_constant}"
+            )
+
+
+@dataclass(frozen=True)
+class FrictionSettings:
+    """How the brake power is spread over the rubbing interfaces.
+
+    Parameters
+    ----------
+    distribution : str
+        ``"uniform_pressure"`` (flux proportional to radius) or ``"uniform_wear"``
+        (uniform flux) over the rubbing annulus.
+    shares : mapping of str to float, optional
+        Share of the total power per interface label ``"rotor 1 / stator 1"``; the
+        shares are normalised. Default: equal shares.
+    r_min, r_max : float, optional
+        Radial limits of the rubbing annulus [m]; default: the radial overlap of the
+        two parts.
+    """
+
+    distribution: str = "uniform_pressure"
+    shares: Mapping[str, float] | None = None
+    r_min: float | None = None
+    r_max: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.distribution not in ("uniform_pressure", "uniform_wear"):
+            raise GeometryError(
+                f"friction distribution must be 'uniform_pressure' or 'uniform_wear', "
+                f"got {self.distribution!r}"
+            )
+        if self.shares is not None:
+            for label, share in self.shares.items():
+                if not np.isfinite(share) or share < 0:
+                    raise GeometryError(f"friction share of {label!r} must be >= 0, got {share}")
+        if self.r_min is not None and self.r_max is not None and self.r_max <= self.r_min:
+            raise GeometryError("friction r_max must be greater than r_min")
+
+
+@dataclass(frozen=True)
+class GapPair:
+    """A declared radiation exchange between one side of a part and one side of another.
+
+    Faces are matched row by row (inner/outer sides) or column by column (bottom/top
+    sides) on the grid, whether or not the void between them is unobstructed.
+    """
+
+    part_a: str
+    side_a: str
+    part_b: str
+    side_b: str
+
+    def __post_init__(self) -> None:
+        for side in (self.side_a, self.side_b):
+            if side not in SIDES:
+                raise GeometryError(f"gap pair: side {side!r} is not one of {SIDES}")
+        radial = {"inner", "outer"}
+        if (self.side_a in radial) != (self.side_b in radial):
+            raise GeometryError("gap pair: both sides must be radial (inner/outer) or both axial")
+
+
+@dataclass(frozen=True)
+class Assembly:
+    """The whole axisymmetric model: parts, contacts, probes and surface groups.
+
+    Parameters
+    ----------
+    parts : sequence of Part
+        Non-overlapping parts.
+    contacts : sequence of Contact
+        Contact conductances; a part pair overrides a role pair. Touching parts with
+        no matching contact use ``default_contact_conductance``.
+    probes : sequence of Probe
+        Points to record.
+    default_contact_conductance : float or None
+        [W/(m^2 K)]; ``None`` means perfect contact.
+    surface_groups : mapping of str to str
+        Exposed-surface group of a part side, keyed ``"part:side"``, ``"part"`` (all
+        sides), ``"@role:side"`` or ``"@role"``, looked up in that order; the value is the
+        group name. A side matching no key forms the group ``"part:side"``.
+    friction : FrictionSettings
+        Spreading of the brake power over the rubbing interfaces.
+    gap_radiation : bool
+        Find radiation exchanges across voids automatically.
+    gap_pairs : sequence of GapPair
+        Declared radiation exchanges.
+    """
+
+    parts: Sequence[Part]
+    contacts: Sequence[Contact] = ()
+    probes: Sequence[Probe] = ()
+    default_contact_conductance: float | None = None
+    surface_groups: Mapping[str, str] = field(default_factory=dict)
+    friction: FrictionSettings = field(default_factory=FrictionSettings)
+    gap_radiation: bool = True
+    gap_pairs: Sequence[GapPair] = ()
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "parts", tuple(self.parts))
+        object.__setattr__(self, "contacts", tuple(self.contacts))
+        object.__setattr__(self, "probes", tuple(self.probes))
+        object.__setattr__(self, "gap_pairs", tuple(self.gap_pairs))
+        object.__setattr__(self, "surface_groups", dict(self.surface_groups))
+        if not self.parts:
+            raise GeometryError("assembly: at least one part is needed")
+        if self.default_contact_conductance is not None:
+            _positive(self.default_contact_conductance, "default_contact_conductance")
+        self._check_unique("part", [p.name for p in self.parts])
+        self._check_unique("probe", [p.name for p in self.probes])
+        self._check_overlaps()
+        names = {p.name for p in self.parts}
+        for contact in self.contacts:
+            for name in contact.parts or ():
+                if name not in names:
+                    raise GeometryError(f"contact {contact.label!r}: no part named {name!r}")
+        for pair in self.gap_pairs:
+            for name in (pair.part_a, pair.part_b):
+                if name not in names:
+                    raise GeometryError(f"gap pair: no part named {name!r}")
+        for probe in self.probes:
+            self.owner_of(probe)
+        self._check_surface_group_keys(names)
+
+    @staticmethod
+    def _check_unique(kind: str, names: list[str]) -> None:
+        seen: set[str] = set()
+        for name in names:
+            if name in seen:
+                raise GeometryError(f"two {kind}s are named {name!r}")
+            seen.add(name)
+
+    def _check_overlaps(self) -> None:
+        for a, b in combinations(self.parts, 2):
+            dr = min(a.r_outer, b.r_outer) - max(a.r_inner, b.r_inner)
+            dz = min(a.z_max, b.z_max) - max(a.z_min, b.z_min)
+            tol = 1e-12 * max(a.r_outer, b.r_outer, abs(a.z_max), abs(b.z_max), 1.0)
+            if dr > tol and dz > tol:
+                raise GeometryError(f"parts {a.name!r} and {b.name!r} overlap")
+
+    def _check_surface_group_keys(self, names: set[str]) -> None:
+        for key in self.surface_groups:
+            target, _, side = key.partition(":")
+            if side and side not in SIDES:
+                raise GeometryError(f"surface group key {key!r}: side {side!r} is not one of {SIDES}")
+            if target.startswith("@"):
+                if target[1:] not in ROLES:
+                    raise GeometryError(f"surface group key {key!r}: unknown role {target[1:]!r}")
+            elif target not in names:
+                raise GeometryError(f"surface group key {key!r}: no part named {target!r}")
+
+    def part(self, name: str) -> Part:
+        """The part called ``name``."""
+        for part in self.parts:
+            if part.name == name:
+                return part
+        raise GeometryError(f"no part named {name!r}")
+
+    def owner_of(self, probe: Probe) -> Part:
+        """The part that contains ``probe`` (its declared part if given)."""
+        if probe.part is not None:
+            part = self.part(probe.part)
+            if not part.contains(probe.r, probe.z):
+                raise GeometryError(
+                    f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m is not inside "
+                    f"its part {probe.part!r}"
+                )
+            return part
+        owners = [p for p in self.parts if p.contains(probe.r, probe.z)]
+        if not owners:
+            raise GeometryError(
+                f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m lies outside every part"
+            )
+        return owners[0]
+
+    def surface_group(self, part: Part, side: str) -> str:
+        """Exposed-surface group name of ``side`` of ``part``."""
+        groups = self.surface_groups
+        for key in (f"{part.name}:{side}", part.name, f"@{part.role}:{side}", f"@{part.role}"):
+            if key in groups:
+                return groups[key]
+        return f"{part.name}:{side}"
+
+    def contact_conductance(self, a: Part, b: Part) -> tuple[float | None, float | None]:
+        """Clamped and released conductance [W/(m^2 K)] between touching parts ``a`` and ``b``."""
+        for contact in self.contacts:
+            if contact.parts is not None and set(contact.parts) == {a.name, b.name}:
+                return contact.clamped, contact.released
+        for contact in self.contacts:
+            if contact.roles is not None and sorted(contact.roles) == sorted((a.role, b.role)):
+                return contact.clamped, contact.released
+        return self.default_contact_conductance, self.default_contact_conductance

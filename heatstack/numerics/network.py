@@ -1,0 +1,482 @@
+"""Everything the solver needs, precomputed as arrays: cells, links, boundary faces, sources.
+
+A *link* joins two active cells: a face shared by two cells (of one part, or of two
+touching parts through a contact conductance) or a pair of facing surfaces that
+exchange radiation across a void. The conductance of a link is the inverse of the sum
+of its series resistances; each half-cell resistance is stored as a geometric factor
+``g`` such that ``R = g / k`` [K/W] with ``k`` the cell's conductivity in the link's
+direction.
+
+References
+----------
+.. [1] Incropera, F.P., DeWitt, D.P., Bergman, T.L., Lavine, A.S., Fundamentals of Heat
+   and Mass Transfer, 6th ed., Wiley, 2007: eq. 3.33 (radial resistance ln(r2/r1)/(2 pi k L))
+   and eq. 13.23 (two-surface grey enclosure).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import GeometryError, MaterialError
+from ..geometry import HEAT_SINK_ROLES, NON_ROTATING_STACK_ROLES, Assembly, Part
+from ..materials import Material, load_material
+from .grid import Grid
+
+__all__ = ["Network", "build_network", "RADIAL", "AXIAL"]
+
+RADIAL, AXIAL = 0, 1
+_TWO_PI = 2.0 * np.pi
+
+
+@dataclass(frozen=True, eq=False)
+class Network:
+    """Precomputed arrays of a meshed assembly. All indices refer to active cells.
+
+    Attributes (all SI)
+    -------------------
+    volume : (n,) cell volumes [m^3]
+    material_blocks : tuple of (Material, slice) — contiguous cells of one material
+    link_a, link_b : (m,) cells joined by each conduction link
+    link_dir : (m,) RADIAL or AXIAL: which conductivity each half-cell uses
+    link_ga, link_gb : (m,) half-cell geometric factors [1/m]
+    link_contact_clamped, link_contact_released : (m,) interface resistances [K/W]
+    gap_a, gap_b : (q,) cells exchanging radiation across a void
+    gap_dir_a, gap_dir_b, gap_ga, gap_gb : half-cell data of each gap face
+    gap_area_a : (q,) area of the face of cell a [m^2]
+    gap_area_ratio : (q,) A_a / A_b
+    face_cell, face_dir, face_g, face_area, face_group : exposed faces (not in a gap)
+    face_radiates : (f,) whether the face sees the surroundings
+    groups : tuple of str, the exposed-surface group names (face_group indexes it)
+    friction_a, friction_b : (s,) cells on either side of each rubbing face
+    friction_weight : (s,) share of the total brake power of each rubbing face (sums to 1)
+    friction_labels : tuple of str, friction_interface : (s,) interface index per face
+    heat_sink : (n,) bool, wheel : (n,) bool
+    probe_names, probe_cells (p, 4), probe_weights (p, 4), probe_time_constants (p,)
+    """
+
+    grid: Grid
+    assembly: Assembly
+    volume: np.ndarray
+    material_blocks: tuple[tuple[Material, slice], ...]
+    cell_material: np.ndarray
+    link_a: np.ndarray
+    link_b: np.ndarray
+    link_dir: np.ndarray
+    link_ga: np.ndarray
+    link_gb: np.ndarray
+    link_contact_clamped: np.ndarray
+    link_contact_released: np.ndarray
+    gap_a: np.ndarray
+    gap_b: np.ndarray
+    gap_dir_a: np.ndarray
+    gap_dir_b: np.ndarray
+    gap_ga: np.ndarray
+    gap_gb: np.ndarray
+    gap_area_a: np.ndarray
+    gap_area_ratio: np.ndarray
+    face_cell: np.ndarray
+    face_dir: np.ndarray
+    face_g: np.ndarray
+    face_area: np.ndarray
+    face_group: np.ndarray
+    groups: tuple[str, ...]
+    friction_a: np.ndarray
+    friction_b: np.ndarray
+    friction_weight: np.ndarray
+    friction_interface: np.ndarray
+    friction_labels: tuple[str, ...]
+    heat_sink: np.ndarray
+    wheel: np.ndarray
+    probe_names: tuple[str, ...]
+    probe_cells: np.ndarray
+    probe_weights: np.ndarray
+    probe_time_constants: np.ndarray
+
+    @property
+    def n_cells(self) -> int:
+        """Number of unknowns."""
+        return int(self.volume.size)
+
+    @property
+    def materials(self) -> tuple[Material, ...]:
+        """The distinct materials, in block order."""
+        return tuple(m for m, _ in self.material_blocks)
+
+    def mass(self) -> np.ndarray:
+        """Mass of each cell [kg] (reference density times cell volume)."""
+        density = np.empty(self.n_cells)
+        for material, block in self.material_blocks:
+            density[block] = material.density
+        return density * self.volume
+
+
+def _resolve_materials(
+    assembly: Assembly, materials: Mapping[str, Material] | None
+) -> dict[str, Material]:
+    known = dict(materials or {})
+    for part in assembly.parts:
+        if part.material not in known:
+            try:
+                known[part.material] = load_material(part.material)
+            except MaterialError as exc:
+                raise MaterialError(f"part {part.name!r}: {exc}") from exc
+    return known
+
+
+def _radial_factors(r_a: np.ndarray, r_f: np.ndarray, dz: np.ndarray) -> np.ndarray:
+    """g = |ln(r_f / r_a)| / (2 pi dz): exact radial half-cell resistance times k."""
+    return np.abs(np.log(r_f / r_a)) / (_TWO_PI * dz)
+
+
+class _Builder:
+    """Collects the arrays of a Network from a grid (one pass per kind of face)."""
+
+    def __init__(self, assembly: Assembly, grid: Grid, materials: dict[str, Material]):
+        self.assembly, self.grid, self.materials = assembly, grid, materials
+        self.rc, self.zc = grid.r_centres, grid.z_centres
+        self.re, self.ze = grid.r_edges, grid.z_edges
+        self.dz = np.diff(grid.z_edges)
+        self.ring = np.pi * (self.re[1:] ** 2 - self.re[:-1] ** 2)
+        self.pm, self.ci = grid.part_map, grid.cell_index
+
+    def part(self, k: int) -> Part:
+        return self.assembly.parts[k]
+
+    def links(self) -> dict[str, np.ndarray]:
+        pm, ci = self.pm, self.ci
+        # radial neighbours (j, i) - (j, i+1)
+        jr, ir = np.nonzero((pm[:, :-1] >= 0) & (pm[:, 1:] >= 0))
+        rf = self.re[ir + 1]
+        ga_r = _radial_factors(self.rc[ir], rf, self.dz[jr])
+        gb_r = _radial_factors(self.rc[ir + 1], rf, self.dz[jr])
+        area_r = _TWO_PI * rf * self.dz[jr]
+        # axial neighbours (j, i) - (j+1, i)
+        jz, iz = np.nonzero((pm[:-1, :] >= 0) & (pm[1:, :] >= 0))
+        area_z = self.ring[iz]
+        ga_z = 0.5 * self.dz[jz] / area_z
+        gb_z = 0.5 * self.dz[jz + 1] / area_z
+        a = np.concatenate((ci[jr, ir], ci[jz, iz]))
+        b = np.concatenate((ci[jr, ir + 1], ci[jz + 1, iz]))
+        pa = np.concatenate((pm[jr, ir], pm[jz, iz]))
+        pb = np.concatenate((pm[jr, ir + 1], pm[jz + 1, iz]))
+        area = np.concatenate((area_r, area_z))
+        clamped, released = self._contact_resistances(pa, pb, area)
+        return {
+            "link_a": a,
+            "link_b": b,
+            "link_dir": np.concatenate((np.full(jr.size, RADIAL), np.full(jz.size, AXIAL))),
+            "link_ga": np.concatenate((ga_r, ga_z)),
+            "link_gb": np.concatenate((gb_r, gb_z)),
+            "link_contact_clamped": clamped,
+            "link_contact_released": released,
+            "_link_parts": np.column_stack((pa, pb)),
+            "_link_area": area,
+        }
+
+    def _contact_resistances(
+        self, pa: np.ndarray, pb: np.ndarray, area: np.ndarray
+    ) -> tuple[np.ndarray, np.ndarray]:
+        clamped = np.zeros(area.size)
+        released = np.zeros(area.size)
+        differ = np.flatnonzero(pa != pb)
+        pairs = {(int(x), int(y)) for x, y in zip(pa[differ], pb[differ])}
+        for x, y in pairs:
+            h_clamped, h_released = self.assembly.contact_conductance(self.part(x), self.part(y))
+            sel = differ[(pa[differ] == x) & (pb[differ] == y)]
+            if h_clamped is not None:
+                clamped[sel] = 1.0 / (h_clamped * area[sel])
+            if h_released is not None:
+                released[sel] = 1.0 / (h_released * area[sel])
+        return clamped, released
+
+    def exposed_faces(self) -> list[dict]:
+        """Every exposed face as a dict (cell, side, dir, g, area, j, i)."""
+        pm, ci = self.pm, self.ci
+        nz, nr = pm.shape
+        padded = np.full((nz + 2, nr + 2), -1)
+        padded[1:-1, 1:-1] = pm
+        active = pm >= 0
+        faces = []
+        neighbours = {
+            "inner": padded[1:-1, :-2],
+            "outer": padded[1:-1, 2:],
+            "bottom": padded[:-2, 1:-1],
+            "top": padded[2:, 1:-1],
+        }
+        for side, neighbour in neighbours.items():
+            jj, ii = np.nonzero(active & (neighbour < 0))
+            if side == "inner":
+                keep = self.re[ii] > 0.0
+                jj, ii = jj[keep], ii[keep]
+            for j, i in zip(jj, ii):
+                faces.append(self._face(side, int(j), int(i)))
+        return faces
+
+    def _face(self, side: str, j: int, i: int) -> dict:
+        if side in ("inner", "outer"):
+            r_f = self.re[i] if side == "inner" else self.re[i + 1]
+            g = float(_radial_factors(self.rc[i], r_f, self.dz[j]))
+            area, direction = _TWO_PI * r_f * self.dz[j], RADIAL
+        else:
+            area, direction = self.ring[i], AXIAL
+            g = 0.5 * self.dz[j] / area
+        return {
+            "cell": int(self.ci[j, i]),
+            "part": int(self.pm[j, i]),
+            "side": side,
+            "dir": direction,
+            "g": g,
+            "area": float(area),
+            "j": j,
+            "i": i,
+        }
+
+    def gap_pairs(self, faces: list[dict]) -> list[tuple[dict, dict]]:
+        """Facing exposed faces of different parts across a void (auto and declared)."""
+        by_position = {(f["side"], f["j"], f["i"]): f for f in faces}
+        pairs: list[tuple[dict, dict]] = []
+        if self.assembly.gap_radiation:
+            pairs += self._auto_gaps(by_position)
+        pairs += self._declared_gaps(faces)
+        seen: set[tuple[int, int]] = set()
+        unique = []
+        for fa, fb in pairs:
+            key = (id(fa), id(fb))
+            if key not in seen and (id(fb), id(fa)) not in seen:
+                seen.add(key)
+                unique.append((fa, fb))
+        return unique
+
+    def _auto_gaps(self, by_position: dict) -> list[tuple[dict, dict]]:
+        pm = self.pm
+        pairs = []
+        for j in range(pm.shape[0]):
+            pairs += self._runs(pm[j, :], lambda i0, i1: (("outer", j, i0), ("inner", j, i1)), by_position)
+        for i in range(pm.shape[1]):
+            pairs += self._runs(pm[:, i], lambda j0, j1: (("top", j0, i), ("bottom", j1, i)), by_position)
+        return pairs
+
+    @staticmethod
+    def _runs(line: np.ndarray, keys, by_position: dict) -> list[tuple[dict, dict]]:
+        active = np.flatnonzero(line >= 0)
+        if active.size < 2:
+            return []
+        gaps = np.flatnonzero(np.diff(active) > 1)
+        pairs = []
+        for g in gaps:
+            ka, kb = keys(int(active[g]), int(active[g + 1]))
+            if ka in by_position and kb in by_position:
+                pairs.append((by_position[ka], by_position[kb]))
+        return pairs
+
+    def _declared_gaps(self, faces: list[dict]) -> list[tuple[dict, dict]]:
+        names = [p.name for p in self.assembly.parts]
+        pairs = []
+        for gap in self.assembly.gap_pairs:
+            ka, kb = names.index(gap.part_a), names.index(gap.part_b)
+            fa = [f for f in faces if f["part"] == ka and f["side"] == gap.side_a]
+            fb = [f for f in faces if f["part"] == kb and f["side"] == gap.side_b]
+            along = "j" if gap.side_a in ("inner", "outer") else "i"
+            lookup = {f[along]: f for f in fb}
+            matched = [(f, lookup[f[along]]) for f in fa if f[along] in lookup]
+            if not matched:
+                raise GeometryError(
+                    f"gap pair {gap.part_a}:{gap.side_a} / {gap.part_b}:{gap.side_b}: "
+                    "no exposed faces of the two sides face each other"
+                )
+            pairs += matched
+        return pairs
+
+    def friction(self, links: dict) -> dict:
+        parts = self.assembly.parts
+        settings = self.assembly.friction
+        pa, pb = links["_link_parts"][:, 0], links["_link_parts"][:, 1]
+        roles_a = np.array([parts[k].role for k in pa], dtype=object)
+        roles_b = np.array([parts[k].role for k in pb], dtype=object)
+        rubbing = (links["link_dir"] == AXIAL) & (
+            ((roles_a == "rotor") & np.isin(roles_b, NON_ROTATING_STACK_ROLES))
+            | ((roles_b == "rotor") & np.isin(roles_a, NON_ROTATING_STACK_ROLES))
+        )
+        idx = np.flatnonzero(rubbing)
+        if idx.size == 0:
+            return self._no_friction()
+        ij = self.grid.cell_ij[links["link_a"][idx]]
+        r1, r2 = self.re[ij[:, 1]], self.re[ij[:, 1] + 1]
+        if settings.r_min is not None:
+            r1 = np.maximum(r1, settings.r_min)
+        if settings.r_max is not None:
+            r2 = np.minimum(r2, settings.r_max)
+        r2 = np.maximum(r2, r1)
+        if settings.distribution == "uniform_pressure":
+            weight = _TWO_PI / 3.0 * (r2**3 - r1**3)  # integral of r * 2 pi r dr
+        else:
+            weight = np.pi * (r2**2 - r1**2)
+        labels = [f"{parts[x].name} / {parts[y].name}" for x, y in zip(pa[idx], pb[idx])]
+        unique = tuple(dict.fromkeys(labels))
+        interface = np.array([unique.index(label) for label in labels])
+        share = self._shares(unique)
+        totals = np.bincount(interface, weights=weight, minlength=len(unique))
+        if np.any(totals[share > 0] <= 0):
+            bad = unique[int(np.flatnonzero((totals <= 0) & (share > 0))[0])]
+            raise GeometryError(f"rubbing interface {bad!r} has no area inside the friction radii")
+        keep = weight > 0
+        return {
+            "friction_a": links["link_a"][idx][keep],
+            "friction_b": links["link_b"][idx][keep],
+            "friction_weight": (share[interface] * weight / np.where(totals > 0, totals, 1.0)[interface])[keep],
+            "friction_interface": interface[keep],
+            "friction_labels": unique,
+        }
+
+    def _shares(self, labels: tuple[str, ...]) -> np.ndarray:
+        given = self.assembly.friction.shares
+        if given is None:
+            return np.full(len(labels), 1.0 / len(labels))
+        unknown = sorted(set(given) - set(labels))
+        if unknown:
+            raise GeometryError(
+                f"friction share for unknown interface {unknown[0]!r}; interfaces are {list(labels)}"
+            )
+        share = np.array([float(given.get(label, 0.0)) for label in labels])
+        if share.sum() <= 0:
+            raise GeometryError("friction shares sum to zero")
+        return share / share.sum()
+
+    @staticmethod
+    def _no_friction() -> dict:
+        empty_i, empty_f = np.zeros(0, dtype=int), np.zeros(0)
+        return {
+            "friction_a": empty_i,
+            "friction_b": empty_i,
+            "friction_weight": empty_f,
+            "friction_interface": empty_i,
+            "friction_labels": (),
+        }
+
+    def probes(self) -> dict:
+        cells, weights = [], []
+        names = {p.name: k for k, p in enumerate(self.assembly.parts)}
+        for probe in self.assembly.probes:
+            owner = names[self.assembly.owner_of(probe).name]
+            c, w = self._probe_stencil(owner, probe.r, probe.z)
+            cells.append(c)
+            weights.append(w)
+        n = len(cells)
+        return {
+            "probe_names": tuple(p.name for p in self.assembly.probes),
+            "probe_cells": np.array(cells, dtype=int).reshape(n, 4),
+            "probe_weights": np.array(weights, dtype=float).reshape(n, 4),
+            "probe_time_constants": np.array([p.time_constant for p in self.assembly.probes]),
+        }
+
+    def _probe_stencil(self, part: int, r: float, z: float) -> tuple[list[int], list[float]]:
+        """Bilinear weights between the centres of the owning part's cells (held flat at its edges)."""
+        cols = np.flatnonzero(np.any(self.pm == part, axis=0))
+        rows = np.flatnonzero(np.any(self.pm == part, axis=1))
+        ia, ib, wr = _bracket(self.rc[cols], r)
+        ja, jb, wz = _bracket(self.zc[rows], z)
+        ia, ib, ja, jb = cols[ia], cols[ib], rows[ja], rows[jb]
+        ci = self.ci
+        cells = [ci[ja, ia], ci[ja, ib], ci[jb, ia], ci[jb, ib]]
+        weights = [(1 - wr) * (1 - wz), wr * (1 - wz), (1 - wr) * wz, wr * wz]
+        return [int(c) for c in cells], weights
+
+
+def _bracket(centres: np.ndarray, x: float) -> tuple[int, int, float]:
+    """Indices of the centres around ``x`` and the linear weight of the upper one."""
+    if x <= centres[0]:
+        return 0, 0, 0.0
+    if x >= centres[-1]:
+        last = centres.size - 1
+        return last, last, 0.0
+    k = int(np.searchsorted(centres, x)) - 1
+    return k, k + 1, float((x - centres[k]) / (centres[k + 1] - centres[k]))
+
+
+def build_network(
+    assembly: Assembly, grid: Grid, materials: Mapping[str, Material] | None = None
+) -> Network:
+    """Precompute every array the solver needs.
+
+    Parameters
+    ----------
+    assembly : Assembly
+    grid : Grid
+        A grid built from ``assembly``.
+    materials : mapping of str to Material, optional
+        Materials by name; names not given are loaded from the materials directory.
+
+    Returns
+    -------
+    Network
+    """
+    known = _resolve_materials(assembly, materials)
+    builder = _Builder(assembly, grid, known)
+    links = builder.links()
+    faces = builder.exposed_faces()
+    pairs = builder.gap_pairs(faces)
+    in_gap = {id(f) for pair in pairs for f in pair}
+    open_faces = [f for f in faces if id(f) not in in_gap]
+
+    groups = tuple(dict.fromkeys(
+        assembly.surface_group(assembly.parts[f["part"]], f["side"]) for f in open_faces
+    ))
+    face_group = np.array(
+        [groups.index(assembly.surface_group(assembly.parts[f["part"]], f["side"])) for f in open_faces],
+        dtype=int,
+    )
+
+    part_of_cell = grid.cell_part()
+    roles = np.array([assembly.parts[k].role for k in part_of_cell], dtype=object)
+    blocks = _material_blocks(assembly, grid, known)
+    cell_material = np.empty(grid.n_cells, dtype=int)
+    for k, (_, block) in enumerate(blocks):
+        cell_material[block] = k
+
+    def column(items, key, dtype=float):
+        return np.array([item[key] for item in items], dtype=dtype)
+
+    fa = [p[0] for p in pairs]
+    fb = [p[1] for p in pairs]
+    return Network(
+        grid=grid,
+        assembly=assembly,
+        volume=grid.cell_volumes(),
+        material_blocks=blocks,
+        cell_material=cell_material,
+        **{k: v for k, v in links.items() if not k.startswith("_")},
+        gap_a=column(fa, "cell", int),
+        gap_b=column(fb, "cell", int),
+        gap_dir_a=column(fa, "dir", int),
+        gap_dir_b=column(fb, "dir", int),
+        gap_ga=column(fa, "g"),
+        gap_gb=column(fb, "g"),
+        gap_area_a=column(fa, "area"),
+        gap_area_ratio=column(fa, "area") / np.maximum(column(fb, "area"), 1e-300) if pairs else np.zeros(0),
+        face_cell=column(open_faces, "cell", int),
+        face_dir=column(open_faces, "dir", int),
+        face_g=column(open_faces, "g"),
+        face_area=column(open_faces, "area"),
+        face_group=face_group,
+        groups=groups,
+        **builder.friction(links),
+        heat_sink=np.isin(roles, HEAT_SINK_ROLES),
+        wheel=roles == "wheel",
+        **builder.probes(),
+    )
+
+
+def _material_blocks(
+    assembly: Assembly, grid: Grid, known: dict[str, Material]
+) -> tuple[tuple[Material, slice], ...]:
+    spans: dict[str, list[int]] = {}
+    for part, block in zip(assembly.parts, grid.part_slices):
+        if block.stop > block.start:
+            lo, hi = spans.get(part.material, [block.start, block.stop])
+            spans[part.material] = [min(lo, block.start), max(hi, block.stop)]
+    ordered = sorted(spans.items(), key=lambda item: item[1][0])
+    return tuple((known[name], slice(lo, hi)) for name, (lo, hi) in ordered)

@@ -1,0 +1,55 @@
+"""Operations layer: braking events (heat input) and cooling laws (environment).
+
+Modules
+-------
+air
+    Dry air properties, 200-1500 K.
+atmosphere
+    ISO 2533 troposphere and airspeed conversions.
+convection
+    Nusselt number correlations.
+environment
+    Cooling laws satisfying :class:`heatstack.numerics.schedule.BoundaryLaw`.
+heat_input
+    Braking events giving a :class:`heatstack.numerics.schedule.PowerHistory`.
+"""
+
+from __future__ import annotations
+
+from .environment import (
+    CrossFlow,
+    FanCooling,
+    FixedH,
+    MixedConvection,
+    NaturalConvection,
+    RotatingDisc,
+    WheelWell,
+)
+from .heat_input import (
+    BrakingEvent,
+    combine,
+    gear_retraction,
+    read_speed_trace,
+    stop_from_aircraft,
+    stop_from_energy,
+    stop_from_speed_trace,
+    taxi_snubs,
+)
+
+__all__ = [
+    "BrakingEvent",
+    "CrossFlow",
+    "FanCooling",
+    "FixedH",
+    "MixedConvection",
+    "NaturalConvection",
+    "RotatingDisc",
+    "WheelWell",
+    "combine",
+    "gear_retraction",
+    "read_speed_trace",
+    "stop_from_aircraft",
+    "stop_from_energy",
+    "stop_from_speed_trace",
+    "taxi_snubs",
+]

@@ -1,0 +1,136 @@
+"""The outcome of one run: time series, field snapshots and the energy ledger.
+
+A :class:`Result` is a value: plain arrays in SI units (K, s, J), no live solver
+state. The answers layer reads it and never re-runs the solver.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import InputError
+
+__all__ = ["Result", "EnergyLedger", "State"]
+
+
+@dataclass(frozen=True, eq=False)
+class State:
+    """Temperature of every active cell at one time: the start of a chained run.
+
+    Attributes
+    ----------
+    time : float
+        [s]
+    temperature : ndarray
+        [K], one value per active cell of the model it came from.
+    """
+
+    time: float
+    temperature: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class EnergyLedger:
+    """Cumulative energy accounts since the start of the run [J], one entry per record time.
+
+    ``closure_error = stored - heat_in + convected + radiated``: zero for an exactly
+    conservative scheme (gap radiation and contact flows are internal and cancel).
+    ``friction_split`` holds, for each rubbing interface, the energy that entered the
+    part on each side, shape (n_interfaces, 2).
+    """
+
+    heat_in: np.ndarray
+    convected: np.ndarray
+    radiated: np.ndarray
+    stored: np.ndarray
+    friction_labels: tuple[str, ...] = ()
+    friction_split: np.ndarray = field(default_factory=lambda: np.zeros((0, 2)))
+
+    @property
+    def closure_error(self) -> np.ndarray:
+        """Energy not accounted for [J] (cumulative)."""
+        return self.stored - self.heat_in + self.convected + self.radiated
+
+    @property
+    def relative_closure_error(self) -> float:
+        """``max |closure_error| / total heat in`` (or / max |stored| with no heat input)."""
+        scale = max(float(np.max(np.abs(self.heat_in))), float(np.max(np.abs(self.stored))), 1e-300)
+        return float(np.max(np.abs(self.closure_error)) / scale)
+
+
+@dataclass(frozen=True, eq=False)
+class Result:
+    """Histories of one run.
+
+    Attributes
+    ----------
+    times : ndarray
+        Record times [s] (every accepted step and the start).
+    probes : dict of str to ndarray
+        Local temperature at each probe [K].
+    readings : dict of str to ndarray
+        Probe reading after its instrument lag [K] (equal to the local value for
+        probes without a time constant).
+    series : dict of str to ndarray
+        Global series [K]: ``heat_sink_mean`` (mass-weighted mean over rotors, stators,
+        pressure and end plates), ``heat_sink_max`` (hottest heat-sink cell),
+        ``wheel_max`` (hottest wheel cell); a series is absent if its parts are.
+    ledger : EnergyLedger
+    snapshot_times : ndarray
+        [s]
+    snapshots : ndarray, shape (s, nz, nr)
+        Temperature fields [K], NaN in void cells.
+    r_edges, z_edges : ndarray
+        Grid edges [m].
+    part_map : ndarray of int, shape (nz, nr)
+        Part index per cell, -1 for void.
+    part_names, part_roles : tuple of str
+    final_state : State
+        The state at the end of the run (start of a chained run).
+    phases : tuple of (str, float, float)
+        Name, start and end [s] of each duty phase.
+    end_of_heating : float
+        Last time with brake power [s].
+    metadata : dict
+        Free text: case text, version, solver statistics.
+    """
+
+    times: np.ndarray
+    probes: dict[str, np.ndarray]
+    readings: dict[str, np.ndarray]
+    series: dict[str, np.ndarray]
+    ledger: EnergyLedger
+    snapshot_times: np.ndarray
+    snapshots: np.ndarray
+    r_edges: np.ndarray
+    z_edges: np.ndarray
+    part_map: np.ndarray
+    part_names: tuple[str, ...]
+    part_roles: tuple[str, ...]
+    final_state: State
+    phases: tuple[tuple[str, float, float], ...] = ()
+    end_of_heating: float = 0.0
+    metadata: dict = field(default_factory=dict)
+
+    def history(self, name: str) -> np.ndarray:
+        """Temperature history [K] of a probe reading or a global series, by name."""
+        if name in self.readings:
+            return self.readings[name]
+        if name in self.series:
+            return self.series[name]
+        known = sorted(self.readings) + sorted(self.series)
+        raise InputError(f"no probe or series named {name!r}; known: {known}")
+
+    def peak(self, name: str) -> tuple[float, float]:
+        """(peak temperature [K], time of the peak [s]) of a probe reading or series."""
+        values = self.history(name)
+        k = int(np.argmax(values))
+        return float(values[k]), float(self.times[k])
+
+    def snapshot(self, time: float) -> np.ndarray:
+        """The stored field snapshot nearest to ``time`` [s]."""
+        if self.snapshot_times.size == 0:
+            raise InputError("this result holds no field snapshots")
+        return self.snapshots[int(np.argmin(np.abs(self.snapshot_times - time)))]
