@@ -115,3 +115,11 @@ def test_state_chains_into_a_second_run():
     assert second.times[0] == pytest.approx(100.0)
     np.testing.assert_allclose(second.final_state.temperature, whole.final_state.temperature, atol=1e-6)
     np.testing.assert_allclose(first.final_state.temperature, whole.final_state.temperature, atol=1e-6)
+
+
+def test_power_energy_window_beyond_the_table_counts_no_phantom_ramp():
+    """A stop of 2 MJ from t = 5 s to 20 s, integrated over [0, 10] s: power falls linearly
+    from 2E/t_s, so the first 5 s of braking deliver E (1 - (1 - 5/15)^2) = 2 MJ * 5/9 (by hand)."""
+    power = PowerHistory([5.0, 20.0], [2 * 2e6 / 15.0, 0.0])
+    assert power.energy(0.0, 10.0) == pytest.approx(2e6 * 5.0 / 9.0, rel=1e-12)
+    assert power.energy(0.0, 100.0) == pytest.approx(2e6, rel=1e-12)

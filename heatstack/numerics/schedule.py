@@ -128,6 +128,7 @@ class PowerHistory:
 
     def energy(self, start: float, end: float) -> float:
         """Exact integral of the power over ``[start, end]`` [J] (trapezoid of a linear table)."""
+        start, end = max(start, self.times[0]), min(end, self.times[-1])
         if end <= start:
             return 0.0
         knots = self.times[(self.times > start) & (self.times < end)]

@@ -1,0 +1,723 @@
+"""Braking events: the friction power history of one brake, with energy bookkeeping.
+
+Every event returns a :class:`BrakingEvent` whose ``power`` is a
+:class:`~heatstack.numerics.schedule.PowerHistory` [W] on a time axis that starts at
+the event's ``start`` time [s]. Quantities accept SI numbers or strings with a unit
+(``"62 t"``, ``"135 kt"``, ``"24 MJ"``), converted by :func:`heatstack.units.to_si`.
+
+Energy bookkeeping: ``kinetic_energy`` is the kinetic energy the event removes from
+the aircraft (or a wheel), ``brake_share`` the fraction of it the brakes absorb (the
+rest goes to reverse thrust, aerodynamic drag and rolling resistance), and
+``energy_per_brake = share * kinetic_energy / braked_wheels``, equal to the integral
+of the power history.
+
+Speed-trace CSV format
+----------------------
+Two comma-separated columns, time then ground speed, one sample a row. Blank lines
+and lines starting with ``#`` are skipped. An optional header row names the columns
+``time_<unit>,ground_speed_<unit>`` with any unit pint reads (``time_s,ground_speed_kt``,
+``time_min,ground_speed_km/h``); without a header the numbers are SI (s, m/s).
+Times must increase strictly. Example::
+
+    # landing roll, invented numbers
+    time_s,ground_speed_kt
+    0,120
+    10,80
+    22,0
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import os
+import re
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass
+from typing import Any, Literal
+
+import numpy as np
+
+from ..errors import InputError, ScheduleError
+from ..numerics.schedule import PowerHistory
+from ..units import to_si, to_si_array
+from . import atmosphere
+
+__all__ = [
+    "BrakingEvent",
+    "stop_from_energy",
+    "stop_from_aircraft",
+    "stop_from_speed_trace",
+    "taxi_snubs",
+    "gear_retraction",
+    "combine",
+    "read_speed_trace",
+]
+
+#: A brake share: a constant in [0, 1], a function of ground speed [m/s], or a table
+#: of rows (ground speed [m/s], share) interpolated linearly and held at the ends.
+Share = float | Callable[[np.ndarray], Any] | Sequence[Sequence[float]]
+
+_TABLE_STEPS = 400  # time steps of a stop with a speed-dependent share
+_RAMP = 1e-3  # width of the ramp replacing a power step when histories are combined [s]
+
+
+@dataclass(frozen=True)
+class BrakingEvent:
+    """One braking event and its energy bookkeeping.
+
+    Attributes
+    ----------
+    name : str
+        Label of the event.
+    power : PowerHistory
+        Friction power of one brake [W] versus time [s].
+    energy_per_brake : float
+        Energy into one brake [J], the integral of ``power``.
+    kinetic_energy : float
+        Kinetic energy removed from the aircraft (or wheel) by the event [J].
+    brake_share : float
+        Fraction of ``kinetic_energy`` absorbed by all braked wheels [-]; for a
+        speed-dependent share, the energy-weighted mean.
+    notes : str
+        How the event was built.
+    """
+
+    name: str
+    power: PowerHistory
+    energy_per_brake: float
+    kinetic_energy: float
+    brake_share: float
+    notes: str = ""
+
+    @property
+    def start(self) -> float:
+        """First time of the power history [s]."""
+        return float(self.power.times[0])
+
+    @property
+    def end(self) -> float:
+        """Last time of the power history [s]."""
+        return float(self.power.times[-1])
+
+
+# ---------------------------------------------------------------------------- inputs
+
+
+def _si(value: Any, dimension: str, field: str) -> float:
+    """An SI float from a number or a string/Quantity with a unit; must be finite."""
+    if value is None:
+        raise InputError(f"{field}: a value is required")
+    number = to_si(value, None, dimension, field)
+    if not math.isfinite(number):
+        raise InputError(f"{field}: must be finite, got {value!r}")
+    return number
+
+
+def _positive(value: Any, dimension: str, field: str, allow_zero: bool = False) -> float:
+    number = _si(value, dimension, field)
+    if number < 0 or (number == 0 and not allow_zero):
+        raise InputError(f"{field}: must be {'>= 0' if allow_zero else '> 0'}, got {value!r}")
+    return number
+
+
+def _count(value: Any, field: str) -> int:
+    try:
+        whole = not isinstance(value, bool) and float(value).is_integer() and float(value) >= 1
+    except (TypeError, ValueError):
+        whole = False
+    if not whole:
+        raise InputError(f"{field}: must be a whole number >= 1, got {value!r}")
+    return int(value)
+
+
+def _share_function(
+    share: Share, speed_unit: str | None
+) -> tuple[Callable[[np.ndarray], np.ndarray], float | None]:
+    """Return ``(f(v) -> share, constant or None)`` from a brake-share input."""
+    if callable(share):
+        return _checked(share), None
+    if np.ndim(share) == 0:
+        value = _si(share, "dimensionless", "brake_share")
+        if not 0.0 <= value <= 1.0:
+            raise InputError(f"brake_share: must be within [0, 1], got {share!r}")
+        return (lambda v: np.full(np.shape(v), value)), value
+    table = np.asarray(share, dtype=float)
+    if table.ndim != 2 or table.shape[1] != 2 or table.shape[0] < 2:
+        raise InputError("brake_share: a table needs rows of (ground speed, share), at least two")
+    speeds = to_si_array(table[:, 0], speed_unit, "speed", "brake_share speed")
+    if np.any(np.diff(speeds) <= 0):
+        raise InputError("brake_share: table speeds must increase strictly")
+    if np.any(~(table[:, 1] >= 0) | ~(table[:, 1] <= 1)):
+        raise InputError("brake_share: table shares must be within [0, 1]")
+    return (lambda v: np.interp(v, speeds, table[:, 1])), None
+
+
+def _checked(function: Callable[[np.ndarray], Any]) -> Callable[[np.ndarray], np.ndarray]:
+    def share(v: np.ndarray) -> np.ndarray:
+        out = np.broadcast_to(np.asarray(function(v), dtype=float), np.shape(v))
+        bad = ~((out >= 0) & (out <= 1))
+        if np.any(bad):
+            at = float(np.asarray(v).flat[int(np.flatnonzero(bad)[0])])
+            raise InputError(f"brake_share: the function returned a value outside [0, 1] at {at} m/s")
+        return out
+
+    return share
+
+
+# ---------------------------------------------------------------------------- stops
+
+
+def stop_from_energy(
+    energy: Any,
+    duration: Any,
+    profile: str | Sequence[Sequence[float]] = "constant_deceleration",
+    start: Any = 0.0,
+    name: str = "stop",
+) -> BrakingEvent:
+    """A stop given the energy into one brake and its duration.
+
+    Parameters
+    ----------
+    energy : float or str
+        Energy absorbed by one brake [J], > 0.
+    duration : float or str
+        Braking time [s], > 0.
+    profile : str or sequence of (float, float)
+        ``"constant_deceleration"``: power falls linearly from ``2E/t_s`` to 0.
+        ``"constant_power"``: ``E/t_s`` throughout. A table of rows
+        (relative time in [0, 1] from 0 to 1, relative power >= 0): the shape,
+        scaled to deliver ``E``.
+    start : float or str
+        Brake-on time [s].
+    name : str
+        Label of the event.
+
+    Returns
+    -------
+    BrakingEvent
+        The event; ``kinetic_energy`` and ``brake_share`` are NaN (not known).
+
+    Raises
+    ------
+    InputError
+        For a non-positive energy or duration, an unknown profile or a bad table.
+    """
+    e = _positive(energy, "energy", "energy")
+    ts = _positive(duration, "time", "duration")
+    t0 = _si(start, "time", "start")
+    if isinstance(profile, str):
+        if profile == "constant_deceleration":
+            power = PowerHistory(np.array([t0, t0 + ts]), np.array([2.0 * e / ts, 0.0]))
+        elif profile == "constant_power":
+            power = PowerHistory(np.array([t0, t0 + ts]), np.full(2, e / ts))
+        else:
+            raise InputError(
+                f"profile: unknown profile {profile!r}; use constant_deceleration, constant_power or a table"
+            )
+    else:
+        power = _table_profile(profile, e, ts, t0)
+    notes = f"stop of {ts:g} s, profile {_label(profile)}"
+    return BrakingEvent(name, power, power.total_energy, math.nan, math.nan, notes)
+
+
+def _label(profile: Any) -> str:
+    return profile if isinstance(profile, str) else "table"
+
+
+def _table_profile(
+    profile: Sequence[Sequence[float]], energy: float, duration: float, start: float
+) -> PowerHistory:
+    try:
+        table = np.asarray(profile, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError("profile: a table must hold numbers") from None
+    if table.ndim != 2 or table.shape[1] != 2 or table.shape[0] < 2:
+        raise InputError("profile: a table needs rows of (relative time, relative power), at least two")
+    tau, shape = table[:, 0], table[:, 1]
+    if tau[0] != 0.0 or tau[-1] != 1.0 or np.any(np.diff(tau) <= 0):
+        raise InputError("profile: relative times must increase strictly from 0 to 1")
+    if np.any(~np.isfinite(shape)) or np.any(shape < 0):
+        raise InputError("profile: relative powers must be finite and >= 0")
+    area = float(np.sum(0.5 * (shape[1:] + shape[:-1]) * np.diff(tau)))
+    if area <= 0:
+        raise InputError("profile: relative powers are all zero")
+    return PowerHistory(start + tau * duration, shape * energy / (area * duration))
+
+
+def _brake_on_ground_speed(
+    speed: float,
+    speed_kind: str,
+    pressure_altitude: Any,
+    air_temperature: Any,
+    temperature_offset: Any,
+    headwind: Any,
+) -> tuple[float, str]:
+    """Ground speed [m/s] at brake-on and a note on how it was found."""
+    if speed_kind not in ("ground", "calibrated", "true"):
+        raise InputError(f"speed_kind: {speed_kind!r} is not 'ground', 'calibrated' or 'true'")
+    air_data = {
+        "pressure_altitude": pressure_altitude,
+        "air_temperature": air_temperature,
+        "temperature_offset": temperature_offset,
+    }
+    unused = [key for key, value in air_data.items() if value is not None]
+    if speed_kind == "ground" and headwind is not None:
+        unused.append("headwind")
+    if speed_kind != "calibrated" and unused:
+        raise InputError(f"{', '.join(unused)}: not used for a {speed_kind} speed; remove or set speed_kind")
+    if speed_kind == "ground":
+        return speed, "ground speed given"
+    wind = 0.0 if headwind is None else _si(headwind, "speed", "headwind")
+    if speed_kind == "true":
+        tas = speed
+    else:
+        if pressure_altitude is None:
+            raise InputError("pressure_altitude: required to convert a calibrated airspeed")
+        h = _si(pressure_altitude, "length", "pressure_altitude")
+        oat = dt = None
+        if air_temperature is not None:
+            oat = _positive(air_temperature, "temperature", "air_temperature")
+        if temperature_offset is not None:
+            dt = _si(temperature_offset, "temperature_difference", "temperature_offset")
+        tas = float(atmosphere.true_airspeed(speed, h, oat, dt))
+    ground = float(atmosphere.ground_speed(tas, wind))
+    if ground <= 0:
+        raise InputError(f"headwind: leaves a ground speed of {ground:.3g} m/s at brake-on")
+    return ground, f"{speed_kind} airspeed {speed:.4g} m/s -> TAS {tas:.4g} m/s, ground {ground:.4g} m/s"
+
+
+def stop_from_aircraft(
+    mass: Any,
+    brake_on_speed: Any,
+    braked_wheels: int,
+    brake_share: Share = 1.0,
+    stop_time: Any = None,
+    mean_deceleration: Any = None,
+    *,
+    speed_kind: Literal["ground", "calibrated", "true"] = "ground",
+    pressure_altitude: Any = None,
+    air_temperature: Any = None,
+    temperature_offset: Any = None,
+    headwind: Any = None,
+    share_speed_unit: str | None = None,
+    start: Any = 0.0,
+    name: str = "stop",
+) -> BrakingEvent:
+    """A constant-deceleration stop to rest from the aircraft's mass and speed.
+
+    Parameters
+    ----------
+    mass : float or str
+        Aircraft mass [kg], > 0.
+    brake_on_speed : float or str
+        Speed at brake-on [m/s], of the kind ``speed_kind``.
+    braked_wheels : int
+        Number of braked wheels sharing the energy equally, >= 1.
+    brake_share : float or callable or table
+        Fraction of the kinetic energy absorbed by the brakes: a constant in
+        [0, 1], a function of ground speed [m/s], or rows (ground speed, share).
+    stop_time : float or str, optional
+        Braking time [s]; give this or ``mean_deceleration``.
+    mean_deceleration : float or str, optional
+        Constant deceleration [m/s^2].
+    speed_kind : {"ground", "calibrated", "true"}
+        What ``brake_on_speed`` is. Airspeeds are turned into ground speed with
+        ``headwind``; a calibrated airspeed needs ``pressure_altitude``.
+    pressure_altitude : float or str, optional
+        Pressure altitude of the runway [m].
+    air_temperature : float or str, optional
+        Outside air temperature [K]; or give ``temperature_offset`` (ISA + dT) [K];
+        ISA if neither.
+    temperature_offset : float or str, optional
+        ISA deviation [K].
+    headwind : float or str, optional
+        Headwind component [m/s]; a tailwind is negative.
+    share_speed_unit : str, optional
+        Unit of the speeds of a ``brake_share`` table (SI if not given).
+    start : float or str
+        Brake-on time [s].
+    name : str
+        Label of the event.
+
+    Returns
+    -------
+    BrakingEvent
+        Power of one brake ``P(t) = share(v) m a v / n`` along ``v = v0 - a (t - start)``.
+
+    Raises
+    ------
+    InputError
+        For bad numbers, a share outside [0, 1], both or neither of ``stop_time`` and
+        ``mean_deceleration``, or a calibrated airspeed without ``pressure_altitude``.
+    """
+    m = _positive(mass, "mass", "mass")
+    v_in = _positive(brake_on_speed, "speed", "brake_on_speed")
+    n = _count(braked_wheels, "braked_wheels")
+    share_of, constant = _share_function(brake_share, share_speed_unit)
+    v0, note = _brake_on_ground_speed(
+        v_in, speed_kind, pressure_altitude, air_temperature, temperature_offset, headwind
+    )
+    if (stop_time is None) == (mean_deceleration is None):
+        raise InputError("stop_time, mean_deceleration: give exactly one")
+    if stop_time is not None:
+        ts = _positive(stop_time, "time", "stop_time")
+    else:
+        ts = v0 / _positive(mean_deceleration, "acceleration", "mean_deceleration")
+    t0 = _si(start, "time", "start")
+    a = v0 / ts
+    if constant is not None:
+        power = PowerHistory(np.array([t0, t0 + ts]), np.array([constant * m * a * v0 / n, 0.0]))
+    else:
+        tau = np.linspace(0.0, 1.0, _TABLE_STEPS + 1)
+        v = v0 * (1.0 - tau)
+        power = PowerHistory(t0 + tau * ts, share_of(v) * m * a * v / n)
+    kinetic = 0.5 * m * v0**2
+    return _event(name, power, kinetic, n, f"{note}; stop {ts:.4g} s at {a:.4g} m/s^2", constant)
+
+
+def _event(
+    name: str, power: PowerHistory, kinetic: float, wheels: int, notes: str, share: float | None = None
+) -> BrakingEvent:
+    """Bundle a history; ``share`` defaults to the energy-weighted mean of the history."""
+    energy = power.total_energy
+    if share is None:
+        share = energy * wheels / kinetic if kinetic > 0 else 0.0
+    return BrakingEvent(name, power, energy, kinetic, share, notes)
+
+
+# ---------------------------------------------------------------------------- speed traces
+
+
+def read_speed_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Read a speed trace: times [s] and ground speeds [m/s].
+
+    Parameters
+    ----------
+    path_or_rows : str or os.PathLike or text stream or iterable of (float, float)
+        A CSV file in the format of this module's docstring, an open text stream of
+        it, or rows of (time [s], ground speed [m/s]).
+
+    Raises
+    ------
+    InputError
+        Naming the line (or row) of a non-numeric, short, negative-speed or
+        non-increasing entry, or an unknown header unit.
+    """
+    if isinstance(path_or_rows, (str, os.PathLike)):
+        source = os.fspath(path_or_rows)
+        try:
+            with open(source, newline="", encoding="utf-8") as handle:
+                return _parse_lines(handle.read().splitlines(), source)
+        except OSError as exc:
+            raise InputError(f"speed trace {source}: cannot read the file ({exc.strerror})") from None
+    if isinstance(path_or_rows, io.TextIOBase):
+        return _parse_lines(path_or_rows.read().splitlines(), "stream")
+    rows = [(str(a), str(b)) for a, b in _pairs(path_or_rows)]
+    return _parse_rows(list(enumerate(rows, start=1)), "rows", "row", ("s", "m/s"))
+
+
+def _pairs(rows: Iterable[Any]) -> Iterable[tuple[Any, Any]]:
+    for number, row in enumerate(rows, start=1):
+        if len(row) != 2:
+            raise InputError(f"speed trace rows, row {number}: expected (time, ground speed)")
+        yield row[0], row[1]
+
+
+_HEADER = re.compile(r"^\s*(time|ground_speed)(?:_(.+?))?\s*$", re.IGNORECASE)
+
+
+def _parse_lines(lines: list[str], source: str) -> tuple[np.ndarray, np.ndarray]:
+    numbered = [
+        (number, row)
+        for number, row in enumerate(csv.reader(lines), start=1)
+        if row and "".join(row).strip() and not row[0].lstrip().startswith("#")
+    ]
+    if not numbered:
+        raise InputError(f"speed trace {source}: no data rows")
+    units: tuple[str | None, str | None] = (None, None)
+    first_line, first = numbered[0]
+    if not _is_number(first[0]):
+        units = _header_units(first, source, first_line)
+        numbered = numbered[1:]
+    return _parse_rows(numbered, source, "line", units)
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def _header_units(row: list[str], source: str, line: int) -> tuple[str | None, str | None]:
+    where = f"speed trace {source}, line {line}"
+    matches = [_HEADER.match(cell) for cell in row]
+    if len(row) != 2 or not all(matches) or [m.group(1).lower() for m in matches] != ["time", "ground_speed"]:
+        raise InputError(f"{where}: header must be time_<unit>,ground_speed_<unit>, got {','.join(row)!r}")
+    units = tuple(m.group(2) for m in matches)
+    for unit, dimension, column in zip(units, ("time", "speed"), ("time", "ground_speed"), strict=True):
+        if unit is not None:
+            to_si(1.0, unit, dimension, f"{where}, column {column}")
+    return units  # type: ignore[return-value]
+
+
+def _parse_rows(
+    numbered: list[tuple[int, Sequence[str]]], source: str, kind: str, units: tuple[str | None, str | None]
+) -> tuple[np.ndarray, np.ndarray]:
+    values = np.empty((len(numbered), 2))
+    for index, (number, row) in enumerate(numbered):
+        where = f"speed trace {source}, {kind} {number}"
+        if len(row) != 2:
+            raise InputError(f"{where}: expected 2 values (time, ground speed), got {len(row)}")
+        try:
+            values[index] = [float(cell) for cell in row]
+        except ValueError:
+            raise InputError(f"{where}: cannot read {','.join(row)!r} as numbers") from None
+        if not np.all(np.isfinite(values[index])):
+            raise InputError(f"{where}: non-finite value")
+        if values[index, 1] < 0:
+            raise InputError(f"{where}: negative ground speed {values[index, 1]}")
+        if index and values[index, 0] <= values[index - 1, 0]:
+            raise ScheduleError(f"{where}: time {values[index, 0]} does not increase from the previous row")
+    if len(numbered) < 2:
+        raise InputError(f"speed trace {source}: needs at least two data rows")
+    times = to_si_array(values[:, 0], units[0], "time", f"speed trace {source}, time")
+    speeds = to_si_array(values[:, 1], units[1], "speed", f"speed trace {source}, ground speed")
+    return np.asarray(times, dtype=float), np.asarray(speeds, dtype=float)
+
+
+def stop_from_speed_trace(
+    path_or_rows: Any,
+    mass: Any,
+    braked_wheels: int,
+    brake_share: Share = 1.0,
+    *,
+    share_speed_unit: str | None = None,
+    start: Any = None,
+    name: str = "speed trace",
+) -> BrakingEvent:
+    """Braking power from a recorded ground-speed trace.
+
+    On each interval ``P = share(v_m) m max(-dv/dt, 0) v_m / n`` with ``v_m`` the
+    mid-interval speed, so the interval's energy is
+    ``share m (v_i^2 - v_(i+1)^2) / (2 n)`` when the aircraft slows (none when it
+    speeds up). The power history holds these interval energies exactly, as a
+    piecewise-linear curve through the interval mid-points (its value at a sample
+    time is the smaller power of the two neighbouring intervals).
+
+    Parameters
+    ----------
+    path_or_rows : str or os.PathLike or text stream or iterable of (float, float)
+        The trace; see :func:`read_speed_trace` and the module docstring.
+    mass : float or str
+        Aircraft mass [kg], > 0.
+    braked_wheels : int
+        Number of braked wheels, >= 1.
+    brake_share : float or callable or table
+        As for :func:`stop_from_aircraft`.
+    share_speed_unit : str, optional
+        Unit of the speeds of a ``brake_share`` table.
+    start : float or str, optional
+        Time [s] to which the first sample is moved; the trace's own times if None.
+    name : str
+        Label of the event.
+
+    Returns
+    -------
+    BrakingEvent
+        ``kinetic_energy`` is the sum of the kinetic-energy drops of the slowing
+        intervals.
+    """
+    t, v = read_speed_trace(path_or_rows)
+    m = _positive(mass, "mass", "mass")
+    n = _count(braked_wheels, "braked_wheels")
+    share_of, _ = _share_function(brake_share, share_speed_unit)
+    if start is not None:
+        t = t - t[0] + _si(start, "time", "start")
+    dt = np.diff(t)
+    v_mid = 0.5 * (v[1:] + v[:-1])
+    drop = np.maximum(0.5 * (v[:-1] ** 2 - v[1:] ** 2), 0.0)  # kinetic energy per kg lost
+    level = share_of(v_mid) * m * drop / (n * dt)  # interval-mean power [W]
+    power = _piecewise_constant(t, level)
+    return _event(name, power, m * float(np.sum(drop)), n, f"speed trace of {t.size} samples")
+
+
+def _piecewise_constant(t: np.ndarray, level: np.ndarray) -> PowerHistory:
+    """Piecewise-linear history with interval energies ``level * dt`` exactly.
+
+    Sample-time values ``q`` are the smaller neighbouring level (the end levels at the
+    ends); each interval mid-point value ``r = 2 level - (q_i + q_(i+1)) / 2 >= level``
+    makes the trapezoid integral of the two half-intervals equal ``level * dt``.
+    """
+    q = np.concatenate(([level[0]], np.minimum(level[1:], level[:-1]), [level[-1]]))
+    r = 2.0 * level - 0.5 * (q[:-1] + q[1:])
+    times = np.empty(2 * t.size - 1)
+    powers = np.empty_like(times)
+    times[0::2], powers[0::2] = t, q
+    times[1::2], powers[1::2] = 0.5 * (t[1:] + t[:-1]), r
+    return PowerHistory(times, powers)
+
+
+# ---------------------------------------------------------------------------- taxi, retraction
+
+
+def taxi_snubs(
+    mass: Any,
+    braked_wheels: int,
+    brake_share: float,
+    speed_high: Any,
+    speed_low: Any,
+    snub_duration: Any,
+    interval: Any,
+    count: int,
+    start: Any = 0.0,
+    name: str = "taxi snubs",
+) -> BrakingEvent:
+    """A series of equal slow-downs (snubs) while taxiing, at constant deceleration.
+
+    Parameters
+    ----------
+    mass : float or str
+        Aircraft mass [kg], > 0.
+    braked_wheels : int
+        Number of braked wheels, >= 1.
+    brake_share : float
+        Fraction of the kinetic energy taken by the brakes, in [0, 1].
+    speed_high, speed_low : float or str
+        Ground speed at the start and end of each snub [m/s], ``0 <= low < high``.
+    snub_duration : float or str
+        Duration of one snub [s], > 0.
+    interval : float or str
+        Time between the starts of successive snubs [s], >= ``snub_duration``.
+    count : int
+        Number of snubs, >= 1.
+    start : float or str
+        Start of the first snub [s].
+    name : str
+        Label of the event.
+
+    Returns
+    -------
+    BrakingEvent
+        Energy per brake ``count * share m (v_h^2 - v_l^2) / (2 n)``.
+    """
+    m = _positive(mass, "mass", "mass")
+    n = _count(braked_wheels, "braked_wheels")
+    _, share = _share_function(brake_share, None)
+    if share is None:
+        raise InputError("brake_share: taxi snubs take a constant share")
+    v_h = _positive(speed_high, "speed", "speed_high")
+    v_l = _positive(speed_low, "speed", "speed_low", allow_zero=True)
+    if v_l >= v_h:
+        raise InputError(f"speed_low: {v_l} m/s must be below speed_high {v_h} m/s")
+    d = _positive(snub_duration, "time", "snub_duration")
+    gap = _positive(interval, "time", "interval")
+    if gap < d:
+        raise InputError(f"interval: {gap} s is shorter than snub_duration {d} s")
+    k = _count(count, "count")
+    t0 = _si(start, "time", "start")
+    a = (v_h - v_l) / d
+    levels = np.array([v_h, v_l]) * share * m * a / n
+    snubs = [PowerHistory(np.array([t0 + i * gap, t0 + i * gap + d]), levels) for i in range(k)]
+    kinetic = k * 0.5 * m * (v_h**2 - v_l**2)
+    notes = f"{k} snubs {v_h:.3g}->{v_l:.3g} m/s every {gap:g} s"
+    return _event(name, combine(*snubs), kinetic, n, notes, share)
+
+
+def gear_retraction(
+    moment_of_inertia: Any,
+    lift_off_speed: Any,
+    tyre_rolling_radius: Any,
+    spin_down_time: Any,
+    start: Any = 0.0,
+    name: str = "gear retraction",
+) -> BrakingEvent:
+    """Braking of a spinning wheel after lift-off: ``E = I omega^2 / 2``, ``omega = v / r``.
+
+    The brake stops the wheel at constant torque, so the power falls linearly from
+    ``2E / t`` to zero over the spin-down time.
+
+    Parameters
+    ----------
+    moment_of_inertia : float or str
+        Polar moment of inertia of the rotating wheel assembly of one brake [kg m^2].
+    lift_off_speed : float or str
+        Ground speed at lift-off [m/s], > 0.
+    tyre_rolling_radius : float or str
+        Rolling radius of the tyre [m], > 0.
+    spin_down_time : float or str
+        Time to stop the wheel [s], > 0.
+    start : float or str
+        Time of brake application [s].
+    name : str
+        Label of the event.
+    """
+    inertia = _positive(moment_of_inertia, "moment_of_inertia", "moment_of_inertia")
+    v = _positive(lift_off_speed, "speed", "lift_off_speed")
+    r = _positive(tyre_rolling_radius, "length", "tyre_rolling_radius")
+    ts = _positive(spin_down_time, "time", "spin_down_time")
+    t0 = _si(start, "time", "start")
+    omega = v / r
+    energy = 0.5 * inertia * omega**2
+    power = PowerHistory(np.array([t0, t0 + ts]), np.array([2.0 * energy / ts, 0.0]))
+    return _event(name, power, energy, 1, f"wheel at {omega:.4g} rad/s stopped in {ts:g} s", 1.0)
+
+
+# ---------------------------------------------------------------------------- combining
+
+
+def combine(*histories: PowerHistory | BrakingEvent) -> PowerHistory:
+    """Sum several power histories into one, on the union of their times.
+
+    A history is zero outside its table, so it may start or end with a step. Where
+    the sum steps at an inner time ``t`` (left value ``L``, right value ``R``), the
+    step is replaced by knots ``t - w/2``, ``t`` and ``t + w/2`` with values the true
+    sum, ``(L + R)/2`` and the true sum: this conserves the energy exactly, and
+    ``w = min(1 ms, a quarter of the smallest time spacing)``.
+
+    Parameters
+    ----------
+    *histories : PowerHistory or BrakingEvent
+        The histories [W]; events contribute their ``power``.
+
+    Returns
+    -------
+    PowerHistory
+        The summed power [W].
+
+    Raises
+    ------
+    InputError
+        If no history is given or an argument is neither kind.
+    """
+    if not histories:
+        raise InputError("combine: no power histories given")
+    parts = [h.power if isinstance(h, BrakingEvent) else h for h in histories]
+    for index, part in enumerate(parts):
+        if not isinstance(part, PowerHistory):
+            raise InputError(f"combine: argument {index + 1} is not a power history or braking event")
+    knots = np.unique(np.concatenate([p.times for p in parts]))
+    left = sum(_side_value(p, knots, before=True) for p in parts)
+    right = sum(_side_value(p, knots, before=False) for p in parts)
+    scale = max(float(np.max(np.abs(left))), float(np.max(np.abs(right))), 1e-300)
+    inner = np.zeros(knots.size, dtype=bool)
+    inner[1:-1] = np.abs(left[1:-1] - right[1:-1]) > 1e-12 * scale
+    values = np.where(inner, 0.5 * (left + right), right)
+    values[-1] = left[-1]
+    if not np.any(inner):
+        return PowerHistory(knots, values)
+    width = min(_RAMP, 0.25 * float(np.min(np.diff(knots))))
+    ramps = np.concatenate((knots[inner] - 0.5 * width, knots[inner] + 0.5 * width))
+    ramp_values = sum(p.power(ramps) for p in parts)
+    order = np.argsort(np.concatenate((knots, ramps)), kind="stable")
+    return PowerHistory(np.concatenate((knots, ramps))[order], np.concatenate((values, ramp_values))[order])
+
+
+def _side_value(history: PowerHistory, knots: np.ndarray, before: bool) -> np.ndarray:
+    """Value of ``history`` just before (or after) each knot; zero outside its table."""
+    t = history.times
+    inside = (knots > t[0]) & (knots <= t[-1]) if before else (knots >= t[0]) & (knots < t[-1])
+    return np.where(inside, np.interp(knots, t, history.powers), 0.0)
