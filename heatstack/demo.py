@@ -25,7 +25,9 @@ def demo_assembly() -> Assembly:
     roles = ["pressure_plate", "rotor", "stator", "rotor", "stator", "rotor", "stator", "rotor", "end_plate"]
     for k, role in enumerate(roles):
         thickness = 0.022 if role in ("pressure_plate", "end_plate") else 0.018
-        parts.append(Part(f"{role.replace('_', ' ')} {k}", "carbon-carbon", 0.125, 0.215, z, z + thickness, role))
+        parts.append(
+            Part(f"{role.replace('_', ' ')} {k}", "carbon-carbon", 0.125, 0.215, z, z + thickness, role)
+        )
         z += thickness
     parts.append(Part("torque tube", "low-alloy-steel", 0.105, 0.121, 0.0, z, "torque_tube"))
     parts.append(Part("heat shield", "stainless-heat-shield", 0.228, 0.230, 0.0, z, "heat_shield"))

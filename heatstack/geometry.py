@@ -24,6 +24,7 @@ __all__ = [
     "Probe",
     "FrictionSettings",
     "GapPair",
+    "ThermalLink",
     "Assembly",
 ]
 
@@ -245,6 +246,37 @@ class GapPair:
 
 
 @dataclass(frozen=True)
+class ThermalLink:
+    """A conduction path that is not a part: e.g. drive keys from the rotors to the rim.
+
+    The total conductance is shared over the facing faces of the two sides (matched
+    row by row for inner/outer sides, column by column for bottom/top sides) in
+    proportion to the area of the faces of ``part_a``; each share is in series with the
+    half-cells at both ends.
+
+    Parameters
+    ----------
+    part_a, side_a, part_b, side_b : str
+        The two parts and their sides (see :data:`SIDES`).
+    conductance : float
+        Total conductance of the path [W/K].
+    name : str
+        Label, e.g. ``"drive keys"``.
+    """
+
+    part_a: str
+    side_a: str
+    part_b: str
+    side_b: str
+    conductance: float
+    name: str = "link"
+
+    def __post_init__(self) -> None:
+        GapPair(self.part_a, self.side_a, self.part_b, self.side_b)
+        _positive(self.conductance, f"thermal link {self.name!r}: conductance")
+
+
+@dataclass(frozen=True)
 class Assembly:
     """The whole axisymmetric model: parts, contacts, probes and surface groups.
 
@@ -269,6 +301,8 @@ class Assembly:
         Find radiation exchanges across voids automatically.
     gap_pairs : sequence of GapPair
         Declared radiation exchanges.
+    links : sequence of ThermalLink
+        Conduction paths that are not parts (drive keys, bolts).
     """
 
     parts: Sequence[Part]
@@ -279,12 +313,14 @@ class Assembly:
     friction: FrictionSettings = field(default_factory=FrictionSettings)
     gap_radiation: bool = True
     gap_pairs: Sequence[GapPair] = ()
+    links: Sequence[ThermalLink] = ()
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "parts", tuple(self.parts))
         object.__setattr__(self, "contacts", tuple(self.contacts))
         object.__setattr__(self, "probes", tuple(self.probes))
         object.__setattr__(self, "gap_pairs", tuple(self.gap_pairs))
+        object.__setattr__(self, "links", tuple(self.links))
         object.__setattr__(self, "surface_groups", dict(self.surface_groups))
         if not self.parts:
             raise GeometryError("assembly: at least one part is needed")
@@ -298,10 +334,11 @@ class Assembly:
             for name in contact.parts or ():
                 if name not in names:
                     raise GeometryError(f"contact {contact.label!r}: no part named {name!r}")
-        for pair in self.gap_pairs:
+        for pair in (*self.gap_pairs, *self.links):
             for name in (pair.part_a, pair.part_b):
                 if name not in names:
-                    raise GeometryError(f"gap pair: no part named {name!r}")
+                    kind = "gap pair" if isinstance(pair, GapPair) else f"thermal link {pair.name!r}"
+                    raise GeometryError(f"{kind}: no part named {name!r}")
         for probe in self.probes:
             self.owner_of(probe)
         self._check_surface_group_keys(names)

@@ -37,7 +37,11 @@ def test_touching_parts_do_not_overlap():
 
 @pytest.mark.parametrize(
     "sizes, field",
-    [((0.2, 0.1, 0.0, 0.02), "radial size"), ((0.1, 0.2, 0.02, 0.02), "axial size"), ((-0.1, 0.2, 0, 1), "r_inner")],
+    [
+        ((0.2, 0.1, 0.0, 0.02), "radial size"),
+        ((0.1, 0.2, 0.02, 0.02), "axial size"),
+        ((-0.1, 0.2, 0, 1), "r_inner"),
+    ],
 )
 def test_non_positive_sizes_are_rejected(sizes, field):
     with pytest.raises(GeometryError, match=field):
@@ -86,11 +90,16 @@ def test_missing_law_for_a_surface_group_is_named():
 def test_temperature_outside_table_stops_with_time_and_part():
     """Heating a block past its table's 1500 K upper end is an error, not extrapolation."""
     asm = Assembly(
-        [Part("rotor", "plain", 0.1, 0.2, 0.0, 0.01, "rotor"), Part("stator", "plain", 0.1, 0.2, 0.01, 0.02, "stator")]
+        [
+            Part("rotor", "plain", 0.1, 0.2, 0.0, 0.01, "rotor"),
+            Part("stator", "plain", 0.1, 0.2, 0.01, 0.02, "stator"),
+        ]
     )
     model = Model.build(asm, 0.005, materials={"plain": STEEL})
     adiabatic = FixedConvection(0.0, 300.0, radiation=False)
-    sched = Schedule(PowerHistory([0.0, 100.0], [5e6, 5e6]), [Phase("stop", 0, 100, {"*": adiabatic}, clamped=True)])
+    sched = Schedule(
+        PowerHistory([0.0, 100.0], [5e6, 5e6]), [Phase("stop", 0, 100, {"*": adiabatic}, clamped=True)]
+    )
     with pytest.raises(SolverError, match=r"at t = .* s .*part 'rotor|stator'.*1500"):
         model.run(sched, 300.0, SolverOptions(max_step_cuts=3))
 
@@ -106,12 +115,26 @@ def test_state_chains_into_a_second_run():
     """The end state of one run starts the next: two halves equal one whole run."""
     model = Model.build(one_block(), 0.01, materials={"plain": STEEL})
     law = {"*": FixedConvection(50.0, 300.0)}
-    whole = model.run(Schedule(PowerHistory.none(), [Phase("c", 0, 200, law)]), 600.0, SolverOptions(fixed_step=10.0, tolerance=1e-8))
-    first = model.run(Schedule(PowerHistory.none(), [Phase("c", 0, 200, law)], extra_breakpoints=(100.0,)), 600.0,
-                      SolverOptions(fixed_step=10.0, tolerance=1e-8))
-    half = model.run(Schedule(PowerHistory.none(), [Phase("c", 0, 100, law)]), 600.0, SolverOptions(fixed_step=10.0, tolerance=1e-8))
-    second = model.run(Schedule(PowerHistory.none(), [Phase("c", 0, 200, law)]), half.final_state,
-                       SolverOptions(fixed_step=10.0, tolerance=1e-8))
+    whole = model.run(
+        Schedule(PowerHistory.none(), [Phase("c", 0, 200, law)]),
+        600.0,
+        SolverOptions(fixed_step=10.0, tolerance=1e-8),
+    )
+    first = model.run(
+        Schedule(PowerHistory.none(), [Phase("c", 0, 200, law)], extra_breakpoints=(100.0,)),
+        600.0,
+        SolverOptions(fixed_step=10.0, tolerance=1e-8),
+    )
+    half = model.run(
+        Schedule(PowerHistory.none(), [Phase("c", 0, 100, law)]),
+        600.0,
+        SolverOptions(fixed_step=10.0, tolerance=1e-8),
+    )
+    second = model.run(
+        Schedule(PowerHistory.none(), [Phase("c", 0, 200, law)]),
+        half.final_state,
+        SolverOptions(fixed_step=10.0, tolerance=1e-8),
+    )
     assert second.times[0] == pytest.approx(100.0)
     np.testing.assert_allclose(second.final_state.temperature, whole.final_state.temperature, atol=1e-6)
     np.testing.assert_allclose(first.final_state.temperature, whole.final_state.temperature, atol=1e-6)

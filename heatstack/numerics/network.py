@@ -48,8 +48,9 @@ class Network:
     gap_dir_a, gap_dir_b, gap_ga, gap_gb : half-cell data of each gap face
     gap_area_a : (q,) area of the face of cell a [m^2]
     gap_area_ratio : (q,) A_a / A_b
-    face_cell, face_dir, face_g, face_area, face_group : exposed faces (not in a gap)
-    face_radiates : (f,) whether the face sees the surroundings
+    face_cell, face_dir, face_g, face_area, face_group : every exposed face
+    face_radiates : (f,) whether the face radiates to the surroundings (False for a face
+        in a gap pair, which radiates to its partner instead)
     groups : tuple of str, the exposed-surface group names (face_group indexes it)
     friction_a, friction_b : (s,) cells on either side of each rubbing face
     friction_weight : (s,) share of the total brake power of each rubbing face (sums to 1)
@@ -83,6 +84,7 @@ class Network:
     face_g: np.ndarray
     face_area: np.ndarray
     face_group: np.ndarray
+    face_radiates: np.ndarray
     groups: tuple[str, ...]
     friction_a: np.ndarray
     friction_b: np.ndarray
@@ -114,9 +116,7 @@ class Network:
         return density * self.volume
 
 
-def _resolve_materials(
-    assembly: Assembly, materials: Mapping[str, Material] | None
-) -> dict[str, Material]:
+def _resolve_materials(assembly: Assembly, materials: Mapping[str, Material] | None) -> dict[str, Material]:
     known = dict(materials or {})
     for part in assembly.parts:
         if part.material not in known:
@@ -183,7 +183,7 @@ class _Builder:
         clamped = np.zeros(area.size)
         released = np.zeros(area.size)
         differ = np.flatnonzero(pa != pb)
-        pairs = {(int(x), int(y)) for x, y in zip(pa[differ], pb[differ])}
+        pairs = {(int(x), int(y)) for x, y in zip(pa[differ], pb[differ], strict=True)}
         for x, y in pairs:
             h_clamped, h_released = self.assembly.contact_conductance(self.part(x), self.part(y))
             sel = differ[(pa[differ] == x) & (pb[differ] == y)]
@@ -195,7 +195,7 @@ class _Builder:
 
     def exposed_faces(self) -> list[dict]:
         """Every exposed face as a dict (cell, side, dir, g, area, j, i)."""
-        pm, ci = self.pm, self.ci
+        pm = self.pm
         nz, nr = pm.shape
         padded = np.full((nz + 2, nr + 2), -1)
         padded[1:-1, 1:-1] = pm
@@ -212,7 +212,7 @@ class _Builder:
             if side == "inner":
                 keep = self.re[ii] > 0.0
                 jj, ii = jj[keep], ii[keep]
-            for j, i in zip(jj, ii):
+            for j, i in zip(jj, ii, strict=True):
                 faces.append(self._face(side, int(j), int(i)))
         return faces
 
@@ -255,9 +255,13 @@ class _Builder:
         pm = self.pm
         pairs = []
         for j in range(pm.shape[0]):
-            pairs += self._runs(pm[j, :], lambda i0, i1: (("outer", j, i0), ("inner", j, i1)), by_position)
+            pairs += self._runs(
+                pm[j, :], lambda i0, i1, j=j: (("outer", j, i0), ("inner", j, i1)), by_position
+            )
         for i in range(pm.shape[1]):
-            pairs += self._runs(pm[:, i], lambda j0, j1: (("top", j0, i), ("bottom", j1, i)), by_position)
+            pairs += self._runs(
+                pm[:, i], lambda j0, j1, i=i: (("top", j0, i), ("bottom", j1, i)), by_position
+            )
         return pairs
 
     @staticmethod
@@ -274,22 +278,41 @@ class _Builder:
         return pairs
 
     def _declared_gaps(self, faces: list[dict]) -> list[tuple[dict, dict]]:
-        names = [p.name for p in self.assembly.parts]
         pairs = []
         for gap in self.assembly.gap_pairs:
-            ka, kb = names.index(gap.part_a), names.index(gap.part_b)
-            fa = [f for f in faces if f["part"] == ka and f["side"] == gap.side_a]
-            fb = [f for f in faces if f["part"] == kb and f["side"] == gap.side_b]
-            along = "j" if gap.side_a in ("inner", "outer") else "i"
-            lookup = {f[along]: f for f in fb}
-            matched = [(f, lookup[f[along]]) for f in fa if f[along] in lookup]
-            if not matched:
-                raise GeometryError(
-                    f"gap pair {gap.part_a}:{gap.side_a} / {gap.part_b}:{gap.side_b}: "
-                    "no exposed faces of the two sides face each other"
-                )
-            pairs += matched
+            pairs += self._facing(
+                faces, gap, f"gap pair {gap.part_a}:{gap.side_a} / {gap.part_b}:{gap.side_b}"
+            )
         return pairs
+
+    def _facing(self, faces: list[dict], pair, label: str) -> list[tuple[dict, dict]]:
+        """Exposed faces of ``pair.side_a`` of ``pair.part_a`` matched with those of part b."""
+        names = [p.name for p in self.assembly.parts]
+        ka, kb = names.index(pair.part_a), names.index(pair.part_b)
+        fa = [f for f in faces if f["part"] == ka and f["side"] == pair.side_a]
+        fb = [f for f in faces if f["part"] == kb and f["side"] == pair.side_b]
+        along = "j" if pair.side_a in ("inner", "outer") else "i"
+        lookup = {f[along]: f for f in fb}
+        matched = [(f, lookup[f[along]]) for f in fa if f[along] in lookup]
+        if not matched:
+            raise GeometryError(f"{label}: no exposed faces of the two sides face each other")
+        return matched
+
+    def thermal_links(self, faces: list[dict]) -> dict[str, np.ndarray]:
+        """Conduction links of the declared thermal links, as extra link rows."""
+        rows: dict[str, list] = {k: [] for k in ("a", "b", "dir", "ga", "gb", "r")}
+        for link in self.assembly.links:
+            matched = self._facing(faces, link, f"thermal link {link.name!r}")
+            area = np.array([fa["area"] for fa, _ in matched])
+            conductance = link.conductance * area / area.sum()
+            for (fa, fb), g_link in zip(matched, conductance, strict=True):
+                rows["a"].append(fa["cell"])
+                rows["b"].append(fb["cell"])
+                rows["dir"].append(fa["dir"])
+                rows["ga"].append(fa["g"])
+                rows["gb"].append(fb["g"])
+                rows["r"].append(1.0 / g_link)
+        return {k: np.asarray(v, dtype=int if k in ("a", "b", "dir") else float) for k, v in rows.items()}
 
     def friction(self, links: dict) -> dict:
         parts = self.assembly.parts
@@ -315,7 +338,7 @@ class _Builder:
             weight = _TWO_PI / 3.0 * (r2**3 - r1**3)  # integral of r * 2 pi r dr
         else:
             weight = np.pi * (r2**2 - r1**2)
-        labels = [f"{parts[x].name} / {parts[y].name}" for x, y in zip(pa[idx], pb[idx])]
+        labels = [f"{parts[x].name} / {parts[y].name}" for x, y in zip(pa[idx], pb[idx], strict=True)]
         unique = tuple(dict.fromkeys(labels))
         interface = np.array([unique.index(label) for label in labels])
         share = self._shares(unique)
@@ -327,7 +350,9 @@ class _Builder:
         return {
             "friction_a": links["link_a"][idx][keep],
             "friction_b": links["link_b"][idx][keep],
-            "friction_weight": (share[interface] * weight / np.where(totals > 0, totals, 1.0)[interface])[keep],
+            "friction_weight": (share[interface] * weight / np.where(totals > 0, totals, 1.0)[interface])[
+                keep
+            ],
             "friction_interface": interface[keep],
             "friction_labels": unique,
         }
@@ -397,9 +422,7 @@ def _bracket(centres: np.ndarray, x: float) -> tuple[int, int, float]:
     return k, k + 1, float((x - centres[k]) / (centres[k + 1] - centres[k]))
 
 
-def build_network(
-    assembly: Assembly, grid: Grid, materials: Mapping[str, Material] | None = None
-) -> Network:
+def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Material] | None = None) -> Network:
     """Precompute every array the solver needs.
 
     Parameters
@@ -419,12 +442,15 @@ def build_network(
     links = builder.links()
     faces = builder.exposed_faces()
     pairs = builder.gap_pairs(faces)
+    extra = builder.thermal_links(faces)
+    # every exposed face convects to its group's air; a face in a gap pair radiates to
+    # its partner instead of to the surroundings
     in_gap = {id(f) for pair in pairs for f in pair}
-    open_faces = [f for f in faces if id(f) not in in_gap]
+    open_faces = faces
 
-    groups = tuple(dict.fromkeys(
-        assembly.surface_group(assembly.parts[f["part"]], f["side"]) for f in open_faces
-    ))
+    groups = tuple(
+        dict.fromkeys(assembly.surface_group(assembly.parts[f["part"]], f["side"]) for f in open_faces)
+    )
     face_group = np.array(
         [groups.index(assembly.surface_group(assembly.parts[f["part"]], f["side"])) for f in open_faces],
         dtype=int,
@@ -448,7 +474,13 @@ def build_network(
         volume=grid.cell_volumes(),
         material_blocks=blocks,
         cell_material=cell_material,
-        **{k: v for k, v in links.items() if not k.startswith("_")},
+        link_a=np.concatenate((links["link_a"], extra["a"])),
+        link_b=np.concatenate((links["link_b"], extra["b"])),
+        link_dir=np.concatenate((links["link_dir"], extra["dir"])),
+        link_ga=np.concatenate((links["link_ga"], extra["ga"])),
+        link_gb=np.concatenate((links["link_gb"], extra["gb"])),
+        link_contact_clamped=np.concatenate((links["link_contact_clamped"], extra["r"])),
+        link_contact_released=np.concatenate((links["link_contact_released"], extra["r"])),
         gap_a=column(fa, "cell", int),
         gap_b=column(fb, "cell", int),
         gap_dir_a=column(fa, "dir", int),
@@ -462,6 +494,7 @@ def build_network(
         face_g=column(open_faces, "g"),
         face_area=column(open_faces, "area"),
         face_group=face_group,
+        face_radiates=np.array([id(f) not in in_gap for f in faces], dtype=bool),
         groups=groups,
         **builder.friction(links),
         heat_sink=np.isin(roles, HEAT_SINK_ROLES),
@@ -474,7 +507,7 @@ def _material_blocks(
     assembly: Assembly, grid: Grid, known: dict[str, Material]
 ) -> tuple[tuple[Material, slice], ...]:
     spans: dict[str, list[int]] = {}
-    for part, block in zip(assembly.parts, grid.part_slices):
+    for part, block in zip(assembly.parts, grid.part_slices, strict=True):
         if block.stop > block.start:
             lo, hi = spans.get(part.material, [block.start, block.stop])
             spans[part.material] = [min(lo, block.start), max(hi, block.stop)]

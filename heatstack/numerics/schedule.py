@@ -145,7 +145,11 @@ class PowerHistory:
     def end_of_heating(self) -> float:
         """Last time with non-zero power [s] (start of the table if all zero)."""
         nonzero = np.flatnonzero(self.powers > 0)
-        return float(self.times[min(nonzero[-1] + 1, self.times.size - 1)]) if nonzero.size else float(self.times[0])
+        return (
+            float(self.times[min(nonzero[-1] + 1, self.times.size - 1)])
+            if nonzero.size
+            else float(self.times[0])
+        )
 
 
 @dataclass(frozen=True)
@@ -173,9 +177,7 @@ class Phase:
 
     def __post_init__(self) -> None:
         if not (np.isfinite(self.start) and np.isfinite(self.end)) or self.end <= self.start:
-            raise ScheduleError(
-                f"phase {self.name!r}: end {self.end} s must be after start {self.start} s"
-            )
+            raise ScheduleError(f"phase {self.name!r}: end {self.end} s must be after start {self.start} s")
         for group, law in self.laws.items():
             if not isinstance(law, BoundaryLaw):
                 raise ScheduleError(f"phase {self.name!r}: law for group {group!r} is not a boundary law")
@@ -219,7 +221,7 @@ class Schedule:
         phases = tuple(self.phases)
         if not phases:
             raise ScheduleError("schedule: at least one phase is needed")
-        for before, after in zip(phases[:-1], phases[1:]):
+        for before, after in zip(phases[:-1], phases[1:], strict=True):
             if not np.isclose(before.end, after.start, rtol=0.0, atol=1e-9):
                 kind = "overlap" if after.start < before.end else "leave a gap"
                 raise ScheduleError(

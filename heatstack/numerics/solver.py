@@ -120,15 +120,22 @@ class _Integrator:
         rows = np.concatenate((diag, net.link_a, net.link_b, net.gap_a, net.gap_b))
         cols = np.concatenate((diag, net.link_b, net.link_a, net.gap_b, net.gap_a))
         self.matrix, self.position = _csc_pattern(n, rows, cols)
-        self.face_blocks = [np.flatnonzero(net.cell_material[net.face_cell] == k) for k in range(len(net.material_blocks))]
-        self.gap_blocks_a = [np.flatnonzero(net.cell_material[net.gap_a] == k) for k in range(len(net.material_blocks))]
-        self.gap_blocks_b = [np.flatnonzero(net.cell_material[net.gap_b] == k) for k in range(len(net.material_blocks))]
+        self.face_blocks = [
+            np.flatnonzero(net.cell_material[net.face_cell] == k) for k in range(len(net.material_blocks))
+        ]
+        self.gap_blocks_a = [
+            np.flatnonzero(net.cell_material[net.gap_a] == k) for k in range(len(net.material_blocks))
+        ]
+        self.gap_blocks_b = [
+            np.flatnonzero(net.cell_material[net.gap_b] == k) for k in range(len(net.material_blocks))
+        ]
         self.group_faces = [np.flatnonzero(net.face_group == g) for g in range(len(net.groups))]
         self.mass = net.mass()
         j, i = net.grid.cell_ij[:, 0], net.grid.cell_ij[:, 1]
         self.cell_r, self.cell_z = net.grid.r_centres[i], net.grid.z_centres[j]
         self.lu = None
         self.lu_dt = None
+        self.lu_phase: Phase | None = None
         self.stats = {"steps": 0, "rejected_steps": 0, "iterations": 0, "factorisations": 0}
         self._phase_cache: tuple[Phase | None, dict] = (None, {})
         self.k_stack = np.empty(2 * n)
@@ -160,7 +167,7 @@ class _Integrator:
 
     def emissivity(self, blocks: list[np.ndarray], surface_t: np.ndarray) -> np.ndarray:
         eps = np.empty(surface_t.size)
-        for (material, _), faces in zip(self.net.material_blocks, blocks):
+        for (material, _), faces in zip(self.net.material_blocks, blocks, strict=True):
             if faces.size:
                 eps[faces] = material.emissivity(surface_t[faces])
         return eps
@@ -172,11 +179,17 @@ class _Integrator:
             return arrays
         nf = self.net.face_cell.size
         laws = [phase.law(group) for group in self.net.groups]
-        arrays = {"laws": laws, "ambient": np.empty(nf), "surroundings": np.empty(nf), "radiates": np.empty(nf)}
-        for law, faces in zip(laws, self.group_faces):
+        arrays = {
+            "laws": laws,
+            "ambient": np.empty(nf),
+            "surroundings": np.empty(nf),
+            "radiates": np.empty(nf),
+        }
+        for law, faces in zip(laws, self.group_faces, strict=True):
             arrays["ambient"][faces] = law.ambient_temperature
             arrays["surroundings"][faces] = law.surroundings_temperature
             arrays["radiates"][faces] = 1.0 if law.radiation else 0.0
+        arrays["radiates"] *= self.net.face_radiates
         self._phase_cache = (phase, arrays)
         return arrays
 
@@ -184,7 +197,7 @@ class _Integrator:
         net = self.net
         env = self.phase_arrays(phase)
         h_conv = np.empty(surface_t.size)
-        for law, faces in zip(env["laws"], self.group_faces):
+        for law, faces in zip(env["laws"], self.group_faces, strict=True):
             h_conv[faces] = law.convection_coefficient(surface_t[faces], time)
         # grey radiation linearised on its tangent at the iterate's surface temperature:
         # q = eps sigma (Ts^4 - Tsur^4) ~ h_rad (T - t_rad) with h_rad = 4 eps sigma Ts^3
@@ -196,8 +209,18 @@ class _Integrator:
         r_half = net.face_g / self.k_stack[self.k_face]
         hA = h * net.face_area
         U = hA / (1.0 + hA * r_half)
-        t_eq = np.where(h > 0, (h_conv * env["ambient"] + h_rad * t_rad) / np.where(h > 0, h, 1.0), env["ambient"])
-        return {"U": U, "t_eq": t_eq, "h_conv": h_conv, "h_rad": h_rad, "t_rad": t_rad, "r_half": r_half, **env}
+        t_eq = np.where(
+            h > 0, (h_conv * env["ambient"] + h_rad * t_rad) / np.where(h > 0, h, 1.0), env["ambient"]
+        )
+        return {
+            "U": U,
+            "t_eq": t_eq,
+            "h_conv": h_conv,
+            "h_rad": h_rad,
+            "t_rad": t_rad,
+            "r_half": r_half,
+            **env,
+        }
 
     def gaps(self, ts_a: np.ndarray, ts_b: np.ndarray) -> dict:
         net = self.net
@@ -211,7 +234,9 @@ class _Integrator:
         return {"G": G, "r_a": r_a, "r_b": r_b}
 
     # ---------------------------------------------------------------- one step
-    def step(self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, guess: np.ndarray, surf: dict) -> dict:
+    def step(
+        self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, guess: np.ndarray, surf: dict
+    ) -> dict:
         """Advance one step; raises _StepFailed. ``surf`` holds surface temperatures (updated)."""
         net, n, opt = self.net, self.n, self.opt
         phase = self.schedule.phase_at(t0 + 0.5 * dt)
@@ -227,7 +252,8 @@ class _Integrator:
         face_ts = surf["face"] + shift[net.face_cell]
         gap_ta = surf["gap_a"] + shift[net.gap_a]
         gap_tb = surf["gap_b"] + shift[net.gap_b]
-        refactor = self.lu is None or not (0.75 <= dt / self.lu_dt <= 1.35)
+        # fresh factors when the step size or the phase (cooling laws, contact state) changes
+        refactor = self.lu is None or self.lu_phase is not phase or not (0.75 <= dt / self.lu_dt <= 1.35)
         fresh = False
         for iteration in range(opt.max_iterations):
             try:
@@ -247,13 +273,18 @@ class _Integrator:
                 b += volume_source
             capacity = c * inv_dt_v
             diagonal = capacity + U_cell
-            diagonal += np.bincount(net.link_a, weights=G, minlength=n) + np.bincount(net.link_b, weights=G, minlength=n)
-            diagonal += np.bincount(net.gap_a, weights=gap["G"], minlength=n) + np.bincount(net.gap_b, weights=gap["G"], minlength=n)
+            diagonal += np.bincount(net.link_a, weights=G, minlength=n) + np.bincount(
+                net.link_b, weights=G, minlength=n
+            )
+            diagonal += np.bincount(net.gap_a, weights=gap["G"], minlength=n) + np.bincount(
+                net.gap_b, weights=gap["G"], minlength=n
+            )
             values = np.concatenate((diagonal, -G, -G, -gap["G"], -gap["G"]))
             self.matrix.data[:] = np.bincount(self.position, weights=values, minlength=self.matrix.data.size)
             residual = self.matrix @ T - capacity * T + inv_dt_v * (H - H_n) - b
             if refactor:
                 self.factorise(dt)
+                self.lu_phase = phase
                 refactor, fresh = False, True
             correction = self.lu.solve(-residual)
             T_star = T + correction
@@ -264,37 +295,60 @@ class _Integrator:
             largest = float(change.max()) if change.size else 0.0
             self.stats["iterations"] += 1
             if self._converged(largest, previous_change):
-                heat_in = power * dt + (dt * float(np.sum(volume_source)) if volume_source is not None else 0.0)
-                return self._finish(T_star, H_n, b, capacity, inv_dt_v, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration)
+                T_new, H_new = self._conservative_update(T_star, H_n, b, capacity, inv_dt_v)
+                adjustment = float(np.max(np.abs(T_new - T_star))) if T_new.size else 0.0
+                if adjustment <= 10.0 * opt.tolerance:
+                    heat_in = power * dt + (
+                        dt * float(np.sum(volume_source)) if volume_source is not None else 0.0
+                    )
+                    self.stats["largest_finish_adjustment"] = max(
+                        self.stats.get("largest_finish_adjustment", 0.0), adjustment
+                    )
+                    return self._finish(
+                        T_star, T_new, H_new, H_n, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration
+                    )
+                # the fluxes at T_star do not yet balance the cells: iterate on, with fresh factors
+                refactor, previous_change = not fresh, None
+                T_star = T_new
             T = T_star
             q_face = bnd["U"] * (T[net.face_cell] - bnd["t_eq"])
             face_ts = T[net.face_cell] - q_face * bnd["r_half"]
             q_gap = gap["G"] * (T[net.gap_a] - T[net.gap_b])
             gap_ta = T[net.gap_a] - q_gap * gap["r_a"]
             gap_tb = T[net.gap_b] + q_gap * gap["r_b"]
-            if iteration >= 2 and largest > 0.3 * previous_change and not fresh:
+            if (
+                iteration >= 2
+                and previous_change is not None
+                and largest > 0.3 * previous_change
+                and not fresh
+            ):
                 refactor = True  # slow contraction with old factors: refactorise once this step
             previous_change = largest
         cell = int(np.argmax(change))
-        raise _StepFailed(f"Newton did not converge in {opt.max_iterations} iterations (last update {largest:.3g} K)", cell)
+        raise _StepFailed(
+            f"Newton did not converge in {opt.max_iterations} iterations (last update {largest:.3g} K)", cell
+        )
 
-    def _finish(self, T_star, H_n, b, capacity, inv_dt_v, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration) -> dict:
-        """Conservative end of a converged step: enthalpy from the fluxes at ``T_star``.
+    def _conservative_update(self, T_star, H_n, b, capacity, inv_dt_v) -> tuple[np.ndarray, np.ndarray]:
+        """Enthalpy from the fluxes at ``T_star`` and the temperature by the exact inverse of H.
 
         The new enthalpy is set so that every cell's balance holds exactly with the
-        step's coefficients and the fluxes at the last Newton iterate; the temperature
-        follows from the exact inverse of H. The adjustment ``T_new - T_star`` is of the
-        order of the Newton tolerance; energy is conserved to round-off.
+        step's coefficients and the fluxes at the last Newton iterate, so energy is
+        conserved to round-off; the step is accepted only when ``T_new - T_star`` is of
+        the order of the Newton tolerance.
         """
-        net = self.net
         outflow = self.matrix @ T_star - capacity * T_star
         H_new = H_n + (b - outflow) / inv_dt_v
         try:
-            T_new = self.temperature(H_new)
+            return self.temperature(H_new), H_new
         except PropertyRangeError as exc:
             raise _StepFailed(str(exc), self._out_of_range_cell(T_star)) from None
-        adjustment = float(np.max(np.abs(T_new - T_star))) if T_new.size else 0.0
-        self.stats["largest_finish_adjustment"] = max(self.stats.get("largest_finish_adjustment", 0.0), adjustment)
+
+    def _finish(
+        self, T_star, T_new, H_new, H_n, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration
+    ) -> dict:
+        """Accounts of an accepted step and the surface temperatures for the next one."""
+        net = self.net
         q_face = bnd["U"] * (T_star[net.face_cell] - bnd["t_eq"])
         face_ts = T_star[net.face_cell] - q_face * bnd["r_half"]
         q_gap = gap["G"] * (T_star[net.gap_a] - T_star[net.gap_b])
@@ -319,7 +373,11 @@ class _Integrator:
         """The cell lying furthest outside its material's common table range."""
         excess = np.zeros(self.n)
         for material, block in self.net.material_blocks:
-            tables = (material.specific_heat, material.conductivity_in_plane, material.conductivity_through_thickness)
+            tables = (
+                material.specific_heat,
+                material.conductivity_in_plane,
+                material.conductivity_through_thickness,
+            )
             low = max(t.temperature[0] for t in tables)
             high = min(t.temperature[-1] for t in tables)
             excess[block] = np.maximum(low - T[block], T[block] - high)
@@ -375,7 +433,9 @@ class _Integrator:
     # ---------------------------------------------------------------- the run
     def run(self, T0: np.ndarray, t_start: float) -> Result:
         net, opt, schedule = self.net, self.opt, self.schedule
-        breakpoints = np.unique(np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float))))
+        breakpoints = np.unique(
+            np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float)))
+        )
         breakpoints = breakpoints[(breakpoints > t_start) & (breakpoints <= schedule.end)]
         snapshot_times = set(float(t) for t in opt.snapshot_times)
         T = T0.copy()
@@ -485,7 +545,9 @@ class _Recorder:
         self.times.append(t)
         self.probe_values.append(np.sum(T[net.probe_cells] * net.probe_weights, axis=1))
         if net.heat_sink.any():
-            self.series.setdefault("heat_sink_mean", []).append(float(np.dot(self.mass[net.heat_sink], T[net.heat_sink]) / self.sink_mass))
+            self.series.setdefault("heat_sink_mean", []).append(
+                float(np.dot(self.mass[net.heat_sink], T[net.heat_sink]) / self.sink_mass)
+            )
             self.series.setdefault("heat_sink_max", []).append(float(T[net.heat_sink].max()))
         if net.wheel.any():
             self.series.setdefault("wheel_max", []).append(float(T[net.wheel].max()))
@@ -511,7 +573,7 @@ class _Recorder:
         probes = {name: values[:, k].copy() for k, name in enumerate(net.probe_names)}
         readings = {
             name: first_order_lag(times, probes[name], float(tau))
-            for name, tau in zip(net.probe_names, net.probe_time_constants)
+            for name, tau in zip(net.probe_names, net.probe_time_constants, strict=True)
         }
         ledger = EnergyLedger(
             **{key: np.asarray(v) for key, v in self.accounts.items()},
@@ -548,7 +610,7 @@ def initial_field(network: Network, initial: float | Mapping[str, float] | State
         T = np.full(n, np.nan)
         names = [p.name for p in network.assembly.parts]
         default = initial.get("*")
-        for name, block in zip(names, network.grid.part_slices):
+        for name, block in zip(names, network.grid.part_slices, strict=True):
             value = initial.get(name, default)
             if value is None:
                 raise InputError(f"initial temperature: no value for part {name!r} and no default '*'")
@@ -598,7 +660,9 @@ def integrate(
     T0 = initial_field(network, initial)
     start = initial.time if isinstance(initial, State) else schedule.start
     if start < schedule.start - 1e-9 or start >= schedule.end:
-        raise InputError(f"initial state time {start} s is outside the schedule {schedule.start}..{schedule.end} s")
+        raise InputError(
+            f"initial state time {start} s is outside the schedule {schedule.start}..{schedule.end} s"
+        )
     try:
         return _Integrator(network, schedule, options).run(T0, max(start, schedule.start))
     except HeatstackError:

@@ -1,0 +1,447 @@
+"""The parametric wheel and brake: a handful of numbers -> parts, contacts, surface groups, probes.
+
+The defaults form an INVENTED reference design of our own (a four-rotor carbon brake in
+a forged aluminium wheel); they describe no real aircraft, wheel or brake. Every
+dimension is overridable, and parts can be added or replaced afterwards.
+
+Coordinates: r outward from the axle centre line [m]; z along the axle [m], z = 0 at the
+inboard face of the piston housing, increasing outboard. The stack is pressed from the
+inboard side: housing, pressure plate, rotor, stator, ..., rotor, end plate, then the
+torque tube's backing flange. The wheel web and hub sit outboard of the brake.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field, replace
+
+from .errors import GeometryError
+from .geometry import Assembly, Contact, FrictionSettings, Part, Probe, ThermalLink
+
+__all__ = ["WheelBrakeDesign", "FusePlugSpec", "BuiltWheelBrake", "build_wheel_brake", "SURFACE_GROUPS"]
+
+#: The exposed-surface groups of a built wheel and brake, for cooling laws.
+SURFACE_GROUPS = (
+    "stack outer diameter",
+    "stack bore",
+    "stack faces",
+    "torque tube",
+    "heat shield",
+    "housing",
+    "rim bore",
+    "tyre cavity",
+    "wheel inboard",
+    "wheel outboard",
+    "hub bore",
+    "tyre bead",
+)
+
+
+@dataclass(frozen=True)
+class FusePlugSpec:
+    """A fuse plug (thermal relief plug) in the wheel rim.
+
+    Parameters
+    ----------
+    name : str
+        Probe name, e.g. ``"fuse plug 1"``.
+    z_fraction : float
+        Axial position as a fraction of the rim length, 0 at its inboard end [-].
+    depth_fraction : float
+        Radial position inside the rim wall, 0 at its bore and 1 at its outer surface [-].
+    release_temperature : float
+        Melt (release) temperature of the plug's fusible alloy [K].
+    tolerance : float
+        Half-width of the release temperature band [K].
+    """
+
+    name: str
+    z_fraction: float
+    depth_fraction: float = 0.5
+    release_temperature: float = 450.15
+    tolerance: float = 3.0
+
+
+@dataclass(frozen=True)
+class WheelBrakeDesign:
+    """Dimensions [m], materials and contact conductances [W/(m^2 K)] of a wheel and brake.
+
+    Every default is INVENTED for the reference design (no real product).
+    ``drive_key_conductance`` [W/K] is the conduction path from each rotor's keys through
+    the wheel's drive keys into the rim bore (the keys themselves are not meshed).
+    """
+
+    rotors: int = 4
+    rotor_thickness: float = 0.020
+    stator_thickness: float = 0.018
+    pressure_plate_thickness: float = 0.022
+    end_plate_thickness: float = 0.022
+    friction_inner_radius: float = 0.130
+    friction_outer_radius: float = 0.210
+    rotor_key_height: float = 0.010
+    stator_key_height: float = 0.010
+    heat_sink_material: str = "carbon-carbon"
+    torque_tube_inner_radius: float = 0.106
+    torque_tube_material: str = "low-alloy-steel"
+    backing_flange_thickness: float = 0.016
+    housing_thickness: float = 0.040
+    housing_outer_radius: float = 0.200
+    housing_material: str = "low-alloy-steel"
+    heat_shield: bool = True
+    heat_shield_gap: float = 0.014
+    heat_shield_thickness: float = 0.0015
+    heat_shield_material: str = "stainless-heat-shield"
+    rim_bore_clearance: float = 0.006
+    rim_thickness: float = 0.012
+    rim_overhang_inboard: float = 0.010
+    rim_overhang_outboard: float = 0.030
+    flange_height: float = 0.028
+    flange_thickness: float = 0.014
+    web_gap: float = 0.012
+    web_thickness: float = 0.022
+    hub_inner_radius: float = 0.072
+    hub_thickness: float = 0.022
+    wheel_material: str = "forged-aluminium-wheel-alloy"
+    bead_width: float = 0.040
+    bead_height: float = 0.018
+    bead_material: str = "tyre-rubber"
+    sensor_depth: float = 0.004
+    sensor_z_fraction: float = 0.9
+    sensor_time_constant: float = 15.0
+    fuse_plugs: tuple[FusePlugSpec, ...] = field(
+        default=(
+            FusePlugSpec("fuse plug 1", z_fraction=0.80),
+            FusePlugSpec("fuse plug 2", z_fraction=0.55),
+        )
+    )
+    rotor_stator_clamped: float = 3000.0
+    rotor_stator_released: float = 250.0
+    stator_torque_tube: float = 400.0
+    end_plate_flange: float = 1500.0
+    pressure_plate_housing: float = 150.0
+    housing_torque_tube: float = 2000.0
+    tyre_bead_rim: float = 800.0
+    drive_key_conductance: float = 4.0
+    friction_distribution: str = "uniform_pressure"
+
+    def __post_init__(self) -> None:
+        if int(self.rotors) != self.rotors or self.rotors < 1:
+            raise GeometryError(f"design: rotors must be a whole number >= 1, got {self.rotors}")
+        for name, value in self.__dict__.items():
+            if isinstance(value, float) and not value > 0 and name != "sensor_z_fraction":
+                raise GeometryError(f"design: {name} must be > 0, got {value}")
+        if self.friction_outer_radius <= self.friction_inner_radius:
+            raise GeometryError("design: friction_outer_radius must exceed friction_inner_radius")
+        if self.torque_tube_inner_radius >= self.friction_inner_radius - self.stator_key_height:
+            raise GeometryError("design: torque_tube_inner_radius must be inside the stator bore")
+        if not 0.0 <= self.sensor_z_fraction <= 1.0:
+            raise GeometryError("design: sensor_z_fraction must lie in [0, 1]")
+
+    def with_changes(self, **changes) -> WheelBrakeDesign:
+        """A copy with some fields changed (validated again)."""
+        unknown = sorted(set(changes) - set(self.__dataclass_fields__))
+        if unknown:
+            raise GeometryError(f"design: unknown field {unknown[0]!r}")
+        return replace(self, **changes)
+
+    # derived radii ---------------------------------------------------------------
+    @property
+    def stator_inner_radius(self) -> float:
+        """Bore of stators, pressure and end plates = torque tube outer radius [m]."""
+        return self.friction_inner_radius - self.stator_key_height
+
+    @property
+    def rotor_outer_radius(self) -> float:
+        """Outer radius of the rotors [m]."""
+        return self.friction_outer_radius + self.rotor_key_height
+
+    @property
+    def heat_shield_inner_radius(self) -> float:
+        """[m]"""
+        return self.rotor_outer_radius + self.heat_shield_gap
+
+    @property
+    def rim_inner_radius(self) -> float:
+        """Rim bore [m]."""
+        shield = self.heat_shield_thickness if self.heat_shield else 0.0
+        return self.heat_shield_inner_radius + shield + self.rim_bore_clearance
+
+    @property
+    def rim_outer_radius(self) -> float:
+        """Bead seat radius [m]."""
+        return self.rim_inner_radius + self.rim_thickness
+
+
+@dataclass(frozen=True, eq=False)
+class BuiltWheelBrake:
+    """The outcome of :func:`build_wheel_brake`.
+
+    Attributes
+    ----------
+    assembly : Assembly
+    design : WheelBrakeDesign
+    length_scales : dict of str to float
+        Characteristic length [m] of each surface group for convection correlations
+        (diameter of cylinders, height of vertical faces).
+    fuse_plugs : tuple of FusePlugSpec
+    stack_z : (float, float)
+        Axial extent of the friction stack [m].
+    """
+
+    assembly: Assembly
+    design: WheelBrakeDesign
+    length_scales: dict[str, float]
+    fuse_plugs: tuple[FusePlugSpec, ...]
+    stack_z: tuple[float, float]
+
+
+def _stack(d: WheelBrakeDesign, z0: float) -> tuple[list[Part], float]:
+    roles = ["pressure_plate"] + ["rotor", "stator"] * (d.rotors - 1) + ["rotor", "end_plate"]
+    thickness = {
+        "pressure_plate": d.pressure_plate_thickness,
+        "rotor": d.rotor_thickness,
+        "stator": d.stator_thickness,
+        "end_plate": d.end_plate_thickness,
+    }
+    parts, z, counts = [], z0, {"rotor": 0, "stator": 0}
+    for role in roles:
+        if role == "rotor":
+            r_in, r_out = d.friction_inner_radius, d.rotor_outer_radius
+        else:
+            r_in, r_out = d.stator_inner_radius, d.friction_outer_radius
+        if role in counts:
+            counts[role] += 1
+            name = f"{role} {counts[role]}"
+        else:
+            name = role.replace("_", " ")
+        parts.append(Part(name, d.heat_sink_material, r_in, r_out, z, z + thickness[role], role))
+        z += thickness[role]
+    return parts, z
+
+
+def _wheel(d: WheelBrakeDesign, z_in: float, z_web: float) -> list[Part]:
+    r_bore, r_seat = d.rim_inner_radius, d.rim_outer_radius
+    z_out = z_web + d.web_thickness + d.rim_overhang_outboard
+    m = d.wheel_material
+    return [
+        Part("rim", m, r_bore, r_seat, z_in, z_out, "wheel"),
+        Part("inboard flange", m, r_seat, r_seat + d.flange_height, z_in, z_in + d.flange_thickness, "wheel"),
+        Part(
+            "outboard flange", m, r_seat, r_seat + d.flange_height, z_out - d.flange_thickness, z_out, "wheel"
+        ),
+        Part("web", m, d.hub_inner_radius + d.hub_thickness, r_bore, z_web, z_web + d.web_thickness, "wheel"),
+        Part(
+            "hub",
+            m,
+            d.hub_inner_radius,
+            d.hub_inner_radius + d.hub_thickness,
+            z_web - 0.5 * d.web_thickness,
+            z_out,
+            "wheel",
+        ),
+        Part(
+            "inboard bead",
+            d.bead_material,
+            r_seat,
+            r_seat + d.bead_height,
+            z_in + d.flange_thickness,
+            z_in + d.flange_thickness + d.bead_width,
+            "tyre_bead",
+        ),
+        Part(
+            "outboard bead",
+            d.bead_material,
+            r_seat,
+            r_seat + d.bead_height,
+            z_out - d.flange_thickness - d.bead_width,
+            z_out - d.flange_thickness,
+            "tyre_bead",
+        ),
+    ]
+
+
+def _surface_groups() -> dict[str, str]:
+    groups = {}
+    for role in ("rotor", "stator", "pressure_plate", "end_plate"):
+        groups[f"@{role}:outer"] = "stack outer diameter"
+        groups[f"@{role}:inner"] = "stack bore"
+        groups[f"@{role}:bottom"] = "stack faces"
+        groups[f"@{role}:top"] = "stack faces"
+    groups.update(
+        {
+            "@torque_tube": "torque tube",
+            "@heat_shield": "heat shield",
+            "@other": "housing",
+            "@tyre_bead": "tyre bead",
+            "@wheel:bottom": "wheel inboard",
+            "@wheel:top": "wheel outboard",
+            "@wheel:inner": "rim bore",
+            "@wheel:outer": "tyre cavity",
+            "hub:inner": "hub bore",
+            "inboard flange:outer": "wheel inboard",
+            "outboard flange:outer": "wheel outboard",
+        }
+    )
+    return groups
+
+
+def _contacts(d: WheelBrakeDesign) -> list[Contact]:
+    wheel_pairs = [("rim", "inboard flange"), ("rim", "outboard flange"), ("rim", "web"), ("web", "hub")]
+    return [
+        Contact(roles=("rotor", "stator"), clamped=d.rotor_stator_clamped, released=d.rotor_stator_released),
+        Contact(
+            roles=("rotor", "pressure_plate"),
+            clamped=d.rotor_stator_clamped,
+            released=d.rotor_stator_released,
+        ),
+        Contact(
+            roles=("rotor", "end_plate"), clamped=d.rotor_stator_clamped, released=d.rotor_stator_released
+        ),
+        Contact(roles=("stator", "torque_tube"), clamped=d.stator_torque_tube),
+        Contact(roles=("pressure_plate", "torque_tube"), clamped=d.stator_torque_tube),
+        Contact(roles=("end_plate", "torque_tube"), clamped=d.end_plate_flange),
+        Contact(roles=("pressure_plate", "other"), clamped=d.pressure_plate_housing),
+        Contact(roles=("torque_tube", "other"), clamped=d.housing_torque_tube),
+        Contact(roles=("tyre_bead", "wheel"), clamped=d.tyre_bead_rim),
+        *(Contact(parts=pair) for pair in wheel_pairs),
+        Contact(parts=("torque tube", "backing flange")),
+    ]
+
+
+def build_wheel_brake(
+    design: WheelBrakeDesign | None = None,
+    extra_parts: Sequence[Part] = (),
+    replace_parts: Sequence[Part] = (),
+    extra_probes: Sequence[Probe] = (),
+) -> BuiltWheelBrake:
+    """Build the assembly of a wheel and brake from its design numbers.
+
+    Parameters
+    ----------
+    design : WheelBrakeDesign, optional
+        Dimensions and materials; the invented reference design by default.
+    extra_parts : sequence of Part
+        Parts added by hand.
+    replace_parts : sequence of Part
+        Parts that replace the built part of the same name.
+    extra_probes : sequence of Probe
+        More probes.
+
+    Returns
+    -------
+    BuiltWheelBrake
+    """
+    d = design or WheelBrakeDesign()
+    z_stack0 = d.housing_thickness
+    stack, z_stack1 = _stack(d, z_stack0)
+    z_flange1 = z_stack1 + d.backing_flange_thickness
+    z_in = -d.rim_overhang_inboard
+    z_web = z_flange1 + d.web_gap
+    r_tt_out = d.stator_inner_radius
+    parts = [
+        Part("housing", d.housing_material, r_tt_out, d.housing_outer_radius, 0.0, z_stack0, "other"),
+        *stack,
+        Part(
+            "torque tube",
+            d.torque_tube_material,
+            d.torque_tube_inner_radius,
+            r_tt_out,
+            0.0,
+            z_stack1,
+            "torque_tube",
+        ),
+        Part(
+            "backing flange",
+            d.torque_tube_material,
+            d.torque_tube_inner_radius,
+            d.friction_outer_radius,
+            z_stack1,
+            z_flange1,
+            "torque_tube",
+        ),
+        *_wheel(d, z_in, z_web),
+    ]
+    if d.heat_shield:
+        r = d.heat_shield_inner_radius
+        parts.append(
+            Part(
+                "heat shield",
+                d.heat_shield_material,
+                r,
+                r + d.heat_shield_thickness,
+                z_stack0,
+                z_stack1,
+                "heat_shield",
+            )
+        )
+    parts = _apply_replacements(parts, replace_parts) + list(extra_parts)
+
+    rim = next(p for p in parts if p.name == "rim")
+    middle_rotor = next(p for p in parts if p.name == f"rotor {(d.rotors + 1) // 2}")
+    probes = [
+        Probe(
+            "sensor",
+            d.torque_tube_inner_radius + d.sensor_depth,
+            z_stack0 + d.sensor_z_fraction * (z_stack1 - z_stack0),
+            part="torque tube",
+            time_constant=d.sensor_time_constant,
+        ),
+        Probe(
+            "hottest rotor",
+            0.5 * (d.friction_inner_radius + d.friction_outer_radius),
+            0.5 * (middle_rotor.z_min + middle_rotor.z_max),
+            part=middle_rotor.name,
+        ),
+        Probe("inboard bead seat", rim.r_outer, z_in + d.flange_thickness + 0.5 * d.bead_width, part="rim"),
+        Probe(
+            "outboard bead seat", rim.r_outer, rim.z_max - d.flange_thickness - 0.5 * d.bead_width, part="rim"
+        ),
+        *(
+            Probe(
+                plug.name,
+                rim.r_inner + plug.depth_fraction * (rim.r_outer - rim.r_inner),
+                rim.z_min + plug.z_fraction * (rim.z_max - rim.z_min),
+                part="rim",
+            )
+            for plug in d.fuse_plugs
+        ),
+        *extra_probes,
+    ]
+    rotors = [p.name for p in parts if p.role == "rotor"]
+    links = [
+        ThermalLink(name, "outer", "rim", "inner", d.drive_key_conductance, f"drive keys {name}")
+        for name in rotors
+    ]
+    assembly = Assembly(
+        parts,
+        links=links,
+        contacts=_contacts(d),
+        probes=probes,
+        default_contact_conductance=1000.0,
+        surface_groups=_surface_groups(),
+        friction=FrictionSettings(distribution=d.friction_distribution),
+    )
+    wheel_height = 2.0 * (d.rim_outer_radius + d.flange_height)
+    scales = {
+        "stack outer diameter": 2.0 * d.rotor_outer_radius,
+        "stack bore": 2.0 * d.stator_inner_radius,
+        "stack faces": 2.0 * d.friction_outer_radius,
+        "torque tube": 2.0 * d.torque_tube_inner_radius,
+        "heat shield": 2.0 * d.heat_shield_inner_radius,
+        "housing": 2.0 * d.housing_outer_radius,
+        "rim bore": 2.0 * d.rim_inner_radius,
+        "tyre cavity": 2.0 * d.rim_outer_radius,
+        "wheel inboard": wheel_height,
+        "wheel outboard": wheel_height,
+        "hub bore": 2.0 * d.hub_inner_radius,
+        "tyre bead": 2.0 * (d.rim_outer_radius + d.bead_height),
+    }
+    return BuiltWheelBrake(assembly, d, scales, tuple(d.fuse_plugs), (z_stack0, z_stack1))
+
+
+def _apply_replacements(parts: list[Part], replacements: Sequence[Part]) -> list[Part]:
+    by_name = {p.name: p for p in replacements}
+    unknown = sorted(set(by_name) - {p.name for p in parts})
+    if unknown:
+        raise GeometryError(f"replace_parts: the design has no part named {unknown[0]!r}")
+    return [by_name.get(p.name, p) for p in parts]

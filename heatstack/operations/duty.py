@@ -1,0 +1,278 @@
+"""A day's operations as a duty cycle: ordered phases, each with its braking and its cooling.
+
+A :class:`DutyCycle` is a readable protocol (landing roll, taxi-in, turnaround, ...).
+:meth:`DutyCycle.schedule` turns it into the :class:`~heatstack.numerics.schedule.Schedule`
+the solver reads: one brake's friction power P(t), a cooling law for every exposed-surface
+group in every phase, whether the stack is clamped, and the exact breakpoints.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..errors import ScheduleError
+from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
+from ..units import to_si
+from .environment import CrossFlow, FanCooling, MixedConvection, NaturalConvection, RotatingDisc, WheelWell
+from .heat_input import BrakingEvent, combine
+
+__all__ = ["Environment", "DutyPhase", "DutyCycle", "SURFACE_SHAPES"]
+
+#: How each surface group of the built wheel and brake is oriented (axle horizontal):
+#: cylinders about the axle, or vertical disc faces.
+SURFACE_SHAPES: dict[str, str] = {
+    "stack outer diameter": "horizontal_cylinder",
+    "stack bore": "horizontal_cylinder",
+    "stack faces": "vertical_plate",
+    "torque tube": "horizontal_cylinder",
+    "heat shield": "horizontal_cylinder",
+    "housing": "horizontal_cylinder",
+    "rim bore": "horizontal_cylinder",
+    "tyre cavity": "horizontal_cylinder",
+    "wheel inboard": "vertical_plate",
+    "wheel outboard": "vertical_plate",
+    "hub bore": "horizontal_cylinder",
+    "tyre bead": "horizontal_cylinder",
+}
+
+
+def _si(value: Any, dimension: str, field_name: str) -> float:
+    return to_si(value, None, dimension, field_name)
+
+
+@dataclass(frozen=True)
+class Environment:
+    """The cooling conditions of one phase.
+
+    Parameters
+    ----------
+    ambient_temperature : float or str
+        Outside air temperature [K] (or a string with a unit, e.g. ``"15 degC"``).
+    ambient_pressure : float or str
+        [Pa].
+    surroundings_temperature : float or str, optional
+        Radiation surroundings [K]; the air temperature by default.
+    ground_speed : float or str
+        Speed at which the wheel rolls [m/s]; 0 when stopped. A rolling wheel sees a
+        cross-flow of air at this speed plus the headwind, and its disc faces spin.
+    wind_speed : float or str
+        Wind across the wheel [m/s].
+    fan_speed : float or str
+        Air speed of a brake-cooling fan over the stack [m/s]; 0 for none.
+    wheel_well : (float, float), optional
+        Air and wall temperatures [K] of an enclosed wheel well (gear up): natural
+        convection only, radiation to the walls.
+    overrides : mapping of str to BoundaryLaw
+        Cooling laws given by hand for some surface groups (``"*"`` for all others).
+    """
+
+    ambient_temperature: Any = 288.15
+    ambient_pressure: Any = 101325.0
+    surroundings_temperature: Any = None
+    ground_speed: Any = 0.0
+    wind_speed: Any = 0.0
+    fan_speed: Any = 0.0
+    wheel_well: tuple[Any, Any] | None = None
+    overrides: Mapping[str, BoundaryLaw] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        convert = {
+            "ambient_temperature": "temperature",
+            "ambient_pressure": "pressure",
+            "ground_speed": "speed",
+            "wind_speed": "speed",
+            "fan_speed": "speed",
+        }
+        for name, dimension in convert.items():
+            value = _si(getattr(self, name), dimension, f"environment {name}")
+            if (dimension != "speed" and not value > 0) or value < 0:
+                raise ScheduleError(f"environment {name} must be {'>= 0' if dimension == 'speed' else '> 0'}")
+            object.__setattr__(self, name, value)
+        if self.surroundings_temperature is not None:
+            object.__setattr__(
+                self,
+                "surroundings_temperature",
+                _si(self.surroundings_temperature, "temperature", "environment surroundings_temperature"),
+            )
+        if self.wheel_well is not None:
+            air, wall = (_si(v, "temperature", "environment wheel_well") for v in self.wheel_well)
+            object.__setattr__(self, "wheel_well", (air, wall))
+        object.__setattr__(self, "overrides", dict(self.overrides))
+
+    def laws(self, length_scales: Mapping[str, float], rolling_radius: float) -> dict[str, BoundaryLaw]:
+        """A cooling law for every surface group in ``length_scales``.
+
+        Parameters
+        ----------
+        length_scales : mapping of str to float
+            Characteristic length [m] of each surface group (diameter of a cylinder,
+            height of a vertical face).
+        rolling_radius : float
+            Tyre rolling radius [m], to turn ground speed into wheel angular speed.
+        """
+        laws = {}
+        for group, length in length_scales.items():
+            if group in self.overrides:
+                laws[group] = self.overrides[group]
+            elif "*" in self.overrides:
+                laws[group] = self.overrides["*"]
+            else:
+                laws[group] = self._law(group, float(length), rolling_radius)
+        return laws
+
+    def _law(self, group: str, length: float, rolling_radius: float) -> BoundaryLaw:
+        shape = SURFACE_SHAPES.get(group, "horizontal_cylinder")
+        if self.wheel_well is not None:
+            air, wall = self.wheel_well
+            return WheelWell(shape, length, air, wall, self.ambient_pressure)
+        state = {
+            "ambient_temperature": self.ambient_temperature,
+            "ambient_pressure": self.ambient_pressure,
+            "surroundings_temperature": self.surroundings_temperature,
+        }
+        natural = NaturalConvection(shape, length, **state)
+        forced = self._forced(shape, length, rolling_radius, state)
+        return natural if forced is None else MixedConvection(natural, forced)
+
+    def _forced(self, shape: str, length: float, rolling_radius: float, state: dict) -> BoundaryLaw | None:
+        if self.fan_speed > 0:
+            return FanCooling(length, self.fan_speed, **state)
+        air_speed = self.ground_speed + self.wind_speed
+        if air_speed <= 0:
+            return None
+        if shape == "vertical_plate" and self.ground_speed > 0:
+            return RotatingDisc(0.5 * length, self.ground_speed / rolling_radius, **state)
+        if shape == "vertical_plate":
+            return FanCooling(length, air_speed, **state)
+        return CrossFlow(length, air_speed, **state)
+
+
+@dataclass(frozen=True)
+class DutyPhase:
+    """One phase of a duty cycle.
+
+    Parameters
+    ----------
+    name : str
+        E.g. ``"landing roll"``, ``"taxi-in"``, ``"turnaround"``.
+    duration : float or str
+        [s] (or e.g. ``"45 min"``), > 0.
+    environment : Environment
+    events : sequence of BrakingEvent
+        Braking in the phase; each event's times count from the phase start.
+    clamped : bool, optional
+        Whether the stack is clamped (brake applied, or parking brake set). By default,
+        clamped when the phase has braking events.
+    """
+
+    name: str
+    duration: Any
+    environment: Environment = field(default_factory=Environment)
+    events: Sequence[BrakingEvent] = ()
+    clamped: bool | None = None
+
+    def __post_init__(self) -> None:
+        duration = _si(self.duration, "time", f"phase {self.name!r} duration")
+        if not duration > 0:
+            raise ScheduleError(f"phase {self.name!r}: duration must be > 0 s, got {duration}")
+        object.__setattr__(self, "duration", duration)
+        object.__setattr__(self, "events", tuple(self.events))
+        for event in self.events:
+            if event.start < 0 or event.end > duration * (1 + 1e-12):
+                raise ScheduleError(
+                    f"phase {self.name!r}: event {event.name!r} ({event.start:g}-{event.end:g} s) "
+                    f"does not fit in the phase (0-{duration:g} s)"
+                )
+
+    @property
+    def is_clamped(self) -> bool:
+        """The contact state used for the phase."""
+        return bool(self.events) if self.clamped is None else bool(self.clamped)
+
+
+@dataclass(frozen=True)
+class DutyCycle:
+    """An ordered list of phases, from the first to the last, without gaps.
+
+    Parameters
+    ----------
+    phases : sequence of DutyPhase
+    rolling_radius : float or str
+        Tyre rolling radius [m] for disc spin from ground speed.
+    """
+
+    phases: Sequence[DutyPhase]
+    rolling_radius: Any = 0.5
+
+    def __post_init__(self) -> None:
+        phases = tuple(self.phases)
+        if not phases:
+            raise ScheduleError("duty cycle: at least one phase is needed")
+        names = [p.name for p in phases]
+        for name in names:
+            if names.count(name) > 1:
+                raise ScheduleError(f"duty cycle: two phases are named {name!r}")
+        radius = _si(self.rolling_radius, "length", "duty cycle rolling_radius")
+        if not radius > 0:
+            raise ScheduleError("duty cycle: rolling_radius must be > 0")
+        object.__setattr__(self, "phases", phases)
+        object.__setattr__(self, "rolling_radius", radius)
+
+    @property
+    def duration(self) -> float:
+        """Total length of the cycle [s]."""
+        return float(sum(p.duration for p in self.phases))
+
+    def phase_starts(self, start: float = 0.0) -> np.ndarray:
+        """Start time of each phase [s] for a cycle beginning at ``start``."""
+        return start + np.concatenate(([0.0], np.cumsum([p.duration for p in self.phases])[:-1]))
+
+    def power(self, start: float = 0.0) -> PowerHistory:
+        """Friction power of one brake over the whole cycle [W]."""
+        shifted = []
+        for phase, t0 in zip(self.phases, self.phase_starts(start), strict=True):
+            for event in phase.events:
+                shifted.append(PowerHistory(event.power.times + t0, event.power.powers))
+        return combine(*shifted) if shifted else PowerHistory(np.array([start, start + 1.0]), np.zeros(2))
+
+    def energy_summary(self) -> list[dict[str, Any]]:
+        """One row per braking event: phase, event, energy per brake [J], kinetic energy [J], share."""
+        return [
+            {
+                "phase": phase.name,
+                "event": event.name,
+                "energy_per_brake": event.energy_per_brake,
+                "kinetic_energy": event.kinetic_energy,
+                "brake_share": event.brake_share,
+            }
+            for phase in self.phases
+            for event in phase.events
+        ]
+
+    def schedule(
+        self,
+        length_scales: Mapping[str, float],
+        start: float = 0.0,
+        extra_breakpoints: Sequence[float] = (),
+    ) -> Schedule:
+        """The solver's schedule for this cycle beginning at ``start`` [s].
+
+        Parameters
+        ----------
+        length_scales : mapping of str to float
+            Characteristic length [m] of every exposed-surface group (the built wheel's
+            ``length_scales``); every group gets a law in every phase.
+        start : float
+            Start time [s], e.g. the time of a saved state a chained run begins from.
+        extra_breakpoints : sequence of float
+            More times [s] to land on.
+        """
+        phases = []
+        for phase, t0 in zip(self.phases, self.phase_starts(start), strict=True):
+            laws = phase.environment.laws(length_scales, self.rolling_radius)
+            phases.append(Phase(phase.name, float(t0), float(t0 + phase.duration), laws, phase.is_clamped))
+        return Schedule(self.power(start), phases, tuple(extra_breakpoints))
