@@ -77,6 +77,8 @@ class Result:
         Global series [K]: ``heat_sink_mean`` (mass-weighted mean over rotors, stators,
         pressure and end plates), ``heat_sink_max`` (hottest heat-sink cell),
         ``wheel_max`` (hottest wheel cell); a series is absent if its parts are.
+        ``surface:<group>`` is the area-weighted mean surface temperature of each
+        exposed-surface group.
     ledger : EnergyLedger
     snapshot_times : ndarray
         [s]
@@ -93,6 +95,10 @@ class Result:
         Name, start and end [s] of each duty phase.
     end_of_heating : float
         Last time with brake power [s].
+    probe_positions : dict of str to (float, float)
+        (r, z) of each probe [m].
+    probe_time_constants : dict of str to float
+        Instrument time constant of each probe [s].
     metadata : dict
         Free text: case text, version, solver statistics.
     """
@@ -112,6 +118,8 @@ class Result:
     final_state: State
     phases: tuple[tuple[str, float, float], ...] = ()
     end_of_heating: float = 0.0
+    probe_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
+    probe_time_constants: dict[str, float] = field(default_factory=dict)
     metadata: dict = field(default_factory=dict)
 
     def history(self, name: str) -> np.ndarray:

@@ -443,7 +443,7 @@ class _Integrator:
         self.properties(T)
         surf = {"face": T[net.face_cell].copy(), "gap_a": T[net.gap_a].copy(), "gap_b": T[net.gap_b].copy()}
         rec = _Recorder(net, self.mass)
-        rec.record(t_start, T, None)
+        rec.record(t_start, T, None, surf["face"])
         rec.snapshot(t_start, T)
         t = t_start
         dt = opt.fixed_step or opt.initial_step
@@ -456,7 +456,7 @@ class _Integrator:
                 T_prev, dt_prev = T, taken
                 T, H = out["T"], out["H"]
                 t = target if abs(t + taken - target) <= 1e-9 * max(1.0, abs(target)) else t + taken
-                rec.record(t, T, out)
+                rec.record(t, T, out, surf["face"])
                 self.stats["steps"] += 1
                 # a step shortened only to land on a breakpoint does not shrink the next one
                 dt = self._next_step(dt if taken == step and step < dt else taken, T - T_prev)
@@ -533,6 +533,7 @@ class _Recorder:
         self.times: list[float] = []
         self.probe_values: list[np.ndarray] = []
         self.series: dict[str, list[float]] = {}
+        self.group_area = np.bincount(net.face_group, weights=net.face_area, minlength=len(net.groups))
         self.sink_mass = mass[net.heat_sink].sum() if net.heat_sink.any() else 0.0
         self.accounts = {"heat_in": [0.0], "convected": [0.0], "radiated": [0.0], "stored": [0.0]}
         n_if = len(net.friction_labels)
@@ -540,7 +541,7 @@ class _Recorder:
         self.snap_times: list[float] = []
         self.snaps: list[np.ndarray] = []
 
-    def record(self, t: float, T: np.ndarray, out: dict | None) -> None:
+    def record(self, t: float, T: np.ndarray, out: dict | None, face_ts: np.ndarray) -> None:
         net = self.net
         self.times.append(t)
         self.probe_values.append(np.sum(T[net.probe_cells] * net.probe_weights, axis=1))
@@ -551,6 +552,9 @@ class _Recorder:
             self.series.setdefault("heat_sink_max", []).append(float(T[net.heat_sink].max()))
         if net.wheel.any():
             self.series.setdefault("wheel_max", []).append(float(T[net.wheel].max()))
+        group_mean = np.bincount(net.face_group, weights=net.face_area * face_ts, minlength=len(net.groups))
+        for name, mean in zip(net.groups, group_mean / self.group_area, strict=True):
+            self.series.setdefault(f"surface:{name}", []).append(float(mean))
         if out is not None:
             for key in self.accounts:
                 self.accounts[key].append(self.accounts[key][-1] + out[key])
@@ -597,6 +601,8 @@ class _Recorder:
             final_state=final,
             phases=tuple((p.name, p.start, p.end) for p in schedule.phases),
             end_of_heating=schedule.power.end_of_heating,
+            probe_positions={p.name: (p.r, p.z) for p in net.assembly.probes},
+            probe_time_constants={p.name: p.time_constant for p in net.assembly.probes},
             metadata={"solver": dict(stats)},
         )
 
