@@ -116,7 +116,7 @@ class WheelBrakeDesign:
     )
     rotor_stator_clamped: float = 3000.0
     rotor_stator_released: float = 250.0
-    stator_torque_tube: float = 400.0
+    stator_torque_tube: float = 300.0
     end_plate_flange: float = 1500.0
     pressure_plate_housing: float = 150.0
     housing_torque_tube: float = 2000.0

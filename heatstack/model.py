@@ -10,7 +10,7 @@ Example
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -70,9 +70,13 @@ class Model:
         schedule: Schedule,
         initial_temperature: float | Mapping[str, float] | State | np.ndarray,
         options: SolverOptions | None = None,
+        progress: Callable[[float], None] | None = None,
     ) -> Result:
-        """Integrate ``schedule`` from ``initial_temperature`` [K] (or a saved State)."""
-        return integrate(self.network, schedule, initial_temperature, options)
+        """Integrate ``schedule`` from ``initial_temperature`` [K] (or a saved State).
+
+        ``progress``, if given, is called with the simulated time [s] after every step.
+        """
+        return integrate(self.network, schedule, initial_temperature, options, progress)
 
 
 def simulate(

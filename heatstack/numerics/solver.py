@@ -21,7 +21,7 @@ References
 from __future__ import annotations
 
 import logging
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -107,8 +107,15 @@ def _csc_pattern(n: int, rows: np.ndarray, cols: np.ndarray) -> tuple[sp.csc_mat
 class _Integrator:
     """Holds the precomputed index arrays and work state of one run."""
 
-    def __init__(self, network: Network, schedule: Schedule, options: SolverOptions):
+    def __init__(
+        self,
+        network: Network,
+        schedule: Schedule,
+        options: SolverOptions,
+        progress: Callable[[float], None] | None = None,
+    ):
         self.net, self.schedule, self.opt = network, schedule, options
+        self.progress = progress
         net, n = network, network.n_cells
         self.n = n
         self.k_link_a = net.link_a + n * net.link_dir
@@ -457,6 +464,8 @@ class _Integrator:
                 T, H = out["T"], out["H"]
                 t = target if abs(t + taken - target) <= 1e-9 * max(1.0, abs(target)) else t + taken
                 rec.record(t, T, out, surf["face"])
+                if self.progress is not None:
+                    self.progress(t)
                 self.stats["steps"] += 1
                 # a step shortened only to land on a breakpoint does not shrink the next one
                 dt = self._next_step(dt if taken == step and step < dt else taken, T - T_prev)
@@ -640,6 +649,7 @@ def integrate(
     schedule: Schedule,
     initial: float | Mapping[str, float] | State | np.ndarray,
     options: SolverOptions | None = None,
+    progress: Callable[[float], None] | None = None,
 ) -> Result:
     """Run the schedule from ``initial`` and return the histories.
 
@@ -651,6 +661,8 @@ def integrate(
         Initial temperature [K]: uniform, per part name (``"*"`` as default), or a
         saved state of the same model.
     options : SolverOptions, optional
+    progress : callable, optional
+        Called with the simulated time [s] after every accepted step.
 
     Returns
     -------
@@ -670,7 +682,7 @@ def integrate(
             f"initial state time {start} s is outside the schedule {schedule.start}..{schedule.end} s"
         )
     try:
-        return _Integrator(network, schedule, options).run(T0, max(start, schedule.start))
+        return _Integrator(network, schedule, options, progress).run(T0, max(start, schedule.start))
     except HeatstackError:
         raise
     except (FloatingPointError, ValueError, RuntimeError) as exc:

@@ -1,0 +1,545 @@
+"""Case files: a TOML description of a wheel and brake, its duty and the outputs wanted.
+
+The layout is our own; every quantity may carry its unit (``"20 mm"``, ``"15 degC"``,
+``"70 t"``, ``"150 kt"``); bare numbers are SI. :func:`load_case` validates the file
+into a :class:`Case`; every error names the key path (``duty.phases[2].events[0].mass``)
+and, for an unknown key, the closest valid key. :func:`run_case` runs it.
+"""
+
+from __future__ import annotations
+
+import difflib
+import inspect
+import tomllib
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field, fields
+from pathlib import Path
+from typing import Any
+
+from .builders import BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
+from .errors import HeatstackError, InputError
+from .geometry import ROLES, Assembly, Contact, FrictionSettings, Part, Probe
+from .materials import Material, material_from_mapping
+from .model import Model
+from .numerics.solver import SolverOptions
+from .operations import heat_input
+from .operations.duty import DutyCycle, DutyPhase, Environment
+from .operations.heat_input import BrakingEvent
+from .result import Result
+from .units import to_si
+
+__all__ = ["Case", "OutputSettings", "load_case", "parse_case", "run_case", "EVENT_KINDS"]
+
+_REQUIRED = object()
+
+#: Braking-event kinds of ``[[duty.phases.events]]`` and the functions that make them.
+EVENT_KINDS: dict[str, Callable[..., BrakingEvent]] = {
+    "stop_from_energy": heat_input.stop_from_energy,
+    "stop_from_aircraft": heat_input.stop_from_aircraft,
+    "speed_trace": heat_input.stop_from_speed_trace,
+    "taxi_snubs": heat_input.taxi_snubs,
+    "gear_retraction": heat_input.gear_retraction,
+}
+
+
+class _Table:
+    """A TOML table being read: typed getters with key paths, unknown keys rejected."""
+
+    def __init__(self, data: Any, path: str):
+        if not isinstance(data, Mapping):
+            raise InputError(f"{path or 'case'}: expected a table, got {type(data).__name__}")
+        self.data, self.path, self.used = dict(data), path, set()
+
+    def where(self, key: str) -> str:
+        return f"{self.path}.{key}" if self.path else key
+
+    def has(self, key: str) -> bool:
+        return key in self.data
+
+    def raw(self, key: str, default: Any = _REQUIRED) -> Any:
+        self.used.add(key)
+        if key in self.data:
+            return self.data[key]
+        if default is _REQUIRED:
+            raise InputError(f"{self.where(key)}: missing (required)")
+        return default
+
+    def text(self, key: str, default: Any = _REQUIRED) -> str:
+        value = self.raw(key, default)
+        if value is not default and not isinstance(value, str):
+            raise InputError(f"{self.where(key)}: expected a string, got {value!r}")
+        return value
+
+    def boolean(self, key: str, default: Any = _REQUIRED) -> bool:
+        value = self.raw(key, default)
+        if value is not default and not isinstance(value, bool):
+            raise InputError(f"{self.where(key)}: expected true or false, got {value!r}")
+        return value
+
+    def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0) -> int:
+        value = self.raw(key, default)
+        if value is default:
+            return value
+        if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
+            raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {value!r}")
+        return value
+
+    def quantity(self, key: str, dimension: str, default: Any = _REQUIRED) -> float:
+        value = self.raw(key, default)
+        if value is default:
+            return value
+        if isinstance(value, bool) or not isinstance(value, int | float | str):
+            raise InputError(
+                f"{self.where(key)}: expected a number or a quantity such as '20 mm', got {value!r}"
+            )
+        return to_si(value, None, dimension, self.where(key))
+
+    def table(self, key: str, default: Any = _REQUIRED) -> _Table:
+        value = self.raw(key, default)
+        return _Table({} if value is None else value, self.where(key))
+
+    def tables(self, key: str) -> list[_Table]:
+        value = self.raw(key, [])
+        if not isinstance(value, list):
+            raise InputError(f"{self.where(key)}: expected an array of tables ([[{self.where(key)}]])")
+        return [_Table(item, f"{self.where(key)}[{k}]") for k, item in enumerate(value)]
+
+    def finish(self, allowed: tuple[str, ...] | None = None) -> None:
+        """Reject keys that were not read (or not in ``allowed``), suggesting the closest."""
+        allowed = tuple(sorted(self.used)) if allowed is None else allowed
+        for key in self.data:
+            if key not in allowed and key not in self.used:
+                close = difflib.get_close_matches(str(key), allowed, n=1, cutoff=0.5)
+                hint = f"; did you mean {close[0]!r}?" if close else f"; valid keys: {', '.join(allowed)}"
+                raise InputError(f"{self.where(str(key))}: unknown key{hint}")
+
+
+@dataclass(frozen=True)
+class OutputSettings:
+    """What a run writes: results file, plots, report unit, limits [K] per probe or series."""
+
+    file: str = "results.h5"
+    plots: bool = True
+    temperature_unit: str = "degC"
+    limits: Mapping[str, float] = field(default_factory=dict)
+
+
+@dataclass(frozen=True, eq=False)
+class Case:
+    """A validated case, ready to run.
+
+    Attributes
+    ----------
+    title : str
+    assembly : Assembly
+    built : BuiltWheelBrake or None
+        Set when the assembly comes from the wheel-and-brake builder.
+    materials : dict of str to Material
+        Inline materials.
+    cell_size : (float, float)
+        Target cell size [m].
+    min_cells : int
+    duty : DutyCycle
+    length_scales : dict of str to float
+        Length [m] of every exposed-surface group, for the cooling laws.
+    initial_temperature : float
+        [K].
+    solver : SolverOptions
+    output : OutputSettings
+    fuse_plugs : tuple of FusePlugSpec
+    text : str
+        The case file's text.
+    origin : str
+        File name or ``"<string>"``.
+    """
+
+    title: str
+    assembly: Assembly
+    built: BuiltWheelBrake | None
+    materials: dict[str, Material]
+    cell_size: tuple[float, float]
+    min_cells: int
+    duty: DutyCycle
+    length_scales: dict[str, float]
+    initial_temperature: float
+    solver: SolverOptions
+    output: OutputSettings
+    fuse_plugs: tuple[FusePlugSpec, ...]
+    text: str
+    origin: str
+
+    def build_model(self) -> Model:
+        """Mesh the case's assembly."""
+        return Model.build(self.assembly, self.cell_size, self.min_cells, self.materials)
+
+    def resolved(self) -> dict[str, Any]:
+        """The inputs as plain SI values, for the results file."""
+        return {
+            "title": self.title,
+            "cell_size_m": list(self.cell_size),
+            "min_cells": self.min_cells,
+            "initial_temperature_K": self.initial_temperature,
+            "parts": [{f.name: getattr(p, f.name) for f in fields(p)} for p in self.assembly.parts],
+            "probes": [{f.name: getattr(p, f.name) for f in fields(p)} for p in self.assembly.probes],
+            "phases": [
+                {
+                    "name": p.name,
+                    "duration_s": p.duration,
+                    "clamped": p.is_clamped,
+                    "events": [{"name": e.name, "energy_per_brake_J": e.energy_per_brake} for e in p.events],
+                }
+                for p in self.duty.phases
+            ],
+            "limits_K": dict(self.output.limits),
+        }
+
+
+# ------------------------------------------------------------------------ sections
+
+
+def _design(table: _Table) -> WheelBrakeDesign:
+    defaults = WheelBrakeDesign()
+    changes: dict[str, Any] = {}
+    names = tuple(f.name for f in fields(WheelBrakeDesign) if f.name != "fuse_plugs")
+    for key in table.data:
+        if key not in names:
+            continue
+        current = getattr(defaults, key)
+        if isinstance(current, bool):
+            changes[key] = table.boolean(key)
+        elif isinstance(current, int):
+            changes[key] = table.integer(key, minimum=1)
+        elif isinstance(current, str):
+            changes[key] = table.text(key)
+        else:
+            dimension = _design_dimension(key)
+            changes[key] = table.quantity(key, dimension)
+    table.finish(names)
+    try:
+        return defaults.with_changes(**changes)
+    except InputError as exc:
+        raise InputError(f"{table.path}: {exc}") from exc
+
+
+def _design_dimension(key: str) -> str:
+    if key.endswith("_time_constant"):
+        return "time"
+    if key.endswith("_fraction"):
+        return "dimensionless"
+    if key in ("drive_key_conductance",):
+        return "dimensionless"  # W/K: given as a plain number
+    if key.startswith(
+        (
+            "rotor_stator",
+            "stator_torque",
+            "end_plate_flange",
+            "pressure_plate_housing",
+            "housing_torque",
+            "tyre_bead_rim",
+        )
+    ):
+        return "heat_transfer_coefficient"
+    return "length"
+
+
+def _fuse_plugs(tables: list[_Table]) -> tuple[FusePlugSpec, ...]:
+    plugs = []
+    for t in tables:
+        plugs.append(
+            FusePlugSpec(
+                name=t.text("name"),
+                z_fraction=t.quantity("z_fraction", "dimensionless"),
+                depth_fraction=t.quantity("depth_fraction", "dimensionless", 0.5),
+                release_temperature=t.quantity("release_temperature", "temperature", 450.15),
+                tolerance=t.quantity("tolerance", "temperature_difference", 3.0),
+            )
+        )
+        for attr in ("z_fraction", "depth_fraction"):
+            if not 0.0 <= getattr(plugs[-1], attr) <= 1.0:
+                raise InputError(f"{t.where(attr)}: must lie in [0, 1]")
+        t.finish()
+    return tuple(plugs)
+
+
+def _part(t: _Table) -> Part:
+    role = t.text("role", "other")
+    if role not in ROLES:
+        raise InputError(f"{t.where('role')}: {role!r} is not one of {', '.join(ROLES)}")
+    part = Part(
+        t.text("name"),
+        t.text("material"),
+        t.quantity("r_inner", "length"),
+        t.quantity("r_outer", "length"),
+        t.quantity("z_min", "length"),
+        t.quantity("z_max", "length"),
+        role,
+    )
+    t.finish()
+    return part
+
+
+def _probe(t: _Table) -> Probe:
+    probe = Probe(
+        t.text("name"),
+        t.quantity("r", "length"),
+        t.quantity("z", "length"),
+        t.text("part", None),
+        t.quantity("time_constant", "time", 0.0),
+    )
+    t.finish()
+    return probe
+
+
+def _contact(t: _Table) -> Contact:
+    pair_key = "parts" if t.has("parts") else "roles"
+    pair = t.raw(pair_key)
+    if not (isinstance(pair, list) and len(pair) == 2 and all(isinstance(x, str) for x in pair)):
+        raise InputError(f'{t.where(pair_key)}: expected two names, e.g. ["rotor", "stator"]')
+    clamped = t.quantity("clamped", "heat_transfer_coefficient", None)
+    released = t.quantity("released", "heat_transfer_coefficient", None)
+    t.finish(("parts", "roles", "clamped", "released"))
+    return Contact(**{pair_key: tuple(pair)}, clamped=clamped, released=released)
+
+
+def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, dict[str, float], tuple]:
+    builder = table.text("builder", "wheel-brake")
+    if builder not in ("wheel-brake", "none"):
+        raise InputError(f"{table.where('builder')}: expected 'wheel-brake' or 'none', got {builder!r}")
+    parts = [_part(t) for t in table.tables("parts")]
+    probes = [_probe(t) for t in table.tables("probes")]
+    contacts = [_contact(t) for t in table.tables("contacts")]
+    if builder == "none":
+        for key in ("design", "fuse_plugs"):
+            if table.has(key):
+                raise InputError(f"{table.where(key)}: only with builder = 'wheel-brake'")
+        groups_table = table.table("surface_groups", {})
+        groups = {k: groups_table.text(k) for k in groups_table.data}
+        scales_table = table.table("length_scales", {})
+        scales = {k: scales_table.quantity(k, "length") for k in scales_table.data}
+        default_h = table.quantity("default_contact_conductance", "heat_transfer_coefficient", None)
+        distribution = table.text("friction_distribution", "uniform_pressure")
+        table.finish()
+        assembly = Assembly(parts, contacts, probes, default_h, groups, FrictionSettings(distribution))
+        return assembly, None, scales, ()
+    design_table = table.table("design", {})
+    design = _design(design_table)
+    plugs = _fuse_plugs(table.tables("fuse_plugs"))
+    if plugs:
+        design = design.with_changes(fuse_plugs=plugs)
+    table.finish()
+    built = build_wheel_brake(design, extra_parts=parts, extra_probes=probes)
+    assembly = built.assembly
+    if contacts:
+        assembly = Assembly(
+            assembly.parts,
+            [*contacts, *assembly.contacts],
+            assembly.probes,
+            assembly.default_contact_conductance,
+            assembly.surface_groups,
+            assembly.friction,
+            assembly.gap_radiation,
+            assembly.gap_pairs,
+            assembly.links,
+        )
+    return assembly, built, dict(built.length_scales), built.fuse_plugs
+
+
+def _environment(t: _Table) -> Environment:
+    well = None
+    if t.has("wheel_well_air_temperature") or t.has("wheel_well_wall_temperature"):
+        well = (
+            t.quantity("wheel_well_air_temperature", "temperature"),
+            t.quantity("wheel_well_wall_temperature", "temperature"),
+        )
+    env = Environment(
+        ambient_temperature=t.quantity("ambient_temperature", "temperature", 288.15),
+        ambient_pressure=t.quantity("ambient_pressure", "pressure", 101325.0),
+        surroundings_temperature=t.quantity("surroundings_temperature", "temperature", None),
+        ground_speed=t.quantity("ground_speed", "speed", 0.0),
+        wind_speed=t.quantity("wind_speed", "speed", 0.0),
+        fan_speed=t.quantity("fan_speed", "speed", 0.0),
+        wheel_well=well,
+    )
+    t.finish()
+    return env
+
+
+def _event(t: _Table, base: Path) -> BrakingEvent:
+    kind = t.text("kind")
+    if kind not in EVENT_KINDS:
+        close = difflib.get_close_matches(kind, EVENT_KINDS, n=1)
+        hint = f"; did you mean {close[0]!r}?" if close else ""
+        raise InputError(
+            f"{t.where('kind')}: unknown event kind {kind!r}{hint} (kinds: {', '.join(EVENT_KINDS)})"
+        )
+    function = EVENT_KINDS[kind]
+    allowed = tuple(inspect.signature(function).parameters)
+    t.finish(("kind", *allowed))
+    kwargs = {key: value for key, value in t.data.items() if key != "kind"}
+    if isinstance(kwargs.get("path_or_rows"), str):
+        kwargs["path_or_rows"] = str(base / kwargs["path_or_rows"])
+    try:
+        return function(**kwargs)
+    except TypeError as exc:
+        missing = [
+            p.name
+            for p in inspect.signature(function).parameters.values()
+            if p.default is inspect.Parameter.empty and p.name not in kwargs
+        ]
+        raise InputError(f"{t.path}: {kind} needs {', '.join(missing) or 'other keys'} ({exc})") from None
+    except HeatstackError as exc:
+        raise InputError(f"{t.path}: {exc}") from exc
+
+
+def _duty(table: _Table, base: Path) -> DutyCycle:
+    phases = []
+    for t in table.tables("phases"):
+        name = t.text("name")
+        env = _environment(t.table("environment", {}))
+        events = [_event(e, base) for e in t.tables("events")]
+        clamped = t.boolean("clamped", None)
+        duration = t.quantity("duration", "time")
+        t.finish()
+        try:
+            phases.append(DutyPhase(name, duration, env, events, clamped))
+        except InputError as exc:
+            raise InputError(f"{t.path}: {exc}") from exc
+    if not phases:
+        raise InputError(f"{table.where('phases')}: at least one [[duty.phases]] is needed")
+    radius = table.quantity("rolling_radius", "length", 0.5)
+    table.finish()
+    return DutyCycle(phases, radius)
+
+
+def _solver(t: _Table) -> SolverOptions:
+    defaults = SolverOptions()
+    snapshots = t.raw("snapshot_times", [])
+    if not isinstance(snapshots, list):
+        raise InputError(f'{t.where("snapshot_times")}: expected a list such as ["10 min", "1 h"]')
+    times = tuple(
+        to_si(v, None, "time", f"{t.where('snapshot_times')}[{k}]") for k, v in enumerate(snapshots)
+    )
+    options = SolverOptions(
+        target_change=t.quantity("target_change", "temperature_difference", defaults.target_change),
+        initial_step=t.quantity("initial_step", "time", defaults.initial_step),
+        max_step=t.quantity("max_step", "time", defaults.max_step),
+        tolerance=t.quantity("tolerance", "temperature_difference", defaults.tolerance),
+        snapshot_times=times,
+    )
+    t.finish()
+    return options
+
+
+def _output(t: _Table) -> OutputSettings:
+    unit = t.text("temperature_unit", "degC")
+    if unit not in ("degC", "degF", "K"):
+        raise InputError(f"{t.where('temperature_unit')}: expected 'degC', 'degF' or 'K', got {unit!r}")
+    limits_table = t.table("limits", {})
+    limits = {k: limits_table.quantity(k, "temperature") for k in limits_table.data}
+    out = OutputSettings(t.text("file", "results.h5"), t.boolean("plots", True), unit, limits)
+    t.finish()
+    return out
+
+
+def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> Case:
+    """Validate case text into a :class:`Case`.
+
+    Parameters
+    ----------
+    text : str
+        TOML text.
+    origin : str
+        Name used in error messages.
+    base : str or Path
+        Folder against which relative paths in the case (speed traces) are resolved.
+
+    Raises
+    ------
+    InputError
+        Naming the key path and what was expected.
+    """
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{origin}: not valid TOML: {exc}") from None
+    try:
+        return _parse(data, text, origin, Path(base))
+    except InputError as exc:
+        raise type(exc)(f"{origin}: {exc}") from None
+    except HeatstackError as exc:
+        raise InputError(f"{origin}: {exc}") from None
+
+
+def _parse(data: dict, text: str, origin: str, base: Path) -> Case:
+    root = _Table(data, "")
+    head = root.table("case", {})
+    title = head.text("title", "untitled case")
+    initial = head.quantity("initial_temperature", "temperature", 288.15)
+    head.finish()
+    materials_table = root.table("materials", {})
+    materials = {
+        name: material_from_mapping(
+            {"name": name, **dict(_Table(body, f"materials.{name}").data)}, f"materials.{name}"
+        )
+        for name, body in materials_table.data.items()
+    }
+    assembly_table = root.table("assembly", {})
+    cell = assembly_table.quantity("cell_size", "length", 0.004)
+    cell_r = assembly_table.quantity("cell_size_radial", "length", cell)
+    cell_z = assembly_table.quantity("cell_size_axial", "length", cell)
+    min_cells = assembly_table.integer("min_cells", 3, minimum=1)
+    if not (cell_r > 0 and cell_z > 0):
+        raise InputError("assembly.cell_size: must be > 0")
+    assembly, built, scales, plugs = _assembly(assembly_table)
+    duty = _duty(root.table("duty"), base)
+    solver = _solver(root.table("solver", {}))
+    output = _output(root.table("output", {}))
+    root.finish(("case", "materials", "assembly", "duty", "solver", "output"))
+    known = {p.name for p in assembly.probes} | {"heat_sink_mean", "heat_sink_max", "wheel_max"}
+    for name in output.limits:
+        if name not in known:
+            close = difflib.get_close_matches(name, sorted(known), n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else ""
+            raise InputError(f"output.limits.{name}: no probe or series of that name{hint}")
+    return Case(
+        title,
+        assembly,
+        built,
+        materials,
+        (cell_r, cell_z),
+        min_cells,
+        duty,
+        scales,
+        initial,
+        solver,
+        output,
+        plugs,
+        text,
+        origin,
+    )
+
+
+def load_case(path: str | Path) -> Case:
+    """Read and validate a case file."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError(f"case file {str(path)!r} does not exist") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"case file {str(path)!r} cannot be read: {exc}") from None
+    return parse_case(text, path.name, path.parent)
+
+
+def run_case(
+    case: Case, model: Model | None = None, progress: Callable[[float], None] | None = None
+) -> Result:
+    """Mesh (unless ``model`` is given) and run a case.
+
+    ``progress`` is called with the simulated time [s] after every step.
+    """
+    model = model or case.build_model()
+    schedule = case.duty.schedule(case.length_scales)
+    result = model.run(schedule, case.initial_temperature, case.solver, progress)
+    result.metadata.update({"case_title": case.title, "case_origin": case.origin})
+    return result
