@@ -212,3 +212,16 @@ def test_film_beyond_air_fits_warns() -> None:
 def test_bad_inputs_raise_naming_the_field(build, field: str) -> None:
     with pytest.raises(InputError, match=field):
         build()
+
+
+def test_tabulated_law_matches_the_correlation_it_replaces():
+    """The solver's table of h(T_s) (2 K spacing) reproduces the correlation within 0.5 %
+    away from the ambient temperature (reference: the law itself, evaluated directly)."""
+    from heatstack.numerics.tabulated import TabulatedLaw
+    from heatstack.operations.environment import NaturalConvection
+
+    law = NaturalConvection("horizontal_cylinder", 0.44, 288.15)
+    table = TabulatedLaw(law)
+    ts = np.linspace(320.0, 1400.0, 97)
+    np.testing.assert_allclose(table(ts, 0.0), law.convection_coefficient(ts, 0.0), rtol=5e-3)
+    assert table.low <= 320.0 and table.high >= 1400.0 and table.high < 1500.0

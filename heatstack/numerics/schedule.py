@@ -31,6 +31,10 @@ class BoundaryLaw(Protocol):
     The surface loses ``h_conv (T_s - ambient_temperature)`` by convection and, if
     ``radiation`` is true, ``eps sigma (T_s^4 - surroundings_temperature^4)`` by grey
     radiation (emissivity from the part's material).
+
+    A law may set the class attribute ``time_dependent = False`` to declare that its
+    coefficient does not depend on time; the solver then tabulates it over surface
+    temperature (every 2 K) instead of calling it at every Newton iteration.
     """
 
     ambient_temperature: float

@@ -33,6 +33,7 @@ from ..result import EnergyLedger, Result, State
 from .instrument import first_order_lag
 from .network import Network
 from .schedule import Phase, Schedule
+from .tabulated import evaluator
 
 __all__ = ["SolverOptions", "integrate", "STEFAN_BOLTZMANN"]
 
@@ -145,6 +146,7 @@ class _Integrator:
         self.lu_phase: Phase | None = None
         self.stats = {"steps": 0, "rejected_steps": 0, "iterations": 0, "factorisations": 0}
         self._phase_cache: tuple[Phase | None, dict] = (None, {})
+        self._evaluators: dict[int, tuple] = {}
         self.k_stack = np.empty(2 * n)
 
     # ---------------------------------------------------------------- properties
@@ -187,7 +189,7 @@ class _Integrator:
         nf = self.net.face_cell.size
         laws = [phase.law(group) for group in self.net.groups]
         arrays = {
-            "laws": laws,
+            "laws": [self._evaluator(law) for law in laws],
             "ambient": np.empty(nf),
             "surroundings": np.empty(nf),
             "radiates": np.empty(nf),
@@ -200,12 +202,19 @@ class _Integrator:
         self._phase_cache = (phase, arrays)
         return arrays
 
+    def _evaluator(self, law):
+        """One (possibly tabulated) evaluator per law object, shared by the phases using it."""
+        key = id(law)
+        if key not in self._evaluators:
+            self._evaluators[key] = (law, evaluator(law))
+        return self._evaluators[key][1]
+
     def boundary(self, phase: Phase, time: float, surface_t: np.ndarray) -> dict:
         net = self.net
         env = self.phase_arrays(phase)
         h_conv = np.empty(surface_t.size)
-        for law, faces in zip(env["laws"], self.group_faces, strict=True):
-            h_conv[faces] = law.convection_coefficient(surface_t[faces], time)
+        for coefficient, faces in zip(env["laws"], self.group_faces, strict=True):
+            h_conv[faces] = coefficient(surface_t[faces], time)
         # grey radiation linearised on its tangent at the iterate's surface temperature:
         # q = eps sigma (Ts^4 - Tsur^4) ~ h_rad (T - t_rad) with h_rad = 4 eps sigma Ts^3
         eps = env["radiates"] * self.emissivity(self.face_blocks, surface_t)

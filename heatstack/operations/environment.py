@@ -16,7 +16,7 @@ fits are clamped with a :class:`~heatstack.errors.HeatstackWarning` (see
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, Literal
+from typing import Any, ClassVar, Literal
 
 import numpy as np
 
@@ -125,6 +125,8 @@ class NaturalConvection:
     McAdams, W.H., 1954, Heat Transmission, 3rd ed., McGraw-Hill (horizontal plates).
     """
 
+    time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
+
     shape: Shape
     length: float
     ambient_temperature: float
@@ -185,6 +187,8 @@ class CrossFlow:
     Churchill, S.W. and Bernstein, M., 1977, J. Heat Transfer 99, 300-306.
     """
 
+    time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
+
     diameter: float
     air_speed: float
     ambient_temperature: float
@@ -242,6 +246,8 @@ class RotatingDisc:
     Cobb, E.C. and Saunders, O.A., 1956, Proc. R. Soc. Lond. A 236, 343-351.
     """
 
+    time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
+
     radius: float
     angular_speed: float
     ambient_temperature: float
@@ -292,6 +298,8 @@ class FanCooling:
     Incropera, F.P., DeWitt, D.P., Bergman, T.L. and Lavine, A.S., 2007,
     Fundamentals of Heat and Mass Transfer, 6th ed., Wiley, ch. 7.
     """
+
+    time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
 
     length: float
     air_speed: float
@@ -348,6 +356,8 @@ class MixedConvection:
     Churchill, S.W., 1977, A comprehensive correlating equation for laminar,
     assisting, forced and free convection, AIChE J. 23, 10-16.
     """
+
+    time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
 
     natural: BoundaryLaw
     forced: BoundaryLaw
@@ -420,6 +430,8 @@ class WheelWell:
     Mass Transfer 18, 1323-1329 and 1049-1053; McAdams, W.H., 1954, Heat
     Transmission, 3rd ed., McGraw-Hill.
     """
+
+    time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
 
     shape: Shape
     length: float
