@@ -127,9 +127,20 @@ def _resolve_materials(assembly: Assembly, materials: Mapping[str, Material] | N
     return known
 
 
-def _radial_factors(r_a: np.ndarray, r_f: np.ndarray, dz: np.ndarray) -> np.ndarray:
-    """g = |ln(r_f / r_a)| / (2 pi dz): exact radial half-cell resistance times k."""
-    return np.abs(np.log(r_f / r_a)) / (_TWO_PI * dz)
+def _radial_factors(
+    r_a: np.ndarray, r_f: np.ndarray, dz: np.ndarray, on_axis: np.ndarray | bool = False
+) -> np.ndarray:
+    """Radial half-cell resistance times k [1/m].
+
+    ``|ln(r_f / r_a)| / (2 pi dz)`` from the cell centre ``r_a`` to the face ``r_f``: exact
+    for the logarithmic profile of an annulus. A cell on the axis (a solid disc) has no
+    logarithmic profile; its temperature is the mean over the disc, and for the
+    parabolic profile of a solid cylinder the mean lies ``Q / (8 pi k dz)`` above the
+    rim (Incropera 6th ed. sec. 3.5.2, solid cylinder with uniform generation:
+    T(r) = T_s + q R^2 (1 - r^2/R^2) / (4k), whose disc mean is T_s + q R^2 / (8k)).
+    """
+    log_form = np.abs(np.log(r_f / r_a)) / (_TWO_PI * dz)
+    return np.where(on_axis, 1.0 / (8.0 * np.pi * dz), log_form)
 
 
 class _Builder:
@@ -151,7 +162,7 @@ class _Builder:
         # radial neighbours (j, i) - (j, i+1)
         jr, ir = np.nonzero((pm[:, :-1] >= 0) & (pm[:, 1:] >= 0))
         rf = self.re[ir + 1]
-        ga_r = _radial_factors(self.rc[ir], rf, self.dz[jr])
+        ga_r = _radial_factors(self.rc[ir], rf, self.dz[jr], self.re[ir] == 0.0)
         gb_r = _radial_factors(self.rc[ir + 1], rf, self.dz[jr])
         area_r = _TWO_PI * rf * self.dz[jr]
         # axial neighbours (j, i) - (j+1, i)
@@ -219,7 +230,7 @@ class _Builder:
     def _face(self, side: str, j: int, i: int) -> dict:
         if side in ("inner", "outer"):
             r_f = self.re[i] if side == "inner" else self.re[i + 1]
-            g = float(_radial_factors(self.rc[i], r_f, self.dz[j]))
+            g = float(_radial_factors(self.rc[i], r_f, self.dz[j], side == "outer" and self.re[i] == 0.0))
             area, direction = _TWO_PI * r_f * self.dz[j], RADIAL
         else:
             area, direction = self.ring[i], AXIAL

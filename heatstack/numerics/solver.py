@@ -313,7 +313,7 @@ class _Integrator:
             if self._converged(largest, previous_change):
                 T_new, H_new = self._conservative_update(T_star, H_n, b, capacity, inv_dt_v)
                 adjustment = float(np.max(np.abs(T_new - T_star))) if T_new.size else 0.0
-                if adjustment <= 10.0 * opt.tolerance:
+                if adjustment <= max(10.0 * opt.tolerance, 1e-6):
                     heat_in = power * dt + (
                         dt * float(np.sum(volume_source)) if volume_source is not None else 0.0
                     )
@@ -323,8 +323,9 @@ class _Integrator:
                     return self._finish(
                         T_star, T_new, H_new, H_n, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration
                     )
-                # the fluxes at T_star do not yet balance the cells: iterate on, with fresh factors
-                refactor, previous_change = not fresh, None
+                # the fluxes at T_star do not yet balance the cells: iterate on from the
+                # balanced state, with factors of the current coefficients
+                refactor, fresh, previous_change = True, False, None
                 T_star = T_new
             T = T_star
             q_face = bnd["U"] * (T[net.face_cell] - bnd["t_eq"])

@@ -1,0 +1,557 @@
+"""Answers read from a finished run: peaks, delays, sensor offsets, threshold crossings, margins.
+
+Everything here reads a :class:`~heatstack.result.Result` and never re-runs the solver.
+A recorded history is taken as piecewise linear between its record times, the same
+assumption the instrument model makes; times between records are found by linear
+interpolation. A peak is the largest *recorded* value: the true maximum of the smooth
+history lies between the neighbouring records, which every :class:`Peak` states as its
+``bracket``.
+
+Names: a probe name reads the probe's *reading* (after its instrument lag; equal to
+the local temperature for a probe without a time constant); a global series is read by
+its name (``"heat_sink_mean"``, ``"wheel_max"``, ``"surface:tyre cavity"``, ...).
+
+Limits given by a user accept a number in [K] or a string with a unit (``"177 degC"``).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import pint
+
+from ..errors import InputError, UnitError
+from ..result import Result
+from ..units import registry, to_si
+
+__all__ = [
+    "Peak",
+    "SensorLag",
+    "Margin",
+    "CoolingTime",
+    "peak",
+    "sensor_lag",
+    "threshold_crossings",
+    "margins",
+    "cooling_time",
+]
+
+#: Default band [K] within which the sensor reading counts as showing the heat-sink mean.
+DEFAULT_BAND = 10.0
+
+
+# --------------------------------------------------------------------------- answers
+
+
+@dataclass(frozen=True)
+class Peak:
+    """The largest recorded value of one history.
+
+    Attributes
+    ----------
+    name : str
+        Probe or series name.
+    temperature : float
+        Peak temperature [K].
+    time : float
+        Record time of the peak [s].
+    delay_after_braking : float
+        ``time - end_of_heating`` [s]; negative if the peak came before the end of braking.
+    bracket : (float, float)
+        Record times either side of the peak [s]: the maximum of the smooth history lies
+        between them (the resolution of ``time``).
+    """
+
+    name: str
+    temperature: float
+    time: float
+    delay_after_braking: float
+    bracket: tuple[float, float]
+
+
+@dataclass(frozen=True, eq=False)
+class SensorLag:
+    """How far, and for how long, a brake temperature sensor trails the heat sink.
+
+    Attributes
+    ----------
+    sensor : str
+        Probe name.
+    time_constant : float
+        Instrument time constant of the probe [s].
+    end_of_braking : float
+        End of heating of the run [s].
+    reading_peak : float
+        Peak of the reading [K].
+    time_of_peak : float
+        Record time of the reading's peak [s].
+    delay : float
+        Delay of the reading's peak after the end of braking [s].
+    local_peak : float
+        Peak of the local temperature at the sensor point [K].
+    local_time_of_peak : float
+        [s]
+    conduction_delay : float
+        Delay of the local peak after the end of braking [s]: the conduction path from
+        the heat sink to the sensor point.
+    instrument_delay : float
+        ``delay - conduction_delay`` [s]: the instrument's own lag. Each peak time is
+        known to its record bracket, so this split is only as fine as the record
+        spacing near the peaks (see the brackets).
+    peak_bracket, local_peak_bracket : (float, float)
+        Record times either side of the reading's and of the local peak [s].
+    times : ndarray
+        Record times [s].
+    offset_to_mean : ndarray
+        Reading minus ``heat_sink_mean`` [K] at each record time.
+    offset_to_max : ndarray
+        Reading minus ``heat_sink_max`` [K] at each record time.
+    offset_to_mean_at_peak, offset_to_max_at_peak : float
+        The two offsets at the reading's peak [K].
+    band : float
+        Half-width of the band [K] used for ``within_band_time``.
+    within_band_time : float or None
+        First time at or after the end of braking at which the reading is within
+        ``band`` of the heat-sink mean [s]; None if it never is within the record.
+    """
+
+    sensor: str
+    time_constant: float
+    end_of_braking: float
+    reading_peak: float
+    time_of_peak: float
+    delay: float
+    local_peak: float
+    local_time_of_peak: float
+    conduction_delay: float
+    instrument_delay: float
+    peak_bracket: tuple[float, float]
+    local_peak_bracket: tuple[float, float]
+    times: np.ndarray
+    offset_to_mean: np.ndarray
+    offset_to_max: np.ndarray
+    offset_to_mean_at_peak: float
+    offset_to_max_at_peak: float
+    band: float
+    within_band_time: float | None
+
+
+@dataclass(frozen=True)
+class Margin:
+    """Distance of a peak from its limit.
+
+    Attributes
+    ----------
+    name : str
+    limit : float
+        [K]
+    peak : float
+        Largest recorded value [K].
+    margin : float
+        ``limit - peak`` [K]; negative when the limit is exceeded.
+    time_of_peak : float
+        [s]
+    exceeded : bool
+        Whether the peak is above the limit (``margin < 0``).
+    """
+
+    name: str
+    limit: float
+    peak: float
+    margin: float
+    time_of_peak: float
+    exceeded: bool
+
+
+@dataclass(frozen=True)
+class CoolingTime:
+    """When a history falls below a temperature for good (within the record).
+
+    Attributes
+    ----------
+    name : str
+    below : float
+        The temperature [K].
+    start : float
+        Time the count starts from [s].
+    reached : bool
+        Whether the history is below ``below`` at the end of the record and has stayed
+        below from ``time_below`` on. False means: not within the recorded history (a
+        longer run is needed); ``time_below`` and ``duration`` are then None.
+    time_below : float or None
+        Time [s] after which the history stays below ``below`` to the end of the record.
+    duration : float or None
+        ``time_below - start`` [s].
+    record_end : float
+        Last record time [s]: "stays below" is known only up to here.
+    value_at_record_end : float
+        [K]
+    """
+
+    name: str
+    below: float
+    start: float
+    reached: bool
+    time_below: float | None
+    duration: float | None
+    record_end: float
+    value_at_record_end: float
+
+
+# --------------------------------------------------------------------------- shared helpers
+
+
+def _frozen(values: np.ndarray) -> np.ndarray:
+    out = np.array(values, dtype=float, copy=True)
+    out.setflags(write=False)
+    return out
+
+
+def _times(result: Result) -> np.ndarray:
+    """The record times, checked: at least two, finite, strictly increasing."""
+    times = np.asarray(result.times, dtype=float)
+    if times.ndim != 1 or times.size < 2:
+        raise InputError(f"result: too few record points ({times.size}); at least 2 are needed")
+    if not np.all(np.isfinite(times)) or np.any(np.diff(times) <= 0):
+        raise InputError("result: record times must be finite and strictly increasing")
+    return times
+
+
+def _checked(result: Result, name: str, values: np.ndarray) -> np.ndarray:
+    values = np.asarray(values, dtype=float)
+    if values.shape != np.shape(result.times):
+        raise InputError(f"{name!r}: {values.size} values for {np.size(result.times)} record times")
+    if not np.all(np.isfinite(values)):
+        raise InputError(f"{name!r}: the recorded history holds non-finite values")
+    return values
+
+
+def _known(result: Result) -> str:
+    return f"known probes: {sorted(result.readings)}; known series: {sorted(result.series)}"
+
+
+def _history(result: Result, name: str) -> np.ndarray:
+    """A probe's reading or a global series, by name; an error lists the known names."""
+    _times(result)
+    if name in result.readings:
+        return _checked(result, name, result.readings[name])
+    if name in result.series:
+        return _checked(result, name, result.series[name])
+    raise InputError(f"no probe or series named {name!r}; {_known(result)}")
+
+
+def _local(result: Result, name: str, field: str = "probe") -> np.ndarray:
+    """The local temperature at a probe point, by name."""
+    _times(result)
+    if name not in result.probes:
+        raise InputError(f"{field}: no probe named {name!r}; known probes: {sorted(result.probes)}")
+    return _checked(result, name, result.probes[name])
+
+
+def _temperature(value: Any, field: str) -> float:
+    """A user temperature limit [K] (number in K or string with a unit)."""
+    out = to_si(value, None, "temperature", field)
+    if not np.isfinite(out) or out <= 0:
+        raise InputError(f"{field}: must be a finite absolute temperature > 0 K, got {out} K")
+    return out
+
+
+def _difference(value: Any, field: str) -> float:
+    """A user temperature difference [K], >= 0."""
+    out = to_si(value, None, "temperature_difference", field)
+    if not np.isfinite(out) or out < 0:
+        raise InputError(f"{field}: must be a finite temperature difference >= 0 K, got {out} K")
+    return out
+
+
+def _to_si_unit(value: Any, si_unit: str, field: str) -> float:
+    """Convert to ``si_unit`` a quantity whose dimension :data:`heatstack.units.SI_UNITS` lacks.
+
+    A bare number is taken as already in ``si_unit``.
+    """
+    reg = registry()
+    if isinstance(value, str):
+        try:
+            quantity = reg.Quantity(value)
+        except Exception as exc:  # pint raises several unrelated exception types
+            raise UnitError(f"{field}: cannot read {value!r} as a quantity with a unit") from exc
+    elif isinstance(value, pint.Quantity):
+        quantity = value
+    else:
+        try:
+            return float(value)
+        except (TypeError, ValueError) as exc:
+            raise UnitError(f"{field}: expected a number, got {value!r}") from exc
+    try:
+        return float(quantity.to(si_unit).magnitude)
+    except pint.DimensionalityError as exc:
+        raise UnitError(f"{field}: expected a quantity in {si_unit}, got {quantity.units:~}") from exc
+
+
+def _peak_of(name: str, times: np.ndarray, values: np.ndarray, end_of_heating: float) -> Peak:
+    k = int(np.argmax(values))
+    bracket = (float(times[max(k - 1, 0)]), float(times[min(k + 1, times.size - 1)]))
+    return Peak(name, float(values[k]), float(times[k]), float(times[k] - end_of_heating), bracket)
+
+
+def _crossings(times: np.ndarray, values: np.ndarray, level: float) -> list[tuple[float, str]]:
+    """Times where a piecewise-linear history reaches (>=) or leaves ``level``."""
+    above = values >= level
+    out = []
+    for k in np.flatnonzero(above[1:] != above[:-1]):
+        v0, v1 = values[k], values[k + 1]
+        t = times[k] + (level - v0) / (v1 - v0) * (times[k + 1] - times[k])
+        out.append((float(t), "up" if above[k + 1] else "down"))
+    return out
+
+
+def _first_reach(times: np.ndarray, values: np.ndarray, level: float) -> float | None:
+    """First time a piecewise-linear history is at or above ``level`` [s]; None if never."""
+    if values[0] >= level:
+        return float(times[0])
+    ups = [t for t, direction in _crossings(times, values, level) if direction == "up"]
+    return ups[0] if ups else None
+
+
+def _from(times: np.ndarray, values: np.ndarray, start: float) -> tuple[np.ndarray, np.ndarray]:
+    """The history from ``start`` on, with the interpolated value at ``start`` first."""
+    keep = times > start
+    return (
+        np.concatenate(([start], times[keep])),
+        np.concatenate(([np.interp(start, times, values)], values[keep])),
+    )
+
+
+def _time(result: Result, value: Any, field: str) -> float:
+    times = _times(result)
+    t = to_si(value, None, "time", field)
+    if not np.isfinite(t) or not times[0] <= t <= times[-1]:
+        raise InputError(f"{field}: {t} s lies outside the record [{times[0]}, {times[-1]}] s")
+    return t
+
+
+# --------------------------------------------------------------------------- public answers
+
+
+def peak(result: Result, name: str) -> Peak:
+    """The peak of a probe reading or a global series, and its delay after braking.
+
+    Parameters
+    ----------
+    result : Result
+    name : str
+        Probe name (its reading) or series name.
+
+    Returns
+    -------
+    Peak
+
+    Raises
+    ------
+    InputError
+        Unknown name (the message lists the known ones) or fewer than two records.
+    """
+    values = _history(result, name)
+    return _peak_of(name, _times(result), values, float(result.end_of_heating))
+
+
+def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND) -> SensorLag:
+    """Delay and offset of a brake temperature sensor against the heat sink.
+
+    The delay of the reading's peak after the end of braking is split into the
+    conduction path (delay of the local temperature's peak at the sensor point) and the
+    instrument's own lag (the rest). The offsets compare the reading with the
+    heat-sink mean (the "true" heat-sink temperature) and the hottest heat-sink cell.
+
+    Parameters
+    ----------
+    result : Result
+        Must hold the series ``heat_sink_mean`` and ``heat_sink_max``.
+    sensor : str
+        Probe name.
+    band : float or str
+        Half-width [K] (a temperature difference) of the band around the heat-sink mean
+        for ``within_band_time``.
+
+    Returns
+    -------
+    SensorLag
+
+    Raises
+    ------
+    InputError
+        Unknown sensor, missing heat-sink series, bad band, too few records.
+    """
+    times = _times(result)
+    band_k = _difference(band, "band")
+    reading = _history(result, sensor)
+    local = _local(result, sensor, "sensor")
+    for series in ("heat_sink_mean", "heat_sink_max"):
+        if series not in result.series:
+            raise InputError(
+                f"sensor_lag needs the series {series!r}, absent from this result "
+                f"(no heat-sink parts?); known series: {sorted(result.series)}"
+            )
+    mean = _checked(result, "heat_sink_mean", result.series["heat_sink_mean"])
+    hottest = _checked(result, "heat_sink_max", result.series["heat_sink_max"])
+    end = float(result.end_of_heating)
+    read_peak = _peak_of(sensor, times, reading, end)
+    local_peak = _peak_of(sensor, times, local, end)
+    to_mean, to_max = reading - mean, reading - hottest
+    k = int(np.argmax(reading))
+    return SensorLag(
+        sensor=sensor,
+        time_constant=float(result.probe_time_constants.get(sensor, 0.0)),
+        end_of_braking=end,
+        reading_peak=read_peak.temperature,
+        time_of_peak=read_peak.time,
+        delay=read_peak.delay_after_braking,
+        local_peak=local_peak.temperature,
+        local_time_of_peak=local_peak.time,
+        conduction_delay=local_peak.delay_after_braking,
+        instrument_delay=read_peak.time - local_peak.time,
+        peak_bracket=read_peak.bracket,
+        local_peak_bracket=local_peak.bracket,
+        times=_frozen(times),
+        offset_to_mean=_frozen(to_mean),
+        offset_to_max=_frozen(to_max),
+        offset_to_mean_at_peak=float(to_mean[k]),
+        offset_to_max_at_peak=float(to_max[k]),
+        band=band_k,
+        within_band_time=_first_within(times, to_mean, band_k, min(max(end, times[0]), times[-1])),
+    )
+
+
+def _first_within(times: np.ndarray, offset: np.ndarray, band: float, start: float) -> float | None:
+    """First time >= ``start`` with ``|offset| <= band`` (offset piecewise linear); None if never."""
+    t, d = _from(times, offset, start)
+    if abs(d[0]) <= band:
+        return float(t[0])
+    for k in range(t.size - 1):
+        # |d[k]| > band here (else the previous interval returned); enter through an edge
+        d0, d1 = d[k], d[k + 1]
+        if d0 > band >= d1:
+            return float(t[k] + (band - d0) / (d1 - d0) * (t[k + 1] - t[k]))
+        if d0 < -band <= d1:
+            return float(t[k] + (-band - d0) / (d1 - d0) * (t[k + 1] - t[k]))
+    return None
+
+
+def threshold_crossings(result: Result, name: str, limit: Any) -> list[tuple[float, str]]:
+    """Times at which a history reaches or leaves a temperature, by linear interpolation.
+
+    A history is "above" where it is at or above ``limit``; ``"up"`` marks the change
+    to above, ``"down"`` the change back. A history that only touches ``limit`` at one
+    record gives an up and a down at the same time.
+
+    Parameters
+    ----------
+    result : Result
+    name : str
+        Probe name (its reading) or series name.
+    limit : float or str
+        Temperature [K], or a string with a unit (``"177 degC"``).
+
+    Returns
+    -------
+    list of (float, str)
+        ``(time [s], "up" | "down")`` in time order; empty if the history never crosses.
+
+    Raises
+    ------
+    InputError, UnitError
+        Unknown name, a limit that is not a temperature, too few records.
+    """
+    level = _temperature(limit, "limit")
+    return _crossings(_times(result), _history(result, name), level)
+
+
+def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
+    """Margin of each named history to its limit: ``limit - peak``.
+
+    Parameters
+    ----------
+    result : Result
+    limits : mapping of str to float or str
+        Probe or series name -> temperature limit [K] (or a string with a unit).
+
+    Returns
+    -------
+    list of Margin
+        In the order of ``limits``.
+
+    Raises
+    ------
+    InputError, UnitError
+        No limits, an unknown name, a limit that is not a temperature.
+    """
+    if not limits:
+        raise InputError("limits: give at least one name -> limit")
+    out = []
+    times = _times(result)
+    for name, value in limits.items():
+        limit = _temperature(value, f"limits[{name!r}]")
+        values = _history(result, name)
+        k = int(np.argmax(values))
+        top = float(values[k])
+        out.append(Margin(name, limit, top, limit - top, float(times[k]), bool(top > limit)))
+    return out
+
+
+def cooling_time(result: Result, name: str, below: Any, after: Any = None) -> CoolingTime:
+    """Time until a history falls below a temperature and stays below, from the record.
+
+    Parameters
+    ----------
+    result : Result
+    name : str
+        Probe name (its reading) or series name.
+    below : float or str
+        Temperature [K] (or a string with a unit).
+    after : None, "peak", float or str
+        Start of the count: the end of braking (None), the history's own peak
+        (``"peak"``), or a time [s] within the record.
+
+    Returns
+    -------
+    CoolingTime
+        ``reached`` is False when the history is not below ``below`` at the end of the
+        record: the answer is then not within the recorded history.
+
+    Raises
+    ------
+    InputError, UnitError
+        Unknown name, a bad temperature or start time, too few records.
+    """
+    times = _times(result)
+    values = _history(result, name)
+    level = _temperature(below, "below")
+    if after is None:
+        start = min(max(float(result.end_of_heating), times[0]), times[-1])
+    elif isinstance(after, str) and after == "peak":
+        start = float(times[int(np.argmax(values))])
+    else:
+        start = _time(result, after, "after")
+    t, v = _from(times, values, start)
+    end_value = float(v[-1])
+    if end_value >= level:
+        return CoolingTime(name, level, start, False, None, None, float(t[-1]), end_value)
+    at_or_above = np.flatnonzero(v >= level)
+    if at_or_above.size == 0:
+        when = start
+    else:
+        k = int(at_or_above[-1])
+        when = float(t[k] + (level - v[k]) / (v[k + 1] - v[k]) * (t[k + 1] - t[k]))
+    return CoolingTime(name, level, start, True, when, when - start, float(t[-1]), end_value)
+
+
+def _names(names: Sequence[str], field: str) -> tuple[str, ...]:
+    if isinstance(names, str):
+        return (names,)
+    out = tuple(names)
+    if not out:
+        raise InputError(f"{field}: give at least one name")
+    return out

@@ -1,0 +1,230 @@
+"""Fuse plugs (thermal relief plugs): does a plug in the rim release, when, and by what margin.
+
+A fuse plug is a threaded insert in the wheel rim whose core is a fusible alloy; when
+the rim gets hot enough the alloy melts and the tyre gas escapes before the heat can
+weaken the wheel or the tyre burst. Here the plug's temperature is the local rim
+temperature at the plug's probe, passed through the plug's own first-order lag
+(``tau dT_plug/dt = T_rim - T_plug``; ``tau = 0`` for a plug that follows the rim).
+
+Melt temperatures: typical fusible alloys for wheel thermal relief plugs melt at about
+177-199 degC, some at about 227 degC (from memory; no standard is cited here). Those
+figures match eutectic points of tin alloys: tin-cadmium about 177 degC, tin-zinc about
+199 degC, tin-copper about 227 degC (from memory). The builder's default release
+temperature, 450.15 K (177 degC), lies at the low end of that range.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from ..builders import FusePlugSpec
+from ..errors import InputError
+from ..numerics.instrument import first_order_lag
+from ..result import Result
+from ..units import to_si
+from .analysis import _difference, _first_reach, _local, _temperature, _times, _to_si_unit
+
+__all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs"]
+
+
+@dataclass(frozen=True)
+class FusePlug:
+    """A fuse plug as the answers layer sees it: where, at what temperature, how slow.
+
+    Parameters
+    ----------
+    name : str
+        Name of the probe at the plug (e.g. ``"fuse plug 1"``).
+    release_temperature : float or str
+        Nominal melt (release) temperature of the fusible alloy [K] (or a string with a
+        unit, e.g. ``"177 degC"``).
+    tolerance : float or str
+        Half-width of the release band [K] (a temperature difference), >= 0.
+    time_constant : float or str
+        First-order lag of the plug behind the local rim temperature [s], >= 0.
+
+    Raises
+    ------
+    InputError, UnitError
+        A value of the wrong unit or out of range; the message names the plug and field.
+    """
+
+    name: str
+    release_temperature: float
+    tolerance: float
+    time_constant: float = 0.0
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.name, str) or not self.name:
+            raise InputError(f"fuse plug: name must be a non-empty string, got {self.name!r}")
+        where = f"fuse plug {self.name!r}"
+        tau = to_si(self.time_constant, None, "time", f"{where}: time_constant")
+        if not np.isfinite(tau) or tau < 0:
+            raise InputError(f"{where}: time_constant must be finite and >= 0 s, got {tau} s")
+        object.__setattr__(
+            self,
+            "release_temperature",
+            _temperature(self.release_temperature, f"{where}: release_temperature"),
+        )
+        object.__setattr__(self, "tolerance", _difference(self.tolerance, f"{where}: tolerance"))
+        object.__setattr__(self, "time_constant", tau)
+
+    @classmethod
+    def from_thermal_mass(
+        cls,
+        name: str,
+        release_temperature: Any,
+        tolerance: Any,
+        mass: Any,
+        specific_heat: Any,
+        contact_conductance: Any,
+    ) -> FusePlug:
+        """A plug whose lag comes from its heat capacity and its contact with the rim.
+
+        ``tau = m c / G``: a lumped body exchanging heat with the rim through ``G``.
+
+        Parameters
+        ----------
+        name : str
+        release_temperature : float or str
+            [K]
+        tolerance : float or str
+            [K]
+        mass : float or str
+            Mass of the plug [kg], > 0.
+        specific_heat : float or str
+            [J/(kg K)], > 0.
+        contact_conductance : float or str
+            Thermal conductance from the rim to the plug's fusible core [W/K], > 0.
+
+        Returns
+        -------
+        FusePlug
+
+        References
+        ----------
+        Incropera, DeWitt, Bergman & Lavine, Fundamentals of Heat and Mass Transfer,
+        6th ed., eq. 5.7: the thermal time constant of a lumped body, capacitance over
+        conductance (from memory).
+        """
+        where = f"fuse plug {name!r}"
+        m = to_si(mass, None, "mass", f"{where}: mass")
+        c = to_si(specific_heat, None, "specific_heat", f"{where}: specific_heat")
+        g = _to_si_unit(contact_conductance, "W/K", f"{where}: contact_conductance")
+        for field, value in (("mass", m), ("specific_heat", c), ("contact_conductance", g)):
+            if not np.isfinite(value) or value <= 0:
+                raise InputError(f"{where}: {field} must be finite and > 0, got {value}")
+        return cls(name, release_temperature, tolerance, m * c / g)
+
+    @classmethod
+    def from_spec(cls, spec: FusePlugSpec, time_constant: Any = 0.0) -> FusePlug:
+        """The plug of a built wheel (:class:`~heatstack.builders.FusePlugSpec`)."""
+        return cls(spec.name, spec.release_temperature, spec.tolerance, time_constant)
+
+
+@dataclass(frozen=True)
+class PlugAnswer:
+    """What one fuse plug does over the record.
+
+    Attributes
+    ----------
+    name : str
+    peak : float
+        Peak plug temperature [K].
+    time_of_peak : float
+        [s]
+    release_time : float or None
+        First time the plug temperature reaches ``release_temperature`` [s]; None if it
+        never does within the record.
+    margin : float
+        ``release_temperature - peak`` [K]; <= 0 when the plug releases.
+    margin_to_band_low : float
+        ``release_temperature - tolerance - peak`` [K]: <= 0 means a plug at the low end
+        of its tolerance band would release.
+    releases : bool
+        Whether the nominal release temperature is reached.
+    earliest_release_time : float or None
+        First time the plug reaches the low end of its band [s]; None if never.
+    release_temperature, tolerance, time_constant : float
+        The plug's data [K], [K], [s].
+    """
+
+    name: str
+    peak: float
+    time_of_peak: float
+    release_time: float | None
+    margin: float
+    margin_to_band_low: float
+    releases: bool
+    earliest_release_time: float | None
+    release_temperature: float
+    tolerance: float
+    time_constant: float
+
+
+def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) -> list[PlugAnswer]:
+    """Peak, margin and release time of each fuse plug.
+
+    The plug temperature is the local rim temperature at the plug's probe (not the
+    probe reading) passed through the plug's own first-order lag, integrated exactly for
+    a history piecewise linear between records
+    (:func:`heatstack.numerics.instrument.first_order_lag`).
+
+    Parameters
+    ----------
+    result : Result
+    plugs : sequence of FusePlug or FusePlugSpec
+        The plugs; a ``FusePlugSpec`` (e.g. from ``build_wheel_brake().fuse_plugs``) is
+        taken with no lag of its own. The result does not record the plugs of the
+        design that was run: pass that design's plugs.
+
+    Returns
+    -------
+    list of PlugAnswer
+        In the order of ``plugs``.
+
+    Raises
+    ------
+    InputError
+        No plugs, a plug whose probe the result lacks (the message lists the known
+        probes), too few records.
+    """
+    if isinstance(plugs, FusePlug | FusePlugSpec):
+        plugs = [plugs]
+    if not plugs:
+        raise InputError("plugs: give at least one fuse plug")
+    times = _times(result)
+    out = []
+    for item in plugs:
+        if isinstance(item, FusePlugSpec):
+            plug = FusePlug.from_spec(item)
+        elif isinstance(item, FusePlug):
+            plug = item
+        else:
+            raise InputError(f"plugs: expected FusePlug or FusePlugSpec, got {type(item).__name__}")
+        local = _local(result, plug.name, f"fuse plug {plug.name!r}")
+        temperature = first_order_lag(times, local, plug.time_constant)
+        k = int(np.argmax(temperature))
+        top = float(temperature[k])
+        release = _first_reach(times, temperature, plug.release_temperature)
+        low = plug.release_temperature - plug.tolerance
+        out.append(
+            PlugAnswer(
+                name=plug.name,
+                peak=top,
+                time_of_peak=float(times[k]),
+                release_time=release,
+                margin=plug.release_temperature - top,
+                margin_to_band_low=low - top,
+                releases=release is not None,
+                earliest_release_time=_first_reach(times, temperature, low),
+                release_temperature=plug.release_temperature,
+                tolerance=plug.tolerance,
+                time_constant=plug.time_constant,
+            )
+        )
+    return out

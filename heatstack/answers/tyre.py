@@ -1,0 +1,387 @@
+"""The tyre after braking: gas temperature and pressure in the cavity, and bead seat margins.
+
+The tyre gas is one lumped node heated by the rim exterior inside the tyre cavity (the
+area-mean temperature of the surface group ``"tyre cavity"``) and, optionally, losing
+heat through the tyre carcass to the ambient air::
+
+    m c_v dT_g/dt = h A (T_rim - T_g) - G_out (T_g - T_amb)
+
+at constant volume (the growth of the tyre with pressure is ignored), so
+``p = p_cold T_g / T_cold`` in absolute temperatures and absolute pressures.
+
+The coupling is one-way: the gas temperature does not feed back into the conduction
+solve (the rim's tyre-cavity surface keeps the cooling law of the run). That is
+acceptable because the gas takes little heat: its capacity ``m c_v`` is about 0.7 kJ/K
+per kilogram of nitrogen, against tens of kJ/K in a wheel and more in a heat sink.
+:attr:`TyreGas.heat_absorbed` states the heat it took, to compare with the braking energy.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from ..errors import InputError
+from ..numerics.instrument import first_order_lag
+from ..result import Result
+from ..units import to_si
+from .analysis import (
+    Margin,
+    _checked,
+    _first_reach,
+    _frozen,
+    _names,
+    _temperature,
+    _times,
+    _to_si_unit,
+    margins,
+)
+from .fuse_plugs import PlugAnswer
+
+__all__ = [
+    "NITROGEN_GAS_CONSTANT",
+    "NITROGEN_CV",
+    "TyreGas",
+    "PressureMargin",
+    "PlugVersusPressure",
+    "tyre_gas",
+    "tyre_pressure_margin",
+    "plug_releases_before_limit",
+    "bead_seat_margin",
+]
+
+#: Specific gas constant of nitrogen [J/(kg K)]: 8.314462618 / 0.0280134 (from memory).
+NITROGEN_GAS_CONSTANT = 296.8
+#: Specific heat at constant volume of nitrogen near 300 K [J/(kg K)]: c_p 1041 - R (from memory).
+NITROGEN_CV = 743.0
+#: Standard sea-level atmospheric pressure [Pa].
+STANDARD_PRESSURE = 101325.0
+#: The series read as the rim exterior inside the tyre cavity.
+CAVITY_SERIES = "surface:tyre cavity"
+
+
+@dataclass(frozen=True, eq=False)
+class TyreGas:
+    """History of the tyre gas over the record. Pressures are absolute.
+
+    Attributes
+    ----------
+    times : ndarray
+        [s]
+    temperature : ndarray
+        Gas temperature [K].
+    pressure : ndarray
+        Absolute gas pressure [Pa].
+    peak_pressure : float
+        Largest recorded absolute pressure [Pa].
+    time_of_peak : float
+        [s]
+    peak_temperature : float
+        [K]
+    cold_pressure : float
+        Absolute cold inflation pressure [Pa].
+    cold_temperature : float
+        Gas temperature at which ``cold_pressure`` holds [K].
+    ambient_pressure : float
+        [Pa], for gauge values.
+    gas_mass : float
+        [kg]
+    time_constant : float
+        ``m c_v / (h A + G_out)`` [s]; infinite with no heat exchange.
+    heat_absorbed : float
+        Largest heat held by the gas above its initial state, ``m c_v (max T_g - T_g(t0))``
+        [J]: the heat the one-way coupling leaves out of the conduction solve.
+    """
+
+    times: np.ndarray
+    temperature: np.ndarray
+    pressure: np.ndarray
+    peak_pressure: float
+    time_of_peak: float
+    peak_temperature: float
+    cold_pressure: float
+    cold_temperature: float
+    ambient_pressure: float
+    gas_mass: float
+    time_constant: float
+    heat_absorbed: float
+
+    @property
+    def gauge_pressure(self) -> np.ndarray:
+        """Pressure above the ambient [Pa]."""
+        return self.pressure - self.ambient_pressure
+
+
+@dataclass(frozen=True)
+class PressureMargin:
+    """Distance of the peak tyre pressure from a limit; pressures absolute [Pa].
+
+    Attributes
+    ----------
+    limit : float
+        [Pa], absolute.
+    peak_pressure : float
+        [Pa], absolute.
+    margin : float
+        ``limit - peak_pressure`` [Pa]; negative when exceeded.
+    exceeded : bool
+    time_limit_reached : float or None
+        First time the pressure reaches the limit [s]; None if never.
+    """
+
+    limit: float
+    peak_pressure: float
+    margin: float
+    exceeded: bool
+    time_limit_reached: float | None
+
+
+@dataclass(frozen=True)
+class PlugVersusPressure:
+    """Whether a fuse plug releases before the tyre pressure reaches a limit.
+
+    Attributes
+    ----------
+    releases_first : bool
+        True if some plug releases and the pressure limit is not reached before it
+        (or never). False if no plug releases, or the limit comes first (or at the
+        same time).
+    plug : str or None
+        The first plug to release.
+    release_time : float or None
+        [s]
+    limit_time : float or None
+        First time the pressure reaches the limit [s]; None if never.
+    limit : float
+        [Pa], absolute.
+    """
+
+    releases_first: bool
+    plug: str | None
+    release_time: float | None
+    limit_time: float | None
+    limit: float
+
+
+def _positive(value: float, field: str, allow_zero: bool = False) -> float:
+    if not np.isfinite(value) or value < 0 or (value == 0 and not allow_zero):
+        sign = ">= 0" if allow_zero else "> 0"
+        raise InputError(f"{field}: must be finite and {sign}, got {value}")
+    return value
+
+
+def _absolute(value: Any, gauge: bool, ambient_pressure: float, field: str) -> float:
+    p = to_si(value, None, "pressure", field) + (ambient_pressure if gauge else 0.0)
+    if not np.isfinite(p) or p <= 0:
+        kind = "gauge" if gauge else "absolute"
+        raise InputError(f"{field}: an absolute pressure > 0 Pa is needed; {value!r} ({kind}) gives {p} Pa")
+    return p
+
+
+def tyre_gas(
+    result: Result,
+    cold_pressure: Any,
+    gas_volume: Any,
+    cavity_area: Any,
+    h_cavity: Any,
+    cold_temperature: Any,
+    outer_conductance: Any = 0.0,
+    ambient: Any = None,
+    *,
+    gauge: bool = True,
+    ambient_pressure: Any = STANDARD_PRESSURE,
+    initial_temperature: Any = None,
+    gas_constant: float = NITROGEN_GAS_CONSTANT,
+    cv: float = NITROGEN_CV,
+) -> TyreGas:
+    """Temperature and pressure of the tyre gas, heated by the rim inside the tyre cavity.
+
+    The gas is a lumped node (see the module text); the forcing ``T_rim`` is the series
+    ``"surface:tyre cavity"`` of ``result``, piecewise linear between records, and the
+    first-order equation is integrated exactly over each record interval. The coupling
+    is one-way: the gas does not feed back into the conduction solve (acceptable because
+    the gas takes little heat).
+
+    Parameters
+    ----------
+    result : Result
+        Must hold the series ``"surface:tyre cavity"``.
+    cold_pressure : float or str
+        Cold inflation pressure [Pa]: GAUGE by default (as inflation pressures are
+        quoted), absolute with ``gauge=False``. Gauge values have ``ambient_pressure``
+        added.
+    gas_volume : float or str
+        Gas volume of the tyre [m^3], > 0.
+    cavity_area : float or str
+        Rim area wetted by the tyre gas [m^2], > 0.
+    h_cavity : float or str
+        Heat transfer coefficient rim -> gas [W/(m^2 K)], >= 0.
+    cold_temperature : float or str
+        Gas temperature at which ``cold_pressure`` holds [K]; also the gas temperature at
+        the start of the record unless ``initial_temperature`` is given.
+    outer_conductance : float or str
+        Conductance gas -> ambient through the tyre carcass [W/K], >= 0.
+    ambient : float or str, optional
+        Air temperature for ``outer_conductance`` [K]; ``cold_temperature`` by default.
+    gauge : bool
+        Whether ``cold_pressure`` is a gauge pressure.
+    ambient_pressure : float or str
+        [Pa]; 101325 Pa by default.
+    initial_temperature : float or str, optional
+        Gas temperature at the first record [K].
+    gas_constant, cv : float
+        Specific gas constant and specific heat at constant volume [J/(kg K)]; nitrogen by
+        default (296.8 and 743, from memory).
+
+    Returns
+    -------
+    TyreGas
+
+    Raises
+    ------
+    InputError, UnitError
+        Missing cavity series, a value of the wrong unit or out of range (the message
+        names the field), too few records.
+
+    References
+    ----------
+    Exact solution of ``tau dy/dt = x - y`` for ``x`` linear over an interval, as in
+    :func:`heatstack.numerics.instrument.first_order_lag`, plus the decay of the initial
+    difference ``(y0 - x0) exp(-(t - t0) / tau)`` (linear superposition).
+    Ideal gas at constant volume, ``p2 / p1 = T2 / T1`` (Gay-Lussac; any thermodynamics
+    text, e.g. Cengel & Boles, Thermodynamics: An Engineering Approach, ch. 3, from memory).
+    """
+    times = _times(result)
+    if CAVITY_SERIES not in result.series:
+        raise InputError(
+            f"tyre_gas needs the series {CAVITY_SERIES!r} (rim exterior inside the tyre cavity); "
+            f"known series: {sorted(result.series)}"
+        )
+    rim = _checked(result, CAVITY_SERIES, result.series[CAVITY_SERIES])
+    p_amb = _positive(to_si(ambient_pressure, None, "pressure", "ambient_pressure"), "ambient_pressure")
+    p_cold = _absolute(cold_pressure, gauge, p_amb, "cold_pressure")
+    volume = _positive(_to_si_unit(gas_volume, "m**3", "gas_volume"), "gas_volume")
+    area = _positive(to_si(cavity_area, None, "area", "cavity_area"), "cavity_area")
+    h = _positive(to_si(h_cavity, None, "heat_transfer_coefficient", "h_cavity"), "h_cavity", True)
+    g_out = _positive(_to_si_unit(outer_conductance, "W/K", "outer_conductance"), "outer_conductance", True)
+    t_cold = _temperature(cold_temperature, "cold_temperature")
+    t_amb = t_cold if ambient is None else _temperature(ambient, "ambient")
+    t_init = (
+        t_cold if initial_temperature is None else _temperature(initial_temperature, "initial_temperature")
+    )
+    _positive(gas_constant, "gas_constant")
+    _positive(cv, "cv")
+
+    mass = p_cold * volume / (gas_constant * t_cold)
+    conductance = h * area + g_out
+    if conductance == 0.0:
+        tau = float("inf")
+        gas = np.full(times.size, t_init)
+    else:
+        tau = mass * cv / conductance
+        drive = (h * area * rim + g_out * t_amb) / conductance
+        gas = first_order_lag(times, drive, tau) + (t_init - drive[0]) * np.exp(-(times - times[0]) / tau)
+    pressure = p_cold * gas / t_cold
+    k = int(np.argmax(pressure))
+    return TyreGas(
+        times=_frozen(times),
+        temperature=_frozen(gas),
+        pressure=_frozen(pressure),
+        peak_pressure=float(pressure[k]),
+        time_of_peak=float(times[k]),
+        peak_temperature=float(np.max(gas)),
+        cold_pressure=p_cold,
+        cold_temperature=t_cold,
+        ambient_pressure=p_amb,
+        gas_mass=mass,
+        time_constant=tau,
+        heat_absorbed=float(mass * cv * (np.max(gas) - gas[0])),
+    )
+
+
+def tyre_pressure_margin(gas: TyreGas, limit: Any, gauge: bool = True) -> PressureMargin:
+    """Margin of the peak tyre pressure to a limit.
+
+    Parameters
+    ----------
+    gas : TyreGas
+    limit : float or str
+        Pressure limit [Pa]: gauge by default (``gas.ambient_pressure`` is added),
+        absolute with ``gauge=False``.
+    gauge : bool
+
+    Returns
+    -------
+    PressureMargin
+        Pressures absolute.
+    """
+    p_limit = _absolute(limit, gauge, gas.ambient_pressure, "limit")
+    return PressureMargin(
+        limit=p_limit,
+        peak_pressure=gas.peak_pressure,
+        margin=p_limit - gas.peak_pressure,
+        exceeded=bool(gas.peak_pressure > p_limit),
+        time_limit_reached=_first_reach(gas.times, gas.pressure, p_limit),
+    )
+
+
+def plug_releases_before_limit(
+    plug_answers: Sequence[PlugAnswer], gas: TyreGas, limit: Any, gauge: bool = True
+) -> PlugVersusPressure:
+    """Whether any fuse plug releases before the tyre pressure reaches a limit.
+
+    ``plug_answers`` and ``gas`` must come from the same result. After a release the
+    modelled pressure no longer applies (the tyre deflates); only the order of the two
+    events is meaningful.
+
+    Parameters
+    ----------
+    plug_answers : sequence of PlugAnswer
+        From :func:`~heatstack.answers.fuse_plugs.assess_fuse_plugs`.
+    gas : TyreGas
+    limit : float or str
+        Pressure limit [Pa], gauge by default (see :func:`tyre_pressure_margin`).
+    gauge : bool
+
+    Returns
+    -------
+    PlugVersusPressure
+        ``releases_first`` is the yes/no answer; both times are given.
+    """
+    if not plug_answers:
+        raise InputError("plug_answers: give at least one plug answer")
+    p_limit = _absolute(limit, gauge, gas.ambient_pressure, "limit")
+    limit_time = _first_reach(gas.times, gas.pressure, p_limit)
+    released = [a for a in plug_answers if a.release_time is not None]
+    first = min(released, key=lambda a: a.release_time) if released else None
+    if first is None:
+        return PlugVersusPressure(False, None, None, limit_time, p_limit)
+    ahead = limit_time is None or first.release_time < limit_time
+    return PlugVersusPressure(bool(ahead), first.name, first.release_time, limit_time, p_limit)
+
+
+def bead_seat_margin(
+    result: Result,
+    rubber_limit: Any,
+    names: Sequence[str] = ("inboard bead seat", "outboard bead seat"),
+) -> list[Margin]:
+    """Margin of each bead seat's peak temperature to the tyre rubber's limit.
+
+    Parameters
+    ----------
+    result : Result
+    rubber_limit : float or str
+        Highest temperature the bead rubber may see [K] (or a string with a unit).
+    names : sequence of str
+        Probes at the bead seats.
+
+    Returns
+    -------
+    list of Margin
+        One per name, in order.
+    """
+    limit = _temperature(rubber_limit, "rubber_limit")
+    return margins(result, {name: limit for name in _names(names, "names")})

@@ -1,0 +1,150 @@
+"""Figures are written for a real (short, invented) run of the reference wheel and brake."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+
+import matplotlib
+import pytest
+
+from heatstack import FixedConvection, Model, Phase, PowerHistory, Schedule, SolverOptions
+from heatstack.builders import build_wheel_brake
+from heatstack.errors import InputError, ResultFileError
+from heatstack.plotting import (
+    CAPTION,
+    plot_field,
+    plot_histories,
+    plot_layout,
+    plot_sensor_offset,
+    plot_why_the_gauge_lags,
+)
+
+PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
+
+
+@pytest.fixture(scope="module")
+def run():
+    """An invented 20 s stop of 20 MJ peak-power shape, then parked cooling to 30 min."""
+    built = build_wheel_brake()
+    model = Model.build(built.assembly, cell_size=0.008)
+    air = {"*": FixedConvection(10.0, 288.15)}
+    schedule = Schedule(
+        PowerHistory([0.0, 20.0], [2e6, 0.0]),
+        [Phase("stop", 0.0, 20.0, air, clamped=True), Phase("parked", 20.0, 1800.0, air)],
+    )
+    result = model.run(schedule, 288.15, SolverOptions(snapshot_times=(600.0,)))
+    return built, model, result
+
+
+def _draw(kind, run, path, **kwargs):
+    built, model, result = run
+    if kind == "histories":
+        return plot_histories(result, path, **kwargs)
+    if kind == "field":
+        return plot_field(result, path, 600.0, **kwargs)
+    if kind == "offset":
+        return plot_sensor_offset(result, path, **kwargs)
+    if kind == "layout":
+        return plot_layout(built.assembly, path, grid=model.grid)
+    return plot_why_the_gauge_lags(result, path, **kwargs)
+
+
+KINDS = ("histories", "field", "offset", "layout", "gauge")
+
+
+@pytest.mark.parametrize("kind", KINDS)
+def test_each_figure_is_written_as_png_and_svg(kind, run, tmp_path):
+    png = _draw(kind, run, tmp_path / f"{kind}.png")
+    svg = _draw(kind, run, tmp_path / f"{kind}.svg")
+    assert png == tmp_path / f"{kind}.png" and svg == tmp_path / f"{kind}.svg"
+    assert png.read_bytes()[:8] == PNG_SIGNATURE and png.stat().st_size > 10_000
+    text = svg.read_text(encoding="utf-8")
+    assert "<svg" in text and text.rstrip().endswith("</svg>")
+    assert sorted(p.name for p in tmp_path.iterdir()) == sorted([png.name, svg.name])  # no temp files left
+
+
+@pytest.mark.parametrize("kind", KINDS)
+def test_every_figure_carries_the_caption(kind, run, tmp_path):
+    with matplotlib.rc_context({"svg.fonttype": "none"}):  # keep text as text to search it
+        svg = _draw(kind, run, tmp_path / "figure.svg")
+    assert CAPTION.split(".")[0] in svg.read_text(encoding="utf-8")
+
+
+@pytest.mark.parametrize(("unit", "symbol"), [("degC", "°C"), ("degF", "°F"), ("K", "[K]")])
+def test_temperature_unit_is_shown_on_the_axis(unit, symbol, run, tmp_path):
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        text = plot_histories(run[2], tmp_path / "h.svg", unit=unit).read_text(encoding="utf-8")
+    assert symbol in text and "Time [min]" in text
+
+
+def test_histories_default_names_skip_surface_series(run, tmp_path):
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        text = plot_histories(run[2], tmp_path / "h.svg").read_text(encoding="utf-8")
+    assert "fuse plug 1" in text and "heat-sink mean" in text and "rim bore surface" not in text
+
+
+def test_an_existing_figure_is_replaced(run, tmp_path):
+    target = tmp_path / "h.png"
+    target.write_bytes(b"old")
+    plot_histories(run[2], target, names=["sensor"])
+    assert target.read_bytes()[:8] == PNG_SIGNATURE
+
+
+def test_unknown_probe_or_series_name_is_an_input_error(run, tmp_path):
+    result = run[2]
+    with pytest.raises(InputError, match="thermocouple 9"):
+        plot_histories(result, tmp_path / "h.png", names=["sensor", "thermocouple 9"])
+    with pytest.raises(InputError, match="gauge"):
+        plot_sensor_offset(result, tmp_path / "o.png", sensor="gauge")
+    with pytest.raises(InputError, match="gauge"):
+        plot_why_the_gauge_lags(result, tmp_path / "g.png", sensor="gauge")
+    with pytest.raises(InputError, match="nose wheel"):
+        plot_why_the_gauge_lags(result, tmp_path / "g.png", names=["nose wheel"])
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_missing_folder_is_a_result_file_error(run, tmp_path):
+    built, _, result = run
+    missing = tmp_path / "no such folder"
+    with pytest.raises(ResultFileError, match="no such folder"):
+        plot_histories(result, missing / "h.png")
+    with pytest.raises(ResultFileError, match="no such folder"):
+        plot_field(result, missing / "f.svg", 600.0)
+    with pytest.raises(ResultFileError, match="no such folder"):
+        plot_layout(built.assembly, missing / "l.png")
+
+
+def test_time_outside_the_record_is_an_input_error(run, tmp_path):
+    with pytest.raises(InputError, match="outside the record"):
+        plot_field(run[2], tmp_path / "f.png", 3600.0)
+    with pytest.raises(InputError, match="outside the record"):
+        plot_field(run[2], tmp_path / "f.png", -1.0)
+
+
+def test_field_takes_the_nearest_snapshot(run, tmp_path):
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        text = plot_field(run[2], tmp_path / "f.svg", 650.0).read_text(encoding="utf-8")
+    assert "10.0 min" in text and "nearest stored snapshot" in text
+
+
+def test_bad_unit_suffix_or_argument_type_is_an_input_error(run, tmp_path):
+    built, _, result = run
+    with pytest.raises(InputError, match="degR"):
+        plot_histories(result, tmp_path / "h.png", unit="degR")
+    with pytest.raises(InputError, match=r"\.pdf"):
+        plot_histories(result, tmp_path / "h.pdf")
+    with pytest.raises(InputError, match="Assembly"):
+        plot_layout(result, tmp_path / "l.png")
+    with pytest.raises(InputError, match="Grid"):
+        plot_layout(built.assembly, tmp_path / "l.png", grid="fine")
+
+
+def test_layout_without_grid(run, tmp_path):
+    path = plot_layout(run[0].assembly, tmp_path / "layout.png")
+    assert path.read_bytes()[:8] == PNG_SIGNATURE
+
+
+def test_plotting_leaves_pyplot_alone():
+    code = "import sys, heatstack.plotting; sys.exit('matplotlib.pyplot' in sys.modules)"
+    assert subprocess.run([sys.executable, "-c", code], check=False).returncode == 0

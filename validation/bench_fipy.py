@@ -1,0 +1,390 @@
+"""Benchmark: heatstack against FiPy on one temperature-dependent braking problem.
+
+Not a test (``validation/`` is outside the pytest ``testpaths``). Run from the
+repository root::
+
+    PYTHONPATH=. python validation/bench_fipy.py               # everything below, about 2-3 min
+    PYTHONPATH=. python validation/bench_fipy.py --no-memory   # skip the memory run
+    PYTHONPATH=. python validation/bench_fipy.py --profile     # also: where heatstack's step time goes
+
+Printed: the largest probe and field differences, each solver's time per step,
+heatstack's time per step over one triangular solve of its own step matrix, the
+heatstack solver statistics, time per step at about 3k, 12k and 50k cells, and the
+peak resident memory (``resource.getrusage(RUSAGE_SELF).ru_maxrss`` of a separate
+process) of a 50k-cell run over three simulated hours with adaptive steps (about
+20-30 s; ``--no-memory`` skips it).
+
+The reference is FiPy 4.0.3 (https://pages.nist.gov/fipy/), through the twin model of
+``validation/fipy_reference.py`` in its enthalpy form. The problem: a five-part
+carbon-like stack (pressure plate, rotor, stator, rotor, end plate; annulus
+r = 0.12..0.22 m, 5 x 30 mm) of one material whose specific heat doubles between 300 K
+and 1000 K and whose conductivity falls with temperature (anisotropic); a 20 s braking
+pulse of 1.0 MW peak at the four rubbing faces; convection h = 30 W/(m^2 K) to 300 K on
+every surface; 100 fixed steps of 0.5 s. About 12,000 cells for the comparison; 3k and
+50k more for the scaling (50k heatstack only).
+
+Timing rule: each solver's time per step is the best of ``REPEATS`` complete runs of
+the 100 steps, measured in this one process (wall clock, ``time.perf_counter``); the
+model / mesh build is excluded for both, everything inside the run is included. The
+last printed line is ``speedup_vs_fipy: X`` with X = FiPy time per step / heatstack
+time per step (12k case).
+"""
+
+from __future__ import annotations
+
+import argparse
+import cProfile
+import json
+import os
+import pstats
+import resource
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import scipy.sparse.linalg as spla
+
+from heatstack import (
+    Assembly,
+    FixedConvection,
+    Model,
+    Part,
+    Phase,
+    PowerHistory,
+    Probe,
+    Schedule,
+    SolverOptions,
+    simple_material,
+)
+from heatstack.numerics.solver import _Integrator, initial_field
+
+HERE = Path(__file__).resolve().parent
+
+MATERIAL = simple_material(
+    "bench-carbon",
+    density=1780.0,
+    specific_heat=(650.0, 1650.0),  # J/(kg K) at 250 and 1250 K: 700 at 300 K, 1400 at 1000 K
+    conductivity=(50.0, 30.0),  # radial (in-plane) W/(m K)
+    conductivity_axial=(16.0, 10.0),  # axial (through-thickness)
+    temperature_range=(250.0, 1250.0),
+)
+MATERIALS = {MATERIAL.name: MATERIAL}
+ROLES = ("pressure_plate", "rotor", "stator", "rotor", "end_plate")
+PARTS = tuple(
+    Part(f"{role} {k}", MATERIAL.name, 0.12, 0.22, 0.03 * k, 0.03 * (k + 1), role)
+    for k, role in enumerate(ROLES)
+)
+POWER_TIMES, POWER = (0.0, 0.5, 20.0), (0.0, 1.0e6, 0.0)
+H_CONV, T_AIR, T0 = 30.0, 300.0, 300.0
+DT, STEPS = 0.5, 100
+TOLERANCE = 1e-6  # heatstack Newton tolerance and FiPy sweep tolerance [K]
+REPEATS = 2
+SIZES = {"3k": (0.002, 0.0025), "12k": (0.001, 0.00125), "50k": (0.0005, 0.000625)}
+PROBE_TARGETS = {
+    "pressure plate at rubbing face": (0.20, 0.0299),
+    "rotor at rubbing face": (0.20, 0.0301),
+    "stator mid-plane": (0.17, 0.075),
+    "end plate outer face": (0.215, 0.149),
+}
+
+
+def build(size: str) -> tuple[Model, dict[str, tuple[float, float]]]:
+    """The model with its probes moved to cell centres (so both read a cell value)."""
+    cell_size = SIZES[size]
+    grid = Model.build(Assembly(parts=PARTS, gap_radiation=False), cell_size, materials=MATERIALS).grid
+    rc, zc = grid.r_centres, grid.z_centres
+    probes = {
+        name: (float(rc[np.argmin(np.abs(rc - r))]), float(zc[np.argmin(np.abs(zc - z))]))
+        for name, (r, z) in PROBE_TARGETS.items()
+    }
+    assembly = Assembly(
+        parts=PARTS, probes=[Probe(n, r, z) for n, (r, z) in probes.items()], gap_radiation=False
+    )
+    return Model.build(assembly, cell_size, materials=MATERIALS), probes
+
+
+def schedule(end: float = DT * STEPS) -> Schedule:
+    law = FixedConvection(H_CONV, T_AIR, radiation=False)
+    return Schedule(PowerHistory(POWER_TIMES, POWER), [Phase("stop", 0.0, end, {"*": law}, clamped=True)])
+
+
+def options(**extra) -> SolverOptions:
+    return SolverOptions(fixed_step=DT, tolerance=TOLERANCE, **extra)
+
+
+def time_heatstack(model: Model, solver_options: SolverOptions | None = None, repeats: int = REPEATS):
+    """Best-of-``repeats`` wall time per step of ``model.run`` and the last result."""
+    best, result = np.inf, None
+    for _ in range(repeats):
+        start = time.perf_counter()
+        result = model.run(schedule(), T0, solver_options or options())
+        best = min(best, time.perf_counter() - start)
+    return best / result.metadata["solver"]["steps"], result
+
+
+def time_fipy(model: Model, times: np.ndarray, probes: dict, snapshot_times, repeats: int = REPEATS):
+    sys.path.insert(0, str(HERE))
+    from fipy_reference import FipyTwin
+
+    convection = {side: (H_CONV, T_AIR) for side in ("bottom", "top", "inner", "outer")}
+    best, run = np.inf, None
+    for _ in range(repeats):
+        twin = FipyTwin(
+            model.grid.r_edges,
+            model.grid.z_edges,
+            PARTS,
+            MATERIALS,
+            POWER_TIMES,
+            POWER,
+            convection,
+            form="enthalpy",
+        )
+        run = twin.run(times, T0, probes=probes, snapshot_times=snapshot_times, sweep_tolerance=TOLERANCE)
+        best = min(best, run.wall_time)
+    return best / run.steps, run
+
+
+def triangular_solve_time(model: Model, repeats: int = 300) -> tuple[float, float]:
+    """Factorise heatstack's last step matrix as ``_Integrator.factorise`` does; time ``lu.solve``."""
+    integrator = _Integrator(model.network, schedule(), options())
+    integrator.run(initial_field(model.network, T0), 0.0)
+    start = time.perf_counter()
+    lu = spla.splu(
+        integrator.matrix.copy(),
+        permc_spec="MMD_AT_PLUS_A",
+        diag_pivot_thresh=0.0,
+        options={"SymmetricMode": True},
+    )
+    factor_time = time.perf_counter() - start
+    rhs = np.random.default_rng(1).standard_normal(model.n_cells)
+    lu.solve(rhs)
+    times = []
+    for _ in range(repeats):
+        start = time.perf_counter()
+        lu.solve(rhs)
+        times.append(time.perf_counter() - start)
+    return float(np.median(times)), factor_time
+
+
+def header() -> None:
+    import fipy
+
+    print(f"heatstack vs FiPy {fipy.__version__}: transient r-z conduction with T-dependent k and cp")
+    print("=" * 78)
+    print(
+        "How the two are made comparable:\n"
+        "  * same grid: FiPy CylindricalGrid2D(dx, dy arrays) on heatstack's r_edges / z_edges, one FiPy\n"
+        "    cell per heatstack unknown; FiPy's own metric (radial faces k r_f dz / dr_c vs heatstack's\n"
+        "    exact log form: relative (dr/2r)^2/3 < 1e-5 here), harmonic face conductivity, Robin\n"
+        "    convection.\n"
+        "  * same steps: heatstack's step ends (100 x 0.5 s, backward Euler) are FiPy's time steps.\n"
+        "  * same source: power per step = exact integral of the piecewise-linear table / dt, equal\n"
+        "    share per rubbing interface, flux ~ r, split by effusivity sqrt(k_z rho cp) at the iterate\n"
+        "    (recomputed by the FiPy side from the assembly).\n"
+        "  * converged nonlinear iterations: FiPy in enthalpy form, TransientTerm(var=H) ==\n"
+        "    DiffusionTerm(k_f / c_f, var=H) + sources, c_f the chord (H_b - H_a)/(T_b - T_a), T from\n"
+        "    the material's exact inverse temperature_from_enthalpy(H) after every sweep, sweeping until\n"
+        f"    max |T change| <= {TOLERANCE:g} K (LinearLUSolver, FiPy's default SciPy direct solver);\n"
+        f"    heatstack Newton tolerance {TOLERANCE:g} K. Single material: H is continuous.\n"
+        f"  * timing: best of {REPEATS} complete runs each, in this process; model / mesh build excluded."
+    )
+
+
+def compare() -> tuple[float, float, float]:
+    model, probes = build("12k")
+    print(
+        f"[12k case] {model.n_cells} active cells, grid {model.grid.shape[1]} (r) x {model.grid.shape[0]} (z)"
+    )
+    snaps = (5.0, 10.0, 20.0, 30.0)
+    hs_step, result = time_heatstack(model, options(snapshot_times=snaps))
+    fp_step, run = time_fipy(model, result.times, probes, tuple(result.snapshot_times))
+    field = max(
+        float(np.max(np.abs(result.snapshots[k] - run.snapshots[float(t)])))
+        for k, t in enumerate(result.snapshot_times)
+    )
+    probe = {name: float(np.max(np.abs(result.probes[name] - run.probes[name]))) for name in probes}
+    peak = float(np.max(result.snapshots))
+    rise = MATERIAL.specific_heat(peak) / MATERIAL.specific_heat(T0)
+    print(f"  peak temperature {peak:.1f} K; cp rises x{rise:.2f} from T0 to the peak")
+    print(f"  largest probe difference: {max(probe.values()):.3e} K")
+    for name, value in probe.items():
+        print(f"      {name:32s} {value:.3e} K  (peak {np.max(result.probes[name]):.1f} K)")
+    at = ", ".join(f"{t:g}" for t in result.snapshot_times)
+    print(f"  largest field difference (whole field at {at} s): {field:.3e} K")
+    stats = result.metadata["solver"]
+    print(f"  FiPy sweeps per step: mean {np.mean(run.sweeps):.2f}, max {max(run.sweeps)}")
+    print(
+        "  heatstack solver statistics: "
+        + ", ".join(f"{k} {v:.3g}" if isinstance(v, float) else f"{k} {v}" for k, v in stats.items())
+        + f"  ({stats['iterations'] / stats['steps']:.2f} Newton iterations per step)"
+    )
+    print(f"  time per step: heatstack {1e3 * hs_step:.2f} ms, FiPy {1e3 * fp_step:.1f} ms")
+    solve, factor = triangular_solve_time(model)
+    print(
+        f"  heatstack step matrix: factorisation (splu, MMD_AT_PLUS_A) {1e3 * factor:.2f} ms, "
+        f"one triangular solve {1e3 * solve:.3f} ms (median of 300)"
+    )
+    print(f"  heatstack time per step / one triangular solve: {hs_step / solve:.1f}  (target <= 3)")
+    lax_step, lax = time_heatstack(model, SolverOptions(fixed_step=DT))
+    lax_its = lax.metadata["solver"]["iterations"] / lax.metadata["solver"]["steps"]
+    print(
+        f"  for context, heatstack at its default Newton tolerance (1e-3 K): {1e3 * lax_step:.2f} ms per "
+        f"step, {lax_its:.2f} iterations per step, ratio to one solve {lax_step / solve:.1f}"
+    )
+    return fp_step / hs_step, hs_step, fp_step
+
+
+def scaling(hs_12k: float, fp_12k: float) -> None:
+    print("\n[scaling] time per step versus cell count (same problem, 100 steps of 0.5 s)")
+    rows = []
+    for size in ("3k", "12k", "50k"):
+        model, probes = build(size)
+        if size == "12k":
+            hs, fp_ = hs_12k, fp_12k
+        else:
+            hs, result = time_heatstack(model)
+            fp_ = None
+            if size == "3k":
+                fp_, _ = time_fipy(model, result.times, probes, ())
+        rows.append((model.n_cells, hs, fp_))
+        fipy_text = f"{1e3 * fp_:8.1f} ms" if fp_ is not None else "       (not run)"
+        print(f"  {model.n_cells:7d} cells: heatstack {1e3 * hs:7.2f} ms   FiPy {fipy_text}")
+    n = np.array([r[0] for r in rows], float)
+    t = np.array([r[1] for r in rows])
+    slopes = np.diff(np.log(t)) / np.diff(np.log(n))
+    print(
+        "  heatstack growth exponent d ln(time) / d ln(cells): "
+        + ", ".join(f"{int(n[k])}->{int(n[k + 1])}: {slopes[k]:.2f}" for k in range(slopes.size))
+    )
+
+
+def memory_child() -> None:
+    """50k cells, three simulated hours, adaptive steps; prints a JSON line with the peak RSS."""
+    model, _ = build("50k")
+    end = 3 * 3600.0
+    law = FixedConvection(H_CONV, T_AIR, radiation=False)
+    sched = Schedule(
+        PowerHistory(POWER_TIMES, POWER),
+        [Phase("stop", 0.0, 20.0, {"*": law}, clamped=True), Phase("parked", 20.0, end, {"*": law})],
+    )
+    start = time.perf_counter()
+    result = model.run(sched, T0, SolverOptions())
+    elapsed = time.perf_counter() - start
+    peak_kib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss  # KiB on Linux
+    print(
+        json.dumps(
+            {
+                "cells": model.n_cells,
+                "steps": result.metadata["solver"]["steps"],
+                "seconds": elapsed,
+                "peak_rss_mib": peak_kib / 1024.0,
+                "final_max_K": float(result.final_state.temperature.max()),
+            }
+        )
+    )
+
+
+def memory() -> None:
+    print("\n[memory] 50k cells, three simulated hours (20 s stop then parked), adaptive steps, own process")
+    env = {
+        **os.environ,
+        "PYTHONPATH": os.pathsep.join(filter(None, (str(HERE.parent), os.environ.get("PYTHONPATH")))),
+    }
+    out = subprocess.run(
+        [sys.executable, __file__, "--memory-child"], capture_output=True, text=True, check=True, env=env
+    )
+    data = json.loads(out.stdout.strip().splitlines()[-1])
+    print(
+        f"  {data['cells']} cells, {data['steps']} steps in {data['seconds']:.1f} s; "
+        f"peak resident memory (ru_maxrss) {data['peak_rss_mib']:.0f} MiB (target < 1024 MiB)"
+    )
+
+
+def profile() -> None:
+    """cProfile of heatstack's 12k run, aggregated by what ``_Integrator.step`` spends its time on.
+
+    cProfile cannot see inside ``step`` itself (``np.bincount`` is an array-function
+    dispatcher, ufunc arithmetic and fancy indexing are not calls); that remainder is
+    split line by line when ``line_profiler`` is importable (optional, not a dependency).
+    """
+    from heatstack.numerics import solver
+
+    model, _ = build("12k")
+    model.run(schedule(), T0, options())  # warm-up
+    profiler = cProfile.Profile()
+    profiler.enable()
+    result = model.run(schedule(), T0, options())
+    profiler.disable()
+    stats = pstats.Stats(profiler).stats
+    info = result.metadata["solver"]
+    iterations = info["iterations"]
+
+    def cumulative(name: str, file_part: str = "solver.py") -> float:
+        return sum(v[3] for k, v in stats.items() if k[2] == name and file_part in k[0])
+
+    def own(name: str) -> float:
+        return sum(v[2] for k, v in stats.items() if name in k[2])
+
+    step = cumulative("step")
+    parts = {
+        "material properties (k_r, k_z, c, H per iteration)": cumulative("properties"),
+        "boundary coefficients (per-group laws, radiation, U)": cumulative("boundary"),
+        "gap radiation conductances": cumulative("gaps"),
+        "friction partition": cumulative("friction_sources"),
+        "triangular solves (SuperLU.solve)": own("'solve' of 'SuperLU'"),
+        "factorisations (splu)": cumulative("factorise"),
+        "conservative update (mat-vec + exact T(H))": cumulative("_conservative_update"),
+        "accounts of the accepted step (_finish)": cumulative("_finish"),
+    }
+    parts["step's own lines: G, bincount assembly, matrix scatter, residual, checks"] = step - sum(
+        parts.values()
+    )
+    print(
+        f"\n[profile] heatstack, 12k case, {info['steps']} steps, {iterations} Newton iterations, "
+        f"{info['factorisations']} factorisations (cProfile)"
+    )
+    print(f"  _Integrator.step total {step:.3f} s = {1e3 * step / info['steps']:.2f} ms per step")
+    for label, value in parts.items():
+        print(f"    {label:72s} {1e3 * value / iterations:6.3f} ms/iter {100 * value / step:5.1f} %")
+    try:
+        from line_profiler import LineProfiler
+    except ImportError:
+        print("  (install line_profiler for a line-by-line split of the step's own statements)")
+        return
+    lines = LineProfiler(solver._Integrator.step)
+    lines.enable()
+    model.run(schedule(), T0, options())
+    lines.disable()
+    entries = next(iter(lines.get_stats().timings.values()))
+    source = Path(solver.__file__).read_text().splitlines()
+    total = sum(t for _, _, t in entries)
+    print("  line_profiler, _Integrator.step, top lines (includes the profiler's per-line overhead):")
+    for lineno, hits, t in sorted(entries, key=lambda e: -e[2])[:14]:
+        print(f"    {100 * t / total:5.1f} %  {hits:6d} hits  {source[lineno - 1].strip()[:88]}")
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument(
+        "--no-memory", action="store_true", help="skip the peak memory of a 50k-cell, 3 h run"
+    )
+    parser.add_argument("--profile", action="store_true", help="also profile heatstack's step (12k case)")
+    parser.add_argument("--memory-child", action="store_true", help=argparse.SUPPRESS)
+    args = parser.parse_args()
+    if args.memory_child:
+        memory_child()
+        return
+    header()
+    speedup, hs_step, fp_step = compare()
+    scaling(hs_step, fp_step)
+    if not args.no_memory:
+        memory()
+    if args.profile:
+        profile()
+    print(f"speedup_vs_fipy: {speedup:.1f}")
+
+
+if __name__ == "__main__":
+    main()
