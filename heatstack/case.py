@@ -16,6 +16,8 @@ from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from .builders import BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
 from .errors import HeatstackError, InputError
 from .geometry import ROLES, Assembly, Contact, FrictionSettings, Part, Probe
@@ -25,6 +27,7 @@ from .numerics.solver import SolverOptions
 from .operations import heat_input
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
+from .report import ReportSettings, TyreSettings
 from .result import Result
 from .units import to_si
 
@@ -116,12 +119,15 @@ class _Table:
 
 @dataclass(frozen=True)
 class OutputSettings:
-    """What a run writes: results file, plots, report unit, limits [K] per probe or series."""
+    """What a run writes and reports: results file, plots, report unit, limits [K] per
+    probe or series, and the cooling-time question (series below a temperature [K])."""
 
     file: str = "results.h5"
     plots: bool = True
     temperature_unit: str = "degC"
     limits: Mapping[str, float] = field(default_factory=dict)
+    cooling_below: float | None = None
+    cooling_series: str = "heat_sink_mean"
 
 
 @dataclass(frozen=True, eq=False)
@@ -147,6 +153,8 @@ class Case:
     solver : SolverOptions
     output : OutputSettings
     fuse_plugs : tuple of FusePlugSpec
+    tyre : TyreSettings or None
+        Tyre gas inputs for the tyre pressure answer.
     text : str
         The case file's text.
     origin : str
@@ -165,8 +173,22 @@ class Case:
     solver: SolverOptions
     output: OutputSettings
     fuse_plugs: tuple[FusePlugSpec, ...]
+    tyre: TyreSettings | None
     text: str
     origin: str
+
+    def report_settings(self) -> ReportSettings:
+        """What the report assesses for this case."""
+        return ReportSettings(
+            unit=self.output.temperature_unit,
+            limits=dict(self.output.limits),
+            fuse_plugs=self.fuse_plugs,
+            tyre=self.tyre,
+            cold_temperature=self.initial_temperature,
+            cooling_below=self.output.cooling_below,
+            cooling_series=self.output.cooling_series,
+            title=self.title,
+        )
 
     def build_model(self) -> Model:
         """Mesh the case's assembly."""
@@ -436,9 +458,39 @@ def _output(t: _Table) -> OutputSettings:
         raise InputError(f"{t.where('temperature_unit')}: expected 'degC', 'degF' or 'K', got {unit!r}")
     limits_table = t.table("limits", {})
     limits = {k: limits_table.quantity(k, "temperature") for k in limits_table.data}
-    out = OutputSettings(t.text("file", "results.h5"), t.boolean("plots", True), unit, limits)
+    out = OutputSettings(
+        t.text("file", "results.h5"),
+        t.boolean("plots", True),
+        unit,
+        limits,
+        t.quantity("cooling_below", "temperature", None),
+        t.text("cooling_series", "heat_sink_mean"),
+    )
     t.finish()
     return out
+
+
+def _tyre(t: _Table, built: BuiltWheelBrake | None) -> TyreSettings | None:
+    if not t.data:
+        return None
+    area = t.quantity("cavity_area", "area", None)
+    if area is None:
+        if built is None:
+            raise InputError(f"{t.where('cavity_area')}: missing (required without the wheel-brake builder)")
+        d = built.design
+        rim = next(p for p in built.assembly.parts if p.name == "rim")
+        length = rim.z_max - rim.z_min - 2.0 * (d.flange_thickness + d.bead_width)
+        area = 2.0 * np.pi * d.rim_outer_radius * length
+    tyre = TyreSettings(
+        cold_pressure=t.quantity("cold_pressure", "pressure"),
+        gas_volume=t.quantity("gas_volume", "volume"),
+        cavity_area=area,
+        h_cavity=t.quantity("h_cavity", "heat_transfer_coefficient", 15.0),
+        outer_conductance=t.quantity("outer_conductance", "thermal_conductance", 0.0),
+        pressure_limit=t.quantity("pressure_limit", "pressure", None),
+    )
+    t.finish()
+    return tyre
 
 
 def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> Case:
@@ -494,7 +546,8 @@ def _parse(data: dict, text: str, origin: str, base: Path) -> Case:
     duty = _duty(root.table("duty"), base)
     solver = _solver(root.table("solver", {}))
     output = _output(root.table("output", {}))
-    root.finish(("case", "materials", "assembly", "duty", "solver", "output"))
+    tyre = _tyre(root.table("tyre", {}), built)
+    root.finish(("case", "materials", "assembly", "duty", "solver", "output", "tyre"))
     known = {p.name for p in assembly.probes} | {"heat_sink_mean", "heat_sink_max", "wheel_max"}
     for name in output.limits:
         if name not in known:
@@ -514,6 +567,7 @@ def _parse(data: dict, text: str, origin: str, base: Path) -> Case:
         solver,
         output,
         plugs,
+        tyre,
         text,
         origin,
     )

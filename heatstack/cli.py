@@ -1,19 +1,218 @@
 """The ``heatstack`` command line.
 
-Exit codes: 0 success, 2 bad input (a heatstack input error), 1 internal error.
-User errors print one clear line, never a traceback.
+Verbs: ``run`` a case, ``check`` a case (parts, cells, layout drawing), ``report`` on a
+results file, ``plot`` a results file, ``fit`` the braking energy to a recorded sensor
+trace, list ``materials``, run the ``demo``.
+
+Exit codes: 0 success, 2 bad input (a heatstack input error), 1 internal error. User
+errors print one clear line, never a traceback.
 """
 
 from __future__ import annotations
 
 import argparse
 import sys
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
+from importlib import resources
+from pathlib import Path
 
 from . import __version__
-from .errors import HeatstackError, InputError
+from .errors import HeatstackError, InputError, ResultFileError
 
-__all__ = ["main"]
+__all__ = ["main", "demo_case_path"]
+
+
+def demo_case_path() -> Path:
+    """The invented demonstration case shipped with heatstack."""
+    shipped = Path(str(resources.files("heatstack"))) / "_examples" / "demo_rto.toml"
+    if shipped.is_file():
+        return shipped
+    return Path(__file__).resolve().parents[1] / "examples" / "demo_rto.toml"
+
+
+def _progress(
+    total_time: float, start: float, quiet: bool
+) -> tuple[Callable[[float], None] | None, Callable]:
+    """A tqdm bar over simulated time when stderr is a terminal, else nothing."""
+    if quiet or not sys.stderr.isatty():
+        return None, lambda: None
+    from tqdm import tqdm
+
+    bar = tqdm(total=round(total_time / 60.0, 1), unit="min", desc="simulated", leave=False)
+
+    def update(t: float) -> None:
+        bar.n = round((t - start) / 60.0, 1)
+        bar.refresh()
+
+    return update, bar.close
+
+
+def _write_plots(result, folder: Path, unit: str) -> list[Path]:
+    from .plotting import plot_field, plot_histories, plot_sensor_offset, plot_why_the_gauge_lags
+
+    written = [plot_histories(result, folder / "histories.png", unit=unit)]
+    if "sensor" in result.readings and "heat_sink_mean" in result.series:
+        written.append(plot_sensor_offset(result, folder / "sensor-offset.png", unit=unit))
+        written.append(plot_why_the_gauge_lags(result, folder / "why-the-gauge-lags.png", unit=unit))
+    for t in result.snapshot_times[1:-1]:
+        written.append(plot_field(result, folder / f"field-{t / 60.0:06.1f}min.png", float(t), unit=unit))
+    return written
+
+
+def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, quiet: bool) -> int:
+    from .case import load_case, run_case
+    from .report import build_report, format_report
+    from .resultfile import check_writable, write_result
+
+    case = load_case(case_path)
+    target = check_writable(out / case.output.file)
+    model = case.build_model()
+    if not quiet:
+        print(
+            f"heatstack: {case.title}: {model.n_cells} cells, {len(case.duty.phases)} phases", file=sys.stderr
+        )
+    update, close = _progress(case.duty.duration, 0.0, quiet)
+    try:
+        result = run_case(case, model, update)
+    finally:
+        close()
+    settings = case.report_settings()
+    if unit:
+        settings = type(settings)(**{**settings.__dict__, "unit": unit})
+    write_result(
+        result,
+        target,
+        case_text=case.text,
+        resolved_inputs={"case": case.resolved(), "report": settings.to_mapping()},
+    )
+    written = _write_plots(result, out, settings.unit) if plots and case.output.plots else []
+    print(format_report(build_report(result, settings), "text"))
+    print(f"results: {target}")
+    for path in written:
+        print(f"plot:    {path}")
+    return 0
+
+
+def _cmd_run(args: argparse.Namespace) -> int:
+    case = Path(args.case)
+    out = Path(args.out) if args.out else case.resolve().parent
+    return _run_case_file(case, out, not args.no_plots, args.unit, args.quiet)
+
+
+def _cmd_demo(args: argparse.Namespace) -> int:
+    out = Path(args.out)
+    out.mkdir(parents=True, exist_ok=True)
+    print(
+        "heatstack demo: an INVENTED rejected take-off on an invented wheel and brake, then parked cooling.",
+        file=sys.stderr,
+    )
+    return _run_case_file(demo_case_path(), out, True, args.unit, args.quiet)
+
+
+def _cmd_check(args: argparse.Namespace) -> int:
+    from .case import load_case
+    from .plotting import plot_layout
+
+    case = load_case(args.case)
+    model = case.build_model()
+    print(f"{case.title}")
+    print(f"{'part':20s} {'role':15s} {'material':30s} r [mm]          z [mm]")
+    for part in case.assembly.parts:
+        print(
+            f"{part.name:20s} {part.role:15s} {part.material:30s} "
+            f"{part.r_inner * 1e3:6.1f}-{part.r_outer * 1e3:6.1f}  {part.z_min * 1e3:6.1f}-{part.z_max * 1e3:6.1f}"
+        )
+    print(f"probes: {', '.join(p.name for p in case.assembly.probes)}")
+    print(
+        f"cells: {model.n_cells} active of {model.grid.shape[0] * model.grid.shape[1]} "
+        f"({model.grid.shape[1]} radial x {model.grid.shape[0]} axial)"
+    )
+    print(
+        f"rubbing interfaces: {len(model.network.friction_labels)}; surface groups: {', '.join(model.network.groups)}"
+    )
+    missing = sorted(set(model.network.groups) - set(case.length_scales))
+    if missing:
+        raise InputError(f"surface groups without a length scale (no cooling law): {', '.join(missing)}")
+    energy = sum(row["energy_per_brake"] for row in case.duty.energy_summary())
+    print(
+        f"duty: {len(case.duty.phases)} phases over {case.duty.duration / 3600.0:.2f} h, "
+        f"{energy / 1e6:.2f} MJ per brake"
+    )
+    layout = Path(args.layout) if args.layout else Path(args.case).with_suffix(".layout.png")
+    print(f"layout: {plot_layout(case.assembly, layout, model.grid)}")
+    return 0
+
+
+def _settings_from_file(path: Path, unit: str | None):
+    from .report import ReportSettings
+    from .resultfile import read_resolved_inputs
+
+    stored = read_resolved_inputs(path).get("report")
+    settings = ReportSettings.from_mapping(stored) if stored else ReportSettings()
+    if unit:
+        settings = ReportSettings(**{**settings.__dict__, "unit": unit})
+    return settings
+
+
+def _cmd_report(args: argparse.Namespace) -> int:
+    from .report import build_report, format_report
+    from .resultfile import read_result
+
+    path = Path(args.results)
+    result = read_result(path)
+    settings = _settings_from_file(path, args.unit)
+    print(format_report(build_report(result, settings), args.format), end="")
+    return 0
+
+
+def _cmd_plot(args: argparse.Namespace) -> int:
+    from .plotting import plot_field
+    from .resultfile import read_result
+
+    path = Path(args.results)
+    result = read_result(path)
+    out = Path(args.out) if args.out else path.resolve().parent
+    if not out.is_dir():
+        raise ResultFileError(f"plot folder {str(out)!r} does not exist")
+    unit = args.unit or _settings_from_file(path, None).unit
+    written = _write_plots(result, out, unit)
+    for minutes in args.time or ():
+        written.append(plot_field(result, out / f"field-{minutes:06.1f}min.png", minutes * 60.0, unit=unit))
+    for p in written:
+        print(p)
+    return 0
+
+
+def _cmd_fit(args: argparse.Namespace) -> int:
+    from .answers.inverse import estimate_energy, read_sensor_trace
+    from .case import load_case
+
+    case = load_case(args.case)
+    t, T = read_sensor_trace(args.trace)
+    model = case.build_model()
+    estimate = estimate_energy(
+        model,
+        case.duty,
+        case.length_scales,
+        t,
+        T,
+        case.initial_temperature,
+        sensor=args.sensor,
+        raise_on_failure=False,
+    )
+    state = "converged" if estimate.converged else "NOT converged"
+    print(
+        f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {estimate.standard_error / 1e6:.3f} MJ "
+        f"(1 standard error; {state}; {estimate.n_runs} runs; residual rms {estimate.residual_rms:.2f} K)"
+    )
+    if estimate.message:
+        print(estimate.message)
+    predicted = estimate.predicted
+    for name in ("heat_sink_mean", "heat_sink_max", *[p.name for p in case.fuse_plugs]):
+        if name in predicted.readings or name in predicted.series:
+            value, when = predicted.peak(name)
+            print(f"  predicted {name:16s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min")
+    return 0 if estimate.converged else 1
 
 
 def _cmd_materials(args: argparse.Namespace) -> int:
@@ -27,13 +226,6 @@ def _cmd_materials(args: argparse.Namespace) -> int:
     return 0
 
 
-def _cmd_demo(args: argparse.Namespace) -> int:
-    from .demo import run_demo
-
-    print(run_demo())
-    return 0
-
-
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="heatstack",
@@ -42,8 +234,50 @@ def _parser() -> argparse.ArgumentParser:
     )
     parser.add_argument("--version", action="version", version=f"heatstack {__version__}")
     verbs = parser.add_subparsers(dest="verb", required=True, metavar="VERB")
-    demo = verbs.add_parser("demo", help="run the invented demonstration case and print its report")
+    units = ("degC", "degF", "K")
+
+    run = verbs.add_parser("run", help="run a case file, write the results file and plots, print the report")
+    run.add_argument("case", help="case file (TOML)")
+    run.add_argument("--out", help="folder for results and plots (default: the case file's folder)")
+    run.add_argument("--no-plots", action="store_true", help="write no plots")
+    run.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
+    run.add_argument("--quiet", action="store_true", help="no progress output")
+    run.set_defaults(func=_cmd_run)
+
+    demo = verbs.add_parser("demo", help="run the invented demonstration case")
+    demo.add_argument(
+        "--out", default="heatstack-demo", help="folder for results and plots (default: %(default)s)"
+    )
+    demo.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
+    demo.add_argument("--quiet", action="store_true", help="no progress output")
     demo.set_defaults(func=_cmd_demo)
+
+    check = verbs.add_parser("check", help="validate a case, list its parts and cells, draw its layout")
+    check.add_argument("case")
+    check.add_argument("--layout", help="PNG or SVG file for the r-z layout (default: CASE.layout.png)")
+    check.set_defaults(func=_cmd_check)
+
+    report = verbs.add_parser("report", help="report on a results file")
+    report.add_argument("results", help="results file (.h5)")
+    report.add_argument("--format", choices=("text", "markdown", "json"), default="text")
+    report.add_argument("--unit", choices=units)
+    report.set_defaults(func=_cmd_report)
+
+    plot = verbs.add_parser("plot", help="plot a results file")
+    plot.add_argument("results")
+    plot.add_argument("--out", help="folder for the plots (default: the results file's folder)")
+    plot.add_argument("--time", type=float, action="append", help="also map the field at this time [min]")
+    plot.add_argument("--unit", choices=units)
+    plot.set_defaults(func=_cmd_plot)
+
+    fit = verbs.add_parser("fit", help="estimate the braking energy from a recorded sensor trace")
+    fit.add_argument("case", help="case file whose duty the trace followed")
+    fit.add_argument("trace", help="CSV: time_<unit>,temperature_<unit>")
+    fit.add_argument(
+        "--sensor", default="sensor", help="probe the trace was read from (default: %(default)s)"
+    )
+    fit.set_defaults(func=_cmd_fit)
+
     materials = verbs.add_parser("materials", help="list the shipped materials")
     materials.set_defaults(func=_cmd_materials)
     return parser
@@ -54,7 +288,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     try:
         return int(args.func(args))
-    except InputError as exc:
+    except (InputError, ResultFileError) as exc:
         print(f"heatstack: error: {exc}", file=sys.stderr)
         return 2
     except HeatstackError as exc:

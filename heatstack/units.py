@@ -23,6 +23,8 @@ SI_UNITS: dict[str, str] = {
     "time": "s",
     "length": "m",
     "area": "m**2",
+    "volume": "m**3",
+    "thermal_conductance": "W/K",
     "mass": "kg",
     "energy": "J",
     "power": "W",
