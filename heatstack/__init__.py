@@ -15,6 +15,7 @@ from .model import Model, simulate
 from .numerics.schedule import BoundaryLaw, FixedConvection, Phase, PowerHistory, Schedule
 from .numerics.solver import SolverOptions
 from .result import EnergyLedger, Result, State
+from .resultfile import read_result, write_result
 
 try:
     __version__ = version("heatstack")
@@ -44,6 +45,8 @@ __all__ = [
     "State",
     "__version__",
     "available_materials",
+    "read_result",
+    "write_result",
     "load_material",
     "simple_material",
     "simulate",

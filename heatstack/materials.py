@@ -19,6 +19,7 @@ Inside this module every quantity is SI: K, J, kg, m, W.
 from __future__ import annotations
 
 import difflib
+import functools
 import numbers
 import tomllib
 import warnings
@@ -108,9 +109,7 @@ class PropertyTable:
     def __post_init__(self) -> None:
         where = self._where()
         if self.extrapolation not in _EXTRAPOLATIONS:
-            raise MaterialError(
-                f"{where}: extrapolation must be 'error' or 'clamp', got {self.extrapolation!r}"
-            )
+            raise MaterialError(f"{where}: extrapolation must be 'error' or 'clamp', got {self.extrapolation!r}")
         temperature = np.array(_as_float_array(self.temperature, f"{where}: temperature"))
         value = np.array(_as_float_array(self.value, f"{where}: value"))
         if temperature.ndim != 1 or value.shape != temperature.shape:
@@ -286,9 +285,7 @@ class Material:
     def __post_init__(self) -> None:
         where = f"material {self.name!r}"
         if self.extrapolation not in _EXTRAPOLATIONS:
-            raise MaterialError(
-                f"{where}: extrapolation must be 'error' or 'clamp', got {self.extrapolation!r}"
-            )
+            raise MaterialError(f"{where}: extrapolation must be 'error' or 'clamp', got {self.extrapolation!r}")
         density = self.density
         if not (_is_number(density) and np.isfinite(density) and density > 0.0):
             raise MaterialError(f"{where}, property 'density': must be > 0 kg/m^3, got {density!r}")
@@ -375,6 +372,62 @@ class Material:
         if cp.extrapolation == "clamp":  # cp is constant beyond the ends
             energy = energy + (t - inside) * np.where(t < knots[0], values[0], values[-1])
         return energy
+
+    def thermal_properties(self, temperature: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """Radial and axial conductivity, volumetric heat capacity and enthalpy in one pass.
+
+        The solver's hot loop: one interval search on the union of all table knots (on
+        which every property is still exactly piecewise linear, and the enthalpy exactly
+        piecewise quadratic) instead of one search and one range check per property.
+        Temperatures outside the common range of the tables fall back to the
+        per-property methods, which apply each table's range policy.
+
+        Parameters
+        ----------
+        temperature : ndarray
+            Temperature [K].
+
+        Returns
+        -------
+        (k_radial [W/(m K)], k_axial [W/(m K)], rho cp [J/(m^3 K)], H [J/m^3])
+        """
+        knots, low, high = self._fused_knots
+        t = np.asarray(temperature, dtype=float)
+        t_min, t_max = (t.min(), t.max()) if t.size else (low, high)
+        if not (t_min >= low and t_max <= high):  # also catches NaN
+            return (
+                self.conductivity_radial(t),
+                self.conductivity_axial(t),
+                self.volumetric_heat_capacity(t),
+                self.enthalpy(t),
+            )
+        k = np.clip(np.searchsorted(knots, t, side="right") - 1, 0, knots.size - 2)
+        dt = t - knots[k]
+        (kr0, kr1), (kz0, kz1), (c0, c1), h0 = self._fused_values
+        c = c0[k] + c1[k] * dt
+        return kr0[k] + kr1[k] * dt, kz0[k] + kz1[k] * dt, c, h0[k] + dt * (c0[k] + 0.5 * c1[k] * dt)
+
+    @functools.cached_property
+    def _fused_knots(self) -> tuple[np.ndarray, float, float]:
+        tables = (self.specific_heat, self.conductivity_in_plane, self.conductivity_through_thickness)
+        low = max(tab.temperature[0] for tab in tables)
+        high = min(tab.temperature[-1] for tab in tables)
+        knots = np.unique(np.concatenate([tab.temperature for tab in tables]))
+        return knots[(knots >= low) & (knots <= high)], float(low), float(high)
+
+    @functools.cached_property
+    def _fused_values(self):
+        knots = self._fused_knots[0]
+
+        def pieces(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+            return values[:-1], np.diff(values) / np.diff(knots)
+
+        return (
+            pieces(self.conductivity_in_plane(knots)),
+            pieces(self.conductivity_through_thickness(knots)),
+            pieces(self.volumetric_heat_capacity(knots)),
+            self.enthalpy(knots)[:-1],
+        )
 
     def enthalpy(self, temperature: ArrayLike) -> np.ndarray:
         """Volumetric enthalpy ``density * integral of cp from 293.15 K to T`` [J/m^3].
@@ -533,18 +586,14 @@ def _read_table(
         raise MaterialError(f"{where}: [{key}] table must be a list of at least 2 rows, got {rows!r}")
     for i, row in enumerate(rows, start=1):
         if not (isinstance(row, list | tuple) and len(row) == 2 and all(map(_is_number, row))):
-            raise MaterialError(
-                f"{where}: [{key}] table row {i} must be [temperature, value] numbers, got {row!r}"
-            )
+            raise MaterialError(f"{where}: [{key}] table row {i} must be [temperature, value] numbers, got {row!r}")
     temperature = _convert(
         [row[0] for row in rows],
         section["temperature_unit"],
         "temperature",
         f"{where}: [{key}] temperature_unit",
     )
-    value = _convert(
-        [row[1] for row in rows], section["unit"], _TABLE_DIMENSIONS[key], f"{where}: [{key}] unit"
-    )
+    value = _convert([row[1] for row in rows], section["unit"], _TABLE_DIMENSIONS[key], f"{where}: [{key}] unit")
     return PropertyTable(prop, name, temperature, value, extrapolation, _one_line(section["source"]))
 
 
@@ -710,8 +759,7 @@ def load_material(name: str, directory: str | Path | None = None) -> Material:
         close = difflib.get_close_matches(str(name), names, n=1, cutoff=0.0)
         hint = f" Did you mean {close[0]!r}?" if close else ""
         raise MaterialError(
-            f"unknown material {name!r} in {folder}.{hint} "
-            f"Available: {', '.join(names) if names else '(none)'}"
+            f"unknown material {name!r} in {folder}.{hint} Available: {', '.join(names) if names else '(none)'}"
         )
     return _load_file(path.resolve())
 
@@ -773,9 +821,7 @@ def simple_material(
         return PropertyTable(prop, name, temperatures, ends.copy(), "error", "user-defined")
 
     in_plane = table("conductivity_in_plane", conductivity)
-    axial = in_plane if conductivity_axial is None else table(
-        "conductivity_through_thickness", conductivity_axial
-    )
+    axial = in_plane if conductivity_axial is None else table("conductivity_through_thickness", conductivity_axial)
     return Material(
         name=name,
         description="user-defined material with constant or linear properties",

@@ -128,15 +128,16 @@ class _Integrator:
         rows = np.concatenate((diag, net.link_a, net.link_b, net.gap_a, net.gap_b))
         cols = np.concatenate((diag, net.link_b, net.link_a, net.gap_b, net.gap_a))
         self.matrix, self.position = _csc_pattern(n, rows, cols)
+        self.unique_positions = np.unique(self.position).size == self.position.size
+        m, q = net.link_a.size, net.gap_a.size
+        cuts = np.cumsum([n, m, m, q])
+        self.pos_diag, self.pos_ab, self.pos_ba, self.pos_gap_ab, self.pos_gap_ba = np.split(self.position, cuts)
+        self.link_ends = np.concatenate((net.link_a, net.link_b, net.gap_a, net.gap_b))
         self.face_blocks = [
             np.flatnonzero(net.cell_material[net.face_cell] == k) for k in range(len(net.material_blocks))
         ]
-        self.gap_blocks_a = [
-            np.flatnonzero(net.cell_material[net.gap_a] == k) for k in range(len(net.material_blocks))
-        ]
-        self.gap_blocks_b = [
-            np.flatnonzero(net.cell_material[net.gap_b] == k) for k in range(len(net.material_blocks))
-        ]
+        self.gap_blocks_a = [np.flatnonzero(net.cell_material[net.gap_a] == k) for k in range(len(net.material_blocks))]
+        self.gap_blocks_b = [np.flatnonzero(net.cell_material[net.gap_b] == k) for k in range(len(net.material_blocks))]
         self.group_faces = [np.flatnonzero(net.face_group == g) for g in range(len(net.groups))]
         self.mass = net.mass()
         j, i = net.grid.cell_ij[:, 0], net.grid.cell_ij[:, 1]
@@ -144,6 +145,7 @@ class _Integrator:
         self.lu = None
         self.lu_dt = None
         self.lu_phase: Phase | None = None
+        self.rate_estimate: float | None = None
         self.stats = {"steps": 0, "rejected_steps": 0, "iterations": 0, "factorisations": 0}
         self._phase_cache: tuple[Phase | None, dict] = (None, {})
         self._evaluators: dict[int, tuple] = {}
@@ -155,11 +157,9 @@ class _Integrator:
         n = self.n
         c, H = np.empty(n), np.empty(n)
         for material, block in self.net.material_blocks:
-            t = T[block]
-            self.k_stack[block] = material.conductivity_radial(t)
-            self.k_stack[n + block.start : n + block.stop] = material.conductivity_axial(t)
-            c[block] = material.volumetric_heat_capacity(t)
-            H[block] = material.enthalpy(t)
+            k_r, k_z, c[block], H[block] = material.thermal_properties(T[block])
+            self.k_stack[block] = k_r
+            self.k_stack[n + block.start : n + block.stop] = k_z
         return c, H
 
     def enthalpy(self, T: np.ndarray) -> np.ndarray:
@@ -202,6 +202,20 @@ class _Integrator:
         self._phase_cache = (phase, arrays)
         return arrays
 
+    def assemble(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
+        """Write the step matrix in place: ``diagonal`` plus the conductances of every link."""
+        n, net, data = self.n, self.net, self.matrix.data
+        diagonal = diagonal + np.bincount(self.link_ends, weights=np.concatenate((G, G, G_gap, G_gap)), minlength=n)
+        if self.unique_positions:
+            data[self.pos_diag] = diagonal
+            data[self.pos_ab] = -G
+            data[self.pos_ba] = -G
+            data[self.pos_gap_ab] = -G_gap
+            data[self.pos_gap_ba] = -G_gap
+        else:  # a link and a gap pair share cells: sum the duplicates
+            values = np.concatenate((diagonal, -G, -G, -G_gap, -G_gap))
+            data[:] = np.bincount(self.position, weights=values, minlength=data.size)
+
     def _evaluator(self, law):
         """One (possibly tabulated) evaluator per law object, shared by the phases using it."""
         key = id(law)
@@ -225,9 +239,7 @@ class _Integrator:
         r_half = net.face_g / self.k_stack[self.k_face]
         hA = h * net.face_area
         U = hA / (1.0 + hA * r_half)
-        t_eq = np.where(
-            h > 0, (h_conv * env["ambient"] + h_rad * t_rad) / np.where(h > 0, h, 1.0), env["ambient"]
-        )
+        t_eq = np.where(h > 0, (h_conv * env["ambient"] + h_rad * t_rad) / np.where(h > 0, h, 1.0), env["ambient"])
         return {
             "U": U,
             "t_eq": t_eq,
@@ -250,9 +262,7 @@ class _Integrator:
         return {"G": G, "r_a": r_a, "r_b": r_b}
 
     # ---------------------------------------------------------------- one step
-    def step(
-        self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, guess: np.ndarray, surf: dict
-    ) -> dict:
+    def step(self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, guess: np.ndarray, surf: dict) -> dict:
         """Advance one step; raises _StepFailed. ``surf`` holds surface temperatures (updated)."""
         net, n, opt = self.net, self.n, self.opt
         phase = self.schedule.phase_at(t0 + 0.5 * dt)
@@ -288,15 +298,7 @@ class _Integrator:
             if volume_source is not None:
                 b += volume_source
             capacity = c * inv_dt_v
-            diagonal = capacity + U_cell
-            diagonal += np.bincount(net.link_a, weights=G, minlength=n) + np.bincount(
-                net.link_b, weights=G, minlength=n
-            )
-            diagonal += np.bincount(net.gap_a, weights=gap["G"], minlength=n) + np.bincount(
-                net.gap_b, weights=gap["G"], minlength=n
-            )
-            values = np.concatenate((diagonal, -G, -G, -gap["G"], -gap["G"]))
-            self.matrix.data[:] = np.bincount(self.position, weights=values, minlength=self.matrix.data.size)
+            self.assemble(capacity + U_cell, G, gap["G"])
             residual = self.matrix @ T - capacity * T + inv_dt_v * (H - H_n) - b
             if refactor:
                 self.factorise(dt)
@@ -304,19 +306,17 @@ class _Integrator:
                 refactor, fresh = False, True
             correction = self.lu.solve(-residual)
             T_star = T + correction
-            if not np.all(np.isfinite(T_star)):
-                bad = int(np.flatnonzero(~np.isfinite(T_star))[0])
-                raise _StepFailed("non-finite temperature", bad)
             change = np.abs(correction)
             largest = float(change.max()) if change.size else 0.0
+            if not np.isfinite(largest):  # max propagates NaN and inf
+                bad = int(np.flatnonzero(~np.isfinite(T_star))[0])
+                raise _StepFailed("non-finite temperature", bad)
             self.stats["iterations"] += 1
             if self._converged(largest, previous_change):
                 T_new, H_new = self._conservative_update(T_star, H_n, b, capacity, inv_dt_v)
                 adjustment = float(np.max(np.abs(T_new - T_star))) if T_new.size else 0.0
                 if adjustment <= max(10.0 * opt.tolerance, 1e-6):
-                    heat_in = power * dt + (
-                        dt * float(np.sum(volume_source)) if volume_source is not None else 0.0
-                    )
+                    heat_in = power * dt + (dt * float(np.sum(volume_source)) if volume_source is not None else 0.0)
                     self.stats["largest_finish_adjustment"] = max(
                         self.stats.get("largest_finish_adjustment", 0.0), adjustment
                     )
@@ -333,12 +333,7 @@ class _Integrator:
             q_gap = gap["G"] * (T[net.gap_a] - T[net.gap_b])
             gap_ta = T[net.gap_a] - q_gap * gap["r_a"]
             gap_tb = T[net.gap_b] + q_gap * gap["r_b"]
-            if (
-                iteration >= 2
-                and previous_change is not None
-                and largest > 0.3 * previous_change
-                and not fresh
-            ):
+            if iteration >= 2 and previous_change is not None and largest > 0.3 * previous_change and not fresh:
                 refactor = True  # slow contraction with old factors: refactorise once this step
             previous_change = largest
         cell = int(np.argmax(change))
@@ -361,9 +356,7 @@ class _Integrator:
         except PropertyRangeError as exc:
             raise _StepFailed(str(exc), self._out_of_range_cell(T_star)) from None
 
-    def _finish(
-        self, T_star, T_new, H_new, H_n, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration
-    ) -> dict:
+    def _finish(self, T_star, T_new, H_new, H_n, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration) -> dict:
         """Accounts of an accepted step and the surface temperatures for the next one."""
         net = self.net
         q_face = bnd["U"] * (T_star[net.face_cell] - bnd["t_eq"])
@@ -412,12 +405,18 @@ class _Integrator:
         return density * self.net.volume
 
     def _converged(self, largest: float, previous: float | None) -> bool:
+        """Whether the estimated remaining error ``rate / (1 - rate) * |last correction|`` is
+        below the tolerance; the contraction rate is measured from the last two
+        corrections, or on a step's first iteration taken (doubled, for safety) from the
+        previous step. The conservative end-of-step check still guards the result."""
         tol = self.opt.tolerance
         if largest <= tol:
             return True
         if previous is None or previous <= 0:
-            return False
+            rate = self.rate_estimate
+            return rate is not None and rate < 0.25 and 2.0 * rate / (1.0 - 2.0 * rate) * largest <= tol
         rate = largest / previous
+        self.rate_estimate = rate
         return rate < 0.9 and rate / (1.0 - rate) * largest <= tol
 
     def friction_sources(self, power: float, k: np.ndarray, c: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -450,9 +449,7 @@ class _Integrator:
     # ---------------------------------------------------------------- the run
     def run(self, T0: np.ndarray, t_start: float) -> Result:
         net, opt, schedule = self.net, self.opt, self.schedule
-        breakpoints = np.unique(
-            np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float)))
-        )
+        breakpoints = np.unique(np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float))))
         breakpoints = breakpoints[(breakpoints > t_start) & (breakpoints <= schedule.end)]
         snapshot_times = set(float(t) for t in opt.snapshot_times)
         T = T0.copy()
@@ -529,8 +526,7 @@ class _Integrator:
             r, z = self.net.grid.r_centres[i], self.net.grid.z_centres[j]
             where = f" in part {self.net.assembly.parts[k].name!r} near r={r:.4g} m, z={z:.4g} m"
         raise SolverError(
-            f"at t = {t:.6g} s the step failed{where}: {failure.reason} "
-            f"(after {cut} step cuts, last step {dt:.3g} s)"
+            f"at t = {t:.6g} s the step failed{where}: {failure.reason} (after {cut} step cuts, last step {dt:.3g} s)"
         ) from None
 
     def _next_step(self, dt: float, change: np.ndarray) -> float:
@@ -688,9 +684,7 @@ def integrate(
     T0 = initial_field(network, initial)
     start = initial.time if isinstance(initial, State) else schedule.start
     if start < schedule.start - 1e-9 or start >= schedule.end:
-        raise InputError(
-            f"initial state time {start} s is outside the schedule {schedule.start}..{schedule.end} s"
-        )
+        raise InputError(f"initial state time {start} s is outside the schedule {schedule.start}..{schedule.end} s")
     try:
         return _Integrator(network, schedule, options, progress).run(T0, max(start, schedule.start))
     except HeatstackError:
