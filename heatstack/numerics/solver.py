@@ -204,7 +204,7 @@ class _Integrator:
 
     def assemble(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
         """Write the step matrix in place: ``diagonal`` plus the conductances of every link."""
-        n, net, data = self.n, self.net, self.matrix.data
+        n, data = self.n, self.matrix.data
         diagonal = diagonal + np.bincount(self.link_ends, weights=np.concatenate((G, G, G_gap, G_gap)), minlength=n)
         if self.unique_positions:
             data[self.pos_diag] = diagonal
