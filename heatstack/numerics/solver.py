@@ -281,6 +281,7 @@ class _Integrator:
         # fresh factors when the step size or the phase (cooling laws, contact state) changes
         refactor = self.lu is None or self.lu_phase is not phase or not (0.75 <= dt / self.lu_dt <= 1.35)
         fresh = False
+        history: list[tuple[np.ndarray, np.ndarray]] = []
         for iteration in range(opt.max_iterations):
             try:
                 c, H = self.properties(T)
@@ -326,7 +327,10 @@ class _Integrator:
                 # the fluxes at T_star do not yet balance the cells: iterate on from the
                 # balanced state, with factors of the current coefficients
                 refactor, fresh, previous_change = True, False, None
+                history.clear()
                 T_star = T_new
+            else:
+                T_star = self._accelerate(history, T, correction)
             T = T_star
             q_face = bnd["U"] * (T[net.face_cell] - bnd["t_eq"])
             face_ts = T[net.face_cell] - q_face * bnd["r_half"]
@@ -355,6 +359,30 @@ class _Integrator:
             return self.temperature(H_new), H_new
         except PropertyRangeError as exc:
             raise _StepFailed(str(exc), self._out_of_range_cell(T_star)) from None
+
+    @staticmethod
+    def _accelerate(history: list, T: np.ndarray, correction: np.ndarray, depth: int = 2) -> np.ndarray:
+        """Anderson-accelerated next iterate of the fixed point ``T -> T + correction(T)``.
+
+        References
+        ----------
+        .. [1] Walker, H.F., Ni, P., 2011, Anderson acceleration for fixed-point
+           iterations, SIAM J. Numer. Anal. 49(4), 1715-1735 (type II, depth ``depth``).
+        """
+        history.append((T, correction))
+        if len(history) > depth + 1:
+            del history[0]
+        if len(history) < 2:
+            return T + correction
+        d_T = np.column_stack([b[0] - a[0] for a, b in zip(history[:-1], history[1:], strict=True)])
+        d_f = np.column_stack([b[1] - a[1] for a, b in zip(history[:-1], history[1:], strict=True)])
+        gram = d_f.T @ d_f
+        try:
+            gamma = np.linalg.solve(gram + 1e-14 * np.trace(gram) * np.eye(gram.shape[0]), d_f.T @ correction)
+        except np.linalg.LinAlgError:
+            history.clear()
+            return T + correction
+        return T + correction - (d_T + d_f) @ gamma
 
     def _finish(self, T_star, T_new, H_new, H_n, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration) -> dict:
         """Accounts of an accepted step and the surface temperatures for the next one."""
