@@ -7,9 +7,10 @@ Per cell ``i`` of volume ``V_i`` the scheme is backward Euler on enthalpy::
 with every conductance, boundary coefficient and source partition evaluated at the
 current iterate (so the system stays symmetric positive definite). Each Newton
 iteration solves ``J d = -F`` with the factors of a recent ``J`` (one triangular
-solve), then sets the new enthalpy *from the fluxes at* ``T + d`` and the temperature by
-the exact inverse of ``H``. Every iteration therefore conserves energy to round-off,
-whether or not the factors are current; iterating only improves accuracy.
+solve); the iterates are Anderson-accelerated. When the correction is below the
+tolerance, the new enthalpy is set *from the fluxes at* ``T + d`` and the temperature by
+the exact inverse of ``H``, so every accepted step conserves energy to round-off; the
+step is accepted only if that moves no temperature by more than ten tolerances.
 
 References
 ----------
