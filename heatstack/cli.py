@@ -11,6 +11,7 @@ errors print one clear line, never a traceback.
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from collections.abc import Callable, Sequence
 from importlib import resources
@@ -297,6 +298,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("heatstack: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # output piped into a reader that stopped (e.g. head)
+        sys.stdout = open(os.devnull, "w")  # noqa: SIM115 - keep Python's exit flush quiet
+        return 0
 
 
 if __name__ == "__main__":
