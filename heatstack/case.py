@@ -31,7 +31,16 @@ from .report import ReportSettings, TyreSettings
 from .result import Result
 from .units import to_si
 
-__all__ = ["Case", "OutputSettings", "load_case", "parse_case", "run_case", "EVENT_KINDS"]
+__all__ = [
+    "Case",
+    "OutputSettings",
+    "load_case",
+    "parse_case",
+    "case_from_mapping",
+    "design_dimension",
+    "run_case",
+    "EVENT_KINDS",
+]
 
 _REQUIRED = object()
 
@@ -234,7 +243,7 @@ def _design(table: _Table) -> WheelBrakeDesign:
         elif isinstance(current, str):
             changes[key] = table.text(key)
         else:
-            dimension = _design_dimension(key)
+            dimension = design_dimension(key)
             changes[key] = table.quantity(key, dimension)
     table.finish(names)
     try:
@@ -243,7 +252,8 @@ def _design(table: _Table) -> WheelBrakeDesign:
         raise InputError(f"{table.path}: {exc}") from exc
 
 
-def _design_dimension(key: str) -> str:
+def design_dimension(key: str) -> str:
+    """The physical dimension of a WheelBrakeDesign field, for values given with units."""
     if key.endswith("_time_constant"):
         return "time"
     if key.endswith("_fraction"):
@@ -515,14 +525,19 @@ def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> C
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{origin}: not valid TOML: {exc}") from None
     try:
-        return _parse(data, text, origin, Path(base))
+        return case_from_mapping(data, text, origin, Path(base))
     except InputError as exc:
         raise type(exc)(f"{origin}: {exc}") from None
     except HeatstackError as exc:
         raise InputError(f"{origin}: {exc}") from None
 
 
-def _parse(data: dict, text: str, origin: str, base: Path) -> Case:
+def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
+    """Validate an already parsed case mapping (e.g. a study's modified copy) into a Case.
+
+    ``text`` is kept as the case text; ``base`` resolves relative paths. Errors are not
+    prefixed with ``origin`` here (:func:`parse_case` does that).
+    """
     root = _Table(data, "")
     head = root.table("case", {})
     title = head.text("title", "untitled case")

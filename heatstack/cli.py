@@ -2,7 +2,7 @@
 
 Verbs: ``run`` a case, ``check`` a case (parts, cells, layout drawing), ``report`` on a
 results file, ``plot`` a results file, ``fit`` the braking energy to a recorded sensor
-trace, list ``materials``, run the ``demo``.
+trace, run or resume a ``study``, list ``materials``, run the ``demo``.
 
 Exit codes: 0 success, 2 bad input (a heatstack input error), 1 internal error. User
 errors print one clear line, never a traceback.
@@ -31,9 +31,7 @@ def demo_case_path() -> Path:
     return Path(__file__).resolve().parents[1] / "examples" / "demo_rto.toml"
 
 
-def _progress(
-    total_time: float, start: float, quiet: bool
-) -> tuple[Callable[[float], None] | None, Callable]:
+def _progress(total_time: float, start: float, quiet: bool) -> tuple[Callable[[float], None] | None, Callable]:
     """A tqdm bar over simulated time when stderr is a terminal, else nothing."""
     if quiet or not sys.stderr.isatty():
         return None, lambda: None
@@ -69,9 +67,7 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
     target = check_writable(out / case.output.file)
     model = case.build_model()
     if not quiet:
-        print(
-            f"heatstack: {case.title}: {model.n_cells} cells, {len(case.duty.phases)} phases", file=sys.stderr
-        )
+        print(f"heatstack: {case.title}: {model.n_cells} cells, {len(case.duty.phases)} phases", file=sys.stderr)
     update, close = _progress(case.duty.duration, 0.0, quiet)
     try:
         result = run_case(case, model, update)
@@ -216,6 +212,45 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     return 0 if estimate.converged else 1
 
 
+def _cmd_study(args: argparse.Namespace) -> int:
+    from .studies import LocalExecutor, load_study, run_study, sensitivity, study_report
+    from .studies.plots import plot_margin_histogram, plot_tornado
+
+    study = load_study(args.study)
+    store = Path(args.store) if args.store else Path(args.study).with_suffix(".store")
+    executor = args.scheduler or LocalExecutor(workers=args.workers)
+    try:
+        run = run_study(
+            study,
+            store,
+            executor,
+            progress=None if not args.quiet else False,
+            retry_failed=args.retry_failed,
+            timeout=args.timeout,
+        )
+    finally:
+        if not isinstance(executor, str):
+            executor.close()
+    print(
+        f"study: {run.cases_run} cases run, {run.cases_skipped} already in the store, "
+        f"{run.cases_failed} failed, {run.seconds:.1f} s"
+    )
+    report = study_report(run.table, temperature_unit=args.unit)
+    print(report)
+    if args.report:
+        Path(args.report).write_text(report, encoding="utf-8")
+    plots = Path(args.plots) if args.plots else store
+    if "plug_margin_min" in run.table.columns:
+        print(f"plot: {plot_margin_histogram(run.table, plots / 'margin-histogram.png')}")
+        try:
+            ranking = sensitivity(run.table)
+        except InputError as exc:  # too few finished cases for a ranking: say so, keep the rest
+            print(f"no sensitivity tornado: {exc}")
+        else:
+            print(f"plot: {plot_tornado(ranking, plots / 'sensitivity-tornado.png')}")
+    return 0
+
+
 def _cmd_materials(args: argparse.Namespace) -> int:
     from .materials import available_materials, load_material
 
@@ -246,9 +281,7 @@ def _parser() -> argparse.ArgumentParser:
     run.set_defaults(func=_cmd_run)
 
     demo = verbs.add_parser("demo", help="run the invented demonstration case")
-    demo.add_argument(
-        "--out", default="heatstack-demo", help="folder for results and plots (default: %(default)s)"
-    )
+    demo.add_argument("--out", default="heatstack-demo", help="folder for results and plots (default: %(default)s)")
     demo.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
     demo.add_argument("--quiet", action="store_true", help="no progress output")
     demo.set_defaults(func=_cmd_demo)
@@ -274,10 +307,22 @@ def _parser() -> argparse.ArgumentParser:
     fit = verbs.add_parser("fit", help="estimate the braking energy from a recorded sensor trace")
     fit.add_argument("case", help="case file whose duty the trace followed")
     fit.add_argument("trace", help="CSV: time_<unit>,temperature_<unit>")
-    fit.add_argument(
-        "--sensor", default="sensor", help="probe the trace was read from (default: %(default)s)"
-    )
+    fit.add_argument("--sensor", default="sensor", help="probe the trace was read from (default: %(default)s)")
     fit.set_defaults(func=_cmd_fit)
+
+    study = verbs.add_parser("study", help="run or resume a sweep or Monte Carlo study")
+    study.add_argument("study", help="study file (TOML with a [study] table and its base_case)")
+    study.add_argument("--store", help="store folder (default: STUDY.store); a rerun resumes it")
+    place = study.add_mutually_exclusive_group()
+    place.add_argument("--workers", type=int, default=None, help="local worker processes (default: all cores)")
+    place.add_argument("--scheduler", help="address of a Dask scheduler, e.g. tcp://10.0.0.5:8786")
+    study.add_argument("--timeout", type=float, default=10.0, help="seconds to reach the scheduler")
+    study.add_argument("--retry-failed", action="store_true", help="run again the cases recorded as failed")
+    study.add_argument("--report", help="also write the study report (Markdown) to this file")
+    study.add_argument("--plots", help="folder for the margin histogram and tornado (default: the store)")
+    study.add_argument("--unit", choices=units, default="degC")
+    study.add_argument("--quiet", action="store_true")
+    study.set_defaults(func=_cmd_study)
 
     materials = verbs.add_parser("materials", help="list the shipped materials")
     materials.set_defaults(func=_cmd_materials)

@@ -50,5 +50,13 @@ class ResultFileError(HeatstackError, OSError):
     """A results file is missing, malformed or cannot be written."""
 
 
+class OptionalDependencyError(HeatstackError, ImportError):
+    """An optional package needed for this call is not installed."""
+
+
+class ExecutorError(HeatstackError, RuntimeError):
+    """A study executor failed (a worker process died, the cluster went away)."""
+
+
 class HeatstackWarning(UserWarning):
     """Soft problems: a property table clamped, a tolerance loosened, and so on."""

@@ -84,3 +84,24 @@ def test_command_line_entry_point_exits_non_zero_without_traceback(tmp_path):
         text=True,
     )
     assert proc.returncode == 2 and "does not exist" in proc.stderr and "Traceback" not in proc.stderr
+
+
+def test_study_verb_runs_resumes_and_reports(tmp_path, capsys):
+    study = tmp_path / "study.toml"
+    text = (demo_case_path().parent / "demo_study.toml").read_text().replace("cases = 200", "cases = 4")
+    study.write_text(text.replace('base_case = "demo_rto.toml"', f'base_case = "{demo_case_path()}"'))
+    store = tmp_path / "store"
+    assert main(["study", str(study), "--store", str(store), "--workers", "2", "--quiet"]) == 0
+    first = capsys.readouterr().out
+    assert "4 cases run" in first and "Wilson" in first
+    assert main(["study", str(study), "--store", str(store), "--workers", "1", "--quiet"]) == 0
+    assert "0 cases run, 4 already in the store" in capsys.readouterr().out
+
+
+def test_study_with_a_bad_parameter_path_exits_2(tmp_path, capsys):
+    study = tmp_path / "study.toml"
+    text = (demo_case_path().parent / "demo_study.toml").read_text()
+    text = text.replace('base_case = "demo_rto.toml"', f'base_case = "{demo_case_path()}"')
+    study.write_text(text.replace("events[0].mass", "events[0].mas"))
+    assert main(["study", str(study), "--store", str(tmp_path / "s"), "--quiet"]) == 2
+    assert "mass" in capsys.readouterr().err

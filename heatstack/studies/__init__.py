@@ -1,0 +1,97 @@
+"""Studies at fleet scale: parameter sweeps and Monte Carlo fuse-plug margins.
+
+A :class:`Study` names a base case file, the parameters to vary (addressed by their key
+path in the case, e.g. ``duty.phases[0].events[0].mass``), how to sample them (a full
+grid, random, or a Latin hypercube) and what to collect. :func:`run_study` runs it on
+an executor (in this process, a local process pool or a Dask cluster) into a store
+folder, one file per finished case, so that an interrupted study resumes where it
+stopped. The results come back as a :class:`StudyTable`; the analysis functions give
+release probabilities with confidence intervals, margin percentiles and sensitivity
+rankings, and :mod:`heatstack.studies.plots` draws them.
+
+Example (an invented study of the invented demonstration case)
+--------------------------------------------------------------
+>>> from heatstack.studies import Study, Parameter, Normal, Uniform, Sampling, run_study, release_probability
+>>> study = Study(                                                     # doctest: +SKIP
+...     "examples/demo_rto.toml",
+...     [Parameter("duty.phases[0].events[0].mass", Normal("62 t", "3 t"), name="mass"),
+...      Parameter("assembly.fuse_plugs[0].release_temperature", Uniform("174 degC", "180 degC"))],
+...     Sampling("latin_hypercube", cases=200, seed=1),
+...     cell_size="8 mm", target_change="8 K")
+>>> run = run_study(study, "mass-study")                               # doctest: +SKIP
+>>> release_probability(run.table).wilson                              # doctest: +SKIP
+
+Not certified data.
+"""
+
+from __future__ import annotations
+
+from .analysis import (
+    OptionalDependencyError,
+    ProbabilityEstimate,
+    Sensitivity,
+    SensitivityResult,
+    StudyTable,
+    binomial_intervals,
+    margin_percentiles,
+    release_probability,
+    sensitivity,
+    study_report,
+)
+from .description import (
+    DISTRIBUTIONS,
+    Distribution,
+    LogNormal,
+    Normal,
+    Parameter,
+    Sampling,
+    Study,
+    StudyPlan,
+    Triangular,
+    TruncatedNormal,
+    Uniform,
+    load_study,
+    plan_study,
+    study_from_mapping,
+)
+from .executors import DaskExecutor, ExecutorError, LocalExecutor, SerialExecutor, StudyExecutor
+from .runner import CaseOutcome, StudyRun, run_study, summarise
+from .store import StudyStore, load_table
+
+__all__ = [
+    "CaseOutcome",
+    "DISTRIBUTIONS",
+    "DaskExecutor",
+    "Distribution",
+    "ExecutorError",
+    "LocalExecutor",
+    "LogNormal",
+    "Normal",
+    "OptionalDependencyError",
+    "Parameter",
+    "ProbabilityEstimate",
+    "Sampling",
+    "SerialExecutor",
+    "Sensitivity",
+    "SensitivityResult",
+    "Study",
+    "StudyExecutor",
+    "StudyPlan",
+    "StudyRun",
+    "StudyStore",
+    "StudyTable",
+    "Triangular",
+    "TruncatedNormal",
+    "Uniform",
+    "binomial_intervals",
+    "load_study",
+    "load_table",
+    "margin_percentiles",
+    "plan_study",
+    "release_probability",
+    "run_study",
+    "sensitivity",
+    "study_from_mapping",
+    "study_report",
+    "summarise",
+]

@@ -1,0 +1,528 @@
+"""Study results: the table, release probabilities with confidence intervals, percentiles, sensitivities.
+
+The release probability of a fuse plug is estimated by the fraction of cases in which
+it released, with two binomial confidence intervals: Wilson's score interval [1]_
+(close to nominal coverage on average) and the Clopper-Pearson interval [2]_ (never
+below nominal coverage, wider). Both assume independent cases: true of random
+sampling; with Latin hypercube sampling the cases are stratified and the intervals are
+conservative; for a grid the "probability" is only the fraction of grid points.
+
+Sensitivities rank the parameters by Spearman's rank correlation with an output
+(monotone effects) and by standardised regression coefficients (linear effects; their
+squares sum to the R^2 of the linear fit when the parameters are uncorrelated) [3]_.
+
+References
+----------
+.. [1] Wilson, E.B., 1927, Probable inference, the law of succession, and statistical
+   inference, J. Am. Stat. Assoc. 22, 209-212.
+.. [2] Clopper, C.J., Pearson, E.S., 1934, The use of confidence or fiducial limits
+   illustrated in the case of the binomial, Biometrika 26, 404-413.
+.. [3] Saltelli, A. et al., 2008, Global Sensitivity Analysis: The Primer, Wiley,
+   section 1.2 (standardised regression coefficients).
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+from scipy import stats
+
+from ..errors import InputError, OptionalDependencyError
+
+__all__ = [
+    "StudyTable",
+    "OptionalDependencyError",
+    "ProbabilityEstimate",
+    "Sensitivity",
+    "SensitivityResult",
+    "binomial_intervals",
+    "release_probability",
+    "margin_percentiles",
+    "sensitivity",
+    "study_report",
+    "column_unit",
+    "DIAGNOSTIC_COLUMNS",
+]
+
+#: Columns that describe how a case ran, not what it computed (they differ between runs).
+DIAGNOSTIC_COLUMNS = ("wall_time", "worker", "model_reused", "warnings")
+
+_UNITS = {
+    "peak:": "K",
+    "peak_time:": "s",
+    "peak_delay:": "s",
+    "limit_margin:": "K",
+    "plug_peak:": "K",
+    "plug_margin:": "K",
+    "plug_released:": "",
+    "solver:": "",
+}
+
+
+def column_unit(name: str) -> str:
+    """SI unit of an output column, from its name."""
+    for prefix, unit in _UNITS.items():
+        if name.startswith(prefix):
+            return unit
+    return {"energy_in": "J", "plug_margin_min": "K", "any_plug_released": "", "wall_time": "s"}.get(name, "")
+
+
+@dataclass(frozen=True, eq=False)
+class StudyTable:
+    """The results of a study, one row per case in case order.
+
+    Attributes
+    ----------
+    columns : dict of str to ndarray
+        ``case``; one column per parameter [SI]; ``status`` (``ok``, ``failed`` or
+        ``pending``); ``error``; the outputs [SI] (NaN where a case did not finish, see
+        :func:`heatstack.studies.runner.summarise` for the names); and the diagnostic
+        columns ``warnings``, ``wall_time`` [s], ``worker``, ``model_reused``.
+    parameter_names, output_names : tuple of str
+    units : dict of str to str
+        SI unit of each column ("" for none).
+    title, method : str
+    """
+
+    columns: dict[str, np.ndarray]
+    parameter_names: tuple[str, ...]
+    output_names: tuple[str, ...]
+    units: dict[str, str] = field(default_factory=dict)
+    title: str = ""
+    method: str = ""
+
+    def __getitem__(self, name: str) -> np.ndarray:
+        if name not in self.columns:
+            close = difflib.get_close_matches(name, list(self.columns), n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else ""
+            raise InputError(f"study table: no column {name!r}{hint}")
+        return self.columns[name]
+
+    def __contains__(self, name: str) -> bool:
+        return name in self.columns
+
+    def __len__(self) -> int:
+        return self.n_cases
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        """Column names in order."""
+        return tuple(self.columns)
+
+    @property
+    def n_cases(self) -> int:
+        """Number of rows."""
+        return int(self.columns["case"].size)
+
+    @property
+    def ok(self) -> np.ndarray:
+        """Mask of the cases that finished without error."""
+        return self.columns["status"] == "ok"
+
+    def counts(self) -> dict[str, int]:
+        """Number of cases per status."""
+        status = self.columns["status"]
+        return {s: int(np.count_nonzero(status == s)) for s in ("ok", "failed", "pending")}
+
+    def as_dict(self) -> dict[str, np.ndarray]:
+        """The columns (a shallow copy of the mapping)."""
+        return dict(self.columns)
+
+    def same_results(self, other: StudyTable) -> bool:
+        """Whether two tables hold the same cases and values (diagnostic columns ignored).
+
+        Values are compared exactly (NaN equal to NaN).
+        """
+        mine = [n for n in self.columns if n not in DIAGNOSTIC_COLUMNS]
+        theirs = [n for n in other.columns if n not in DIAGNOSTIC_COLUMNS]
+        if mine != theirs:
+            return False
+        for name in mine:
+            a, b = self.columns[name], other.columns[name]
+            if a.shape != b.shape:
+                return False
+            if a.dtype.kind == "f":
+                if not np.array_equal(a, b, equal_nan=True):
+                    return False
+            elif not np.array_equal(a, b):
+                return False
+        return True
+
+    def to_dataframe(self):
+        """The table as a :class:`pandas.DataFrame` (pandas is optional).
+
+        Raises
+        ------
+        OptionalDependencyError
+            If pandas is not installed.
+        """
+        try:
+            import pandas as pd
+        except ImportError:
+            raise OptionalDependencyError(
+                "StudyTable.to_dataframe needs pandas, an optional dependency that is not installed "
+                "(pip install pandas); without it the table is table.columns, a dict of numpy arrays"
+            ) from None
+        frame = pd.DataFrame({name: values for name, values in self.columns.items()})
+        frame.attrs["units"] = dict(self.units)
+        frame.attrs["title"] = self.title
+        return frame.set_index("case")
+
+
+# ---------------------------------------------------------------------------- probabilities
+
+
+@dataclass(frozen=True)
+class ProbabilityEstimate:
+    """A binomial proportion with two confidence intervals.
+
+    Attributes
+    ----------
+    label : str
+    events : int
+        Cases with the event (release).
+    trials : int
+        Cases counted (finished without error).
+    estimate : float
+        ``events / trials``.
+    confidence : float
+        Confidence level of the intervals, e.g. 0.95.
+    wilson : (float, float)
+        Wilson score interval [1]_.
+    clopper_pearson : (float, float)
+        Clopper-Pearson ("exact") interval [2]_.
+    """
+
+    label: str
+    events: int
+    trials: int
+    estimate: float
+    confidence: float
+    wilson: tuple[float, float]
+    clopper_pearson: tuple[float, float]
+
+
+def _check_confidence(confidence: float) -> float:
+    if isinstance(confidence, bool) or not isinstance(confidence, int | float) or not 0.0 < confidence < 1.0:
+        raise InputError(f"confidence: must lie strictly between 0 and 1, got {confidence!r}")
+    return float(confidence)
+
+
+def binomial_intervals(
+    events: int, trials: int, confidence: float = 0.95
+) -> tuple[tuple[float, float], tuple[float, float]]:
+    """Wilson score and Clopper-Pearson intervals for ``events`` out of ``trials``.
+
+    Parameters
+    ----------
+    events, trials : int
+        ``0 <= events <= trials``, ``trials >= 1``.
+    confidence : float
+        Two-sided confidence level.
+
+    Returns
+    -------
+    wilson, clopper_pearson : (float, float)
+
+    Notes
+    -----
+    Wilson's interval is that of :meth:`scipy.stats.binomtest` (``method="wilson"``).
+    The Clopper-Pearson bounds are the beta quantiles
+    ``B(alpha/2; k, n-k+1)`` and ``B(1-alpha/2; k+1, n-k)`` (0 and 1 at the ends),
+    from :data:`scipy.stats.beta`.
+    """
+    confidence = _check_confidence(confidence)
+    for name, value in (("events", events), ("trials", trials)):
+        if isinstance(value, bool) or not isinstance(value, int | np.integer):
+            raise InputError(f"{name}: expected a whole number, got {value!r}")
+    if trials < 1 or not 0 <= events <= trials:
+        raise InputError(f"events, trials: need 0 <= events <= trials and trials >= 1, got {events} of {trials}")
+    k, n = int(events), int(trials)
+    ci = stats.binomtest(k, n).proportion_ci(confidence_level=confidence, method="wilson")
+    alpha = 1.0 - confidence
+    low = 0.0 if k == 0 else float(stats.beta.ppf(alpha / 2.0, k, n - k + 1))
+    high = 1.0 if k == n else float(stats.beta.ppf(1.0 - alpha / 2.0, k + 1, n - k))
+    return (float(ci.low), float(ci.high)), (low, high)
+
+
+def release_probability(table: StudyTable, plug: str | None = None, confidence: float = 0.95) -> ProbabilityEstimate:
+    """Probability that a fuse plug releases (any plug by default), from the finished cases.
+
+    Parameters
+    ----------
+    table : StudyTable
+    plug : str, optional
+        Plug name (e.g. ``"fuse plug 1"``); ``None`` for "any plug".
+    confidence : float
+
+    Raises
+    ------
+    InputError
+        If the study has no fuse plugs, no such plug, or no finished case.
+    """
+    column = "any_plug_released" if plug is None else f"plug_released:{plug}"
+    if column not in table.columns:
+        plugs = [n.split(":", 1)[1] for n in table.output_names if n.startswith("plug_released:")]
+        if not plugs:
+            raise InputError("release_probability: the study's cases have no fuse plugs")
+        close = difflib.get_close_matches(str(plug), plugs, n=1)
+        hint = f"; did you mean {close[0]!r}?" if close else f"; plugs: {', '.join(plugs)}"
+        raise InputError(f"release_probability: no fuse plug named {plug!r}{hint}")
+    values = table[column][table.ok]
+    if values.size == 0:
+        raise InputError("release_probability: no case finished without error")
+    k, n = int(np.count_nonzero(values > 0.5)), int(values.size)
+    wilson, exact = binomial_intervals(k, n, confidence)
+    return ProbabilityEstimate(plug or "any plug", k, n, k / n, confidence, wilson, exact)
+
+
+def margin_percentiles(
+    table: StudyTable, column: str = "plug_margin_min", q: Sequence[float] = (5.0, 50.0, 95.0)
+) -> dict[float, float]:
+    """Percentiles of an output over the finished cases (numpy's linear interpolation).
+
+    Parameters
+    ----------
+    table : StudyTable
+    column : str
+        Output column, e.g. ``"plug_margin_min"`` or ``"limit_margin:inboard bead seat"`` [K].
+    q : sequence of float
+        Percentiles in [0, 100].
+    """
+    values = table[column][table.ok]
+    values = values[np.isfinite(values)]
+    if values.size == 0:
+        raise InputError(f"margin_percentiles: no finished case has a value of {column!r}")
+    qs = [float(x) for x in q]
+    if any(not 0.0 <= x <= 100.0 for x in qs):
+        raise InputError(f"q: percentiles must lie in [0, 100], got {list(q)}")
+    return dict(zip(qs, (float(v) for v in np.percentile(values, qs)), strict=True))
+
+
+# ---------------------------------------------------------------------------- sensitivity
+
+
+@dataclass(frozen=True)
+class Sensitivity:
+    """Sensitivity of one output to one parameter.
+
+    Attributes
+    ----------
+    parameter : str
+    spearman : float
+        Spearman rank correlation coefficient [-].
+    p_value : float
+        Two-sided p-value of ``spearman`` (no correlation as the null hypothesis).
+    src : float
+        Standardised regression coefficient [-]: change of the output, in standard
+        deviations, per standard deviation of the parameter, the others fixed.
+    """
+
+    parameter: str
+    spearman: float
+    p_value: float
+    src: float
+
+
+@dataclass(frozen=True)
+class SensitivityResult:
+    """Sensitivities of one output, ranked by ``|spearman|`` (largest first).
+
+    Attributes
+    ----------
+    output : str
+    entries : tuple of Sensitivity
+    r_squared : float
+        Coefficient of determination of the linear fit behind the SRCs.
+    cases : int
+        Cases used.
+    skipped : tuple of str
+        Parameters left out (constant over the cases).
+    """
+
+    output: str
+    entries: tuple[Sensitivity, ...]
+    r_squared: float
+    cases: int
+    skipped: tuple[str, ...] = ()
+
+
+def _default_output(table: StudyTable) -> str:
+    for name in ("plug_margin_min", *[n for n in table.output_names if n.startswith("limit_margin:")]):
+        if name in table.columns:
+            return name
+    peaks = [n for n in table.output_names if n.startswith("peak:")]
+    if not peaks:
+        raise InputError("sensitivity: the table has no outputs")
+    return peaks[0]
+
+
+def sensitivity(
+    table: StudyTable, output: str | None = None, parameters: Sequence[str] | None = None
+) -> SensitivityResult:
+    """Rank parameters by their influence on an output.
+
+    Parameters
+    ----------
+    table : StudyTable
+    output : str, optional
+        Output column; ``plug_margin_min`` (else the first limit margin, else the first
+        peak) by default.
+    parameters : sequence of str, optional
+        Parameter columns; all by default.
+
+    Returns
+    -------
+    SensitivityResult
+
+    Raises
+    ------
+    InputError
+        For an unknown column or too few finished cases (more than parameters + 1 needed).
+    """
+    output = output or _default_output(table)
+    names = list(parameters) if parameters is not None else list(table.parameter_names)
+    y = table[output]
+    x = np.column_stack([table[n] for n in names]) if names else np.zeros((table.n_cases, 0))
+    keep = table.ok & np.isfinite(y) & np.all(np.isfinite(x), axis=1)
+    x, y = x[keep], y[keep]
+    varying = [j for j in range(x.shape[1]) if np.ptp(x[:, j]) > 0]
+    skipped = tuple(names[j] for j in range(len(names)) if j not in varying)
+    x = x[:, varying]
+    used = [names[j] for j in varying]
+    n, d = x.shape
+    if n <= d + 1:
+        raise InputError(f"sensitivity: {n} finished cases are too few for {d} parameters (need more than {d + 1})")
+    if np.ptp(y) == 0:
+        raise InputError(f"sensitivity: {output!r} is the same in every case")
+    xs = (x - x.mean(axis=0)) / x.std(axis=0, ddof=1)
+    ys = (y - y.mean()) / y.std(ddof=1)
+    design = np.column_stack([np.ones(n), xs])
+    coefficients, *_ = np.linalg.lstsq(design, ys, rcond=None)
+    residual = ys - design @ coefficients
+    r2 = float(1.0 - residual @ residual / (ys @ ys))
+    entries = []
+    for j, name in enumerate(used):
+        rho = stats.spearmanr(x[:, j], y)
+        entries.append(Sensitivity(name, float(rho.statistic), float(rho.pvalue), float(coefficients[j + 1])))
+    entries.sort(key=lambda e: -abs(e.spearman) if math.isfinite(e.spearman) else 0.0)
+    return SensitivityResult(output, tuple(entries), r2, n, skipped)
+
+
+# ---------------------------------------------------------------------------- report
+
+
+def _fmt(value: float, digits: int = 1) -> str:
+    return "n/a" if not math.isfinite(value) else f"{value:.{digits}f}"
+
+
+def study_report(
+    table: StudyTable,
+    confidence: float = 0.95,
+    output: str | None = None,
+    temperature_unit: str = "degC",
+    max_failures: int = 10,
+) -> str:
+    """A Markdown section summarising a study.
+
+    Contents: case counts; fuse-plug release probability (any plug and per plug) with
+    Wilson and Clopper-Pearson intervals; 5th/50th/95th percentiles of every margin;
+    the sensitivity ranking of ``output``; the first failed cases.
+
+    Parameters
+    ----------
+    table : StudyTable
+    confidence : float
+    output : str, optional
+        Output ranked for sensitivity (see :func:`sensitivity`).
+    temperature_unit : {"degC", "degF", "K"}
+        Unit of the peak temperatures listed (margins are always in K).
+    max_failures : int
+        Failed cases listed.
+    """
+    from ..units import from_si
+
+    confidence = _check_confidence(confidence)
+    counts = table.counts()
+    level = f"{100 * confidence:g} %"
+    lines = [
+        f"## Study: {table.title or 'untitled'}",
+        "",
+        "*Not certified data.* Defer to the manufacturer's maintenance data.",
+        "",
+        f"Cases: {table.n_cases} ({counts['ok']} finished, {counts['failed']} failed, "
+        f"{counts['pending']} not run); sampling: {table.method or 'unknown'}.",
+    ]
+    if table.method == "grid":
+        lines.append("Grid sampling: the release fractions below are fractions of grid points, not probabilities.")
+    plugs = [n.split(":", 1)[1] for n in table.output_names if n.startswith("plug_released:")]
+    if plugs and counts["ok"]:
+        lines += [
+            "",
+            "### Fuse-plug release",
+            "",
+            f"| plug | released / cases | estimate | Wilson {level} | Clopper-Pearson {level} |",
+            "|---|---|---|---|---|",
+        ]
+        for plug in [None, *plugs]:
+            est = release_probability(table, plug, confidence)
+            lines.append(
+                f"| {est.label} | {est.events} / {est.trials} | {est.estimate:.3f} | "
+                f"{est.wilson[0]:.3f} - {est.wilson[1]:.3f} | "
+                f"{est.clopper_pearson[0]:.3f} - {est.clopper_pearson[1]:.3f} |"
+            )
+    margins = [n for n in table.output_names if n.startswith(("plug_margin", "limit_margin:"))]
+    if margins and counts["ok"]:
+        lines += [
+            "",
+            "### Margins [K] (positive: below the release temperature or limit)",
+            "",
+            "| quantity | P5 | P50 | P95 |",
+            "|---|---|---|---|",
+        ]
+        for name in margins:
+            p = margin_percentiles(table, name)
+            lines.append(f"| {name} | {_fmt(p[5.0])} | {_fmt(p[50.0])} | {_fmt(p[95.0])} |")
+    peaks = [n for n in table.output_names if n.startswith("plug_peak:")]
+    if peaks and counts["ok"]:
+        lines += [
+            "",
+            f"### Fuse-plug peak temperatures [{temperature_unit}]",
+            "",
+            "| plug | P5 | P50 | P95 |",
+            "|---|---|---|---|",
+        ]
+        for name in peaks:
+            p = margin_percentiles(table, name)
+            shown = [from_si(p[q], "temperature", temperature_unit) for q in (5.0, 50.0, 95.0)]
+            lines.append(f"| {name.split(':', 1)[1]} | " + " | ".join(_fmt(v) for v in shown) + " |")
+    if counts["ok"] > len(table.parameter_names) + 1:
+        try:
+            result = sensitivity(table, output)
+        except InputError as exc:
+            lines += ["", f"Sensitivity not computed: {exc}"]
+        else:
+            lines += [
+                "",
+                f"### Sensitivity of {result.output} ({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
+                "",
+                "| parameter | Spearman rho | p-value | SRC |",
+                "|---|---|---|---|",
+            ]
+            for e in result.entries:
+                lines.append(f"| {e.parameter} | {e.spearman:+.3f} | {e.p_value:.2g} | {e.src:+.3f} |")
+            if result.skipped:
+                lines.append(f"Constant over the cases (left out): {', '.join(result.skipped)}.")
+    failed = np.flatnonzero(table["status"] == "failed")
+    if failed.size:
+        lines += ["", "### Failed cases", ""]
+        for index in failed[:max_failures]:
+            first = str(table["error"][index]).splitlines()[0] if table["error"][index] else "no error text"
+            lines.append(f"- case {int(index)}: {first}")
+        if failed.size > max_failures:
+            lines.append(f"- ... and {failed.size - max_failures} more")
+    return "\n".join(lines) + "\n"

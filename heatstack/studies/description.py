@@ -1,0 +1,1054 @@
+"""Study descriptions: a base case, the parameters to vary, how to sample them, what to collect.
+
+A parameter is addressed by its path in the base case's TOML mapping, written the way
+case-file errors name keys: ``duty.phases[0].events[0].mass``,
+``assembly.fuse_plugs[1].release_temperature``, ``output.limits."inboard bead seat"``.
+Each parameter takes either a list of ``values`` (a grid) or a distribution whose
+parameters may carry units (``Normal(mean="70 t", std="2 t")``); bare numbers are SI.
+The physical dimension of a parameter is read from the base value at its path (a string
+such as ``"70 t"`` says *mass*), else from the units of the study's own values, or given
+by hand with ``dimension=``.
+
+:func:`plan_study` resolves a :class:`Study` against its base case into a
+:class:`StudyPlan`: paths checked (an unknown path names the closest existing one), units
+converted to SI, and the sample table drawn (full grid, random, or Latin hypercube). The
+same seed always gives the same table.
+
+References
+----------
+.. [1] McKay, M.D., Beckman, R.J., Conover, W.J., 1979, A comparison of three methods
+   for selecting values of input variables in the analysis of output from a computer
+   code, Technometrics 21, 239-245 (Latin hypercube sampling).
+"""
+
+from __future__ import annotations
+
+import copy
+import difflib
+import hashlib
+import itertools
+import json
+import math
+import re
+import tomllib
+from collections.abc import Iterator, Mapping, Sequence
+from dataclasses import dataclass, field, fields
+from pathlib import Path
+from typing import Any, ClassVar, Literal
+
+import numpy as np
+from scipy import stats
+from scipy.stats import qmc
+
+from ..errors import HeatstackError, InputError
+from ..units import SI_UNITS, registry, to_si
+
+__all__ = [
+    "Distribution",
+    "Uniform",
+    "Normal",
+    "TruncatedNormal",
+    "Triangular",
+    "LogNormal",
+    "DISTRIBUTIONS",
+    "Parameter",
+    "Sampling",
+    "Study",
+    "StudyPlan",
+    "ResolvedParameter",
+    "plan_study",
+    "study_from_mapping",
+    "load_study",
+    "parse_path",
+    "format_path",
+    "SAMPLING_METHODS",
+]
+
+#: Sampling methods of a study.
+SAMPLING_METHODS = ("grid", "random", "latin_hypercube")
+
+Token = str | int
+
+
+# ---------------------------------------------------------------------------- paths
+
+_BARE = re.compile(r"[A-Za-z0-9_\-]+")
+_KEY = re.compile(r'"((?:[^"\\]|\\.)*)"|([A-Za-z0-9_\-]+)')
+_INDEX = re.compile(r"\[(\d+)\]")
+
+
+def parse_path(path: str, where: str = "path") -> tuple[Token, ...]:
+    """Split a parameter path into keys (str) and list indices (int).
+
+    Parameters
+    ----------
+    path : str
+        E.g. ``'duty.phases[0].events[0].mass'`` or ``'output.limits."fuse plug 1"'``.
+    where : str
+        Field name used in error messages.
+
+    Raises
+    ------
+    InputError
+        If the path is empty or malformed.
+    """
+    if not isinstance(path, str) or not path.strip():
+        raise InputError(f"{where}: expected a key path such as 'duty.phases[0].events[0].mass', got {path!r}")
+    tokens: list[Token] = []
+    pos, text = 0, path.strip()
+    while True:
+        match = _KEY.match(text, pos)
+        if match is None:
+            raise InputError(f"{where}: cannot read {path!r} as a key path (at character {pos + 1})")
+        tokens.append(match.group(1) if match.group(1) is not None else match.group(2))
+        pos = match.end()
+        while (index := _INDEX.match(text, pos)) is not None:
+            tokens.append(int(index.group(1)))
+            pos = index.end()
+        if pos == len(text):
+            return tuple(tokens)
+        if text[pos] != ".":
+            raise InputError(f"{where}: cannot read {path!r} as a key path (at character {pos + 1})")
+        pos += 1
+
+
+def format_path(tokens: Sequence[Token]) -> str:
+    """The canonical text of a token path (inverse of :func:`parse_path`)."""
+    out = ""
+    for token in tokens:
+        if isinstance(token, int):
+            out += f"[{token}]"
+        else:
+            key = token if _BARE.fullmatch(token) else json.dumps(token)
+            out += f".{key}" if out else key
+    return out
+
+
+def _leaf_paths(data: Any, prefix: tuple[Token, ...] = ()) -> Iterator[tuple[Token, ...]]:
+    """Every path of the mapping, tables and values alike (depth first)."""
+    if isinstance(data, Mapping):
+        for key, value in data.items():
+            yield (*prefix, key)
+            yield from _leaf_paths(value, (*prefix, key))
+    elif isinstance(data, list):
+        for k, value in enumerate(data):
+            yield (*prefix, k)
+            yield from _leaf_paths(value, (*prefix, k))
+
+
+_MISSING = object()
+
+
+def _get(data: Any, tokens: Sequence[Token]) -> Any:
+    node = data
+    for token in tokens:
+        if isinstance(token, int):
+            if not isinstance(node, list) or token >= len(node):
+                return _MISSING
+            node = node[token]
+        else:
+            if not isinstance(node, Mapping) or token not in node:
+                return _MISSING
+            node = node[token]
+    return node
+
+
+def _set(data: Any, tokens: Sequence[Token], value: Any) -> None:
+    parent = _get(data, tokens[:-1])
+    parent[tokens[-1]] = value
+
+
+# ---------------------------------------------------------------------------- dimensions
+
+
+def _difference_of(dimension: str | None) -> str | None:
+    """Dimension of a spread (standard deviation) of a quantity of ``dimension``."""
+    return "temperature_difference" if dimension == "temperature" else dimension
+
+
+def _dimension_of_text(text: str, leaf: str) -> str | None:
+    """Physical dimension (a key of ``SI_UNITS``) of a quantity string, or None if unknown.
+
+    A temperature in an offset unit (degC, degF) is a temperature; in delta units it is
+    a temperature difference; in kelvin it is a temperature when the key names one
+    (``..._temperature``), else a difference (``tolerance``, ``target_change``).
+    """
+    reg = registry()
+    try:
+        quantity = reg.Quantity(text)
+    except Exception:
+        return None
+    units = f"{quantity.units}"
+    if quantity.dimensionality == reg.Quantity(1.0, "K").dimensionality:
+        if "delta_" in units:
+            return "temperature_difference"
+        if "degree_Celsius" in units or "degree_Fahrenheit" in units:
+            return "temperature"
+        return "temperature" if "temperature" in leaf else "temperature_difference"
+    if quantity.dimensionless:
+        return "dimensionless"
+    for dimension, unit in SI_UNITS.items():
+        if dimension in ("temperature", "temperature_difference", "dimensionless"):
+            continue
+        if reg.Quantity(1.0, unit).dimensionality == quantity.dimensionality:
+            return dimension
+    return None
+
+
+def _convert(value: Any, dimension: str | None, where: str) -> float:
+    """A user value (number or quantity string) in SI; bare numbers are SI already."""
+    if isinstance(value, bool) or not isinstance(value, int | float | str):
+        raise InputError(f"{where}: expected a number or a quantity such as '70 t', got {value!r}")
+    if isinstance(value, str) and dimension is None:
+        raise InputError(
+            f"{where}: cannot tell the physical dimension of {value!r}; give the parameter a dimension "
+            f"(one of {', '.join(SI_UNITS)})"
+        )
+    result = to_si(value, None, dimension or "dimensionless", where)
+    if not math.isfinite(result):
+        raise InputError(f"{where}: must be finite, got {value!r}")
+    return result
+
+
+# ---------------------------------------------------------------------------- distributions
+
+
+@dataclass(frozen=True)
+class Distribution:
+    """Base of the distributions a parameter may follow.
+
+    Subclasses hold their parameters as given (numbers in SI or strings with a unit) and
+    build a frozen :mod:`scipy.stats` distribution in SI once the parameter's dimension
+    is known (:meth:`frozen`). Location parameters (bounds, mean, mode, median) carry the
+    parameter's dimension; spreads (``std``) carry its difference (a temperature spread
+    of ``"3 degC"`` is 3 K).
+    """
+
+    kind: ClassVar[str] = ""
+    _spreads: ClassVar[tuple[str, ...]] = ()
+    _plain: ClassVar[tuple[str, ...]] = ()
+
+    def values_si(self, dimension: str | None, where: str) -> dict[str, float]:
+        """The distribution's parameters in SI, validated; keys are the field names."""
+        out = {}
+        for f in fields(self):
+            value = getattr(self, f.name)
+            sub = f"{where}.{f.name}"
+            if f.name in self._plain:
+                out[f.name] = _convert(value, "dimensionless", sub)
+            elif f.name in self._spreads:
+                out[f.name] = _convert(value, _difference_of(dimension), sub)
+            else:
+                out[f.name] = _convert(value, dimension, sub)
+        self._validate(out, where)
+        return out
+
+    def _validate(self, v: dict[str, float], where: str) -> None:  # pragma: no cover - overridden
+        return None
+
+    def _scipy(self, v: dict[str, float]) -> Any:  # pragma: no cover - overridden
+        raise NotImplementedError
+
+    def frozen(self, dimension: str | None, where: str = "distribution") -> Any:
+        """A frozen :mod:`scipy.stats` distribution in SI units."""
+        return self._scipy(self.values_si(dimension, where))
+
+    def to_dict(self) -> dict[str, Any]:
+        """The distribution as given, for the store's manifest."""
+        return {"distribution": self.kind, **{f.name: getattr(self, f.name) for f in fields(self)}}
+
+    def strings(self) -> list[str]:
+        """Parameters given as strings (they carry units)."""
+        return [v for f in fields(self) if isinstance(v := getattr(self, f.name), str)]
+
+
+def _positive(v: dict[str, float], name: str, where: str, text: Any) -> None:
+    if not v[name] > 0:
+        raise InputError(f"{where}.{name}: must be > 0, got {text!r}")
+
+
+def _ordered(v: dict[str, float], low: str, high: str, where: str, given: Any) -> None:
+    if not v[low] < v[high]:
+        raise InputError(f"{where}.{high}: must be above {low} ({getattr(given, low)!r}), got {getattr(given, high)!r}")
+
+
+@dataclass(frozen=True)
+class Uniform(Distribution):
+    """Uniform between ``low`` and ``high`` (``scipy.stats.uniform``)."""
+
+    low: Any
+    high: Any
+    kind: ClassVar[str] = "uniform"
+
+    def _validate(self, v, where):
+        _ordered(v, "low", "high", where, self)
+
+    def _scipy(self, v):
+        return stats.uniform(loc=v["low"], scale=v["high"] - v["low"])
+
+
+@dataclass(frozen=True)
+class Normal(Distribution):
+    """Normal of ``mean`` and standard deviation ``std`` (``scipy.stats.norm``)."""
+
+    mean: Any
+    std: Any
+    kind: ClassVar[str] = "normal"
+    _spreads: ClassVar[tuple[str, ...]] = ("std",)
+
+    def _validate(self, v, where):
+        _positive(v, "std", where, self.std)
+
+    def _scipy(self, v):
+        return stats.norm(loc=v["mean"], scale=v["std"])
+
+
+@dataclass(frozen=True)
+class TruncatedNormal(Distribution):
+    """Normal of ``mean`` and ``std`` cut to [``low``, ``high``] (``scipy.stats.truncnorm``)."""
+
+    mean: Any
+    std: Any
+    low: Any
+    high: Any
+    kind: ClassVar[str] = "truncated_normal"
+    _spreads: ClassVar[tuple[str, ...]] = ("std",)
+
+    def _validate(self, v, where):
+        _positive(v, "std", where, self.std)
+        _ordered(v, "low", "high", where, self)
+
+    def _scipy(self, v):
+        a, b = (v["low"] - v["mean"]) / v["std"], (v["high"] - v["mean"]) / v["std"]
+        return stats.truncnorm(a, b, loc=v["mean"], scale=v["std"])
+
+
+@dataclass(frozen=True)
+class Triangular(Distribution):
+    """Triangular from ``low`` through ``mode`` to ``high`` (``scipy.stats.triang``)."""
+
+    low: Any
+    mode: Any
+    high: Any
+    kind: ClassVar[str] = "triangular"
+
+    def _validate(self, v, where):
+        _ordered(v, "low", "high", where, self)
+        if not v["low"] <= v["mode"] <= v["high"]:
+            raise InputError(f"{where}.mode: must lie between low and high, got {self.mode!r}")
+
+    def _scipy(self, v):
+        width = v["high"] - v["low"]
+        return stats.triang((v["mode"] - v["low"]) / width, loc=v["low"], scale=width)
+
+
+@dataclass(frozen=True)
+class LogNormal(Distribution):
+    """Log-normal of ``median`` and log standard deviation ``log_std`` [-] (``scipy.stats.lognorm``).
+
+    ``ln X`` is normal with mean ``ln(median)`` and standard deviation ``log_std``.
+    """
+
+    median: Any
+    log_std: Any
+    kind: ClassVar[str] = "lognormal"
+    _plain: ClassVar[tuple[str, ...]] = ("log_std",)
+
+    def _validate(self, v, where):
+        _positive(v, "median", where, self.median)
+        _positive(v, "log_std", where, self.log_std)
+
+    def _scipy(self, v):
+        return stats.lognorm(v["log_std"], scale=v["median"])
+
+
+#: Distribution kinds by name, as written in a study file.
+DISTRIBUTIONS: dict[str, type[Distribution]] = {
+    cls.kind: cls for cls in (Uniform, Normal, TruncatedNormal, Triangular, LogNormal)
+}
+
+
+# ---------------------------------------------------------------------------- description
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """One varied input of a study.
+
+    Parameters
+    ----------
+    path : str or sequence of str
+        Key path(s) in the base case mapping; with several paths the same value is
+        written at each (e.g. the ambient temperature of every duty phase).
+    distribution : Distribution, optional
+        For random and Latin hypercube sampling.
+    values : sequence, optional
+        For grid sampling (numbers in SI, strings with a unit, whole numbers or
+        booleans); with random or Latin hypercube sampling the values are drawn with
+        equal probability.
+    name : str, optional
+        Column name in the results; the first path by default.
+    dimension : str, optional
+        A key of :data:`heatstack.units.SI_UNITS`, when it cannot be read from the base
+        value or the units given.
+    """
+
+    path: str | Sequence[str]
+    distribution: Distribution | None = None
+    values: Sequence[Any] | None = None
+    name: str | None = None
+    dimension: str | None = None
+
+    @property
+    def paths(self) -> tuple[str, ...]:
+        """The key paths, as a tuple."""
+        return (self.path,) if isinstance(self.path, str) else tuple(self.path)
+
+    @property
+    def label(self) -> str:
+        """Column name in the results."""
+        return self.name or self.paths[0]
+
+    def to_dict(self) -> dict[str, Any]:
+        """The parameter as given, for the store's manifest."""
+        out: dict[str, Any] = {"paths": list(self.paths), "name": self.label, "dimension": self.dimension}
+        if self.distribution is not None:
+            out.update(self.distribution.to_dict())
+        if self.values is not None:
+            out["values"] = list(self.values)
+        return out
+
+
+@dataclass(frozen=True)
+class Sampling:
+    """How the sample table is drawn.
+
+    Parameters
+    ----------
+    method : {"grid", "random", "latin_hypercube"}
+        ``grid``: every combination of the parameters' values (first parameter slowest).
+        ``random``: independent uniform draws mapped through each distribution's inverse
+        CDF. ``latin_hypercube``: one draw in each of ``cases`` equal-probability strata
+        of every parameter (scipy.stats.qmc.LatinHypercube [1]_).
+    cases : int, optional
+        Number of cases (random and Latin hypercube; for a grid it must match or be omitted).
+    seed : int, optional
+        Seed of the random generator (required for random and Latin hypercube sampling:
+        the same seed gives the same samples).
+    """
+
+    method: Literal["grid", "random", "latin_hypercube"] = "latin_hypercube"
+    cases: int | None = None
+    seed: int | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        """The sampling as given."""
+        return {"method": self.method, "cases": self.cases, "seed": self.seed}
+
+
+@dataclass(frozen=True)
+class Study:
+    """A study: a base case, its varied parameters, the sampling and what to collect.
+
+    Parameters
+    ----------
+    base_case : str or Path
+        The case file every case starts from.
+    parameters : sequence of Parameter
+    sampling : Sampling
+    outputs : sequence of str, optional
+        Probes or series whose peak (temperature [K], time [s], delay after the end of
+        braking [s]) is collected; every probe and global series by default. Margins to
+        the case's ``output.limits``, fuse-plug release and margin, and the solver
+        statistics are always collected.
+    cell_size : float or str, optional
+        Overrides the case's cell size [m] (all directions) for speed.
+    target_change : float or str, optional
+        Overrides the solver's target temperature change per step [K] for speed.
+    title : str
+    """
+
+    base_case: str | Path
+    parameters: Sequence[Parameter]
+    sampling: Sampling = field(default_factory=Sampling)
+    outputs: Sequence[str] | None = None
+    cell_size: float | str | None = None
+    target_change: float | str | None = None
+    title: str = "untitled study"
+
+    def plan(self) -> StudyPlan:
+        """Resolve against the base case: see :func:`plan_study`."""
+        return plan_study(self)
+
+
+@dataclass(frozen=True, eq=False)
+class ResolvedParameter:
+    """A parameter checked against the base case, in SI.
+
+    Attributes
+    ----------
+    name : str
+    paths : tuple of tuple
+        Token paths.
+    dimension : str or None
+        Physical dimension (``None``: bare numbers, used as given).
+    kind : {"float", "int", "bool"}
+        Type written into the case mapping.
+    base_values : tuple
+        Value at each path in the base case (``None`` where the key is absent and the
+        case's default applies).
+    distribution : scipy frozen distribution or None
+    values : ndarray or None
+        Grid values in SI.
+    unit : str
+        SI unit of the column.
+    """
+
+    name: str
+    paths: tuple[tuple[Token, ...], ...]
+    dimension: str | None
+    kind: str
+    base_values: tuple[Any, ...]
+    distribution: Any
+    values: np.ndarray | None
+    unit: str
+
+    def from_uniform(self, u: np.ndarray) -> np.ndarray:
+        """Map uniform numbers in [0, 1) through the inverse CDF."""
+        if self.distribution is not None:
+            return np.asarray(self.distribution.ppf(u), dtype=float)
+        index = np.minimum((u * self.values.size).astype(int), self.values.size - 1)
+        return self.values[index]
+
+    def representative(self) -> float:
+        """The median of the distribution, or the first grid value [SI]."""
+        if self.distribution is not None:
+            return float(self.distribution.ppf(0.5))
+        return float(self.values[0])
+
+    def cast(self, value: float) -> Any:
+        """The value as written into the case mapping."""
+        if self.kind == "bool":
+            return bool(value)
+        if self.kind == "int":
+            return int(round(value))
+        return float(value)
+
+
+@dataclass(frozen=True, eq=False)
+class StudyPlan:
+    """A study resolved against its base case: the sample table and the case mappings.
+
+    Attributes
+    ----------
+    study : Study
+    base_text : str
+        Text of the base case file.
+    base_mapping : dict
+        Its parsed TOML mapping.
+    base_dir : str
+        Folder of the base case (relative paths inside it resolve here).
+    origin : str
+        File name of the base case.
+    parameters : tuple of ResolvedParameter
+    samples : ndarray, shape (cases, parameters)
+        Parameter values [SI], one row per case.
+    cell_size : float or None
+        [m]
+    target_change : float or None
+        [K]
+    outputs : tuple of str or None
+    description : dict
+        JSON-ready description (as given, plus the base case's SHA-256).
+    fingerprint : str
+        SHA-256 of the canonical description.
+    """
+
+    study: Study
+    base_text: str
+    base_mapping: dict
+    base_dir: str
+    origin: str
+    parameters: tuple[ResolvedParameter, ...]
+    samples: np.ndarray
+    cell_size: float | None
+    target_change: float | None
+    outputs: tuple[str, ...] | None
+    description: dict
+    fingerprint: str
+
+    @property
+    def n_cases(self) -> int:
+        """Number of cases."""
+        return int(self.samples.shape[0])
+
+    @property
+    def parameter_names(self) -> tuple[str, ...]:
+        """Column names of the parameters."""
+        return tuple(p.name for p in self.parameters)
+
+    def case_mapping(self, index: int) -> dict:
+        """The case mapping of case ``index``: overrides applied, then the parameters."""
+        return apply_values(self.base_mapping, self.parameters, self.samples[index], self.cell_size, self.target_change)
+
+
+def apply_values(
+    base: Mapping,
+    parameters: Sequence[ResolvedParameter],
+    row: Sequence[float],
+    cell_size: float | None = None,
+    target_change: float | None = None,
+) -> dict:
+    """A deep copy of ``base`` with the speed overrides and one row of parameter values written in."""
+    data = copy.deepcopy(dict(base))
+    if cell_size is not None:
+        assembly = data.setdefault("assembly", {})
+        for key in ("cell_size", "cell_size_radial", "cell_size_axial"):
+            if key == "cell_size" or key in assembly:
+                assembly[key] = float(cell_size)
+    if target_change is not None:
+        data.setdefault("solver", {})["target_change"] = float(target_change)
+    for parameter, value in zip(parameters, row, strict=True):
+        for path in parameter.paths:
+            _set(data, path, parameter.cast(value))
+    return data
+
+
+# ---------------------------------------------------------------------------- resolving
+
+
+def _closest_path(mapping: Mapping, path: str, extra: Sequence[str] = ()) -> str:
+    candidates = [format_path(p) for p in _leaf_paths(mapping)] + list(extra)
+    close = difflib.get_close_matches(path, candidates, n=1, cutoff=0.6)
+    if close:
+        return f"; did you mean {close[0]!r}?"
+    top = path.split(".")[0].split("[")[0]
+    same = sorted({c for c in candidates if c.startswith(top)})[:8]
+    return f"; paths under {top!r} include {', '.join(same)}" if same else ""
+
+
+def _design_fields(mapping: Mapping) -> list[str]:
+    """Optional design keys of the wheel-and-brake builder (for suggestions)."""
+    assembly = mapping.get("assembly", {})
+    if not isinstance(assembly, Mapping) or assembly.get("builder", "wheel-brake") != "wheel-brake":
+        return []
+    from ..builders import WheelBrakeDesign
+
+    return [f"assembly.design.{f.name}" for f in fields(WheelBrakeDesign) if f.name != "fuse_plugs"]
+
+
+def _parse_case(data: dict, text: str, origin: str, base_dir: Path):
+    from ..case import case_from_mapping
+
+    try:
+        return case_from_mapping(data, text, origin, base_dir)
+    except InputError:
+        raise
+    except HeatstackError as exc:
+        raise InputError(str(exc)) from None
+
+
+def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) -> ResolvedParameter:
+    where = f"study.parameters[{k}]"
+    if not isinstance(parameter, Parameter):
+        raise InputError(f"{where}: expected a Parameter, got {type(parameter).__name__}")
+    if (parameter.distribution is None) == (parameter.values is None):
+        raise InputError(
+            f"{where}: give either values (a grid) or a distribution, "
+            f"not {'both' if parameter.values is not None else 'neither'}"
+        )
+    if parameter.distribution is not None and not isinstance(parameter.distribution, Distribution):
+        raise InputError(f"{where}.distribution: expected a Distribution, got {parameter.distribution!r}")
+    if grid and parameter.values is None:
+        raise InputError(f"{where}: grid sampling needs a list of values for {parameter.label!r}, not a distribution")
+    if not parameter.paths:
+        raise InputError(f"{where}.path: at least one key path is needed")
+    if parameter.dimension is not None and parameter.dimension not in SI_UNITS:
+        close = difflib.get_close_matches(str(parameter.dimension), SI_UNITS, n=1)
+        hint = f"; did you mean {close[0]!r}?" if close else f"; one of {', '.join(SI_UNITS)}"
+        raise InputError(f"{where}.dimension: unknown dimension {parameter.dimension!r}{hint}")
+    paths, bases = [], []
+    for j, text in enumerate(parameter.paths):
+        pwhere = f"{where}.path" if isinstance(parameter.path, str) else f"{where}.path[{j}]"
+        tokens = parse_path(text, pwhere)
+        value = _get(mapping, tokens)
+        if value is _MISSING:
+            parent = _get(mapping, tokens[:-1])
+            if not (isinstance(parent, Mapping) and isinstance(tokens[-1], str)):
+                hint = _closest_path(mapping, format_path(tokens), _design_fields(mapping))
+                raise InputError(f"{pwhere}: {format_path(tokens)!r} does not exist in the base case{hint}")
+            value = None  # an optional key: checked by a trial parse below
+        elif isinstance(value, Mapping | list):
+            raise InputError(f"{pwhere}: {format_path(tokens)!r} is a table or list in the base case, not a value")
+        paths.append(tokens)
+        bases.append(value)
+    leaf = str(paths[0][-1])
+    dimension = parameter.dimension
+    raw_values = list(parameter.values) if parameter.values is not None else []
+    if dimension is None:
+        texts = [b for b in bases if isinstance(b, str)]
+        texts += parameter.distribution.strings() if parameter.distribution is not None else []
+        texts += [v for v in raw_values if isinstance(v, str)]
+        for text in texts:
+            dimension = _dimension_of_text(text, leaf)
+            if dimension is not None:
+                break
+    if dimension is None and len(paths[0]) == 3 and tuple(paths[0][:2]) == ("assembly", "design"):
+        from ..case import design_dimension
+
+        dimension = design_dimension(leaf)
+    base_kinds = {type(b) for b in bases if b is not None}
+    kind = "float"
+    if raw_values and all(isinstance(v, bool) for v in raw_values) and base_kinds <= {bool}:
+        kind = "bool"
+    elif raw_values and all(isinstance(v, int) and not isinstance(v, bool) for v in raw_values) and base_kinds <= {int}:
+        kind = "int"
+    distribution, values = None, None
+    if parameter.distribution is not None:
+        distribution = parameter.distribution.frozen(dimension, f"{where}.distribution")
+    else:
+        if not raw_values:
+            raise InputError(f"{where}.values: at least one value is needed")
+        if kind == "bool":
+            values = np.array([1.0 if v else 0.0 for v in raw_values])
+        else:
+            values = np.array([_convert(v, dimension, f"{where}.values[{i}]") for i, v in enumerate(raw_values)])
+    if dimension is None and any(isinstance(b, str) for b in bases):
+        raise InputError(f"{where}: cannot tell the physical dimension of {bases[0]!r}; give dimension = ...")
+    for tokens, base_value in zip(paths, bases, strict=True):
+        if isinstance(base_value, str) and dimension is not None:
+            to_si(base_value, None, dimension, f"{where}: the base value at {format_path(tokens)}")
+    unit = SI_UNITS.get(dimension or "dimensionless", "") if kind == "float" else ""
+    return ResolvedParameter(
+        name=parameter.label,
+        paths=tuple(paths),
+        dimension=dimension,
+        kind=kind,
+        base_values=tuple(bases),
+        distribution=distribution,
+        values=values,
+        unit=unit,
+    )
+
+
+def _draw(parameters: Sequence[ResolvedParameter], sampling: Sampling) -> np.ndarray:
+    d = len(parameters)
+    if sampling.method == "grid":
+        grids = [p.values for p in parameters]
+        rows = list(itertools.product(*grids))
+        return np.asarray(rows, dtype=float).reshape(len(rows), d)
+    n, seed = sampling.cases, sampling.seed
+    if sampling.method == "random":
+        u = np.random.default_rng(seed).random((n, d))
+    else:
+        u = qmc.LatinHypercube(d=d, rng=np.random.default_rng(seed)).random(n)
+    columns = [p.from_uniform(u[:, j]) for j, p in enumerate(parameters)]
+    return np.column_stack(columns) if columns else np.zeros((n, 0))
+
+
+def _check_sampling(sampling: Sampling, n_grid: int) -> None:
+    if not isinstance(sampling, Sampling):
+        raise InputError(f"study.sampling: expected a Sampling, got {type(sampling).__name__}")
+    if sampling.method not in SAMPLING_METHODS:
+        close = difflib.get_close_matches(str(sampling.method), SAMPLING_METHODS, n=1)
+        hint = f"; did you mean {close[0]!r}?" if close else ""
+        raise InputError(
+            f"study.method: unknown sampling {sampling.method!r}{hint} (one of {', '.join(SAMPLING_METHODS)})"
+        )
+    cases = sampling.cases
+    if cases is not None and (isinstance(cases, bool) or not isinstance(cases, int | np.integer) or cases < 1):
+        raise InputError(f"study.cases: expected a whole number >= 1, got {cases!r}")
+    seed = sampling.seed
+    if seed is not None and (isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0):
+        raise InputError(f"study.seed: expected a whole number >= 0, got {seed!r}")
+    if sampling.method == "grid":
+        if cases is not None and cases != n_grid:
+            raise InputError(f"study.cases: the grid has {n_grid} combinations, not {cases}; omit cases for a grid")
+        return
+    if cases is None:
+        raise InputError(f"study.cases: required for {sampling.method} sampling")
+    if seed is None:
+        raise InputError(
+            f"study.seed: required for {sampling.method} sampling "
+            "(any whole number; the same seed gives the same samples)"
+        )
+
+
+def _canonical(data: Any) -> str:
+    return json.dumps(data, sort_keys=True, separators=(",", ":"), default=str)
+
+
+def plan_study(study: Study) -> StudyPlan:
+    """Resolve a study against its base case and draw the sample table.
+
+    Parameters
+    ----------
+    study : Study
+
+    Returns
+    -------
+    StudyPlan
+
+    Raises
+    ------
+    InputError
+        Naming the field: an unknown path (with the closest existing path), a
+        distribution with invalid parameters, a unit of the wrong dimension, a sampling
+        without cases or seed, or a base case that is not valid.
+    """
+    if not isinstance(study, Study):
+        raise InputError(f"study: expected a Study, got {type(study).__name__}")
+    from ..case import load_case
+
+    path = Path(study.base_case)
+    base_case = load_case(path)
+    text = base_case.text
+    mapping = tomllib.loads(text)
+    parameters = list(study.parameters)
+    if not parameters:
+        raise InputError("study.parameters: at least one parameter is needed")
+    grid = getattr(study.sampling, "method", None) == "grid"
+    resolved = tuple(_resolve_parameter(k, p, mapping, grid) for k, p in enumerate(parameters))
+    names = [p.name for p in resolved]
+    for k, name in enumerate(names):
+        if names.index(name) != k:
+            raise InputError(f"study.parameters[{k}].name: {name!r} is used by two parameters")
+    n_grid = math.prod(p.values.size for p in resolved) if grid else 0
+    _check_sampling(study.sampling, n_grid)
+    cell = None if study.cell_size is None else _convert(study.cell_size, "length", "study.cell_size")
+    if cell is not None and not cell > 0:
+        raise InputError(f"study.cell_size: must be > 0, got {study.cell_size!r}")
+    change = (
+        None
+        if study.target_change is None
+        else _convert(study.target_change, "temperature_difference", "study.target_change")
+    )
+    if change is not None and not change > 0:
+        raise InputError(f"study.target_change: must be > 0, got {study.target_change!r}")
+    outputs = _check_outputs(study.outputs, base_case)
+    # every parameter alone, then all together, at a representative value: catches keys
+    # the case does not accept and values of the wrong type before any case runs
+    for k, p in enumerate(resolved):
+        if any(b is None for b in p.base_values):
+            trial = apply_values(mapping, [p], [p.representative()])
+            try:
+                _parse_case(trial, text, path.name, path.parent)
+            except InputError as exc:
+                hint = _closest_path(mapping, format_path(p.paths[0]), _design_fields(mapping))
+                raise InputError(
+                    f"study.parameters[{k}].path: {format_path(p.paths[0])!r} does not exist in the base "
+                    f"case{hint} (nor does the case accept it: {exc})"
+                ) from None
+    trial = apply_values(mapping, resolved, [p.representative() for p in resolved], cell, change)
+    try:
+        _parse_case(trial, text, path.name, path.parent)
+    except InputError as exc:
+        raise InputError(f"study: the base case with every parameter at its median is not valid: {exc}") from None
+    samples = _draw(resolved, study.sampling)
+    description = {
+        "title": study.title,
+        "base_case": {"origin": path.name, "sha256": hashlib.sha256(text.encode("utf-8")).hexdigest()},
+        "parameters": [p.to_dict() for p in parameters],
+        "sampling": study.sampling.to_dict(),
+        "outputs": None if outputs is None else list(outputs),
+        "cell_size": study.cell_size,
+        "target_change": study.target_change,
+    }
+    compared = {k: v for k, v in description.items() if k != "title"}
+    compared["base_case"] = {"sha256": description["base_case"]["sha256"]}
+    fingerprint = hashlib.sha256(_canonical(compared).encode("utf-8")).hexdigest()
+    return StudyPlan(
+        study=study,
+        base_text=text,
+        base_mapping=mapping,
+        base_dir=str(path.parent.resolve()),
+        origin=path.name,
+        parameters=resolved,
+        samples=samples,
+        cell_size=cell,
+        target_change=change,
+        outputs=outputs,
+        description=json.loads(_canonical(description)),
+        fingerprint=fingerprint,
+    )
+
+
+def _check_outputs(outputs: Sequence[str] | None, case: Any) -> tuple[str, ...] | None:
+    if outputs is None:
+        return None
+    if isinstance(outputs, str):
+        outputs = [outputs]
+    known = sorted({p.name for p in case.assembly.probes} | {"heat_sink_mean", "heat_sink_max", "wheel_max"})
+    checked = []
+    for k, name in enumerate(outputs):
+        if not isinstance(name, str):
+            raise InputError(f"study.outputs[{k}]: expected a probe or series name, got {name!r}")
+        if name not in known and not name.startswith("surface:"):
+            close = difflib.get_close_matches(name, known, n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else f"; known: {', '.join(known)}"
+            raise InputError(f"study.outputs[{k}]: no probe or series named {name!r}{hint}")
+        checked.append(name)
+    return tuple(checked)
+
+
+# ---------------------------------------------------------------------------- TOML layout
+
+_STUDY_KEYS = (
+    "title",
+    "base_case",
+    "method",
+    "cases",
+    "seed",
+    "cell_size",
+    "target_change",
+    "outputs",
+    "parameters",
+)
+_PARAMETER_KEYS = ("path", "name", "dimension", "values", "distribution")
+
+
+def _unknown(data: Mapping, allowed: Sequence[str], where: str) -> None:
+    for key in data:
+        if key not in allowed:
+            close = difflib.get_close_matches(str(key), allowed, n=1, cutoff=0.5)
+            hint = f"; did you mean {close[0]!r}?" if close else f"; valid keys: {', '.join(allowed)}"
+            raise InputError(f"{where}.{key}: unknown key{hint}")
+
+
+def _parameter_from_mapping(data: Any, where: str) -> Parameter:
+    if not isinstance(data, Mapping):
+        raise InputError(f"{where}: expected a table ([[study.parameters]])")
+    if "path" not in data:
+        raise InputError(f"{where}.path: missing (required)")
+    path = data["path"]
+    if not (isinstance(path, str) or (isinstance(path, list) and path and all(isinstance(p, str) for p in path))):
+        raise InputError(f"{where}.path: expected a key path or a list of key paths, got {path!r}")
+    distribution = None
+    if "distribution" in data:
+        kind = data["distribution"]
+        if kind not in DISTRIBUTIONS:
+            close = difflib.get_close_matches(str(kind), DISTRIBUTIONS, n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else ""
+            raise InputError(
+                f"{where}.distribution: unknown distribution {kind!r}{hint} (one of {', '.join(DISTRIBUTIONS)})"
+            )
+        cls = DISTRIBUTIONS[kind]
+        names = [f.name for f in fields(cls)]
+        _unknown(data, (*_PARAMETER_KEYS, *names), where)
+        missing = [n for n in names if n not in data]
+        if missing:
+            raise InputError(f"{where}.{missing[0]}: missing (a {kind} distribution needs {', '.join(names)})")
+        distribution = cls(**{n: data[n] for n in names})
+    else:
+        _unknown(data, _PARAMETER_KEYS, where)
+    values = data.get("values")
+    if values is not None and not isinstance(values, list):
+        raise InputError(f"{where}.values: expected a list, got {values!r}")
+    name = data.get("name")
+    if name is not None and not isinstance(name, str):
+        raise InputError(f"{where}.name: expected a string, got {name!r}")
+    return Parameter(
+        path=path if isinstance(path, str) else tuple(path),
+        distribution=distribution,
+        values=None if values is None else tuple(values),
+        name=name,
+        dimension=data.get("dimension"),
+    )
+
+
+def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> Study:
+    """A :class:`Study` from the mapping of a TOML ``[study]`` section.
+
+    Parameters
+    ----------
+    table : mapping
+        The ``[study]`` table (a whole document with a ``study`` key is accepted too).
+        Layout (our own)::
+
+            [study]
+            title = "mass and ambient scatter"     # optional
+            method = "latin_hypercube"             # grid | random | latin_hypercube
+            cases = 200
+            seed = 7
+            cell_size = "8 mm"                     # optional speed overrides
+            target_change = "8 K"
+            outputs = ["sensor", "hottest rotor"]  # optional
+
+            [[study.parameters]]
+            path = "duty.phases[0].events[0].mass"
+            name = "aircraft mass"
+            distribution = "normal"                # uniform, normal, truncated_normal,
+            mean = "70 t"                          # triangular, lognormal
+            std = "2 t"
+
+            [[study.parameters]]
+            path = ["duty.phases[0].environment.ambient_temperature",
+                    "duty.phases[1].environment.ambient_temperature"]
+            values = ["15 degC", "35 degC"]
+
+    base_case_path : str or Path
+        The base case file (a ``base_case`` key in the table is ignored in favour of it).
+
+    Returns
+    -------
+    Study
+
+    Raises
+    ------
+    InputError
+        Naming the key (``study.parameters[1].std``) for an unknown key, a missing
+        field or a value of the wrong type.
+    """
+    if isinstance(table, Mapping) and "study" in table and isinstance(table["study"], Mapping):
+        table = table["study"]
+    if not isinstance(table, Mapping):
+        raise InputError(f"study: expected a table, got {type(table).__name__}")
+    _unknown(table, _STUDY_KEYS, "study")
+    raw_parameters = table.get("parameters", [])
+    if not isinstance(raw_parameters, list):
+        raise InputError("study.parameters: expected an array of tables ([[study.parameters]])")
+    parameters = tuple(_parameter_from_mapping(p, f"study.parameters[{k}]") for k, p in enumerate(raw_parameters))
+    title = table.get("title", "untitled study")
+    if not isinstance(title, str):
+        raise InputError(f"study.title: expected a string, got {title!r}")
+    outputs = table.get("outputs")
+    if outputs is not None and not (isinstance(outputs, list) and all(isinstance(o, str) for o in outputs)):
+        raise InputError(f"study.outputs: expected a list of probe or series names, got {outputs!r}")
+    return Study(
+        base_case=Path(base_case_path),
+        parameters=parameters,
+        sampling=Sampling(table.get("method", "latin_hypercube"), table.get("cases"), table.get("seed")),
+        outputs=None if outputs is None else tuple(outputs),
+        cell_size=table.get("cell_size"),
+        target_change=table.get("target_change"),
+        title=title,
+    )
+
+
+def load_study(path: str | Path) -> Study:
+    """Read a study file: a TOML ``[study]`` section whose ``base_case`` is relative to the file.
+
+    Raises
+    ------
+    InputError
+        If the file cannot be read, is not TOML, or lacks ``study.base_case``.
+    """
+    path = Path(path)
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise InputError(f"study file {str(path)!r} does not exist") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"study file {str(path)!r} cannot be read: {exc}") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{path.name}: not valid TOML: {exc}") from None
+    table = data.get("study")
+    if not isinstance(table, Mapping):
+        raise InputError(f"{path.name}: no [study] table")
+    base = table.get("base_case")
+    if not isinstance(base, str):
+        raise InputError(f"{path.name}: study.base_case: missing (the case file to start from)")
+    try:
+        return study_from_mapping(table, path.parent / base)
+    except InputError as exc:
+        raise type(exc)(f"{path.name}: {exc}") from None

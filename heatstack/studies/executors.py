@@ -1,0 +1,291 @@
+"""Where study cases run: in this process, on a local process pool, or on a Dask cluster.
+
+Every executor has one interface: :meth:`StudyExecutor.start`, :meth:`~StudyExecutor.submit`
+(one call, returns a future), :meth:`~StudyExecutor.as_completed` (futures in the order
+they finish), :meth:`~StudyExecutor.map_unordered` (results as they complete) and
+:meth:`~StudyExecutor.close`; executors are context managers. The function and its
+argument must be picklable (a module-level function).
+
+* :class:`SerialExecutor` runs each call in this process when its result is asked for
+  (debugging, tiny studies, tests).
+* :class:`LocalExecutor` is a :class:`concurrent.futures.ProcessPoolExecutor` (the
+  ``forkserver`` start method where available, so that a parent holding threads is safe
+  to start workers from).
+* :class:`DaskExecutor` submits to a ``dask.distributed`` scheduler; an address that
+  cannot be reached within ``timeout`` raises :class:`~heatstack.errors.InputError`.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures as cf
+import logging
+import multiprocessing
+import os
+from collections.abc import Callable, Iterable, Iterator
+from typing import Any
+
+from ..errors import ExecutorError, HeatstackError, InputError
+
+__all__ = ["StudyExecutor", "SerialExecutor", "LocalExecutor", "DaskExecutor", "ExecutorError"]
+
+log = logging.getLogger(__name__)
+
+
+class StudyExecutor:
+    """The interface every executor offers.
+
+    Attributes
+    ----------
+    workers : int
+        Number of calls that can run at once (known after :meth:`start`).
+    """
+
+    workers: int = 1
+
+    def start(self) -> StudyExecutor:
+        """Acquire the workers (idempotent); returns ``self``."""
+        return self
+
+    def close(self) -> None:
+        """Release the workers; calls not yet started are cancelled."""
+
+    def submit(self, fn: Callable[[Any], Any], arg: Any) -> Any:
+        """Schedule ``fn(arg)``; return a future."""
+        raise NotImplementedError
+
+    def as_completed(self, futures: list[Any]) -> Iterator[Any]:
+        """Yield ``futures`` as they finish."""
+        raise NotImplementedError
+
+    def result(self, future: Any) -> Any:
+        """The value of a finished future (re-raising the call's exception)."""
+        return future.result()
+
+    def cancel(self, futures: list[Any]) -> None:
+        """Cancel futures that have not finished."""
+        for future in futures:
+            future.cancel()
+
+    def map_unordered(self, fn: Callable[[Any], Any], args: Iterable[Any]) -> Iterator[Any]:
+        """Run ``fn`` on every argument; yield the results as they complete.
+
+        Raises
+        ------
+        ExecutorError
+            If the executor fails (not if ``fn`` raises: that exception is re-raised).
+        """
+        self.start()
+        futures = [self.submit(fn, arg) for arg in args]
+        try:
+            for future in self.as_completed(futures):
+                yield self.result(future)
+        finally:
+            self.cancel(futures)
+
+    def __enter__(self) -> StudyExecutor:
+        return self.start()
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def describe(self) -> str:
+        """A short text naming the executor and its workers."""
+        return f"{type(self).__name__}(workers={self.workers})"
+
+
+class _Deferred:
+    """A future of :class:`SerialExecutor`: the call runs when its result is asked for."""
+
+    def __init__(self, fn: Callable[[Any], Any], arg: Any):
+        self.fn, self.arg, self.cancelled = fn, arg, False
+
+    def result(self) -> Any:
+        return self.fn(self.arg)
+
+    def cancel(self) -> bool:
+        self.cancelled = True
+        return True
+
+
+class SerialExecutor(StudyExecutor):
+    """Runs every call in this process, one after the other (no parallelism)."""
+
+    workers = 1
+
+    def submit(self, fn: Callable[[Any], Any], arg: Any) -> _Deferred:
+        return _Deferred(fn, arg)
+
+    def as_completed(self, futures: list[_Deferred]) -> Iterator[_Deferred]:
+        for future in futures:
+            if not future.cancelled:
+                yield future
+
+
+def _default_context() -> multiprocessing.context.BaseContext:
+    methods = multiprocessing.get_all_start_methods()
+    if "forkserver" in methods:
+        context = multiprocessing.get_context("forkserver")
+        # workers fork from a server that has imported heatstack once
+        context.set_forkserver_preload(["heatstack.studies.runner"])
+        return context
+    return multiprocessing.get_context("spawn")
+
+
+class LocalExecutor(StudyExecutor):
+    """A pool of worker processes on this machine.
+
+    Parameters
+    ----------
+    workers : int, optional
+        Number of processes; ``os.cpu_count()`` by default.
+    start_method : {"forkserver", "spawn", "fork"}, optional
+        How workers are started; ``forkserver`` where available, else ``spawn``.
+
+    Notes
+    -----
+    As with any process pool, a script that starts a study must guard its top level
+    with ``if __name__ == "__main__":`` (workers import the main module).
+    """
+
+    def __init__(self, workers: int | None = None, start_method: str | None = None):
+        count = (os.cpu_count() or 1) if workers is None else workers
+        if isinstance(count, bool) or not isinstance(count, int) or count < 1:
+            raise InputError(f"executor workers: expected a whole number >= 1, got {workers!r}")
+        if start_method is not None and start_method not in multiprocessing.get_all_start_methods():
+            raise InputError(
+                f"executor start_method: {start_method!r} is not available here "
+                f"(one of {', '.join(multiprocessing.get_all_start_methods())})"
+            )
+        self.workers = count
+        self.start_method = start_method
+        self._pool: cf.ProcessPoolExecutor | None = None
+
+    def start(self) -> LocalExecutor:
+        if self._pool is None:
+            context = (
+                _default_context() if self.start_method is None else multiprocessing.get_context(self.start_method)
+            )
+            self._pool = cf.ProcessPoolExecutor(max_workers=self.workers, mp_context=context)
+            log.debug("started a pool of %d worker processes (%s)", self.workers, context.get_start_method())
+        return self
+
+    def close(self) -> None:
+        if self._pool is not None:
+            self._pool.shutdown(wait=True, cancel_futures=True)
+            self._pool = None
+
+    def submit(self, fn: Callable[[Any], Any], arg: Any) -> cf.Future:
+        if self._pool is None:
+            self.start()
+        return self._pool.submit(fn, arg)
+
+    def as_completed(self, futures: list[cf.Future]) -> Iterator[cf.Future]:
+        return cf.as_completed(futures)
+
+    def result(self, future: cf.Future) -> Any:
+        try:
+            return future.result()
+        except cf.process.BrokenProcessPool as exc:
+            raise ExecutorError(
+                f"a worker process died ({exc}); finished cases are kept, run again to resume"
+            ) from None
+
+
+class DaskExecutor(StudyExecutor):
+    """Cases submitted to a ``dask.distributed`` scheduler.
+
+    Parameters
+    ----------
+    address : str or distributed.Client or distributed.LocalCluster
+        Scheduler address (``"tcp://10.0.0.5:8786"``), a cluster object, or a connected
+        client (which :meth:`close` then leaves open).
+    timeout : float
+        Seconds to wait for the scheduler before giving up [s].
+    client_options : mapping, optional
+        Further keyword arguments of ``distributed.Client`` (e.g. ``security`` for a
+        ``tls://`` address).
+
+    Notes
+    -----
+    Workers must be able to import heatstack. Each worker process keeps its own cache
+    of meshed models, so cases that share an assembly reuse one model per worker.
+    """
+
+    def __init__(self, address: Any, timeout: float = 10.0, client_options: dict | None = None):
+        if isinstance(timeout, bool) or not isinstance(timeout, int | float) or not timeout > 0:
+            raise InputError(f"executor timeout: expected a number of seconds > 0, got {timeout!r}")
+        self.address, self.timeout = address, float(timeout)
+        self.client_options = dict(client_options or {})
+        self._client: Any = None
+        self._owned = False
+
+    def start(self) -> DaskExecutor:
+        if self._client is not None:
+            return self
+        try:
+            import distributed
+        except ImportError:
+            raise InputError(
+                "DaskExecutor needs dask.distributed, an optional dependency (pip install 'dask[distributed]')"
+            ) from None
+        if isinstance(self.address, distributed.Client):
+            self._client, self._owned = self.address, False
+        else:
+            try:
+                self._client = distributed.Client(
+                    self.address, timeout=self.timeout, set_as_default=False, **self.client_options
+                )
+            except (OSError, TimeoutError) as exc:
+                raise InputError(
+                    f"executor address: the Dask scheduler {self._name()} cannot be reached within "
+                    f"{self.timeout:g} s ({type(exc).__name__}: {exc})"
+                ) from None
+            except ValueError as exc:
+                raise InputError(f"executor address: {self._name()} is not a scheduler address ({exc})") from None
+            except TypeError as exc:  # e.g. tls:// without a security configuration
+                raise InputError(
+                    f"executor address: cannot connect to {self._name()} as configured "
+                    f"({exc}); pass client_options such as security="
+                ) from None
+            self._owned = True
+        self.workers = max(1, sum(self._client.nthreads().values()))
+        log.debug("connected to the Dask scheduler %s (%d worker threads)", self._name(), self.workers)
+        return self
+
+    def _name(self) -> str:
+        return repr(getattr(self.address, "scheduler_address", self.address))
+
+    @property
+    def client(self) -> Any:
+        """The connected ``distributed.Client`` (after :meth:`start`)."""
+        return self._client
+
+    def close(self) -> None:
+        if self._client is not None and self._owned:
+            self._client.close()
+        self._client = None
+
+    def submit(self, fn: Callable[[Any], Any], arg: Any) -> Any:
+        if self._client is None:
+            self.start()
+        key = getattr(arg, "key", None)
+        return self._client.submit(fn, arg, pure=False, key=key)
+
+    def as_completed(self, futures: list[Any]) -> Iterator[Any]:
+        import distributed
+
+        return iter(distributed.as_completed(futures, loop=self._client.loop))
+
+    def result(self, future: Any) -> Any:
+        try:
+            return future.result()
+        except HeatstackError:
+            raise
+        except (OSError, TimeoutError) as exc:
+            raise ExecutorError(f"the Dask cluster failed ({type(exc).__name__}: {exc}); run again to resume") from None
+
+    def cancel(self, futures: list[Any]) -> None:
+        if self._client is not None and futures:
+            pending = [f for f in futures if not f.done()]
+            if pending:
+                self._client.cancel(pending)

@@ -1,0 +1,401 @@
+"""Running a study: every case built from the base mapping, run, summarised and stored.
+
+:func:`run_study` draws (or reads back) the sample table, skips cases the store already
+holds, sends the rest to an executor and writes each summary the moment it arrives.
+A failing case is recorded with its error text and the study goes on. An interrupted
+study is resumed by calling :func:`run_study` again with the same description and store.
+
+Each worker process keeps a small cache of meshed models keyed by the content of the
+case's ``assembly`` and ``materials`` sections (fuse-plug release temperatures and
+tolerances left out: they do not change the mesh). Cases that vary only the duty, the
+environment, the solver or the fuse-plug ratings reuse one model per worker; cases that
+vary a dimension or a contact conductance build their own.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import logging
+import math
+import os
+import socket
+import sys
+import threading
+import time
+import traceback
+import uuid
+import warnings
+from collections import OrderedDict
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..errors import HeatstackError, InputError
+from .analysis import StudyTable
+from .description import Study, StudyPlan, plan_study
+from .executors import DaskExecutor, LocalExecutor, StudyExecutor
+from .store import StudyStore
+
+__all__ = [
+    "CaseJob",
+    "CaseOutcome",
+    "StudyRun",
+    "run_study",
+    "run_one_case",
+    "summarise",
+    "clear_model_cache",
+]
+
+log = logging.getLogger(__name__)
+
+#: Meshed models kept per worker process.
+MODEL_CACHE_SIZE = 4
+
+_MODELS: OrderedDict[str, Any] = OrderedDict()
+_MODELS_LOCK = threading.Lock()
+
+
+@dataclass(frozen=True)
+class CaseJob:
+    """What a worker needs to run one case (picklable).
+
+    Attributes
+    ----------
+    index : int
+        Case number (row of the sample table).
+    mapping : dict
+        The case's TOML mapping with the overrides and parameter values written in.
+    text, origin, base_dir : str
+        Base case text, file name and folder.
+    outputs : tuple of str or None
+        Probes or series whose peaks are collected (None: all).
+    """
+
+    index: int
+    mapping: dict
+    text: str
+    origin: str
+    base_dir: str
+    outputs: tuple[str, ...] | None = None
+
+    @property
+    def key(self) -> str:
+        """A task name for schedulers."""
+        return f"heatstack-case-{self.index}-{uuid.uuid4().hex}"
+
+
+@dataclass(frozen=True, eq=False)
+class CaseOutcome:
+    """The summary of one case, as a worker returns it.
+
+    Attributes
+    ----------
+    index : int
+    status : {"ok", "failed"}
+    names : tuple of str
+        Output names (see :func:`summarise`).
+    values : ndarray
+        Output values [SI], one per name.
+    error : str
+        Error text of a failed case ("" if ok).
+    warnings : str
+        Warnings raised while the case ran, one a line.
+    wall_time : float
+        [s]
+    worker : str
+        ``host:pid`` of the worker.
+    model_reused : bool
+        Whether the worker's cached model served the case.
+    """
+
+    index: int
+    status: str
+    names: tuple[str, ...]
+    values: np.ndarray
+    error: str = ""
+    warnings: str = ""
+    wall_time: float = 0.0
+    worker: str = ""
+    model_reused: bool = False
+
+
+def clear_model_cache() -> None:
+    """Forget the models cached in this process."""
+    with _MODELS_LOCK:
+        _MODELS.clear()
+
+
+def _model_key(mapping: Mapping) -> str:
+    assembly = json.loads(json.dumps(mapping.get("assembly", {}), default=str))
+    for plug in assembly.get("fuse_plugs", []) if isinstance(assembly, dict) else []:
+        if isinstance(plug, dict):
+            plug.pop("release_temperature", None)
+            plug.pop("tolerance", None)
+    content = {"assembly": assembly, "materials": mapping.get("materials", {})}
+    return hashlib.sha256(json.dumps(content, sort_keys=True, default=str).encode("utf-8")).hexdigest()
+
+
+def _model_for(case: Any, mapping: Mapping) -> tuple[Any, bool]:
+    key = _model_key(mapping)
+    with _MODELS_LOCK:
+        if key in _MODELS:
+            _MODELS.move_to_end(key)
+            return _MODELS[key], True
+    model = case.build_model()
+    with _MODELS_LOCK:
+        _MODELS[key] = model
+        while len(_MODELS) > MODEL_CACHE_SIZE:
+            _MODELS.popitem(last=False)
+    return model, False
+
+
+def summarise(case: Any, result: Any, outputs: Sequence[str] | None = None) -> list[tuple[str, float]]:
+    """The collected outputs of one run, as (name, SI value) pairs.
+
+    Names: ``peak:<x>`` [K], ``peak_time:<x>`` [s] and ``peak_delay:<x>`` (time of the
+    peak after the end of braking) [s] for each probe reading or series ``x``;
+    ``limit_margin:<x>`` = limit - peak [K] for each of the case's ``output.limits``;
+    ``plug_peak:<p>`` [K], ``plug_released:<p>`` (1 when the plug's peak reading reaches
+    its release temperature, else 0) and ``plug_margin:<p>`` = release temperature -
+    peak [K] for each fuse plug, with ``any_plug_released`` and ``plug_margin_min``;
+    ``energy_in`` [J]; ``solver:<statistic>``.
+
+    Parameters
+    ----------
+    case : heatstack.case.Case
+    result : heatstack.result.Result
+    outputs : sequence of str, optional
+        Probes or series to collect peaks of; every probe and every global series
+        (not the per-surface-group means) by default.
+    """
+    names = (
+        list(outputs)
+        if outputs is not None
+        else [*result.readings, *(s for s in result.series if not s.startswith("surface:"))]
+    )
+    out: list[tuple[str, float]] = []
+    end = float(result.end_of_heating)
+    for name in names:
+        peak, when = result.peak(name)
+        out += [(f"peak:{name}", peak), (f"peak_time:{name}", when), (f"peak_delay:{name}", when - end)]
+    for name, limit in case.output.limits.items():
+        out.append((f"limit_margin:{name}", float(limit) - result.peak(name)[0]))
+    margins, released = [], []
+    for plug in case.fuse_plugs:
+        peak = result.peak(plug.name)[0]
+        margin = float(plug.release_temperature) - peak
+        hit = peak >= float(plug.release_temperature)
+        out += [
+            (f"plug_peak:{plug.name}", peak),
+            (f"plug_released:{plug.name}", 1.0 if hit else 0.0),
+            (f"plug_margin:{plug.name}", margin),
+        ]
+        margins.append(margin)
+        released.append(hit)
+    if case.fuse_plugs:
+        out += [("any_plug_released", 1.0 if any(released) else 0.0), ("plug_margin_min", min(margins))]
+    out.append(("energy_in", float(result.ledger.heat_in[-1])))
+    for key, value in sorted(result.metadata.get("solver", {}).items()):
+        if isinstance(value, int | float) and not isinstance(value, bool):
+            out.append((f"solver:{key}", float(value)))
+    return out
+
+
+def run_one_case(job: CaseJob) -> CaseOutcome:
+    """Build, run and summarise one case; never raises for a failing case.
+
+    A case that fails (bad sampled value, solver failure, anything) comes back with
+    ``status = "failed"`` and its error text.
+    """
+    from ..case import case_from_mapping, run_case
+
+    start = time.perf_counter()
+    worker = f"{socket.gethostname()}:{os.getpid()}"
+    reused = False
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        try:
+            origin = f"{job.origin} (study case {job.index})"
+            case = case_from_mapping(job.mapping, job.text, origin, Path(job.base_dir))
+            model, reused = _model_for(case, job.mapping)
+            result = run_case(case, model)
+            pairs = summarise(case, result, job.outputs)
+            status, error = "ok", ""
+        except HeatstackError as exc:
+            pairs, status, error = [], "failed", f"{type(exc).__name__}: {exc}"
+        except Exception as exc:  # a case must never stop the study
+            last = traceback.format_exception(exc)[-3:]
+            pairs, status, error = [], "failed", f"{type(exc).__name__}: {exc}\n{''.join(last)}"
+    text = "\n".join(dict.fromkeys(f"{w.category.__name__}: {w.message}" for w in caught))
+    return CaseOutcome(
+        index=job.index,
+        status=status,
+        names=tuple(n for n, _ in pairs),
+        values=np.array([v for _, v in pairs], dtype=float),
+        error=error,
+        warnings=text,
+        wall_time=time.perf_counter() - start,
+        worker=worker,
+        model_reused=reused,
+    )
+
+
+@dataclass(frozen=True, eq=False)
+class StudyRun:
+    """What :func:`run_study` did.
+
+    Attributes
+    ----------
+    store : Path
+    table : StudyTable
+        The whole table read back from the store, in case order.
+    cases_run : int
+        Cases run by this call.
+    cases_skipped : int
+        Cases already in the store.
+    cases_failed : int
+        Cases of this call that failed.
+    seconds : float
+        Wall time of this call [s].
+    executor : str
+    """
+
+    store: Path
+    table: StudyTable
+    cases_run: int
+    cases_skipped: int
+    cases_failed: int
+    seconds: float
+    executor: str = ""
+
+    @property
+    def cases_per_second(self) -> float:
+        """Cases run by this call per second of wall time [1/s]."""
+        return self.cases_run / self.seconds if self.seconds > 0 else math.nan
+
+
+def _executor(executor: StudyExecutor | str | None, timeout: float) -> tuple[StudyExecutor, bool]:
+    if executor is None or executor == "local":
+        return LocalExecutor(), True
+    if isinstance(executor, str):
+        return DaskExecutor(executor, timeout=timeout), True
+    if isinstance(executor, StudyExecutor):
+        return executor, False
+    raise InputError(f"executor: expected 'local', a scheduler address or a StudyExecutor, got {executor!r}")
+
+
+def _progress(progress: bool | Callable[[int, int], None] | None, total: int) -> tuple[Callable, Callable]:
+    if callable(progress):
+        done = [0]
+
+        def step() -> None:
+            done[0] += 1
+            progress(done[0], total)
+
+        return step, lambda: None
+    show = sys.stderr.isatty() if progress is None else bool(progress)
+    if not show or total == 0:
+        return (lambda: None), (lambda: None)
+    from tqdm import tqdm
+
+    bar = tqdm(total=total, unit="case", desc="study", file=sys.stderr)
+    return (lambda: bar.update(1)), bar.close
+
+
+def _jobs(plan: StudyPlan, indices: Sequence[int]) -> Iterator[CaseJob]:
+    for index in indices:
+        yield CaseJob(
+            index=int(index),
+            mapping=plan.case_mapping(int(index)),
+            text=plan.base_text,
+            origin=plan.origin,
+            base_dir=plan.base_dir,
+            outputs=plan.outputs,
+        )
+
+
+def run_study(
+    study: Study | StudyPlan,
+    store: str | os.PathLike,
+    executor: StudyExecutor | str | None = None,
+    *,
+    progress: bool | Callable[[int, int], None] | None = None,
+    retry_failed: bool = False,
+    timeout: float = 10.0,
+) -> StudyRun:
+    """Run (or resume) a study into a store folder.
+
+    Parameters
+    ----------
+    study : Study or StudyPlan
+    store : str or path
+        Store folder (created if absent; see :mod:`heatstack.studies.store`).
+    executor : StudyExecutor or str, optional
+        ``None`` or ``"local"``: a :class:`LocalExecutor` on every core; a string: the
+        address of a Dask scheduler; or an executor object (left open afterwards).
+    progress : bool or callable, optional
+        A tqdm bar on standard error when ``True`` (by default only at a terminal), or a
+        function called with (cases done, cases to do) after each case.
+    retry_failed : bool
+        Run again the cases the store records as failed.
+    timeout : float
+        Seconds to wait for a Dask scheduler given by address [s].
+
+    Returns
+    -------
+    StudyRun
+
+    Raises
+    ------
+    InputError
+        A bad description (before anything runs); a store that cannot be written or
+        that holds a different study (before the first case); an unreachable scheduler
+        (within ``timeout``, nothing written).
+    """
+    plan = study if isinstance(study, StudyPlan) else plan_study(study)
+    target = StudyStore(store)
+    target.preflight()
+    runner, owned = _executor(executor, timeout)
+    started = time.perf_counter()
+    run = failed = skipped = 0
+    try:
+        runner.start()
+        with target.session(plan) as session:
+            todo = session.todo(retry_failed=retry_failed)
+            skipped = plan.n_cases - len(todo)
+            log.info(
+                "study %r: %d cases, %d in the store, %d to run on %s",
+                plan.study.title,
+                plan.n_cases,
+                skipped,
+                len(todo),
+                runner.describe(),
+            )
+            step, finish = _progress(progress, len(todo))
+            try:
+                for outcome in runner.map_unordered(run_one_case, _jobs(plan, todo)):
+                    session.write_case(outcome)
+                    run += 1
+                    if outcome.status != "ok":
+                        failed += 1
+                        log.warning("case %d failed: %s", outcome.index, outcome.error.splitlines()[0])
+                    step()
+            finally:
+                finish()
+    finally:
+        if owned:
+            runner.close()
+    seconds = time.perf_counter() - started
+    return StudyRun(
+        store=target.root,
+        table=target.table(),
+        cases_run=run,
+        cases_skipped=skipped,
+        cases_failed=failed,
+        seconds=seconds,
+        executor=runner.describe(),
+    )

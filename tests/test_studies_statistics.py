@@ -1,0 +1,229 @@
+"""Study statistics: binomial intervals, their coverage, percentiles, sensitivities, the report.
+
+Pure statistics, no solver. Sources, beside each check:
+
+* Wilson, E.B., 1927, J. Am. Stat. Assoc. 22, 209-212 (score interval; its closed form
+  is re-derived in :func:`wilson_closed_form` below).
+* Clopper, C.J., Pearson, E.S., 1934, Biometrika 26, 404-413 (exact interval; at k = 0
+  the upper bound is 1 - (alpha/2)^(1/n) in closed form).
+* Newcombe, R.G., 1998, Statistics in Medicine 17, 857-872, Table I: intervals for
+  81/263, 15/148, 0/20 and 1/29 (values quoted from memory to 4 decimals).
+* Brown, L.D., Cai, T.T., DasGupta, A., 2001, Statistical Science 16, 101-133: the
+  Clopper-Pearson coverage is never below nominal; Wilson's oscillates about it (from
+  memory).
+* Saltelli, A. et al., 2008, Global Sensitivity Analysis: The Primer, Wiley, sec. 1.2:
+  for a linear model with independent inputs SRC_i = b_i sigma_i / sigma_y and the
+  squared SRCs sum to R^2 (from memory).
+* Hyndman, R.J., Fan, Y., 1996, The American Statistician 50, 361-365, definition 7
+  (numpy's default linear percentile).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from heatstack.errors import InputError
+from heatstack.studies import (
+    OptionalDependencyError,
+    StudyTable,
+    binomial_intervals,
+    margin_percentiles,
+    release_probability,
+    sensitivity,
+    study_report,
+)
+
+
+def wilson_closed_form(k: int, n: int, confidence: float) -> tuple[float, float]:
+    """Wilson 1927: centre (p + z^2/2n)/(1 + z^2/n), half-width z/(1 + z^2/n) sqrt(p(1-p)/n + z^2/4n^2)."""
+    z = stats.norm.ppf(0.5 + confidence / 2.0)
+    p = k / n
+    centre = (p + z * z / (2 * n)) / (1 + z * z / n)
+    half = z / (1 + z * z / n) * math.sqrt(p * (1 - p) / n + z * z / (4 * n * n))
+    return centre - half, centre + half
+
+
+def make_table(columns: dict, parameters=(), title="synthetic (test)", method="random") -> StudyTable:
+    n = len(next(iter(columns.values())))
+    cols = {"case": np.arange(n), **{k: np.asarray(v) for k, v in columns.items()}}
+    cols.setdefault("status", np.array(["ok"] * n))
+    cols.setdefault("error", np.array([""] * n))
+    outputs = tuple(k for k in columns if k not in parameters and k not in ("status", "error"))
+    return StudyTable(cols, tuple(parameters), outputs, {}, title, method)
+
+
+# ---------------------------------------------------------------------------- intervals
+
+
+@pytest.mark.parametrize(
+    ("k", "n", "wilson", "exact"),
+    [
+        (81, 263, (0.2553, 0.3662), (0.2527, 0.3676)),
+        (15, 148, (0.0624, 0.1605), (0.0578, 0.1617)),
+        (0, 20, (0.0000, 0.1611), (0.0000, 0.1684)),
+        (1, 29, (0.0061, 0.1718), (0.0009, 0.1776)),
+    ],
+)
+def test_intervals_match_newcombe_1998_table(k, n, wilson, exact):
+    w, cp = binomial_intervals(k, n, 0.95)
+    assert w == pytest.approx(wilson, abs=6e-5)
+    assert cp == pytest.approx(exact, abs=6e-5)
+
+
+@pytest.mark.parametrize(("k", "n"), [(0, 10), (3, 10), (10, 10), (17, 50), (250, 1000)])
+def test_wilson_matches_its_closed_form(k, n):
+    w, _ = binomial_intervals(k, n, 0.9)
+    assert w == pytest.approx(wilson_closed_form(k, n, 0.9), abs=1e-12)
+
+
+def test_clopper_pearson_ends_in_closed_form():
+    # k = 0: upper bound solves (1 - p)^n = alpha/2; k = n: lower bound solves p^n = alpha/2
+    n, alpha = 37, 0.05
+    _, (low, high) = binomial_intervals(0, n, 0.95)
+    assert low == 0.0 and high == pytest.approx(1 - (alpha / 2) ** (1 / n), rel=1e-12)
+    _, (low, high) = binomial_intervals(n, n, 0.95)
+    assert high == 1.0 and low == pytest.approx((alpha / 2) ** (1 / n), rel=1e-12)
+
+
+def _exact_coverage(p: float, n: int, intervals: np.ndarray) -> float:
+    k = np.arange(n + 1)
+    covered = (intervals[:, 0] <= p) & (p <= intervals[:, 1])
+    return float(np.sum(stats.binom.pmf(k, n, p)[covered]))
+
+
+@pytest.mark.parametrize("p", [0.05, 0.2, 0.5])
+def test_intervals_cover_a_known_probability_at_the_nominal_rate(p):
+    # 2000 synthetic studies of n = 50 Bernoulli(p) cases: the fraction of intervals that
+    # cover p agrees with the exact coverage within binomial noise (4 sigma), and the
+    # exact coverage sits at the nominal 95 % (Clopper-Pearson never below; Wilson within
+    # 2 points: Brown, Cai & DasGupta 2001)
+    n, trials, confidence = 50, 2000, 0.95
+    rng = np.random.default_rng(20260)
+    table = [binomial_intervals(k, n, confidence) for k in range(n + 1)]
+    wilson = np.array([t[0] for t in table])
+    exact = np.array([t[1] for t in table])
+    k = rng.binomial(n, p, size=trials)
+    for intervals, floor in ((wilson, confidence - 0.02), (exact, confidence)):
+        expected = _exact_coverage(p, n, intervals)
+        assert expected >= floor - 1e-12
+        observed = float(np.mean((intervals[k, 0] <= p) & (p <= intervals[k, 1])))
+        sigma = math.sqrt(expected * (1 - expected) / trials)
+        assert abs(observed - expected) <= 4 * sigma + 1e-12
+        assert observed >= confidence - 0.02 - 4 * math.sqrt(confidence * (1 - confidence) / trials)
+
+
+def test_interval_input_errors():
+    with pytest.raises(InputError, match="events <= trials"):
+        binomial_intervals(5, 3)
+    with pytest.raises(InputError, match="confidence"):
+        binomial_intervals(1, 3, 1.5)
+    with pytest.raises(InputError, match="whole number"):
+        binomial_intervals(1.5, 3)
+
+
+def test_release_probability_any_plug_and_per_plug():
+    a = np.array([1, 0, 0, 1, 0, 0, 0, 0, 1, 0], dtype=float)
+    b = np.array([1, 1, 0, 0, 0, 0, 0, 0, 0, 0], dtype=float)
+    status = np.array(["ok"] * 9 + ["failed"])
+    table = make_table(
+        {
+            "plug_released:plug 1": a,
+            "plug_released:plug 2": b,
+            "any_plug_released": np.maximum(a, b),
+            "status": status,
+        }
+    )
+    est = release_probability(table)
+    assert (est.events, est.trials) == (4, 9)  # the failed case is not counted
+    assert est.wilson == pytest.approx(wilson_closed_form(4, 9, 0.95))
+    assert release_probability(table, "plug 2").events == 2
+    with pytest.raises(InputError, match="no fuse plug named 'plug1'; did you mean 'plug 1'"):
+        release_probability(table, "plug1")
+
+
+# ---------------------------------------------------------------------------- percentiles, sensitivity
+
+
+def test_margin_percentiles_linear_interpolation():
+    # Hyndman & Fan definition 7 on 0..100: the q-th percentile is q itself
+    table = make_table({"plug_margin_min": np.arange(101.0)})
+    assert margin_percentiles(table) == {5.0: 5.0, 50.0: 50.0, 95.0: 95.0}
+    table = make_table({"plug_margin_min": np.array([1.0, 2.0, np.nan, 4.0])})
+    assert margin_percentiles(table, q=[50]) == {50.0: 2.0}
+
+
+def test_sensitivity_of_a_linear_model_matches_the_closed_form():
+    rng = np.random.default_rng(4)
+    n = 4000
+    x = rng.uniform(0.0, 1.0, size=(n, 3))
+    noise = 0.1
+    y = 4.0 * x[:, 0] - 1.0 * x[:, 1] + 0.0 * x[:, 2] + rng.normal(0.0, noise, n)
+    table = make_table({"a": x[:, 0], "b": x[:, 1], "c": x[:, 2], "out": y}, parameters=("a", "b", "c"))
+    result = sensitivity(table, "out")
+    assert [e.parameter for e in result.entries] == ["a", "b", "c"]
+    sigma_x = 1 / math.sqrt(12)
+    sigma_y = math.sqrt((16 + 1) * sigma_x**2 + noise**2)
+    src = {e.parameter: e.src for e in result.entries}
+    assert src["a"] == pytest.approx(4 * sigma_x / sigma_y, abs=0.02)
+    assert src["b"] == pytest.approx(-sigma_x / sigma_y, abs=0.02)
+    assert abs(src["c"]) < 0.02
+    assert sum(v * v for v in src.values()) == pytest.approx(result.r_squared, abs=0.01)
+    assert result.entries[2].p_value > 1e-3 and result.entries[0].p_value < 1e-12
+
+
+def test_sensitivity_skips_constant_parameters_and_needs_enough_cases():
+    x = np.linspace(0, 1, 10)
+    table = make_table({"a": x, "k": np.ones(10), "out": 2 * x}, parameters=("a", "k"))
+    result = sensitivity(table, "out")
+    assert result.skipped == ("k",) and result.entries[0].spearman == pytest.approx(1.0)
+    small = make_table({"a": x[:2], "out": x[:2]}, parameters=("a",))
+    with pytest.raises(InputError, match="too few"):
+        sensitivity(small, "out")
+    with pytest.raises(InputError, match="no column 'outt'; did you mean 'out'"):
+        sensitivity(table, "outt")
+
+
+def test_report_lists_probabilities_margins_and_failures():
+    n = 40
+    rng = np.random.default_rng(1)
+    mass = rng.uniform(50e3, 70e3, n)
+    margin = 20.0 - (mass - 50e3) / 500.0
+    status = np.array(["ok"] * (n - 1) + ["failed"])
+    error = np.array([""] * (n - 1) + ["SolverError: invented failure for the test"])
+    table = make_table(
+        {
+            "mass": mass,
+            "plug_released:fuse plug 1": (margin <= 0).astype(float),
+            "plug_margin:fuse plug 1": margin,
+            "plug_peak:fuse plug 1": 450.15 - margin,
+            "any_plug_released": (margin <= 0).astype(float),
+            "plug_margin_min": margin,
+            "status": status,
+            "error": error,
+        },
+        parameters=("mass",),
+        method="latin_hypercube",
+    )
+    text = study_report(table)
+    est = release_probability(table)
+    assert "Not certified data" in text
+    assert f"| any plug | {est.events} / {n - 1} | {est.estimate:.3f} |" in text
+    assert f"{est.wilson[0]:.3f} - {est.wilson[1]:.3f}" in text
+    assert "case 39: SolverError: invented failure" in text
+    assert "| mass | -1.000 |" in text
+
+
+def test_table_to_dataframe_or_a_clear_error():
+    table = make_table({"x": np.arange(3.0)})
+    try:
+        import pandas  # noqa: F401
+    except ImportError:
+        with pytest.raises(OptionalDependencyError, match="pandas, an optional dependency"):
+            table.to_dataframe()
+    else:
+        frame = table.to_dataframe()
+        assert list(frame["x"]) == [0.0, 1.0, 2.0]

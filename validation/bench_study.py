@@ -1,0 +1,226 @@
+"""Benchmark: a 1,000-case Monte Carlo of fuse-plug margins after the invented rejected take-off.
+
+Not a test (``validation/`` is outside the pytest ``testpaths``); run by hand from the
+repository root::
+
+    PYTHONPATH=. python validation/bench_study.py                  # settings sweep + 1000 cases
+    PYTHONPATH=. python validation/bench_study.py --cases 100      # fewer cases, extrapolated
+    PYTHONPATH=. python validation/bench_study.py --dask tcp://host:8786
+
+Step 1 (settings): the demonstration case ``examples/demo_rto.toml`` (an invented
+rejected take-off, 5 min held, 3 h of parked cooling) is run once at each cell size
+4 / 6 / 8 mm and solver target change 4 / 8 / 10 K, timed, and its sensor and fuse-plug
+peaks compared with the case's defaults (4 mm, 4 K). The study settings are the
+coarsest cell and then the largest target change whose peaks (sensor and both plugs)
+stay within ``--tolerance`` (1 K) of the defaults; ``--cell-size`` and
+``--target-change`` override the choice.
+
+Step 2 (study): a Latin hypercube of ``--cases`` cases (seed 20261201) on a local process
+pool of ``--workers`` processes (every core by default) or a Dask cluster. The varied
+inputs and their scatter are INVENTED for the benchmark (no real fleet data):
+
+* aircraft mass: truncated normal, mean 58 t, standard deviation 4 t, cut to 48-70 t;
+* brake-on speed: triangular 120 / 130 / 140 kt;
+* ambient temperature (all three phases, and the brake's starting temperature):
+  uniform 5-40 degC;
+* rotor-stator contact conductance when clamped: uniform +-20 % about the design value;
+* release temperature of each fuse plug: uniform within its tolerance (177 +- 3 degC).
+
+Printed: the settings table, the chosen settings and their accuracy cost, the study's
+wall time, cases per second, model reuse, failures, the release probability with its
+Wilson and Clopper-Pearson intervals, margin percentiles, the sensitivity ranking, and
+as the LAST line ``study_minutes_1000_cases: X`` -- measured when 1000 cases were run,
+otherwise extrapolated linearly from the cases run (and then said so on the line before).
+
+Timing rule: wall clock (``time.perf_counter``) of :func:`run_study` in this process,
+from start to the last case written, pool start-up included. Not certified data.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import shutil
+import sys
+import tempfile
+import time
+import tomllib
+from pathlib import Path
+
+import numpy as np
+
+from heatstack.case import _parse, load_case, run_case
+from heatstack.studies import (
+    DaskExecutor,
+    LocalExecutor,
+    Parameter,
+    Sampling,
+    Study,
+    Triangular,
+    TruncatedNormal,
+    Uniform,
+    margin_percentiles,
+    release_probability,
+    run_study,
+    sensitivity,
+)
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = ROOT / "examples" / "demo_rto.toml"
+CELLS = (0.004, 0.006, 0.008)
+CHANGES = (4.0, 8.0, 10.0)
+WATCHED = ("sensor", "fuse plug 1", "fuse plug 2")
+SEED = 20261201
+
+
+def settings_sweep() -> list[dict]:
+    """Run the demo once per (cell size, target change); return timings and peaks."""
+    text = DEMO.read_text(encoding="utf-8")
+    rows = []
+    for cell in CELLS:
+        for change in CHANGES:
+            data = tomllib.loads(text)
+            data["assembly"]["cell_size"] = cell
+            data.setdefault("solver", {})["target_change"] = change
+            case = _parse(data, text, DEMO.name, DEMO.parent)
+            started = time.perf_counter()
+            model = case.build_model()
+            result = run_case(case, model)
+            seconds = time.perf_counter() - started
+            rows.append(
+                {
+                    "cell": cell,
+                    "change": change,
+                    "cells": model.n_cells,
+                    "steps": result.metadata["solver"]["steps"],
+                    "seconds": seconds,
+                    "peaks": {name: result.peak(name)[0] for name in WATCHED},
+                }
+            )
+    return rows
+
+
+def choose(rows: list[dict], tolerance: float) -> tuple[dict, dict]:
+    reference = next(r for r in rows if r["cell"] == CELLS[0] and r["change"] == CHANGES[0])
+    for row in rows:
+        row["diff"] = {n: row["peaks"][n] - reference["peaks"][n] for n in WATCHED}
+    fits = [r for r in rows if max(abs(v) for v in r["diff"].values()) <= tolerance]
+    chosen = max(fits, key=lambda r: (r["cell"], r["change"]))
+    return chosen, reference
+
+
+def invented_study(cell: float, change: float, cases: int) -> Study:
+    case = load_case(DEMO)
+    h = case.built.design.rotor_stator_clamped
+    plugs = [
+        Parameter(
+            f"assembly.fuse_plugs[{k}].release_temperature",
+            Uniform(plug.release_temperature - plug.tolerance, plug.release_temperature + plug.tolerance),
+            name=f"{plug.name} release",
+        )
+        for k, plug in enumerate(case.fuse_plugs)
+    ]
+    ambient_paths = ["case.initial_temperature"] + [
+        f"duty.phases[{k}].environment.ambient_temperature" for k in range(len(case.duty.phases))
+    ]
+    return Study(
+        DEMO,
+        [
+            Parameter("duty.phases[0].events[0].mass", TruncatedNormal("58 t", "4 t", "48 t", "70 t"), name="mass"),
+            Parameter(
+                "duty.phases[0].events[0].brake_on_speed",
+                Triangular("120 kt", "130 kt", "140 kt"),
+                name="brake-on speed",
+            ),
+            Parameter(ambient_paths, Uniform("5 degC", "40 degC"), name="ambient"),
+            Parameter("assembly.design.rotor_stator_clamped", Uniform(0.8 * h, 1.2 * h), name="rotor-stator h"),
+            *plugs,
+        ],
+        Sampling("latin_hypercube", cases, SEED),
+        outputs=["sensor", "hottest rotor", "fuse plug 1", "fuse plug 2"],
+        cell_size=cell,
+        target_change=change,
+        title="invented RTO fuse-plug Monte Carlo (benchmark)",
+    )
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--cases", type=int, default=1000)
+    parser.add_argument("--workers", type=int, default=os.cpu_count())
+    parser.add_argument("--dask", default=None, help="Dask scheduler address instead of a local pool")
+    parser.add_argument("--tolerance", type=float, default=1.0, help="accepted peak change [K]")
+    parser.add_argument("--cell-size", type=float, default=None, help="[m], skips the choice")
+    parser.add_argument("--target-change", type=float, default=None, help="[K], skips the choice")
+    parser.add_argument("--store", default=None, help="store folder (kept); a temporary one by default")
+    args = parser.parse_args(argv)
+
+    print("Not certified data. Invented demonstration case and invented scatter.")
+    print(f"machine: {os.cpu_count()} cores; python {sys.version.split()[0]}")
+    print("\n1. settings: one demo case (RTO + 5 min held + 3 h cooling), differences vs 4 mm / 4 K")
+    rows = settings_sweep()
+    chosen, reference = choose(rows, args.tolerance)
+    print(f"{'cell':>6} {'dT':>5} {'cells':>6} {'steps':>6} {'time':>7}  " + "  ".join(f"{n:>12}" for n in WATCHED))
+    for r in rows:
+        diffs = "  ".join(f"{r['diff'][n]:+11.2f}K" for n in WATCHED)
+        head = f"{1000 * r['cell']:4.0f}mm {r['change']:4.0f}K {r['cells']:6d} {r['steps']:6d} {r['seconds']:6.2f}s"
+        print(f"{head}  {diffs}")
+    ref_peaks = ", ".join(f"{n} {reference['peaks'][n] - 273.15:.1f} degC" for n in WATCHED)
+    print(f"default-settings peaks: {ref_peaks}")
+    cell = args.cell_size if args.cell_size is not None else chosen["cell"]
+    change = args.target_change if args.target_change is not None else chosen["change"]
+    row = next((r for r in rows if r["cell"] == cell and r["change"] == change), None)
+    print(
+        f"study settings: cell {1000 * cell:g} mm, target change {change:g} K "
+        f"(rule: coarsest within {args.tolerance:g} K of the defaults)"
+    )
+    if row is not None:
+        cost = ", ".join(f"{n} {row['diff'][n]:+.2f} K" for n in WATCHED)
+        print(
+            f"accuracy cost of these settings (peak differences vs 4 mm / 4 K): {cost}; "
+            f"one case {row['seconds']:.2f} s vs {reference['seconds']:.2f} s"
+        )
+
+    print(f"\n2. study: {args.cases} cases, Latin hypercube, seed {SEED}")
+    study = invented_study(cell, change, args.cases)
+    store = Path(args.store) if args.store else Path(tempfile.mkdtemp(prefix="bench-study-")) / "store"
+    executor = DaskExecutor(args.dask) if args.dask else LocalExecutor(workers=args.workers)
+    started = time.perf_counter()
+    run = run_study(study, store, executor, progress=None)
+    seconds = time.perf_counter() - started
+    table = run.table
+    counts = table.counts()
+    print(f"executor: {run.executor}; store: {store}")
+    print(
+        f"cases run {run.cases_run} (skipped {run.cases_skipped}, failed {counts['failed']}); wall time {seconds:.1f} s"
+    )
+    rate = run.cases_run / seconds if seconds > 0 else float("nan")
+    per_case = np.nanmean(table["wall_time"])
+    print(f"cases_per_second: {rate:.3f}")
+    print(f"mean time per case in a worker: {per_case:.3f} s; model reused in {np.mean(table['model_reused']):.0%}")
+    print(f"solver steps per case: median {np.nanmedian(table['solver:steps']):.0f}")
+    if counts["ok"]:
+        for plug in (None, "fuse plug 1", "fuse plug 2"):
+            est = release_probability(table, plug)
+            print(
+                f"P(release, {est.label}) = {est.estimate:.3f} ({est.events}/{est.trials}); "
+                f"Wilson 95 % {est.wilson[0]:.3f}-{est.wilson[1]:.3f}, "
+                f"Clopper-Pearson 95 % {est.clopper_pearson[0]:.3f}-{est.clopper_pearson[1]:.3f}"
+            )
+        p = margin_percentiles(table, "plug_margin_min")
+        print(f"plug_margin_min [K]: P5 {p[5.0]:.1f}, P50 {p[50.0]:.1f}, P95 {p[95.0]:.1f}")
+        if counts["ok"] > len(table.parameter_names) + 1:
+            result = sensitivity(table, "plug_margin_min")
+            ranking = ", ".join(f"{e.parameter} {e.spearman:+.2f}" for e in result.entries)
+            print(f"Spearman ranking of plug_margin_min: {ranking} (linear R^2 {result.r_squared:.2f})")
+    if not args.store:
+        shutil.rmtree(store.parent, ignore_errors=True)
+    minutes = seconds / 60.0 * (1000.0 / max(run.cases_run, 1))
+    if run.cases_run != 1000:
+        print(f"extrapolated linearly to 1000 cases from {run.cases_run} cases run")
+    print(f"study_minutes_1000_cases: {minutes:.2f}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
