@@ -68,12 +68,8 @@ increase strictly. Example::
 
 from __future__ import annotations
 
-import csv
-import io
 import math
-import os
-import re
-from collections.abc import Callable, Iterable, Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -86,7 +82,8 @@ from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
 from ..numerics.solver import SolverOptions
 from ..operations.duty import DutyCycle
 from ..result import Result, State
-from ..units import to_si, to_si_array
+from ..traces import read_trace
+from ..units import to_si
 from ..whatif import check_history_name
 
 __all__ = [
@@ -119,17 +116,15 @@ class FitError(HeatstackError, RuntimeError):
 # ---------------------------------------------------------------------------- reading a trace
 
 
-_HEADER = re.compile(r"^\s*(time|temperature)(?:_(.+?))?\s*$", re.IGNORECASE)
-
-
 def read_sensor_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
     """Read a sensor trace: times [s] and readings [K].
 
     Parameters
     ----------
     path_or_rows : str or os.PathLike or text stream or iterable of (float, float)
-        A CSV file in the format of this module's docstring, an open text stream of it,
-        or rows of (time [s], temperature [K]).
+        A CSV file (``time_<unit>,temperature_<unit>`` header optional; see
+        :mod:`heatstack.traces`), an open text stream of it, or rows of
+        (time [s], temperature [K]).
 
     Returns
     -------
@@ -143,94 +138,15 @@ def read_sensor_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
         non-increasing entry, a temperature at or below 0 K, a bad header or an
         unknown unit; or for fewer than two data rows.
     """
-    if isinstance(path_or_rows, (str, os.PathLike)):
-        source = os.fspath(path_or_rows)
-        try:
-            with open(source, newline="", encoding="utf-8") as handle:
-                text = handle.read()
-        except OSError as exc:
-            raise InputError(f"sensor trace {source}: cannot read the file ({exc.strerror})") from None
-        return _parse_lines(text.splitlines(), source)
-    if isinstance(path_or_rows, io.TextIOBase):
-        return _parse_lines(path_or_rows.read().splitlines(), "stream")
-    rows = [(str(a), str(b)) for a, b in _pairs(path_or_rows)]
-    return _parse_rows(list(enumerate(rows, start=1)), "rows", "row", (None, None))
-
-
-def _pairs(rows: Iterable[Any]) -> Iterable[tuple[Any, Any]]:
-    for number, row in enumerate(rows, start=1):
-        if len(row) != 2:
-            raise InputError(f"sensor trace rows, row {number}: expected (time, temperature)")
-        yield row[0], row[1]
-
-
-def _parse_lines(lines: list[str], source: str) -> tuple[np.ndarray, np.ndarray]:
-    numbered = [
-        (number, row)
-        for number, row in enumerate(csv.reader(lines), start=1)
-        if row and "".join(row).strip() and not row[0].lstrip().startswith("#")
-    ]
-    if not numbered:
-        raise InputError(f"sensor trace {source}: no data rows")
-    units: tuple[str | None, str | None] = (None, None)
-    first_line, first = numbered[0]
-    if not _is_number(first[0]):
-        units = _header_units(first, source, first_line)
-        numbered = numbered[1:]
-    return _parse_rows(numbered, source, "line", units)
-
-
-def _is_number(text: str) -> bool:
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
-
-
-def _header_units(row: list[str], source: str, line: int) -> tuple[str | None, str | None]:
-    where = f"sensor trace {source}, line {line}"
-    matches = [_HEADER.match(cell) for cell in row]
-    if len(row) != 2 or not all(matches) or [m.group(1).lower() for m in matches] != ["time", "temperature"]:
-        raise InputError(f"{where}: header must be time_<unit>,temperature_<unit>, got {','.join(row)!r}")
-    units = tuple(m.group(2) for m in matches)
-    for unit, dimension in zip(units, ("time", "temperature"), strict=True):
-        if unit is not None:
-            to_si(1.0, unit, dimension, f"{where}, column {dimension}")
-    return units  # type: ignore[return-value]
-
-
-def _parse_rows(
-    numbered: list[tuple[int, Sequence[str]]], source: str, kind: str, units: tuple[str | None, str | None]
-) -> tuple[np.ndarray, np.ndarray]:
-    values = np.empty((len(numbered), 2))
-    for index, (number, row) in enumerate(numbered):
-        where = f"sensor trace {source}, {kind} {number}"
-        if len(row) != 2:
-            raise InputError(f"{where}: expected 2 values (time, temperature), got {len(row)}")
-        try:
-            values[index] = [float(cell) for cell in row]
-        except ValueError:
-            raise InputError(f"{where}: cannot read {','.join(row)!r} as numbers") from None
-        if not np.all(np.isfinite(values[index])):
-            raise InputError(f"{where}: non-finite value")
-        if index and values[index, 0] <= values[index - 1, 0]:
-            raise InputError(
-                f"{where}: time {values[index, 0]:g} does not increase from the previous "
-                f"{kind} ({values[index - 1, 0]:g})"
-            )
-    if len(numbered) < 2:
-        raise InputError(f"sensor trace {source}: needs at least two data rows, got {len(numbered)}")
-    times = to_si_array(values[:, 0], units[0], "time", f"sensor trace {source}, time")
-    temperatures = to_si_array(values[:, 1], units[1], "temperature", f"sensor trace {source}, temperature")
+    times, temperatures, lines = read_trace(path_or_rows, "sensor trace", "temperature", "temperature")
     cold = np.flatnonzero(~(temperatures > 0))
     if cold.size:
-        number = numbered[int(cold[0])][0]
+        k = int(cold[0])
         raise InputError(
-            f"sensor trace {source}, {kind} {number}: temperature {values[cold[0], 1]:g} is at or "
-            "below absolute zero (wrong unit in the header?)"
+            f"{lines[k]}: temperature {temperatures[k]:g} is at or below absolute zero "
+            "(in K; wrong unit in the header?)"
         )
-    return np.asarray(times, dtype=float), np.asarray(temperatures, dtype=float)
+    return times, temperatures
 
 
 # ---------------------------------------------------------------------------- convection multiplier
@@ -437,9 +353,7 @@ def _check_trace(trace_t: Any, trace_T: Any, n_parameters: int) -> tuple[np.ndar
     t = np.asarray(trace_t, dtype=float)
     y = np.asarray(trace_T, dtype=float)
     if t.ndim != 1 or y.shape != t.shape:
-        raise InputError(
-            f"trace: times and temperatures must be 1-D of equal length, got {t.shape}, {y.shape}"
-        )
+        raise InputError(f"trace: times and temperatures must be 1-D of equal length, got {t.shape}, {y.shape}")
     needed = n_parameters + 2
     if t.size < needed:
         raise InputError(
@@ -452,9 +366,7 @@ def _check_trace(trace_t: Any, trace_T: Any, n_parameters: int) -> tuple[np.ndar
     steps = np.diff(t)
     if np.any(steps <= 0):
         k = int(np.flatnonzero(steps <= 0)[0]) + 1
-        raise InputError(
-            f"trace row {k + 1}: time {t[k]:g} s does not increase from the previous {t[k - 1]:g} s"
-        )
+        raise InputError(f"trace row {k + 1}: time {t[k]:g} s does not increase from the previous {t[k - 1]:g} s")
     if np.any(y <= 0):
         k = int(np.flatnonzero(y <= 0)[0])
         raise InputError(f"trace row {k + 1}: temperature {y[k]:g} K is not above absolute zero")
@@ -501,9 +413,7 @@ class _Surrogate:
             float(values.get("convection_multiplier", self.c_ref)),
         )
 
-    def evaluate(
-        self, p: np.ndarray, points: list[tuple[float, np.ndarray]]
-    ) -> tuple[np.ndarray, np.ndarray]:
+    def evaluate(self, p: np.ndarray, points: list[tuple[float, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
         """Surrogate response (without defect) and Jacobian (n, len(p)) at ``p``."""
         energy, t0, c = self.split(p)
         value, slope = self.lagrange(points, energy)
@@ -638,18 +548,14 @@ def estimate_energy(
         if np.ndim(initial_temperature) == 0 and not isinstance(initial_temperature, Mapping):
             uniform = to_si(initial_temperature, None, "temperature", "initial_temperature")
     if fit_initial_temperature and uniform is None:
-        raise InputError(
-            "fit_initial_temperature: needs a uniform initial_temperature [K] as the first guess"
-        )
+        raise InputError("fit_initial_temperature: needs a uniform initial_temperature [K] as the first guess")
     t_start = default_start if start is None else to_si(start, None, "time", "start")
     if not (math.isfinite(convection_multiplier) and convection_multiplier > 0):
         raise InputError(f"convection_multiplier: must be > 0, got {convection_multiplier}")
     if int(max_runs) != max_runs or max_runs < 3 + len(names):
         raise InputError(f"max_runs: must be a whole number >= {3 + len(names)}, got {max_runs}")
 
-    forward = _Forward(
-        model, make_duty, length_scales, t, uniform or initial_temperature, sensor, t_start, options
-    )
+    forward = _Forward(model, make_duty, length_scales, t, uniform or initial_temperature, sensor, t_start, options)
     if energy_guess is None:
         e_guess = forward.nominal or 1e7
     else:
@@ -733,9 +639,7 @@ def _fit(
             best = (p.copy(), result, residual, cov, sd)
         if not np.all(np.isfinite(se)):
             reason = "the trace does not determine the parameters (singular Jacobian): " + (
-                "fit fewer parameters or use a longer trace"
-                if len(names) > 1
-                else "is the sensor responsive?"
+                "fit fewer parameters or use a longer trace" if len(names) > 1 else "is the sensor responsive?"
             )
             break
         tolerance = np.maximum(0.05 * se, _floor(p, names))
@@ -767,9 +671,7 @@ def _fit(
         f"{p[0] / 1e6:.4g} MJ (the lowest residual of the check runs, rms "
         f"{math.sqrt(np.mean(residual**2)):.3g} K); raise max_runs or give a closer energy_guess"
     )
-    estimate = _answer(
-        names, p, result, residual, cov, sd, t.size, forward.runs, False, message, t0_ref, c_ref
-    )
+    estimate = _answer(names, p, result, residual, cov, sd, t.size, forward.runs, False, message, t0_ref, c_ref)
     if raise_on_failure:
         raise FitError(message, estimate)
     return estimate
@@ -814,9 +716,7 @@ def _done_message(names: tuple[str, ...], runs: int) -> str:
     return f"converged: {', '.join(names)} fitted with {runs} full runs"
 
 
-def _answer(
-    names, p, result, residual, cov, sd, n, runs, converged, message, t0_ref, c_ref
-) -> EnergyEstimate:
+def _answer(names, p, result, residual, cov, sd, n, runs, converged, message, t0_ref, c_ref) -> EnergyEstimate:
     values = dict(zip(names, p, strict=True))
     errors = dict(zip(names, np.sqrt(np.diag(cov)), strict=True))
     fitted_t0 = "initial_temperature" in names

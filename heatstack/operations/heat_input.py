@@ -28,19 +28,16 @@ Times must increase strictly. Example::
 
 from __future__ import annotations
 
-import csv
-import io
 import math
-import os
-import re
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any, Literal
 
 import numpy as np
 
-from ..errors import InputError, ScheduleError
+from ..errors import InputError
 from ..numerics.schedule import PowerHistory
+from ..traces import read_trace
 from ..units import to_si, to_si_array
 from . import atmosphere
 
@@ -132,9 +129,7 @@ def _count(value: Any, field: str) -> int:
     return int(value)
 
 
-def _share_function(
-    share: Share, speed_unit: str | None
-) -> tuple[Callable[[np.ndarray], np.ndarray], float | None]:
+def _share_function(share: Share, speed_unit: str | None) -> tuple[Callable[[np.ndarray], np.ndarray], float | None]:
     """Return ``(f(v) -> share, constant or None)`` from a brake-share input."""
     if callable(share):
         return _checked(share), None
@@ -226,9 +221,7 @@ def _label(profile: Any) -> str:
     return profile if isinstance(profile, str) else "table"
 
 
-def _table_profile(
-    profile: Sequence[Sequence[float]], energy: float, duration: float, start: float
-) -> PowerHistory:
+def _table_profile(profile: Sequence[Sequence[float]], energy: float, duration: float, start: float) -> PowerHistory:
     try:
         table = np.asarray(profile, dtype=float)
     except (TypeError, ValueError):
@@ -396,8 +389,9 @@ def read_speed_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
     Parameters
     ----------
     path_or_rows : str or os.PathLike or text stream or iterable of (float, float)
-        A CSV file in the format of this module's docstring, an open text stream of
-        it, or rows of (time [s], ground speed [m/s]).
+        A CSV file (``time_<unit>,ground_speed_<unit>`` header optional; see
+        :mod:`heatstack.traces`), an open text stream of it, or rows of
+        (time [s], ground speed [m/s]).
 
     Raises
     ------
@@ -405,88 +399,12 @@ def read_speed_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
         Naming the line (or row) of a non-numeric, short, negative-speed or
         non-increasing entry, or an unknown header unit.
     """
-    if isinstance(path_or_rows, (str, os.PathLike)):
-        source = os.fspath(path_or_rows)
-        try:
-            with open(source, newline="", encoding="utf-8") as handle:
-                return _parse_lines(handle.read().splitlines(), source)
-        except OSError as exc:
-            raise InputError(f"speed trace {source}: cannot read the file ({exc.strerror})") from None
-    if isinstance(path_or_rows, io.TextIOBase):
-        return _parse_lines(path_or_rows.read().splitlines(), "stream")
-    rows = [(str(a), str(b)) for a, b in _pairs(path_or_rows)]
-    return _parse_rows(list(enumerate(rows, start=1)), "rows", "row", ("s", "m/s"))
-
-
-def _pairs(rows: Iterable[Any]) -> Iterable[tuple[Any, Any]]:
-    for number, row in enumerate(rows, start=1):
-        if len(row) != 2:
-            raise InputError(f"speed trace rows, row {number}: expected (time, ground speed)")
-        yield row[0], row[1]
-
-
-_HEADER = re.compile(r"^\s*(time|ground_speed)(?:_(.+?))?\s*$", re.IGNORECASE)
-
-
-def _parse_lines(lines: list[str], source: str) -> tuple[np.ndarray, np.ndarray]:
-    numbered = [
-        (number, row)
-        for number, row in enumerate(csv.reader(lines), start=1)
-        if row and "".join(row).strip() and not row[0].lstrip().startswith("#")
-    ]
-    if not numbered:
-        raise InputError(f"speed trace {source}: no data rows")
-    units: tuple[str | None, str | None] = (None, None)
-    first_line, first = numbered[0]
-    if not _is_number(first[0]):
-        units = _header_units(first, source, first_line)
-        numbered = numbered[1:]
-    return _parse_rows(numbered, source, "line", units)
-
-
-def _is_number(text: str) -> bool:
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
-
-
-def _header_units(row: list[str], source: str, line: int) -> tuple[str | None, str | None]:
-    where = f"speed trace {source}, line {line}"
-    matches = [_HEADER.match(cell) for cell in row]
-    if len(row) != 2 or not all(matches) or [m.group(1).lower() for m in matches] != ["time", "ground_speed"]:
-        raise InputError(f"{where}: header must be time_<unit>,ground_speed_<unit>, got {','.join(row)!r}")
-    units = tuple(m.group(2) for m in matches)
-    for unit, dimension, column in zip(units, ("time", "speed"), ("time", "ground_speed"), strict=True):
-        if unit is not None:
-            to_si(1.0, unit, dimension, f"{where}, column {column}")
-    return units  # type: ignore[return-value]
-
-
-def _parse_rows(
-    numbered: list[tuple[int, Sequence[str]]], source: str, kind: str, units: tuple[str | None, str | None]
-) -> tuple[np.ndarray, np.ndarray]:
-    values = np.empty((len(numbered), 2))
-    for index, (number, row) in enumerate(numbered):
-        where = f"speed trace {source}, {kind} {number}"
-        if len(row) != 2:
-            raise InputError(f"{where}: expected 2 values (time, ground speed), got {len(row)}")
-        try:
-            values[index] = [float(cell) for cell in row]
-        except ValueError:
-            raise InputError(f"{where}: cannot read {','.join(row)!r} as numbers") from None
-        if not np.all(np.isfinite(values[index])):
-            raise InputError(f"{where}: non-finite value")
-        if values[index, 1] < 0:
-            raise InputError(f"{where}: negative ground speed {values[index, 1]}")
-        if index and values[index, 0] <= values[index - 1, 0]:
-            raise ScheduleError(f"{where}: time {values[index, 0]} does not increase from the previous row")
-    if len(numbered) < 2:
-        raise InputError(f"speed trace {source}: needs at least two data rows")
-    times = to_si_array(values[:, 0], units[0], "time", f"speed trace {source}, time")
-    speeds = to_si_array(values[:, 1], units[1], "speed", f"speed trace {source}, ground speed")
-    return np.asarray(times, dtype=float), np.asarray(speeds, dtype=float)
+    times, speeds, lines = read_trace(path_or_rows, "speed trace", "ground_speed", "speed")
+    negative = np.flatnonzero(speeds < 0)
+    if negative.size:
+        k = int(negative[0])
+        raise InputError(f"{lines[k]}: negative ground speed {speeds[k]:g} m/s")
+    return times, speeds
 
 
 def stop_from_speed_trace(
