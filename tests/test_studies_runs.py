@@ -28,7 +28,7 @@ import h5py
 import numpy as np
 import pytest
 
-from heatstack.case import _parse, run_case
+from heatstack.case import case_from_mapping, run_case
 from heatstack.errors import InputError
 from heatstack.studies import (
     LocalExecutor,
@@ -225,7 +225,7 @@ def test_local_pool_study_collects_peaks_margins_and_plug_release(folder, tmp_pa
     # the summary is that of the very case the row describes: rerun row 4 directly
     plan = plan_study(study)
     data = plan.case_mapping(4)
-    case = _parse(data, plan.base_text, "direct", folder)
+    case = case_from_mapping(data, plan.base_text, "direct", folder)
     result = run_case(case)
     assert table["peak:sensor"][4] == result.peak("sensor")[0]
     assert table["plug_peak:fuse plug 2"][4] == result.peak("fuse plug 2")[0]
@@ -440,5 +440,5 @@ def test_plots_are_written_whole_with_the_caption(folder, tmp_path):
 def test_lumped_study_file_round_trip_through_toml(folder):
     # the lumped case is also a valid stand-alone case (guards the fixture itself)
     data = tomllib.loads(LUMPED)
-    case = _parse(data, LUMPED, "lumped", folder)
+    case = case_from_mapping(data, LUMPED, "lumped", folder)
     assert case.assembly.parts[0].material == "conductor"
