@@ -15,7 +15,7 @@ from typing import Any
 
 import numpy as np
 
-from .answers.analysis import cooling_time, margins, peak, sensor_lag
+from .answers.analysis import cooling_time, margins, peak, sensor_lag, threshold_crossings
 from .answers.fuse_plugs import assess_fuse_plugs
 from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_margin
 from .builders import FusePlugSpec
@@ -101,13 +101,9 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         "caution": CAUTION,
         "temperature_unit": unit,
         "end_of_braking_min": _minutes(result.end_of_heating),
-        "phases": [
-            {"name": n, "start_min": _minutes(a), "end_min": _minutes(b)} for n, a, b in result.phases
-        ],
+        "phases": [{"name": n, "start_min": _minutes(a), "end_min": _minutes(b)} for n, a, b in result.phases],
     }
-    names = list(result.readings) + [
-        s for s in ("heat_sink_mean", "heat_sink_max", "wheel_max") if s in result.series
-    ]
+    names = list(result.readings) + [s for s in ("heat_sink_mean", "heat_sink_max", "wheel_max") if s in result.series]
     report["peaks"] = [
         {
             "name": p.name,
@@ -155,6 +151,9 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
             "margin": _difference(m.margin, unit),
             "time_of_peak_min": _minutes(m.time_of_peak),
             "exceeded": m.exceeded,
+            "crossings": [
+                {"time_min": _minutes(t), "direction": d} for t, d in threshold_crossings(result, m.name, m.limit)
+            ],
         }
         for m in (margins(result, settings.limits) if settings.limits else [])
     ]
@@ -240,6 +239,11 @@ def _table(rows: list[dict], columns: list[tuple[str, str]], markdown: bool) -> 
     return lines + ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)) for r in body]
 
 
+def _crossed(crossings: list[dict]) -> str:
+    marks = {"up": "above", "down": "below"}
+    return ", ".join(f"{marks[c['direction']]} {c['time_min']}" for c in crossings) or "never"
+
+
 def _or_never(minutes: float | None) -> str:
     return "no time in the record" if minutes is None else f"{minutes} min"
 
@@ -304,13 +308,14 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
     if report["limits"]:
         lines += heading("Limits")
         lines += _table(
-            report["limits"],
+            [{**row, "crossed": _crossed(row["crossings"])} for row in report["limits"]],
             [
                 ("name", "probe / series"),
                 ("limit", f"limit {u}"),
                 ("peak", f"peak {u}"),
                 ("margin", f"margin {du}"),
                 ("exceeded", "exceeded"),
+                ("crossed", "crossed [min]"),
             ],
             md,
         )
