@@ -13,6 +13,7 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+import warnings
 from collections.abc import Callable, Sequence
 from importlib import resources
 from pathlib import Path
@@ -329,9 +330,15 @@ def _parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """Soft problems as one line each, without source lines."""
+    print(f"heatstack: warning: {message}", file=sys.stderr)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit code."""
     args = _parser().parse_args(argv)
+    warnings.showwarning = _show_warning
     try:
         return int(args.func(args))
     except (InputError, ResultFileError) as exc:
