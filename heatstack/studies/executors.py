@@ -21,6 +21,8 @@ import concurrent.futures as cf
 import logging
 import multiprocessing
 import os
+import threading
+import time
 from collections.abc import Callable, Iterable, Iterator
 from typing import Any
 
@@ -131,6 +133,26 @@ def _default_context() -> multiprocessing.context.BaseContext:
     return multiprocessing.get_context("spawn")
 
 
+def _watch_study_process(study_pid: int, interval: float = 2.0) -> None:
+    """Worker initializer: end this worker when the study process is gone.
+
+    A study killed outright (SIGKILL) cannot shut its pool down; its workers would
+    otherwise live on. A daemon thread polls the study's pid and exits the worker.
+    """
+
+    def watch() -> None:
+        while True:
+            time.sleep(interval)
+            try:
+                os.kill(study_pid, 0)
+            except ProcessLookupError:
+                os._exit(1)
+            except PermissionError:  # the pid now belongs to another user's process
+                os._exit(1)
+
+    threading.Thread(target=watch, name="heatstack-study-watch", daemon=True).start()
+
+
 class LocalExecutor(StudyExecutor):
     """A pool of worker processes on this machine.
 
@@ -165,7 +187,12 @@ class LocalExecutor(StudyExecutor):
             context = (
                 _default_context() if self.start_method is None else multiprocessing.get_context(self.start_method)
             )
-            self._pool = cf.ProcessPoolExecutor(max_workers=self.workers, mp_context=context)
+            self._pool = cf.ProcessPoolExecutor(
+                max_workers=self.workers,
+                mp_context=context,
+                initializer=_watch_study_process,
+                initargs=(os.getpid(),),
+            )
             log.debug("started a pool of %d worker processes (%s)", self.workers, context.get_start_method())
         return self
 
