@@ -53,6 +53,9 @@ class FusePlugSpec:
         Melt (release) temperature of the plug's fusible alloy [K].
     tolerance : float
         Half-width of the release temperature band [K].
+    time_constant : float
+        First-order lag of the plug behind the rim around it [s]: its own small thermal
+        mass over its contact conductance, ``m c / G`` (0: the plug follows the rim).
     """
 
     name: str
@@ -60,6 +63,7 @@ class FusePlugSpec:
     depth_fraction: float = 0.5
     release_temperature: float = 450.15
     tolerance: float = 3.0
+    time_constant: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -226,9 +230,7 @@ def _wheel(d: WheelBrakeDesign, z_in: float, z_web: float) -> list[Part]:
     return [
         Part("rim", m, r_bore, r_seat, z_in, z_out, "wheel"),
         Part("inboard flange", m, r_seat, r_seat + d.flange_height, z_in, z_in + d.flange_thickness, "wheel"),
-        Part(
-            "outboard flange", m, r_seat, r_seat + d.flange_height, z_out - d.flange_thickness, z_out, "wheel"
-        ),
+        Part("outboard flange", m, r_seat, r_seat + d.flange_height, z_out - d.flange_thickness, z_out, "wheel"),
         Part("web", m, d.hub_inner_radius + d.hub_thickness, r_bore, z_web, z_web + d.web_thickness, "wheel"),
         Part(
             "hub",
@@ -294,9 +296,7 @@ def _contacts(d: WheelBrakeDesign) -> list[Contact]:
             clamped=d.rotor_stator_clamped,
             released=d.rotor_stator_released,
         ),
-        Contact(
-            roles=("rotor", "end_plate"), clamped=d.rotor_stator_clamped, released=d.rotor_stator_released
-        ),
+        Contact(roles=("rotor", "end_plate"), clamped=d.rotor_stator_clamped, released=d.rotor_stator_released),
         Contact(roles=("stator", "torque_tube"), clamped=d.stator_torque_tube),
         Contact(roles=("pressure_plate", "torque_tube"), clamped=d.stator_torque_tube),
         Contact(roles=("end_plate", "torque_tube"), clamped=d.end_plate_flange),
@@ -393,9 +393,7 @@ def build_wheel_brake(
             part=middle_rotor.name,
         ),
         Probe("inboard bead seat", rim.r_outer, z_in + d.flange_thickness + 0.5 * d.bead_width, part="rim"),
-        Probe(
-            "outboard bead seat", rim.r_outer, rim.z_max - d.flange_thickness - 0.5 * d.bead_width, part="rim"
-        ),
+        Probe("outboard bead seat", rim.r_outer, rim.z_max - d.flange_thickness - 0.5 * d.bead_width, part="rim"),
         *(
             Probe(
                 plug.name,
@@ -409,8 +407,7 @@ def build_wheel_brake(
     ]
     rotors = [p.name for p in parts if p.role == "rotor"]
     links = [
-        ThermalLink(name, "outer", "rim", "inner", d.drive_key_conductance, f"drive keys {name}")
-        for name in rotors
+        ThermalLink(name, "outer", "rim", "inner", d.drive_key_conductance, f"drive keys {name}") for name in rotors
     ]
     assembly = Assembly(
         parts,

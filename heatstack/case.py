@@ -101,9 +101,7 @@ class _Table:
         if value is default:
             return value
         if isinstance(value, bool) or not isinstance(value, int | float | str):
-            raise InputError(
-                f"{self.where(key)}: expected a number or a quantity such as '20 mm', got {value!r}"
-            )
+            raise InputError(f"{self.where(key)}: expected a number or a quantity such as '20 mm', got {value!r}")
         return to_si(value, None, dimension, self.where(key))
 
     def table(self, key: str, default: Any = _REQUIRED) -> _Table:
@@ -284,6 +282,7 @@ def _fuse_plugs(tables: list[_Table]) -> tuple[FusePlugSpec, ...]:
                 depth_fraction=t.quantity("depth_fraction", "dimensionless", 0.5),
                 release_temperature=t.quantity("release_temperature", "temperature", 450.15),
                 tolerance=t.quantity("tolerance", "temperature_difference", 3.0),
+                time_constant=t.quantity("time_constant", "time", 0.0),
             )
         )
         for attr in ("z_fraction", "depth_fraction"):
@@ -401,9 +400,7 @@ def _event(t: _Table, base: Path) -> BrakingEvent:
     if kind not in EVENT_KINDS:
         close = difflib.get_close_matches(kind, EVENT_KINDS, n=1)
         hint = f"; did you mean {close[0]!r}?" if close else ""
-        raise InputError(
-            f"{t.where('kind')}: unknown event kind {kind!r}{hint} (kinds: {', '.join(EVENT_KINDS)})"
-        )
+        raise InputError(f"{t.where('kind')}: unknown event kind {kind!r}{hint} (kinds: {', '.join(EVENT_KINDS)})")
     function = EVENT_KINDS[kind]
     allowed = tuple(inspect.signature(function).parameters)
     t.finish(("kind", *allowed))
@@ -448,9 +445,7 @@ def _solver(t: _Table) -> SolverOptions:
     snapshots = t.raw("snapshot_times", [])
     if not isinstance(snapshots, list):
         raise InputError(f'{t.where("snapshot_times")}: expected a list such as ["10 min", "1 h"]')
-    times = tuple(
-        to_si(v, None, "time", f"{t.where('snapshot_times')}[{k}]") for k, v in enumerate(snapshots)
-    )
+    times = tuple(to_si(v, None, "time", f"{t.where('snapshot_times')}[{k}]") for k, v in enumerate(snapshots))
     options = SolverOptions(
         target_change=t.quantity("target_change", "temperature_difference", defaults.target_change),
         initial_step=t.quantity("initial_step", "time", defaults.initial_step),
@@ -545,9 +540,7 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     head.finish()
     materials_table = root.table("materials", {})
     materials = {
-        name: material_from_mapping(
-            {"name": name, **dict(_Table(body, f"materials.{name}").data)}, f"materials.{name}"
-        )
+        name: material_from_mapping({"name": name, **dict(_Table(body, f"materials.{name}").data)}, f"materials.{name}")
         for name, body in materials_table.data.items()
     }
     assembly_table = root.table("assembly", {})
@@ -600,9 +593,7 @@ def load_case(path: str | Path) -> Case:
     return parse_case(text, path.name, path.parent)
 
 
-def run_case(
-    case: Case, model: Model | None = None, progress: Callable[[float], None] | None = None
-) -> Result:
+def run_case(case: Case, model: Model | None = None, progress: Callable[[float], None] | None = None) -> Result:
     """Mesh (unless ``model`` is given) and run a case.
 
     ``progress`` is called with the simulated time [s] after every step.

@@ -182,9 +182,7 @@ class Probe:
         if not (np.isfinite(self.r) and np.isfinite(self.z)) or self.r < 0:
             raise GeometryError(f"probe {self.name!r}: position ({self.r}, {self.z}) is not valid")
         if not np.isfinite(self.time_constant) or self.time_constant < 0:
-            raise GeometryError(
-                f"probe {self.name!r}: time_constant must be >= 0 s, got {self.time_constant}"
-            )
+            raise GeometryError(f"probe {self.name!r}: time_constant must be >= 0 s, got {self.time_constant}")
 
 
 @dataclass(frozen=True)
@@ -212,8 +210,7 @@ class FrictionSettings:
     def __post_init__(self) -> None:
         if self.distribution not in ("uniform_pressure", "uniform_wear"):
             raise GeometryError(
-                f"friction distribution must be 'uniform_pressure' or 'uniform_wear', "
-                f"got {self.distribution!r}"
+                f"friction distribution must be 'uniform_pressure' or 'uniform_wear', got {self.distribution!r}"
             )
         if self.shares is not None:
             for label, share in self.shares.items():
@@ -383,15 +380,12 @@ class Assembly:
             part = self.part(probe.part)
             if not part.contains(probe.r, probe.z):
                 raise GeometryError(
-                    f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m is not inside "
-                    f"its part {probe.part!r}"
+                    f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m is not inside its part {probe.part!r}"
                 )
             return part
         owners = [p for p in self.parts if p.contains(probe.r, probe.z)]
         if not owners:
-            raise GeometryError(
-                f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m lies outside every part"
-            )
+            raise GeometryError(f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m lies outside every part")
         return owners[0]
 
     def surface_group(self, part: Part, side: str) -> str:

@@ -102,9 +102,7 @@ def _target(path: str | os.PathLike) -> tuple[Path, str]:
     target = Path(path)
     fmt = _FORMATS.get(target.suffix.lower())
     if fmt is None:
-        raise InputError(
-            f"figure file {str(target)!r}: the suffix must be .png or .svg, got {target.suffix!r}"
-        )
+        raise InputError(f"figure file {str(target)!r}: the suffix must be .png or .svg, got {target.suffix!r}")
     folder = target.parent
     if not folder.is_dir():
         raise ResultFileError(f"figure file {str(target)!r}: folder {str(folder)!r} does not exist")
@@ -514,9 +512,7 @@ def plot_histories(
 
 
 # --------------------------------------------------------------------------- 2. field
-def _cell_edges(
-    part_map: np.ndarray, r_edges: np.ndarray, z_edges: np.ndarray, every: bool = False
-) -> np.ndarray:
+def _cell_edges(part_map: np.ndarray, r_edges: np.ndarray, z_edges: np.ndarray, every: bool = False) -> np.ndarray:
     """Cell edges as segments [m] in (z, r) order, shape (n, 2, 2).
 
     With ``every=False`` only the edges between cells of different part index (part
@@ -534,9 +530,7 @@ def _cell_edges(
         across_z = below != above
         across_r = left != right
     j, i = np.nonzero(across_z)
-    flat = np.stack(
-        [np.column_stack((z_edges[j], r_edges[i])), np.column_stack((z_edges[j], r_edges[i + 1]))], axis=1
-    )
+    flat = np.stack([np.column_stack((z_edges[j], r_edges[i])), np.column_stack((z_edges[j], r_edges[i + 1]))], axis=1)
     j, i = np.nonzero(across_r)
     upright = np.stack(
         [np.column_stack((z_edges[j], r_edges[i])), np.column_stack((z_edges[j + 1], r_edges[i]))], axis=1
@@ -627,9 +621,7 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
 
 
 # --------------------------------------------------------------------------- 3. sensor offset
-def plot_sensor_offset(
-    result: Result, path: str | os.PathLike, sensor: str = "sensor", unit: str = "degC"
-) -> Path:
+def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "sensor", unit: str = "degC") -> Path:
     """Plot a sensor's reading against the heat-sink temperature, with the offset on a second axis.
 
     Drawn: the sensor reading, the local temperature at the sensor, the heat-sink
@@ -788,12 +780,8 @@ def plot_layout(assembly: Assembly, path: str | os.PathLike, grid: Grid | None =
         title += f"; grid {nz} × {nr} cells, {grid.n_cells} active"
     ax.set_title(title, fontsize=11)
     roles = [role for role in ROLES if any(p.role == role for p in parts)]
-    handles = [
-        Patch(facecolor=_ROLE_COLOURS[role], edgecolor="0.15", label=role.replace("_", " ")) for role in roles
-    ]
-    handles.append(
-        Line2D([], [], ls="none", marker="o", ms=5, mfc="white", mec="black", mew=1.0, label="probe")
-    )
+    handles = [Patch(facecolor=_ROLE_COLOURS[role], edgecolor="0.15", label=role.replace("_", " ")) for role in roles]
+    handles.append(Line2D([], [], ls="none", marker="o", ms=5, mfc="white", mec="black", mew=1.0, label="probe"))
     fig.legend(handles=handles, loc="outside right upper", fontsize=8, frameon=False, title="Role")
     probes = [(p.name, p.z * 1e3, p.r * 1e3) for p in assembly.probes]
     for _, z, r in probes:

@@ -161,13 +161,9 @@ def check_writable(path: str | Path) -> Path:
         raise ResultFileError(f"results file {str(given)!r} cannot be written: it is a folder")
     folder = target.parent
     if not folder.exists():
-        raise ResultFileError(
-            f"results file {str(given)!r} cannot be written: folder {str(folder)!r} does not exist"
-        )
+        raise ResultFileError(f"results file {str(given)!r} cannot be written: folder {str(folder)!r} does not exist")
     if not folder.is_dir():
-        raise ResultFileError(
-            f"results file {str(given)!r} cannot be written: {str(folder)!r} is not a folder"
-        )
+        raise ResultFileError(f"results file {str(given)!r} cannot be written: {str(folder)!r} is not a folder")
     try:
         probe, fd = _new_temp(folder, target.name or "result")
     except OSError as exc:
@@ -179,8 +175,7 @@ def check_writable(path: str | Path) -> Path:
         os.write(fd, b"0")
     except OSError as exc:
         raise ResultFileError(
-            f"results file {str(given)!r} cannot be written: writing in folder {str(folder)!r} "
-            f"failed ({_reason(exc)})"
+            f"results file {str(given)!r} cannot be written: writing in folder {str(folder)!r} failed ({_reason(exc)})"
         ) from None
     finally:
         os.close(fd)
@@ -216,9 +211,7 @@ def _plain(value: Any, where: str) -> Any:
         return [_plain(item, f"{where}[{k}]") for k, item in enumerate(value.tolist())]
     if isinstance(value, list | tuple):
         return [_plain(item, f"{where}[{k}]") for k, item in enumerate(value)]
-    raise ResultFileError(
-        f"{where}: a {type(value).__name__} cannot be stored; use numbers, strings, lists and dicts"
-    )
+    raise ResultFileError(f"{where}: a {type(value).__name__} cannot be stored; use numbers, strings, lists and dicts")
 
 
 def _to_json(value: Mapping | None, what: str) -> str:
@@ -263,9 +256,7 @@ def _put_text(group: h5py.Group, name: str, data: str | list[str]) -> h5py.Datas
     if isinstance(data, str):
         dataset = group.create_dataset(name, data=data, dtype=_TEXT)
     else:
-        dataset = group.create_dataset(
-            name, data=np.array(data, dtype=object), shape=(len(data),), dtype=_TEXT
-        )
+        dataset = group.create_dataset(name, data=np.array(data, dtype=object), shape=(len(data),), dtype=_TEXT)
     dataset.attrs["unit"] = ""
     return dataset
 
@@ -313,9 +304,7 @@ def _write_content(
     probes.attrs["position_unit"] = "m"
     probes.attrs["time_constant_unit"] = "s"
     names = list(
-        dict.fromkeys(
-            [*result.probes, *result.readings, *result.probe_positions, *result.probe_time_constants]
-        )
+        dict.fromkeys([*result.probes, *result.readings, *result.probe_positions, *result.probe_time_constants])
     )
     for index, name in enumerate(_texts(names, "probe names")):
         probe = probes.create_group(f"{index:04d}")
@@ -458,8 +447,7 @@ def write_result(
         if isinstance(exc, OSError | ValueError | TypeError):
             detail = _reason(exc) if isinstance(exc, OSError) else str(exc)
             raise ResultFileError(
-                f"results file {str(path)!r} could not be written ({detail}); "
-                "any file already there is unchanged"
+                f"results file {str(path)!r} could not be written ({detail}); any file already there is unchanged"
             ) from exc
         raise
     _fsync_folder(target.parent)
@@ -700,9 +688,7 @@ def read_result(path: str | Path) -> Result:
             raise rd.fail(f"snapshots/temperature holds fields of shape {snapshots.shape[1:]}, not {cells}")
 
         final = rd.group("final_state")
-        final_state = State(
-            time=rd.scalar("time", "s", final), temperature=rd.array("temperature", "K", 1, final)
-        )
+        final_state = State(time=rd.scalar("time", "s", final), temperature=rd.array("temperature", "K", 1, final))
 
         ph = rd.group("phases")
         phase_names = rd.texts("names", ph)
@@ -711,8 +697,7 @@ def read_result(path: str | Path) -> Result:
         if not len(phase_names) == starts.size == ends.size:
             raise rd.fail("phases/names, phases/start and phases/end differ in length")
         phases = tuple(
-            (name, float(start), float(end))
-            for name, start, end in zip(phase_names, starts, ends, strict=True)
+            (name, float(start), float(end)) for name, start, end in zip(phase_names, starts, ends, strict=True)
         )
 
     return Result(

@@ -113,8 +113,7 @@ def to_si_array(value: Any, unit: str | None, dimension: str, field: str) -> np.
         converted = quantity.to(target) if target else quantity.to("dimensionless")
     except pint.DimensionalityError as exc:
         raise UnitError(
-            f"{field}: expected {dimension.replace('_', ' ')} (e.g. in {target or 'no unit'}), "
-            f"got {quantity.units:~}"
+            f"{field}: expected {dimension.replace('_', ' ')} (e.g. in {target or 'no unit'}), got {quantity.units:~}"
         ) from exc
     return np.asarray(converted.magnitude, dtype=float)
 

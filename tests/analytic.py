@@ -34,9 +34,7 @@ def semi_infinite_constant_flux(x, t, q, k, alpha):
     """
     x = np.asarray(x, dtype=float)
     s = np.sqrt(alpha * t)
-    return 2.0 * q / k * s / np.sqrt(np.pi) * np.exp(-(x**2) / (4.0 * s * s)) - q * x / k * erfc(
-        x / (2.0 * s)
-    )
+    return 2.0 * q / k * s / np.sqrt(np.pi) * np.exp(-(x**2) / (4.0 * s * s)) - q * x / k * erfc(x / (2.0 * s))
 
 
 # --------------------------------------------------------------------------- plane wall

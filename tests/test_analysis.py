@@ -93,9 +93,7 @@ def test_peak_time_and_delay_after_braking():
     t = np.linspace(0.0, 1200.0, 1201)
     result = make_result(t, probes={"rim": triangle(t, 600.0)}, end_of_heating=100.0)
     answer = peak(result, "rim")
-    assert (answer.temperature, answer.time, answer.delay_after_braking) == pytest.approx(
-        (900.0, 600.0, 500.0)
-    )
+    assert (answer.temperature, answer.time, answer.delay_after_braking) == pytest.approx((900.0, 600.0, 500.0))
 
 
 def test_sensor_lag_splits_delay_into_conduction_and_instrument():

@@ -93,9 +93,7 @@ def test_explicit_case_runs_and_delivers_its_energy():
 
 
 def test_unknown_key_suggests_the_closest():
-    with pytest.raises(
-        InputError, match=r"case.initial_temprature: unknown key; did you mean 'initial_temperature'"
-    ):
+    with pytest.raises(InputError, match=r"case.initial_temprature: unknown key; did you mean 'initial_temperature'"):
         parse_case(SMALL.replace("initial_temperature =", "initial_temprature ="))
 
 
@@ -106,9 +104,7 @@ def test_wrong_dimension_names_the_key_path():
 
 
 def test_unknown_event_kind_is_named_with_its_path():
-    with pytest.raises(
-        InputError, match=r"duty.phases\[0\].events\[0\].kind: unknown event kind 'stop_by_energy'"
-    ):
+    with pytest.raises(InputError, match=r"duty.phases\[0\].events\[0\].kind: unknown event kind 'stop_by_energy'"):
         parse_case(SMALL.replace('kind = "stop_from_energy"', 'kind = "stop_by_energy"'))
 
 
@@ -118,9 +114,7 @@ def test_event_error_is_prefixed_with_its_path():
 
 
 def test_limit_for_an_unknown_probe_is_rejected():
-    with pytest.raises(
-        InputError, match="output.limits.sensr: no probe or series of that name; did you mean 'sensor'"
-    ):
+    with pytest.raises(InputError, match="output.limits.sensr: no probe or series of that name; did you mean 'sensor'"):
         parse_case(SMALL.replace('sensor = "300 degC"', 'sensr = "300 degC"'))
 
 
@@ -152,9 +146,7 @@ def _mutations():
         st.lists(st.integers(), max_size=2),
         st.dictionaries(st.text(max_size=3), st.integers(), max_size=2),
     )
-    return st.tuples(
-        st.integers(0, 10_000), st.sampled_from(["drop", "set", "rename"]), values, st.text(max_size=6)
-    )
+    return st.tuples(st.integers(0, 10_000), st.sampled_from(["drop", "set", "rename"]), values, st.text(max_size=6))
 
 
 def _apply(data, choice: int, action: str, value, new_name: str):

@@ -25,9 +25,7 @@ PR_VALUES = (0.69, 0.72, 1.0, 7.0)
 @pytest.mark.parametrize(("ra", "pr"), list(itertools.product(RA_VALUES, PR_VALUES)))
 def test_vertical_plate_matches_ht(ra: float, pr: float) -> None:
     # Source: ht.conv_free_immersed.Nu_vertical_plate_Churchill(Pr, Gr), Gr = Ra/Pr.
-    assert float(cv.nu_vertical_plate(ra, pr)) == pytest.approx(
-        Nu_vertical_plate_Churchill(pr, ra / pr), rel=1e-6
-    )
+    assert float(cv.nu_vertical_plate(ra, pr)) == pytest.approx(Nu_vertical_plate_Churchill(pr, ra / pr), rel=1e-6)
 
 
 @pytest.mark.parametrize(("ra", "pr"), list(itertools.product(RA_VALUES, PR_VALUES)))
@@ -43,9 +41,7 @@ def test_horizontal_cylinder_matches_ht(ra: float, pr: float) -> None:
 )
 def test_cylinder_crossflow_matches_ht(re: float, pr: float) -> None:
     # Source: ht.conv_external.Nu_cylinder_Churchill_Bernstein(Re, Pr).
-    assert float(cv.nu_cylinder_crossflow(re, pr)) == pytest.approx(
-        Nu_cylinder_Churchill_Bernstein(re, pr), rel=1e-6
-    )
+    assert float(cv.nu_cylinder_crossflow(re, pr)) == pytest.approx(Nu_cylinder_Churchill_Bernstein(re, pr), rel=1e-6)
 
 
 def test_cylinder_crossflow_printed_value() -> None:
@@ -68,9 +64,7 @@ def test_horizontal_plate_matches_ht_mcadams(ra: float, hot_up: bool) -> None:
 @pytest.mark.parametrize(("re", "pr"), list(itertools.product((1e2, 1e4, 1e5, 4.9e5), (0.7, 2.0))))
 def test_flat_plate_laminar_matches_ht(re: float, pr: float) -> None:
     # Source: ht.conv_external.Nu_horizontal_plate_laminar_Baehr (0.664 Re^0.5 Pr^(1/3)).
-    assert float(cv.nu_flat_plate_forced(re, pr)) == pytest.approx(
-        Nu_horizontal_plate_laminar_Baehr(re, pr), rel=1e-6
-    )
+    assert float(cv.nu_flat_plate_forced(re, pr)) == pytest.approx(Nu_horizontal_plate_laminar_Baehr(re, pr), rel=1e-6)
 
 
 def test_flat_plate_mixed_constant_and_continuity() -> None:

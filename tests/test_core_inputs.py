@@ -97,9 +97,7 @@ def test_temperature_outside_table_stops_with_time_and_part():
     )
     model = Model.build(asm, 0.005, materials={"plain": STEEL})
     adiabatic = FixedConvection(0.0, 300.0, radiation=False)
-    sched = Schedule(
-        PowerHistory([0.0, 100.0], [5e6, 5e6]), [Phase("stop", 0, 100, {"*": adiabatic}, clamped=True)]
-    )
+    sched = Schedule(PowerHistory([0.0, 100.0], [5e6, 5e6]), [Phase("stop", 0, 100, {"*": adiabatic}, clamped=True)])
     with pytest.raises(SolverError, match=r"at t = .* s .*part 'rotor|stator'.*1500"):
         model.run(sched, 300.0, SolverOptions(max_step_cuts=3))
 

@@ -65,9 +65,7 @@ CARBON_LINEAR = simple_material(
     conductivity_axial=(15.0, 10.0),
     emissivity=0.8,
 )
-STEEL = simple_material(
-    "shield-steel", density=7900.0, specific_heat=500.0, conductivity=16.0, emissivity=0.3
-)
+STEEL = simple_material("shield-steel", density=7900.0, specific_heat=500.0, conductivity=16.0, emissivity=0.3)
 
 
 def _stack(material: str, heat_shield: bool) -> Assembly:
@@ -76,9 +74,7 @@ def _stack(material: str, heat_shield: bool) -> Assembly:
         for k, (name, role) in enumerate(DISCS)
     ]
     if heat_shield:  # a 5 mm void between the stack and the shield: gap radiation
-        parts.append(
-            Part("shield", "shield-steel", R_OUT + 0.005, R_OUT + 0.007, 0.0, 5 * THICKNESS, "heat_shield")
-        )
+        parts.append(Part("shield", "shield-steel", R_OUT + 0.005, R_OUT + 0.007, 0.0, 5 * THICKNESS, "heat_shield"))
     return Assembly(parts=parts, contacts=CONTACTS)
 
 
@@ -98,9 +94,9 @@ def shipped_run():
     """The shipped carbon-carbon (cp rises ~2.5x from 300 K to 1000 K), adaptive steps."""
     materials = {"shield-steel": STEEL}
     model = Model.build(_stack("carbon-carbon", heat_shield=True), cell_size=0.005, materials=materials)
-    assert load_material("carbon-carbon").specific_heat(1000.0) > 2.0 * load_material(
-        "carbon-carbon"
-    ).specific_heat(300.0)
+    assert load_material("carbon-carbon").specific_heat(1000.0) > 2.0 * load_material("carbon-carbon").specific_heat(
+        300.0
+    )
     assert model.network.gap_a.size > 0  # the shield does exchange radiation across the void
     return model, model.run(_schedule(), initial_temperature=300.0)
 

@@ -94,13 +94,9 @@ def _run_pair(dr: float) -> dict:
         name: (float(rc[np.argmin(np.abs(rc - r))]), float(zc[np.argmin(np.abs(zc - z))]))
         for name, (r, z) in PROBE_TARGETS.items()
     }
-    assembly = Assembly(
-        parts=PARTS, probes=[Probe(n, r, z) for n, (r, z) in probes.items()], gap_radiation=False
-    )
+    assembly = Assembly(parts=PARTS, probes=[Probe(n, r, z) for n, (r, z) in probes.items()], gap_radiation=False)
     model = Model.build(assembly, cell_size, materials=MATERIALS)
-    result = model.run(
-        _schedule(), 300.0, SolverOptions(fixed_step=0.5, tolerance=1e-6, snapshot_times=SNAPSHOTS)
-    )
+    result = model.run(_schedule(), 300.0, SolverOptions(fixed_step=0.5, tolerance=1e-6, snapshot_times=SNAPSHOTS))
     twin = FipyTwin(model.grid.r_edges, model.grid.z_edges, PARTS, MATERIALS, POWER_TIMES, POWER, COOLED)
     reference = twin.run(result.times, 300.0, probes=probes, snapshot_times=tuple(result.snapshot_times))
     field = max(
@@ -126,9 +122,7 @@ def pair() -> dict:
 def test_same_grid_and_steps(pair):
     model, twin, result = pair["model"], pair["twin"], pair["result"]
     assert model.n_cells == twin.n == 20 * 26  # fully active: one FiPy cell per unknown
-    assert np.allclose(
-        np.asarray(twin.mesh.cellVolumes) * 2 * np.pi, model.grid.to_field(model.network.volume).ravel()
-    )
+    assert np.allclose(np.asarray(twin.mesh.cellVolumes) * 2 * np.pi, model.grid.to_field(model.network.volume).ravel())
     assert set(pair["reference"].snapshots) == {float(t) for t in result.snapshot_times}
     assert result.snapshot_times.size == len(SNAPSHOTS) + 2  # start and end too
     assert result.metadata["solver"]["steps"] == pair["reference"].steps
@@ -167,6 +161,4 @@ def test_remaining_difference_is_the_radial_metric(pair):
         fine["model"].grid.r_edges
     ) == pytest.approx(4.0, rel=0.05)
     ratio = pair["field"] / fine["field"]
-    assert 3.5 < ratio < 4.5, (
-        f"field difference {pair['field']:.3g} K -> {fine['field']:.3g} K (ratio {ratio:.2f})"
-    )
+    assert 3.5 < ratio < 4.5, f"field difference {pair['field']:.3g} K -> {fine['field']:.3g} K (ratio {ratio:.2f})"

@@ -121,9 +121,7 @@ def test_agrees_with_scipy_least_squares_on_full_runs(truth_model, built):
     ours = estimate_energy(model, stop_and_park(15e6), built.length_scales, TRACE_T, y, T_AMBIENT)
 
     def residual(x):
-        run = model.run(
-            stop_and_park(x[0] * 1e6).schedule(built.length_scales, extra_breakpoints=TRACE_T), T_AMBIENT
-        )
+        run = model.run(stop_and_park(x[0] * 1e6).schedule(built.length_scales, extra_breakpoints=TRACE_T), T_AMBIENT)
         return np.interp(TRACE_T, run.times, run.readings["sensor"]) - y
 
     reference = least_squares(residual, [15.0], diff_step=1e-3, xtol=1e-8)
@@ -200,9 +198,7 @@ def test_a_fit_that_runs_out_of_runs_says_so_with_its_best_estimate(fit_model, b
 
 def test_too_few_points_is_an_input_error(fit_model, built):
     with pytest.raises(InputError, match="too few"):
-        estimate_energy(
-            fit_model, stop_and_park(15e6), built.length_scales, [0.0, 30.0], [300.0, 310.0], T_AMBIENT
-        )
+        estimate_energy(fit_model, stop_and_park(15e6), built.length_scales, [0.0, 30.0], [300.0, 310.0], T_AMBIENT)
 
 
 def test_non_increasing_time_names_the_row(fit_model, built):

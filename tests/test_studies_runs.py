@@ -28,6 +28,7 @@ import h5py
 import numpy as np
 import pytest
 
+from heatstack.answers.fuse_plugs import assess_fuse_plugs
 from heatstack.case import case_from_mapping, run_case
 from heatstack.errors import InputError
 from heatstack.studies import (
@@ -228,7 +229,9 @@ def test_local_pool_study_collects_peaks_margins_and_plug_release(folder, tmp_pa
     case = case_from_mapping(data, plan.base_text, "direct", folder)
     result = run_case(case)
     assert table["peak:sensor"][4] == result.peak("sensor")[0]
-    assert table["plug_peak:fuse plug 2"][4] == result.peak("fuse plug 2")[0]
+    # the plug temperature is the rim's at the plug, lagged by the plug's own time constant
+    plug_2 = next(a for a in assess_fuse_plugs(result, case.fuse_plugs) if a.name == "fuse plug 2")
+    assert table["plug_peak:fuse plug 2"][4] == plug_2.peak
     # two worker processes, one shared mesh: at most one build per worker
     assert np.count_nonzero(~table["model_reused"]) <= 2
     assert len(set(table["worker"])) <= 2

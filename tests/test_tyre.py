@@ -59,9 +59,7 @@ def hot_rim_gas(**kw):
 
 
 def plug(release_time):
-    return PlugAnswer(
-        "fuse plug 1", 460.0, 900.0, release_time, -9.85, -12.85, True, release_time, 450.15, 3.0, 0.0
-    )
+    return PlugAnswer("fuse plug 1", 460.0, 900.0, release_time, -9.85, -12.85, True, release_time, 450.15, 3.0, 0.0)
 
 
 def test_constant_volume_pressure_rise_hand_value():

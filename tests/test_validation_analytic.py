@@ -115,9 +115,7 @@ def semi_infinite_run():
         ],
         friction=FrictionSettings(distribution="uniform_wear"),
     )
-    model = Model.build(
-        assembly, cell_size=(p["r2"] - p["r1"], p["dz"]), min_cells=1, materials={"steel": STEEL}
-    )
+    model = Model.build(assembly, cell_size=(p["r2"] - p["r1"], p["dz"]), min_cells=1, materials={"steel": STEEL})
     end = p["times"][-1]
     schedule = Schedule(
         power=PowerHistory(np.array([0.0, end]), np.array([power, power])),
@@ -275,9 +273,7 @@ def plane_wall_run():
     p = WALL
     material = simple_material("wall", density=p["rho"], specific_heat=p["cp"], conductivity=p["k"])
     assembly = Assembly(parts=[Part("slab", "wall", 0.50, 0.51, 0.0, p["L"])])
-    model = Model.build(
-        assembly, cell_size=(0.01, p["L"] / p["cells"]), min_cells=1, materials={"wall": material}
-    )
+    model = Model.build(assembly, cell_size=(0.01, p["L"] / p["cells"]), min_cells=1, materials={"wall": material})
     laws = {"*": ADIABATIC, "slab:top": FixedConvection(p["h"], p["T_inf"], radiation=False)}
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, p["times"][-1], laws)])
     options = SolverOptions(fixed_step=p["dt"], snapshot_times=p["times"])
@@ -346,9 +342,7 @@ def cylinder_run():
     p = ROD
     material = simple_material("rod", density=p["rho"], specific_heat=p["cp"], conductivity=p["k"])
     assembly = Assembly(parts=[Part("rod", "rod", 0.0, p["ro"], 0.0, 0.01)])
-    model = Model.build(
-        assembly, cell_size=(p["ro"] / p["cells"], 0.01), min_cells=1, materials={"rod": material}
-    )
+    model = Model.build(assembly, cell_size=(p["ro"] / p["cells"], 0.01), min_cells=1, materials={"rod": material})
     laws = {"*": ADIABATIC, "rod:outer": FixedConvection(p["h"], p["T_inf"], radiation=False)}
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, p["times"][-1], laws)])
     options = SolverOptions(fixed_step=p["dt"], snapshot_times=p["times"])
@@ -507,9 +501,7 @@ def test_lumped_cooling_by_radiation_to_surroundings():
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, times[-1], {"*": law})])
     result = model.run(schedule, t_i, SolverOptions(fixed_step=0.5, snapshot_times=times))
     for t in times:
-        exact = invert_time(
-            lambda x: lumped_radiation_time(x, t_i, t_sur, eps, area, capacity), t, t_sur + 1e-6, t_i
-        )
+        exact = invert_time(lambda x: lumped_radiation_time(x, t_i, t_sur, eps, area, capacity), t, t_sur + 1e-6, t_i)
         numeric = _mean_temperature(result, result.snapshot(t))
         assert abs(numeric - exact) <= 0.005 * (exact - t_sur), t
 
@@ -525,9 +517,7 @@ def test_lumped_cooling_by_radiation_to_cold_space():
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, times[-1], {"*": law})])
     result = model.run(schedule, t_i, SolverOptions(fixed_step=0.5, snapshot_times=times))
     for t in times:
-        exact = invert_time(
-            lambda x: lumped_radiation_time_to_zero_kelvin(x, t_i, eps, area, capacity), t, 1.0, t_i
-        )
+        exact = invert_time(lambda x: lumped_radiation_time_to_zero_kelvin(x, t_i, eps, area, capacity), t, 1.0, t_i)
         numeric = _mean_temperature(result, result.snapshot(t))
         assert abs(numeric - exact) <= 0.005 * exact, t
     # the body must have cooled substantially for the check to mean something

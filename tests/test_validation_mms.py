@@ -50,9 +50,7 @@ RHO = 1000.0
 K_RADIAL = (10.0, 100.0)  # W/(m K) at 50 K and 3000 K
 K_AXIAL = (40.0, 5.0)
 CP = (300.0, 2500.0)  # J/(kg K)
-MATERIAL = simple_material(
-    "mms", density=RHO, specific_heat=CP, conductivity=K_RADIAL, conductivity_axial=K_AXIAL
-)
+MATERIAL = simple_material("mms", density=RHO, specific_heat=CP, conductivity=K_RADIAL, conductivity_axial=K_AXIAL)
 HOLD = 1e9  # W/(m^2 K) on the T = T0 faces
 GRIDS = (8, 16, 32)
 

@@ -55,9 +55,7 @@ def test_cooling_time_of_a_lumped_body_matches_the_exponential(lumped):
     assert state.time == pytest.approx(300.0)
     mass = model.network.mass()
     start = float(np.dot(mass, state.temperature) / mass.sum())
-    answer = cooling_time(
-        model, state, environment, scales, "centre", below=350.0, horizon="40 min", options=TIGHT
-    )
+    answer = cooling_time(model, state, environment, scales, "centre", below=350.0, horizon="40 min", options=TIGHT)
     assert isinstance(answer, CoolingAnswer) and answer.reached
     assert answer.time_needed == pytest.approx(closed_form_time(start, 350.0), rel=0.01)
     assert answer.result.times[0] == pytest.approx(state.time)  # the run keeps the model's clock
@@ -104,9 +102,7 @@ def wheel():
     model = Model.build(built.assembly, cell_size=0.012)
     landing = DutyCycle(
         [
-            DutyPhase(
-                "landing", "30 s", Environment(ground_speed="50 kt"), [stop_from_energy("15 MJ", "30 s")]
-            ),
+            DutyPhase("landing", "30 s", Environment(ground_speed="50 kt"), [stop_from_energy("15 MJ", "30 s")]),
             DutyPhase("turnaround", "20 min", Environment()),
         ]
     )
@@ -156,13 +152,9 @@ def test_what_if_with_no_added_energy_is_the_continued_cooling(wheel):
 
 def test_heat_soak_cooling_time_counts_the_fall_after_the_rise(wheel):
     built, model, hot = wheel
-    start = cooling_time(
-        model, hot, Environment(), built.length_scales, "fuse plug 1", below=600.0, horizon="10 min"
-    )
+    start = cooling_time(model, hot, Environment(), built.length_scales, "fuse plug 1", below=600.0, horizon="10 min")
     threshold = 0.5 * (start.start_value + start.peak_value)  # crossed going up, then going down
-    answer = cooling_time(
-        model, hot, Environment(), built.length_scales, "fuse plug 1", below=threshold, horizon="4 h"
-    )
+    answer = cooling_time(model, hot, Environment(), built.length_scales, "fuse plug 1", below=threshold, horizon="4 h")
     assert answer.peak_value > threshold > answer.start_value
     _, peak_time = answer.result.peak("fuse plug 1")
     assert answer.reached and answer.time_needed > peak_time - hot.time

@@ -121,9 +121,11 @@ class FusePlug:
         return cls(name, release_temperature, tolerance, m * c / g)
 
     @classmethod
-    def from_spec(cls, spec: FusePlugSpec, time_constant: Any = 0.0) -> FusePlug:
-        """The plug of a built wheel (:class:`~heatstack.builders.FusePlugSpec`)."""
-        return cls(spec.name, spec.release_temperature, spec.tolerance, time_constant)
+    def from_spec(cls, spec: FusePlugSpec, time_constant: Any = None) -> FusePlug:
+        """The plug of a built wheel (:class:`~heatstack.builders.FusePlugSpec`); its own
+        time constant [s] unless ``time_constant`` is given."""
+        tau = spec.time_constant if time_constant is None else time_constant
+        return cls(spec.name, spec.release_temperature, spec.tolerance, tau)
 
 
 @dataclass(frozen=True)

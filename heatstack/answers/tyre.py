@@ -269,9 +269,7 @@ def tyre_gas(
     g_out = _positive(_to_si_unit(outer_conductance, "W/K", "outer_conductance"), "outer_conductance", True)
     t_cold = _temperature(cold_temperature, "cold_temperature")
     t_amb = t_cold if ambient is None else _temperature(ambient, "ambient")
-    t_init = (
-        t_cold if initial_temperature is None else _temperature(initial_temperature, "initial_temperature")
-    )
+    t_init = t_cold if initial_temperature is None else _temperature(initial_temperature, "initial_temperature")
     _positive(gas_constant, "gas_constant")
     _positive(cv, "cv")
 

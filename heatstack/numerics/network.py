@@ -127,9 +127,7 @@ def _resolve_materials(assembly: Assembly, materials: Mapping[str, Material] | N
     return known
 
 
-def _radial_factors(
-    r_a: np.ndarray, r_f: np.ndarray, dz: np.ndarray, on_axis: np.ndarray | bool = False
-) -> np.ndarray:
+def _radial_factors(r_a: np.ndarray, r_f: np.ndarray, dz: np.ndarray, on_axis: np.ndarray | bool = False) -> np.ndarray:
     """Radial half-cell resistance times k [1/m].
 
     ``|ln(r_f / r_a)| / (2 pi dz)`` from the cell centre ``r_a`` to the face ``r_f``: exact
@@ -188,9 +186,7 @@ class _Builder:
             "_link_area": area,
         }
 
-    def _contact_resistances(
-        self, pa: np.ndarray, pb: np.ndarray, area: np.ndarray
-    ) -> tuple[np.ndarray, np.ndarray]:
+    def _contact_resistances(self, pa: np.ndarray, pb: np.ndarray, area: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         clamped = np.zeros(area.size)
         released = np.zeros(area.size)
         differ = np.flatnonzero(pa != pb)
@@ -266,13 +262,9 @@ class _Builder:
         pm = self.pm
         pairs = []
         for j in range(pm.shape[0]):
-            pairs += self._runs(
-                pm[j, :], lambda i0, i1, j=j: (("outer", j, i0), ("inner", j, i1)), by_position
-            )
+            pairs += self._runs(pm[j, :], lambda i0, i1, j=j: (("outer", j, i0), ("inner", j, i1)), by_position)
         for i in range(pm.shape[1]):
-            pairs += self._runs(
-                pm[:, i], lambda j0, j1, i=i: (("top", j0, i), ("bottom", j1, i)), by_position
-            )
+            pairs += self._runs(pm[:, i], lambda j0, j1, i=i: (("top", j0, i), ("bottom", j1, i)), by_position)
         return pairs
 
     @staticmethod
@@ -291,9 +283,7 @@ class _Builder:
     def _declared_gaps(self, faces: list[dict]) -> list[tuple[dict, dict]]:
         pairs = []
         for gap in self.assembly.gap_pairs:
-            pairs += self._facing(
-                faces, gap, f"gap pair {gap.part_a}:{gap.side_a} / {gap.part_b}:{gap.side_b}"
-            )
+            pairs += self._facing(faces, gap, f"gap pair {gap.part_a}:{gap.side_a} / {gap.part_b}:{gap.side_b}")
         return pairs
 
     def _facing(self, faces: list[dict], pair, label: str) -> list[tuple[dict, dict]]:
@@ -361,9 +351,7 @@ class _Builder:
         return {
             "friction_a": links["link_a"][idx][keep],
             "friction_b": links["link_b"][idx][keep],
-            "friction_weight": (share[interface] * weight / np.where(totals > 0, totals, 1.0)[interface])[
-                keep
-            ],
+            "friction_weight": (share[interface] * weight / np.where(totals > 0, totals, 1.0)[interface])[keep],
             "friction_interface": interface[keep],
             "friction_labels": unique,
         }
@@ -374,9 +362,7 @@ class _Builder:
             return np.full(len(labels), 1.0 / len(labels))
         unknown = sorted(set(given) - set(labels))
         if unknown:
-            raise GeometryError(
-                f"friction share for unknown interface {unknown[0]!r}; interfaces are {list(labels)}"
-            )
+            raise GeometryError(f"friction share for unknown interface {unknown[0]!r}; interfaces are {list(labels)}")
         share = np.array([float(given.get(label, 0.0)) for label in labels])
         if share.sum() <= 0:
             raise GeometryError("friction shares sum to zero")
@@ -459,9 +445,7 @@ def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Materi
     in_gap = {id(f) for pair in pairs for f in pair}
     open_faces = faces
 
-    groups = tuple(
-        dict.fromkeys(assembly.surface_group(assembly.parts[f["part"]], f["side"]) for f in open_faces)
-    )
+    groups = tuple(dict.fromkeys(assembly.surface_group(assembly.parts[f["part"]], f["side"]) for f in open_faces))
     face_group = np.array(
         [groups.index(assembly.surface_group(assembly.parts[f["part"]], f["side"])) for f in open_faces],
         dtype=int,
@@ -514,9 +498,7 @@ def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Materi
     )
 
 
-def _material_blocks(
-    assembly: Assembly, grid: Grid, known: dict[str, Material]
-) -> tuple[tuple[Material, slice], ...]:
+def _material_blocks(assembly: Assembly, grid: Grid, known: dict[str, Material]) -> tuple[tuple[Material, slice], ...]:
     spans: dict[str, list[int]] = {}
     for part, block in zip(assembly.parts, grid.part_slices, strict=True):
         if block.stop > block.start:

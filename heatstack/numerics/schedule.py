@@ -75,9 +75,7 @@ class FixedConvection:
         if self.surroundings_temperature is None:
             object.__setattr__(self, "surroundings_temperature", self.ambient_temperature)
         elif not self.surroundings_temperature > 0:
-            raise ScheduleError(
-                f"surroundings_temperature must be > 0 K, got {self.surroundings_temperature}"
-            )
+            raise ScheduleError(f"surroundings_temperature must be > 0 K, got {self.surroundings_temperature}")
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
         """Return ``h`` for every surface [W/(m^2 K)]."""
@@ -112,9 +110,7 @@ class PowerHistory:
         steps = np.diff(t)
         if np.any(steps <= 0):
             bad = int(np.flatnonzero(steps <= 0)[0]) + 1
-            raise ScheduleError(
-                f"power history row {bad}: time {t[bad]} s is not after the previous {t[bad - 1]} s"
-            )
+            raise ScheduleError(f"power history row {bad}: time {t[bad]} s is not after the previous {t[bad - 1]} s")
         if np.any(p < 0):
             bad = int(np.flatnonzero(p < 0)[0])
             raise ScheduleError(f"power history row {bad}: negative power {p[bad]} W")
@@ -149,11 +145,7 @@ class PowerHistory:
     def end_of_heating(self) -> float:
         """Last time with non-zero power [s] (start of the table if all zero)."""
         nonzero = np.flatnonzero(self.powers > 0)
-        return (
-            float(self.times[min(nonzero[-1] + 1, self.times.size - 1)])
-            if nonzero.size
-            else float(self.times[0])
-        )
+        return float(self.times[min(nonzero[-1] + 1, self.times.size - 1)]) if nonzero.size else float(self.times[0])
 
 
 @dataclass(frozen=True)
@@ -229,8 +221,7 @@ class Schedule:
             if not np.isclose(before.end, after.start, rtol=0.0, atol=1e-9):
                 kind = "overlap" if after.start < before.end else "leave a gap"
                 raise ScheduleError(
-                    f"phases {before.name!r} (ends {before.end} s) and {after.name!r} "
-                    f"(starts {after.start} s) {kind}"
+                    f"phases {before.name!r} (ends {before.end} s) and {after.name!r} (starts {after.start} s) {kind}"
                 )
         object.__setattr__(self, "phases", phases)
 

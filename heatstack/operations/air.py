@@ -62,8 +62,7 @@ _K_REF, _K_S, _K_N = 0.026362, 46.962, 1.7018  # [W/(m K)], [K], [-]
 _CP_COEFFS = (197.445, -834.859, 1190.42, -473.136, 1061.43)
 
 _CLAMP_MESSAGE = (
-    "air film temperature outside the 200-1500 K range of the property fits: "
-    "properties evaluated at the nearest limit"
+    "air film temperature outside the 200-1500 K range of the property fits: properties evaluated at the nearest limit"
 )
 
 
@@ -86,9 +85,7 @@ def check_temperature(temperature: float | np.ndarray, field: str = "air tempera
     bad = ~np.isfinite(t) | (t < T_MIN) | (t > T_MAX)
     if np.any(bad):
         value = float(t[bad][0]) if t.ndim else float(t)
-        raise InputError(
-            f"{field}: {value} K is outside the {T_MIN:.0f}-{T_MAX:.0f} K range of the air property fits"
-        )
+        raise InputError(f"{field}: {value} K is outside the {T_MIN:.0f}-{T_MAX:.0f} K range of the air property fits")
     return t
 
 
@@ -265,9 +262,7 @@ class AirProperties:
         return 1.0 / self.temperature
 
 
-def air_properties(
-    temperature: float | np.ndarray, pressure: float = 101325.0, clamp: bool = False
-) -> AirProperties:
+def air_properties(temperature: float | np.ndarray, pressure: float = 101325.0, clamp: bool = False) -> AirProperties:
     """Dry air properties at ``temperature`` [K] and ``pressure`` [Pa].
 
     Parameters

@@ -187,9 +187,7 @@ def impact_pressure(calibrated_airspeed: float | np.ndarray) -> np.ndarray:
     """
     v = np.asarray(calibrated_airspeed, dtype=float)
     if np.any(~np.isfinite(v)) or np.any(v < 0) or np.any(v >= _A0):
-        raise InputError(
-            f"calibrated_airspeed: {calibrated_airspeed} m/s must be >= 0 and subsonic (< {_A0:.1f} m/s)"
-        )
+        raise InputError(f"calibrated_airspeed: {calibrated_airspeed} m/s must be >= 0 and subsonic (< {_A0:.1f} m/s)")
     k = GAMMA / (GAMMA - 1.0)
     return P0 * ((1.0 + 0.5 * (GAMMA - 1.0) * (v / _A0) ** 2) ** k - 1.0)
 
@@ -208,9 +206,7 @@ def mach_from_calibrated(calibrated_airspeed: float | np.ndarray, pressure_altit
     p = isa_pressure(pressure_altitude)
     mach = np.sqrt(2.0 / (GAMMA - 1.0) * ((qc / p + 1.0) ** ((GAMMA - 1.0) / GAMMA) - 1.0))
     if np.any(mach >= 1.0):
-        raise InputError(
-            f"calibrated_airspeed: {calibrated_airspeed} m/s at {pressure_altitude} m is supersonic"
-        )
+        raise InputError(f"calibrated_airspeed: {calibrated_airspeed} m/s at {pressure_altitude} m is supersonic")
     return mach
 
 

@@ -239,9 +239,7 @@ def nu_flat_plate_forced(re: float | np.ndarray, pr: float | np.ndarray) -> np.n
     return np.where(re <= rec, laminar, mixed) * np.cbrt(np.asarray(pr, dtype=float))
 
 
-def nu_mixed(
-    nu_forced: float | np.ndarray, nu_natural: float | np.ndarray, exponent: float = 3.0
-) -> np.ndarray:
+def nu_mixed(nu_forced: float | np.ndarray, nu_natural: float | np.ndarray, exponent: float = 3.0) -> np.ndarray:
     """Mixed (combined) convection ``Nu^n = Nu_F^n + Nu_N^n``, assisting or transverse flow.
 
     Parameters

@@ -72,9 +72,7 @@ def _ambient(
     """Validate and convert the ambient-state fields of ``law`` in place."""
     t = _positive(law, temperature, "temperature")
     if not T_MIN <= t <= T_MAX:
-        raise InputError(
-            f"{temperature}: {t} K is outside the {T_MIN:.0f}-{T_MAX:.0f} K range of the air fits"
-        )
+        raise InputError(f"{temperature}: {t} K is outside the {T_MIN:.0f}-{T_MAX:.0f} K range of the air fits")
     _positive(law, pressure, "pressure")
     if surroundings and getattr(law, "surroundings_temperature", None) is None:
         object.__setattr__(law, "surroundings_temperature", t)
@@ -444,9 +442,7 @@ class WheelWell:
     def __post_init__(self) -> None:
         _ambient(self, "air_temperature", "pressure", surroundings=False)
         wall = _positive(self, "wall_temperature", "temperature")
-        inner = NaturalConvection(
-            self.shape, self.length, self.air_temperature, self.pressure, wall, self.radiation
-        )
+        inner = NaturalConvection(self.shape, self.length, self.air_temperature, self.pressure, wall, self.radiation)
         object.__setattr__(self, "length", inner.length)
         object.__setattr__(self, "_still_air", inner)
 

@@ -34,6 +34,7 @@ from typing import Any
 
 import numpy as np
 
+from ..answers.fuse_plugs import assess_fuse_plugs
 from ..errors import HeatstackError, InputError
 from .analysis import StudyTable
 from .description import Study, StudyPlan, plan_study
@@ -185,17 +186,15 @@ def summarise(case: Any, result: Any, outputs: Sequence[str] | None = None) -> l
     for name, limit in case.output.limits.items():
         out.append((f"limit_margin:{name}", float(limit) - result.peak(name)[0]))
     margins, released = [], []
-    for plug in case.fuse_plugs:
-        peak = result.peak(plug.name)[0]
-        margin = float(plug.release_temperature) - peak
-        hit = peak >= float(plug.release_temperature)
+    for plug in assess_fuse_plugs(result, case.fuse_plugs) if case.fuse_plugs else []:
+        # the plug's own lag behind the rim is applied (its time constant from the case)
         out += [
-            (f"plug_peak:{plug.name}", peak),
-            (f"plug_released:{plug.name}", 1.0 if hit else 0.0),
-            (f"plug_margin:{plug.name}", margin),
+            (f"plug_peak:{plug.name}", plug.peak),
+            (f"plug_released:{plug.name}", 1.0 if plug.releases else 0.0),
+            (f"plug_margin:{plug.name}", plug.margin),
         ]
-        margins.append(margin)
-        released.append(hit)
+        margins.append(plug.margin)
+        released.append(plug.releases)
     if case.fuse_plugs:
         out += [("any_plug_released", 1.0 if any(released) else 0.0), ("plug_margin_min", min(margins))]
     out.append(("energy_in", float(result.ledger.heat_in[-1])))
