@@ -49,7 +49,7 @@ from pathlib import Path
 
 import numpy as np
 
-from heatstack.case import _parse, load_case, run_case
+from heatstack.case import case_from_mapping, load_case, run_case
 from heatstack.studies import (
     DaskExecutor,
     LocalExecutor,
@@ -82,7 +82,7 @@ def settings_sweep() -> list[dict]:
             data = tomllib.loads(text)
             data["assembly"]["cell_size"] = cell
             data.setdefault("solver", {})["target_change"] = change
-            case = _parse(data, text, DEMO.name, DEMO.parent)
+            case = case_from_mapping(data, text, DEMO.name, DEMO.parent)
             started = time.perf_counter()
             model = case.build_model()
             result = run_case(case, model)
