@@ -333,11 +333,7 @@ class _Integrator:
             else:
                 T_star = self._accelerate(history, T, correction)
             T = T_star
-            q_face = bnd["U"] * (T[net.face_cell] - bnd["t_eq"])
-            face_ts = T[net.face_cell] - q_face * bnd["r_half"]
-            q_gap = gap["G"] * (T[net.gap_a] - T[net.gap_b])
-            gap_ta = T[net.gap_a] - q_gap * gap["r_a"]
-            gap_tb = T[net.gap_b] + q_gap * gap["r_b"]
+            face_ts, gap_ta, gap_tb = self._surface_temperatures(T, bnd, gap)
             if iteration >= 2 and previous_change is not None and largest > 0.3 * previous_change and not fresh:
                 refactor = True  # slow contraction with old factors: refactorise once this step
             previous_change = largest
@@ -385,17 +381,23 @@ class _Integrator:
             return T + correction
         return T + correction - (d_T + d_f) @ gamma
 
+    def _surface_temperatures(self, T: np.ndarray, bnd: dict, gap: dict) -> tuple[np.ndarray, ...]:
+        """Surface temperatures [K] of exposed faces and of both sides of each gap pair, from
+        the cell temperatures ``T`` and the fluxes through their half-cell resistances."""
+        net = self.net
+        q_face = bnd["U"] * (T[net.face_cell] - bnd["t_eq"])
+        q_gap = gap["G"] * (T[net.gap_a] - T[net.gap_b])
+        return (
+            T[net.face_cell] - q_face * bnd["r_half"],
+            T[net.gap_a] - q_gap * gap["r_a"],
+            T[net.gap_b] + q_gap * gap["r_b"],
+        )
+
     def _finish(self, T_star, T_new, H_new, H_n, dt, heat_in, bnd, gap, face_a, face_b, surf, iteration) -> dict:
         """Accounts of an accepted step and the surface temperatures for the next one."""
         net = self.net
-        q_face = bnd["U"] * (T_star[net.face_cell] - bnd["t_eq"])
-        face_ts = T_star[net.face_cell] - q_face * bnd["r_half"]
-        q_gap = gap["G"] * (T_star[net.gap_a] - T_star[net.gap_b])
-        surf.update(
-            face=face_ts,
-            gap_a=T_star[net.gap_a] - q_gap * gap["r_a"],
-            gap_b=T_star[net.gap_b] + q_gap * gap["r_b"],
-        )
+        face_ts, gap_ta, gap_tb = self._surface_temperatures(T_star, bnd, gap)
+        surf.update(face=face_ts, gap_a=gap_ta, gap_b=gap_tb)
         area = net.face_area
         return {
             "T": T_new,
