@@ -73,8 +73,7 @@ MATERIAL = simple_material(
 MATERIALS = {MATERIAL.name: MATERIAL}
 ROLES = ("pressure_plate", "rotor", "stator", "rotor", "end_plate")
 PARTS = tuple(
-    Part(f"{role} {k}", MATERIAL.name, 0.12, 0.22, 0.03 * k, 0.03 * (k + 1), role)
-    for k, role in enumerate(ROLES)
+    Part(f"{role} {k}", MATERIAL.name, 0.12, 0.22, 0.03 * k, 0.03 * (k + 1), role) for k, role in enumerate(ROLES)
 )
 POWER_TIMES, POWER = (0.0, 0.5, 20.0), (0.0, 1.0e6, 0.0)
 H_CONV, T_AIR, T0 = 30.0, 300.0, 300.0
@@ -99,9 +98,7 @@ def build(size: str) -> tuple[Model, dict[str, tuple[float, float]]]:
         name: (float(rc[np.argmin(np.abs(rc - r))]), float(zc[np.argmin(np.abs(zc - z))]))
         for name, (r, z) in PROBE_TARGETS.items()
     }
-    assembly = Assembly(
-        parts=PARTS, probes=[Probe(n, r, z) for n, (r, z) in probes.items()], gap_radiation=False
-    )
+    assembly = Assembly(parts=PARTS, probes=[Probe(n, r, z) for n, (r, z) in probes.items()], gap_radiation=False)
     return Model.build(assembly, cell_size, materials=MATERIALS), probes
 
 
@@ -194,9 +191,7 @@ def header() -> None:
 
 def compare() -> tuple[float, float, float]:
     model, probes = build("12k")
-    print(
-        f"[12k case] {model.n_cells} active cells, grid {model.grid.shape[1]} (r) x {model.grid.shape[0]} (z)"
-    )
+    print(f"[12k case] {model.n_cells} active cells, grid {model.grid.shape[1]} (r) x {model.grid.shape[0]} (z)")
     snaps = (5.0, 10.0, 20.0, 30.0)
     hs_step, result = time_heatstack(model, options(snapshot_times=snaps))
     fp_step, run = time_fipy(model, result.times, probes, tuple(result.snapshot_times))
@@ -338,9 +333,7 @@ def profile() -> None:
         "conservative update (mat-vec + exact T(H))": cumulative("_conservative_update"),
         "accounts of the accepted step (_finish)": cumulative("_finish"),
     }
-    parts["step's own lines: G, bincount assembly, matrix scatter, residual, checks"] = step - sum(
-        parts.values()
-    )
+    parts["step's own lines: G, bincount assembly, matrix scatter, residual, checks"] = step - sum(parts.values())
     print(
         f"\n[profile] heatstack, 12k case, {info['steps']} steps, {iterations} Newton iterations, "
         f"{info['factorisations']} factorisations (cProfile)"
@@ -367,9 +360,7 @@ def profile() -> None:
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument(
-        "--no-memory", action="store_true", help="skip the peak memory of a 50k-cell, 3 h run"
-    )
+    parser.add_argument("--no-memory", action="store_true", help="skip the peak memory of a 50k-cell, 3 h run")
     parser.add_argument("--profile", action="store_true", help="also profile heatstack's step (12k case)")
     parser.add_argument("--memory-child", action="store_true", help=argparse.SUPPRESS)
     args = parser.parse_args()

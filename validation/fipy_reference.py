@@ -241,11 +241,7 @@ class FipyTwin:
         below, above, weight = [], [], []
         for z, low, high in interfaces:
             sel = np.flatnonzero(
-                self.axial_face
-                & self.interior
-                & (np.abs(fz - z) <= 1e-9 * max(1.0, abs(z)))
-                & (fr > low)
-                & (fr < high)
+                self.axial_face & self.interior & (np.abs(fz - z) <= 1e-9 * max(1.0, abs(z))) & (fr > low) & (fr < high)
             )
             w = r_hi[sel] ** 3 - r_lo[sel] ** 3
             w = w / w.sum() / len(interfaces)
@@ -299,15 +295,11 @@ class FipyTwin:
         kr, kz, c = self._cell("kr", T), self._cell("kz", T), self._cell("c", T)
         self.kr.setValue(kr)
         self.kz.setValue(kz)
-        k_face = np.where(
-            self.axial_face, np.asarray(self.kz.harmonicFaceValue), np.asarray(self.kr.harmonicFaceValue)
-        )
+        k_face = np.where(self.axial_face, np.asarray(self.kz.harmonicFaceValue), np.asarray(self.kr.harmonicFaceValue))
         # film in series with the half cell: 1 / (1/h + d / k_normal), k of the face's cell
         k_n = np.where(self.axial_face, kz[self.id1], kr[self.id1])
         h_eff = np.zeros_like(self.h)
-        h_eff[self.cooled] = 1.0 / (
-            1.0 / self.h[self.cooled] + self.face_distance[self.cooled] / k_n[self.cooled]
-        )
+        h_eff[self.cooled] = 1.0 / (1.0 / self.h[self.cooled] + self.face_distance[self.cooled] / k_n[self.cooled])
         self.h_eff.setValue(h_eff)
         self.h_eff_tinf.setValue(h_eff * self.t_inf)
         robin, robin_t = np.asarray(self.robin), np.asarray(self.robin_t)
@@ -316,9 +308,7 @@ class FipyTwin:
         e_lo = np.sqrt(kz[self.fric_below] * c[self.fric_below])
         e_hi = np.sqrt(kz[self.fric_above] * c[self.fric_above])
         share = e_lo / (e_lo + e_hi)
-        heat = np.bincount(self.fric_below, q * share, self.n) + np.bincount(
-            self.fric_above, q * (1.0 - share), self.n
-        )
+        heat = np.bincount(self.fric_below, q * share, self.n) + np.bincount(self.fric_above, q * (1.0 - share), self.n)
         friction = heat / self.volume
         if self.form == "temperature":
             self.capacity.setValue(c)

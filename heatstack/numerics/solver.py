@@ -5,7 +5,8 @@ Per cell ``i`` of volume ``V_i`` the scheme is backward Euler on enthalpy::
     V_i [H_i(T^{n+1}) - H_i(T^n)] / dt = sum_links G (T_j - T_i) - U_i (T_i - T_eq,i) + S_i
 
 with every conductance, boundary coefficient and source partition evaluated at the
-current iterate (so the system stays symmetric positive definite). Each Newton
+current iterate (so the system stays symmetric positive definite). A step starts from
+the extrapolation of the last accepted states (``predictor.py``). Each Newton
 iteration solves ``J d = -F`` with the factors of a recent ``J`` (one triangular
 solve); the iterates are Anderson-accelerated. When the correction is below the
 tolerance, the new enthalpy is set *from the fluxes at* ``T + d`` and the temperature by
@@ -33,6 +34,7 @@ from ..errors import HeatstackError, InputError, PropertyRangeError, SolverError
 from ..result import EnergyLedger, Result, State
 from .instrument import first_order_lag
 from .network import Network
+from .predictor import Extrapolator
 from .schedule import Phase, Schedule
 from .tabulated import evaluator
 
@@ -91,9 +93,9 @@ class SolverOptions:
 
 
 class _StepFailed(Exception):
-    def __init__(self, reason: str, cell: int | None = None):
+    def __init__(self, reason: str, cell: int | None = None, at_guess: bool = False):
         super().__init__(reason)
-        self.reason, self.cell = reason, cell
+        self.reason, self.cell, self.at_guess = reason, cell, at_guess
 
 
 def _csc_pattern(n: int, rows: np.ndarray, cols: np.ndarray) -> tuple[sp.csc_matrix, np.ndarray]:
@@ -126,14 +128,20 @@ class _Integrator:
         self.k_gap_a = net.gap_a + n * net.gap_dir_a
         self.k_gap_b = net.gap_b + n * net.gap_dir_b
         diag = np.arange(n)
+        m, q = net.link_a.size, net.gap_a.size
         rows = np.concatenate((diag, net.link_a, net.link_b, net.gap_a, net.gap_b))
         cols = np.concatenate((diag, net.link_b, net.link_a, net.gap_b, net.gap_a))
         self.matrix, self.position = _csc_pattern(n, rows, cols)
         self.unique_positions = np.unique(self.position).size == self.position.size
-        m, q = net.link_a.size, net.gap_a.size
         cuts = np.cumsum([n, m, m, q])
         self.pos_diag, self.pos_ab, self.pos_ba, self.pos_gap_ab, self.pos_gap_ba = np.split(self.position, cuts)
-        self.link_ends = np.concatenate((net.link_a, net.link_b, net.gap_a, net.gap_b))
+        link_ends = np.concatenate((net.link_a, net.link_b, net.gap_a, net.gap_b))
+        # each cell's sum of the conductances of its links and gap pairs, as one mat-vec
+        ends = np.arange(m + q)
+        self.incidence = sp.csr_matrix(
+            (np.ones(2 * (m + q)), (link_ends, np.concatenate((ends[:m], ends[:m], ends[m:], ends[m:])))),
+            shape=(n, m + q),
+        )
         self.face_blocks = [
             np.flatnonzero(net.cell_material[net.face_cell] == k) for k in range(len(net.material_blocks))
         ]
@@ -205,14 +213,16 @@ class _Integrator:
 
     def assemble(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
         """Write the step matrix in place: ``diagonal`` plus the conductances of every link."""
-        n, data = self.n, self.matrix.data
-        diagonal = diagonal + np.bincount(self.link_ends, weights=np.concatenate((G, G, G_gap, G_gap)), minlength=n)
+        data = self.matrix.data
+        diagonal = diagonal + self.incidence @ (np.concatenate((G, G_gap)) if G_gap.size else G)
         if self.unique_positions:
             data[self.pos_diag] = diagonal
-            data[self.pos_ab] = -G
-            data[self.pos_ba] = -G
-            data[self.pos_gap_ab] = -G_gap
-            data[self.pos_gap_ba] = -G_gap
+            negative = -G
+            data[self.pos_ab] = negative
+            data[self.pos_ba] = negative
+            if G_gap.size:
+                data[self.pos_gap_ab] = -G_gap
+                data[self.pos_gap_ba] = -G_gap
         else:  # a link and a gap pair share cells: sum the duplicates
             values = np.concatenate((diagonal, -G, -G, -G_gap, -G_gap))
             data[:] = np.bincount(self.position, weights=values, minlength=data.size)
@@ -289,7 +299,7 @@ class _Integrator:
                 bnd = self.boundary(phase, t1, face_ts)
                 gap = self.gaps(gap_ta, gap_tb)
             except PropertyRangeError as exc:
-                raise _StepFailed(str(exc), self._out_of_range_cell(T)) from None
+                raise _StepFailed(str(exc), self._out_of_range_cell(T), at_guess=iteration == 0) from None
             k = self.k_stack
             G = 1.0 / (net.link_ga / k[self.k_link_a] + net.link_gb / k[self.k_link_b] + contact)
             U_cell = np.bincount(net.face_cell, weights=bnd["U"], minlength=n)
@@ -492,15 +502,17 @@ class _Integrator:
         rec.snapshot(t_start, T)
         t = t_start
         dt = opt.fixed_step or opt.initial_step
-        T_prev, dt_prev = None, None
+        kinks = set(float(b) for b in schedule.breakpoints())
+        predictor = Extrapolator()
+        predictor.accept(t, T)
         for target in breakpoints:
             while t < target - 1e-9 * max(1.0, abs(target)):
                 step = self._land(t, dt, target)
-                guess = T if T_prev is None else T + (step / dt_prev) * (T - T_prev)
-                out, taken = self._advance(t, step, T, H, guess, surf)
-                T_prev, dt_prev = T, taken
+                out, taken = self._advance(t, step, T, H, predictor.guess(t + step), surf)
+                T_prev = T
                 T, H = out["T"], out["H"]
                 t = target if abs(t + taken - target) <= 1e-9 * max(1.0, abs(target)) else t + taken
+                predictor.accept(t, T)
                 rec.record(t, T, out, surf["face"])
                 if self.progress is not None:
                     self.progress(t)
@@ -509,8 +521,12 @@ class _Integrator:
                 dt = self._next_step(dt if taken == step and step < dt else taken, T - T_prev)
             if float(target) in snapshot_times:
                 rec.snapshot(t, T)
+            if float(target) in kinks:
+                predictor.kink()
             if self.opt.fixed_step is None and self._heating_starts(target):
-                dt, T_prev = self.opt.initial_step, None
+                dt = self.opt.initial_step
+                predictor.restart()
+                predictor.accept(t, T)
         rec.snapshot(t, T)
         return rec.result(schedule, State(time=t, temperature=T.copy()), self.stats)
 
@@ -529,18 +545,22 @@ class _Integrator:
 
     def _advance(self, t, dt, T, H, guess, surf) -> tuple[dict, float]:
         opt = self.opt
-        for cut in range(opt.max_step_cuts + 1):
+        cut = 0
+        while cut <= opt.max_step_cuts:
             try:
                 out = self.step(t, dt, T, H, guess, surf)
             except _StepFailed as failure:
+                if failure.at_guess and guess is not T:
+                    guess = T  # the extrapolated guess left a property table: start from the last state
+                    continue
                 self._fail_or_cut(failure, t, dt, cut)
-                dt, guess, self.lu = 0.5 * dt, T, None
+                dt, guess, self.lu, cut = 0.5 * dt, T, None, cut + 1
                 continue
             change = float(np.max(np.abs(out["T"] - T))) if T.size else 0.0
             if opt.fixed_step is None and change > 2.0 * opt.target_change and dt > opt.min_step:
                 self.stats["rejected_steps"] += 1
                 dt = max(opt.min_step, dt * max(0.2, 0.9 * opt.target_change / change))
-                guess = T
+                guess, cut = T, cut + 1
                 continue
             return out, dt
         raise SolverError(f"at t = {t:.6g} s the step could not be completed")
