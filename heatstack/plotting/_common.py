@@ -1,0 +1,110 @@
+"""Shared pieces of every figure: temperature units, output path and atomic save, the figure frame.
+
+Every figure is drawn on a :class:`~matplotlib.figure.Figure` with an Agg canvas and its caption
+strip (:data:`CAPTION`), then written through a temporary file beside the target.
+"""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+
+from ..errors import InputError, ResultFileError
+from ..result import Result
+from ..units import from_si
+
+#: The caption line printed at the foot of every figure.
+CAPTION = "Not certified data. Computed by heatstack; defer to the manufacturer's maintenance data."
+
+_UNIT_LABELS = {"degC": "°C", "degF": "°F", "K": "K"}
+_DELTA_UNITS = {"degC": "delta_degC", "degF": "delta_degF", "K": "K"}
+_FORMATS = {".png": "png", ".svg": "svg"}
+_PNG_DPI = 150
+
+
+# --------------------------------------------------------------------------- units, names, files
+def _check_unit(unit: str) -> str:
+    if unit not in _UNIT_LABELS:
+        raise InputError(f"temperature unit {unit!r} is not one of {sorted(_UNIT_LABELS)}")
+    return _UNIT_LABELS[unit]
+
+
+def _temperature(values: np.ndarray, unit: str) -> np.ndarray:
+    return np.asarray(from_si(values, "temperature", unit), dtype=float)
+
+
+def _difference(values: np.ndarray, unit: str) -> np.ndarray:
+    return np.asarray(from_si(values, "temperature_difference", _DELTA_UNITS[unit]), dtype=float)
+
+
+def _target(path: str | os.PathLike) -> tuple[Path, str]:
+    """Check the output path before any drawing: known suffix, existing folder."""
+    target = Path(path)
+    fmt = _FORMATS.get(target.suffix.lower())
+    if fmt is None:
+        raise InputError(f"figure file {str(target)!r}: the suffix must be .png or .svg, got {target.suffix!r}")
+    folder = target.parent
+    if not folder.is_dir():
+        raise ResultFileError(f"figure file {str(target)!r}: folder {str(folder)!r} does not exist")
+    return target, fmt
+
+
+def _save(fig: Figure, target: Path, fmt: str) -> Path:
+    """Write ``fig`` to a temporary file beside ``target``, then move it into place."""
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
+    except OSError as exc:
+        raise ResultFileError(f"figure file {str(target)!r} cannot be written: {exc}") from exc
+    try:
+        with os.fdopen(fd, "wb") as handle:
+            if fmt == "svg":
+                fig.savefig(handle, format="svg", metadata={"Date": None})
+            else:
+                fig.savefig(handle, format="png", dpi=_PNG_DPI)
+        mode = target.stat().st_mode & 0o777 if target.exists() else 0o644
+        os.chmod(tmp, mode)
+        os.replace(tmp, target)
+    except OSError as exc:
+        _remove_quietly(tmp)
+        raise ResultFileError(f"figure file {str(target)!r} cannot be written: {exc}") from exc
+    except BaseException:
+        _remove_quietly(tmp)
+        raise
+    return target
+
+
+def _remove_quietly(name: str) -> None:
+    try:
+        os.remove(name)
+    except OSError:
+        pass
+
+
+def _check_result(result: Result) -> None:
+    if not isinstance(result, Result):
+        raise InputError(f"expected a heatstack Result, got {type(result).__name__}")
+
+
+def _minutes_text(seconds: float) -> str:
+    minutes = seconds / 60.0
+    if abs(minutes) < 1.0:
+        return f"{minutes:.2f} min"
+    if abs(minutes) < 100.0:
+        return f"{minutes:.1f} min"
+    return f"{minutes:.0f} min"
+
+
+# --------------------------------------------------------------------------- figure frame
+def _figure(width: float, height: float) -> Figure:
+    """A constrained-layout figure on an Agg canvas with the caption strip at its foot."""
+    fig = Figure(figsize=(width, height), dpi=100, layout="constrained")
+    FigureCanvasAgg(fig)
+    strip = 0.24 / height  # [figure fraction] kept free for the caption
+    fig.get_layout_engine().set(rect=(0.0, strip, 1.0, 1.0 - strip))
+    fig.text(0.008, 0.3 * strip, CAPTION, fontsize=7, color="0.3", ha="left", va="bottom")
+    return fig

@@ -1,0 +1,183 @@
+"""Greedy placement of annotation labels in one axes, clear of curves, outlines and each other.
+
+Positions are worked out in display pixels of the drawn figure; offsets are given in points.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+from matplotlib.figure import Figure
+
+
+# --------------------------------------------------------------------------- label placement
+def _candidates() -> list[tuple[float, float, str, str, bool]]:
+    """Offsets [points] of a label from its anchor, nearest first; ``True`` = needs a leader."""
+    near = [
+        (5, 5, "left", "bottom"),
+        (-5, 5, "right", "bottom"),
+        (5, -5, "left", "top"),
+        (-5, -5, "right", "top"),
+        (0, 7, "center", "bottom"),
+        (0, -7, "center", "top"),
+        (7, 0, "left", "center"),
+        (-7, 0, "right", "center"),
+    ]
+    out = [(dx, dy, ha, va, False) for dx, dy, ha, va in near]
+    for radius in (22.0, 36.0, 52.0, 70.0):
+        for degrees in (45, 135, -45, -135, 90, -90, 0, 180, 20, 160, -20, -160, 65, 115, -65, -115):
+            a = np.radians(degrees)
+            dx, dy = radius * np.cos(a), radius * np.sin(a)
+            ha = "left" if dx > 1 else "right" if dx < -1 else "center"
+            va = "bottom" if dy > 1 else "top" if dy < -1 else "center"
+            out.append((dx, dy, ha, va, True))
+    return out
+
+
+_CANDIDATES = _candidates()
+
+
+def _densify(xy: np.ndarray, step: float = 3.0) -> np.ndarray:
+    """Points every ``step`` pixels along a polyline given in pixels."""
+    xy = xy[np.all(np.isfinite(xy), axis=1)]
+    if len(xy) < 2:
+        return xy
+    s = np.concatenate(([0.0], np.cumsum(np.hypot(*np.diff(xy, axis=0).T))))
+    n = int(min(max(s[-1] / step, 2), 50_000))
+    q = np.linspace(0.0, s[-1], n)
+    return np.column_stack((np.interp(q, s, xy[:, 0]), np.interp(q, s, xy[:, 1])))
+
+
+class _LabelPlacer:
+    """Greedy placement of annotation labels in one axes.
+
+    Each label takes the candidate offset that stays inside the axes, overlaps no label
+    placed before, no marked anchor, and covers the fewest points of the drawn curves.
+    The figure layout is computed once here; labels are kept out of the layout so it
+    does not change afterwards.
+    """
+
+    def __init__(self, fig: Figure, ax, obstacle_axes: Sequence = (), avoid_lines: bool = True):
+        fig.draw_without_rendering()
+        self.renderer = fig.canvas.get_renderer()
+        self.fig, self.ax = fig, ax
+        self.scale = fig.dpi / 72.0
+        frame = ax.get_window_extent(self.renderer)
+        self.frame = np.array([frame.x0, frame.y0, frame.x1, frame.y1])
+        self.boxes: list[np.ndarray] = []
+        points = []
+        if avoid_lines:
+            for axes in (ax, *obstacle_axes):
+                for line in axes.get_lines():
+                    if line.get_visible():
+                        xy = np.asarray(line.get_xydata(), dtype=float)
+                        points.append(_densify(line.get_transform().transform(xy)))
+        self.points = np.concatenate(points) if points else np.zeros((0, 2))
+        self.soft_points = np.zeros((0, 2))
+        self.anchors = np.zeros((0, 2))
+
+    def add_soft_segments(self, segments: np.ndarray) -> None:
+        """Edges [data] labels should rather not cover (weaker than curves), e.g. part outlines."""
+        pixels = [_densify(self.ax.transData.transform(seg), step=4.0) for seg in segments]
+        if pixels:
+            self.soft_points = np.concatenate([self.soft_points, *pixels])
+
+    def block_points(self, xy_data: np.ndarray, half: float = 4.0) -> None:
+        """Keep labels off these anchors [data], ``half`` pixels around each."""
+        pixels = self.ax.transData.transform(np.atleast_2d(xy_data))
+        self.anchors = np.concatenate((self.anchors, pixels))
+        for x, y in pixels:
+            self.boxes.append(np.array([x - half, y - half, x + half, y + half]))
+
+    def block_artist(self, artist) -> None:
+        """Keep labels off an artist already drawn (e.g. a label placed by hand)."""
+        bb = artist.get_window_extent(self.renderer)
+        self.boxes.append(np.array([bb.x0, bb.y0, bb.x1, bb.y1]))
+
+    def _size(self, text: str, fontsize: float, rotation: float = 0.0) -> tuple[float, float]:
+        probe = self.ax.text(0, 0, text, fontsize=fontsize, rotation=rotation)
+        bb = probe.get_window_extent(self.renderer)
+        probe.remove()
+        return bb.width, bb.height
+
+    def place(
+        self,
+        xy: tuple[float, float],
+        text: str,
+        *,
+        colour: str = "0.1",
+        fontsize: float = 7.5,
+        boxed: bool = False,
+        near_only: bool = False,
+        candidates: Sequence[tuple[float, float, str, str, bool]] | None = None,
+    ):
+        """Add the label ``text`` for the anchor ``xy`` [data] where it reads best.
+
+        ``candidates`` replaces the default offsets: (dx, dy [points], ha, va, leader).
+        """
+        anchor = self.ax.transData.transform(np.asarray(xy, dtype=float))
+        w, h = self._size(text, fontsize)
+        pad = 2.0
+        area = (w + 2 * pad) * (h + 2 * pad)
+        best, best_score = None, np.inf
+        for index, (dx, dy, ha, va, leader) in enumerate(candidates or _CANDIDATES):
+            if near_only and leader:
+                break
+            ox, oy = anchor[0] + dx * self.scale, anchor[1] + dy * self.scale
+            x0 = {"left": ox, "right": ox - w, "center": ox - 0.5 * w}[ha]
+            y0 = {"bottom": oy, "top": oy - h, "center": oy - 0.5 * h}[va]
+            box = np.array([x0 - pad, y0 - pad, x0 + w + pad, y0 + h + pad])
+            inside = _overlap(box, self.frame)
+            score = 1e5 * (1.0 - inside / area) + 0.3 * index + (4.0 if leader else 0.0)
+            score += sum(1e4 * _overlap(box, other) / area for other in self.boxes)
+            score += 15.0 * _count_inside(self.points, box) + 2.0 * _count_inside(self.soft_points, box)
+            if self.anchors.size and not leader:
+                # a label must sit nearer its own anchor than any other marked anchor
+                own = _distance_to_box(anchor[None, :], box)[0]
+                others = _distance_to_box(self.anchors, box)
+                others = others[np.hypot(*(self.anchors - anchor).T) > 0.5]
+                if others.size and others.min() < own + 10.0 * self.scale:
+                    score += 300.0
+            if score < best_score:
+                best, best_score = (dx, dy, ha, va, leader, box), score
+        dx, dy, ha, va, leader, box = best
+        kwargs = dict(
+            xy=xy,
+            xycoords="data",
+            xytext=(dx, dy),
+            textcoords="offset points",
+            ha=ha,
+            va=va,
+            fontsize=fontsize,
+            color=colour,
+            annotation_clip=False,
+            zorder=6,
+        )
+        if leader:
+            kwargs["arrowprops"] = dict(arrowstyle="-", color=colour, lw=0.6, shrinkA=0.5, shrinkB=2.5)
+        if boxed or leader:
+            kwargs["bbox"] = dict(boxstyle="square,pad=0.12", fc="white", ec="none", alpha=0.92)
+        label = self.ax.annotate(text, **kwargs)
+        label.set_in_layout(False)
+        self.boxes.append(box)
+        return label
+
+
+def _distance_to_box(points: np.ndarray, box: np.ndarray) -> np.ndarray:
+    dx = np.maximum(np.maximum(box[0] - points[:, 0], points[:, 0] - box[2]), 0.0)
+    dy = np.maximum(np.maximum(box[1] - points[:, 1], points[:, 1] - box[3]), 0.0)
+    return np.hypot(dx, dy)
+
+
+def _count_inside(points: np.ndarray, box: np.ndarray) -> int:
+    if not points.size:
+        return 0
+    x, y = points[:, 0], points[:, 1]
+    return int(np.count_nonzero((x > box[0]) & (x < box[2]) & (y > box[1]) & (y < box[3])))
+
+
+def _overlap(a: np.ndarray, b: np.ndarray) -> float:
+    dx = min(a[2], b[2]) - max(a[0], b[0])
+    dy = min(a[3], b[3]) - max(a[1], b[1])
+    return float(dx * dy) if dx > 0 and dy > 0 else 0.0
