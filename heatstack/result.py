@@ -25,10 +25,16 @@ class State:
         [s]
     temperature : ndarray
         [K], one value per active cell of the model it came from.
+    readings : dict of str to float
+        Instrument readings [K] of lagged probes at ``time``. A run started from this
+        state starts each named probe's instrument from its reading (so a sensor that
+        lagged behind the metal when the state was saved still lags); a probe not named
+        starts in equilibrium with its local temperature.
     """
 
     time: float
     temperature: np.ndarray
+    readings: dict[str, float] = field(default_factory=dict)
 
 
 @dataclass(frozen=True, eq=False)

@@ -37,6 +37,9 @@ Layout (format version 1)::
                                snapshot per chunk and compressed
     /final_state/time          scalar [s]
     /final_state/temperature   [K] per active cell, shape (n_active,)
+    /final_state/reading_names text, shape (n_lagged,): probes whose instrument lags
+    /final_state/readings      [K], shape (n_lagged,): their readings at the final time
+                               (both absent in files written before heatstack kept them)
     /phases/names              text, shape (n_phases,)
     /phases/start              [s], shape (n_phases,)
     /phases/end                [s], shape (n_phases,)
@@ -342,6 +345,10 @@ def _write_content(
     final = h5.create_group("final_state")
     _put(final, "time", np.float64(result.final_state.time), "s")
     _put(final, "temperature", _numeric(result.final_state.temperature, "final_state.temperature", 1), "K")
+    reading_names = tuple(result.final_state.readings)
+    _put_text(final, "reading_names", _texts(reading_names, "final_state.readings"))
+    readings = np.array([float(result.final_state.readings[name]) for name in reading_names], dtype=np.float64)
+    _put(final, "readings", _numeric(readings, "final_state.readings", 1), "K")
 
     phases = h5.create_group("phases")
     _put_text(phases, "names", _texts((p[0] for p in result.phases), "phase names"))
@@ -688,7 +695,18 @@ def read_result(path: str | Path) -> Result:
             raise rd.fail(f"snapshots/temperature holds fields of shape {snapshots.shape[1:]}, not {cells}")
 
         final = rd.group("final_state")
-        final_state = State(time=rd.scalar("time", "s", final), temperature=rd.array("temperature", "K", 1, final))
+        final_readings = {}
+        if "readings" in final:
+            names = rd.texts("reading_names", final)
+            values = rd.array("readings", "K", 1, final)
+            if len(names) != values.size:
+                raise rd.fail("final_state/reading_names and final_state/readings differ in length")
+            final_readings = {name: float(v) for name, v in zip(names, values, strict=True)}
+        final_state = State(
+            time=rd.scalar("time", "s", final),
+            temperature=rd.array("temperature", "K", 1, final),
+            readings=final_readings,
+        )
 
         ph = rd.group("phases")
         phase_names = rd.texts("names", ph)

@@ -12,10 +12,12 @@ Both answers run the model forward from a :class:`~heatstack.result.State` (the
 Times in the answers count from the state ("now") [s]; the :class:`~heatstack.result.Result`
 attached to each answer keeps the model's own clock.
 
-The first-order lag of an instrument (e.g. the brake-temperature sensor) is not part of a
-saved state: a chained run starts every instrument in equilibrium with its local
-temperature. For a probe whose time constant is short against the answer's time scale this
-does not matter; for the sensor right after a stop it may.
+A saved state carries the readings of the lagged instruments (``State.readings``, e.g. the
+brake-temperature sensor), so a sensor that still lagged behind the metal when the state
+was saved goes on lagging; a state made by hand without readings starts every instrument
+in equilibrium with its local temperature. The fuse plugs' own lag is applied by
+:func:`~heatstack.answers.fuse_plugs.assess_fuse_plugs` to each result and starts in
+equilibrium at the state.
 """
 
 from __future__ import annotations

@@ -7,12 +7,14 @@ import numpy as np
 __all__ = ["first_order_lag"]
 
 
-def first_order_lag(times: np.ndarray, values: np.ndarray, time_constant: float) -> np.ndarray:
+def first_order_lag(
+    times: np.ndarray, values: np.ndarray, time_constant: float, initial: float | None = None
+) -> np.ndarray:
     """Reading of a first-order instrument ``tau dy/dt = x - y`` driven by ``x(t)``.
 
     ``x`` is taken as piecewise linear between the recorded points and the ODE is
-    integrated exactly over each interval; the instrument starts in equilibrium
-    (``y(t0) = x(t0)``).
+    integrated exactly over each interval; the instrument starts from ``initial``, or in
+    equilibrium (``y(t0) = x(t0)``) when none is given.
 
     Parameters
     ----------
@@ -22,6 +24,8 @@ def first_order_lag(times: np.ndarray, values: np.ndarray, time_constant: float)
         Local temperature ``x`` at those times [K].
     time_constant : float
         Instrument time constant ``tau`` [s]; 0 returns ``values`` unchanged.
+    initial : float, optional
+        Reading at ``times[0]`` [K] (e.g. where an earlier run left the instrument).
 
     Returns
     -------
@@ -40,7 +44,7 @@ def first_order_lag(times: np.ndarray, values: np.ndarray, time_constant: float)
     slope = np.diff(values) / np.where(h > 0, h, 1.0)
     decay = np.exp(-h / time_constant)
     out = np.empty_like(values)
-    out[0] = values[0]
+    out[0] = values[0] if initial is None else float(initial)
     tau = time_constant
     for k in range(h.size):
         out[k + 1] = values[k + 1] - tau * slope[k] + (out[k] - values[k] + tau * slope[k]) * decay[k]

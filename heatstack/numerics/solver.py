@@ -31,10 +31,10 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from ..errors import HeatstackError, InputError, PropertyRangeError, SolverError
-from ..result import EnergyLedger, Result, State
-from .instrument import first_order_lag
+from ..result import Result, State
 from .network import Network
 from .predictor import Extrapolator
+from .recording import Recorder
 from .schedule import Phase, Schedule
 from .tabulated import evaluator
 
@@ -488,7 +488,7 @@ class _Integrator:
         self.stats["factorisations"] += 1
 
     # ---------------------------------------------------------------- the run
-    def run(self, T0: np.ndarray, t_start: float) -> Result:
+    def run(self, T0: np.ndarray, t_start: float, start_readings: dict[str, float] | None = None) -> Result:
         net, opt, schedule = self.net, self.opt, self.schedule
         breakpoints = np.unique(np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float))))
         breakpoints = breakpoints[(breakpoints > t_start) & (breakpoints <= schedule.end)]
@@ -497,7 +497,7 @@ class _Integrator:
         H = self.enthalpy(T)
         self.properties(T)
         surf = {"face": T[net.face_cell].copy(), "gap_a": T[net.gap_a].copy(), "gap_b": T[net.gap_b].copy()}
-        rec = _Recorder(net, self.mass)
+        rec = Recorder(net, self.mass)
         rec.record(t_start, T, None, surf["face"])
         rec.snapshot(t_start, T)
         t = t_start
@@ -528,7 +528,7 @@ class _Integrator:
                 predictor.restart()
                 predictor.accept(t, T)
         rec.snapshot(t, T)
-        return rec.result(schedule, State(time=t, temperature=T.copy()), self.stats)
+        return rec.result(schedule, State(time=t, temperature=T.copy()), self.stats, start_readings)
 
     def _heating_starts(self, time: float) -> bool:
         power = self.schedule.power
@@ -589,88 +589,6 @@ class _Integrator:
         if 0.8 <= factor <= 1.25:
             factor = 1.0  # hysteresis: keep the step, and with it the factorisation
         return float(np.clip(dt * factor, opt.min_step, opt.max_step))
-
-
-class _Recorder:
-    """Collects the histories of a run and builds the Result."""
-
-    def __init__(self, net: Network, mass: np.ndarray):
-        self.net, self.mass = net, mass
-        self.times: list[float] = []
-        self.probe_values: list[np.ndarray] = []
-        self.series: dict[str, list[float]] = {}
-        self.group_area = np.bincount(net.face_group, weights=net.face_area, minlength=len(net.groups))
-        self.sink_mass = mass[net.heat_sink].sum() if net.heat_sink.any() else 0.0
-        self.accounts = {"heat_in": [0.0], "convected": [0.0], "radiated": [0.0], "stored": [0.0]}
-        n_if = len(net.friction_labels)
-        self.friction = np.zeros((n_if, 2))
-        self.snap_times: list[float] = []
-        self.snaps: list[np.ndarray] = []
-
-    def record(self, t: float, T: np.ndarray, out: dict | None, face_ts: np.ndarray) -> None:
-        net = self.net
-        self.times.append(t)
-        self.probe_values.append(np.sum(T[net.probe_cells] * net.probe_weights, axis=1))
-        if net.heat_sink.any():
-            self.series.setdefault("heat_sink_mean", []).append(
-                float(np.dot(self.mass[net.heat_sink], T[net.heat_sink]) / self.sink_mass)
-            )
-            self.series.setdefault("heat_sink_max", []).append(float(T[net.heat_sink].max()))
-        if net.wheel.any():
-            self.series.setdefault("wheel_max", []).append(float(T[net.wheel].max()))
-        group_mean = np.bincount(net.face_group, weights=net.face_area * face_ts, minlength=len(net.groups))
-        for name, mean in zip(net.groups, group_mean / self.group_area, strict=True):
-            self.series.setdefault(f"surface:{name}", []).append(float(mean))
-        if out is not None:
-            for key in self.accounts:
-                self.accounts[key].append(self.accounts[key][-1] + out[key])
-            if self.friction.size:
-                energy_a, energy_b = out["friction"]
-                n_if = len(net.friction_labels)
-                self.friction[:, 0] += np.bincount(net.friction_interface, weights=energy_a, minlength=n_if)
-                self.friction[:, 1] += np.bincount(net.friction_interface, weights=energy_b, minlength=n_if)
-
-    def snapshot(self, t: float, T: np.ndarray) -> None:
-        if self.snap_times and abs(self.snap_times[-1] - t) < 1e-12:
-            return
-        self.snap_times.append(t)
-        self.snaps.append(self.net.grid.to_field(T))
-
-    def result(self, schedule: Schedule, final: State, stats: dict) -> Result:
-        net = self.net
-        times = np.asarray(self.times)
-        values = np.asarray(self.probe_values).reshape(times.size, len(net.probe_names))
-        probes = {name: values[:, k].copy() for k, name in enumerate(net.probe_names)}
-        readings = {
-            name: first_order_lag(times, probes[name], float(tau))
-            for name, tau in zip(net.probe_names, net.probe_time_constants, strict=True)
-        }
-        ledger = EnergyLedger(
-            **{key: np.asarray(v) for key, v in self.accounts.items()},
-            friction_labels=net.friction_labels,
-            friction_split=self.friction.copy(),
-        )
-        parts = net.assembly.parts
-        return Result(
-            times=times,
-            probes=probes,
-            readings=readings,
-            series={k: np.asarray(v) for k, v in self.series.items()},
-            ledger=ledger,
-            snapshot_times=np.asarray(self.snap_times),
-            snapshots=np.asarray(self.snaps),
-            r_edges=net.grid.r_edges.copy(),
-            z_edges=net.grid.z_edges.copy(),
-            part_map=net.grid.part_map.copy(),
-            part_names=tuple(p.name for p in parts),
-            part_roles=tuple(p.role for p in parts),
-            final_state=final,
-            phases=tuple((p.name, p.start, p.end) for p in schedule.phases),
-            end_of_heating=schedule.power.end_of_heating,
-            probe_positions={p.name: (p.r, p.z) for p in net.assembly.probes},
-            probe_time_constants={p.name: p.time_constant for p in net.assembly.probes},
-            metadata={"solver": dict(stats)},
-        )
 
 
 def initial_field(network: Network, initial: float | Mapping[str, float] | State | np.ndarray) -> np.ndarray:
@@ -736,9 +654,24 @@ def integrate(
     start = initial.time if isinstance(initial, State) else schedule.start
     if start < schedule.start - 1e-9 or start >= schedule.end:
         raise InputError(f"initial state time {start} s is outside the schedule {schedule.start}..{schedule.end} s")
+    readings = _start_readings(initial) if isinstance(initial, State) else None
     try:
-        return _Integrator(network, schedule, options, progress).run(T0, max(start, schedule.start))
+        return _Integrator(network, schedule, options, progress).run(T0, max(start, schedule.start), readings)
     except HeatstackError:
         raise
     except (FloatingPointError, ValueError, RuntimeError) as exc:
         raise SolverError(f"integration failed: {exc}") from exc
+
+
+def _start_readings(state: State) -> dict[str, float]:
+    """The instrument readings [K] a saved state carries, checked."""
+    readings = {}
+    for name, value in dict(state.readings).items():
+        try:
+            value = float(value)
+        except (TypeError, ValueError):
+            value = float("nan")
+        if not (np.isfinite(value) and value > 0):
+            raise InputError(f"initial state: reading of probe {name!r} must be finite and > 0 K, got {value!r}")
+        readings[str(name)] = value
+    return readings

@@ -1,0 +1,110 @@
+"""What a run keeps: probe and series histories, the energy ledger, field snapshots.
+
+The solver hands every accepted step to a :class:`Recorder`, which accumulates the
+histories and builds the :class:`~heatstack.result.Result` at the end (instrument
+readings are the probe histories through each probe's first-order lag).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..result import EnergyLedger, Result, State
+from .instrument import first_order_lag
+from .network import Network
+from .schedule import Schedule
+
+__all__ = ["Recorder"]
+
+
+class Recorder:
+    """Collects the histories of a run and builds the Result."""
+
+    def __init__(self, net: Network, mass: np.ndarray):
+        self.net, self.mass = net, mass
+        self.times: list[float] = []
+        self.probe_values: list[np.ndarray] = []
+        self.series: dict[str, list[float]] = {}
+        self.group_area = np.bincount(net.face_group, weights=net.face_area, minlength=len(net.groups))
+        self.sink_mass = mass[net.heat_sink].sum() if net.heat_sink.any() else 0.0
+        self.accounts = {"heat_in": [0.0], "convected": [0.0], "radiated": [0.0], "stored": [0.0]}
+        n_if = len(net.friction_labels)
+        self.friction = np.zeros((n_if, 2))
+        self.snap_times: list[float] = []
+        self.snaps: list[np.ndarray] = []
+
+    def record(self, t: float, T: np.ndarray, out: dict | None, face_ts: np.ndarray) -> None:
+        net = self.net
+        self.times.append(t)
+        self.probe_values.append(np.sum(T[net.probe_cells] * net.probe_weights, axis=1))
+        if net.heat_sink.any():
+            self.series.setdefault("heat_sink_mean", []).append(
+                float(np.dot(self.mass[net.heat_sink], T[net.heat_sink]) / self.sink_mass)
+            )
+            self.series.setdefault("heat_sink_max", []).append(float(T[net.heat_sink].max()))
+        if net.wheel.any():
+            self.series.setdefault("wheel_max", []).append(float(T[net.wheel].max()))
+        group_mean = np.bincount(net.face_group, weights=net.face_area * face_ts, minlength=len(net.groups))
+        for name, mean in zip(net.groups, group_mean / self.group_area, strict=True):
+            self.series.setdefault(f"surface:{name}", []).append(float(mean))
+        if out is not None:
+            for key in self.accounts:
+                self.accounts[key].append(self.accounts[key][-1] + out[key])
+            if self.friction.size:
+                energy_a, energy_b = out["friction"]
+                n_if = len(net.friction_labels)
+                self.friction[:, 0] += np.bincount(net.friction_interface, weights=energy_a, minlength=n_if)
+                self.friction[:, 1] += np.bincount(net.friction_interface, weights=energy_b, minlength=n_if)
+
+    def snapshot(self, t: float, T: np.ndarray) -> None:
+        if self.snap_times and abs(self.snap_times[-1] - t) < 1e-12:
+            return
+        self.snap_times.append(t)
+        self.snaps.append(self.net.grid.to_field(T))
+
+    def result(self, schedule: Schedule, final: State, stats: dict, start_readings: dict | None = None) -> Result:
+        """The Result; ``start_readings`` [K] are the instrument readings at the first record."""
+        net = self.net
+        start_readings = start_readings or {}
+        times = np.asarray(self.times)
+        values = np.asarray(self.probe_values).reshape(times.size, len(net.probe_names))
+        probes = {name: values[:, k].copy() for k, name in enumerate(net.probe_names)}
+        readings = {
+            name: first_order_lag(times, probes[name], float(tau), start_readings.get(name) if tau > 0 else None)
+            for name, tau in zip(net.probe_names, net.probe_time_constants, strict=True)
+        }
+        final = State(
+            time=final.time,
+            temperature=final.temperature,
+            readings={
+                name: float(readings[name][-1])
+                for name, tau in zip(net.probe_names, net.probe_time_constants, strict=True)
+                if tau > 0
+            },
+        )
+        ledger = EnergyLedger(
+            **{key: np.asarray(v) for key, v in self.accounts.items()},
+            friction_labels=net.friction_labels,
+            friction_split=self.friction.copy(),
+        )
+        parts = net.assembly.parts
+        return Result(
+            times=times,
+            probes=probes,
+            readings=readings,
+            series={k: np.asarray(v) for k, v in self.series.items()},
+            ledger=ledger,
+            snapshot_times=np.asarray(self.snap_times),
+            snapshots=np.asarray(self.snaps),
+            r_edges=net.grid.r_edges.copy(),
+            z_edges=net.grid.z_edges.copy(),
+            part_map=net.grid.part_map.copy(),
+            part_names=tuple(p.name for p in parts),
+            part_roles=tuple(p.role for p in parts),
+            final_state=final,
+            phases=tuple((p.name, p.start, p.end) for p in schedule.phases),
+            end_of_heating=schedule.power.end_of_heating,
+            probe_positions={p.name: (p.r, p.z) for p in net.assembly.probes},
+            probe_time_constants={p.name: p.time_constant for p in net.assembly.probes},
+            metadata={"solver": dict(stats)},
+        )
