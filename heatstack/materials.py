@@ -11,6 +11,10 @@ Mass is fixed by the density at the reference temperature 293.15 K: the geometry
 is given cold and thermal expansion is neglected, so each cell keeps the mass
 ``density * cold volume`` at every temperature.
 
+The tables themselves are :class:`PropertyTable` objects
+(:mod:`heatstack.property_table`); reading a material from a file or a mapping is
+done in :mod:`heatstack.material_files`. Both are re-exported here.
+
 Materials live in ``materials/<name>.toml`` files (one material a file, units
 named in the file, a source beside every table); see :func:`load_material`.
 Inside this module every quantity is SI: K, J, kg, m, W.
@@ -18,22 +22,16 @@ Inside this module every quantity is SI: K, J, kg, m, W.
 
 from __future__ import annotations
 
-import difflib
 import functools
 import numbers
-import tomllib
-import warnings
-from collections.abc import Mapping
 from dataclasses import dataclass, field
-from functools import cache
-from pathlib import Path
 from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .errors import HeatstackWarning, MaterialError, PropertyRangeError, UnitError
-from .units import to_si_array
+from .errors import MaterialError, PropertyRangeError
+from .property_table import _EXTRAPOLATIONS, PropertyTable, _as_float_array, _warn_once
 
 __all__ = [
     "REFERENCE_TEMPERATURE",
@@ -49,184 +47,9 @@ __all__ = [
 #: Temperature [K] at which the density is given and the enthalpy is zero.
 REFERENCE_TEMPERATURE = 293.15
 
-_EXTRAPOLATIONS = ("error", "clamp")
-
-#: (material, property) pairs that have already warned about clamping.
-_clamp_warned: set[tuple[str, str]] = set()
-
-
-def _warn_once(material: str, prop: str, message: str, stacklevel: int) -> None:
-    if (material, prop) not in _clamp_warned:
-        _clamp_warned.add((material, prop))
-        warnings.warn(message, HeatstackWarning, stacklevel=stacklevel + 1)
-
 
 def _is_number(value: Any) -> bool:
     return isinstance(value, numbers.Real) and not isinstance(value, bool)
-
-
-def _as_float_array(values: ArrayLike, what: str) -> np.ndarray:
-    try:
-        return np.asarray(values, dtype=float)
-    except (TypeError, ValueError) as exc:
-        raise MaterialError(f"{what} must be numeric, got {values!r}") from exc
-
-
-@dataclass(frozen=True, eq=False)
-class PropertyTable:
-    """One property of one material, piecewise linear in temperature.
-
-    Parameters
-    ----------
-    name : str
-        Property name, e.g. ``"specific_heat"``; used in messages.
-    material : str
-        Name of the material the table belongs to; used in messages.
-    temperature : ndarray
-        Table temperatures [K], strictly increasing, at least two rows.
-    value : ndarray
-        Property values at those temperatures, in SI units.
-    extrapolation : {"error", "clamp"}
-        Outside the table, ``"error"`` raises :class:`PropertyRangeError`;
-        ``"clamp"`` uses the end value and warns once per (material, property).
-    source : str
-        Where the values come from (handbook, edition, table).
-
-    Raises
-    ------
-    MaterialError
-        If the rows are too few, not finite or not strictly increasing in temperature.
-    """
-
-    name: str
-    material: str
-    temperature: np.ndarray
-    value: np.ndarray
-    extrapolation: str = "error"
-    source: str = ""
-    _slope: np.ndarray = field(init=False, repr=False)
-
-    def __post_init__(self) -> None:
-        where = self._where()
-        if self.extrapolation not in _EXTRAPOLATIONS:
-            raise MaterialError(f"{where}: extrapolation must be 'error' or 'clamp', got {self.extrapolation!r}")
-        temperature = np.array(_as_float_array(self.temperature, f"{where}: temperature"))
-        value = np.array(_as_float_array(self.value, f"{where}: value"))
-        if temperature.ndim != 1 or value.shape != temperature.shape:
-            raise MaterialError(
-                f"{where}: temperature and value must be 1-D arrays of equal length, "
-                f"got shapes {temperature.shape} and {value.shape}"
-            )
-        if temperature.size < 2:
-            raise MaterialError(f"{where}: a table needs at least 2 rows, got {temperature.size}")
-        for row, (t, v) in enumerate(zip(temperature, value, strict=True), start=1):
-            if not (np.isfinite(t) and np.isfinite(v)):
-                raise MaterialError(f"{where}: table row {row} [{t:g}, {v:g}] is not finite")
-        if temperature[0] <= 0.0:
-            raise MaterialError(f"{where}: table row 1 temperature {temperature[0]:g} K is not > 0 K")
-        steps = np.diff(temperature)
-        bad = np.flatnonzero(steps <= 0.0)
-        if bad.size:
-            row = int(bad[0]) + 2
-            raise MaterialError(
-                f"{where}: table row {row} (T = {temperature[row - 1]:g} K) is not above "
-                f"row {row - 1} (T = {temperature[row - 2]:g} K); temperatures must be "
-                "strictly increasing"
-            )
-        slope = np.diff(value) / steps
-        for array in (temperature, value, slope):
-            array.setflags(write=False)
-        object.__setattr__(self, "temperature", temperature)
-        object.__setattr__(self, "value", value)
-        object.__setattr__(self, "_slope", slope)
-
-    def _where(self) -> str:
-        return f"material {self.material!r}, property {self.name!r}"
-
-    @property
-    def temperature_range(self) -> tuple[float, float]:
-        """First and last table temperatures [K]."""
-        return float(self.temperature[0]), float(self.temperature[-1])
-
-    def _checked(self, temperature: ArrayLike) -> np.ndarray:
-        """Return ``temperature`` as a float array after the range policy has been applied."""
-        t = _as_float_array(temperature, f"{self._where()}: temperature")
-        if t.size:
-            low, high = self.temperature[0], self.temperature[-1]
-            t_min, t_max = t.min(), t.max()
-            if not (t_min >= low and t_max <= high):  # also true for NaN
-                self._out_of_range(t, t_min, t_max)
-        return t
-
-    def _out_of_range(self, t: np.ndarray, t_min: float, t_max: float) -> None:
-        low, high = self.temperature_range
-        table = f"the table covers {low:g} K to {high:g} K"
-        if np.isnan(t_min) or np.isnan(t_max):
-            raise PropertyRangeError(f"{self._where()}: temperature is NaN ({table})")
-        worst = t_min if t_min < low else t_max
-        count = int(np.count_nonzero((t < low) | (t > high)))
-        if self.extrapolation == "error":
-            raise PropertyRangeError(
-                f"{self._where()}: temperature {worst:.6g} K is outside the table "
-                f"({table}; {count} value(s) outside, extrapolation = 'error')"
-            )
-        _warn_once(
-            self.material,
-            self.name,
-            f"{self._where()}: temperature {worst:.6g} K is outside the table ({table}); "
-            "clamping to the end value (warned once per material and property)",
-            stacklevel=4,
-        )
-
-    def __call__(self, temperature: ArrayLike) -> np.ndarray:
-        """Interpolate the table linearly.
-
-        Parameters
-        ----------
-        temperature : array_like
-            Temperature [K], any shape.
-
-        Returns
-        -------
-        ndarray
-            The property at each temperature, same shape as ``temperature``, SI units.
-
-        Raises
-        ------
-        PropertyRangeError
-            If a temperature is NaN, or outside the table when extrapolation is ``"error"``.
-        """
-        t = self._checked(temperature)
-        return np.asarray(np.interp(t, self.temperature, self.value))
-
-    def slope(self, temperature: ArrayLike) -> np.ndarray:
-        """Derivative of the piecewise-linear table with respect to temperature.
-
-        At an interior row the slope of the segment above it is returned; at the
-        last row, that of the last segment. Where the table is clamped the slope is 0.
-
-        Parameters
-        ----------
-        temperature : array_like
-            Temperature [K], any shape.
-
-        Returns
-        -------
-        ndarray
-            d value / dT [SI unit of the value per K], same shape as ``temperature``.
-
-        Raises
-        ------
-        PropertyRangeError
-            As for :meth:`__call__`.
-        """
-        t = self._checked(temperature)
-        knots = self.temperature
-        k = np.clip(np.searchsorted(knots, t, side="right") - 1, 0, knots.size - 2)
-        slope = self._slope[k]
-        if self.extrapolation == "clamp":
-            slope = np.where((t < knots[0]) | (t > knots[-1]), 0.0, slope)
-        return np.asarray(slope)
 
 
 def _first_row_outside(table: PropertyTable, low: float, high: float) -> int | None:
@@ -516,270 +339,6 @@ class Material:
         )
 
 
-# --------------------------------------------------------------------------- loading
-
-_TOP_KEYS = (
-    "name",
-    "description",
-    "extrapolation",
-    "density",
-    "specific_heat",
-    "conductivity",
-    "conductivity_in_plane",
-    "conductivity_through_thickness",
-    "emissivity",
-)
-_DENSITY_KEYS = ("value", "unit", "source")
-_TABLE_KEYS = ("unit", "temperature_unit", "source", "table")
-_TABLE_DIMENSIONS = {
-    "specific_heat": "specific_heat",
-    "conductivity": "conductivity",
-    "conductivity_in_plane": "conductivity",
-    "conductivity_through_thickness": "conductivity",
-    "emissivity": "dimensionless",
-}
-
-
-def _section(data: Mapping[str, Any], key: str, allowed: tuple[str, ...], where: str) -> Mapping:
-    section = data[key]
-    if not isinstance(section, Mapping):
-        raise MaterialError(f"{where}: [{key}] must be a table of keys, got {section!r}")
-    for sub in section:
-        if sub not in allowed:
-            raise MaterialError(f"{where}: unknown key {sub!r} in [{key}] (allowed: {', '.join(allowed)})")
-    for sub in allowed:
-        if sub not in section:
-            raise MaterialError(f"{where}: [{key}] is missing the key {sub!r}")
-    for sub in ("unit", "temperature_unit", "source"):
-        if sub in section and not isinstance(section[sub], str):
-            raise MaterialError(f"{where}: [{key}] {sub} must be a string, got {section[sub]!r}")
-    if not section["source"].strip():
-        raise MaterialError(f"{where}: [{key}] source must name where the values come from")
-    return section
-
-
-def _one_line(text: str) -> str:
-    """Collapse the line breaks and indentation of a multi-line TOML string."""
-    return " ".join(text.split())
-
-
-def _convert(values: Any, unit: str, dimension: str, field_name: str) -> np.ndarray:
-    try:
-        return to_si_array(values, unit, dimension, field_name)
-    except UnitError as exc:
-        raise MaterialError(str(exc)) from exc
-
-
-def _read_density(data: Mapping[str, Any], where: str) -> float:
-    section = _section(data, "density", _DENSITY_KEYS, where)
-    if not _is_number(section["value"]):
-        raise MaterialError(f"{where}: [density] value must be a number, got {section['value']!r}")
-    return float(_convert(section["value"], section["unit"], "density", f"{where}: [density] unit"))
-
-
-def _read_table(
-    data: Mapping[str, Any], key: str, prop: str, name: str, extrapolation: str, where: str
-) -> PropertyTable:
-    section = _section(data, key, _TABLE_KEYS, where)
-    rows = section["table"]
-    if not isinstance(rows, list | tuple) or len(rows) < 2:
-        raise MaterialError(f"{where}: [{key}] table must be a list of at least 2 rows, got {rows!r}")
-    for i, row in enumerate(rows, start=1):
-        if not (isinstance(row, list | tuple) and len(row) == 2 and all(map(_is_number, row))):
-            raise MaterialError(f"{where}: [{key}] table row {i} must be [temperature, value] numbers, got {row!r}")
-    temperature = _convert(
-        [row[0] for row in rows],
-        section["temperature_unit"],
-        "temperature",
-        f"{where}: [{key}] temperature_unit",
-    )
-    value = _convert([row[1] for row in rows], section["unit"], _TABLE_DIMENSIONS[key], f"{where}: [{key}] unit")
-    return PropertyTable(prop, name, temperature, value, extrapolation, _one_line(section["source"]))
-
-
-def _build(data: Any, origin: str, source_file: str) -> Material:
-    """Validate a parsed material mapping and build the :class:`Material`."""
-    if not isinstance(data, Mapping):
-        raise MaterialError(f"{origin}: a material must be a table of keys, got {type(data).__name__}")
-    name = data.get("name")
-    if not isinstance(name, str) or not name.strip():
-        raise MaterialError(f"{origin}: the key 'name' must be a non-empty string, got {name!r}")
-    where = f"{origin}: material {name!r}"
-    for key in data:
-        if key not in _TOP_KEYS:
-            close = difflib.get_close_matches(str(key), _TOP_KEYS, n=1)
-            hint = f"; did you mean {close[0]!r}?" if close else ""
-            raise MaterialError(f"{where}: unknown key {key!r}{hint} (allowed: {', '.join(_TOP_KEYS)})")
-    description = data.get("description", "")
-    if not isinstance(description, str):
-        raise MaterialError(f"{where}: description must be a string, got {description!r}")
-    extrapolation = data.get("extrapolation", "error")
-    if extrapolation not in _EXTRAPOLATIONS:
-        raise MaterialError(f"{where}: extrapolation must be 'error' or 'clamp', got {extrapolation!r}")
-    for key in ("density", "specific_heat", "emissivity"):
-        if key not in data:
-            raise MaterialError(f"{where}: missing the section [{key}]")
-    split = ("conductivity_in_plane", "conductivity_through_thickness")
-    given = [key for key in split if key in data]
-    if "conductivity" in data and given:
-        raise MaterialError(
-            f"{where}: give either [conductivity] (isotropic) or [conductivity_in_plane] and "
-            f"[conductivity_through_thickness], not both (found also {', '.join(given)})"
-        )
-    if "conductivity" not in data and len(given) != 2:
-        missing = [key for key in split if key not in data]
-        raise MaterialError(
-            f"{where}: missing [conductivity], or [{'] and ['.join(missing)}] for an anisotropic material"
-        )
-    try:
-        density = _read_density(data, where)
-
-        def table(key: str, prop: str) -> PropertyTable:
-            return _read_table(data, key, prop, name, extrapolation, where)
-
-        if "conductivity" in data:
-            in_plane = through = table("conductivity", "conductivity")
-        else:
-            in_plane = table("conductivity_in_plane", "conductivity_in_plane")
-            through = table("conductivity_through_thickness", "conductivity_through_thickness")
-        return Material(
-            name=name,
-            description=_one_line(description),
-            density=density,
-            specific_heat=table("specific_heat", "specific_heat"),
-            conductivity_in_plane=in_plane,
-            conductivity_through_thickness=through,
-            emissivity=table("emissivity", "emissivity"),
-            extrapolation=extrapolation,
-            source_file=source_file,
-        )
-    except MaterialError as exc:
-        message = str(exc)
-        if not message.startswith(origin):
-            message = f"{origin}: {message}"
-        raise MaterialError(message) from exc
-
-
-def material_from_mapping(data: Mapping[str, Any], origin: str) -> Material:
-    """Build a material from a mapping with the layout of a material file.
-
-    Used for materials written inline in a case file.
-
-    Parameters
-    ----------
-    data : Mapping
-        The keys of a material file: ``name``, ``density``, ``specific_heat`` ...
-    origin : str
-        Where the mapping comes from (e.g. ``"case.toml [materials.pad]"``); every
-        error message starts with it.
-
-    Returns
-    -------
-    Material
-        The validated material, with ``source_file = "<inline>"``.
-
-    Raises
-    ------
-    MaterialError
-        If a key is unknown or missing, a unit has the wrong dimension, a row is
-        malformed or out of order, or a value is out of its physical range.
-    """
-    return _build(data, origin, "<inline>")
-
-
-def materials_directory() -> Path:
-    """Directory of the shipped material files.
-
-    Returns
-    -------
-    Path
-        ``_materials`` beside this module if it exists (an installed wheel), otherwise
-        ``materials`` at the top of the source tree (a checkout or editable install).
-    """
-    packaged = Path(__file__).parent / "_materials"
-    if packaged.is_dir():
-        return packaged
-    return Path(__file__).resolve().parents[1] / "materials"
-
-
-def _directory(directory: str | Path | None) -> Path:
-    path = materials_directory() if directory is None else Path(directory)
-    if not path.is_dir():
-        raise MaterialError(f"materials directory {path} does not exist")
-    return path
-
-
-def available_materials(directory: str | Path | None = None) -> list[str]:
-    """Names of the materials in a directory (its ``*.toml`` files, without suffix).
-
-    Parameters
-    ----------
-    directory : str or Path, optional
-        Directory to list; defaults to :func:`materials_directory`.
-
-    Returns
-    -------
-    list of str
-        Sorted material names.
-
-    Raises
-    ------
-    MaterialError
-        If the directory does not exist.
-    """
-    return sorted(path.stem for path in _directory(directory).glob("*.toml") if path.is_file())
-
-
-def load_material(name: str, directory: str | Path | None = None) -> Material:
-    """Load ``<directory>/<name>.toml``; each resolved path is read once and cached.
-
-    Parameters
-    ----------
-    name : str
-        Material name, e.g. ``"carbon-carbon"``.
-    directory : str or Path, optional
-        Directory holding the files; defaults to :func:`materials_directory`.
-
-    Returns
-    -------
-    Material
-        The material. Repeated calls return the same object.
-
-    Raises
-    ------
-    MaterialError
-        If the material is unknown (the message lists the available ones and the
-        closest match) or its file is malformed.
-    """
-    folder = _directory(directory)
-    valid = isinstance(name, str) and name and Path(name).name == name and not name.startswith(".")
-    path = folder / f"{name}.toml" if valid else None
-    if path is None or not path.is_file():
-        names = available_materials(folder)
-        close = difflib.get_close_matches(str(name), names, n=1, cutoff=0.0)
-        hint = f" Did you mean {close[0]!r}?" if close else ""
-        raise MaterialError(
-            f"unknown material {name!r} in {folder}.{hint} Available: {', '.join(names) if names else '(none)'}"
-        )
-    return _load_file(path.resolve())
-
-
-@cache
-def _load_file(path: Path) -> Material:
-    try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise MaterialError(f"{path}: cannot read the material file: {exc}") from exc
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise MaterialError(f"{path}: not valid TOML: {exc}") from exc
-    material = _build(data, str(path), str(path))
-    if material.name != path.stem:
-        raise MaterialError(f"{path}: name = {material.name!r} does not match the file name {path.stem!r}")
-    return material
-
-
 def simple_material(
     name: str,
     density: float,
@@ -831,3 +390,16 @@ def simple_material(
         conductivity_through_thickness=axial,
         emissivity=table("emissivity", emissivity),
     )
+
+
+# Re-exported so that ``from heatstack.materials import load_material`` and the like
+# keep working. material_files imports Material from this module, so this import must
+# come after Material is defined: when it runs, material_files finds Material already
+# there. This module is always loaded before material_files (heatstack/__init__.py
+# imports it, and nothing else imports material_files), so the cycle never bites.
+from .material_files import (  # noqa: E402
+    available_materials,
+    load_material,
+    material_from_mapping,
+    materials_directory,
+)
