@@ -50,6 +50,9 @@ they are kept in a ``name`` attribute and the HDF5 names are zero-padded indices
 Writing is atomic: the file is written to a temporary file in the target folder,
 flushed to disk, then moved over the target in one step, so a failed write never
 leaves a half-written file or damages a file that was already there.
+
+The readers live in :mod:`heatstack.resultread` and the steps of a safe write in
+:mod:`heatstack.atomic`; everything public is importable from here.
 """
 
 from __future__ import annotations
@@ -58,17 +61,24 @@ import contextlib
 import datetime as _dt
 import json
 import os
-import secrets
-import stat
-from collections.abc import Iterator, Mapping
+from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
 import h5py
 import numpy as np
 
+# the safe-write helpers under the private names this module's code has always used
+# (tests replace ``_new_temp`` to make a folder refuse new files)
+from .atomic import as_path as _as_path
+from .atomic import fsync_folder as _fsync_folder
+from .atomic import move_into_place
+from .atomic import new_temp_file as _new_temp
+from .atomic import os_reason as _reason
+from .atomic import write_target as _target
 from .errors import ResultFileError
-from .result import EnergyLedger, Result, State
+from .result import Result
+from .resultread import read_case_text, read_resolved_inputs, read_result
 
 __all__ = [
     "FORMAT_NAME",
@@ -97,41 +107,6 @@ _DESCRIPTION = (
 
 
 # --------------------------------------------------------------------------- paths
-
-
-def _as_path(path: Any) -> Path:
-    """``path`` as a :class:`Path`, or a ResultFileError for anything that is not a path."""
-    if isinstance(path, str | os.PathLike):
-        text = os.fspath(path)
-        if isinstance(text, str) and text:
-            return Path(text)
-    raise ResultFileError(f"a results file path must be a non-empty str or Path, got {path!r}")
-
-
-def _target(path: Path) -> Path:
-    """The file a write to ``path`` replaces: symbolic links are followed to their target."""
-    if path.is_symlink():
-        return Path(os.path.realpath(path))
-    return path
-
-
-def _reason(exc: OSError) -> str:
-    return exc.strerror or str(exc) or type(exc).__name__
-
-
-def _new_temp(folder: Path, stem: str) -> tuple[Path, int]:
-    """Create a new, empty, uniquely named hidden file in ``folder``; return it and its descriptor.
-
-    The file is created with mode 0o666 filtered by the umask, as an ordinary new file.
-    """
-    flags = os.O_RDWR | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
-    for _ in range(100):
-        candidate = folder / f".{stem}.{secrets.token_hex(6)}.tmp"
-        try:
-            return candidate, os.open(candidate, flags, 0o666)
-        except FileExistsError:
-            continue
-    raise FileExistsError(f"could not find a free temporary file name in {folder}")
 
 
 def check_writable(path: str | Path) -> Path:
@@ -356,22 +331,6 @@ def _write_content(
     _put(phases, "end", np.array([float(p[2]) for p in result.phases], dtype=np.float64), "s")
 
 
-def _fsync_folder(folder: Path) -> None:
-    """Make a rename in ``folder`` durable where the platform allows it (best effort)."""
-    if not hasattr(os, "O_DIRECTORY"):
-        return
-    try:
-        fd = os.open(folder, os.O_RDONLY | os.O_DIRECTORY)
-    except OSError:
-        return
-    try:
-        os.fsync(fd)
-    except OSError:
-        pass
-    finally:
-        os.close(fd)
-
-
 def write_result(
     result: Result,
     path: str | Path,
@@ -437,15 +396,7 @@ def write_result(
         with h5py.File(temp, "w") as h5:
             _write_content(h5, result, case_text, inputs_json, metadata_json, compression)
             h5.flush()
-        fd = os.open(temp, os.O_RDWR | getattr(os, "O_BINARY", 0))
-        try:
-            os.fsync(fd)
-        finally:
-            os.close(fd)
-        with contextlib.suppress(OSError):
-            if target.exists():
-                os.chmod(temp, stat.S_IMODE(target.stat().st_mode))
-        os.replace(temp, target)
+        move_into_place(temp, target)
     except BaseException as exc:
         with contextlib.suppress(OSError):
             temp.unlink()
@@ -459,326 +410,3 @@ def write_result(
         raise
     _fsync_folder(target.parent)
     return target
-
-
-# --------------------------------------------------------------------------- reading
-
-
-class _Reader:
-    """Checked access to the parts of an open results file; every failure names the file."""
-
-    def __init__(self, h5: h5py.File, path: Path) -> None:
-        self.h5 = h5
-        self.path = path
-
-    def fail(self, what: str) -> ResultFileError:
-        return ResultFileError(f"results file {str(self.path)!r}: {what}")
-
-    def group(self, name: str, parent: h5py.Group | None = None) -> h5py.Group:
-        parent = self.h5 if parent is None else parent
-        item = parent.get(name)
-        full = f"{parent.name.rstrip('/')}/{name}"
-        if not isinstance(item, h5py.Group):
-            raise self.fail(f"lacks required group {full!r}")
-        return item
-
-    def dataset(self, name: str, parent: h5py.Group | None = None) -> h5py.Dataset:
-        parent = self.h5 if parent is None else parent
-        item = parent.get(name)
-        full = f"{parent.name.rstrip('/')}/{name}"
-        if not isinstance(item, h5py.Dataset):
-            raise self.fail(f"lacks required dataset {full!r}")
-        return item
-
-    def array(
-        self, name: str, unit: str, ndim: int | None, parent: h5py.Group | None = None, kind: str = "f"
-    ) -> np.ndarray:
-        dataset = self.dataset(name, parent)
-        stored = _attr_text(dataset.attrs.get("unit"))
-        if stored != unit:
-            raise self.fail(f"dataset {dataset.name!r} has unit {stored!r}, expected {unit!r}")
-        if dataset.dtype.kind not in kind:
-            raise self.fail(f"dataset {dataset.name!r} has type {dataset.dtype}, expected numbers")
-        data = np.asarray(dataset[()])
-        if ndim is not None and data.ndim != ndim:
-            raise self.fail(f"dataset {dataset.name!r} has shape {data.shape}, expected {ndim} dimension(s)")
-        return data
-
-    def scalar(self, name: str, unit: str, parent: h5py.Group | None = None) -> float:
-        return float(self.array(name, unit, 0, parent, kind="biuf"))
-
-    def text(self, name: str, parent: h5py.Group | None = None) -> str:
-        dataset = self.dataset(name, parent)
-        if dataset.shape != () or dataset.dtype.kind not in "OSU":
-            raise self.fail(f"dataset {dataset.name!r} is not a text")
-        return _attr_text(dataset[()])
-
-    def texts(self, name: str, parent: h5py.Group | None = None) -> tuple[str, ...]:
-        dataset = self.dataset(name, parent)
-        if len(dataset.shape) != 1 or dataset.dtype.kind not in "OSU":
-            raise self.fail(f"dataset {dataset.name!r} is not a list of texts")
-        return tuple(_attr_text(item) for item in dataset[()])
-
-    def json(self, name: str, parent: h5py.Group | None = None) -> dict:
-        full = self.dataset(name, parent).name
-        raw = self.text(name, parent)
-        try:
-            value = json.loads(raw)
-        except ValueError as exc:
-            raise self.fail(f"dataset {full!r} is not valid JSON ({exc})") from None
-        if not isinstance(value, dict):
-            raise self.fail(f"dataset {full!r} does not hold a JSON object")
-        return value
-
-    def name_of(self, item: h5py.HLObject) -> str:
-        name = item.attrs.get("name")
-        if name is None:
-            raise self.fail(f"{item.name!r} lacks its 'name' attribute")
-        return _attr_text(name)
-
-    def number_attr(self, item: h5py.HLObject, key: str) -> float:
-        if key not in item.attrs:
-            raise self.fail(f"{item.name!r} lacks its {key!r} attribute")
-        try:
-            return float(item.attrs[key])
-        except (TypeError, ValueError):
-            raise self.fail(f"attribute {key!r} of {item.name!r} is not a number") from None
-
-
-def _attr_text(value: Any) -> str:
-    if isinstance(value, bytes):
-        return value.decode("utf-8", errors="replace")
-    if isinstance(value, np.ndarray) and value.shape == ():
-        return _attr_text(value[()])
-    return "" if value is None else str(value)
-
-
-def _ordered(group: h5py.Group) -> list[str]:
-    """Member names of an index-named group, in index order."""
-    return sorted(group, key=lambda key: (0, int(key)) if key.isdigit() else (1, key))
-
-
-@contextlib.contextmanager
-def _open(path: str | Path) -> Iterator[_Reader]:
-    """Open a results file for reading, check its format and version, and wrap every failure."""
-    given = _as_path(path)
-    if not given.exists():
-        raise ResultFileError(f"results file {str(given)!r} does not exist")
-    if given.is_dir():
-        raise ResultFileError(f"results file {str(given)!r} is a folder, not a file")
-    try:
-        hdf5 = h5py.is_hdf5(given)
-    except OSError as exc:
-        raise ResultFileError(f"results file {str(given)!r} cannot be read ({_reason(exc)})") from None
-    if not hdf5:
-        raise ResultFileError(f"results file {str(given)!r} is not an HDF5 file")
-    try:
-        h5 = h5py.File(given, "r")
-    except OSError as exc:
-        raise ResultFileError(
-            f"results file {str(given)!r} cannot be opened; it may be truncated or damaged ({exc})"
-        ) from None
-    try:
-        with h5:
-            reader = _Reader(h5, given)
-            _check_format(reader)
-            yield reader
-    except ResultFileError:
-        raise
-    except (OSError, KeyError, ValueError, TypeError, RuntimeError) as exc:
-        raise ResultFileError(
-            f"results file {str(given)!r} is damaged or incomplete ({type(exc).__name__}: {exc})"
-        ) from None
-
-
-def _check_format(reader: _Reader) -> None:
-    attrs = reader.h5.attrs
-    if "format" not in attrs:
-        raise reader.fail(f"not a heatstack results file (no 'format' attribute; expected {FORMAT_NAME!r})")
-    name = _attr_text(attrs["format"])
-    if name != FORMAT_NAME:
-        raise reader.fail(f"holds format {name!r}, not a heatstack results file ({FORMAT_NAME!r})")
-    raw = attrs.get("format_version")
-    try:
-        version = int(raw)
-        if version != raw:
-            raise ValueError
-    except (TypeError, ValueError):
-        raise reader.fail(f"format_version {raw!r} is not a whole number") from None
-    if version > FORMAT_VERSION:
-        raise reader.fail(
-            f"format_version {version} is newer than this heatstack reads ({FORMAT_VERSION}); "
-            "upgrade heatstack to read it"
-        )
-    if version < 1:
-        raise reader.fail(f"format_version {version} is not valid")
-
-
-def read_result(path: str | Path) -> Result:
-    """Load a results file back into the :class:`~heatstack.result.Result` it was written from.
-
-    Parameters
-    ----------
-    path : str or Path
-        A file written by :func:`write_result`.
-
-    Returns
-    -------
-    Result
-        Arrays in SI units [K, s, J, m] with the dtypes they were written with; names,
-        their order and the metadata mapping as stored. Metadata is plain JSON: tuples
-        written into it come back as lists.
-
-    Raises
-    ------
-    ResultFileError
-        If the file is missing, not HDF5, truncated, of another format or of a newer
-        format version, or lacks a required dataset; the message names the file and
-        what is wrong.
-    """
-    with _open(path) as rd:
-        times = rd.array("times", "s", 1)
-        end_of_heating = rd.scalar("end_of_heating", "s")
-        metadata = rd.json("metadata")
-        rd.json("resolved_inputs", rd.group("case"))
-        rd.text("text", rd.group("case"))
-
-        grid = rd.group("grid")
-        r_edges = rd.array("r_edges", "m", 1, grid)
-        z_edges = rd.array("z_edges", "m", 1, grid)
-        part_map = rd.array("part_map", "1", 2, grid, kind="iu")
-        part_names = rd.texts("part_names", grid)
-        part_roles = rd.texts("part_roles", grid)
-        cells = (z_edges.size - 1, r_edges.size - 1)
-        if part_map.shape != cells:
-            raise rd.fail(f"grid/part_map has shape {part_map.shape}, but the edges give {cells}")
-        if len(part_names) != len(part_roles):
-            raise rd.fail("grid/part_names and grid/part_roles differ in length")
-
-        probes: dict[str, np.ndarray] = {}
-        readings: dict[str, np.ndarray] = {}
-        positions: dict[str, tuple[float, float]] = {}
-        time_constants: dict[str, float] = {}
-        probe_group = rd.group("probes")
-        for key in _ordered(probe_group):
-            member = rd.group(key, probe_group)
-            name = rd.name_of(member)
-            if "r" in member.attrs or "z" in member.attrs:
-                positions[name] = (rd.number_attr(member, "r"), rd.number_attr(member, "z"))
-            if "time_constant" in member.attrs:
-                time_constants[name] = rd.number_attr(member, "time_constant")
-            if "local" in member:
-                probes[name] = rd.array("local", "K", 1, member)
-            if "reading" in member:
-                readings[name] = rd.array("reading", "K", 1, member)
-
-        series: dict[str, np.ndarray] = {}
-        series_group = rd.group("series")
-        for key in _ordered(series_group):
-            dataset = rd.dataset(key, series_group)
-            series[rd.name_of(dataset)] = rd.array(key, "K", 1, series_group)
-
-        lg = rd.group("ledger")
-        accounts = {account: rd.array(account, "J", 1, lg) for account in _LEDGER_ACCOUNTS}
-        labels = rd.texts("friction_labels", lg)
-        split = rd.array("friction_split", "J", 2, lg)
-        if split.shape[0] != len(labels):
-            raise rd.fail("ledger/friction_split and ledger/friction_labels differ in length")
-        ledger = EnergyLedger(**accounts, friction_labels=labels, friction_split=split)
-
-        snaps = rd.group("snapshots")
-        snapshot_times = rd.array("times", "s", 1, snaps)
-        snapshots = rd.array("temperature", "K", 3, snaps)
-        if snapshots.shape[0] != snapshot_times.size:
-            raise rd.fail("snapshots/temperature and snapshots/times differ in length")
-        if snapshots.shape[1:] != cells:
-            raise rd.fail(f"snapshots/temperature holds fields of shape {snapshots.shape[1:]}, not {cells}")
-
-        final = rd.group("final_state")
-        final_readings = {}
-        if "readings" in final:
-            names = rd.texts("reading_names", final)
-            values = rd.array("readings", "K", 1, final)
-            if len(names) != values.size:
-                raise rd.fail("final_state/reading_names and final_state/readings differ in length")
-            final_readings = {name: float(v) for name, v in zip(names, values, strict=True)}
-        final_state = State(
-            time=rd.scalar("time", "s", final),
-            temperature=rd.array("temperature", "K", 1, final),
-            readings=final_readings,
-        )
-
-        ph = rd.group("phases")
-        phase_names = rd.texts("names", ph)
-        starts = rd.array("start", "s", 1, ph)
-        ends = rd.array("end", "s", 1, ph)
-        if not len(phase_names) == starts.size == ends.size:
-            raise rd.fail("phases/names, phases/start and phases/end differ in length")
-        phases = tuple(
-            (name, float(start), float(end)) for name, start, end in zip(phase_names, starts, ends, strict=True)
-        )
-
-    return Result(
-        times=times,
-        probes=probes,
-        readings=readings,
-        series=series,
-        ledger=ledger,
-        snapshot_times=snapshot_times,
-        snapshots=snapshots,
-        r_edges=r_edges,
-        z_edges=z_edges,
-        part_map=part_map,
-        part_names=part_names,
-        part_roles=part_roles,
-        final_state=final_state,
-        phases=phases,
-        end_of_heating=end_of_heating,
-        probe_positions=positions,
-        probe_time_constants=time_constants,
-        metadata=metadata,
-    )
-
-
-def read_case_text(path: str | Path) -> str:
-    """The case text stored in a results file.
-
-    Parameters
-    ----------
-    path : str or Path
-        A file written by :func:`write_result`.
-
-    Returns
-    -------
-    str
-        The case text exactly as written ("" if none was given).
-
-    Raises
-    ------
-    ResultFileError
-        If the file is not a readable heatstack results file.
-    """
-    with _open(path) as rd:
-        return rd.text("text", rd.group("case"))
-
-
-def read_resolved_inputs(path: str | Path) -> dict:
-    """The resolved inputs stored in a results file.
-
-    Parameters
-    ----------
-    path : str or Path
-        A file written by :func:`write_result`.
-
-    Returns
-    -------
-    dict
-        The mapping as written, in plain JSON types [SI] (``{}`` if none was given).
-
-    Raises
-    ------
-    ResultFileError
-        If the file is not a readable heatstack results file.
-    """
-    with _open(path) as rd:
-        return rd.json("resolved_inputs", rd.group("case"))

@@ -1,0 +1,125 @@
+"""Writing a file safely: a new temporary file beside the target, synced to disk, moved into place.
+
+Whatever happens, the target is afterwards either the complete new file or exactly what was
+there before (a file, or nothing). The file is written under a unique hidden name in the
+target's own folder (so the final move never crosses a file system), synced to disk, given
+the permissions of the file it replaces, and moved over the target in one step with
+:func:`os.replace`; the folder is then synced so that the move itself is durable where the
+platform allows it. :func:`~heatstack.resultfile.write_result` takes these steps::
+
+    target = write_target(as_path(path))
+    temp, fd = new_temp_file(target.parent, target.name)
+    try:
+        os.close(fd)
+        ...  # write the whole file at temp
+        move_into_place(temp, target)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            temp.unlink()
+        raise
+    fsync_folder(target.parent)
+
+:func:`as_path` and :func:`os_reason` serve the results file readers as well.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import secrets
+import stat
+from pathlib import Path
+from typing import Any
+
+from .errors import ResultFileError
+
+__all__ = [
+    "as_path",
+    "fsync_folder",
+    "move_into_place",
+    "new_temp_file",
+    "os_reason",
+    "write_target",
+]
+
+
+def as_path(path: Any) -> Path:
+    """``path`` as a :class:`Path`, or a ResultFileError for anything that is not a path."""
+    if isinstance(path, str | os.PathLike):
+        text = os.fspath(path)
+        if isinstance(text, str) and text:
+            return Path(text)
+    raise ResultFileError(f"a results file path must be a non-empty str or Path, got {path!r}")
+
+
+def write_target(path: Path) -> Path:
+    """The file a write to ``path`` replaces: symbolic links are followed to their target."""
+    if path.is_symlink():
+        return Path(os.path.realpath(path))
+    return path
+
+
+def os_reason(exc: OSError) -> str:
+    """The short reason an operating-system call failed ("Permission denied"), for a message."""
+    return exc.strerror or str(exc) or type(exc).__name__
+
+
+def new_temp_file(folder: Path, stem: str) -> tuple[Path, int]:
+    """Create a new, empty, uniquely named hidden file in ``folder``; return it and its descriptor.
+
+    The file is created with mode 0o666 filtered by the umask, as an ordinary new file.
+    """
+    flags = os.O_RDWR | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
+    for _ in range(100):
+        candidate = folder / f".{stem}.{secrets.token_hex(6)}.tmp"
+        try:
+            return candidate, os.open(candidate, flags, 0o666)
+        except FileExistsError:
+            continue
+    raise FileExistsError(f"could not find a free temporary file name in {folder}")
+
+
+def move_into_place(temp: Path, target: Path) -> None:
+    """Sync the finished file ``temp`` to disk, then move it over ``target`` in one step.
+
+    ``temp`` first takes the permission bits of a file already at ``target`` (best effort),
+    so a replaced file keeps its mode; a new file keeps the mode ``temp`` was created with.
+
+    Parameters
+    ----------
+    temp : Path
+        A closed, completely written file in the folder of ``target``.
+    target : Path
+        The file to create or replace.
+
+    Raises
+    ------
+    OSError
+        If syncing or the move fails; ``target`` is then unchanged, and removing ``temp``
+        is left to the caller.
+    """
+    fd = os.open(temp, os.O_RDWR | getattr(os, "O_BINARY", 0))
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+    with contextlib.suppress(OSError):
+        if target.exists():
+            os.chmod(temp, stat.S_IMODE(target.stat().st_mode))
+    os.replace(temp, target)
+
+
+def fsync_folder(folder: Path) -> None:
+    """Make a rename in ``folder`` durable where the platform allows it (best effort)."""
+    if not hasattr(os, "O_DIRECTORY"):
+        return
+    try:
+        fd = os.open(folder, os.O_RDONLY | os.O_DIRECTORY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
