@@ -5,6 +5,12 @@ energy (and optionally a uniform initial temperature and a multiplier on every c
 coefficient) whose simulated sensor reading best matches the trace in the least-squares
 sense, with standard errors from the fit.
 
+Reading a sensor-trace CSV file (:func:`read_sensor_trace`, format in
+:mod:`heatstack.answers.sensor_trace`), the convection multiplier on a schedule
+(:mod:`heatstack.answers.convection_scaling`) and the surrogate and covariance helpers
+(:mod:`heatstack.answers.fit_tools`) live in their own modules; their public names are
+importable from here too.
+
 Method
 ------
 A full run costs seconds, so the fit is done on a cheap *surrogate* of the sensor
@@ -50,20 +56,6 @@ References
 .. [2] Press, W.H., Teukolsky, S.A., Vetterling, W.T., Flannery, B.P., Numerical Recipes,
    3rd ed., Cambridge University Press, 2007, ch. 15 (modeling of data; covariance of the
    fitted parameters).
-
-Sensor-trace CSV format
------------------------
-Two comma-separated columns, time then sensor reading, one sample a row. Blank lines and
-lines starting with ``#`` are skipped. An optional header names the columns
-``time_<unit>,temperature_<unit>`` with any unit pint reads (``time_s,temperature_degC``,
-``time_min,temperature_degF``); without a header the numbers are SI (s, K). Times must
-increase strictly. Example::
-
-    # sensor after a landing, invented numbers
-    time_s,temperature_degC
-    0,15.2
-    30,48.9
-    60,96.0
 """
 
 from __future__ import annotations
@@ -78,13 +70,15 @@ from scipy.optimize import least_squares
 
 from ..errors import HeatstackError, InputError, SolverError
 from ..model import Model
-from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
+from ..numerics.schedule import PowerHistory, Schedule
 from ..numerics.solver import SolverOptions
 from ..operations.duty import DutyCycle
 from ..result import Result, State
-from ..traces import read_trace
 from ..units import to_si
 from ..whatif import check_history_name
+from .convection_scaling import ScaledConvection, scale_convection
+from .fit_tools import _covariance, _Surrogate
+from .sensor_trace import _check_trace, read_sensor_trace
 
 __all__ = [
     "EnergyEstimate",
@@ -111,113 +105,6 @@ class FitError(HeatstackError, RuntimeError):
     def __init__(self, message: str, estimate: EnergyEstimate | None = None):
         super().__init__(message)
         self.estimate = estimate
-
-
-# ---------------------------------------------------------------------------- reading a trace
-
-
-def read_sensor_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Read a sensor trace: times [s] and readings [K].
-
-    Parameters
-    ----------
-    path_or_rows : str or os.PathLike or text stream or iterable of (float, float)
-        A CSV file (``time_<unit>,temperature_<unit>`` header optional; see
-        :mod:`heatstack.traces`), an open text stream of it, or rows of
-        (time [s], temperature [K]).
-
-    Returns
-    -------
-    (ndarray, ndarray)
-        Times [s] and temperatures [K].
-
-    Raises
-    ------
-    InputError
-        Naming the file line (or row) of a non-numeric, short, non-finite or
-        non-increasing entry, a temperature at or below 0 K, a bad header or an
-        unknown unit; or for fewer than two data rows.
-    """
-    times, temperatures, lines = read_trace(path_or_rows, "sensor trace", "temperature", "temperature")
-    cold = np.flatnonzero(~(temperatures > 0))
-    if cold.size:
-        k = int(cold[0])
-        raise InputError(
-            f"{lines[k]}: temperature {temperatures[k]:g} is at or below absolute zero "
-            "(in K; wrong unit in the header?)"
-        )
-    return times, temperatures
-
-
-# ---------------------------------------------------------------------------- convection multiplier
-
-
-@dataclass(frozen=True)
-class ScaledConvection:
-    """A cooling law whose convective coefficient is multiplied by a constant.
-
-    Satisfies :class:`~heatstack.numerics.schedule.BoundaryLaw`; radiation (on or off,
-    and its surroundings) is that of the wrapped law, unchanged.
-
-    Parameters
-    ----------
-    law : BoundaryLaw
-        The law wrapped.
-    multiplier : float
-        Factor on ``h`` [-], finite and >= 0.
-    """
-
-    law: BoundaryLaw
-    multiplier: float
-
-    def __post_init__(self) -> None:
-        if not isinstance(self.law, BoundaryLaw):
-            raise InputError("scaled convection: the wrapped object is not a boundary law")
-        if not (math.isfinite(self.multiplier) and self.multiplier >= 0):
-            raise InputError(f"convection multiplier must be finite and >= 0, got {self.multiplier}")
-
-    @property
-    def ambient_temperature(self) -> float:
-        """Air temperature of the wrapped law [K]."""
-        return self.law.ambient_temperature
-
-    @property
-    def surroundings_temperature(self) -> float:
-        """Radiation surroundings of the wrapped law [K]."""
-        return self.law.surroundings_temperature
-
-    @property
-    def radiation(self) -> bool:
-        """Whether the wrapped law radiates."""
-        return self.law.radiation
-
-    def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
-        """``multiplier`` times the wrapped law's coefficient [W/(m^2 K)]."""
-        return self.multiplier * np.asarray(self.law.convection_coefficient(surface_temperature, time))
-
-
-def scale_convection(schedule: Schedule, multiplier: float) -> Schedule:
-    """A copy of ``schedule`` with every convective coefficient of every phase multiplied.
-
-    Parameters
-    ----------
-    schedule : Schedule
-    multiplier : float
-        Factor on every ``h`` [-]; 1 returns ``schedule`` itself.
-    """
-    if multiplier == 1.0:
-        return schedule
-    phases = [
-        Phase(
-            p.name,
-            p.start,
-            p.end,
-            {group: ScaledConvection(law, float(multiplier)) for group, law in p.laws.items()},
-            p.clamped,
-        )
-        for p in schedule.phases
-    ]
-    return replace(schedule, phases=phases)
 
 
 # ---------------------------------------------------------------------------- the answer
@@ -347,104 +234,6 @@ class _Forward:
 
 
 # ---------------------------------------------------------------------------- the fit
-
-
-def _check_trace(trace_t: Any, trace_T: Any, n_parameters: int) -> tuple[np.ndarray, np.ndarray]:
-    t = np.asarray(trace_t, dtype=float)
-    y = np.asarray(trace_T, dtype=float)
-    if t.ndim != 1 or y.shape != t.shape:
-        raise InputError(f"trace: times and temperatures must be 1-D of equal length, got {t.shape}, {y.shape}")
-    needed = n_parameters + 2
-    if t.size < needed:
-        raise InputError(
-            f"trace: {t.size} points are too few to fit {n_parameters} parameter(s) with an "
-            f"uncertainty; give at least {needed}"
-        )
-    bad = np.flatnonzero(~(np.isfinite(t) & np.isfinite(y)))
-    if bad.size:
-        raise InputError(f"trace row {bad[0] + 1}: non-finite value")
-    steps = np.diff(t)
-    if np.any(steps <= 0):
-        k = int(np.flatnonzero(steps <= 0)[0]) + 1
-        raise InputError(f"trace row {k + 1}: time {t[k]:g} s does not increase from the previous {t[k - 1]:g} s")
-    if np.any(y <= 0):
-        k = int(np.flatnonzero(y <= 0)[0])
-        raise InputError(f"trace row {k + 1}: temperature {y[k]:g} K is not above absolute zero")
-    return t, y
-
-
-class _Surrogate:
-    """``s(t; p) = Q(t; E) + S_T (T0 - T0_g) + S_c (c - c_g) + D``: see the module docstring."""
-
-    def __init__(self, names: tuple[str, ...], t0_ref: float | None, c_ref: float):
-        self.names, self.t0_ref, self.c_ref = names, t0_ref, c_ref
-        self.energy_runs: list[tuple[float, np.ndarray]] = []
-        self.s_t: np.ndarray | None = None
-        self.s_c: np.ndarray | None = None
-        self.defect_at: tuple[np.ndarray, np.ndarray] | None = None  # (p, y_full(p))
-
-    def basis(self, energy: float) -> list[tuple[float, np.ndarray]]:
-        ordered = sorted(self.energy_runs, key=lambda run: abs(run[0] - energy))
-        return sorted(ordered[:3], key=lambda run: run[0])
-
-    @staticmethod
-    def lagrange(points: list[tuple[float, np.ndarray]], energy: float) -> tuple[np.ndarray, np.ndarray]:
-        """Interpolated response and its derivative in energy at ``energy``."""
-        xs = [e for e, _ in points]
-        value = np.zeros_like(points[0][1])
-        slope = np.zeros_like(points[0][1])
-        for k, (xk, yk) in enumerate(points):
-            others = [x for j, x in enumerate(xs) if j != k]
-            denominator = math.prod(xk - x for x in others)
-            weight = math.prod(energy - x for x in others) / denominator
-            if len(others) == 1:
-                derivative = 1.0 / denominator
-            else:
-                derivative = sum(energy - x for x in others) / denominator
-            value += weight * yk
-            slope += derivative * yk
-        return value, slope
-
-    def split(self, p: np.ndarray) -> tuple[float, float | None, float]:
-        values = dict(zip(self.names, p, strict=True))
-        return (
-            float(values["energy"]),
-            float(values["initial_temperature"]) if "initial_temperature" in values else self.t0_ref,
-            float(values.get("convection_multiplier", self.c_ref)),
-        )
-
-    def evaluate(self, p: np.ndarray, points: list[tuple[float, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
-        """Surrogate response (without defect) and Jacobian (n, len(p)) at ``p``."""
-        energy, t0, c = self.split(p)
-        value, slope = self.lagrange(points, energy)
-        columns = [slope]
-        if "initial_temperature" in self.names:
-            value = value + self.s_t * (t0 - self.t0_ref)
-            columns.append(self.s_t)
-        if "convection_multiplier" in self.names:
-            value = value + self.s_c * (c - self.c_ref)
-            columns.append(self.s_c)
-        return value, np.column_stack(columns)
-
-    def defect(self, points: list[tuple[float, np.ndarray]]) -> np.ndarray:
-        if self.defect_at is None:
-            return 0.0
-        p, y = self.defect_at
-        return y - self.evaluate(p, points)[0]
-
-
-def _covariance(jacobian: np.ndarray, residual: np.ndarray) -> tuple[np.ndarray, float]:
-    """``s^2 (J^T J)^-1`` and ``s`` (Bates & Watts 1988, ch. 2), via column scaling."""
-    n, m = jacobian.shape
-    s2 = float(np.dot(residual, residual)) / (n - m)
-    norms = np.linalg.norm(jacobian, axis=0)
-    if np.any(norms <= 0):
-        return np.full((m, m), np.inf), math.sqrt(s2)
-    scaled = jacobian / norms
-    gram = scaled.T @ scaled
-    if np.linalg.cond(gram) > 1e12:
-        return np.full((m, m), np.inf), math.sqrt(s2)
-    return s2 * np.linalg.inv(gram) / np.outer(norms, norms), math.sqrt(s2)
 
 
 def estimate_energy(
