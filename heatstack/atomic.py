@@ -19,7 +19,9 @@ platform allows it. :func:`~heatstack.resultfile.write_result` takes these steps
         raise
     fsync_folder(target.parent)
 
-:func:`as_path` and :func:`os_reason` serve the results file readers as well.
+:func:`write_file_atomically` takes the same steps for any writer (figures, reports, the
+study store's files). :func:`as_path` and :func:`os_reason` serve the results file readers as
+well.
 """
 
 from __future__ import annotations
@@ -28,6 +30,7 @@ import contextlib
 import os
 import secrets
 import stat
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
@@ -39,6 +42,7 @@ __all__ = [
     "move_into_place",
     "new_temp_file",
     "os_reason",
+    "write_file_atomically",
     "write_target",
 ]
 
@@ -123,3 +127,52 @@ def fsync_folder(folder: Path) -> None:
         pass
     finally:
         os.close(fd)
+
+
+def write_file_atomically(path: str | os.PathLike, write: Callable[[Path], None], what: str = "file") -> Path:
+    """Create or replace ``path`` with what ``write`` puts in a temporary file beside it.
+
+    ``write(temp)`` writes the complete file at ``temp`` (and closes it); the file is then
+    synced and moved over ``path`` in one step, so ``path`` is afterwards either the whole
+    new file or exactly what was there before. A new file gets the ordinary mode (0o666
+    filtered by the umask), a replaced file keeps its mode.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file to write (a symbolic link is followed to its target).
+    write : callable
+        Writes the file's whole content at the temporary path it is given.
+    what : str
+        What the file is, for the error message ("figure file", "report file").
+
+    Returns
+    -------
+    Path
+        ``path``.
+
+    Raises
+    ------
+    ResultFileError
+        If the folder refuses the file or the write fails with an operating-system error;
+        the message names ``what``, the path and the reason. Other exceptions from
+        ``write`` pass through. Either way the temporary file is removed.
+    """
+    given = Path(os.fspath(path))
+    target = write_target(given)
+    try:
+        temp, fd = new_temp_file(target.parent, target.name)
+        os.close(fd)
+    except OSError as exc:
+        raise ResultFileError(f"{what} {str(given)!r} cannot be written: {os_reason(exc)}") from None
+    try:
+        write(temp)
+        move_into_place(temp, target)
+    except BaseException as exc:
+        with contextlib.suppress(OSError):
+            temp.unlink()
+        if isinstance(exc, OSError):
+            raise ResultFileError(f"{what} {str(given)!r} cannot be written: {os_reason(exc)}") from None
+        raise
+    fsync_folder(target.parent)
+    return given

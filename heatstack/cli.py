@@ -19,6 +19,7 @@ from importlib import resources
 from pathlib import Path
 
 from . import __version__
+from .atomic import write_file_atomically
 from .errors import HeatstackError, InputError, ResultFileError
 
 __all__ = ["main", "demo_case_path"]
@@ -239,7 +240,8 @@ def _cmd_study(args: argparse.Namespace) -> int:
     report = study_report(run.table, temperature_unit=args.unit)
     print(report)
     if args.report:
-        Path(args.report).write_text(report, encoding="utf-8")
+        text = report
+        write_file_atomically(args.report, lambda temp: temp.write_text(text, encoding="utf-8"), "report file")
     plots = Path(args.plots) if args.plots else store
     if "plug_margin_min" in run.table.columns:
         print(f"plot: {plot_margin_histogram(run.table, plots / 'margin-histogram.png')}")

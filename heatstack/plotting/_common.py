@@ -7,13 +7,13 @@ strip (:data:`CAPTION`), then written through a temporary file beside the target
 from __future__ import annotations
 
 import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
+from ..atomic import write_file_atomically
 from ..errors import InputError, ResultFileError
 from ..result import Result
 from ..units import from_si
@@ -56,33 +56,14 @@ def _target(path: str | os.PathLike) -> tuple[Path, str]:
 
 def _save(fig: Figure, target: Path, fmt: str) -> Path:
     """Write ``fig`` to a temporary file beside ``target``, then move it into place."""
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
-    except OSError as exc:
-        raise ResultFileError(f"figure file {str(target)!r} cannot be written: {exc}") from exc
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            if fmt == "svg":
-                fig.savefig(handle, format="svg", metadata={"Date": None})
-            else:
-                fig.savefig(handle, format="png", dpi=_PNG_DPI)
-        mode = target.stat().st_mode & 0o777 if target.exists() else 0o644
-        os.chmod(tmp, mode)
-        os.replace(tmp, target)
-    except OSError as exc:
-        _remove_quietly(tmp)
-        raise ResultFileError(f"figure file {str(target)!r} cannot be written: {exc}") from exc
-    except BaseException:
-        _remove_quietly(tmp)
-        raise
-    return target
 
+    def write(temp: Path) -> None:
+        if fmt == "svg":
+            fig.savefig(temp, format="svg", metadata={"Date": None})
+        else:
+            fig.savefig(temp, format="png", dpi=_PNG_DPI)
 
-def _remove_quietly(name: str) -> None:
-    try:
-        os.remove(name)
-    except OSError:
-        pass
+    return write_file_atomically(target, write, "figure file")
 
 
 def _check_result(result: Result) -> None:

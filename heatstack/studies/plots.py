@@ -2,21 +2,20 @@
 
 Drawn with matplotlib's object interface (:class:`matplotlib.figure.Figure`, the Agg
 renderer; no pyplot state), in a plain style of our own, each with the caption "Not
-certified data", and written atomically (a temporary file beside the target, then
-:func:`os.replace`). The format follows the suffix: ``.png`` or ``.svg``.
+certified data", and written atomically (:func:`heatstack.atomic.write_file_atomically`).
+The format follows the suffix: ``.png`` or ``.svg``.
 """
 
 from __future__ import annotations
 
-import contextlib
 import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
 from matplotlib.figure import Figure
 
-from ..errors import InputError, ResultFileError
+from ..errors import InputError
+from ..plotting._common import _save, _target
 from .analysis import SensitivityResult, StudyTable, margin_percentiles
 
 __all__ = ["plot_margin_histogram", "plot_tornado", "CAPTION"]
@@ -24,21 +23,10 @@ __all__ = ["plot_margin_histogram", "plot_tornado", "CAPTION"]
 #: Caption on every study figure.
 CAPTION = "Not certified data. Defer to the manufacturer's maintenance data."
 
-_FORMATS = {".png": "png", ".svg": "svg"}
 _INK = "#222222"
 _BAR = "#7a8a99"
 _ACCENT = "#b0413e"
 _MUTED = "#9a9a9a"
-
-
-def _target(path: str | os.PathLike) -> tuple[Path, str]:
-    target = Path(path)
-    fmt = _FORMATS.get(target.suffix.lower())
-    if fmt is None:
-        raise InputError(f"figure file {str(target)!r}: the suffix must be .png or .svg, got {target.suffix!r}")
-    if not target.parent.is_dir():
-        raise ResultFileError(f"figure file {str(target)!r}: folder {str(target.parent)!r} does not exist")
-    return target, fmt
 
 
 def _figure(width: float, height: float) -> Figure:
@@ -59,28 +47,6 @@ def _plain(ax) -> None:
 
 def _caption(fig: Figure, text: str) -> None:
     fig.supxlabel(f"{CAPTION} {text}".strip(), fontsize=7, color=_MUTED)
-
-
-def _save(fig: Figure, target: Path, fmt: str) -> Path:
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
-    except OSError as exc:
-        raise ResultFileError(f"figure file {str(target)!r} cannot be written: {exc}") from None
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            if fmt == "svg":
-                fig.savefig(handle, format="svg", metadata={"Date": None})
-            else:
-                fig.savefig(handle, format="png", dpi=150)
-        os.chmod(tmp, 0o644)
-        os.replace(tmp, target)
-    except BaseException as exc:
-        with contextlib.suppress(OSError):
-            os.remove(tmp)
-        if isinstance(exc, OSError):
-            raise ResultFileError(f"figure file {str(target)!r} cannot be written: {exc}") from None
-        raise
-    return target
 
 
 def plot_margin_histogram(

@@ -40,6 +40,7 @@ from typing import Any
 import h5py
 import numpy as np
 
+from ..atomic import write_file_atomically
 from ..errors import InputError, ResultFileError
 from .analysis import StudyTable, column_unit
 
@@ -77,16 +78,13 @@ def _differences(stored: Mapping, current: Mapping, limit: int = 3) -> str:
 
 
 def _write_atomic(path: Path, fill) -> None:
-    """Write an HDF5 file through a temporary name and :func:`os.replace`."""
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    try:
-        with h5py.File(tmp, "w") as f:
+    """Write an HDF5 file by ``fill(h5)`` through a temporary file moved into place."""
+
+    def write(temp: Path) -> None:
+        with h5py.File(temp, "w") as f:
             fill(f)
-        os.replace(tmp, path)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            tmp.unlink()
-        raise
+
+    write_file_atomically(path, write, "study store file")
 
 
 def _text(value: Any) -> str:
@@ -122,7 +120,7 @@ class StoreSession:
 
         try:
             _write_atomic(path, fill)
-        except OSError as exc:
+        except (OSError, ResultFileError) as exc:
             raise ResultFileError(
                 f"store {str(self.store.root)!r}: case {outcome.index} cannot be written ({exc})"
             ) from None
