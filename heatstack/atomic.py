@@ -5,23 +5,11 @@ there before (a file, or nothing). The file is written under a unique hidden nam
 target's own folder (so the final move never crosses a file system), synced to disk, given
 the permissions of the file it replaces, and moved over the target in one step with
 :func:`os.replace`; the folder is then synced so that the move itself is durable where the
-platform allows it. :func:`~heatstack.resultfile.write_result` takes these steps::
+platform allows it.
 
-    target = write_target(as_path(path))
-    temp, fd = new_temp_file(target.parent, target.name)
-    try:
-        os.close(fd)
-        ...  # write the whole file at temp
-        move_into_place(temp, target)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            temp.unlink()
-        raise
-    fsync_folder(target.parent)
-
-:func:`write_file_atomically` takes the same steps for any writer (figures, reports, the
-study store's files). :func:`as_path` and :func:`os_reason` serve the results file readers as
-well.
+:func:`write_file_atomically` takes these steps for every writer (results files, figures,
+reports, the study store's files). :func:`as_path` and :func:`os_reason` serve the results
+file readers as well.
 """
 
 from __future__ import annotations
@@ -172,7 +160,9 @@ def write_file_atomically(path: str | os.PathLike, write: Callable[[Path], None]
         with contextlib.suppress(OSError):
             temp.unlink()
         if isinstance(exc, OSError):
-            raise ResultFileError(f"{what} {str(given)!r} cannot be written: {os_reason(exc)}") from None
+            raise ResultFileError(
+                f"{what} {str(given)!r} cannot be written: {os_reason(exc)}; any file already there is unchanged"
+            ) from None
         raise
     fsync_folder(target.parent)
     return given

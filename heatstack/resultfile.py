@@ -71,10 +71,9 @@ import numpy as np
 # the safe-write helpers under the private names this module's code has always used
 # (tests replace ``_new_temp`` to make a folder refuse new files)
 from .atomic import as_path as _as_path
-from .atomic import fsync_folder as _fsync_folder
-from .atomic import move_into_place
 from .atomic import new_temp_file as _new_temp
 from .atomic import os_reason as _reason
+from .atomic import write_file_atomically
 from .atomic import write_target as _target
 from .errors import ResultFileError
 from .result import Result
@@ -387,26 +386,15 @@ def write_result(
     metadata_json = _to_json(result.metadata, "result.metadata")
     target = check_writable(path)
 
-    try:
-        temp, fd = _new_temp(target.parent, target.name)
-    except OSError as exc:
-        raise ResultFileError(f"results file {str(path)!r} could not be written ({_reason(exc)})") from None
-    try:
-        os.close(fd)
-        with h5py.File(temp, "w") as h5:
-            _write_content(h5, result, case_text, inputs_json, metadata_json, compression)
-            h5.flush()
-        move_into_place(temp, target)
-    except BaseException as exc:
-        with contextlib.suppress(OSError):
-            temp.unlink()
-        if isinstance(exc, ResultFileError):
-            raise
-        if isinstance(exc, OSError | ValueError | TypeError):
-            detail = _reason(exc) if isinstance(exc, OSError) else str(exc)
+    def write(temp: Path) -> None:
+        try:
+            with h5py.File(temp, "w") as h5:
+                _write_content(h5, result, case_text, inputs_json, metadata_json, compression)
+                h5.flush()
+        except (ValueError, TypeError) as exc:  # h5py refusing a field
             raise ResultFileError(
-                f"results file {str(path)!r} could not be written ({detail}); any file already there is unchanged"
+                f"results file {str(path)!r} could not be written ({exc}); any file already there is unchanged"
             ) from exc
-        raise
-    _fsync_folder(target.parent)
+
+    write_file_atomically(target, write, "results file")
     return target

@@ -550,7 +550,7 @@ class _Integrator:
             try:
                 out = self.step(t, dt, T, H, guess, surf)
             except _StepFailed as failure:
-                if failure.at_guess and guess is not T:
+                if failure.at_guess and not np.array_equal(guess, T):
                     guess = T  # the extrapolated guess left a property table: start from the last state
                     continue
                 self._fail_or_cut(failure, t, dt, cut)
