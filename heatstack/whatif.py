@@ -29,6 +29,7 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError
+from .geometry import HEAT_SINK_MEAN
 from .model import Model
 from .numerics.solver import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
@@ -37,9 +38,6 @@ from .result import Result, State
 from .units import to_si
 
 __all__ = ["CoolingAnswer", "WhatIfAnswer", "cooling_time", "what_if", "history_names"]
-
-_GLOBAL_SERIES = ("heat_sink_mean", "heat_sink_max", "wheel_max")
-
 
 def history_names(model: Model) -> tuple[str, ...]:
     """Names a run of ``model`` records: probe readings, global series, surface means.
@@ -51,16 +49,15 @@ def history_names(model: Model) -> tuple[str, ...]:
     Returns
     -------
     tuple of str
-        Probe names first, then ``heat_sink_mean`` / ``heat_sink_max`` (if the model has
-        heat-sink parts), ``wheel_max`` (if it has wheel parts) and ``surface:<group>``
-        for every exposed-surface group.
+        Probe names first, then the series of every cell group of the assembly that
+        has cells (``heat_sink_mean``, ``heat_sink_max``, ``wheel_max`` for a built wheel
+        and brake) and ``surface:<group>`` for every exposed-surface group.
     """
     net = model.network
     names = list(net.probe_names)
-    if np.any(net.heat_sink):
-        names += ["heat_sink_mean", "heat_sink_max"]
-    if np.any(net.wheel):
-        names.append("wheel_max")
+    for group, cells in zip(net.assembly.cell_groups, net.cell_group_masks, strict=True):
+        if np.any(cells):
+            names += group.series_names
     names += [f"surface:{group}" for group in net.groups]
     return tuple(names)
 
@@ -174,7 +171,7 @@ def cooling_time(
     state: State,
     environment: Environment,
     length_scales: Mapping[str, float],
-    series: str = "heat_sink_mean",
+    series: str = HEAT_SINK_MEAN,
     *,
     below: Any,
     horizon: Any = "6 h",
