@@ -220,11 +220,6 @@ class BuiltWheelBrake:
     fuse_plugs: tuple[FusePlugSpec, ...]
     stack_z: tuple[float, float]
 
-    @property
-    def length_scales(self) -> dict[str, float]:
-        """Characteristic length [m] of each surface group for convection correlations."""
-        return self.assembly.length_scales
-
 
 def _stack(d: WheelBrakeDesign, z0: float) -> tuple[list[Part], float]:
     roles = ["pressure_plate"] + ["rotor", "stator"] * (d.rotors - 1) + ["rotor", "end_plate"]

@@ -53,7 +53,7 @@ class Network:
         in a gap pair, which radiates to its partner instead)
     groups : tuple of str, the exposed-surface group names (face_group indexes it)
     friction_a, friction_b : (s,) cells on either side of each rubbing face
-    friction_weight : (s,) share of the total brake power of each rubbing face (sums to 1)
+    friction_weight : (s,) share of the total friction power of each rubbing face (sums to 1)
     friction_labels : tuple of str, friction_interface : (s,) interface index per face
     cell_group_masks : tuple of (n,) bool, the cells of each of ``assembly.cell_groups``
     probe_names, probe_cells (p, 4), probe_weights (p, 4), probe_time_constants (p,)
