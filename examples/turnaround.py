@@ -48,7 +48,7 @@ def main() -> None:
             DutyPhase("on stand", "40 min", ramp, clamped=False),
         ]
     )
-    result = model.run(arrival.schedule(built.length_scales), initial_temperature=30 + C)
+    result = model.run(arrival.schedule(built.assembly.surfaces), initial_temperature=30 + C)
 
     lag = sensor_lag(result)
     print(f"landing energy per brake: {landing.energy_per_brake / 1e6:.1f} MJ")
@@ -61,7 +61,7 @@ def main() -> None:
         print(f"{plug.name}: peak {plug.peak - C:.0f} degC, margin {plug.margin:.0f} K")
 
     state = result.final_state
-    cool = cooling_time(model, state, ramp, built.length_scales, below="150 degC", horizon="4 h")
+    cool = cooling_time(model, state, ramp, built.assembly.surfaces, below="150 degC", horizon="4 h")
     print(f"after 40 min on stand: {cool.message}")
 
     rto = stop_from_aircraft(
@@ -77,7 +77,7 @@ def main() -> None:
         state,
         rto,
         ramp,
-        built.length_scales,
+        built.assembly.surfaces,
         after="2 h",
         braking_environment=Environment(ambient_temperature="30 degC", ground_speed="65 kt"),
     )

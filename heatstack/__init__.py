@@ -9,7 +9,7 @@ from __future__ import annotations
 from importlib.metadata import PackageNotFoundError, version
 
 from .errors import HeatstackError, InputError, SolverError
-from .geometry import Assembly, Contact, FrictionSettings, GapPair, Part, Probe
+from .geometry import Assembly, CellGroup, Contact, FrictionSettings, GapPair, Part, Probe, RubbingPair, SurfaceGroup
 from .materials import Material, available_materials, load_material, simple_material
 from .model import Model, simulate
 from .numerics.schedule import BoundaryLaw, FixedConvection, Phase, PowerHistory, Schedule
@@ -25,6 +25,7 @@ except PackageNotFoundError:  # running from a source tree that is not installed
 __all__ = [
     "Assembly",
     "BoundaryLaw",
+    "CellGroup",
     "Contact",
     "EnergyLedger",
     "FixedConvection",
@@ -39,10 +40,12 @@ __all__ = [
     "PowerHistory",
     "Probe",
     "Result",
+    "RubbingPair",
     "Schedule",
     "SolverError",
     "SolverOptions",
     "State",
+    "SurfaceGroup",
     "__version__",
     "available_materials",
     "read_result",

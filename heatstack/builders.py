@@ -12,29 +12,53 @@ torque tube's backing flange. The wheel web and hub sit outboard of the brake.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field, replace
 
 from .errors import GeometryError
-from .geometry import Assembly, Contact, FrictionSettings, Part, Probe, ThermalLink
-
-__all__ = ["WheelBrakeDesign", "FusePlugSpec", "BuiltWheelBrake", "build_wheel_brake", "SURFACE_GROUPS"]
-
-#: The exposed-surface groups of a built wheel and brake, for cooling laws.
-SURFACE_GROUPS = (
-    "stack outer diameter",
-    "stack bore",
-    "stack faces",
-    "torque tube",
-    "heat shield",
-    "housing",
-    "rim bore",
-    "tyre cavity",
-    "wheel inboard",
-    "wheel outboard",
-    "hub bore",
-    "tyre bead",
+from .geometry import (
+    Assembly,
+    Contact,
+    FrictionSettings,
+    Part,
+    Probe,
+    SurfaceGroup,
+    ThermalLink,
+    cell_groups_by_role,
+    rubbing_pairs_by_role,
 )
+
+__all__ = [
+    "WheelBrakeDesign",
+    "FusePlugSpec",
+    "BuiltWheelBrake",
+    "build_wheel_brake",
+    "surface_records",
+    "SURFACE_GROUPS",
+    "SURFACE_ORIENTATION",
+]
+
+#: The exposed-surface groups of a built wheel and brake: name, orientation (axle
+#: horizontal: cylinders about the axle, or vertical disc faces) and the characteristic
+#: length [m] for convection correlations (diameter of cylinders, height of vertical faces).
+_SURFACES: tuple[tuple[str, str, Callable[[WheelBrakeDesign], float]], ...] = (
+    ("stack outer diameter", "horizontal_cylinder", lambda d: 2.0 * d.rotor_outer_radius),
+    ("stack bore", "horizontal_cylinder", lambda d: 2.0 * d.stator_inner_radius),
+    ("stack faces", "vertical_plate", lambda d: 2.0 * d.friction_outer_radius),
+    ("torque tube", "horizontal_cylinder", lambda d: 2.0 * d.torque_tube_inner_radius),
+    ("heat shield", "horizontal_cylinder", lambda d: 2.0 * d.heat_shield_inner_radius),
+    ("housing", "horizontal_cylinder", lambda d: 2.0 * d.housing_outer_radius),
+    ("rim bore", "horizontal_cylinder", lambda d: 2.0 * d.rim_inner_radius),
+    ("tyre cavity", "horizontal_cylinder", lambda d: 2.0 * d.rim_outer_radius),
+    ("wheel inboard", "vertical_plate", lambda d: 2.0 * (d.rim_outer_radius + d.flange_height)),
+    ("wheel outboard", "vertical_plate", lambda d: 2.0 * (d.rim_outer_radius + d.flange_height)),
+    ("hub bore", "horizontal_cylinder", lambda d: 2.0 * d.hub_inner_radius),
+    ("tyre bead", "horizontal_cylinder", lambda d: 2.0 * (d.rim_outer_radius + d.bead_height)),
+)
+#: The exposed-surface group names of a built wheel and brake, for cooling laws.
+SURFACE_GROUPS = tuple(name for name, _, _ in _SURFACES)
+#: How each surface group of a built wheel and brake lies.
+SURFACE_ORIENTATION = {name: orientation for name, orientation, _ in _SURFACES}
 
 
 @dataclass(frozen=True)
@@ -183,10 +207,9 @@ class BuiltWheelBrake:
     Attributes
     ----------
     assembly : Assembly
+        Carries the rubbing pairs, the cell groups and the surface records
+        (``assembly.surfaces``).
     design : WheelBrakeDesign
-    length_scales : dict of str to float
-        Characteristic length [m] of each surface group for convection correlations
-        (diameter of cylinders, height of vertical faces).
     fuse_plugs : tuple of FusePlugSpec
     stack_z : (float, float)
         Axial extent of the friction stack [m].
@@ -194,7 +217,6 @@ class BuiltWheelBrake:
 
     assembly: Assembly
     design: WheelBrakeDesign
-    length_scales: dict[str, float]
     fuse_plugs: tuple[FusePlugSpec, ...]
     stack_z: tuple[float, float]
 
@@ -260,6 +282,21 @@ def _wheel(d: WheelBrakeDesign, z_in: float, z_web: float) -> list[Part]:
             "tyre_bead",
         ),
     ]
+
+
+def surface_records(design: WheelBrakeDesign) -> tuple[SurfaceGroup, ...]:
+    """The exposed-surface groups of the built wheel and brake of ``design``, as records.
+
+    Parameters
+    ----------
+    design : WheelBrakeDesign
+
+    Returns
+    -------
+    tuple of SurfaceGroup
+        Name, characteristic length [m] and orientation of every group.
+    """
+    return tuple(SurfaceGroup(name, length(design), orientation) for name, orientation, length in _SURFACES)
 
 
 def _surface_groups() -> dict[str, str]:
@@ -417,23 +454,11 @@ def build_wheel_brake(
         default_contact_conductance=1000.0,
         surface_groups=_surface_groups(),
         friction=FrictionSettings(distribution=d.friction_distribution),
+        rubbing_pairs=rubbing_pairs_by_role(parts),
+        cell_groups=cell_groups_by_role(parts),
+        surfaces=surface_records(d),
     )
-    wheel_height = 2.0 * (d.rim_outer_radius + d.flange_height)
-    scales = {
-        "stack outer diameter": 2.0 * d.rotor_outer_radius,
-        "stack bore": 2.0 * d.stator_inner_radius,
-        "stack faces": 2.0 * d.friction_outer_radius,
-        "torque tube": 2.0 * d.torque_tube_inner_radius,
-        "heat shield": 2.0 * d.heat_shield_inner_radius,
-        "housing": 2.0 * d.housing_outer_radius,
-        "rim bore": 2.0 * d.rim_inner_radius,
-        "tyre cavity": 2.0 * d.rim_outer_radius,
-        "wheel inboard": wheel_height,
-        "wheel outboard": wheel_height,
-        "hub bore": 2.0 * d.hub_inner_radius,
-        "tyre bead": 2.0 * (d.rim_outer_radius + d.bead_height),
-    }
-    return BuiltWheelBrake(assembly, d, scales, tuple(d.fuse_plugs), (z_stack0, z_stack1))
+    return BuiltWheelBrake(assembly, d, tuple(d.fuse_plugs), (z_stack0, z_stack1))
 
 
 def _apply_replacements(parts: list[Part], replacements: Sequence[Part]) -> list[Part]:

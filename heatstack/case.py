@@ -12,15 +12,26 @@ import difflib
 import inspect
 import tomllib
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, field, fields, replace
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
-from .builders import BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
+from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
 from .errors import HeatstackError, InputError
-from .geometry import ROLES, Assembly, Contact, FrictionSettings, Part, Probe
+from .geometry import (
+    HEAT_SINK_MEAN,
+    ROLES,
+    Assembly,
+    Contact,
+    FrictionSettings,
+    Part,
+    Probe,
+    SurfaceGroup,
+    cell_groups_by_role,
+    rubbing_pairs_by_role,
+)
 from .materials import Material, material_from_mapping
 from .model import Model
 from .numerics.solver import SolverOptions
@@ -134,7 +145,7 @@ class OutputSettings:
     temperature_unit: str = "degC"
     limits: Mapping[str, float] = field(default_factory=dict)
     cooling_below: float | None = None
-    cooling_series: str = "heat_sink_mean"
+    cooling_series: str = HEAT_SINK_MEAN
 
 
 @dataclass(frozen=True, eq=False)
@@ -153,8 +164,6 @@ class Case:
         Target cell size [m].
     min_cells : int
     duty : DutyCycle
-    length_scales : dict of str to float
-        Length [m] of every exposed-surface group, for the cooling laws.
     initial_temperature : float
         [K].
     solver : SolverOptions
@@ -175,7 +184,6 @@ class Case:
     cell_size: tuple[float, float]
     min_cells: int
     duty: DutyCycle
-    length_scales: dict[str, float]
     initial_temperature: float
     solver: SolverOptions
     output: OutputSettings
@@ -332,7 +340,7 @@ def _contact(t: _Table) -> Contact:
     return Contact(**{pair_key: tuple(pair)}, clamped=clamped, released=released)
 
 
-def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, dict[str, float], tuple]:
+def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, tuple]:
     builder = table.text("builder", "wheel-brake")
     if builder not in ("wheel-brake", "none"):
         raise InputError(f"{table.where('builder')}: expected 'wheel-brake' or 'none', got {builder!r}")
@@ -346,12 +354,26 @@ def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, dict[str
         groups_table = table.table("surface_groups", {})
         groups = {k: groups_table.text(k) for k in groups_table.data}
         scales_table = table.table("length_scales", {})
-        scales = {k: scales_table.quantity(k, "length") for k in scales_table.data}
+        # a group named like one of the built wheel's lies as it does there
+        surfaces = [
+            SurfaceGroup(k, scales_table.quantity(k, "length"), SURFACE_ORIENTATION.get(k, "horizontal_cylinder"))
+            for k in scales_table.data
+        ]
         default_h = table.quantity("default_contact_conductance", "heat_transfer_coefficient", None)
         distribution = table.text("friction_distribution", "uniform_pressure")
         table.finish()
-        assembly = Assembly(parts, contacts, probes, default_h, groups, FrictionSettings(distribution))
-        return assembly, None, scales, ()
+        assembly = Assembly(
+            parts,
+            contacts,
+            probes,
+            default_h,
+            groups,
+            FrictionSettings(distribution),
+            rubbing_pairs=rubbing_pairs_by_role(parts),
+            cell_groups=cell_groups_by_role(parts),
+            surfaces=surfaces,
+        )
+        return assembly, None, ()
     design_table = table.table("design", {})
     design = _design(design_table)
     plugs = _fuse_plugs(table.tables("fuse_plugs"))
@@ -361,18 +383,8 @@ def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, dict[str
     built = build_wheel_brake(design, extra_parts=parts, extra_probes=probes)
     assembly = built.assembly
     if contacts:
-        assembly = Assembly(
-            assembly.parts,
-            [*contacts, *assembly.contacts],
-            assembly.probes,
-            assembly.default_contact_conductance,
-            assembly.surface_groups,
-            assembly.friction,
-            assembly.gap_radiation,
-            assembly.gap_pairs,
-            assembly.links,
-        )
-    return assembly, built, dict(built.length_scales), built.fuse_plugs
+        assembly = replace(assembly, contacts=[*contacts, *assembly.contacts])
+    return assembly, built, built.fuse_plugs
 
 
 def _environment(t: _Table) -> Environment:
@@ -469,7 +481,7 @@ def _output(t: _Table) -> OutputSettings:
         unit,
         limits,
         t.quantity("cooling_below", "temperature", None),
-        t.text("cooling_series", "heat_sink_mean"),
+        t.text("cooling_series", HEAT_SINK_MEAN),
     )
     t.finish()
     return out
@@ -550,13 +562,13 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     min_cells = assembly_table.integer("min_cells", 3, minimum=1)
     if not (cell_r > 0 and cell_z > 0):
         raise InputError("assembly.cell_size: must be > 0")
-    assembly, built, scales, plugs = _assembly(assembly_table)
+    assembly, built, plugs = _assembly(assembly_table)
     duty = _duty(root.table("duty"), base)
     solver = _solver(root.table("solver", {}))
     output = _output(root.table("output", {}))
     tyre = _tyre(root.table("tyre", {}), built)
     root.finish(("case", "materials", "assembly", "duty", "solver", "output", "tyre"))
-    known = {p.name for p in assembly.probes} | {"heat_sink_mean", "heat_sink_max", "wheel_max"}
+    known = {p.name for p in assembly.probes} | {s for g in assembly.cell_groups for s in g.series_names}
     for name in output.limits:
         if name not in known:
             close = difflib.get_close_matches(name, sorted(known), n=1)
@@ -570,7 +582,6 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
         (cell_r, cell_z),
         min_cells,
         duty,
-        scales,
         initial,
         solver,
         output,
@@ -599,7 +610,7 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     ``progress`` is called with the simulated time [s] after every step.
     """
     model = model or case.build_model()
-    schedule = case.duty.schedule(case.length_scales)
+    schedule = case.duty.schedule(case.assembly.surfaces)
     result = model.run(schedule, case.initial_temperature, case.solver, progress)
     result.metadata.update({"case_title": case.title, "case_origin": case.origin})
     return result

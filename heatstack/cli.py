@@ -21,6 +21,7 @@ from pathlib import Path
 from . import __version__
 from .atomic import write_file_atomically
 from .errors import HeatstackError, InputError, ResultFileError
+from .geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN
 
 __all__ = ["main", "demo_case_path"]
 
@@ -52,7 +53,7 @@ def _write_plots(result, folder: Path, unit: str) -> list[Path]:
     from .plotting import plot_field, plot_histories, plot_sensor_offset, plot_why_the_gauge_lags
 
     written = [plot_histories(result, folder / "histories.png", unit=unit)]
-    if "sensor" in result.readings and "heat_sink_mean" in result.series:
+    if "sensor" in result.readings and HEAT_SINK_MEAN in result.series:
         written.append(plot_sensor_offset(result, folder / "sensor-offset.png", unit=unit))
         written.append(plot_why_the_gauge_lags(result, folder / "why-the-gauge-lags.png", unit=unit))
     for t in result.snapshot_times[1:-1]:
@@ -129,7 +130,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
     print(
         f"rubbing interfaces: {len(model.network.friction_labels)}; surface groups: {', '.join(model.network.groups)}"
     )
-    missing = sorted(set(model.network.groups) - set(case.length_scales))
+    missing = sorted(set(model.network.groups) - {s.name for s in case.assembly.surfaces})
     if missing:
         raise InputError(f"surface groups without a length scale (no cooling law): {', '.join(missing)}")
     energy = sum(row["energy_per_brake"] for row in case.duty.energy_summary())
@@ -192,7 +193,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     estimate = estimate_energy(
         model,
         case.duty,
-        case.length_scales,
+        case.assembly.surfaces,
         t,
         T,
         case.initial_temperature,
@@ -207,7 +208,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     if estimate.message:
         print(estimate.message)
     predicted = estimate.predicted
-    for name in ("heat_sink_mean", "heat_sink_max", *[p.name for p in case.fuse_plugs]):
+    for name in (HEAT_SINK_MEAN, HEAT_SINK_MAX, *[p.name for p in case.fuse_plugs]):
         if name in predicted.readings or name in predicted.series:
             value, when = predicted.peak(name)
             print(f"  predicted {name:16s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min")

@@ -3,6 +3,13 @@
 An :class:`Assembly` is a plain, immutable description. Every length is in [m], every
 conductance in [W/(m^2 K)], every temperature in [K]. Nothing here is meshed; the grid
 module turns an assembly into cells.
+
+The trade knowledge the numerics needs is handed down as data: which parts rub
+(:class:`RubbingPair`), which cells are averaged or searched for their hottest value
+(:class:`CellGroup`) and how each exposed-surface group lies (:class:`SurfaceGroup`).
+A part's ``role`` is a trade label from which the builder and the case reader derive
+that data (:func:`rubbing_pairs_by_role`, :func:`cell_groups_by_role`); the numerics
+never reads it.
 """
 
 from __future__ import annotations
@@ -18,14 +25,29 @@ from .errors import GeometryError
 __all__ = [
     "ROLES",
     "HEAT_SINK_ROLES",
+    "NON_ROTATING_STACK_ROLES",
     "SIDES",
+    "CELL_STATISTICS",
+    "SURFACE_ORIENTATIONS",
+    "HEAT_SINK",
+    "WHEEL",
+    "HEAT_SINK_MEAN",
+    "HEAT_SINK_MAX",
+    "WHEEL_MAX",
+    "GLOBAL_SERIES",
+    "series_name",
     "Part",
     "Contact",
     "Probe",
     "FrictionSettings",
     "GapPair",
     "ThermalLink",
+    "RubbingPair",
+    "CellGroup",
+    "SurfaceGroup",
     "Assembly",
+    "rubbing_pairs_by_role",
+    "cell_groups_by_role",
 ]
 
 #: Roles a part may play. Rubbing interfaces are found between a rotor and a
@@ -45,6 +67,27 @@ HEAT_SINK_ROLES = ("rotor", "stator", "pressure_plate", "end_plate")
 NON_ROTATING_STACK_ROLES = ("stator", "pressure_plate", "end_plate")
 #: Sides of an annular block: inner and outer cylinders, bottom (z_min) and top (z_max) faces.
 SIDES = ("inner", "outer", "bottom", "top")
+#: Statistics a cell group can be recorded with: the mass-weighted mean and the hottest cell.
+CELL_STATISTICS = ("mean", "max")
+#: How an exposed surface lies, for the convection correlations (axle horizontal).
+SURFACE_ORIENTATIONS = ("vertical_plate", "horizontal_cylinder", "horizontal_plate_up", "horizontal_plate_down")
+
+#: Cell groups the builder declares: the heat sink (rotors, stators, pressure and end
+#: plates) and the wheel.
+HEAT_SINK = "heat_sink"
+WHEEL = "wheel"
+
+
+def series_name(group: str, statistic: str) -> str:
+    """Name of the recorded series of ``statistic`` over the cell group ``group``, e.g. ``"wheel_max"``."""
+    return f"{group}_{statistic}"
+
+
+#: The global series of a built wheel and brake, as recorded in results files.
+HEAT_SINK_MEAN = series_name(HEAT_SINK, "mean")
+HEAT_SINK_MAX = series_name(HEAT_SINK, "max")
+WHEEL_MAX = series_name(WHEEL, "max")
+GLOBAL_SERIES = (HEAT_SINK_MEAN, HEAT_SINK_MAX, WHEEL_MAX)
 
 
 def _positive(value: float, what: str) -> float:
@@ -274,6 +317,155 @@ class ThermalLink:
 
 
 @dataclass(frozen=True)
+class RubbingPair:
+    """Two parts whose touching axial faces rub while braking (friction power enters there).
+
+    Parameters
+    ----------
+    part_a, part_b : str
+        The two part names (order does not matter).
+    """
+
+    part_a: str
+    part_b: str
+
+    def __post_init__(self) -> None:
+        for name in (self.part_a, self.part_b):
+            if not name or not isinstance(name, str):
+                raise GeometryError(f"rubbing pair: part names must be non-empty strings, got {name!r}")
+        if self.part_a == self.part_b:
+            raise GeometryError(f"rubbing pair: a part cannot rub on itself ({self.part_a!r})")
+
+    @property
+    def label(self) -> str:
+        """Readable name, e.g. ``"rotor 1 / stator 1"``."""
+        return f"{self.part_a} / {self.part_b}"
+
+
+@dataclass(frozen=True)
+class CellGroup:
+    """Cells of some parts whose temperatures are recorded as global series.
+
+    Each statistic gives one series named :func:`series_name` (``"<name>_<statistic>"``):
+    ``"mean"`` the mass-weighted mean temperature, ``"max"`` the hottest cell [K].
+
+    Parameters
+    ----------
+    name : str
+        Group name, e.g. ``"heat_sink"``.
+    parts : tuple of str
+        Names of the parts in the group.
+    statistics : tuple of str
+        Some of :data:`CELL_STATISTICS`.
+    """
+
+    name: str
+    parts: tuple[str, ...]
+    statistics: tuple[str, ...] = CELL_STATISTICS
+
+    def __post_init__(self) -> None:
+        if not self.name or not isinstance(self.name, str):
+            raise GeometryError(f"cell group name must be a non-empty string, got {self.name!r}")
+        object.__setattr__(self, "parts", tuple(self.parts))
+        object.__setattr__(self, "statistics", tuple(self.statistics))
+        if not self.parts:
+            raise GeometryError(f"cell group {self.name!r}: needs at least one part")
+        if not self.statistics:
+            raise GeometryError(f"cell group {self.name!r}: needs at least one statistic")
+        for statistic in self.statistics:
+            if statistic not in CELL_STATISTICS:
+                raise GeometryError(
+                    f"cell group {self.name!r}: statistic {statistic!r} is not one of {CELL_STATISTICS}"
+                )
+        if len(set(self.statistics)) != len(self.statistics):
+            raise GeometryError(f"cell group {self.name!r}: a statistic is listed twice")
+
+    @property
+    def series_names(self) -> tuple[str, ...]:
+        """Names of the recorded series, one per statistic."""
+        return tuple(series_name(self.name, statistic) for statistic in self.statistics)
+
+
+@dataclass(frozen=True)
+class SurfaceGroup:
+    """An exposed-surface group as the cooling laws see it.
+
+    Parameters
+    ----------
+    name : str
+        Group name, as given by :attr:`Assembly.surface_groups` (e.g. ``"rim bore"``).
+    length : float
+        Characteristic length [m] for convection correlations (diameter of a
+        cylinder, height of a vertical face).
+    orientation : str
+        One of :data:`SURFACE_ORIENTATIONS`.
+    """
+
+    name: str
+    length: float
+    orientation: str = "horizontal_cylinder"
+
+    def __post_init__(self) -> None:
+        if not self.name or not isinstance(self.name, str):
+            raise GeometryError(f"surface group name must be a non-empty string, got {self.name!r}")
+        object.__setattr__(self, "length", _positive(self.length, f"surface group {self.name!r}: length"))
+        if self.orientation not in SURFACE_ORIENTATIONS:
+            raise GeometryError(
+                f"surface group {self.name!r}: orientation {self.orientation!r} is not one of {SURFACE_ORIENTATIONS}"
+            )
+
+
+def _touch_axially(a: Part, b: Part) -> bool:
+    """Whether an axial face of ``a`` lies on one of ``b`` with some radial overlap."""
+    tol = 1e-12 * max(a.r_outer, b.r_outer, abs(a.z_max), abs(b.z_max), 1.0)
+    overlap = min(a.r_outer, b.r_outer) - max(a.r_inner, b.r_inner)
+    return overlap > tol and (abs(a.z_max - b.z_min) <= tol or abs(b.z_max - a.z_min) <= tol)
+
+
+def rubbing_pairs_by_role(parts: Sequence[Part]) -> tuple[RubbingPair, ...]:
+    """The rubbing pairs of a brake stack found from the part roles.
+
+    A rotor rubs on every stator, pressure plate or end plate it touches across an
+    axial face (common practice, no source).
+
+    Parameters
+    ----------
+    parts : sequence of Part
+
+    Returns
+    -------
+    tuple of RubbingPair
+    """
+    rotors = [p for p in parts if p.role == "rotor"]
+    stack = [p for p in parts if p.role in NON_ROTATING_STACK_ROLES]
+    return tuple(RubbingPair(r.name, s.name) for r in rotors for s in stack if _touch_axially(r, s))
+
+
+def cell_groups_by_role(parts: Sequence[Part]) -> tuple[CellGroup, ...]:
+    """The cell groups of a wheel and brake found from the part roles.
+
+    ``heat_sink`` (mean and hottest cell) holds the rotors, stators, pressure and end
+    plates; ``wheel`` (hottest cell) the wheel parts. A group with no parts is left out.
+
+    Parameters
+    ----------
+    parts : sequence of Part
+
+    Returns
+    -------
+    tuple of CellGroup
+    """
+    sink = tuple(p.name for p in parts if p.role in HEAT_SINK_ROLES)
+    wheel = tuple(p.name for p in parts if p.role == "wheel")
+    groups = []
+    if sink:
+        groups.append(CellGroup(HEAT_SINK, sink, CELL_STATISTICS))
+    if wheel:
+        groups.append(CellGroup(WHEEL, wheel, ("max",)))
+    return tuple(groups)
+
+
+@dataclass(frozen=True)
 class Assembly:
     """The whole axisymmetric model: parts, contacts, probes and surface groups.
 
@@ -300,6 +492,14 @@ class Assembly:
         Declared radiation exchanges.
     links : sequence of ThermalLink
         Conduction paths that are not parts (drive keys, bolts).
+    rubbing_pairs : sequence of RubbingPair, optional
+        Parts that rub; the brake power enters at their touching axial faces. Default:
+        :func:`rubbing_pairs_by_role`.
+    cell_groups : sequence of CellGroup, optional
+        Groups of parts recorded as global series. Default: :func:`cell_groups_by_role`.
+    surfaces : sequence of SurfaceGroup
+        Characteristic length and orientation of exposed-surface groups, for cooling
+        laws (see :meth:`heatstack.operations.duty.DutyCycle.schedule`).
     """
 
     parts: Sequence[Part]
@@ -311,6 +511,9 @@ class Assembly:
     gap_radiation: bool = True
     gap_pairs: Sequence[GapPair] = ()
     links: Sequence[ThermalLink] = ()
+    rubbing_pairs: Sequence[RubbingPair] | None = None
+    cell_groups: Sequence[CellGroup] | None = None
+    surfaces: Sequence[SurfaceGroup] = ()
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "parts", tuple(self.parts))
@@ -339,6 +542,40 @@ class Assembly:
         for probe in self.probes:
             self.owner_of(probe)
         self._check_surface_group_keys(names)
+        self._settle_trade_data(names)
+
+    def _settle_trade_data(self, names: set[str]) -> None:
+        """Fill in the default rubbing pairs and cell groups and check all three kinds of record."""
+        pairs = rubbing_pairs_by_role(self.parts) if self.rubbing_pairs is None else tuple(self.rubbing_pairs)
+        groups = cell_groups_by_role(self.parts) if self.cell_groups is None else tuple(self.cell_groups)
+        object.__setattr__(self, "rubbing_pairs", pairs)
+        object.__setattr__(self, "cell_groups", groups)
+        object.__setattr__(self, "surfaces", tuple(self.surfaces))
+        seen_pairs: set[frozenset[str]] = set()
+        for pair in pairs:
+            if not isinstance(pair, RubbingPair):
+                raise GeometryError(f"rubbing pairs: expected RubbingPair records, got {type(pair).__name__}")
+            for name in (pair.part_a, pair.part_b):
+                if name not in names:
+                    raise GeometryError(f"rubbing pair {pair.label!r}: no part named {name!r}")
+            key = frozenset((pair.part_a, pair.part_b))
+            if key in seen_pairs:
+                raise GeometryError(f"rubbing pair {pair.label!r} is given twice")
+            seen_pairs.add(key)
+        for group in groups:
+            if not isinstance(group, CellGroup):
+                raise GeometryError(f"cell groups: expected CellGroup records, got {type(group).__name__}")
+            for name in group.parts:
+                if name not in names:
+                    raise GeometryError(f"cell group {group.name!r}: no part named {name!r}")
+        series = [s for g in groups for s in g.series_names]
+        for name in series:
+            if series.count(name) > 1:
+                raise GeometryError(f"cell groups: two groups record a series named {name!r}")
+        for surface in self.surfaces:
+            if not isinstance(surface, SurfaceGroup):
+                raise GeometryError(f"surfaces: expected SurfaceGroup records, got {type(surface).__name__}")
+        self._check_unique("surface record", [s.name for s in self.surfaces])
 
     @staticmethod
     def _check_unique(kind: str, names: list[str]) -> None:
@@ -366,6 +603,16 @@ class Assembly:
                     raise GeometryError(f"surface group key {key!r}: unknown role {target[1:]!r}")
             elif target not in names:
                 raise GeometryError(f"surface group key {key!r}: no part named {target!r}")
+
+    @property
+    def part_roles(self) -> tuple[str, ...]:
+        """The trade label of each part, in part order (kept in results files)."""
+        return tuple(p.role for p in self.parts)
+
+    @property
+    def length_scales(self) -> dict[str, float]:
+        """Characteristic length [m] of each surface group in :attr:`surfaces`."""
+        return {s.name: s.length for s in self.surfaces}
 
     def part(self, name: str) -> Part:
         """The part called ``name``."""

@@ -20,6 +20,7 @@ from .answers.fuse_plugs import assess_fuse_plugs
 from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_margin
 from .builders import FusePlugSpec
 from .errors import InputError
+from .geometry import GLOBAL_SERIES, HEAT_SINK_MEAN
 from .result import Result
 from .units import from_si
 
@@ -59,7 +60,7 @@ class ReportSettings:
     tyre: TyreSettings | None = None
     cold_temperature: float = 288.15
     cooling_below: float | None = None
-    cooling_series: str = "heat_sink_mean"
+    cooling_series: str = HEAT_SINK_MEAN
     band: float = 10.0
     sensor: str = "sensor"
     title: str = ""
@@ -103,7 +104,7 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         "end_of_braking_min": _minutes(result.end_of_heating),
         "phases": [{"name": n, "start_min": _minutes(a), "end_min": _minutes(b)} for n, a, b in result.phases],
     }
-    names = list(result.readings) + [s for s in ("heat_sink_mean", "heat_sink_max", "wheel_max") if s in result.series]
+    names = list(result.readings) + [s for s in GLOBAL_SERIES if s in result.series]
     report["peaks"] = [
         {
             "name": p.name,
@@ -113,7 +114,7 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         }
         for p in (peak(result, name) for name in names)
     ]
-    if settings.sensor in result.readings and "heat_sink_mean" in result.series:
+    if settings.sensor in result.readings and HEAT_SINK_MEAN in result.series:
         lag = sensor_lag(result, settings.sensor, settings.band)
         report["sensor"] = {
             "name": lag.sensor,

@@ -29,6 +29,7 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError
+from .geometry import HEAT_SINK_MEAN, SurfaceGroup
 from .model import Model
 from .numerics.solver import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
@@ -37,8 +38,6 @@ from .result import Result, State
 from .units import to_si
 
 __all__ = ["CoolingAnswer", "WhatIfAnswer", "cooling_time", "what_if", "history_names"]
-
-_GLOBAL_SERIES = ("heat_sink_mean", "heat_sink_max", "wheel_max")
 
 
 def history_names(model: Model) -> tuple[str, ...]:
@@ -51,16 +50,15 @@ def history_names(model: Model) -> tuple[str, ...]:
     Returns
     -------
     tuple of str
-        Probe names first, then ``heat_sink_mean`` / ``heat_sink_max`` (if the model has
-        heat-sink parts), ``wheel_max`` (if it has wheel parts) and ``surface:<group>``
-        for every exposed-surface group.
+        Probe names first, then the series of every cell group of the assembly that
+        has cells (``heat_sink_mean``, ``heat_sink_max``, ``wheel_max`` for a built wheel
+        and brake) and ``surface:<group>`` for every exposed-surface group.
     """
     net = model.network
     names = list(net.probe_names)
-    if np.any(net.heat_sink):
-        names += ["heat_sink_mean", "heat_sink_max"]
-    if np.any(net.wheel):
-        names.append("wheel_max")
+    for group, cells in zip(net.assembly.cell_groups, net.cell_group_masks, strict=True):
+        if np.any(cells):
+            names += group.series_names
     names += [f"surface:{group}" for group in net.groups]
     return tuple(names)
 
@@ -85,11 +83,14 @@ def _check_state(model: Model, state: State) -> None:
         raise InputError(f"state: time must be finite, got {state.time}")
 
 
-def _check_length_scales(model: Model, length_scales: Mapping[str, float]) -> None:
-    missing = [group for group in model.network.groups if group not in length_scales]
+def _check_surfaces(model: Model, surfaces: Sequence[SurfaceGroup]) -> None:
+    if isinstance(surfaces, Mapping | str) or not all(isinstance(s, SurfaceGroup) for s in surfaces):
+        raise InputError("surfaces: expected SurfaceGroup records (e.g. the assembly's 'surfaces')")
+    given = {s.name for s in surfaces}
+    missing = [group for group in model.network.groups if group not in given]
     if missing:
         raise InputError(
-            f"length_scales: no length scale for the surface group(s) {missing}; give one for every "
+            f"surfaces: no surface record for the surface group(s) {missing}; give one for every "
             f"group of the model {list(model.network.groups)}"
         )
 
@@ -173,8 +174,8 @@ def cooling_time(
     model: Model,
     state: State,
     environment: Environment,
-    length_scales: Mapping[str, float],
-    series: str = "heat_sink_mean",
+    surfaces: Sequence[SurfaceGroup],
+    series: str = HEAT_SINK_MEAN,
     *,
     below: Any,
     horizon: Any = "6 h",
@@ -197,10 +198,10 @@ def cooling_time(
         Saved state ("now"), e.g. ``result.final_state`` of the arrival run.
     environment : Environment
         Cooling conditions while parked.
-    length_scales : mapping of str to float
-        Characteristic length [m] of every exposed-surface group of the model (a built
-        wheel's ``length_scales``; for a hand-made assembly the groups are
-        ``"part:side"``).
+    surfaces : sequence of SurfaceGroup
+        Characteristic length [m] and orientation of every exposed-surface group of the
+        model (a built wheel's ``assembly.surfaces``; for a hand-made assembly the groups
+        are ``"part:side"`` unless named).
     series : str
         A probe name (its instrument reading) or a global series (``heat_sink_mean``,
         ``heat_sink_max``, ``wheel_max``, ``surface:<group>``).
@@ -233,13 +234,13 @@ def cooling_time(
     """
     check_history_name(model, series, "series")
     _check_state(model, state)
-    _check_length_scales(model, length_scales)
+    _check_surfaces(model, surfaces)
     if not isinstance(environment, Environment):
         raise InputError(f"environment: expected an Environment, got {type(environment).__name__}")
     threshold = _temperature(below, "below")
     duration = _positive_time(horizon, "horizon")
     duty = DutyCycle([DutyPhase("parked", duration, environment, clamped=bool(clamped))])
-    result = model.run(duty.schedule(length_scales, start=float(state.time)), state, options)
+    result = model.run(duty.schedule(surfaces, start=float(state.time)), state, options)
     values = result.history(series)
     needed = _time_below(result.times, values, threshold)
     start, final, peak = float(values[0]), float(values[-1]), float(np.max(values))
@@ -311,7 +312,7 @@ def what_if(
     state: State,
     event: BrakingEvent | None,
     environment: Environment,
-    length_scales: Mapping[str, float],
+    surfaces: Sequence[SurfaceGroup],
     after: Any = "3 h",
     probes: Sequence[str] | None = None,
     *,
@@ -337,8 +338,8 @@ def what_if(
         from now [s] and must start at or after 0.
     environment : Environment
         Cooling conditions after the event.
-    length_scales : mapping of str to float
-        Characteristic length [m] of every exposed-surface group of the model.
+    surfaces : sequence of SurfaceGroup
+        Characteristic length [m] and orientation of every exposed-surface group of the model.
     after : float or str
         Cooling time watched after the event [s] (or e.g. ``"3 h"``); the peaks of the
         wheel and fuse plugs come long after the stop.
@@ -367,7 +368,7 @@ def what_if(
     for name in names:
         check_history_name(model, name, "probes")
     _check_state(model, state)
-    _check_length_scales(model, length_scales)
+    _check_surfaces(model, surfaces)
     for label, env in (("environment", environment), ("braking_environment", braking_environment)):
         if env is not None and not isinstance(env, Environment):
             raise InputError(f"{label}: expected an Environment, got {type(env).__name__}")
@@ -384,7 +385,7 @@ def what_if(
     phases.append(DutyPhase("after", cooling, environment, clamped=bool(clamped_after)))
     duty = DutyCycle(phases)
     t0 = float(state.time)
-    result = model.run(duty.schedule(length_scales, start=t0), state, options)
+    result = model.run(duty.schedule(surfaces, start=t0), state, options)
     peaks = {}
     now = {}
     for name in names:

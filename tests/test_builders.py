@@ -26,7 +26,7 @@ def test_number_of_rubbing_interfaces_is_twice_the_rotors():
 def test_every_meshed_surface_group_has_a_length_scale():
     built = build_wheel_brake()
     model = Model.build(built.assembly, cell_size=0.006)
-    assert set(model.network.groups) <= set(built.length_scales) == set(SURFACE_GROUPS)
+    assert set(model.network.groups) <= set(built.assembly.length_scales) == set(SURFACE_GROUPS)
 
 
 def test_stack_height_follows_the_design_numbers():

@@ -41,7 +41,7 @@ def landing_cycle() -> DutyCycle:
 
 def test_schedule_phases_follow_each_other_without_gaps():
     built = build_wheel_brake()
-    schedule = landing_cycle().schedule(built.length_scales)
+    schedule = landing_cycle().schedule(built.assembly.surfaces)
     starts = [p.start for p in schedule.phases]
     ends = [p.end for p in schedule.phases]
     assert starts[0] == 0.0 and np.allclose(starts[1:], ends[:-1])
@@ -52,12 +52,12 @@ def test_schedule_phases_follow_each_other_without_gaps():
 def test_schedule_power_delivers_the_events_energy():
     cycle = landing_cycle()
     total = sum(row["energy_per_brake"] for row in cycle.energy_summary())
-    schedule = cycle.schedule(build_wheel_brake().length_scales)
+    schedule = cycle.schedule(build_wheel_brake().assembly.surfaces)
     assert schedule.power.total_energy == pytest.approx(total, rel=1e-12)
 
 
 def test_rolling_wheel_gets_mixed_convection_and_parked_wheel_natural():
-    scales = build_wheel_brake().length_scales
+    scales = build_wheel_brake().assembly.surfaces
     rolling = Environment(ground_speed=20.0).laws(scales, 0.5)
     parked = Environment().laws(scales, 0.5)
     assert isinstance(rolling["stack outer diameter"], MixedConvection)
@@ -69,7 +69,7 @@ def test_landing_turnaround_and_parking_run_with_a_closing_ledger():
     built = build_wheel_brake()
     model = Model.build(built.assembly, cell_size=0.006)
     cycle = landing_cycle()
-    result = model.run(cycle.schedule(built.length_scales), 298.15)
+    result = model.run(cycle.schedule(built.assembly.surfaces), 298.15)
     ledger = result.ledger
     assert ledger.heat_in[-1] == pytest.approx(sum(r["energy_per_brake"] for r in cycle.energy_summary()))
     assert ledger.relative_closure_error < 1e-9
@@ -83,9 +83,9 @@ def test_chained_run_starts_from_the_saved_state():
     built = build_wheel_brake()
     model = Model.build(built.assembly, cell_size=0.008)
     first = DutyCycle([DutyPhase("stop", 20, Environment(), [stop_from_energy("5 MJ", "20 s")])])
-    r1 = model.run(first.schedule(built.length_scales), 293.15)
+    r1 = model.run(first.schedule(built.assembly.surfaces), 293.15)
     second = DutyCycle([DutyPhase("parked", "10 min", Environment())])
-    r2 = model.run(second.schedule(built.length_scales, start=r1.final_state.time), r1.final_state)
+    r2 = model.run(second.schedule(built.assembly.surfaces, start=r1.final_state.time), r1.final_state)
     assert r2.times[0] == pytest.approx(20.0)
     assert r2.series["heat_sink_mean"][0] == pytest.approx(r1.series["heat_sink_mean"][-1])
 
@@ -108,7 +108,7 @@ def test_wrong_unit_in_environment_names_the_field():
 def test_surface_group_without_a_law_is_named():
     built = build_wheel_brake()
     model = Model.build(built.assembly, cell_size=0.008)
-    scales = {k: v for k, v in built.length_scales.items() if k != "heat shield"}
+    scales = [s for s in built.assembly.surfaces if s.name != "heat shield"]
     schedule = DutyCycle([DutyPhase("parked", 60, Environment())]).schedule(scales)
     with pytest.raises(ScheduleError, match="surface group 'heat shield'"):
         model.run(schedule, 293.15)

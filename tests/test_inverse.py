@@ -65,7 +65,7 @@ def fit_model(built):
 
 
 def synthetic_trace(model, built, energy, seed, initial=T_AMBIENT, multiplier=1.0):
-    schedule = stop_and_park(energy).schedule(built.length_scales, extra_breakpoints=TRACE_T)
+    schedule = stop_and_park(energy).schedule(built.assembly.surfaces, extra_breakpoints=TRACE_T)
     result = model.run(scale_convection(schedule, multiplier), initial)
     clean = np.interp(TRACE_T, result.times, result.readings["sensor"])
     return clean + np.random.default_rng(seed).normal(0.0, NOISE, TRACE_T.size)
@@ -79,7 +79,7 @@ def trace(truth_model, built):
 @pytest.fixture(scope="module")
 def estimate(fit_model, built, trace):
     # the duty's own energy (15 MJ) is only the first guess
-    return estimate_energy(fit_model, stop_and_park(15e6), built.length_scales, TRACE_T, trace, T_AMBIENT)
+    return estimate_energy(fit_model, stop_and_park(15e6), built.assembly.surfaces, TRACE_T, trace, T_AMBIENT)
 
 
 # ---------------------------------------------------------------------------- recovery
@@ -108,7 +108,7 @@ def test_estimate_carries_the_full_run_with_heat_sink_and_fuse_plugs(estimate, t
 
 def test_a_function_making_the_duty_gives_the_same_energy(fit_model, built, trace, estimate):
     other = estimate_energy(
-        fit_model, stop_and_park, built.length_scales, TRACE_T, trace, T_AMBIENT, energy_guess="26 MJ"
+        fit_model, stop_and_park, built.assembly.surfaces, TRACE_T, trace, T_AMBIENT, energy_guess="26 MJ"
     )
     assert other.converged
     assert other.energy == pytest.approx(estimate.energy, abs=0.2 * estimate.standard_error)
@@ -118,10 +118,12 @@ def test_agrees_with_scipy_least_squares_on_full_runs(truth_model, built):
     """Reference optimiser: scipy least_squares over full runs, Jacobian by finite differences."""
     model = Model.build(build_wheel_brake().assembly, cell_size=0.012)
     y = synthetic_trace(truth_model, built, E_TRUE, seed=7)
-    ours = estimate_energy(model, stop_and_park(15e6), built.length_scales, TRACE_T, y, T_AMBIENT)
+    ours = estimate_energy(model, stop_and_park(15e6), built.assembly.surfaces, TRACE_T, y, T_AMBIENT)
 
     def residual(x):
-        run = model.run(stop_and_park(x[0] * 1e6).schedule(built.length_scales, extra_breakpoints=TRACE_T), T_AMBIENT)
+        run = model.run(
+            stop_and_park(x[0] * 1e6).schedule(built.assembly.surfaces, extra_breakpoints=TRACE_T), T_AMBIENT
+        )
         return np.interp(TRACE_T, run.times, run.readings["sensor"]) - y
 
     reference = least_squares(residual, [15.0], diff_step=1e-3, xtol=1e-8)
@@ -138,7 +140,7 @@ def test_initial_temperature_fitted_with_the_energy(truth_model, fit_model, buil
     est = estimate_energy(
         fit_model,
         stop_and_park(15e6),
-        built.length_scales,
+        built.assembly.surfaces,
         TRACE_T,
         y,
         T_AMBIENT,
@@ -155,7 +157,7 @@ def test_convection_multiplier_fitted_with_the_energy(truth_model, fit_model, bu
     est = estimate_energy(
         fit_model,
         stop_and_park(15e6),
-        built.length_scales,
+        built.assembly.surfaces,
         TRACE_T,
         y,
         T_AMBIENT,
@@ -169,8 +171,8 @@ def test_convection_multiplier_fitted_with_the_energy(truth_model, fit_model, bu
 
 def test_prediction_of_a_longer_duty_matches_the_truth(truth_model, fit_model, built, estimate):
     longer = stop_and_park(15e6, parked="3 h")
-    predicted = predict_from_estimate(fit_model, longer, built.length_scales, estimate)
-    truth = truth_model.run(stop_and_park(E_TRUE, parked="3 h").schedule(built.length_scales), T_AMBIENT)
+    predicted = predict_from_estimate(fit_model, longer, built.assembly.surfaces, estimate)
+    truth = truth_model.run(stop_and_park(E_TRUE, parked="3 h").schedule(built.assembly.surfaces), T_AMBIENT)
     assert predicted.ledger.heat_in[-1] == pytest.approx(estimate.energy, rel=1e-9)
     assert predicted.peak("heat_sink_mean")[0] == pytest.approx(truth.peak("heat_sink_mean")[0], rel=0.01)
     for plug in ("fuse plug 1", "fuse plug 2"):
@@ -182,7 +184,7 @@ def test_a_fit_that_runs_out_of_runs_says_so_with_its_best_estimate(fit_model, b
         estimate_energy(
             fit_model,
             stop_and_park(4e6),
-            built.length_scales,
+            built.assembly.surfaces,
             TRACE_T,
             trace,
             T_AMBIENT,
@@ -198,13 +200,13 @@ def test_a_fit_that_runs_out_of_runs_says_so_with_its_best_estimate(fit_model, b
 
 def test_too_few_points_is_an_input_error(fit_model, built):
     with pytest.raises(InputError, match="too few"):
-        estimate_energy(fit_model, stop_and_park(15e6), built.length_scales, [0.0, 30.0], [300.0, 310.0], T_AMBIENT)
+        estimate_energy(fit_model, stop_and_park(15e6), built.assembly.surfaces, [0.0, 30.0], [300.0, 310.0], T_AMBIENT)
 
 
 def test_non_increasing_time_names_the_row(fit_model, built):
     t = np.array([0.0, 30.0, 60.0, 60.0, 90.0])
     with pytest.raises(InputError, match="row 4"):
-        estimate_energy(fit_model, stop_and_park(15e6), built.length_scales, t, np.full(5, 320.0), T_AMBIENT)
+        estimate_energy(fit_model, stop_and_park(15e6), built.assembly.surfaces, t, np.full(5, 320.0), T_AMBIENT)
 
 
 def test_trace_below_ambient_everywhere_is_an_input_error(fit_model, built):
@@ -212,7 +214,7 @@ def test_trace_below_ambient_everywhere_is_an_input_error(fit_model, built):
         estimate_energy(
             fit_model,
             stop_and_park(15e6),
-            built.length_scales,
+            built.assembly.surfaces,
             TRACE_T,
             np.full(TRACE_T.size, 280.0),
             T_AMBIENT,
@@ -224,7 +226,7 @@ def test_unknown_sensor_name_is_an_input_error(fit_model, built, trace):
         estimate_energy(
             fit_model,
             stop_and_park(15e6),
-            built.length_scales,
+            built.assembly.surfaces,
             TRACE_T,
             trace,
             T_AMBIENT,
@@ -235,12 +237,12 @@ def test_unknown_sensor_name_is_an_input_error(fit_model, built, trace):
 def test_trace_outside_the_duty_and_non_uniform_start_are_input_errors(fit_model, built, trace):
     late = TRACE_T + 600.0  # ends after the 3630 s duty
     with pytest.raises(InputError, match="outside the duty"):
-        estimate_energy(fit_model, stop_and_park(15e6), built.length_scales, late, trace, T_AMBIENT)
+        estimate_energy(fit_model, stop_and_park(15e6), built.assembly.surfaces, late, trace, T_AMBIENT)
     with pytest.raises(InputError, match="uniform"):
         estimate_energy(
             fit_model,
             stop_and_park(15e6),
-            built.length_scales,
+            built.assembly.surfaces,
             TRACE_T,
             trace,
             {"*": T_AMBIENT},

@@ -34,7 +34,7 @@ def heavy_stop():
             DutyPhase("parked", "3 h", Environment(), clamped=True),
         ]
     )
-    return built, model.run(duty.schedule(built.length_scales), 288.15)
+    return built, model.run(duty.schedule(built.assembly.surfaces), 288.15)
 
 
 def test_gauge_peaks_ten_minutes_or_more_after_braking(heavy_stop):

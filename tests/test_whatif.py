@@ -15,7 +15,17 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from heatstack import Assembly, FixedConvection, Model, Part, Probe, SolverOptions, State, simple_material
+from heatstack import (
+    Assembly,
+    FixedConvection,
+    Model,
+    Part,
+    Probe,
+    SolverOptions,
+    State,
+    SurfaceGroup,
+    simple_material,
+)
 from heatstack.builders import build_wheel_brake
 from heatstack.errors import InputError, UnitError
 from heatstack.numerics.schedule import PowerHistory
@@ -37,7 +47,7 @@ def lumped():
     )
     model = Model.build(assembly, cell_size=0.008, materials={"lumped-copper": material})
     environment = Environment(overrides={"*": FixedConvection(H, T_INF, radiation=False)})
-    scales = {group: LENGTH for group in ("block:inner", "block:outer", "block:bottom", "block:top")}
+    scales = [SurfaceGroup(group, LENGTH) for group in ("block:inner", "block:outer", "block:bottom", "block:top")]
     # the saved state: 5 min of cooling from 500 K
     warm = model.run(DutyCycle([DutyPhase("cool", "5 min", environment)]).schedule(scales), 500.0, TIGHT)
     return model, environment, scales, warm.final_state
@@ -88,7 +98,7 @@ def test_bad_names_states_and_scales_are_input_errors(lumped):
     with pytest.raises(InputError, match="this model has"):
         cooling_time(model, State(0.0, np.full(3, 400.0)), environment, scales, "centre", below=350.0)
     with pytest.raises(InputError, match="block:top"):
-        cooling_time(model, state, environment, {"block:inner": 0.02}, "centre", below=350.0)
+        cooling_time(model, state, environment, [SurfaceGroup("block:inner", 0.02)], "centre", below=350.0)
     with pytest.raises(InputError, match="horizon"):
         cooling_time(model, state, environment, scales, "centre", below=350.0, horizon=0.0)
 
@@ -106,7 +116,7 @@ def wheel():
             DutyPhase("turnaround", "20 min", Environment()),
         ]
     )
-    hot = model.run(landing.schedule(built.length_scales), 288.15).final_state
+    hot = model.run(landing.schedule(built.assembly.surfaces), 288.15).final_state
     return built, model, hot
 
 
@@ -116,7 +126,7 @@ def test_what_if_from_a_hot_state_peaks_higher_than_from_a_cold_one(wheel):
     rto = stop_from_energy("25 MJ", "40 s", name="rejected take-off")
     rolling = Environment(ground_speed="60 kt")
     answers = [
-        what_if(model, state, rto, Environment(), built.length_scales, "3 h", braking_environment=rolling)
+        what_if(model, state, rto, Environment(), built.assembly.surfaces, "3 h", braking_environment=rolling)
         for state in (hot, cold)
     ]
     hot_answer, cold_answer = answers
@@ -133,9 +143,9 @@ def test_what_if_from_a_hot_state_peaks_higher_than_from_a_cold_one(wheel):
 def test_what_if_with_no_added_energy_is_the_continued_cooling(wheel):
     built, model, hot = wheel
     nothing = BrakingEvent("no braking", PowerHistory(np.array([0.0, 30.0]), np.zeros(2)), 0.0, 0.0, 0.0)
-    answer = what_if(model, hot, nothing, Environment(), built.length_scales, after="2 h")
+    answer = what_if(model, hot, nothing, Environment(), built.assembly.surfaces, after="2 h")
     cooling = cooling_time(
-        model, hot, Environment(), built.length_scales, "heat_sink_mean", below="100 degC", horizon=7230.0
+        model, hot, Environment(), built.assembly.surfaces, "heat_sink_mean", below="100 degC", horizon=7230.0
     )
     reference = cooling.result
     for name in history_names(model):
@@ -145,16 +155,20 @@ def test_what_if_with_no_added_energy_is_the_continued_cooling(wheel):
         assert np.max(np.abs(ours - reference.history(name))) < 0.3, name
         assert answer.peaks[name][0] == pytest.approx(reference.peak(name)[0], abs=0.3)
     assert answer.energy == 0.0
-    none = what_if(model, hot, None, Environment(), built.length_scales, after="2 h", probes=["fuse plug 1"])
+    none = what_if(model, hot, None, Environment(), built.assembly.surfaces, after="2 h", probes=["fuse plug 1"])
     assert set(none.peaks) == {"fuse plug 1"}
     assert none.peaks["fuse plug 1"][0] == pytest.approx(answer.peaks["fuse plug 1"][0], abs=0.3)
 
 
 def test_heat_soak_cooling_time_counts_the_fall_after_the_rise(wheel):
     built, model, hot = wheel
-    start = cooling_time(model, hot, Environment(), built.length_scales, "fuse plug 1", below=600.0, horizon="10 min")
+    start = cooling_time(
+        model, hot, Environment(), built.assembly.surfaces, "fuse plug 1", below=600.0, horizon="10 min"
+    )
     threshold = 0.5 * (start.start_value + start.peak_value)  # crossed going up, then going down
-    answer = cooling_time(model, hot, Environment(), built.length_scales, "fuse plug 1", below=threshold, horizon="4 h")
+    answer = cooling_time(
+        model, hot, Environment(), built.assembly.surfaces, "fuse plug 1", below=threshold, horizon="4 h"
+    )
     assert answer.peak_value > threshold > answer.start_value
     _, peak_time = answer.result.peak("fuse plug 1")
     assert answer.reached and answer.time_needed > peak_time - hot.time
@@ -164,6 +178,6 @@ def test_what_if_unknown_probe_and_early_event_are_input_errors(wheel):
     built, model, hot = wheel
     rto = stop_from_energy("25 MJ", "40 s")
     with pytest.raises(InputError, match="no probe or series named 'fuse plug 9'"):
-        what_if(model, hot, rto, Environment(), built.length_scales, probes=["fuse plug 9"])
+        what_if(model, hot, rto, Environment(), built.assembly.surfaces, probes=["fuse plug 9"])
     with pytest.raises(InputError, match="after"):
-        what_if(model, hot, rto, Environment(), built.length_scales, after="0 s")
+        what_if(model, hot, rto, Environment(), built.assembly.surfaces, after="0 s")

@@ -24,6 +24,7 @@ import numpy as np
 import pint
 
 from ..errors import InputError, UnitError
+from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN
 from ..result import Result
 from ..units import registry, to_si
 
@@ -389,14 +390,14 @@ def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND)
     band_k = _difference(band, "band")
     reading = _history(result, sensor)
     local = _local(result, sensor, "sensor")
-    for series in ("heat_sink_mean", "heat_sink_max"):
+    for series in (HEAT_SINK_MEAN, HEAT_SINK_MAX):
         if series not in result.series:
             raise InputError(
                 f"sensor_lag needs the series {series!r}, absent from this result "
                 f"(no heat-sink parts?); known series: {sorted(result.series)}"
             )
-    mean = _checked(result, "heat_sink_mean", result.series["heat_sink_mean"])
-    hottest = _checked(result, "heat_sink_max", result.series["heat_sink_max"])
+    mean = _checked(result, HEAT_SINK_MEAN, result.series[HEAT_SINK_MEAN])
+    hottest = _checked(result, HEAT_SINK_MAX, result.series[HEAT_SINK_MAX])
     end = float(result.end_of_heating)
     read_peak = _peak_of(sensor, times, reading, end)
     local_peak = _peak_of(sensor, times, local, end)

@@ -69,6 +69,7 @@ import numpy as np
 from scipy.optimize import least_squares
 
 from ..errors import HeatstackError, InputError, SolverError
+from ..geometry import SurfaceGroup
 from ..model import Model
 from ..numerics.schedule import PowerHistory, Schedule
 from ..numerics.solver import SolverOptions
@@ -183,21 +184,21 @@ class _Forward:
         self,
         model: Model,
         make_duty: Callable[[float], DutyCycle] | DutyCycle,
-        length_scales: Mapping[str, float],
+        surfaces: Sequence[SurfaceGroup],
         trace_t: np.ndarray,
         initial: Any,
         sensor: str,
         start: float,
         options: SolverOptions | None,
     ):
-        self.model, self.length_scales, self.trace_t = model, length_scales, trace_t
+        self.model, self.surfaces, self.trace_t = model, surfaces, trace_t
         self.initial, self.sensor, self.start, self.options = initial, sensor, start, options
         self.runs = 0
         if isinstance(make_duty, DutyCycle):
             nominal = _duty_energy(make_duty)
             if not nominal > 0:
                 raise InputError("make_duty: the duty cycle has no braking energy to scale")
-            base = make_duty.schedule(length_scales, start=start, extra_breakpoints=trace_t)
+            base = make_duty.schedule(surfaces, start=start, extra_breakpoints=trace_t)
             self.nominal: float | None = nominal
 
             def schedule_for(energy: float) -> Schedule:
@@ -211,7 +212,7 @@ class _Forward:
                 duty = make_duty(energy)
                 if not isinstance(duty, DutyCycle):
                     raise InputError(f"make_duty({energy:g}) returned {type(duty).__name__}, not a DutyCycle")
-                return duty.schedule(length_scales, start=start, extra_breakpoints=trace_t)
+                return duty.schedule(surfaces, start=start, extra_breakpoints=trace_t)
 
         else:
             raise InputError("make_duty: give a DutyCycle or a function energy [J] -> DutyCycle")
@@ -239,7 +240,7 @@ class _Forward:
 def estimate_energy(
     model: Model,
     make_duty: Callable[[float], DutyCycle] | DutyCycle,
-    length_scales: Mapping[str, float],
+    surfaces: Sequence[SurfaceGroup],
     trace_t: Any,
     trace_T: Any,
     initial_temperature: float | Mapping[str, float] | State,
@@ -267,8 +268,9 @@ def estimate_energy(
         A :class:`DutyCycle` whose braking power is scaled uniformly to the energy tried
         (its total braking energy is the ``energy`` fitted), or a function
         ``energy [J] -> DutyCycle``.
-    length_scales : mapping of str to float
-        Characteristic length [m] of every exposed-surface group.
+    surfaces : sequence of SurfaceGroup
+        Characteristic length [m] and orientation of every exposed-surface group (the
+        assembly's ``surfaces``).
     trace_t : array_like
         Sample times [s] on the duty's clock (the duty starts at ``start``); strictly
         increasing, within the duty.
@@ -344,7 +346,7 @@ def estimate_energy(
     if int(max_runs) != max_runs or max_runs < 3 + len(names):
         raise InputError(f"max_runs: must be a whole number >= {3 + len(names)}, got {max_runs}")
 
-    forward = _Forward(model, make_duty, length_scales, t, uniform or initial_temperature, sensor, t_start, options)
+    forward = _Forward(model, make_duty, surfaces, t, uniform or initial_temperature, sensor, t_start, options)
     if energy_guess is None:
         e_guess = forward.nominal or 1e7
     else:
@@ -533,7 +535,7 @@ def _answer(names, p, result, residual, cov, sd, n, runs, converged, message, t0
 def predict_from_estimate(
     model: Model,
     make_duty: Callable[[float], DutyCycle] | DutyCycle,
-    length_scales: Mapping[str, float],
+    surfaces: Sequence[SurfaceGroup],
     estimate: EnergyEstimate,
     initial_temperature: float | Mapping[str, float] | State | None = None,
     start: Any = None,
@@ -551,8 +553,8 @@ def predict_from_estimate(
     model : Model
     make_duty : DutyCycle or callable
         As for :func:`estimate_energy`.
-    length_scales : mapping of str to float
-        [m], per surface group.
+    surfaces : sequence of SurfaceGroup
+        As for :func:`estimate_energy`.
     estimate : EnergyEstimate
     initial_temperature : float or mapping or State, optional
         [K]; the estimate's (fitted or given uniform) initial temperature by default.
@@ -578,5 +580,5 @@ def predict_from_estimate(
         start = float(initial.time) if isinstance(initial, State) else 0.0
     t_start = to_si(start, None, "time", "start")
     breakpoints = np.asarray(extra_breakpoints, dtype=float)
-    forward = _Forward(model, make_duty, length_scales, breakpoints, initial, "sensor", t_start, options)
+    forward = _Forward(model, make_duty, surfaces, breakpoints, initial, "sensor", t_start, options)
     return model.run(forward.schedule(estimate.energy, estimate.convection_multiplier), initial, options)

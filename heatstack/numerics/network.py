@@ -22,7 +22,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import GeometryError, MaterialError
-from ..geometry import HEAT_SINK_ROLES, NON_ROTATING_STACK_ROLES, Assembly, Part
+from ..geometry import Assembly, Part
 from ..materials import Material, load_material
 from .grid import Grid
 
@@ -53,9 +53,9 @@ class Network:
         in a gap pair, which radiates to its partner instead)
     groups : tuple of str, the exposed-surface group names (face_group indexes it)
     friction_a, friction_b : (s,) cells on either side of each rubbing face
-    friction_weight : (s,) share of the total brake power of each rubbing face (sums to 1)
+    friction_weight : (s,) share of the total friction power of each rubbing face (sums to 1)
     friction_labels : tuple of str, friction_interface : (s,) interface index per face
-    heat_sink : (n,) bool, wheel : (n,) bool
+    cell_group_masks : tuple of (n,) bool, the cells of each of ``assembly.cell_groups``
     probe_names, probe_cells (p, 4), probe_weights (p, 4), probe_time_constants (p,)
     """
 
@@ -91,8 +91,7 @@ class Network:
     friction_weight: np.ndarray
     friction_interface: np.ndarray
     friction_labels: tuple[str, ...]
-    heat_sink: np.ndarray
-    wheel: np.ndarray
+    cell_group_masks: tuple[np.ndarray, ...]
     probe_names: tuple[str, ...]
     probe_cells: np.ndarray
     probe_weights: np.ndarray
@@ -315,17 +314,28 @@ class _Builder:
                 rows["r"].append(1.0 / g_link)
         return {k: np.asarray(v, dtype=int if k in ("a", "b", "dir") else float) for k, v in rows.items()}
 
+    def _rubbing_links(self, links: dict) -> np.ndarray:
+        """Indices of the axial links between the parts of a declared rubbing pair."""
+        parts = self.assembly.parts
+        n_parts = len(parts)
+        index = {p.name: k for k, p in enumerate(parts)}
+        pa, pb = links["_link_parts"][:, 0], links["_link_parts"][:, 1]
+        link_key = np.minimum(pa, pb) * n_parts + np.maximum(pa, pb)
+        axial = (links["link_dir"] == AXIAL) & (pa != pb)
+        rubbing = np.zeros(pa.size, dtype=bool)
+        for pair in self.assembly.rubbing_pairs:
+            x, y = index[pair.part_a], index[pair.part_b]
+            faces = axial & (link_key == min(x, y) * n_parts + max(x, y))
+            if not faces.any():
+                raise GeometryError(f"rubbing pair {pair.label!r}: the two parts share no axial face on the grid")
+            rubbing |= faces
+        return np.flatnonzero(rubbing)
+
     def friction(self, links: dict) -> dict:
         parts = self.assembly.parts
         settings = self.assembly.friction
         pa, pb = links["_link_parts"][:, 0], links["_link_parts"][:, 1]
-        roles_a = np.array([parts[k].role for k in pa], dtype=object)
-        roles_b = np.array([parts[k].role for k in pb], dtype=object)
-        rubbing = (links["link_dir"] == AXIAL) & (
-            ((roles_a == "rotor") & np.isin(roles_b, NON_ROTATING_STACK_ROLES))
-            | ((roles_b == "rotor") & np.isin(roles_a, NON_ROTATING_STACK_ROLES))
-        )
-        idx = np.flatnonzero(rubbing)
+        idx = self._rubbing_links(links)
         if idx.size == 0:
             return self._no_friction()
         ij = self.grid.cell_ij[links["link_a"][idx]]
@@ -452,7 +462,10 @@ def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Materi
     )
 
     part_of_cell = grid.cell_part()
-    roles = np.array([assembly.parts[k].role for k in part_of_cell], dtype=object)
+    part_index = {p.name: k for k, p in enumerate(assembly.parts)}
+    cell_group_masks = tuple(
+        np.isin(part_of_cell, [part_index[name] for name in group.parts]) for group in assembly.cell_groups
+    )
     blocks = _material_blocks(assembly, grid, known)
     cell_material = np.empty(grid.n_cells, dtype=int)
     for k, (_, block) in enumerate(blocks):
@@ -492,8 +505,7 @@ def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Materi
         face_radiates=np.array([id(f) not in in_gap for f in faces], dtype=bool),
         groups=groups,
         **builder.friction(links),
-        heat_sink=np.isin(roles, HEAT_SINK_ROLES),
-        wheel=roles == "wheel",
+        cell_group_masks=cell_group_masks,
         **builder.probes(),
     )
 

@@ -26,7 +26,12 @@ class Recorder:
         self.probe_values: list[np.ndarray] = []
         self.series: dict[str, list[float]] = {}
         self.group_area = np.bincount(net.face_group, weights=net.face_area, minlength=len(net.groups))
-        self.sink_mass = mass[net.heat_sink].sum() if net.heat_sink.any() else 0.0
+        # cell groups with cells, and the mass of each [kg]
+        self.cell_groups = [
+            (group, cells, mass[cells].sum())
+            for group, cells in zip(net.assembly.cell_groups, net.cell_group_masks, strict=True)
+            if cells.any()
+        ]
         self.accounts = {"heat_in": [0.0], "convected": [0.0], "radiated": [0.0], "stored": [0.0]}
         n_if = len(net.friction_labels)
         self.friction = np.zeros((n_if, 2))
@@ -37,13 +42,13 @@ class Recorder:
         net = self.net
         self.times.append(t)
         self.probe_values.append(np.sum(T[net.probe_cells] * net.probe_weights, axis=1))
-        if net.heat_sink.any():
-            self.series.setdefault("heat_sink_mean", []).append(
-                float(np.dot(self.mass[net.heat_sink], T[net.heat_sink]) / self.sink_mass)
-            )
-            self.series.setdefault("heat_sink_max", []).append(float(T[net.heat_sink].max()))
-        if net.wheel.any():
-            self.series.setdefault("wheel_max", []).append(float(T[net.wheel].max()))
+        for group, cells, group_mass in self.cell_groups:
+            for statistic, name in zip(group.statistics, group.series_names, strict=True):
+                if statistic == "mean":
+                    value = np.dot(self.mass[cells], T[cells]) / group_mass
+                else:
+                    value = T[cells].max()
+                self.series.setdefault(name, []).append(float(value))
         group_mean = np.bincount(net.face_group, weights=net.face_area * face_ts, minlength=len(net.groups))
         for name, mean in zip(net.groups, group_mean / self.group_area, strict=True):
             self.series.setdefault(f"surface:{name}", []).append(float(mean))
@@ -100,7 +105,7 @@ class Recorder:
             z_edges=net.grid.z_edges.copy(),
             part_map=net.grid.part_map.copy(),
             part_names=tuple(p.name for p in parts),
-            part_roles=tuple(p.role for p in parts),
+            part_roles=net.assembly.part_roles,
             final_state=final,
             phases=tuple((p.name, p.start, p.end) for p in schedule.phases),
             end_of_heating=schedule.power.end_of_heating,

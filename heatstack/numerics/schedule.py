@@ -84,7 +84,7 @@ class FixedConvection:
 
 @dataclass(frozen=True)
 class PowerHistory:
-    """Total friction power of one brake, piecewise linear in time.
+    """Total friction power of the model, piecewise linear in time.
 
     Parameters
     ----------
@@ -162,7 +162,7 @@ class Phase:
         Cooling law for each exposed-surface group name. The key ``"*"`` is the default
         for groups not named.
     clamped : bool
-        Whether the friction stack is clamped (brake applied) during the phase.
+        Whether the contacts are clamped (their clamped conductance applies) during the phase.
     """
 
     name: str
@@ -195,7 +195,7 @@ class Schedule:
     Parameters
     ----------
     power : PowerHistory
-        Total friction power of the brake [W]; the network spreads it over the
+        Total friction power [W]; the network spreads it over the
         rubbing interfaces.
     phases : sequence of Phase
         Contiguous, ordered phases covering the run from ``phases[0].start`` to

@@ -15,29 +15,13 @@ from typing import Any
 import numpy as np
 
 from ..errors import ScheduleError
+from ..geometry import SurfaceGroup
 from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
 from ..units import to_si
 from .environment import CrossFlow, FanCooling, MixedConvection, NaturalConvection, RotatingDisc, WheelWell
 from .heat_input import BrakingEvent, combine
 
-__all__ = ["Environment", "DutyPhase", "DutyCycle", "SURFACE_SHAPES"]
-
-#: How each surface group of the built wheel and brake is oriented (axle horizontal):
-#: cylinders about the axle, or vertical disc faces.
-SURFACE_SHAPES: dict[str, str] = {
-    "stack outer diameter": "horizontal_cylinder",
-    "stack bore": "horizontal_cylinder",
-    "stack faces": "vertical_plate",
-    "torque tube": "horizontal_cylinder",
-    "heat shield": "horizontal_cylinder",
-    "housing": "horizontal_cylinder",
-    "rim bore": "horizontal_cylinder",
-    "tyre cavity": "horizontal_cylinder",
-    "wheel inboard": "vertical_plate",
-    "wheel outboard": "vertical_plate",
-    "hub bore": "horizontal_cylinder",
-    "tyre bead": "horizontal_cylinder",
-}
+__all__ = ["Environment", "DutyPhase", "DutyCycle"]
 
 
 def _si(value: Any, dimension: str, field_name: str) -> float:
@@ -103,29 +87,29 @@ class Environment:
             object.__setattr__(self, "wheel_well", (air, wall))
         object.__setattr__(self, "overrides", dict(self.overrides))
 
-    def laws(self, length_scales: Mapping[str, float], rolling_radius: float) -> dict[str, BoundaryLaw]:
-        """A cooling law for every surface group in ``length_scales``.
+    def laws(self, surfaces: Sequence[SurfaceGroup], rolling_radius: float) -> dict[str, BoundaryLaw]:
+        """A cooling law for every surface group in ``surfaces``.
 
         Parameters
         ----------
-        length_scales : mapping of str to float
-            Characteristic length [m] of each surface group (diameter of a cylinder,
-            height of a vertical face).
+        surfaces : sequence of SurfaceGroup
+            Name, characteristic length [m] (diameter of a cylinder, height of a
+            vertical face) and orientation of each surface group.
         rolling_radius : float
             Tyre rolling radius [m], to turn ground speed into wheel angular speed.
         """
         laws = {}
-        for group, length in length_scales.items():
+        for surface in _surface_records(surfaces):
+            group = surface.name
             if group in self.overrides:
                 laws[group] = self.overrides[group]
             elif "*" in self.overrides:
                 laws[group] = self.overrides["*"]
             else:
-                laws[group] = self._law(group, float(length), rolling_radius)
+                laws[group] = self._law(surface.orientation, surface.length, rolling_radius)
         return laws
 
-    def _law(self, group: str, length: float, rolling_radius: float) -> BoundaryLaw:
-        shape = SURFACE_SHAPES.get(group, "horizontal_cylinder")
+    def _law(self, shape: str, length: float, rolling_radius: float) -> BoundaryLaw:
         if self.wheel_well is not None:
             air, wall = self.wheel_well
             return WheelWell(shape, length, air, wall, self.ambient_pressure)
@@ -255,7 +239,7 @@ class DutyCycle:
 
     def schedule(
         self,
-        length_scales: Mapping[str, float],
+        surfaces: Sequence[SurfaceGroup],
         start: float = 0.0,
         extra_breakpoints: Sequence[float] = (),
     ) -> Schedule:
@@ -263,9 +247,10 @@ class DutyCycle:
 
         Parameters
         ----------
-        length_scales : mapping of str to float
-            Characteristic length [m] of every exposed-surface group (the built wheel's
-            ``length_scales``); every group gets a law in every phase.
+        surfaces : sequence of SurfaceGroup
+            Characteristic length [m] and orientation of every exposed-surface group
+            (the assembly's ``surfaces``, e.g. ``built.assembly.surfaces``); every group
+            gets a law in every phase.
         start : float
             Start time [s], e.g. the time of a saved state a chained run begins from.
         extra_breakpoints : sequence of float
@@ -273,6 +258,18 @@ class DutyCycle:
         """
         phases = []
         for phase, t0 in zip(self.phases, self.phase_starts(start), strict=True):
-            laws = phase.environment.laws(length_scales, self.rolling_radius)
+            laws = phase.environment.laws(surfaces, self.rolling_radius)
             phases.append(Phase(phase.name, float(t0), float(t0 + phase.duration), laws, phase.is_clamped))
         return Schedule(self.power(start), phases, tuple(extra_breakpoints))
+
+
+def _surface_records(surfaces: Sequence[SurfaceGroup]) -> tuple[SurfaceGroup, ...]:
+    if isinstance(surfaces, Mapping | str):
+        raise ScheduleError(
+            "surfaces: expected SurfaceGroup records (an assembly's 'surfaces'), not a mapping of lengths"
+        )
+    records = tuple(surfaces)
+    for surface in records:
+        if not isinstance(surface, SurfaceGroup):
+            raise ScheduleError(f"surfaces: expected SurfaceGroup records, got {type(surface).__name__}")
+    return records

@@ -14,6 +14,7 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from ..errors import InputError
+from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX
 from ..result import Result
 from ._common import (
     _check_result,
@@ -44,9 +45,9 @@ _COLOURS = (
 )
 _PHASE_FILLS = ("#e4e8ee", "#f3f4f6")
 _SERIES_LABELS = {
-    "heat_sink_mean": "heat-sink mean (mass-weighted)",
-    "heat_sink_max": "heat sink, hottest cell",
-    "wheel_max": "wheel, hottest cell",
+    HEAT_SINK_MEAN: "heat-sink mean (mass-weighted)",
+    HEAT_SINK_MAX: "heat sink, hottest cell",
+    WHEEL_MAX: "wheel, hottest cell",
 }
 
 
@@ -185,7 +186,7 @@ def plot_histories(
     _check_result(result)
     symbol = _check_unit(unit)
     if names is None:
-        names = [*result.readings, *(n for n in ("heat_sink_mean", "heat_sink_max") if n in result.series)]
+        names = [*result.readings, *(n for n in (HEAT_SINK_MEAN, HEAT_SINK_MAX) if n in result.series)]
     elif isinstance(names, str):
         names = [names]
     names = list(dict.fromkeys(names))
@@ -249,14 +250,14 @@ def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "s
     _check_result(result)
     symbol = _check_unit(unit)
     reading_k = _probe_reading(result, sensor)
-    mean_k = _series(result, "heat_sink_mean")
+    mean_k = _series(result, HEAT_SINK_MEAN)
     curves = [
         (f"{sensor} reading", _temperature(reading_k, unit), _COLOURS[0], "-", 1.8),
         (f"{sensor} location, local", _temperature(result.probes[sensor], unit), _COLOURS[0], ":", 1.3),
         ("heat-sink mean", _temperature(mean_k, unit), _COLOURS[1], "--", 1.5),
     ]
-    if "heat_sink_max" in result.series:
-        hottest = _temperature(result.series["heat_sink_max"], unit)
+    if HEAT_SINK_MAX in result.series:
+        hottest = _temperature(result.series[HEAT_SINK_MAX], unit)
         curves.append(("heat sink, hottest cell", hottest, _COLOURS[3], "-.", 1.2))
     offset = _difference(reading_k - mean_k, unit)
 
@@ -346,14 +347,14 @@ def plot_why_the_gauge_lags(
     _check_result(result)
     symbol = _check_unit(unit)
     reading = _probe_reading(result, sensor)
-    mean = _series(result, "heat_sink_mean")
+    mean = _series(result, HEAT_SINK_MEAN)
     wheel_default = names is None
     if names is None:
-        names = [n for n in ("wheel_max",) if n in result.series]
+        names = [WHEEL_MAX] if WHEEL_MAX in result.series else []
         names += [n for n in result.readings if n.startswith("fuse plug")]
     elif isinstance(names, str):
         names = [names]
-    extra = [(n, result.history(n)) for n in dict.fromkeys(names) if n not in (sensor, "heat_sink_mean")]
+    extra = [(n, result.history(n)) for n in dict.fromkeys(names) if n not in (sensor, HEAT_SINK_MEAN)]
     curves = [
         ("heat-sink mean", mean, _COLOURS[1], "--", 1.6),
         (f"{sensor} location, local temperature", result.probes[sensor], _COLOURS[0], ":", 1.4),

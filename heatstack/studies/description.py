@@ -579,7 +579,9 @@ def _check_outputs(outputs: Sequence[str] | None, case: Any) -> tuple[str, ...] 
         return None
     if isinstance(outputs, str):
         outputs = [outputs]
-    known = sorted({p.name for p in case.assembly.probes} | {"heat_sink_mean", "heat_sink_max", "wheel_max"})
+    known = sorted(
+        {p.name for p in case.assembly.probes} | {s for g in case.assembly.cell_groups for s in g.series_names}
+    )
     checked = []
     for k, name in enumerate(outputs):
         if not isinstance(name, str):
