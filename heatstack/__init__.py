@@ -10,12 +10,14 @@ from importlib.metadata import PackageNotFoundError, version
 
 from .errors import HeatstackError, InputError, SolverError
 from .geometry import Assembly, Contact, FrictionSettings, GapPair, Part, Probe
-from .materials import Material, available_materials, load_material, simple_material
+from .material_files import available_materials, load_material
+from .materials import Material, simple_material
 from .model import Model, simulate
 from .numerics.schedule import BoundaryLaw, FixedConvection, Phase, PowerHistory, Schedule
 from .numerics.solver import SolverOptions
 from .result import EnergyLedger, Result, State
-from .resultfile import read_result, write_result
+from .resultfile import write_result
+from .resultread import read_result
 
 try:
     __version__ = version("heatstack")

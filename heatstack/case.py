@@ -21,7 +21,8 @@ import numpy as np
 from .builders import BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
 from .errors import HeatstackError, InputError
 from .geometry import ROLES, Assembly, Contact, FrictionSettings, Part, Probe
-from .materials import Material, material_from_mapping
+from .material_files import material_from_mapping
+from .materials import Material
 from .model import Model
 from .numerics.solver import SolverOptions
 from .operations import heat_input

@@ -144,7 +144,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
 def _settings_from_file(path: Path, unit: str | None):
     from .report import ReportSettings
-    from .resultfile import read_resolved_inputs
+    from .resultread import read_resolved_inputs
 
     stored = read_resolved_inputs(path).get("report")
     settings = ReportSettings.from_mapping(stored) if stored else ReportSettings()
@@ -155,7 +155,7 @@ def _settings_from_file(path: Path, unit: str | None):
 
 def _cmd_report(args: argparse.Namespace) -> int:
     from .report import build_report, format_report
-    from .resultfile import read_result
+    from .resultread import read_result
 
     path = Path(args.results)
     result = read_result(path)
@@ -166,7 +166,7 @@ def _cmd_report(args: argparse.Namespace) -> int:
 
 def _cmd_plot(args: argparse.Namespace) -> int:
     from .plotting import plot_field
-    from .resultfile import read_result
+    from .resultread import read_result
 
     path = Path(args.results)
     result = read_result(path)
@@ -255,7 +255,7 @@ def _cmd_study(args: argparse.Namespace) -> int:
 
 
 def _cmd_materials(args: argparse.Namespace) -> int:
-    from .materials import available_materials, load_material
+    from .material_files import available_materials, load_material
 
     for name in available_materials():
         material = load_material(name)

@@ -40,28 +40,16 @@ from scipy.stats import qmc
 
 from ..errors import HeatstackError, InputError
 from ..units import SI_UNITS, to_si
-from .distributions import DISTRIBUTIONS, Distribution, LogNormal, Normal, Triangular, TruncatedNormal, Uniform
+from .distributions import Distribution
 from .paths import _MISSING, Token, _convert, _dimension_of_text, _get, _leaf_paths, _set, format_path, parse_path
-from .studyfile import load_study, study_from_mapping
 
 __all__ = [
-    "Distribution",
-    "Uniform",
-    "Normal",
-    "TruncatedNormal",
-    "Triangular",
-    "LogNormal",
-    "DISTRIBUTIONS",
     "Parameter",
     "Sampling",
     "Study",
     "StudyPlan",
     "ResolvedParameter",
     "plan_study",
-    "study_from_mapping",
-    "load_study",
-    "parse_path",
-    "format_path",
     "SAMPLING_METHODS",
 ]
 
