@@ -183,8 +183,9 @@ def _cmd_plot(args: argparse.Namespace) -> int:
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
-    from .answers.inverse import estimate_energy, read_sensor_trace
     from .case import load_case
+    from .questions.inverse import estimate_energy
+    from .questions.sensor_trace import read_sensor_trace
 
     case = load_case(args.case)
     t, T = read_sensor_trace(args.trace)

@@ -15,7 +15,7 @@ from typing import Any
 
 import numpy as np
 
-from .answers.analysis import cooling_time, margins, peak, sensor_lag, threshold_crossings
+from .answers.analysis import cooling_time_in_result, margins, peak, sensor_lag, threshold_crossings
 from .answers.fuse_plugs import assess_fuse_plugs
 from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_margin
 from .builders import FusePlugSpec
@@ -159,7 +159,7 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
     ]
     report["tyre"] = _tyre_section(result, settings, plugs)
     if settings.cooling_below is not None:
-        answer = cooling_time(result, settings.cooling_series, settings.cooling_below)
+        answer = cooling_time_in_result(result, settings.cooling_series, settings.cooling_below)
         report["cooling"] = {
             "series": answer.name,
             "below": _shown(answer.below, unit),

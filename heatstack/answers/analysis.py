@@ -36,7 +36,7 @@ __all__ = [
     "sensor_lag",
     "threshold_crossings",
     "margins",
-    "cooling_time",
+    "cooling_time_in_result",
 ]
 
 #: Default band [K] within which the sensor reading counts as showing the heat-sink mean.
@@ -501,7 +501,7 @@ def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
     return out
 
 
-def cooling_time(result: Result, name: str, below: Any, after: Any = None) -> CoolingTime:
+def cooling_time_in_result(result: Result, name: str, below: Any, after: Any = None) -> CoolingTime:
     """Time until a history falls below a temperature and stays below, from the record.
 
     Parameters
