@@ -357,6 +357,12 @@ def simple_material(
     Returns
     -------
     Material
+
+    Raises
+    ------
+    MaterialError
+        If a property is not positive (the emissivity not in (0, 1]), the temperature
+        range is not increasing, or it does not contain the reference temperature 293.15 K.
     """
     temperatures = np.asarray(temperature_range, dtype=float)
 

@@ -315,6 +315,11 @@ def tyre_pressure_margin(gas: TyreGas, limit: Any, gauge: bool = True) -> Pressu
     -------
     PressureMargin
         Pressures absolute.
+
+    Raises
+    ------
+    InputError
+        If ``limit`` is not a pressure, or not above 0 Pa absolute.
     """
     p_limit = _absolute(limit, gauge, gas.ambient_pressure, "limit")
     return PressureMargin(

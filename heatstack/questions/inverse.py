@@ -564,6 +564,13 @@ def predict_from_estimate(
         ``series["heat_sink_mean"]``, ``probes["fuse plug 1"]``, ... (see
         :class:`~heatstack.result.Result`); the estimate's own check run is
         ``estimate.predicted``.
+
+    Raises
+    ------
+    InputError
+        If the duty, length scales or initial temperature do not fit the model.
+    SolverError
+        If the run fails.
     """
     if not isinstance(estimate, EnergyEstimate):
         raise InputError("estimate: expected an EnergyEstimate")
