@@ -41,7 +41,17 @@ from scipy.stats import qmc
 from ..errors import HeatstackError, InputError
 from ..units import SI_UNITS, to_si
 from .distributions import Distribution
-from .paths import _MISSING, Token, _convert, _dimension_of_text, _get, _leaf_paths, _set, format_path, parse_path
+from .paths import (
+    MISSING,
+    Token,
+    dimension_of_text,
+    every_path,
+    format_path,
+    parse_path,
+    set_value_at,
+    value_at,
+    value_in_si,
+)
 
 __all__ = [
     "Parameter",
@@ -299,7 +309,7 @@ def apply_values(
         data.setdefault("solver", {})["target_change"] = float(target_change)
     for parameter, value in zip(parameters, row, strict=True):
         for path in parameter.paths:
-            _set(data, path, parameter.cast(value))
+            set_value_at(data, path, parameter.cast(value))
     return data
 
 
@@ -307,7 +317,7 @@ def apply_values(
 
 
 def _closest_path(mapping: Mapping, path: str, extra: Sequence[str] = ()) -> str:
-    candidates = [format_path(p) for p in _leaf_paths(mapping)] + list(extra)
+    candidates = [format_path(p) for p in every_path(mapping)] + list(extra)
     close = difflib.get_close_matches(path, candidates, n=1, cutoff=0.6)
     if close:
         return f"; did you mean {close[0]!r}?"
@@ -360,9 +370,9 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
     for j, text in enumerate(parameter.paths):
         pwhere = f"{where}.path" if isinstance(parameter.path, str) else f"{where}.path[{j}]"
         tokens = parse_path(text, pwhere)
-        value = _get(mapping, tokens)
-        if value is _MISSING:
-            parent = _get(mapping, tokens[:-1])
+        value = value_at(mapping, tokens)
+        if value is MISSING:
+            parent = value_at(mapping, tokens[:-1])
             if not (isinstance(parent, Mapping) and isinstance(tokens[-1], str)):
                 hint = _closest_path(mapping, format_path(tokens), _design_fields(mapping))
                 raise InputError(f"{pwhere}: {format_path(tokens)!r} does not exist in the base case{hint}")
@@ -379,7 +389,7 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
         texts += parameter.distribution.strings() if parameter.distribution is not None else []
         texts += [v for v in raw_values if isinstance(v, str)]
         for text in texts:
-            dimension = _dimension_of_text(text, leaf)
+            dimension = dimension_of_text(text, leaf)
             if dimension is not None:
                 break
     if dimension is None and len(paths[0]) == 3 and tuple(paths[0][:2]) == ("assembly", "design"):
@@ -401,7 +411,7 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
         if kind == "bool":
             values = np.array([1.0 if v else 0.0 for v in raw_values])
         else:
-            values = np.array([_convert(v, dimension, f"{where}.values[{i}]") for i, v in enumerate(raw_values)])
+            values = np.array([value_in_si(v, dimension, f"{where}.values[{i}]") for i, v in enumerate(raw_values)])
     if dimension is None and any(isinstance(b, str) for b in bases):
         raise InputError(f"{where}: cannot tell the physical dimension of {bases[0]!r}; give dimension = ...")
     for tokens, base_value in zip(paths, bases, strict=True):
@@ -504,13 +514,13 @@ def plan_study(study: Study) -> StudyPlan:
             raise InputError(f"study.parameters[{k}].name: {name!r} is used by two parameters")
     n_grid = math.prod(p.values.size for p in resolved) if grid else 0
     _check_sampling(study.sampling, n_grid)
-    cell = None if study.cell_size is None else _convert(study.cell_size, "length", "study.cell_size")
+    cell = None if study.cell_size is None else value_in_si(study.cell_size, "length", "study.cell_size")
     if cell is not None and not cell > 0:
         raise InputError(f"study.cell_size: must be > 0, got {study.cell_size!r}")
     change = (
         None
         if study.target_change is None
-        else _convert(study.target_change, "temperature_difference", "study.target_change")
+        else value_in_si(study.target_change, "temperature_difference", "study.target_change")
     )
     if change is not None and not change > 0:
         raise InputError(f"study.target_change: must be > 0, got {study.target_change!r}")
