@@ -38,6 +38,8 @@ from typing import Any, Literal
 import numpy as np
 from scipy.stats import qmc
 
+from ..builders import WheelBrakeDesign
+from ..case import case_from_mapping, design_dimension, load_case
 from ..errors import HeatstackError, InputError
 from ..units import SI_UNITS, to_si
 from .distributions import Distribution
@@ -331,14 +333,10 @@ def _design_fields(mapping: Mapping) -> list[str]:
     assembly = mapping.get("assembly", {})
     if not isinstance(assembly, Mapping) or assembly.get("builder", "wheel-brake") != "wheel-brake":
         return []
-    from ..builders import WheelBrakeDesign
-
     return [f"assembly.design.{f.name}" for f in fields(WheelBrakeDesign) if f.name != "fuse_plugs"]
 
 
 def _parse_case(data: dict, text: str, origin: str, base_dir: Path):
-    from ..case import case_from_mapping
-
     try:
         return case_from_mapping(data, text, origin, base_dir)
     except InputError:
@@ -393,8 +391,6 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
             if dimension is not None:
                 break
     if dimension is None and len(paths[0]) == 3 and tuple(paths[0][:2]) == ("assembly", "design"):
-        from ..case import design_dimension
-
         dimension = design_dimension(leaf)
     base_kinds = {type(b) for b in bases if b is not None}
     kind = "float"
@@ -497,8 +493,6 @@ def plan_study(study: Study) -> StudyPlan:
     """
     if not isinstance(study, Study):
         raise InputError(f"study: expected a Study, got {type(study).__name__}")
-    from ..case import load_case
-
     path = Path(study.base_case)
     base_case = load_case(path)
     text = base_case.text
