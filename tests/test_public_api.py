@@ -92,3 +92,15 @@ def test_every_module_imports_first_in_a_fresh_interpreter():
     done = _fresh_python(code)
     assert done.returncode == 0, done.stderr
     assert done.stdout.strip() == "ok"
+
+
+def test_every_sub_package_and_the_type_marker_are_shipped():
+    import tomllib
+
+    config = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["setuptools"]
+    on_disk = {
+        ".".join(init.parent.relative_to(ROOT).parts) for init in (ROOT / "heatstack").rglob("__init__.py")
+    }
+    assert on_disk <= set(config["packages"])
+    assert (ROOT / "heatstack" / "py.typed").is_file()
+    assert "py.typed" in config["package-data"]["heatstack"]
