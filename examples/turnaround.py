@@ -15,7 +15,7 @@ from heatstack.answers import assess_fuse_plugs, sensor_lag
 from heatstack.builders import build_wheel_brake
 from heatstack.operations.duty import DutyCycle, DutyPhase, Environment
 from heatstack.operations.heat_input import stop_from_aircraft, taxi_snubs
-from heatstack.whatif import cooling_time, what_if
+from heatstack.questions.whatif import cooling_time_from_state, what_if
 
 C = 273.15  # K at 0 degC
 
@@ -61,7 +61,7 @@ def main() -> None:
         print(f"{plug.name}: peak {plug.peak - C:.0f} degC, margin {plug.margin:.0f} K")
 
     state = result.final_state
-    cool = cooling_time(model, state, ramp, built.assembly.surfaces, below="150 degC", horizon="4 h")
+    cool = cooling_time_from_state(model, state, ramp, built.assembly.surfaces, below="150 degC", horizon="4 h")
     print(f"after 40 min on stand: {cool.message}")
 
     rto = stop_from_aircraft(

@@ -97,6 +97,74 @@ class WheelBrakeDesign:
     Every default is INVENTED for the reference design (no real product).
     ``drive_key_conductance`` [W/K] is the conduction path from each rotor's keys through
     the wheel's drive keys into the rim bore (the keys themselves are not meshed).
+
+    Parameters
+    ----------
+    rotors : int
+        Number of rotors (>= 1); the stack is pressure plate, rotor/stator pairs, a last
+        rotor and the end plate.
+    rotor_thickness, stator_thickness, pressure_plate_thickness, end_plate_thickness : float
+        Axial thickness of each heat-sink disc [m].
+    friction_inner_radius, friction_outer_radius : float
+        Inner and outer radius of the rubbing faces [m].
+    rotor_key_height, stator_key_height : float
+        Radial height of the rotor keys (outside the friction radius) and of the stator
+        keys (inside it) [m].
+    heat_sink_material, torque_tube_material, housing_material : str
+        Material names (files in ``materials/``).
+    heat_shield_material, wheel_material, bead_material : str
+        Material names (files in ``materials/``).
+    torque_tube_inner_radius : float
+        Bore of the torque tube [m].
+    backing_flange_thickness : float
+        Axial thickness of the torque tube's backing flange behind the end plate [m].
+    housing_thickness, housing_outer_radius : float
+        Axial thickness and outer radius of the piston housing [m].
+    heat_shield : bool
+        Whether the heat shield between the rotors and the rim is meshed.
+    heat_shield_gap, heat_shield_thickness : float
+        Radial gap from the rotor keys to the heat shield, and its thickness [m].
+    rim_bore_clearance : float
+        Radial clearance between the heat shield (or the rotors) and the rim bore [m].
+    rim_thickness : float
+        Radial thickness of the rim [m].
+    rim_overhang_inboard, rim_overhang_outboard : float
+        Axial length of the rim beyond the housing (inboard) and beyond the web
+        (outboard) [m].
+    flange_height, flange_thickness : float
+        Radial height above the bead seat and axial thickness of each wheel flange [m].
+    web_gap, web_thickness : float
+        Axial gap between the backing flange and the wheel web, and the web thickness [m].
+    hub_inner_radius, hub_thickness : float
+        Bore and radial thickness of the wheel hub [m].
+    bead_width, bead_height : float
+        Axial width and radial height of each tyre bead on its seat [m].
+    sensor_depth : float
+        Radial depth of the brake-temperature sensor into the torque tube from its bore [m].
+    sensor_z_fraction : float
+        Axial position of the sensor along the heat-sink stack, 0 at the housing and 1 at
+        the end plate [-].
+    sensor_time_constant : float
+        First-order lag of the sensor behind the metal around it [s].
+    fuse_plugs : tuple of FusePlugSpec
+        Fuse plugs in the rim.
+    rotor_stator_clamped, rotor_stator_released : float
+        Contact conductance of the rubbing faces with the brake applied and released
+        [W/(m^2 K)].
+    stator_torque_tube, end_plate_flange, pressure_plate_housing, housing_torque_tube, tyre_bead_rim : float
+        Contact conductance of each of these joints [W/(m^2 K)].
+    drive_key_conductance : float
+        Conduction path from each rotor to the rim bore through the drive keys [W/K].
+    friction_distribution : str
+        How the friction heat spreads over a rubbing face's radius (see
+        :class:`~heatstack.geometry.FrictionSettings`).
+
+    Raises
+    ------
+    GeometryError
+        If ``rotors`` is not a whole number >= 1, a length is not > 0, the friction radii
+        are out of order, the torque tube is not inside the stator bore, or
+        ``sensor_z_fraction`` is outside [0, 1].
     """
 
     rotors: int = 4
@@ -367,6 +435,13 @@ def build_wheel_brake(
     Returns
     -------
     BuiltWheelBrake
+        The assembly [m], its surface groups and cooling length scales [m], and the fuse
+        plugs of the design.
+
+    Raises
+    ------
+    GeometryError
+        If a part given by hand overlaps the built parts or a probe lies outside every part.
     """
     d = design or WheelBrakeDesign()
     z_stack0 = d.housing_thickness

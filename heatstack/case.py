@@ -32,7 +32,8 @@ from .geometry import (
     cell_groups_by_role,
     rubbing_pairs_by_role,
 )
-from .materials import Material, material_from_mapping
+from .material_files import material_from_mapping
+from .materials import Material
 from .model import Model
 from .numerics.solver import SolverOptions
 from .operations import heat_input
@@ -152,7 +153,7 @@ class OutputSettings:
 class Case:
     """A validated case, ready to run.
 
-    Attributes
+    Parameters
     ----------
     title : str
     assembly : Assembly
@@ -593,7 +594,26 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
 
 
 def load_case(path: str | Path) -> Case:
-    """Read and validate a case file."""
+    """Read and validate a case file.
+
+    Parameters
+    ----------
+    path : str or Path
+        A TOML case file; file names in it (materials, speed traces) are relative to
+        its folder. Quantities may carry units (``"20 mm"``); bare numbers are SI.
+
+    Returns
+    -------
+    Case
+        The validated case, every quantity in SI units [K, s, m, W, J, kg, Pa].
+
+    Raises
+    ------
+    InputError
+        If the file is missing or unreadable, is not valid TOML, or a key is unknown,
+        missing or of the wrong type; the message names the key path
+        (``duty.phases[2].events[0].mass``) and, for an unknown key, the closest valid one.
+    """
     path = Path(path)
     try:
         text = path.read_text(encoding="utf-8")
@@ -607,7 +627,27 @@ def load_case(path: str | Path) -> Case:
 def run_case(case: Case, model: Model | None = None, progress: Callable[[float], None] | None = None) -> Result:
     """Mesh (unless ``model`` is given) and run a case.
 
-    ``progress`` is called with the simulated time [s] after every step.
+    Parameters
+    ----------
+    case : Case
+        A validated case (:func:`load_case`, :func:`parse_case`).
+    model : Model, optional
+        A model already built from ``case`` (:meth:`Case.build_model`), to skip meshing;
+        it is built here when None.
+    progress : callable, optional
+        Called with the simulated time [s] after every accepted step.
+
+    Returns
+    -------
+    Result
+        The run [K, s, J]; its metadata holds the case title and origin.
+
+    Raises
+    ------
+    GeometryError, MaterialError
+        If the assembly of the case cannot be meshed.
+    SolverError
+        If the solver cannot complete a step.
     """
     model = model or case.build_model()
     schedule = case.duty.schedule(case.assembly.surfaces)

@@ -145,7 +145,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
 def _settings_from_file(path: Path, unit: str | None):
     from .report import ReportSettings
-    from .resultfile import read_resolved_inputs
+    from .resultread import read_resolved_inputs
 
     stored = read_resolved_inputs(path).get("report")
     settings = ReportSettings.from_mapping(stored) if stored else ReportSettings()
@@ -156,7 +156,7 @@ def _settings_from_file(path: Path, unit: str | None):
 
 def _cmd_report(args: argparse.Namespace) -> int:
     from .report import build_report, format_report
-    from .resultfile import read_result
+    from .resultread import read_result
 
     path = Path(args.results)
     result = read_result(path)
@@ -167,7 +167,7 @@ def _cmd_report(args: argparse.Namespace) -> int:
 
 def _cmd_plot(args: argparse.Namespace) -> int:
     from .plotting import plot_field
-    from .resultfile import read_result
+    from .resultread import read_result
 
     path = Path(args.results)
     result = read_result(path)
@@ -184,8 +184,9 @@ def _cmd_plot(args: argparse.Namespace) -> int:
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
-    from .answers.inverse import estimate_energy, read_sensor_trace
     from .case import load_case
+    from .questions.inverse import estimate_energy
+    from .questions.sensor_trace import read_sensor_trace
 
     case = load_case(args.case)
     t, T = read_sensor_trace(args.trace)
@@ -256,7 +257,7 @@ def _cmd_study(args: argparse.Namespace) -> int:
 
 
 def _cmd_materials(args: argparse.Namespace) -> int:
-    from .materials import available_materials, load_material
+    from .material_files import available_materials, load_material
 
     for name in available_materials():
         material = load_material(name)

@@ -140,7 +140,17 @@ class Part:
         _positive(self.z_max - self.z_min, f"part {self.name!r}: axial size z_max - z_min")
 
     def contains(self, r: float, z: float) -> bool:
-        """Whether the point (r [m], z [m]) lies in the part (boundary included)."""
+        """Whether the point (r [m], z [m]) lies in the part (boundary included).
+
+        Parameters
+        ----------
+        r, z : float
+            Radius and axial position of the point [m].
+
+        Returns
+        -------
+        bool
+        """
         return self.r_inner <= r <= self.r_outer and self.z_min <= z <= self.z_max
 
     @property
@@ -269,6 +279,19 @@ class GapPair:
 
     Faces are matched row by row (inner/outer sides) or column by column (bottom/top
     sides) on the grid, whether or not the void between them is unobstructed.
+
+    Parameters
+    ----------
+    part_a, part_b : str
+        Names of the two parts.
+    side_a, side_b : str
+        Their facing sides: ``"inner"``/``"outer"`` (radial gap) or ``"bottom"``/``"top"``
+        (axial gap).
+
+    Raises
+    ------
+    GeometryError
+        If a side is not one of the four, or one side is radial and the other axial.
     """
 
     part_a: str
@@ -636,7 +659,21 @@ class Assembly:
         return owners[0]
 
     def surface_group(self, part: Part, side: str) -> str:
-        """Exposed-surface group name of ``side`` of ``part``."""
+        """Exposed-surface group name of ``side`` of ``part``.
+
+        Parameters
+        ----------
+        part : Part
+            A part of this assembly.
+        side : str
+            ``"inner"``, ``"outer"``, ``"bottom"`` or ``"top"``.
+
+        Returns
+        -------
+        str
+            The group from ``surface_groups`` (by part and side, part, role and side, or
+            role, in that order), else ``"<part name>:<side>"``.
+        """
         groups = self.surface_groups
         for key in (f"{part.name}:{side}", part.name, f"@{part.role}:{side}", f"@{part.role}"):
             if key in groups:
@@ -644,7 +681,20 @@ class Assembly:
         return f"{part.name}:{side}"
 
     def contact_conductance(self, a: Part, b: Part) -> tuple[float | None, float | None]:
-        """Clamped and released conductance [W/(m^2 K)] between touching parts ``a`` and ``b``."""
+        """Clamped and released conductance [W/(m^2 K)] between touching parts ``a`` and ``b``.
+
+        Parameters
+        ----------
+        a, b : Part
+            Two touching parts of this assembly.
+
+        Returns
+        -------
+        (float or None, float or None)
+            Clamped and released contact conductance [W/(m^2 K)] from the first contact
+            naming both parts, else the first naming both roles, else
+            ``default_contact_conductance``; None means perfect contact.
+        """
         for contact in self.contacts:
             if contact.parts is not None and set(contact.parts) == {a.name, b.name}:
                 return contact.clamped, contact.released

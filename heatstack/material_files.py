@@ -18,8 +18,8 @@ from typing import Any
 import numpy as np
 
 from .errors import MaterialError, UnitError
-from .materials import Material, _is_number
-from .property_table import _EXTRAPOLATIONS, PropertyTable
+from .materials import Material
+from .property_table import EXTRAPOLATIONS, PropertyTable, is_real_number
 from .units import to_si_array
 
 __all__ = [
@@ -84,7 +84,7 @@ def _convert(values: Any, unit: str, dimension: str, field_name: str) -> np.ndar
 
 def _read_density(data: Mapping[str, Any], where: str) -> float:
     section = _section(data, "density", _DENSITY_KEYS, where)
-    if not _is_number(section["value"]):
+    if not is_real_number(section["value"]):
         raise MaterialError(f"{where}: [density] value must be a number, got {section['value']!r}")
     return float(_convert(section["value"], section["unit"], "density", f"{where}: [density] unit"))
 
@@ -97,7 +97,7 @@ def _read_table(
     if not isinstance(rows, list | tuple) or len(rows) < 2:
         raise MaterialError(f"{where}: [{key}] table must be a list of at least 2 rows, got {rows!r}")
     for i, row in enumerate(rows, start=1):
-        if not (isinstance(row, list | tuple) and len(row) == 2 and all(map(_is_number, row))):
+        if not (isinstance(row, list | tuple) and len(row) == 2 and all(map(is_real_number, row))):
             raise MaterialError(f"{where}: [{key}] table row {i} must be [temperature, value] numbers, got {row!r}")
     temperature = _convert(
         [row[0] for row in rows],
@@ -126,7 +126,7 @@ def _build(data: Any, origin: str, source_file: str) -> Material:
     if not isinstance(description, str):
         raise MaterialError(f"{where}: description must be a string, got {description!r}")
     extrapolation = data.get("extrapolation", "error")
-    if extrapolation not in _EXTRAPOLATIONS:
+    if extrapolation not in EXTRAPOLATIONS:
         raise MaterialError(f"{where}: extrapolation must be 'error' or 'clamp', got {extrapolation!r}")
     for key in ("density", "specific_heat", "emissivity"):
         if key not in data:

@@ -13,7 +13,7 @@ is given cold and thermal expansion is neglected, so each cell keeps the mass
 
 The tables themselves are :class:`PropertyTable` objects
 (:mod:`heatstack.property_table`); reading a material from a file or a mapping is
-done in :mod:`heatstack.material_files`. Both are re-exported here.
+done in :mod:`heatstack.material_files`.
 
 Materials live in ``materials/<name>.toml`` files (one material a file, units
 named in the file, a source beside every table); see :func:`load_material`.
@@ -23,33 +23,18 @@ Inside this module every quantity is SI: K, J, kg, m, W.
 from __future__ import annotations
 
 import functools
-import numbers
 from dataclasses import dataclass, field
-from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from .errors import MaterialError, PropertyRangeError
-from .property_table import _EXTRAPOLATIONS, PropertyTable, _as_float_array, _warn_once
+from .property_table import EXTRAPOLATIONS, PropertyTable, as_float_array, is_real_number, warn_once
 
-__all__ = [
-    "REFERENCE_TEMPERATURE",
-    "PropertyTable",
-    "Material",
-    "load_material",
-    "available_materials",
-    "material_from_mapping",
-    "materials_directory",
-    "simple_material",
-]
+__all__ = ["REFERENCE_TEMPERATURE", "Material", "simple_material"]
 
 #: Temperature [K] at which the density is given and the enthalpy is zero.
 REFERENCE_TEMPERATURE = 293.15
-
-
-def _is_number(value: Any) -> bool:
-    return isinstance(value, numbers.Real) and not isinstance(value, bool)
 
 
 def _first_row_outside(table: PropertyTable, low: float, high: float) -> int | None:
@@ -107,10 +92,10 @@ class Material:
 
     def __post_init__(self) -> None:
         where = f"material {self.name!r}"
-        if self.extrapolation not in _EXTRAPOLATIONS:
+        if self.extrapolation not in EXTRAPOLATIONS:
             raise MaterialError(f"{where}: extrapolation must be 'error' or 'clamp', got {self.extrapolation!r}")
         density = self.density
-        if not (_is_number(density) and np.isfinite(density) and density > 0.0):
+        if not (is_real_number(density) and np.isfinite(density) and density > 0.0):
             raise MaterialError(f"{where}, property 'density': must be > 0 kg/m^3, got {density!r}")
         object.__setattr__(self, "density", float(density))
         checks = (
@@ -296,7 +281,7 @@ class Material:
             specific-heat table does not clamp.
         """
         cp = self.specific_heat
-        h = _as_float_array(enthalpy, f"material {self.name!r}: enthalpy")
+        h = as_float_array(enthalpy, f"material {self.name!r}: enthalpy")
         if h.size:
             self._check_enthalpy(h)
         knots, values, slopes = cp.temperature, cp.value, cp._slope
@@ -330,7 +315,7 @@ class Material:
             raise PropertyRangeError(
                 f"{where}: enthalpy {worst:.6g} J/m^3 is outside the table ({table}; extrapolation = 'error')"
             )
-        _warn_once(
+        warn_once(
             self.name,
             "specific_heat",
             f"{where}: enthalpy {worst:.6g} J/m^3 is outside the table ({table}); "
@@ -372,6 +357,12 @@ def simple_material(
     Returns
     -------
     Material
+
+    Raises
+    ------
+    MaterialError
+        If a property is not positive (the emissivity not in (0, 1]), the temperature
+        range is not increasing, or it does not contain the reference temperature 293.15 K.
     """
     temperatures = np.asarray(temperature_range, dtype=float)
 
@@ -390,16 +381,3 @@ def simple_material(
         conductivity_through_thickness=axial,
         emissivity=table("emissivity", emissivity),
     )
-
-
-# Re-exported so that ``from heatstack.materials import load_material`` and the like
-# keep working. material_files imports Material from this module, so this import must
-# come after Material is defined: when it runs, material_files finds Material already
-# there. This module is always loaded before material_files (heatstack/__init__.py
-# imports it, and nothing else imports material_files), so the cycle never bites.
-from .material_files import (  # noqa: E402
-    available_materials,
-    load_material,
-    material_from_mapping,
-    materials_directory,
-)

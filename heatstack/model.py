@@ -31,6 +31,15 @@ class Model:
     """A meshed assembly: grid and precomputed network, reusable across many runs.
 
     Build it with :meth:`Model.build`; run it with :meth:`Model.run`.
+
+    Parameters
+    ----------
+    assembly : Assembly
+        The parts, contacts and probes that were meshed.
+    grid : Grid
+        The structured r-z grid [m] with its part map and active-cell numbering.
+    network : Network
+        Conductances [W/K], capacities and exposed faces [m^2] computed on ``grid``.
     """
 
     assembly: Assembly
@@ -50,12 +59,27 @@ class Model:
         Parameters
         ----------
         assembly : Assembly
+            The parts [m], contacts and probes to mesh.
         cell_size : float or (float, float)
-            Target cell size [m] (or radial and axial sizes).
+            Target cell size [m] (or radial and axial sizes [m]).
         min_cells : int
-            Minimum number of cells across each part in each direction.
+            Minimum number of cells across each part in each direction [-].
         materials : mapping of str to Material, optional
-            Materials not in the materials directory (e.g. defined inline).
+            Materials not in the materials directory (e.g. defined inline), by name.
+
+        Returns
+        -------
+        Model
+            The meshed assembly, ready for any number of :meth:`run` calls.
+
+        Raises
+        ------
+        GeometryError
+            If ``cell_size`` or ``min_cells`` is not valid, or the assembly does not fit its
+            mesh (a gap pair whose sides do not face each other, a rubbing interface with no
+            area inside the friction radii, friction shares that do not match the interfaces).
+        MaterialError
+            If a part names a material that is neither given nor in the materials directory.
         """
         grid = build_grid(assembly, cell_size, min_cells)
         return cls(assembly=assembly, grid=grid, network=build_network(assembly, grid, materials))
@@ -74,7 +98,34 @@ class Model:
     ) -> Result:
         """Integrate ``schedule`` from ``initial_temperature`` [K] (or a saved State).
 
-        ``progress``, if given, is called with the simulated time [s] after every step.
+        Parameters
+        ----------
+        schedule : Schedule
+            Brake power [W] over time [s] and the phases with their boundary laws.
+        initial_temperature : float, mapping of str to float, State or ndarray
+            One temperature [K] for every cell, a temperature [K] per part name, a
+            :class:`~heatstack.result.State` saved by an earlier run (the run continues
+            from its time and instrument readings), or one temperature [K] per active cell.
+        options : SolverOptions, optional
+            Step control and tolerances; the defaults when None.
+        progress : callable, optional
+            Called with the simulated time [s] after every accepted step.
+
+        Returns
+        -------
+        Result
+            Record times [s], probe and series histories [K], the energy ledger [J],
+            snapshots and the final state.
+
+        Raises
+        ------
+        InputError
+            If the initial temperature does not fit the model (unknown part name, wrong
+            number of cells, not finite and above 0 K), a saved state lies outside the
+            schedule, or a solver option is not valid.
+        SolverError
+            If a step cannot be completed even at the smallest step size; the message
+            says when and where.
         """
         return integrate(self.network, schedule, initial_temperature, options, progress)
 
@@ -86,5 +137,32 @@ def simulate(
     cell_size: float | tuple[float, float] = 0.004,
     options: SolverOptions | None = None,
 ) -> Result:
-    """Build a :class:`Model` and run one schedule: the one-call form of the API."""
+    """Build a :class:`Model` and run one schedule: the one-call form of the API.
+
+    Parameters
+    ----------
+    assembly : Assembly
+        The parts [m], contacts and probes to mesh.
+    schedule : Schedule
+        Brake power [W] over time [s] and the phases with their boundary laws.
+    initial_temperature : float, mapping of str to float, or State
+        One temperature [K] for every cell, a temperature [K] per part name, or a
+        saved :class:`~heatstack.result.State` of a model of the same assembly.
+    cell_size : float or (float, float)
+        Target cell size [m] (or radial and axial sizes [m]).
+    options : SolverOptions, optional
+        Step control and tolerances; the defaults when None.
+
+    Returns
+    -------
+    Result
+        The run, as from :meth:`Model.run`.
+
+    Raises
+    ------
+    GeometryError, MaterialError
+        As :meth:`Model.build`.
+    InputError, SolverError
+        As :meth:`Model.run`.
+    """
     return Model.build(assembly, cell_size).run(schedule, initial_temperature, options)

@@ -7,6 +7,7 @@ them, interpolates between them and applies the range policy (``"error"`` or
 
 from __future__ import annotations
 
+import numbers
 import warnings
 from dataclasses import dataclass, field
 
@@ -15,21 +16,57 @@ from numpy.typing import ArrayLike
 
 from .errors import HeatstackWarning, MaterialError, PropertyRangeError
 
-__all__ = ["PropertyTable"]
+__all__ = ["PropertyTable", "EXTRAPOLATIONS", "warn_once", "as_float_array", "is_real_number"]
 
-_EXTRAPOLATIONS = ("error", "clamp")
+#: What a table does outside its rows: raise an error, or clamp to the end row (and warn once).
+EXTRAPOLATIONS = ("error", "clamp")
 
 #: (material, property) pairs that have already warned about clamping.
 _clamp_warned: set[tuple[str, str]] = set()
 
 
-def _warn_once(material: str, prop: str, message: str, stacklevel: int) -> None:
+def warn_once(material: str, prop: str, message: str, stacklevel: int) -> None:
+    """Warn with a :class:`~heatstack.errors.HeatstackWarning`, once per (material, property) pair.
+
+    Parameters
+    ----------
+    material, prop : str
+        Names of the material and of the property the warning is about.
+    message : str
+        The warning text.
+    stacklevel : int
+        Stack level of the caller, as for :func:`warnings.warn` (one is added here).
+    """
     if (material, prop) not in _clamp_warned:
         _clamp_warned.add((material, prop))
         warnings.warn(message, HeatstackWarning, stacklevel=stacklevel + 1)
 
 
-def _as_float_array(values: ArrayLike, what: str) -> np.ndarray:
+def is_real_number(value: object) -> bool:
+    """True for an int or float (a real number), false for a bool or anything else."""
+    return isinstance(value, numbers.Real) and not isinstance(value, bool)
+
+
+def as_float_array(values: ArrayLike, what: str) -> np.ndarray:
+    """``values`` as a float array.
+
+    Parameters
+    ----------
+    values : array_like
+        Numbers to convert.
+    what : str
+        Name of the quantity, for the error message.
+
+    Returns
+    -------
+    numpy.ndarray
+        Float array of the same shape.
+
+    Raises
+    ------
+    MaterialError
+        If ``values`` are not numeric; the message names ``what``.
+    """
     try:
         return np.asarray(values, dtype=float)
     except (TypeError, ValueError) as exc:
@@ -72,10 +109,10 @@ class PropertyTable:
 
     def __post_init__(self) -> None:
         where = self._where()
-        if self.extrapolation not in _EXTRAPOLATIONS:
+        if self.extrapolation not in EXTRAPOLATIONS:
             raise MaterialError(f"{where}: extrapolation must be 'error' or 'clamp', got {self.extrapolation!r}")
-        temperature = np.array(_as_float_array(self.temperature, f"{where}: temperature"))
-        value = np.array(_as_float_array(self.value, f"{where}: value"))
+        temperature = np.array(as_float_array(self.temperature, f"{where}: temperature"))
+        value = np.array(as_float_array(self.value, f"{where}: value"))
         if temperature.ndim != 1 or value.shape != temperature.shape:
             raise MaterialError(
                 f"{where}: temperature and value must be 1-D arrays of equal length, "
@@ -114,7 +151,7 @@ class PropertyTable:
 
     def _checked(self, temperature: ArrayLike) -> np.ndarray:
         """Return ``temperature`` as a float array after the range policy has been applied."""
-        t = _as_float_array(temperature, f"{self._where()}: temperature")
+        t = as_float_array(temperature, f"{self._where()}: temperature")
         if t.size:
             low, high = self.temperature[0], self.temperature[-1]
             t_min, t_max = t.min(), t.max()
@@ -134,7 +171,7 @@ class PropertyTable:
                 f"{self._where()}: temperature {worst:.6g} K is outside the table "
                 f"({table}; {count} value(s) outside, extrapolation = 'error')"
             )
-        _warn_once(
+        warn_once(
             self.material,
             self.name,
             f"{self._where()}: temperature {worst:.6g} K is outside the table ({table}); "

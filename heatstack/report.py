@@ -15,7 +15,7 @@ from typing import Any
 
 import numpy as np
 
-from .answers.analysis import cooling_time, margins, peak, sensor_lag, threshold_crossings
+from .answers.analysis import cooling_time_in_result, margins, peak, sensor_lag, threshold_crossings
 from .answers.fuse_plugs import assess_fuse_plugs
 from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_margin
 from .builders import FusePlugSpec
@@ -35,11 +35,22 @@ CAUTION = (
 
 @dataclass(frozen=True)
 class TyreSettings:
-    """Tyre gas node inputs (SI; pressures gauge).
+    """Tyre gas node inputs (SI; pressures gauge), as :func:`~heatstack.answers.tyre.tyre_gas` takes them.
 
-    cold_pressure [Pa gauge], gas_volume [m^3], cavity_area [m^2] of rim exterior inside
-    the tyre, h_cavity [W/(m^2 K)], outer_conductance [W/K] from the gas through the
-    carcass to ambient, pressure_limit [Pa gauge] or None.
+    Parameters
+    ----------
+    cold_pressure : float
+        Cold inflation pressure [Pa gauge].
+    gas_volume : float
+        Gas volume of the tyre [m^3].
+    cavity_area : float
+        Rim exterior wetted by the tyre gas [m^2].
+    h_cavity : float
+        Heat transfer coefficient rim -> gas [W/(m^2 K)].
+    outer_conductance : float
+        Conductance from the gas through the carcass to ambient [W/K].
+    pressure_limit : float or None
+        Pressure limit [Pa gauge] to assess against, or None for no limit.
     """
 
     cold_pressure: float
@@ -52,7 +63,31 @@ class TyreSettings:
 
 @dataclass(frozen=True)
 class ReportSettings:
-    """What the report assesses. Temperatures [K]."""
+    """What the report assesses. Temperatures [K].
+
+    Parameters
+    ----------
+    unit : str
+        Temperature unit of the report: ``"degC"``, ``"degF"`` or ``"K"``.
+    limits : mapping of str to float
+        Temperature limit [K] per probe or series name, for the margins.
+    fuse_plugs : tuple of FusePlugSpec
+        Fuse plugs to assess (release temperature [K], tolerance [K], lag [s]).
+    tyre : TyreSettings or None
+        Tyre gas node inputs, or None for no tyre section.
+    cold_temperature : float
+        Tyre gas temperature [K] at which the cold inflation pressure holds.
+    cooling_below : float or None
+        Temperature [K] for the cooling time of ``cooling_series``, or None for none.
+    cooling_series : str
+        Probe or series whose cooling time is reported.
+    band : float
+        Half-width [K] of the band around the heat-sink mean for the sensor section.
+    sensor : str
+        Name of the brake-temperature-sensor probe.
+    title : str
+        Title printed at the head of the report.
+    """
 
     unit: str = "degC"
     limits: Mapping[str, float] = field(default_factory=dict)
@@ -92,7 +127,29 @@ def _minutes(seconds: float | None) -> float | None:
 
 
 def build_report(result: Result, settings: ReportSettings | None = None) -> dict[str, Any]:
-    """The report as a plain, JSON-able mapping (temperatures in ``settings.unit``)."""
+    """The report as a plain, JSON-able mapping (temperatures in ``settings.unit``).
+
+    Parameters
+    ----------
+    result : Result
+        A finished run [K, s, J].
+    settings : ReportSettings, optional
+        What to assess; the defaults (degC, no limits, no fuse plugs, no tyre) when None.
+
+    Returns
+    -------
+    dict
+        Sections ``peaks``, ``sensor``, ``fuse_plugs``, ``margins``, ``tyre``,
+        ``cooling`` and ``ledger`` (and the title, caution and phases), with
+        temperatures in ``settings.unit``, differences in K or °F and times in minutes
+        (keys ending ``_min``); ready for :func:`format_report` or ``json.dumps``.
+
+    Raises
+    ------
+    InputError
+        If ``settings.unit`` is not ``"degC"``, ``"degF"`` or ``"K"``, or a limit,
+        fuse plug or the cooling series names a history the result does not hold.
+    """
     settings = settings or ReportSettings()
     unit = settings.unit
     if unit not in ("degC", "degF", "K"):
@@ -160,7 +217,7 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
     ]
     report["tyre"] = _tyre_section(result, settings, plugs)
     if settings.cooling_below is not None:
-        answer = cooling_time(result, settings.cooling_series, settings.cooling_below)
+        answer = cooling_time_in_result(result, settings.cooling_series, settings.cooling_below)
         report["cooling"] = {
             "series": answer.name,
             "below": _shown(answer.below, unit),
@@ -250,7 +307,25 @@ def _or_never(minutes: float | None) -> str:
 
 
 def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
-    """Render :func:`build_report` output as ``"text"``, ``"markdown"`` or ``"json"``."""
+    """Render :func:`build_report` output as ``"text"``, ``"markdown"`` or ``"json"``.
+
+    Parameters
+    ----------
+    report : mapping
+        The output of :func:`build_report`.
+    fmt : str
+        ``"text"`` (plain columns), ``"markdown"`` (tables) or ``"json"``.
+
+    Returns
+    -------
+    str
+        The report, opening with its caution.
+
+    Raises
+    ------
+    InputError
+        If ``fmt`` is none of the three.
+    """
     if fmt == "json":
         return json.dumps(report, indent=2)
     if fmt not in ("text", "markdown"):

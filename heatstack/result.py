@@ -19,7 +19,7 @@ __all__ = ["Result", "EnergyLedger", "State"]
 class State:
     """Temperature of every active cell at one time: the start of a chained run.
 
-    Attributes
+    Parameters
     ----------
     time : float
         [s]
@@ -43,8 +43,22 @@ class EnergyLedger:
 
     ``closure_error = stored - heat_in + convected + radiated``: zero for an exactly
     conservative scheme (gap radiation and contact flows are internal and cancel).
-    ``friction_split`` holds, for each rubbing interface, the energy that entered the
-    part on each side, shape (n_interfaces, 2).
+
+    Parameters
+    ----------
+    heat_in : ndarray
+        Friction energy put into the assembly [J].
+    convected : ndarray
+        Energy lost by convection [J].
+    radiated : ndarray
+        Energy lost by radiation to the surroundings [J].
+    stored : ndarray
+        Change of the stored enthalpy [J].
+    friction_labels : tuple of str
+        Names of the rubbing interfaces.
+    friction_split : ndarray
+        Energy [J] that entered the part on each side of each rubbing interface, shape
+        (n_interfaces, 2).
     """
 
     heat_in: np.ndarray
@@ -70,7 +84,7 @@ class EnergyLedger:
 class Result:
     """Histories of one run.
 
-    Attributes
+    Parameters
     ----------
     times : ndarray
         Record times [s] (every accepted step and the start).

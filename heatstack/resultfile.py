@@ -51,8 +51,9 @@ Writing is atomic: the file is written to a temporary file in the target folder,
 flushed to disk, then moved over the target in one step, so a failed write never
 leaves a half-written file or damages a file that was already there.
 
-The readers live in :mod:`heatstack.resultread` and the steps of a safe write in
-:mod:`heatstack.atomic`; everything public is importable from here.
+The readers live in :mod:`heatstack.resultread`, the format name, version and ledger
+accounts shared by both sides in :mod:`heatstack.resultformat`, and the steps of a safe
+write in :mod:`heatstack.atomic`.
 """
 
 from __future__ import annotations
@@ -68,37 +69,17 @@ from typing import Any
 import h5py
 import numpy as np
 
-# the safe-write helpers under the private names this module's code has always used
-# (tests replace ``_new_temp`` to make a folder refuse new files)
-from .atomic import as_path as _as_path
-from .atomic import new_temp_file as _new_temp
-from .atomic import os_reason as _reason
-from .atomic import write_file_atomically
-from .atomic import write_target as _target
+from . import atomic
+from .atomic import as_path, os_reason, write_file_atomically, write_target
 from .errors import ResultFileError
 from .result import Result
-from .resultread import read_case_text, read_resolved_inputs, read_result
+from .resultformat import FORMAT_NAME, FORMAT_VERSION, LEDGER_ACCOUNTS
 
-__all__ = [
-    "FORMAT_NAME",
-    "FORMAT_VERSION",
-    "check_writable",
-    "read_case_text",
-    "read_resolved_inputs",
-    "read_result",
-    "write_result",
-]
-
-FORMAT_NAME = "heatstack-result"
-"""Value of the root ``format`` attribute of every heatstack results file."""
-
-FORMAT_VERSION = 1
-"""Layout version written by this module; files of a newer version are refused."""
+__all__ = ["check_writable", "write_result"]
 
 _COMPRESSIONS = ("gzip", "lzf", "none")
 _GZIP_LEVEL = 4
 _TEXT = h5py.string_dtype("utf-8")
-_LEDGER_ACCOUNTS = ("heat_in", "convected", "radiated", "stored")
 _DESCRIPTION = (
     "heatstack results: transient axisymmetric heat conduction in a wheel and brake. "
     "SI units; each dataset states its unit in its 'unit' attribute."
@@ -132,8 +113,8 @@ def check_writable(path: str | Path) -> Path:
         Naming the path and what is wrong: the folder is missing, is not a folder or
         is not writable, or ``path`` is a folder.
     """
-    given = _as_path(path)
-    target = _target(given)
+    given = as_path(path)
+    target = write_target(given)
     if target.is_dir():
         raise ResultFileError(f"results file {str(given)!r} cannot be written: it is a folder")
     folder = target.parent
@@ -142,17 +123,18 @@ def check_writable(path: str | Path) -> Path:
     if not folder.is_dir():
         raise ResultFileError(f"results file {str(given)!r} cannot be written: {str(folder)!r} is not a folder")
     try:
-        probe, fd = _new_temp(folder, target.name or "result")
+        probe, fd = atomic.new_temp_file(folder, target.name or "result")
     except OSError as exc:
         raise ResultFileError(
             f"results file {str(given)!r} cannot be written: folder {str(folder)!r} does not accept "
-            f"new files ({_reason(exc)})"
+            f"new files ({os_reason(exc)})"
         ) from None
     try:
         os.write(fd, b"0")
     except OSError as exc:
         raise ResultFileError(
-            f"results file {str(given)!r} cannot be written: writing in folder {str(folder)!r} failed ({_reason(exc)})"
+            f"results file {str(given)!r} cannot be written: "
+            f"writing in folder {str(folder)!r} failed ({os_reason(exc)})"
         ) from None
     finally:
         os.close(fd)
@@ -303,7 +285,7 @@ def _write_content(
         dataset.attrs["name"] = name
 
     ledger = h5.create_group("ledger")
-    for account in _LEDGER_ACCOUNTS:
+    for account in LEDGER_ACCOUNTS:
         _put(ledger, account, _numeric(getattr(result.ledger, account), f"ledger.{account}", 1), "J")
     _put_text(ledger, "friction_labels", _texts(result.ledger.friction_labels, "ledger.friction_labels"))
     _put(ledger, "friction_split", _numeric(result.ledger.friction_split, "ledger.friction_split", 2), "J")

@@ -16,10 +16,10 @@ from typing import Any
 import h5py
 import numpy as np
 
-from .atomic import as_path as _as_path
-from .atomic import os_reason as _reason
+from .atomic import as_path, os_reason
 from .errors import ResultFileError
 from .result import EnergyLedger, Result, State
+from .resultformat import FORMAT_NAME, FORMAT_VERSION, LEDGER_ACCOUNTS
 
 __all__ = [
     "read_case_text",
@@ -125,7 +125,7 @@ def _ordered(group: h5py.Group) -> list[str]:
 @contextlib.contextmanager
 def _open(path: str | Path) -> Iterator[_Reader]:
     """Open a results file for reading, check its format and version, and wrap every failure."""
-    given = _as_path(path)
+    given = as_path(path)
     if not given.exists():
         raise ResultFileError(f"results file {str(given)!r} does not exist")
     if given.is_dir():
@@ -133,7 +133,7 @@ def _open(path: str | Path) -> Iterator[_Reader]:
     try:
         hdf5 = h5py.is_hdf5(given)
     except OSError as exc:
-        raise ResultFileError(f"results file {str(given)!r} cannot be read ({_reason(exc)})") from None
+        raise ResultFileError(f"results file {str(given)!r} cannot be read ({os_reason(exc)})") from None
     if not hdf5:
         raise ResultFileError(f"results file {str(given)!r} is not an HDF5 file")
     try:
@@ -156,9 +156,6 @@ def _open(path: str | Path) -> Iterator[_Reader]:
 
 
 def _check_format(reader: _Reader) -> None:
-    # deferred: resultfile.py re-exports this module's readers
-    from .resultfile import FORMAT_NAME, FORMAT_VERSION
-
     attrs = reader.h5.attrs
     if "format" not in attrs:
         raise reader.fail(f"not a heatstack results file (no 'format' attribute; expected {FORMAT_NAME!r})")
@@ -203,9 +200,6 @@ def read_result(path: str | Path) -> Result:
         format version, or lacks a required dataset; the message names the file and
         what is wrong.
     """
-    # deferred: resultfile.py re-exports this module's readers
-    from .resultfile import _LEDGER_ACCOUNTS
-
     with _open(path) as rd:
         times = rd.array("times", "s", 1)
         end_of_heating = rd.scalar("end_of_heating", "s")
@@ -249,7 +243,7 @@ def read_result(path: str | Path) -> Result:
             series[rd.name_of(dataset)] = rd.array(key, "K", 1, series_group)
 
         lg = rd.group("ledger")
-        accounts = {account: rd.array(account, "J", 1, lg) for account in _LEDGER_ACCOUNTS}
+        accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
         labels = rd.texts("friction_labels", lg)
         split = rd.array("friction_split", "J", 2, lg)
         if split.shape[0] != len(labels):

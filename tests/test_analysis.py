@@ -22,7 +22,7 @@ from heatstack import (
     SolverOptions,
     simple_material,
 )
-from heatstack.answers.analysis import cooling_time, margins, peak, sensor_lag, threshold_crossings
+from heatstack.answers.analysis import cooling_time_in_result, margins, peak, sensor_lag, threshold_crossings
 from heatstack.errors import InputError, UnitError
 from heatstack.numerics.instrument import first_order_lag
 from heatstack.result import EnergyLedger, Result, State
@@ -221,7 +221,7 @@ def test_cooling_time_of_a_lumped_body():
     law = FixedConvection(h, 300.0, radiation=False)
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, 2.0 * expected, {"*": law})])
     result = model.run(schedule, 600.0, SolverOptions(fixed_step=tau / 200.0))
-    answer = cooling_time(result, "centre", below=375.0, after=0.0)
+    answer = cooling_time_in_result(result, "centre", below=375.0, after=0.0)
     assert answer.reached and answer.duration == pytest.approx(expected, rel=0.01)
 
 
@@ -230,7 +230,7 @@ def test_cooling_time_counts_the_last_fall_below():
     # 500 - (t - 200) = 400, at t = 300 s; counted from the end of braking at 20 s: 280 s.
     t = np.array([0.0, 50.0, 150.0, 200.0, 400.0])
     result = make_result(t, probes={"rim": [500.0, 450.0, 350.0, 500.0, 300.0]}, end_of_heating=20.0)
-    answer = cooling_time(result, "rim", below=400.0)
+    answer = cooling_time_in_result(result, "rim", below=400.0)
     assert (answer.time_below, answer.duration) == pytest.approx((300.0, 280.0))
 
 
@@ -239,14 +239,14 @@ def test_cooling_time_from_the_peak():
     # 500 s, 200 s after the peak.
     t = np.linspace(0.0, 800.0, 801)
     result = make_result(t, probes={"rim": triangle(t, 300.0)})
-    assert cooling_time(result, "rim", below=400.0, after="peak").duration == pytest.approx(200.0)
+    assert cooling_time_in_result(result, "rim", below=400.0, after="peak").duration == pytest.approx(200.0)
 
 
 def test_cooling_time_not_within_the_record_says_so():
     # Hand: the record ends at 500 K, above 400 K: not reached, no time given.
     t = np.linspace(0.0, 100.0, 11)
     result = make_result(t, probes={"rim": 600.0 - t}, end_of_heating=0.0)
-    answer = cooling_time(result, "rim", below=400.0)
+    answer = cooling_time_in_result(result, "rim", below=400.0)
     assert (answer.reached, answer.time_below, answer.duration) == (False, None, None)
 
 

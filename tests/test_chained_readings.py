@@ -27,7 +27,8 @@ from heatstack import (
 )
 from heatstack.errors import InputError
 from heatstack.numerics.instrument import first_order_lag
-from heatstack.resultfile import read_result, write_result
+from heatstack.resultfile import write_result
+from heatstack.resultread import read_result
 
 STEEL = simple_material("plain", 7800.0, 480.0, 40.0, temperature_range=(200.0, 1500.0))
 TAU = 60.0  # s, slow against the heating so the reading lags by tens of kelvin

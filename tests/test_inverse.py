@@ -18,20 +18,14 @@ import pytest
 from scipy.optimize import least_squares
 
 from heatstack import FixedConvection, Model
-from heatstack.answers.inverse import (
-    EnergyEstimate,
-    FitError,
-    ScaledConvection,
-    estimate_energy,
-    predict_from_estimate,
-    read_sensor_trace,
-    scale_convection,
-)
 from heatstack.builders import build_wheel_brake
 from heatstack.errors import InputError, UnitError
 from heatstack.numerics.schedule import BoundaryLaw
 from heatstack.operations.duty import DutyCycle, DutyPhase, Environment
 from heatstack.operations.heat_input import stop_from_energy
+from heatstack.questions.convection_scaling import ScaledConvection, scale_convection
+from heatstack.questions.inverse import EnergyEstimate, FitError, estimate_energy, predict_from_estimate
+from heatstack.questions.sensor_trace import read_sensor_trace
 
 E_TRUE = 20e6  # [J], per brake
 T_AMBIENT = 288.15

@@ -16,15 +16,9 @@ import pytest
 from scipy.integrate import quad
 
 from heatstack.errors import HeatstackWarning, MaterialError, PropertyRangeError
-from heatstack.materials import (
-    REFERENCE_TEMPERATURE,
-    Material,
-    PropertyTable,
-    available_materials,
-    load_material,
-    material_from_mapping,
-    materials_directory,
-)
+from heatstack.material_files import available_materials, load_material, material_from_mapping, materials_directory
+from heatstack.materials import REFERENCE_TEMPERATURE, Material
+from heatstack.property_table import PropertyTable
 
 SHIPPED = available_materials()
 T_REF = 293.15

@@ -27,14 +27,9 @@ from heatstack import (
     simple_material,
 )
 from heatstack.errors import ResultFileError
-from heatstack.resultfile import (
-    FORMAT_VERSION,
-    check_writable,
-    read_case_text,
-    read_resolved_inputs,
-    read_result,
-    write_result,
-)
+from heatstack.resultfile import check_writable, write_result
+from heatstack.resultformat import FORMAT_VERSION
+from heatstack.resultread import read_case_text, read_resolved_inputs, read_result
 
 CASE_TEXT = '[case]\ntitle = "two discs: rotor 1 / stator 1"\n# température initiale\ninitial_temperature = "27 degC"\n'
 RESOLVED = {
@@ -384,7 +379,7 @@ def test_check_writable_folder_refusing_new_files(tmp_path, monkeypatch):
     def refuse(folder, stem):
         raise PermissionError(errno.EACCES, "Permission denied")
 
-    monkeypatch.setattr(rf, "_new_temp", refuse)
+    monkeypatch.setattr(heatstack.atomic, "new_temp_file", refuse)
     with pytest.raises(ResultFileError, match="does not accept new files.*Permission denied"):
         check_writable(tmp_path / "run.h5")
 

@@ -28,7 +28,7 @@ from heatstack.studies import (
     plan_study,
     study_from_mapping,
 )
-from heatstack.studies.description import format_path, parse_path
+from heatstack.studies.paths import format_path, parse_path
 
 DEMO = Path(__file__).resolve().parents[1] / "examples" / "demo_rto.toml"
 MASS = "duty.phases[0].events[0].mass"

@@ -31,7 +31,7 @@ from heatstack.errors import InputError, UnitError
 from heatstack.numerics.schedule import PowerHistory
 from heatstack.operations.duty import DutyCycle, DutyPhase, Environment
 from heatstack.operations.heat_input import BrakingEvent, stop_from_energy
-from heatstack.whatif import CoolingAnswer, WhatIfAnswer, cooling_time, history_names, what_if
+from heatstack.questions.whatif import CoolingAnswer, WhatIfAnswer, cooling_time_from_state, history_names, what_if
 
 RHO, CP, K = 8900.0, 385.0, 400.0  # copper-like [kg/m^3], [J/(kg K)], [W/(m K)]
 H, T_INF = 25.0, 300.0  # [W/(m^2 K)], [K]
@@ -65,7 +65,7 @@ def test_cooling_time_of_a_lumped_body_matches_the_exponential(lumped):
     assert state.time == pytest.approx(300.0)
     mass = model.network.mass()
     start = float(np.dot(mass, state.temperature) / mass.sum())
-    answer = cooling_time(model, state, environment, scales, "centre", below=350.0, horizon="40 min", options=TIGHT)
+    answer = cooling_time_from_state(model, state, environment, scales, "centre", below=350.0, horizon="40 min", options=TIGHT)
     assert isinstance(answer, CoolingAnswer) and answer.reached
     assert answer.time_needed == pytest.approx(closed_form_time(start, 350.0), rel=0.01)
     assert answer.result.times[0] == pytest.approx(state.time)  # the run keeps the model's clock
@@ -74,33 +74,33 @@ def test_cooling_time_of_a_lumped_body_matches_the_exponential(lumped):
 
 def test_threshold_with_units_gives_the_same_answer(lumped):
     model, environment, scales, state = lumped
-    kelvin = cooling_time(model, state, environment, scales, "centre", below=350.0, horizon="40 min")
-    celsius = cooling_time(model, state, environment, scales, "centre", below="76.85 degC", horizon="40 min")
+    kelvin = cooling_time_from_state(model, state, environment, scales, "centre", below=350.0, horizon="40 min")
+    celsius = cooling_time_from_state(model, state, environment, scales, "centre", below="76.85 degC", horizon="40 min")
     assert celsius.threshold == pytest.approx(350.0)
     assert celsius.time_needed == pytest.approx(kelvin.time_needed, rel=1e-9)
     with pytest.raises(UnitError):
-        cooling_time(model, state, environment, scales, "centre", below="76.85 m", horizon="40 min")
+        cooling_time_from_state(model, state, environment, scales, "centre", below="76.85 m", horizon="40 min")
 
 
 def test_horizon_too_short_is_not_reached_and_says_so(lumped):
     model, environment, scales, state = lumped
-    answer = cooling_time(model, state, environment, scales, "centre", below=350.0, horizon="5 min")
+    answer = cooling_time_from_state(model, state, environment, scales, "centre", below=350.0, horizon="5 min")
     assert not answer.reached and answer.time_needed is None
     assert "not reached" in answer.message and answer.final_value > 350.0
-    already = cooling_time(model, state, environment, scales, "centre", below=600.0, horizon="1 min")
+    already = cooling_time_from_state(model, state, environment, scales, "centre", below=600.0, horizon="1 min")
     assert already.reached and already.time_needed == 0.0
 
 
 def test_bad_names_states_and_scales_are_input_errors(lumped):
     model, environment, scales, state = lumped
     with pytest.raises(InputError, match="no probe or series named 'heat_sink_mean'"):
-        cooling_time(model, state, environment, scales, below=350.0)  # no heat sink in this model
+        cooling_time_from_state(model, state, environment, scales, below=350.0)  # no heat sink in this model
     with pytest.raises(InputError, match="this model has"):
-        cooling_time(model, State(0.0, np.full(3, 400.0)), environment, scales, "centre", below=350.0)
+        cooling_time_from_state(model, State(0.0, np.full(3, 400.0)), environment, scales, "centre", below=350.0)
     with pytest.raises(InputError, match="block:top"):
-        cooling_time(model, state, environment, [SurfaceGroup("block:inner", 0.02)], "centre", below=350.0)
+        cooling_time_from_state(model, state, environment, [SurfaceGroup("block:inner", 0.02)], "centre", below=350.0)
     with pytest.raises(InputError, match="horizon"):
-        cooling_time(model, state, environment, scales, "centre", below=350.0, horizon=0.0)
+        cooling_time_from_state(model, state, environment, scales, "centre", below=350.0, horizon=0.0)
 
 
 # ---------------------------------------------------------------------------- wheel and brake
@@ -144,7 +144,7 @@ def test_what_if_with_no_added_energy_is_the_continued_cooling(wheel):
     built, model, hot = wheel
     nothing = BrakingEvent("no braking", PowerHistory(np.array([0.0, 30.0]), np.zeros(2)), 0.0, 0.0, 0.0)
     answer = what_if(model, hot, nothing, Environment(), built.assembly.surfaces, after="2 h")
-    cooling = cooling_time(
+    cooling = cooling_time_from_state(
         model, hot, Environment(), built.assembly.surfaces, "heat_sink_mean", below="100 degC", horizon=7230.0
     )
     reference = cooling.result
@@ -162,11 +162,11 @@ def test_what_if_with_no_added_energy_is_the_continued_cooling(wheel):
 
 def test_heat_soak_cooling_time_counts_the_fall_after_the_rise(wheel):
     built, model, hot = wheel
-    start = cooling_time(
+    start = cooling_time_from_state(
         model, hot, Environment(), built.assembly.surfaces, "fuse plug 1", below=600.0, horizon="10 min"
     )
     threshold = 0.5 * (start.start_value + start.peak_value)  # crossed going up, then going down
-    answer = cooling_time(
+    answer = cooling_time_from_state(
         model, hot, Environment(), built.assembly.surfaces, "fuse plug 1", below=threshold, horizon="4 h"
     )
     assert answer.peak_value > threshold > answer.start_value

@@ -37,7 +37,7 @@ __all__ = [
     "sensor_lag",
     "threshold_crossings",
     "margins",
-    "cooling_time",
+    "cooling_time_in_result",
 ]
 
 #: Default band [K] within which the sensor reading counts as showing the heat-sink mean.
@@ -203,15 +203,17 @@ class CoolingTime:
 
 
 # --------------------------------------------------------------------------- shared helpers
+# Public because fuse_plugs.py and tyre.py use them too; every check raises InputError.
 
 
-def _frozen(values: np.ndarray) -> np.ndarray:
+def frozen_copy(values: np.ndarray) -> np.ndarray:
+    """A read-only float copy of ``values`` (answers are values, not views of a Result)."""
     out = np.array(values, dtype=float, copy=True)
     out.setflags(write=False)
     return out
 
 
-def _times(result: Result) -> np.ndarray:
+def record_times(result: Result) -> np.ndarray:
     """The record times, checked: at least two, finite, strictly increasing."""
     times = np.asarray(result.times, dtype=float)
     if times.ndim != 1 or times.size < 2:
@@ -221,7 +223,8 @@ def _times(result: Result) -> np.ndarray:
     return times
 
 
-def _checked(result: Result, name: str, values: np.ndarray) -> np.ndarray:
+def checked_history(result: Result, name: str, values: np.ndarray) -> np.ndarray:
+    """``values`` [K] of the history ``name``, checked: one finite value per record time."""
     values = np.asarray(values, dtype=float)
     if values.shape != np.shape(result.times):
         raise InputError(f"{name!r}: {values.size} values for {np.size(result.times)} record times")
@@ -236,23 +239,23 @@ def _known(result: Result) -> str:
 
 def _history(result: Result, name: str) -> np.ndarray:
     """A probe's reading or a global series, by name; an error lists the known names."""
-    _times(result)
+    record_times(result)
     if name in result.readings:
-        return _checked(result, name, result.readings[name])
+        return checked_history(result, name, result.readings[name])
     if name in result.series:
-        return _checked(result, name, result.series[name])
+        return checked_history(result, name, result.series[name])
     raise InputError(f"no probe or series named {name!r}; {_known(result)}")
 
 
-def _local(result: Result, name: str, field: str = "probe") -> np.ndarray:
+def local_temperature(result: Result, name: str, field: str = "probe") -> np.ndarray:
     """The local temperature at a probe point, by name."""
-    _times(result)
+    record_times(result)
     if name not in result.probes:
         raise InputError(f"{field}: no probe named {name!r}; known probes: {sorted(result.probes)}")
-    return _checked(result, name, result.probes[name])
+    return checked_history(result, name, result.probes[name])
 
 
-def _temperature(value: Any, field: str) -> float:
+def absolute_temperature(value: Any, field: str) -> float:
     """A user temperature limit [K] (number in K or string with a unit)."""
     out = to_si(value, None, "temperature", field)
     if not np.isfinite(out) or out <= 0:
@@ -260,7 +263,7 @@ def _temperature(value: Any, field: str) -> float:
     return out
 
 
-def _difference(value: Any, field: str) -> float:
+def temperature_difference(value: Any, field: str) -> float:
     """A user temperature difference [K], >= 0."""
     out = to_si(value, None, "temperature_difference", field)
     if not np.isfinite(out) or out < 0:
@@ -268,7 +271,7 @@ def _difference(value: Any, field: str) -> float:
     return out
 
 
-def _to_si_unit(value: Any, si_unit: str, field: str) -> float:
+def to_si_unit(value: Any, si_unit: str, field: str) -> float:
     """Convert to ``si_unit`` a quantity whose dimension :data:`heatstack.units.SI_UNITS` lacks.
 
     A bare number is taken as already in ``si_unit``.
@@ -309,7 +312,7 @@ def _crossings(times: np.ndarray, values: np.ndarray, level: float) -> list[tupl
     return out
 
 
-def _first_reach(times: np.ndarray, values: np.ndarray, level: float) -> float | None:
+def first_reach(times: np.ndarray, values: np.ndarray, level: float) -> float | None:
     """First time a piecewise-linear history is at or above ``level`` [s]; None if never."""
     if values[0] >= level:
         return float(times[0])
@@ -327,7 +330,7 @@ def _from(times: np.ndarray, values: np.ndarray, start: float) -> tuple[np.ndarr
 
 
 def _time(result: Result, value: Any, field: str) -> float:
-    times = _times(result)
+    times = record_times(result)
     t = to_si(value, None, "time", field)
     if not np.isfinite(t) or not times[0] <= t <= times[-1]:
         raise InputError(f"{field}: {t} s lies outside the record [{times[0]}, {times[-1]}] s")
@@ -356,7 +359,7 @@ def peak(result: Result, name: str) -> Peak:
         Unknown name (the message lists the known ones) or fewer than two records.
     """
     values = _history(result, name)
-    return _peak_of(name, _times(result), values, float(result.end_of_heating))
+    return _peak_of(name, record_times(result), values, float(result.end_of_heating))
 
 
 def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND) -> SensorLag:
@@ -386,18 +389,18 @@ def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND)
     InputError
         Unknown sensor, missing heat-sink series, bad band, too few records.
     """
-    times = _times(result)
-    band_k = _difference(band, "band")
+    times = record_times(result)
+    band_k = temperature_difference(band, "band")
     reading = _history(result, sensor)
-    local = _local(result, sensor, "sensor")
+    local = local_temperature(result, sensor, "sensor")
     for series in (HEAT_SINK_MEAN, HEAT_SINK_MAX):
         if series not in result.series:
             raise InputError(
                 f"sensor_lag needs the series {series!r}, absent from this result "
                 f"(no heat-sink parts?); known series: {sorted(result.series)}"
             )
-    mean = _checked(result, HEAT_SINK_MEAN, result.series[HEAT_SINK_MEAN])
-    hottest = _checked(result, HEAT_SINK_MAX, result.series[HEAT_SINK_MAX])
+    mean = checked_history(result, HEAT_SINK_MEAN, result.series[HEAT_SINK_MEAN])
+    hottest = checked_history(result, HEAT_SINK_MAX, result.series[HEAT_SINK_MAX])
     end = float(result.end_of_heating)
     read_peak = _peak_of(sensor, times, reading, end)
     local_peak = _peak_of(sensor, times, local, end)
@@ -416,9 +419,9 @@ def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND)
         instrument_delay=read_peak.time - local_peak.time,
         peak_bracket=read_peak.bracket,
         local_peak_bracket=local_peak.bracket,
-        times=_frozen(times),
-        offset_to_mean=_frozen(to_mean),
-        offset_to_max=_frozen(to_max),
+        times=frozen_copy(times),
+        offset_to_mean=frozen_copy(to_mean),
+        offset_to_max=frozen_copy(to_max),
         offset_to_mean_at_peak=float(to_mean[k]),
         offset_to_max_at_peak=float(to_max[k]),
         band=band_k,
@@ -466,8 +469,8 @@ def threshold_crossings(result: Result, name: str, limit: Any) -> list[tuple[flo
     InputError, UnitError
         Unknown name, a limit that is not a temperature, too few records.
     """
-    level = _temperature(limit, "limit")
-    return _crossings(_times(result), _history(result, name), level)
+    level = absolute_temperature(limit, "limit")
+    return _crossings(record_times(result), _history(result, name), level)
 
 
 def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
@@ -492,9 +495,9 @@ def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
     if not limits:
         raise InputError("limits: give at least one name -> limit")
     out = []
-    times = _times(result)
+    times = record_times(result)
     for name, value in limits.items():
-        limit = _temperature(value, f"limits[{name!r}]")
+        limit = absolute_temperature(value, f"limits[{name!r}]")
         values = _history(result, name)
         k = int(np.argmax(values))
         top = float(values[k])
@@ -502,7 +505,7 @@ def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
     return out
 
 
-def cooling_time(result: Result, name: str, below: Any, after: Any = None) -> CoolingTime:
+def cooling_time_in_result(result: Result, name: str, below: Any, after: Any = None) -> CoolingTime:
     """Time until a history falls below a temperature and stays below, from the record.
 
     Parameters
@@ -527,9 +530,9 @@ def cooling_time(result: Result, name: str, below: Any, after: Any = None) -> Co
     InputError, UnitError
         Unknown name, a bad temperature or start time, too few records.
     """
-    times = _times(result)
+    times = record_times(result)
     values = _history(result, name)
-    level = _temperature(below, "below")
+    level = absolute_temperature(below, "below")
     if after is None:
         start = min(max(float(result.end_of_heating), times[0]), times[-1])
     elif isinstance(after, str) and after == "peak":
@@ -549,7 +552,8 @@ def cooling_time(result: Result, name: str, below: Any, after: Any = None) -> Co
     return CoolingTime(name, level, start, True, when, when - start, float(t[-1]), end_value)
 
 
-def _names(names: Sequence[str], field: str) -> tuple[str, ...]:
+def name_tuple(names: Sequence[str], field: str) -> tuple[str, ...]:
+    """One name or several as a non-empty tuple; InputError naming ``field`` if empty."""
     if isinstance(names, str):
         return (names,)
     out = tuple(names)

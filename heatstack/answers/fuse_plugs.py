@@ -26,7 +26,14 @@ from ..errors import InputError
 from ..numerics.instrument import first_order_lag
 from ..result import Result
 from ..units import to_si
-from .analysis import _difference, _first_reach, _local, _temperature, _times, _to_si_unit
+from .analysis import (
+    absolute_temperature,
+    first_reach,
+    local_temperature,
+    record_times,
+    temperature_difference,
+    to_si_unit,
+)
 
 __all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs"]
 
@@ -68,9 +75,9 @@ class FusePlug:
         object.__setattr__(
             self,
             "release_temperature",
-            _temperature(self.release_temperature, f"{where}: release_temperature"),
+            absolute_temperature(self.release_temperature, f"{where}: release_temperature"),
         )
-        object.__setattr__(self, "tolerance", _difference(self.tolerance, f"{where}: tolerance"))
+        object.__setattr__(self, "tolerance", temperature_difference(self.tolerance, f"{where}: tolerance"))
         object.__setattr__(self, "time_constant", tau)
 
     @classmethod
@@ -114,7 +121,7 @@ class FusePlug:
         where = f"fuse plug {name!r}"
         m = to_si(mass, None, "mass", f"{where}: mass")
         c = to_si(specific_heat, None, "specific_heat", f"{where}: specific_heat")
-        g = _to_si_unit(contact_conductance, "W/K", f"{where}: contact_conductance")
+        g = to_si_unit(contact_conductance, "W/K", f"{where}: contact_conductance")
         for field, value in (("mass", m), ("specific_heat", c), ("contact_conductance", g)):
             if not np.isfinite(value) or value <= 0:
                 raise InputError(f"{where}: {field} must be finite and > 0, got {value}")
@@ -199,7 +206,7 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
         plugs = [plugs]
     if not plugs:
         raise InputError("plugs: give at least one fuse plug")
-    times = _times(result)
+    times = record_times(result)
     out = []
     for item in plugs:
         if isinstance(item, FusePlugSpec):
@@ -208,11 +215,11 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
             plug = item
         else:
             raise InputError(f"plugs: expected FusePlug or FusePlugSpec, got {type(item).__name__}")
-        local = _local(result, plug.name, f"fuse plug {plug.name!r}")
+        local = local_temperature(result, plug.name, f"fuse plug {plug.name!r}")
         temperature = first_order_lag(times, local, plug.time_constant)
         k = int(np.argmax(temperature))
         top = float(temperature[k])
-        release = _first_reach(times, temperature, plug.release_temperature)
+        release = first_reach(times, temperature, plug.release_temperature)
         low = plug.release_temperature - plug.tolerance
         out.append(
             PlugAnswer(
@@ -223,7 +230,7 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
                 margin=plug.release_temperature - top,
                 margin_to_band_low=low - top,
                 releases=release is not None,
-                earliest_release_time=_first_reach(times, temperature, low),
+                earliest_release_time=first_reach(times, temperature, low),
                 release_temperature=plug.release_temperature,
                 tolerance=plug.tolerance,
                 time_constant=plug.time_constant,

@@ -30,14 +30,14 @@ from ..result import Result
 from ..units import to_si
 from .analysis import (
     Margin,
-    _checked,
-    _first_reach,
-    _frozen,
-    _names,
-    _temperature,
-    _times,
-    _to_si_unit,
+    absolute_temperature,
+    checked_history,
+    first_reach,
+    frozen_copy,
     margins,
+    name_tuple,
+    record_times,
+    to_si_unit,
 )
 from .fuse_plugs import PlugAnswer
 
@@ -254,22 +254,22 @@ def tyre_gas(
     Ideal gas at constant volume, ``p2 / p1 = T2 / T1`` (Gay-Lussac; any thermodynamics
     text, e.g. Cengel & Boles, Thermodynamics: An Engineering Approach, ch. 3, from memory).
     """
-    times = _times(result)
+    times = record_times(result)
     if CAVITY_SERIES not in result.series:
         raise InputError(
             f"tyre_gas needs the series {CAVITY_SERIES!r} (rim exterior inside the tyre cavity); "
             f"known series: {sorted(result.series)}"
         )
-    rim = _checked(result, CAVITY_SERIES, result.series[CAVITY_SERIES])
+    rim = checked_history(result, CAVITY_SERIES, result.series[CAVITY_SERIES])
     p_amb = _positive(to_si(ambient_pressure, None, "pressure", "ambient_pressure"), "ambient_pressure")
     p_cold = _absolute(cold_pressure, gauge, p_amb, "cold_pressure")
-    volume = _positive(_to_si_unit(gas_volume, "m**3", "gas_volume"), "gas_volume")
+    volume = _positive(to_si_unit(gas_volume, "m**3", "gas_volume"), "gas_volume")
     area = _positive(to_si(cavity_area, None, "area", "cavity_area"), "cavity_area")
     h = _positive(to_si(h_cavity, None, "heat_transfer_coefficient", "h_cavity"), "h_cavity", True)
-    g_out = _positive(_to_si_unit(outer_conductance, "W/K", "outer_conductance"), "outer_conductance", True)
-    t_cold = _temperature(cold_temperature, "cold_temperature")
-    t_amb = t_cold if ambient is None else _temperature(ambient, "ambient")
-    t_init = t_cold if initial_temperature is None else _temperature(initial_temperature, "initial_temperature")
+    g_out = _positive(to_si_unit(outer_conductance, "W/K", "outer_conductance"), "outer_conductance", True)
+    t_cold = absolute_temperature(cold_temperature, "cold_temperature")
+    t_amb = t_cold if ambient is None else absolute_temperature(ambient, "ambient")
+    t_init = t_cold if initial_temperature is None else absolute_temperature(initial_temperature, "initial_temperature")
     _positive(gas_constant, "gas_constant")
     _positive(cv, "cv")
 
@@ -285,9 +285,9 @@ def tyre_gas(
     pressure = p_cold * gas / t_cold
     k = int(np.argmax(pressure))
     return TyreGas(
-        times=_frozen(times),
-        temperature=_frozen(gas),
-        pressure=_frozen(pressure),
+        times=frozen_copy(times),
+        temperature=frozen_copy(gas),
+        pressure=frozen_copy(pressure),
         peak_pressure=float(pressure[k]),
         time_of_peak=float(times[k]),
         peak_temperature=float(np.max(gas)),
@@ -315,6 +315,11 @@ def tyre_pressure_margin(gas: TyreGas, limit: Any, gauge: bool = True) -> Pressu
     -------
     PressureMargin
         Pressures absolute.
+
+    Raises
+    ------
+    InputError
+        If ``limit`` is not a pressure, or not above 0 Pa absolute.
     """
     p_limit = _absolute(limit, gauge, gas.ambient_pressure, "limit")
     return PressureMargin(
@@ -322,7 +327,7 @@ def tyre_pressure_margin(gas: TyreGas, limit: Any, gauge: bool = True) -> Pressu
         peak_pressure=gas.peak_pressure,
         margin=p_limit - gas.peak_pressure,
         exceeded=bool(gas.peak_pressure > p_limit),
-        time_limit_reached=_first_reach(gas.times, gas.pressure, p_limit),
+        time_limit_reached=first_reach(gas.times, gas.pressure, p_limit),
     )
 
 
@@ -352,7 +357,7 @@ def plug_releases_before_limit(
     if not plug_answers:
         raise InputError("plug_answers: give at least one plug answer")
     p_limit = _absolute(limit, gauge, gas.ambient_pressure, "limit")
-    limit_time = _first_reach(gas.times, gas.pressure, p_limit)
+    limit_time = first_reach(gas.times, gas.pressure, p_limit)
     released = [a for a in plug_answers if a.release_time is not None]
     first = min(released, key=lambda a: a.release_time) if released else None
     if first is None:
@@ -381,5 +386,5 @@ def bead_seat_margin(
     list of Margin
         One per name, in order.
     """
-    limit = _temperature(rubber_limit, "rubber_limit")
-    return margins(result, {name: limit for name in _names(names, "names")})
+    limit = absolute_temperature(rubber_limit, "rubber_limit")
+    return margins(result, {name: limit for name in name_tuple(names, "names")})

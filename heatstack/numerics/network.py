@@ -23,7 +23,8 @@ import numpy as np
 
 from ..errors import GeometryError, MaterialError
 from ..geometry import Assembly, Part
-from ..materials import Material, load_material
+from ..material_files import load_material
+from ..materials import Material
 from .grid import Grid
 
 __all__ = ["Network", "build_network", "RADIAL", "AXIAL"]

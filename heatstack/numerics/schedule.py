@@ -42,7 +42,20 @@ class BoundaryLaw(Protocol):
     radiation: bool
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
-        """Convective heat transfer coefficient [W/(m^2 K)] at each surface temperature [K]."""
+        """Convective heat transfer coefficient [W/(m^2 K)] at each surface temperature [K].
+
+        Parameters
+        ----------
+        surface_temperature : ndarray
+            Temperature of each exposed face of the group [K].
+        time : float
+            Model time [s].
+
+        Returns
+        -------
+        ndarray
+            One coefficient [W/(m^2 K)] per face, >= 0.
+        """
         ...
 
 
@@ -78,7 +91,20 @@ class FixedConvection:
             raise ScheduleError(f"surroundings_temperature must be > 0 K, got {self.surroundings_temperature}")
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
-        """Return ``h`` for every surface [W/(m^2 K)]."""
+        """Return ``h`` for every surface [W/(m^2 K)].
+
+        Parameters
+        ----------
+        surface_temperature : ndarray
+            Temperature of each exposed face [K] (only its shape is used).
+        time : float
+            Model time [s] (unused: the coefficient is constant).
+
+        Returns
+        -------
+        ndarray
+            ``h`` [W/(m^2 K)] in the shape of ``surface_temperature``.
+        """
         return np.full(np.shape(surface_temperature), self.h)
 
 
@@ -127,7 +153,18 @@ class PowerHistory:
         return np.interp(time, self.times, self.powers, left=0.0, right=0.0)
 
     def energy(self, start: float, end: float) -> float:
-        """Exact integral of the power over ``[start, end]`` [J] (trapezoid of a linear table)."""
+        """Exact integral of the power over ``[start, end]`` [J] (trapezoid of a linear table).
+
+        Parameters
+        ----------
+        start, end : float
+            Interval [s]; the parts outside the table count zero.
+
+        Returns
+        -------
+        float
+            Energy [J]; zero when ``end <= start``.
+        """
         start, end = max(start, self.times[0]), min(end, self.times[-1])
         if end <= start:
             return 0.0
@@ -252,5 +289,16 @@ class Schedule:
         return self.phases[-1]
 
     def energy(self, start: float, end: float) -> float:
-        """Friction energy delivered over ``[start, end]`` [J]."""
+        """Friction energy delivered over ``[start, end]`` [J].
+
+        Parameters
+        ----------
+        start, end : float
+            Interval [s].
+
+        Returns
+        -------
+        float
+            Energy [J] of the power history over the interval.
+        """
         return self.power.energy(start, end)

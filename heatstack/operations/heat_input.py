@@ -448,6 +448,12 @@ def stop_from_speed_trace(
     BrakingEvent
         ``kinetic_energy`` is the sum of the kinetic-energy drops of the slowing
         intervals.
+
+    Raises
+    ------
+    InputError
+        If the trace cannot be read (the message names the file line), or a field is not
+        a valid quantity (the message names it).
     """
     t, v = read_speed_trace(path_or_rows)
     m = _positive(mass, "mass", "mass")
@@ -521,6 +527,12 @@ def taxi_snubs(
     -------
     BrakingEvent
         Energy per brake ``count * share m (v_h^2 - v_l^2) / (2 n)``.
+
+    Raises
+    ------
+    InputError
+        Naming the field: a value that is not a finite quantity of its dimension, a
+        share outside [0, 1], ``speed_low >= speed_high`` or ``interval < snub_duration``.
     """
     m = _positive(mass, "mass", "mass")
     n = _count(braked_wheels, "braked_wheels")
@@ -572,6 +584,16 @@ def gear_retraction(
         Time of brake application [s].
     name : str
         Label of the event.
+
+    Returns
+    -------
+    BrakingEvent
+        Energy per brake ``I v^2 / (2 r^2)`` [J] over a linearly falling power [W].
+
+    Raises
+    ------
+    InputError
+        Naming the field: a value that is not a finite quantity of its dimension, or not > 0.
     """
     inertia = _positive(moment_of_inertia, "moment_of_inertia", "moment_of_inertia")
     v = _positive(lift_off_speed, "speed", "lift_off_speed")

@@ -10,7 +10,7 @@ Every figure carries a caption saying that it is not certified data.
 
 from __future__ import annotations
 
-from ._common import CAPTION
+from .common import CAPTION
 from .fields import plot_field, plot_layout
 from .histories import plot_histories, plot_sensor_offset, plot_why_the_gauge_lags
 

@@ -20,8 +20,8 @@ from ..errors import InputError
 from ..geometry import ROLES, Assembly
 from ..numerics.grid import Grid
 from ..result import Result
-from ._common import _check_result, _check_unit, _figure, _minutes_text, _save, _target, _temperature
-from ._labels import _LabelPlacer, _overlap
+from .common import check_result, check_unit, figure_target, minutes_text, new_figure, save_figure, to_temperature_unit
+from .labels import LabelPlacer, box_overlap
 
 __all__ = ["plot_field", "plot_layout"]
 
@@ -109,9 +109,9 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
     ResultFileError
         The folder does not exist or the file cannot be written.
     """
-    target, fmt = _target(path)
-    _check_result(result)
-    symbol = _check_unit(unit)
+    target, fmt = figure_target(path)
+    check_result(result)
+    symbol = check_unit(unit)
     t_first, t_last = float(result.times[0]), float(result.times[-1])
     try:
         time = float(time)
@@ -124,10 +124,10 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
         raise InputError("plot_field: this result holds no field snapshots")
     k = int(np.argmin(np.abs(result.snapshot_times - time)))
     shown = float(result.snapshot_times[k])
-    values = _temperature(result.snapshots[k], unit)
+    values = to_temperature_unit(result.snapshots[k], unit)
     z_mm, r_mm = result.z_edges * 1e3, result.r_edges * 1e3
 
-    fig = _figure(9.0, _height_for(r_mm[-1] - r_mm[0], z_mm[-1] - z_mm[0], 6.6))
+    fig = new_figure(9.0, _height_for(r_mm[-1] - r_mm[0], z_mm[-1] - z_mm[0], 6.6))
     ax = fig.add_subplot()
     finite = values[np.isfinite(values)]
     vmin, vmax = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
@@ -145,20 +145,20 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
     ax.set_ylabel("Radius r [mm]")
     bar = fig.colorbar(mesh, ax=ax, shrink=0.85, pad=0.02)
     bar.set_label(f"Temperature [{symbol}]")
-    title = f"Temperature field at {_minutes_text(shown)}"
+    title = f"Temperature field at {minutes_text(shown)}"
     if abs(shown - time) > 0.5:
-        title += f" (nearest stored snapshot to {_minutes_text(time)})"
+        title += f" (nearest stored snapshot to {minutes_text(time)})"
     ax.set_title(title, fontsize=11)
 
     positions = [(name, z * 1e3, r * 1e3) for name, (r, z) in result.probe_positions.items()]
     for _, z, r in positions:
         ax.plot([z], [r], "o", ms=5, mfc="white", mec="black", mew=1.0, zorder=5)
-    placer = _LabelPlacer(fig, ax, avoid_lines=False)
+    placer = LabelPlacer(fig, ax, avoid_lines=False)
     placer.add_soft_segments(outlines)
     placer.block_points(np.array([(z, r) for _, z, r in positions]).reshape(-1, 2), half=5.0)
     for name, z, r in positions:
         placer.place((z, r), name, boxed=True)
-    return _save(fig, target, fmt)
+    return save_figure(fig, target, fmt)
 
 
 # --------------------------------------------------------------------------- 4. layout
@@ -194,7 +194,7 @@ def plot_layout(assembly: Assembly, path: str | os.PathLike, grid: Grid | None =
     ResultFileError
         The folder does not exist or the file cannot be written.
     """
-    target, fmt = _target(path)
+    target, fmt = figure_target(path)
     if not isinstance(assembly, Assembly):
         raise InputError(f"plot_layout: expected an Assembly, got {type(assembly).__name__}")
     if grid is not None and not isinstance(grid, Grid):
@@ -206,7 +206,7 @@ def plot_layout(assembly: Assembly, path: str | os.PathLike, grid: Grid | None =
     r_hi = max(p.r_outer for p in parts) * 1e3
     margin = 0.06 * max(z_hi - z_lo, r_hi - r_lo)
 
-    fig = _figure(10.0, _height_for(r_hi - r_lo + 2 * margin, z_hi - z_lo + 2 * margin, 7.3))
+    fig = new_figure(10.0, _height_for(r_hi - r_lo + 2 * margin, z_hi - z_lo + 2 * margin, 7.3))
     ax = fig.add_subplot()
     for part in parts:
         ax.add_patch(
@@ -242,7 +242,7 @@ def plot_layout(assembly: Assembly, path: str | os.PathLike, grid: Grid | None =
     for _, z, r in probes:
         ax.plot([z], [r], "o", ms=5, mfc="white", mec="black", mew=1.0, zorder=5)
 
-    placer = _LabelPlacer(fig, ax, avoid_lines=False)
+    placer = LabelPlacer(fig, ax, avoid_lines=False)
     edges = [
         [
             (p.z_min, p.r_inner),
@@ -300,11 +300,11 @@ def plot_layout(assembly: Assembly, path: str | os.PathLike, grid: Grid | None =
         placer.place((z, r), name, boxed=True, colour="black")
     for name, centre in outside:
         placer.place(centre, name, boxed=True, colour="0.15", fontsize=fontsize)
-    return _save(fig, target, fmt)
+    return save_figure(fig, target, fmt)
 
 
 def _free_spot(
-    placer: _LabelPlacer, corners: np.ndarray, size: tuple[float, float], along_x: bool
+    placer: LabelPlacer, corners: np.ndarray, size: tuple[float, float], along_x: bool
 ) -> np.ndarray | None:
     """Centre [pixels] for a ``size`` label inside the rectangle ``corners`` clear of other labels.
 
@@ -317,6 +317,6 @@ def _free_spot(
     for fraction in (0.0, 0.3, -0.3, 0.6, -0.6, 0.9, -0.9):
         centre = middle + (np.array([fraction * room, 0.0]) if along_x else np.array([0.0, fraction * room]))
         box = np.array([centre[0] - 0.5 * w, centre[1] - 0.5 * h, centre[0] + 0.5 * w, centre[1] + 0.5 * h])
-        if all(_overlap(box, other) == 0.0 for other in placer.boxes):
+        if all(box_overlap(box, other) == 0.0 for other in placer.boxes):
             return centre
     return None

@@ -16,17 +16,17 @@ from matplotlib.figure import Figure
 from ..errors import InputError
 from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX
 from ..result import Result
-from ._common import (
-    _check_result,
-    _check_unit,
-    _difference,
-    _figure,
-    _minutes_text,
-    _save,
-    _target,
-    _temperature,
+from .common import (
+    check_result,
+    check_unit,
+    figure_target,
+    minutes_text,
+    new_figure,
+    save_figure,
+    to_difference_unit,
+    to_temperature_unit,
 )
-from ._labels import _densify, _LabelPlacer
+from .labels import LabelPlacer, densify
 
 __all__ = ["plot_histories", "plot_sensor_offset", "plot_why_the_gauge_lags"]
 
@@ -130,7 +130,7 @@ def _peak(times: np.ndarray, values: np.ndarray) -> tuple[float, float]:
     return float(times[k]), float(values[k])
 
 
-def _mark_peaks(placer: _LabelPlacer, peaks: Sequence[tuple[float, float, str, str]]) -> None:
+def _mark_peaks(placer: LabelPlacer, peaks: Sequence[tuple[float, float, str, str]]) -> None:
     """Label each peak (time [s], value [display unit], text, colour), hottest first."""
     placer.block_points(np.array([(t / 60.0, v) for t, v, _, _ in peaks]).reshape(-1, 2))
     for t, v, text, colour in sorted(peaks, key=lambda p: -p[1]):
@@ -182,9 +182,9 @@ def plot_histories(
     ResultFileError
         The folder does not exist or the file cannot be written.
     """
-    target, fmt = _target(path)
-    _check_result(result)
-    symbol = _check_unit(unit)
+    target, fmt = figure_target(path)
+    check_result(result)
+    symbol = check_unit(unit)
     if names is None:
         names = [*result.readings, *(n for n in (HEAT_SINK_MEAN, HEAT_SINK_MAX) if n in result.series)]
     elif isinstance(names, str):
@@ -192,9 +192,9 @@ def plot_histories(
     names = list(dict.fromkeys(names))
     if not names:
         raise InputError("plot_histories: no probe or series names to plot")
-    curves = [(name, _temperature(result.history(name), unit)) for name in names]
+    curves = [(name, to_temperature_unit(result.history(name), unit)) for name in names]
 
-    fig = _figure(10.0, 5.6)
+    fig = new_figure(10.0, 5.6)
     ax = fig.add_subplot()
     t0, t1 = _time_axis(ax, result)
     minutes = result.times / 60.0
@@ -205,14 +205,14 @@ def plot_histories(
         ax.plot(minutes, values, color=colour, ls=style, lw=1.4, label=_history_label(result, name), zorder=3)
         t, v = _peak(result.times, values)
         ax.plot([t / 60.0], [v], "o", ms=4, color=colour, mec="white", mew=0.6, zorder=4)
-        peaks.append((t, v, f"{v:.0f} {symbol} at {_minutes_text(t)}", colour))
+        peaks.append((t, v, f"{v:.0f} {symbol} at {minutes_text(t)}", colour))
     _headroom(ax, [v for _, v in curves])
     ax.set_ylabel(f"Temperature [{symbol}]")
     rows = _shade_phases(fig, ax, result.phases, t0, t1)
     _title(ax, "Temperature histories (probe readings solid, global series dashed)", rows)
     fig.legend(loc="outside right upper", fontsize=8, frameon=False)
-    _mark_peaks(_LabelPlacer(fig, ax), peaks)
-    return _save(fig, target, fmt)
+    _mark_peaks(LabelPlacer(fig, ax), peaks)
+    return save_figure(fig, target, fmt)
 
 
 # --------------------------------------------------------------------------- 3. sensor offset
@@ -246,22 +246,22 @@ def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "s
     ResultFileError
         The folder does not exist or the file cannot be written.
     """
-    target, fmt = _target(path)
-    _check_result(result)
-    symbol = _check_unit(unit)
+    target, fmt = figure_target(path)
+    check_result(result)
+    symbol = check_unit(unit)
     reading_k = _probe_reading(result, sensor)
     mean_k = _series(result, HEAT_SINK_MEAN)
     curves = [
-        (f"{sensor} reading", _temperature(reading_k, unit), _COLOURS[0], "-", 1.8),
-        (f"{sensor} location, local", _temperature(result.probes[sensor], unit), _COLOURS[0], ":", 1.3),
-        ("heat-sink mean", _temperature(mean_k, unit), _COLOURS[1], "--", 1.5),
+        (f"{sensor} reading", to_temperature_unit(reading_k, unit), _COLOURS[0], "-", 1.8),
+        (f"{sensor} location, local", to_temperature_unit(result.probes[sensor], unit), _COLOURS[0], ":", 1.3),
+        ("heat-sink mean", to_temperature_unit(mean_k, unit), _COLOURS[1], "--", 1.5),
     ]
     if HEAT_SINK_MAX in result.series:
-        hottest = _temperature(result.series[HEAT_SINK_MAX], unit)
+        hottest = to_temperature_unit(result.series[HEAT_SINK_MAX], unit)
         curves.append(("heat sink, hottest cell", hottest, _COLOURS[3], "-.", 1.2))
-    offset = _difference(reading_k - mean_k, unit)
+    offset = to_difference_unit(reading_k - mean_k, unit)
 
-    fig = _figure(10.0, 5.6)
+    fig = new_figure(10.0, 5.6)
     ax = fig.add_subplot()
     t0, t1 = _time_axis(ax, result)
     minutes = result.times / 60.0
@@ -285,20 +285,20 @@ def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "s
         label, values, colour, _, _ = curves[k]
         t, v = _peak(result.times, values)
         ax.plot([t / 60.0], [v], "o", ms=4, color=colour, mec="white", mew=0.6, zorder=4)
-        peaks.append((t, v, f"{v:.0f} {symbol} at {_minutes_text(t)}", colour))
-    placer = _LabelPlacer(fig, ax, obstacle_axes=(twin,))
+        peaks.append((t, v, f"{v:.0f} {symbol} at {minutes_text(t)}", colour))
+    placer = LabelPlacer(fig, ax, obstacle_axes=(twin,))
     _mark_peaks(placer, peaks)
     k_low = int(np.argmin(offset))
     if offset[k_low] < 0:
         t_low, v_low = float(result.times[k_low]), float(offset[k_low])
         twin.plot([t_low / 60.0], [v_low], "v", ms=5, color="0.25", zorder=4)
         # place in the twin axes: same pixels, its own data coordinates
-        twin_placer = _LabelPlacer(fig, twin, obstacle_axes=(ax,))
+        twin_placer = LabelPlacer(fig, twin, obstacle_axes=(ax,))
         twin_placer.boxes.extend(placer.boxes)
         twin_placer.place(
-            (t_low / 60.0, v_low), f"reads {-v_low:.0f} {symbol} low at {_minutes_text(t_low)}", colour="0.2"
+            (t_low / 60.0, v_low), f"reads {-v_low:.0f} {symbol} low at {minutes_text(t_low)}", colour="0.2"
         )
-    return _save(fig, target, fmt)
+    return save_figure(fig, target, fmt)
 
 
 # --------------------------------------------------------------------------- 5. gauge lag
@@ -343,9 +343,9 @@ def plot_why_the_gauge_lags(
     ResultFileError
         The folder does not exist or the file cannot be written.
     """
-    target, fmt = _target(path)
-    _check_result(result)
-    symbol = _check_unit(unit)
+    target, fmt = figure_target(path)
+    check_result(result)
+    symbol = check_unit(unit)
     reading = _probe_reading(result, sensor)
     mean = _series(result, HEAT_SINK_MEAN)
     wheel_default = names is None
@@ -363,9 +363,9 @@ def plot_why_the_gauge_lags(
     for k, (name, values) in enumerate(extra):
         colour = _COLOURS[(k + 2) % len(_COLOURS)]
         curves.append((_history_label(result, name), values, colour, "-", 1.2))
-    curves = [(label, _temperature(v, unit), c, s, w) for label, v, c, s, w in curves]
+    curves = [(label, to_temperature_unit(v, unit), c, s, w) for label, v, c, s, w in curves]
 
-    fig = _figure(10.0, 5.8)
+    fig = new_figure(10.0, 5.8)
     ax = fig.add_subplot()
     t0, t1 = _time_axis(ax, result)
     minutes = result.times / 60.0
@@ -375,7 +375,7 @@ def plot_why_the_gauge_lags(
         ax.plot(minutes, values, color=colour, ls=style, lw=width, label=label, zorder=3)
         t, v = _peak(result.times, values)
         ax.plot([t / 60.0], [v], "o", ms=4, color=colour, mec="white", mew=0.6, zorder=4)
-        peaks.append((t, v, f"{prefixes.get(k, '')}{v:.0f} {symbol} at {_minutes_text(t)}", colour))
+        peaks.append((t, v, f"{prefixes.get(k, '')}{v:.0f} {symbol} at {minutes_text(t)}", colour))
     _headroom(ax, [c[1] for c in curves], top=0.3)
     ax.set_ylabel(f"Temperature [{symbol}]")
     rows = _shade_phases(fig, ax, result.phases, t0, t1)
@@ -387,7 +387,7 @@ def plot_why_the_gauge_lags(
     braked = t0 < t_end <= t1
     if braked:
         ax.axvline(t_end / 60.0, color="0.15", lw=1.0, ls=(0, (4, 2)), zorder=2)
-    placer = _LabelPlacer(fig, ax)
+    placer = LabelPlacer(fig, ax)
     if braked:
         end_label = ax.annotate(
             "end of braking",
@@ -417,11 +417,11 @@ def plot_why_the_gauge_lags(
                 zorder=5,
             ).set_in_layout(False)
             ax.plot([t_read / 60.0] * 2, [v_read, y_arrow], color=_COLOURS[0], lw=0.6, ls=":", zorder=2)
-            text = f"{sensor} reading peaks {_minutes_text(t_read - t_end)} after the end of braking"
+            text = f"{sensor} reading peaks {minutes_text(t_read - t_end)} after the end of braking"
             if t_local > t_end and t_read >= t_local:
                 text += (
-                    f"\n(conduction: local peak after {_minutes_text(t_local - t_end)};"
-                    f" instrument lag: {_minutes_text(t_read - t_local)} more)"
+                    f"\n(conduction: local peak after {minutes_text(t_local - t_end)};"
+                    f" instrument lag: {minutes_text(t_read - t_local)} more)"
                 )
             # the delay text goes right of the arrow, or above / below it clear of the end label
             ends = ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])
@@ -446,8 +446,8 @@ def plot_why_the_gauge_lags(
             placer.points = np.concatenate(
                 (
                     placer.points,
-                    _densify(ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])),
+                    densify(ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])),
                 )
             )
     _mark_peaks(placer, peaks)
-    return _save(fig, target, fmt)
+    return save_figure(fig, target, fmt)

@@ -38,25 +38,12 @@ from .analysis import (
     sensitivity,
     study_report,
 )
-from .description import (
-    DISTRIBUTIONS,
-    Distribution,
-    LogNormal,
-    Normal,
-    Parameter,
-    Sampling,
-    Study,
-    StudyPlan,
-    Triangular,
-    TruncatedNormal,
-    Uniform,
-    load_study,
-    plan_study,
-    study_from_mapping,
-)
+from .description import Parameter, Sampling, Study, StudyPlan, plan_study
+from .distributions import DISTRIBUTIONS, Distribution, LogNormal, Normal, Triangular, TruncatedNormal, Uniform
 from .executors import DaskExecutor, ExecutorError, LocalExecutor, SerialExecutor, StudyExecutor
 from .runner import CaseOutcome, StudyRun, run_study, summarise
 from .store import StudyStore, load_table
+from .studyfile import load_study, study_from_mapping
 
 __all__ = [
     "CaseOutcome",

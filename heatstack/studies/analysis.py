@@ -32,6 +32,7 @@ import numpy as np
 from scipy import stats
 
 from ..errors import InputError, OptionalDependencyError
+from ..units import from_si
 
 __all__ = [
     "StudyTable",
@@ -444,8 +445,6 @@ def study_report(
     max_failures : int
         Failed cases listed.
     """
-    from ..units import from_si
-
     confidence = _check_confidence(confidence)
     counts = table.counts()
     level = f"{100 * confidence:g} %"

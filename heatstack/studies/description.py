@@ -38,30 +38,30 @@ from typing import Any, Literal
 import numpy as np
 from scipy.stats import qmc
 
+from ..builders import WheelBrakeDesign
+from ..case import case_from_mapping, design_dimension, load_case
 from ..errors import HeatstackError, InputError
 from ..units import SI_UNITS, to_si
-from .distributions import DISTRIBUTIONS, Distribution, LogNormal, Normal, Triangular, TruncatedNormal, Uniform
-from .paths import _MISSING, Token, _convert, _dimension_of_text, _get, _leaf_paths, _set, format_path, parse_path
-from .studyfile import load_study, study_from_mapping
+from .distributions import Distribution
+from .paths import (
+    MISSING,
+    Token,
+    dimension_of_text,
+    every_path,
+    format_path,
+    parse_path,
+    set_value_at,
+    value_at,
+    value_in_si,
+)
 
 __all__ = [
-    "Distribution",
-    "Uniform",
-    "Normal",
-    "TruncatedNormal",
-    "Triangular",
-    "LogNormal",
-    "DISTRIBUTIONS",
     "Parameter",
     "Sampling",
     "Study",
     "StudyPlan",
     "ResolvedParameter",
     "plan_study",
-    "study_from_mapping",
-    "load_study",
-    "parse_path",
-    "format_path",
     "SAMPLING_METHODS",
 ]
 
@@ -311,7 +311,7 @@ def apply_values(
         data.setdefault("solver", {})["target_change"] = float(target_change)
     for parameter, value in zip(parameters, row, strict=True):
         for path in parameter.paths:
-            _set(data, path, parameter.cast(value))
+            set_value_at(data, path, parameter.cast(value))
     return data
 
 
@@ -319,7 +319,7 @@ def apply_values(
 
 
 def _closest_path(mapping: Mapping, path: str, extra: Sequence[str] = ()) -> str:
-    candidates = [format_path(p) for p in _leaf_paths(mapping)] + list(extra)
+    candidates = [format_path(p) for p in every_path(mapping)] + list(extra)
     close = difflib.get_close_matches(path, candidates, n=1, cutoff=0.6)
     if close:
         return f"; did you mean {close[0]!r}?"
@@ -333,14 +333,10 @@ def _design_fields(mapping: Mapping) -> list[str]:
     assembly = mapping.get("assembly", {})
     if not isinstance(assembly, Mapping) or assembly.get("builder", "wheel-brake") != "wheel-brake":
         return []
-    from ..builders import WheelBrakeDesign
-
     return [f"assembly.design.{f.name}" for f in fields(WheelBrakeDesign) if f.name != "fuse_plugs"]
 
 
 def _parse_case(data: dict, text: str, origin: str, base_dir: Path):
-    from ..case import case_from_mapping
-
     try:
         return case_from_mapping(data, text, origin, base_dir)
     except InputError:
@@ -372,9 +368,9 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
     for j, text in enumerate(parameter.paths):
         pwhere = f"{where}.path" if isinstance(parameter.path, str) else f"{where}.path[{j}]"
         tokens = parse_path(text, pwhere)
-        value = _get(mapping, tokens)
-        if value is _MISSING:
-            parent = _get(mapping, tokens[:-1])
+        value = value_at(mapping, tokens)
+        if value is MISSING:
+            parent = value_at(mapping, tokens[:-1])
             if not (isinstance(parent, Mapping) and isinstance(tokens[-1], str)):
                 hint = _closest_path(mapping, format_path(tokens), _design_fields(mapping))
                 raise InputError(f"{pwhere}: {format_path(tokens)!r} does not exist in the base case{hint}")
@@ -391,12 +387,10 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
         texts += parameter.distribution.strings() if parameter.distribution is not None else []
         texts += [v for v in raw_values if isinstance(v, str)]
         for text in texts:
-            dimension = _dimension_of_text(text, leaf)
+            dimension = dimension_of_text(text, leaf)
             if dimension is not None:
                 break
     if dimension is None and len(paths[0]) == 3 and tuple(paths[0][:2]) == ("assembly", "design"):
-        from ..case import design_dimension
-
         dimension = design_dimension(leaf)
     base_kinds = {type(b) for b in bases if b is not None}
     kind = "float"
@@ -413,7 +407,7 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
         if kind == "bool":
             values = np.array([1.0 if v else 0.0 for v in raw_values])
         else:
-            values = np.array([_convert(v, dimension, f"{where}.values[{i}]") for i, v in enumerate(raw_values)])
+            values = np.array([value_in_si(v, dimension, f"{where}.values[{i}]") for i, v in enumerate(raw_values)])
     if dimension is None and any(isinstance(b, str) for b in bases):
         raise InputError(f"{where}: cannot tell the physical dimension of {bases[0]!r}; give dimension = ...")
     for tokens, base_value in zip(paths, bases, strict=True):
@@ -499,8 +493,6 @@ def plan_study(study: Study) -> StudyPlan:
     """
     if not isinstance(study, Study):
         raise InputError(f"study: expected a Study, got {type(study).__name__}")
-    from ..case import load_case
-
     path = Path(study.base_case)
     base_case = load_case(path)
     text = base_case.text
@@ -516,13 +508,13 @@ def plan_study(study: Study) -> StudyPlan:
             raise InputError(f"study.parameters[{k}].name: {name!r} is used by two parameters")
     n_grid = math.prod(p.values.size for p in resolved) if grid else 0
     _check_sampling(study.sampling, n_grid)
-    cell = None if study.cell_size is None else _convert(study.cell_size, "length", "study.cell_size")
+    cell = None if study.cell_size is None else value_in_si(study.cell_size, "length", "study.cell_size")
     if cell is not None and not cell > 0:
         raise InputError(f"study.cell_size: must be > 0, got {study.cell_size!r}")
     change = (
         None
         if study.target_change is None
-        else _convert(study.target_change, "temperature_difference", "study.target_change")
+        else value_in_si(study.target_change, "temperature_difference", "study.target_change")
     )
     if change is not None and not change > 0:
         raise InputError(f"study.target_change: must be > 0, got {study.target_change!r}")

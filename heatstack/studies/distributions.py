@@ -13,7 +13,7 @@ from typing import Any, ClassVar
 from scipy import stats
 
 from ..errors import InputError
-from .paths import _convert, _difference_of
+from .paths import spread_dimension, value_in_si
 
 __all__ = [
     "Distribution",
@@ -48,11 +48,11 @@ class Distribution:
             value = getattr(self, f.name)
             sub = f"{where}.{f.name}"
             if f.name in self._plain:
-                out[f.name] = _convert(value, "dimensionless", sub)
+                out[f.name] = value_in_si(value, "dimensionless", sub)
             elif f.name in self._spreads:
-                out[f.name] = _convert(value, _difference_of(dimension), sub)
+                out[f.name] = value_in_si(value, spread_dimension(dimension), sub)
             else:
-                out[f.name] = _convert(value, dimension, sub)
+                out[f.name] = value_in_si(value, dimension, sub)
         self._validate(out, where)
         return out
 

@@ -18,7 +18,17 @@ from typing import Any
 from ..errors import InputError
 from ..units import SI_UNITS, registry, to_si
 
-__all__ = ["parse_path", "format_path"]
+__all__ = [
+    "parse_path",
+    "format_path",
+    "every_path",
+    "MISSING",
+    "value_at",
+    "set_value_at",
+    "spread_dimension",
+    "dimension_of_text",
+    "value_in_si",
+]
 
 Token = str | int
 
@@ -77,49 +87,52 @@ def format_path(tokens: Sequence[Token]) -> str:
     return out
 
 
-def _leaf_paths(data: Any, prefix: tuple[Token, ...] = ()) -> Iterator[tuple[Token, ...]]:
+def every_path(data: Any, prefix: tuple[Token, ...] = ()) -> Iterator[tuple[Token, ...]]:
     """Every path of the mapping, tables and values alike (depth first)."""
     if isinstance(data, Mapping):
         for key, value in data.items():
             yield (*prefix, key)
-            yield from _leaf_paths(value, (*prefix, key))
+            yield from every_path(value, (*prefix, key))
     elif isinstance(data, list):
         for k, value in enumerate(data):
             yield (*prefix, k)
-            yield from _leaf_paths(value, (*prefix, k))
+            yield from every_path(value, (*prefix, k))
 
 
-_MISSING = object()
+#: What :func:`value_at` returns for a path that is not in the mapping.
+MISSING = object()
 
 
-def _get(data: Any, tokens: Sequence[Token]) -> Any:
+def value_at(data: Any, tokens: Sequence[Token]) -> Any:
+    """The value at a token path of nested mappings and lists, or :data:`MISSING`."""
     node = data
     for token in tokens:
         if isinstance(token, int):
             if not isinstance(node, list) or token >= len(node):
-                return _MISSING
+                return MISSING
             node = node[token]
         else:
             if not isinstance(node, Mapping) or token not in node:
-                return _MISSING
+                return MISSING
             node = node[token]
     return node
 
 
-def _set(data: Any, tokens: Sequence[Token], value: Any) -> None:
-    parent = _get(data, tokens[:-1])
+def set_value_at(data: Any, tokens: Sequence[Token], value: Any) -> None:
+    """Write ``value`` at a token path whose parent exists (in place)."""
+    parent = value_at(data, tokens[:-1])
     parent[tokens[-1]] = value
 
 
 # ---------------------------------------------------------------------------- dimensions
 
 
-def _difference_of(dimension: str | None) -> str | None:
+def spread_dimension(dimension: str | None) -> str | None:
     """Dimension of a spread (standard deviation) of a quantity of ``dimension``."""
     return "temperature_difference" if dimension == "temperature" else dimension
 
 
-def _dimension_of_text(text: str, leaf: str) -> str | None:
+def dimension_of_text(text: str, leaf: str) -> str | None:
     """Physical dimension (a key of ``SI_UNITS``) of a quantity string, or None if unknown.
 
     A temperature in an offset unit (degC, degF) is a temperature; in delta units it is
@@ -148,7 +161,7 @@ def _dimension_of_text(text: str, leaf: str) -> str | None:
     return None
 
 
-def _convert(value: Any, dimension: str | None, where: str) -> float:
+def value_in_si(value: Any, dimension: str | None, where: str) -> float:
     """A user value (number or quantity string) in SI; bare numbers are SI already."""
     if isinstance(value, bool) or not isinstance(value, int | float | str):
         raise InputError(f"{where}: expected a number or a quantity such as '70 t', got {value!r}")

@@ -15,7 +15,7 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from ..errors import InputError
-from ..plotting._common import _save, _target
+from ..plotting.common import figure_target, save_figure
 from .analysis import SensitivityResult, StudyTable, margin_percentiles
 
 __all__ = ["plot_margin_histogram", "plot_tornado", "CAPTION"]
@@ -29,7 +29,7 @@ _ACCENT = "#b0413e"
 _MUTED = "#9a9a9a"
 
 
-def _figure(width: float, height: float) -> Figure:
+def new_figure(width: float, height: float) -> Figure:
     fig = Figure(figsize=(width, height), layout="constrained")
     fig.get_layout_engine().set(h_pad=0.08)
     return fig
@@ -74,7 +74,7 @@ def plot_margin_histogram(
     Path
         The file written.
     """
-    target, fmt = _target(path)
+    target, fmt = figure_target(path)
     if isinstance(bins, bool) or not isinstance(bins, int) or bins < 1:
         raise InputError(f"bins: expected a whole number >= 1, got {bins!r}")
     values = table[column][table.ok]
@@ -83,7 +83,7 @@ def plot_margin_histogram(
         raise InputError(f"plot_margin_histogram: no finished case has a value of {column!r}")
     unit = table.units.get(column, "")
     pct = margin_percentiles(table, column)
-    fig = _figure(6.4, 3.8)
+    fig = new_figure(6.4, 3.8)
     ax = fig.add_subplot()
     ax.hist(values, bins=bins, color=_BAR, edgecolor="white", linewidth=0.5)
     is_margin = "margin" in column
@@ -118,7 +118,7 @@ def plot_margin_histogram(
     ax.set_title(heading + extra, fontsize=10, color=_INK, loc="left")
     _plain(ax)
     _caption(fig, "")
-    return _save(fig, target, fmt)
+    return save_figure(fig, target, fmt)
 
 
 def plot_tornado(
@@ -140,7 +140,7 @@ def plot_tornado(
     -------
     Path
     """
-    target, fmt = _target(path)
+    target, fmt = figure_target(path)
     if measure not in ("spearman", "src"):
         raise InputError(f"measure: expected 'spearman' or 'src', got {measure!r}")
     if not isinstance(result, SensitivityResult) or not result.entries:
@@ -148,7 +148,7 @@ def plot_tornado(
     entries = sorted(result.entries, key=lambda e: abs(getattr(e, measure)))
     values = np.array([getattr(e, measure) for e in entries])
     labels = [e.parameter for e in entries]
-    fig = _figure(6.4, 1.2 + 0.38 * len(entries))
+    fig = new_figure(6.4, 1.2 + 0.38 * len(entries))
     ax = fig.add_subplot()
     colours = [_ACCENT if v < 0 else _BAR for v in values]
     ax.barh(np.arange(len(entries)), values, color=colours, height=0.6)
@@ -173,4 +173,4 @@ def plot_tornado(
     ax.set_title(f"{heading} ({result.cases} cases, R^2 = {result.r_squared:.2f})", fontsize=10, color=_INK, loc="left")
     _plain(ax)
     _caption(fig, "")
-    return _save(fig, target, fmt)
+    return save_figure(fig, target, fmt)

@@ -35,6 +35,7 @@ from typing import Any
 import numpy as np
 
 from ..answers.fuse_plugs import assess_fuse_plugs
+from ..case import case_from_mapping, run_case
 from ..errors import HeatstackError, InputError
 from .analysis import StudyTable
 from .description import Study, StudyPlan, plan_study
@@ -210,8 +211,6 @@ def run_one_case(job: CaseJob) -> CaseOutcome:
     A case that fails (bad sampled value, solver failure, anything) comes back with
     ``status = "failed"`` and its error text.
     """
-    from ..case import case_from_mapping, run_case
-
     start = time.perf_counter()
     worker = f"{socket.gethostname()}:{os.getpid()}"
     reused = False

@@ -43,6 +43,7 @@ import numpy as np
 from ..atomic import write_file_atomically
 from ..errors import InputError, ResultFileError
 from .analysis import StudyTable, column_unit
+from .paths import format_path
 
 __all__ = ["StudyStore", "StoreSession", "load_table", "FORMAT", "FORMAT_VERSION"]
 
@@ -417,8 +418,6 @@ class StudyStore:
 
 
 def _path_text(tokens: Any) -> str:
-    from .description import format_path
-
     return format_path(tokens)
 
 

@@ -12,13 +12,11 @@ import tomllib
 from collections.abc import Mapping, Sequence
 from dataclasses import fields
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 from ..errors import InputError
+from .description import Parameter, Sampling, Study
 from .distributions import DISTRIBUTIONS
-
-if TYPE_CHECKING:
-    from .description import Parameter, Study
 
 __all__ = ["study_from_mapping", "load_study"]
 
@@ -45,9 +43,6 @@ def _unknown(data: Mapping, allowed: Sequence[str], where: str) -> None:
 
 
 def _parameter_from_mapping(data: Any, where: str) -> Parameter:
-    # deferred: description.py re-exports this module's functions
-    from .description import Parameter
-
     if not isinstance(data, Mapping):
         raise InputError(f"{where}: expected a table ([[study.parameters]])")
     if "path" not in data:
@@ -131,9 +126,6 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
         Naming the key (``study.parameters[1].std``) for an unknown key, a missing
         field or a value of the wrong type.
     """
-    # deferred: description.py re-exports this module's functions
-    from .description import Sampling, Study
-
     if isinstance(table, Mapping) and "study" in table and isinstance(table["study"], Mapping):
         table = table["study"]
     if not isinstance(table, Mapping):

@@ -10,6 +10,8 @@ from collections.abc import Sequence
 import numpy as np
 from matplotlib.figure import Figure
 
+__all__ = ["LabelPlacer", "densify", "box_overlap"]
+
 
 # --------------------------------------------------------------------------- label placement
 def _candidates() -> list[tuple[float, float, str, str, bool]]:
@@ -38,7 +40,7 @@ def _candidates() -> list[tuple[float, float, str, str, bool]]:
 _CANDIDATES = _candidates()
 
 
-def _densify(xy: np.ndarray, step: float = 3.0) -> np.ndarray:
+def densify(xy: np.ndarray, step: float = 3.0) -> np.ndarray:
     """Points every ``step`` pixels along a polyline given in pixels."""
     xy = xy[np.all(np.isfinite(xy), axis=1)]
     if len(xy) < 2:
@@ -49,7 +51,7 @@ def _densify(xy: np.ndarray, step: float = 3.0) -> np.ndarray:
     return np.column_stack((np.interp(q, s, xy[:, 0]), np.interp(q, s, xy[:, 1])))
 
 
-class _LabelPlacer:
+class LabelPlacer:
     """Greedy placement of annotation labels in one axes.
 
     Each label takes the candidate offset that stays inside the axes, overlaps no label
@@ -72,14 +74,14 @@ class _LabelPlacer:
                 for line in axes.get_lines():
                     if line.get_visible():
                         xy = np.asarray(line.get_xydata(), dtype=float)
-                        points.append(_densify(line.get_transform().transform(xy)))
+                        points.append(densify(line.get_transform().transform(xy)))
         self.points = np.concatenate(points) if points else np.zeros((0, 2))
         self.soft_points = np.zeros((0, 2))
         self.anchors = np.zeros((0, 2))
 
     def add_soft_segments(self, segments: np.ndarray) -> None:
         """Edges [data] labels should rather not cover (weaker than curves), e.g. part outlines."""
-        pixels = [_densify(self.ax.transData.transform(seg), step=4.0) for seg in segments]
+        pixels = [densify(self.ax.transData.transform(seg), step=4.0) for seg in segments]
         if pixels:
             self.soft_points = np.concatenate([self.soft_points, *pixels])
 
@@ -128,9 +130,9 @@ class _LabelPlacer:
             x0 = {"left": ox, "right": ox - w, "center": ox - 0.5 * w}[ha]
             y0 = {"bottom": oy, "top": oy - h, "center": oy - 0.5 * h}[va]
             box = np.array([x0 - pad, y0 - pad, x0 + w + pad, y0 + h + pad])
-            inside = _overlap(box, self.frame)
+            inside = box_overlap(box, self.frame)
             score = 1e5 * (1.0 - inside / area) + 0.3 * index + (4.0 if leader else 0.0)
-            score += sum(1e4 * _overlap(box, other) / area for other in self.boxes)
+            score += sum(1e4 * box_overlap(box, other) / area for other in self.boxes)
             score += 15.0 * _count_inside(self.points, box) + 2.0 * _count_inside(self.soft_points, box)
             if self.anchors.size and not leader:
                 # a label must sit nearer its own anchor than any other marked anchor
@@ -177,7 +179,8 @@ def _count_inside(points: np.ndarray, box: np.ndarray) -> int:
     return int(np.count_nonzero((x > box[0]) & (x < box[2]) & (y > box[1]) & (y < box[3])))
 
 
-def _overlap(a: np.ndarray, b: np.ndarray) -> float:
+def box_overlap(a: np.ndarray, b: np.ndarray) -> float:
+    """Overlap area [px^2] of two boxes given as (x0, y0, x1, y1) in display pixels."""
     dx = min(a[2], b[2]) - max(a[0], b[0])
     dy = min(a[3], b[3]) - max(a[1], b[1])
     return float(dx * dy) if dx > 0 and dy > 0 else 0.0

@@ -24,7 +24,7 @@ import numpy as np
 from ..errors import InputError
 from ..traces import read_trace
 
-__all__ = ["read_sensor_trace"]
+__all__ = ["read_sensor_trace", "check_trace"]
 
 
 def read_sensor_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
@@ -60,7 +60,29 @@ def read_sensor_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
     return times, temperatures
 
 
-def _check_trace(trace_t: Any, trace_T: Any, n_parameters: int) -> tuple[np.ndarray, np.ndarray]:
+def check_trace(trace_t: Any, trace_T: Any, n_parameters: int) -> tuple[np.ndarray, np.ndarray]:
+    """Check a sensor trace before a fit of ``n_parameters`` parameters.
+
+    Parameters
+    ----------
+    trace_t : array_like
+        Sample times [s], strictly increasing.
+    trace_T : array_like
+        Sensor readings [K], all above absolute zero.
+    n_parameters : int
+        Number of fitted parameters; the trace needs at least ``n_parameters + 2`` points.
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+        Times [s] and readings [K] as 1-D float arrays.
+
+    Raises
+    ------
+    InputError
+        Naming the row at fault: too few points, non-finite values, times that do not
+        increase, or readings not above 0 K.
+    """
     t = np.asarray(trace_t, dtype=float)
     y = np.asarray(trace_T, dtype=float)
     if t.ndim != 1 or y.shape != t.shape:

@@ -18,6 +18,18 @@ from ..errors import InputError, ResultFileError
 from ..result import Result
 from ..units import from_si
 
+__all__ = [
+    "CAPTION",
+    "check_unit",
+    "to_temperature_unit",
+    "to_difference_unit",
+    "figure_target",
+    "save_figure",
+    "check_result",
+    "minutes_text",
+    "new_figure",
+]
+
 #: The caption line printed at the foot of every figure.
 CAPTION = "Not certified data. Computed by heatstack; defer to the manufacturer's maintenance data."
 
@@ -28,21 +40,24 @@ _PNG_DPI = 150
 
 
 # --------------------------------------------------------------------------- units, names, files
-def _check_unit(unit: str) -> str:
+def check_unit(unit: str) -> str:
+    """The axis label of a temperature unit (``"degC"``, ``"degF"`` or ``"K"``); InputError for any other."""
     if unit not in _UNIT_LABELS:
         raise InputError(f"temperature unit {unit!r} is not one of {sorted(_UNIT_LABELS)}")
     return _UNIT_LABELS[unit]
 
 
-def _temperature(values: np.ndarray, unit: str) -> np.ndarray:
+def to_temperature_unit(values: np.ndarray, unit: str) -> np.ndarray:
+    """Temperatures [K] converted to ``unit`` for plotting."""
     return np.asarray(from_si(values, "temperature", unit), dtype=float)
 
 
-def _difference(values: np.ndarray, unit: str) -> np.ndarray:
+def to_difference_unit(values: np.ndarray, unit: str) -> np.ndarray:
+    """Temperature differences [K] converted to the difference unit matching ``unit``."""
     return np.asarray(from_si(values, "temperature_difference", _DELTA_UNITS[unit]), dtype=float)
 
 
-def _target(path: str | os.PathLike) -> tuple[Path, str]:
+def figure_target(path: str | os.PathLike) -> tuple[Path, str]:
     """Check the output path before any drawing: known suffix, existing folder."""
     target = Path(path)
     fmt = _FORMATS.get(target.suffix.lower())
@@ -54,7 +69,7 @@ def _target(path: str | os.PathLike) -> tuple[Path, str]:
     return target, fmt
 
 
-def _save(fig: Figure, target: Path, fmt: str) -> Path:
+def save_figure(fig: Figure, target: Path, fmt: str) -> Path:
     """Write ``fig`` to a temporary file beside ``target``, then move it into place."""
 
     def write(temp: Path) -> None:
@@ -66,12 +81,14 @@ def _save(fig: Figure, target: Path, fmt: str) -> Path:
     return write_file_atomically(target, write, "figure file")
 
 
-def _check_result(result: Result) -> None:
+def check_result(result: Result) -> None:
+    """Raise InputError unless ``result`` is a heatstack :class:`~heatstack.result.Result`."""
     if not isinstance(result, Result):
         raise InputError(f"expected a heatstack Result, got {type(result).__name__}")
 
 
-def _minutes_text(seconds: float) -> str:
+def minutes_text(seconds: float) -> str:
+    """A time [s] as minutes, with fewer decimals the longer it is (``"2.5 min"``)."""
     minutes = seconds / 60.0
     if abs(minutes) < 1.0:
         return f"{minutes:.2f} min"
@@ -81,7 +98,7 @@ def _minutes_text(seconds: float) -> str:
 
 
 # --------------------------------------------------------------------------- figure frame
-def _figure(width: float, height: float) -> Figure:
+def new_figure(width: float, height: float) -> Figure:
     """A constrained-layout figure on an Agg canvas with the caption strip at its foot."""
     fig = Figure(figsize=(width, height), dpi=100, layout="constrained")
     FigureCanvasAgg(fig)

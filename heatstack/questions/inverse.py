@@ -5,11 +5,10 @@ energy (and optionally a uniform initial temperature and a multiplier on every c
 coefficient) whose simulated sensor reading best matches the trace in the least-squares
 sense, with standard errors from the fit.
 
-Reading a sensor-trace CSV file (:func:`read_sensor_trace`, format in
-:mod:`heatstack.answers.sensor_trace`), the convection multiplier on a schedule
-(:mod:`heatstack.answers.convection_scaling`) and the surrogate and covariance helpers
-(:mod:`heatstack.answers.fit_tools`) live in their own modules; their public names are
-importable from here too.
+Reading a sensor-trace CSV file (:func:`~heatstack.questions.sensor_trace.read_sensor_trace`,
+format in :mod:`heatstack.questions.sensor_trace`), the convection multiplier on a schedule
+(:mod:`heatstack.questions.convection_scaling`) and the surrogate and covariance helpers
+(:mod:`heatstack.questions.fit_tools`) live in their own modules.
 
 Method
 ------
@@ -76,19 +75,16 @@ from ..numerics.solver import SolverOptions
 from ..operations.duty import DutyCycle
 from ..result import Result, State
 from ..units import to_si
-from ..whatif import check_history_name
-from .convection_scaling import ScaledConvection, scale_convection
-from .fit_tools import _covariance, _Surrogate
-from .sensor_trace import _check_trace, read_sensor_trace
+from .convection_scaling import scale_convection
+from .fit_tools import Surrogate, parameter_covariance
+from .sensor_trace import check_trace
+from .whatif import check_history_name
 
 __all__ = [
     "EnergyEstimate",
     "FitError",
-    "ScaledConvection",
     "estimate_energy",
     "predict_from_estimate",
-    "read_sensor_trace",
-    "scale_convection",
 ]
 
 _DELTA = 0.25  # relative spacing of the energy runs
@@ -275,7 +271,7 @@ def estimate_energy(
         Sample times [s] on the duty's clock (the duty starts at ``start``); strictly
         increasing, within the duty.
     trace_T : array_like
-        Sensor readings [K] (see :func:`read_sensor_trace` for a CSV).
+        Sensor readings [K] (see :func:`~heatstack.questions.sensor_trace.read_sensor_trace` for a CSV).
     initial_temperature : float or mapping or State
         Start of every run [K] (uniform, per part, or a saved state); with
         ``fit_initial_temperature`` a uniform value, the first guess. Each run starts the
@@ -330,7 +326,7 @@ def estimate_energy(
         names += ("initial_temperature",)
     if fit_convection_multiplier:
         names += ("convection_multiplier",)
-    t, y_obs = _check_trace(trace_t, trace_T, len(names))
+    t, y_obs = check_trace(trace_t, trace_T, len(names))
     uniform = None
     if isinstance(initial_temperature, State):
         default_start = float(initial_temperature.time)
@@ -391,7 +387,7 @@ def _fit(
     max_runs: int,
     raise_on_failure: bool,
 ) -> EnergyEstimate:
-    sur = _Surrogate(names, t0_ref, c_ref)
+    sur = Surrogate(names, t0_ref, c_ref)
     y_g, _ = forward.run(e_guess, t0_ref, c_ref)
     sur.energy_runs.append((e_guess, y_g))
     toward = 1.0 if np.max(y_obs) >= np.max(y_g) else -1.0
@@ -424,7 +420,7 @@ def _fit(
         else:
             sur.defect_at = (p.copy(), y_full)
         p_new, jac, at_bound = _refit(sur, p, y_obs, scale, names)
-        cov, sd = _covariance(jac, residual)
+        cov, sd = parameter_covariance(jac, residual)
         se = np.sqrt(np.diag(cov))
         if best is None or np.dot(residual, residual) <= np.dot(best[2], best[2]):
             best = (p.copy(), result, residual, cov, sd)
@@ -474,7 +470,7 @@ def _floor(p: np.ndarray, names: tuple[str, ...]) -> np.ndarray:
 
 
 def _refit(
-    sur: _Surrogate, p0: np.ndarray, y_obs: np.ndarray, scale: np.ndarray, names: tuple[str, ...]
+    sur: Surrogate, p0: np.ndarray, y_obs: np.ndarray, scale: np.ndarray, names: tuple[str, ...]
 ) -> tuple[np.ndarray, np.ndarray, bool]:
     """Least squares on the surrogate from ``p0``: (estimate, Jacobian there, at the energy bound)."""
     points = sur.basis(p0[0])
@@ -570,6 +566,13 @@ def predict_from_estimate(
         ``series["heat_sink_mean"]``, ``probes["fuse plug 1"]``, ... (see
         :class:`~heatstack.result.Result`); the estimate's own check run is
         ``estimate.predicted``.
+
+    Raises
+    ------
+    InputError
+        If the duty, length scales or initial temperature do not fit the model.
+    SolverError
+        If the run fails.
     """
     if not isinstance(estimate, EnergyEstimate):
         raise InputError("estimate: expected an EnergyEstimate")

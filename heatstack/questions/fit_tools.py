@@ -1,7 +1,7 @@
 """Fit tools of the energy fit: the surrogate of the sensor response and the covariance of the fitted parameters.
 
 The method (surrogate from a few full runs, linearised least-squares covariance) is
-described in :mod:`heatstack.answers.inverse`, which is the only user of these helpers.
+described in :mod:`heatstack.questions.inverse`, which is the only user of these helpers.
 
 References
 ----------
@@ -18,11 +18,11 @@ import math
 
 import numpy as np
 
-__all__: list[str] = []  # private helpers of heatstack.answers.inverse
+__all__ = ["Surrogate", "parameter_covariance"]
 
 
-class _Surrogate:
-    """``s(t; p) = Q(t; E) + S_T (T0 - T0_g) + S_c (c - c_g) + D``: see :mod:`heatstack.answers.inverse`."""
+class Surrogate:
+    """``s(t; p) = Q(t; E) + S_T (T0 - T0_g) + S_c (c - c_g) + D``: see :mod:`heatstack.questions.inverse`."""
 
     def __init__(self, names: tuple[str, ...], t0_ref: float | None, c_ref: float):
         self.names, self.t0_ref, self.c_ref = names, t0_ref, c_ref
@@ -81,7 +81,7 @@ class _Surrogate:
         return y - self.evaluate(p, points)[0]
 
 
-def _covariance(jacobian: np.ndarray, residual: np.ndarray) -> tuple[np.ndarray, float]:
+def parameter_covariance(jacobian: np.ndarray, residual: np.ndarray) -> tuple[np.ndarray, float]:
     """``s^2 (J^T J)^-1`` and ``s`` (Bates & Watts 1988, ch. 2), via column scaling."""
     n, m = jacobian.shape
     s2 = float(np.dot(residual, residual)) / (n - m)

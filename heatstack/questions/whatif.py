@@ -3,7 +3,7 @@
 Both answers run the model forward from a :class:`~heatstack.result.State` (the
 ``final_state`` of an earlier run, or one reloaded from disk) under a duty built here:
 
-* :func:`cooling_time` parks the wheel in an :class:`~heatstack.operations.duty.Environment`
+* :func:`cooling_time_from_state` parks the wheel in an :class:`~heatstack.operations.duty.Environment`
   and reads when a probe reading or a global series falls below a threshold for good.
 * :func:`what_if` applies a braking event (a rejected take-off, a landing, a taxi-out)
   starting at the time of the state, then lets the wheel cool, and reports the peak of
@@ -28,16 +28,16 @@ from typing import Any
 
 import numpy as np
 
-from .errors import InputError
-from .geometry import HEAT_SINK_MEAN, SurfaceGroup
-from .model import Model
-from .numerics.solver import SolverOptions
-from .operations.duty import DutyCycle, DutyPhase, Environment
-from .operations.heat_input import BrakingEvent
-from .result import Result, State
-from .units import to_si
+from ..errors import InputError
+from ..geometry import HEAT_SINK_MEAN, SurfaceGroup
+from ..model import Model
+from ..numerics.solver import SolverOptions
+from ..operations.duty import DutyCycle, DutyPhase, Environment
+from ..operations.heat_input import BrakingEvent
+from ..result import Result, State
+from ..units import to_si
 
-__all__ = ["CoolingAnswer", "WhatIfAnswer", "cooling_time", "what_if", "history_names"]
+__all__ = ["CoolingAnswer", "WhatIfAnswer", "check_history_name", "cooling_time_from_state", "what_if", "history_names"]
 
 
 def history_names(model: Model) -> tuple[str, ...]:
@@ -170,7 +170,7 @@ def _time_below(times: np.ndarray, values: np.ndarray, threshold: float) -> floa
     return float(times[k] + fraction * (times[k + 1] - times[k]) - times[0])
 
 
-def cooling_time(
+def cooling_time_from_state(
     model: Model,
     state: State,
     environment: Environment,

@@ -1,0 +1,37 @@
+"""Questions that re-run the model: what if we braked now, how long to cool, what energy was it.
+
+Unlike :mod:`heatstack.answers`, which only reads a finished Result, every question here
+runs the solver again, from a saved :class:`~heatstack.result.State` or from scratch.
+This package sits above :mod:`heatstack.answers` in the import order: it may import
+answers, and answers never import it.
+
+whatif
+    Cooling time from a saved state (:func:`cooling_time_from_state`) and the peaks if a
+    braking event started now (:func:`what_if`).
+inverse
+    The braking energy behind a recorded sensor trace (:func:`estimate_energy`), with the
+    trace reader (sensor_trace), the convection multiplier (convection_scaling) and the
+    fit helpers (fit_tools) in their own modules.
+"""
+
+from __future__ import annotations
+
+from .convection_scaling import ScaledConvection, scale_convection
+from .inverse import EnergyEstimate, FitError, estimate_energy, predict_from_estimate
+from .sensor_trace import read_sensor_trace
+from .whatif import CoolingAnswer, WhatIfAnswer, cooling_time_from_state, history_names, what_if
+
+__all__ = [
+    "CoolingAnswer",
+    "EnergyEstimate",
+    "FitError",
+    "ScaledConvection",
+    "WhatIfAnswer",
+    "cooling_time_from_state",
+    "estimate_energy",
+    "history_names",
+    "predict_from_estimate",
+    "read_sensor_trace",
+    "scale_convection",
+    "what_if",
+]

@@ -1,0 +1,18 @@
+"""The names every heatstack results file shares: its format name, its layout version and its ledger accounts.
+
+Both the writer (:mod:`heatstack.resultfile`) and the reader (:mod:`heatstack.resultread`)
+import these, so the two sides of the file can never disagree.
+"""
+
+from __future__ import annotations
+
+__all__ = ["FORMAT_NAME", "FORMAT_VERSION", "LEDGER_ACCOUNTS"]
+
+FORMAT_NAME = "heatstack-result"
+"""Value of the root ``format`` attribute of every heatstack results file."""
+
+FORMAT_VERSION = 1
+"""Layout version written by :mod:`heatstack.resultfile`; files of a newer version are refused."""
+
+LEDGER_ACCOUNTS = ("heat_in", "convected", "radiated", "stored")
+"""Cumulative energy accounts [J] stored under ``/ledger`` in every results file."""
