@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 
 from .answers.analysis import cooling_time_in_result, margins, peak, sensor_lag, threshold_crossings
-from .answers.fuse_plugs import assess_fuse_plugs
+from .answers.fuse_plugs import PlugAnswer, assess_fuse_plugs
 from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_margin
 from .builders import FusePlugSpec
 from .errors import InputError
@@ -161,8 +161,23 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         "end_of_braking_min": _minutes(result.end_of_heating),
         "phases": [{"name": n, "start_min": _minutes(a), "end_min": _minutes(b)} for n, a, b in result.phases],
     }
+    report["peaks"] = _peak_rows(result, unit)
+    if settings.sensor in result.readings and HEAT_SINK_MEAN in result.series:
+        report["sensor"] = _sensor_section(result, settings)
+    plugs = assess_fuse_plugs(result, settings.fuse_plugs) if settings.fuse_plugs else []
+    report["fuse_plugs"] = [_fuse_plug_row(a, unit) for a in plugs]
+    report["limits"] = _limit_rows(result, settings)
+    report["tyre"] = _tyre_section(result, settings, plugs)
+    if settings.cooling_below is not None:
+        report["cooling"] = _cooling_section(result, settings)
+    report["energy"] = _energy_section(result)
+    return report
+
+
+def _peak_rows(result: Result, unit: str) -> list[dict[str, Any]]:
+    """Peak, its time and its delay after braking of every reading and of the summary series present."""
     names = list(result.readings) + [s for s in GLOBAL_SERIES if s in result.series]
-    report["peaks"] = [
+    return [
         {
             "name": p.name,
             "peak": _shown(p.temperature, unit),
@@ -171,37 +186,46 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         }
         for p in (peak(result, name) for name in names)
     ]
-    if settings.sensor in result.readings and HEAT_SINK_MEAN in result.series:
-        lag = sensor_lag(result, settings.sensor, settings.band)
-        report["sensor"] = {
-            "name": lag.sensor,
-            "time_constant_s": lag.time_constant,
-            "peak": _shown(lag.reading_peak, unit),
-            "time_of_peak_min": _minutes(lag.time_of_peak),
-            "delay_after_braking_min": _minutes(lag.delay),
-            "conduction_delay_min": _minutes(lag.conduction_delay),
-            "instrument_delay_min": _minutes(lag.instrument_delay),
-            "offset_to_heat_sink_mean_at_peak": _difference(lag.offset_to_mean_at_peak, unit),
-            "offset_to_hottest_cell_at_peak": _difference(lag.offset_to_max_at_peak, unit),
-            "largest_under_reading": _difference(float(np.min(lag.offset_to_mean)), unit),
-            "band": _difference(lag.band, unit),
-            "within_band_of_mean_min": _minutes(lag.within_band_time),
-        }
-    plugs = assess_fuse_plugs(result, settings.fuse_plugs) if settings.fuse_plugs else []
-    report["fuse_plugs"] = [
-        {
-            "name": a.name,
-            "peak": _shown(a.peak, unit),
-            "time_of_peak_min": _minutes(a.time_of_peak),
-            "release_temperature": _shown(a.release_temperature, unit),
-            "margin": _difference(a.margin, unit),
-            "releases": a.releases,
-            "release_time_min": _minutes(a.release_time),
-            "earliest_release_time_min": _minutes(a.earliest_release_time),
-        }
-        for a in plugs
-    ]
-    report["limits"] = [
+
+
+def _sensor_section(result: Result, settings: ReportSettings) -> dict[str, Any]:
+    """The sensor reading against the true heat-sink temperature: its peak, delays and offsets."""
+    unit = settings.unit
+    lag = sensor_lag(result, settings.sensor, settings.band)
+    return {
+        "name": lag.sensor,
+        "time_constant_s": lag.time_constant,
+        "peak": _shown(lag.reading_peak, unit),
+        "time_of_peak_min": _minutes(lag.time_of_peak),
+        "delay_after_braking_min": _minutes(lag.delay),
+        "conduction_delay_min": _minutes(lag.conduction_delay),
+        "instrument_delay_min": _minutes(lag.instrument_delay),
+        "offset_to_heat_sink_mean_at_peak": _difference(lag.offset_to_mean_at_peak, unit),
+        "offset_to_hottest_cell_at_peak": _difference(lag.offset_to_max_at_peak, unit),
+        "largest_under_reading": _difference(float(np.min(lag.offset_to_mean)), unit),
+        "band": _difference(lag.band, unit),
+        "within_band_of_mean_min": _minutes(lag.within_band_time),
+    }
+
+
+def _fuse_plug_row(a: PlugAnswer, unit: str) -> dict[str, Any]:
+    """One fuse plug's peak, release temperature, margin and release times."""
+    return {
+        "name": a.name,
+        "peak": _shown(a.peak, unit),
+        "time_of_peak_min": _minutes(a.time_of_peak),
+        "release_temperature": _shown(a.release_temperature, unit),
+        "margin": _difference(a.margin, unit),
+        "releases": a.releases,
+        "release_time_min": _minutes(a.release_time),
+        "earliest_release_time_min": _minutes(a.earliest_release_time),
+    }
+
+
+def _limit_rows(result: Result, settings: ReportSettings) -> list[dict[str, Any]]:
+    """Each limited probe or series: limit, peak, margin and the times it crosses the limit."""
+    unit = settings.unit
+    return [
         {
             "name": m.name,
             "limit": _shown(m.limit, unit),
@@ -215,20 +239,27 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         }
         for m in (margins(result, settings.limits) if settings.limits else [])
     ]
-    report["tyre"] = _tyre_section(result, settings, plugs)
-    if settings.cooling_below is not None:
-        answer = cooling_time_in_result(result, settings.cooling_series, settings.cooling_below)
-        report["cooling"] = {
-            "series": answer.name,
-            "below": _shown(answer.below, unit),
-            "reached": answer.reached,
-            "time_min": _minutes(answer.time_below),
-            "after_braking_min": _minutes(answer.duration),
-            "value_at_record_end": _shown(answer.value_at_record_end, unit),
-            "record_end_min": _minutes(answer.record_end),
-        }
+
+
+def _cooling_section(result: Result, settings: ReportSettings) -> dict[str, Any]:
+    """When the cooling series falls below its threshold, or where the record ends if it does not."""
+    unit = settings.unit
+    answer = cooling_time_in_result(result, settings.cooling_series, settings.cooling_below)
+    return {
+        "series": answer.name,
+        "below": _shown(answer.below, unit),
+        "reached": answer.reached,
+        "time_min": _minutes(answer.time_below),
+        "after_braking_min": _minutes(answer.duration),
+        "value_at_record_end": _shown(answer.value_at_record_end, unit),
+        "record_end_min": _minutes(answer.record_end),
+    }
+
+
+def _energy_section(result: Result) -> dict[str, Any]:
+    """The energy ledger at the end of the record [MJ] and the split of each rubbing interface."""
     ledger = result.ledger
-    report["energy"] = {
+    return {
         "in_MJ": ledger.heat_in[-1] / 1e6,
         "convected_MJ": ledger.convected[-1] / 1e6,
         "radiated_MJ": ledger.radiated[-1] / 1e6,
@@ -239,7 +270,6 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
             for label, (a, b) in zip(ledger.friction_labels, ledger.friction_split, strict=True)
         ],
     }
-    return report
 
 
 def _tyre_section(result: Result, settings: ReportSettings, plugs: list) -> dict[str, Any] | None:
@@ -333,19 +363,36 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
     md = fmt == "markdown"
     u = {"degC": "°C", "degF": "°F", "K": "K"}[report["temperature_unit"]]
     du = "°F" if u == "°F" else "K"  # unit of a temperature difference
-
-    def heading(text: str) -> list[str]:
-        return ["", f"## {text}", ""] if md else ["", text, "=" * len(text)]
-
     lines = [
         f"# {report['title']}" if md else report["title"],
         "",
         f"> {report['caution']}" if md else report["caution"],
     ]
     lines += ["", f"End of braking: {report['end_of_braking_min']} min."]
-    lines += heading(f"Peak temperatures [{u}]")
-    lines += _table(
-        report["peaks"],
+    lines += _peaks_lines(report["peaks"], u, md)
+    if "sensor" in report:
+        lines += _sensor_lines(report["sensor"], u, du, md)
+    if report["fuse_plugs"]:
+        lines += _fuse_plug_lines(report["fuse_plugs"], u, du, md)
+    if report["limits"]:
+        lines += _limit_lines(report["limits"], u, du, md)
+    if report.get("tyre"):
+        lines += _tyre_lines(report["tyre"], u, md)
+    if "cooling" in report:
+        lines += _cooling_lines(report["cooling"], u, md)
+    lines += _energy_lines(report["energy"], md)
+    return "\n".join(lines) + "\n"
+
+
+def _heading(text: str, markdown: bool) -> list[str]:
+    """A section heading: Markdown level 2, or the text underlined with '='."""
+    return ["", f"## {text}", ""] if markdown else ["", text, "=" * len(text)]
+
+
+def _peaks_lines(rows: list[dict], u: str, md: bool) -> list[str]:
+    """The peak temperatures table; ``u`` is the shown temperature unit."""
+    return _heading(f"Peak temperatures [{u}]", md) + _table(
+        rows,
         [
             ("name", "probe / series"),
             ("peak", f"peak {u}"),
@@ -354,83 +401,93 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
         ],
         md,
     )
-    if "sensor" in report:
-        s = report["sensor"]
-        lines += heading("Why the gauge lags: sensor against the true heat-sink temperature")
+
+
+def _sensor_lines(s: Mapping[str, Any], u: str, du: str, md: bool) -> list[str]:
+    """Why the gauge lags, in words; ``du`` is the unit of a temperature difference."""
+    return _heading("Why the gauge lags: sensor against the true heat-sink temperature", md) + [
+        f"The sensor reading peaks at {s['peak']} {u}, {s['delay_after_braking_min']} min after the end of braking",
+        f"({s['conduction_delay_min']} min of conduction to the sensor location, "
+        f"{s['instrument_delay_min']} min of instrument lag, time constant {s['time_constant_s']} s).",
+        f"At its peak it reads {s['offset_to_heat_sink_mean_at_peak']} {du} against the heat-sink mass-mean "
+        f"and {s['offset_to_hottest_cell_at_peak']} {du} against the hottest heat-sink cell;",
+        f"the largest under-reading is {s['largest_under_reading']} {du}. It first comes within {s['band']} {du} "
+        f"of the mean at {_or_never(s['within_band_of_mean_min'])}.",
+    ]
+
+
+def _fuse_plug_lines(rows: list[dict], u: str, du: str, md: bool) -> list[str]:
+    """The fuse plugs table."""
+    return _heading("Fuse plugs", md) + _table(
+        rows,
+        [
+            ("name", "plug"),
+            ("peak", f"peak {u}"),
+            ("time_of_peak_min", "at [min]"),
+            ("release_temperature", f"release {u}"),
+            ("margin", f"margin {du}"),
+            ("releases", "releases"),
+            ("release_time_min", "release at [min]"),
+        ],
+        md,
+    )
+
+
+def _limit_lines(rows: list[dict], u: str, du: str, md: bool) -> list[str]:
+    """The limits table, with the times each limit is crossed."""
+    return _heading("Limits", md) + _table(
+        [{**row, "crossed": _crossed(row["crossings"])} for row in rows],
+        [
+            ("name", "probe / series"),
+            ("limit", f"limit {u}"),
+            ("peak", f"peak {u}"),
+            ("margin", f"margin {du}"),
+            ("exceeded", "exceeded"),
+            ("crossed", "crossed [min]"),
+        ],
+        md,
+    )
+
+
+def _tyre_lines(t: Mapping[str, Any], u: str, md: bool) -> list[str]:
+    """Tyre gas pressure peak, its margin to the limit and whether a fuse plug releases first."""
+    lines = _heading("Tyre gas", md) + [
+        f"Cold {t['cold_pressure_bar_gauge']:.2f} bar gauge; peak {t['peak_pressure_bar_gauge']:.2f} bar gauge "
+        f"at {t['time_of_peak_min']} min (gas {t['peak_gas_temperature']} {u})."
+    ]
+    if "pressure_limit_bar_gauge" in t:
         lines += [
-            f"The sensor reading peaks at {s['peak']} {u}, {s['delay_after_braking_min']} min after the end of braking",
-            f"({s['conduction_delay_min']} min of conduction to the sensor location, "
-            f"{s['instrument_delay_min']} min of instrument lag, time constant {s['time_constant_s']} s).",
-            f"At its peak it reads {s['offset_to_heat_sink_mean_at_peak']} {du} against the heat-sink mass-mean "
-            f"and {s['offset_to_hottest_cell_at_peak']} {du} against the hottest heat-sink cell;",
-            f"the largest under-reading is {s['largest_under_reading']} {du}. It first comes within {s['band']} {du} "
-            f"of the mean at {_or_never(s['within_band_of_mean_min'])}.",
+            f"Limit {t['pressure_limit_bar_gauge']:.2f} bar gauge: margin {t['pressure_margin_bar']:.2f} bar"
+            f"{' - EXCEEDED' if t['limit_exceeded'] else ''}."
         ]
-    if report["fuse_plugs"]:
-        lines += heading("Fuse plugs")
-        lines += _table(
-            report["fuse_plugs"],
-            [
-                ("name", "plug"),
-                ("peak", f"peak {u}"),
-                ("time_of_peak_min", "at [min]"),
-                ("release_temperature", f"release {u}"),
-                ("margin", f"margin {du}"),
-                ("releases", "releases"),
-                ("release_time_min", "release at [min]"),
-            ],
-            md,
+        if "plug_releases_before_pressure_limit" in t:
+            lines += [
+                "A fuse plug releases before the pressure limit is reached "
+                "(pressures after a release assume no deflation)."
+                if t["plug_releases_before_pressure_limit"]
+                else "No fuse plug releases before the pressure limit is reached."
+            ]
+    return lines
+
+
+def _cooling_lines(c: Mapping[str, Any], u: str, md: bool) -> list[str]:
+    """When the cooling series falls below its threshold, or that it does not within the record."""
+    if c["reached"]:
+        sentence = (
+            f"{c['series']} falls below {c['below']} {u} at {c['time_min']} min "
+            f"({c['after_braking_min']} min after braking)."
         )
-    if report["limits"]:
-        lines += heading("Limits")
-        lines += _table(
-            [{**row, "crossed": _crossed(row["crossings"])} for row in report["limits"]],
-            [
-                ("name", "probe / series"),
-                ("limit", f"limit {u}"),
-                ("peak", f"peak {u}"),
-                ("margin", f"margin {du}"),
-                ("exceeded", "exceeded"),
-                ("crossed", "crossed [min]"),
-            ],
-            md,
+    else:
+        sentence = (
+            f"{c['series']} does not fall below {c['below']} {u} within the record "
+            f"(ends at {c['record_end_min']} min at {c['value_at_record_end']} {u})."
         )
-    if report.get("tyre"):
-        t = report["tyre"]
-        lines += heading("Tyre gas")
-        lines += [
-            f"Cold {t['cold_pressure_bar_gauge']:.2f} bar gauge; peak {t['peak_pressure_bar_gauge']:.2f} bar gauge "
-            f"at {t['time_of_peak_min']} min (gas {t['peak_gas_temperature']} {u})."
-        ]
-        if "pressure_limit_bar_gauge" in t:
-            lines += [
-                f"Limit {t['pressure_limit_bar_gauge']:.2f} bar gauge: margin {t['pressure_margin_bar']:.2f} bar"
-                f"{' - EXCEEDED' if t['limit_exceeded'] else ''}."
-            ]
-            if "plug_releases_before_pressure_limit" in t:
-                lines += [
-                    "A fuse plug releases before the pressure limit is reached "
-                    "(pressures after a release assume no deflation)."
-                    if t["plug_releases_before_pressure_limit"]
-                    else "No fuse plug releases before the pressure limit is reached."
-                ]
-    if "cooling" in report:
-        c = report["cooling"]
-        lines += heading("Cooling time")
-        if c["reached"]:
-            lines += [
-                f"{c['series']} falls below {c['below']} {u} at {c['time_min']} min "
-                f"({c['after_braking_min']} min after braking)."
-            ]
-        else:
-            lines += [
-                f"{c['series']} does not fall below {c['below']} {u} within the record "
-                f"(ends at {c['record_end_min']} min at {c['value_at_record_end']} {u})."
-            ]
-    e = report["energy"]
-    lines += heading("Energy ledger [MJ]")
-    lines += [
+    return _heading("Cooling time", md) + [sentence]
+
+
+def _energy_lines(e: Mapping[str, Any], md: bool) -> list[str]:
+    """The energy ledger in one sentence [MJ]."""
+    return _heading("Energy ledger [MJ]", md) + [
         f"in {e['in_MJ']:.3f}, convected {e['convected_MJ']:.3f}, radiated {e['radiated_MJ']:.3f}, "
         f"stored {e['stored_MJ']:.3f}; closure error {e['relative_closure_error']:.1e} of the input."
     ]
-    return "\n".join(lines) + "\n"

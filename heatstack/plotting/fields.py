@@ -7,17 +7,20 @@ equal scale: the usual half cross-section of a wheel.
 from __future__ import annotations
 
 import os
+from collections.abc import Sequence
 from pathlib import Path
 
 import numpy as np
 from matplotlib import colormaps
+from matplotlib.axes import Axes
 from matplotlib.collections import LineCollection
 from matplotlib.colors import to_rgb
+from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
 
 from ..errors import InputError
-from ..geometry import ROLES, Assembly
+from ..geometry import ROLES, Assembly, Part
 from ..numerics.grid import Grid
 from ..result import Result
 from .common import check_result, check_unit, figure_target, minutes_text, new_figure, save_figure, to_temperature_unit
@@ -208,36 +211,14 @@ def plot_layout(assembly: Assembly, path: str | os.PathLike, grid: Grid | None =
 
     fig = new_figure(10.0, _height_for(r_hi - r_lo + 2 * margin, z_hi - z_lo + 2 * margin, 7.3))
     ax = fig.add_subplot()
-    for part in parts:
-        ax.add_patch(
-            Rectangle(
-                (part.z_min * 1e3, part.r_inner * 1e3),
-                (part.z_max - part.z_min) * 1e3,
-                (part.r_outer - part.r_inner) * 1e3,
-                facecolor=_ROLE_COLOURS[part.role],
-                edgecolor="0.15",
-                linewidth=0.7,
-                zorder=1,
-            )
-        )
-    if grid is not None:
-        lines = _cell_edges(grid.part_map, grid.r_edges, grid.z_edges, every=True) * 1e3
-        ax.add_collection(LineCollection(lines, colors="0.25", linewidths=0.25, alpha=0.55, zorder=2))
+    _draw_parts(ax, parts, grid)
     ax.set_xlim(z_lo - margin, z_hi + margin)
     ax.set_ylim(r_lo - margin, r_hi + margin)
     ax.set_aspect("equal")
     ax.set_xlabel("Axial position z [mm]")
     ax.set_ylabel("Radius r [mm]")
-    n_probes = len(assembly.probes)
-    title = f"Layout: {len(parts)} parts, {n_probes} probe{'' if n_probes == 1 else 's'}"
-    if grid is not None:
-        nz, nr = grid.shape
-        title += f"; grid {nz} × {nr} cells, {grid.n_cells} active"
-    ax.set_title(title, fontsize=11)
-    roles = [role for role in ROLES if any(p.role == role for p in parts)]
-    handles = [Patch(facecolor=_ROLE_COLOURS[role], edgecolor="0.15", label=role.replace("_", " ")) for role in roles]
-    handles.append(Line2D([], [], ls="none", marker="o", ms=5, mfc="white", mec="black", mew=1.0, label="probe"))
-    fig.legend(handles=handles, loc="outside right upper", fontsize=8, frameon=False, title="Role")
+    ax.set_title(_layout_title(assembly, grid), fontsize=11)
+    _add_role_legend(fig, parts)
     probes = [(p.name, p.z * 1e3, p.r * 1e3) for p in assembly.probes]
     for _, z, r in probes:
         ax.plot([z], [r], "o", ms=5, mfc="white", mec="black", mew=1.0, zorder=5)
@@ -255,52 +236,89 @@ def plot_layout(assembly: Assembly, path: str | os.PathLike, grid: Grid | None =
     ]
     placer.add_soft_segments(np.asarray(edges) * 1e3)
     placer.block_points(np.array([(z, r) for _, z, r in probes]).reshape(-1, 2), half=5.0)
-    outside = []
     fontsize = 7.0
-    for part in parts:
-        centre = (0.5 * (part.z_min + part.z_max) * 1e3, 0.5 * (part.r_inner + part.r_outer) * 1e3)
-        corners = ax.transData.transform(
-            [(part.z_min * 1e3, part.r_inner * 1e3), (part.z_max * 1e3, part.r_outer * 1e3)]
-        )
-        width, height = np.abs(corners[1] - corners[0])
-        colour = _text_colour(_ROLE_COLOURS[part.role])
-        fitted = False
-        options = [(part.name, 0)]
-        split = _split_name(part.name)
-        if split:
-            options.append((split, 0))
-        options.append((part.name, 90))
-        if split:
-            options.append((split, 90))
-        for text, rotation in options:
-            w, h = placer._size(text, fontsize, rotation)
-            if w + 4 <= width and h + 4 <= height:
-                spot = _free_spot(placer, corners, (w, h), rotation == 0)
-                if spot is None:
-                    continue
-                label = ax.text(
-                    *ax.transData.inverted().transform(spot),
-                    text,
-                    rotation=rotation,
-                    ha="center",
-                    va="center",
-                    ma="center",
-                    fontsize=fontsize,
-                    color=colour,
-                    zorder=4,
-                    rotation_mode="anchor",
-                )
-                label.set_in_layout(False)
-                placer.block_artist(label)
-                fitted = True
-                break
-        if not fitted:
-            outside.append((part.name, centre))
+    outside = [part for part in parts if not _label_inside(ax, placer, part, fontsize)]
     for name, z, r in probes:
         placer.place((z, r), name, boxed=True, colour="black")
-    for name, centre in outside:
-        placer.place(centre, name, boxed=True, colour="0.15", fontsize=fontsize)
+    for part in outside:
+        centre = (0.5 * (part.z_min + part.z_max) * 1e3, 0.5 * (part.r_inner + part.r_outer) * 1e3)
+        placer.place(centre, part.name, boxed=True, colour="0.15", fontsize=fontsize)
     return save_figure(fig, target, fmt)
+
+
+def _draw_parts(ax: Axes, parts: Sequence[Part], grid: Grid | None) -> None:
+    """Each part as a rectangle filled by its role's colour [mm], then the grid's cell edges over them."""
+    for part in parts:
+        ax.add_patch(
+            Rectangle(
+                (part.z_min * 1e3, part.r_inner * 1e3),
+                (part.z_max - part.z_min) * 1e3,
+                (part.r_outer - part.r_inner) * 1e3,
+                facecolor=_ROLE_COLOURS[part.role],
+                edgecolor="0.15",
+                linewidth=0.7,
+                zorder=1,
+            )
+        )
+    if grid is not None:
+        lines = _cell_edges(grid.part_map, grid.r_edges, grid.z_edges, every=True) * 1e3
+        ax.add_collection(LineCollection(lines, colors="0.25", linewidths=0.25, alpha=0.55, zorder=2))
+
+
+def _layout_title(assembly: Assembly, grid: Grid | None) -> str:
+    """Counts of parts and probes, and of the grid's cells if there is one."""
+    n_probes = len(assembly.probes)
+    title = f"Layout: {len(assembly.parts)} parts, {n_probes} probe{'' if n_probes == 1 else 's'}"
+    if grid is not None:
+        nz, nr = grid.shape
+        title += f"; grid {nz} × {nr} cells, {grid.n_cells} active"
+    return title
+
+
+def _add_role_legend(fig: Figure, parts: Sequence[Part]) -> None:
+    """Legend outside the axes: the fill of each role present, in the order of ROLES, and the probe marker."""
+    roles = [role for role in ROLES if any(p.role == role for p in parts)]
+    handles = [Patch(facecolor=_ROLE_COLOURS[role], edgecolor="0.15", label=role.replace("_", " ")) for role in roles]
+    handles.append(Line2D([], [], ls="none", marker="o", ms=5, mfc="white", mec="black", mew=1.0, label="probe"))
+    fig.legend(handles=handles, loc="outside right upper", fontsize=8, frameon=False, title="Role")
+
+
+def _label_inside(ax: Axes, placer: LabelPlacer, part: Part, fontsize: float) -> bool:
+    """Write the part's name inside its rectangle if it fits clear of other labels; return whether it did.
+
+    Tries the name on one line, then split over two, horizontal before vertical.
+    """
+    corners = ax.transData.transform([(part.z_min * 1e3, part.r_inner * 1e3), (part.z_max * 1e3, part.r_outer * 1e3)])
+    width, height = np.abs(corners[1] - corners[0])
+    options = [(part.name, 0)]
+    split = _split_name(part.name)
+    if split:
+        options.append((split, 0))
+    options.append((part.name, 90))
+    if split:
+        options.append((split, 90))
+    for text, rotation in options:
+        w, h = placer._size(text, fontsize, rotation)
+        if w + 4 <= width and h + 4 <= height:
+            spot = _free_spot(placer, corners, (w, h), rotation == 0)
+            if spot is None:
+                continue
+            label = ax.text(
+                *ax.transData.inverted().transform(spot),
+                text,
+                rotation=rotation,
+                ha="center",
+                va="center",
+                ma="center",
+                fontsize=fontsize,
+                color=_text_colour(_ROLE_COLOURS[part.role]),
+                zorder=4,
+                rotation_mode="anchor",
+            )
+            label.set_in_layout(False)
+            placer.block_artist(label)
+            return True
+    return False
 
 
 def _free_spot(

@@ -346,24 +346,8 @@ def plot_why_the_gauge_lags(
     target, fmt = figure_target(path)
     check_result(result)
     symbol = check_unit(unit)
-    reading = _probe_reading(result, sensor)
-    mean = _series(result, HEAT_SINK_MEAN)
     wheel_default = names is None
-    if names is None:
-        names = [WHEEL_MAX] if WHEEL_MAX in result.series else []
-        names += [n for n in result.readings if n.startswith("fuse plug")]
-    elif isinstance(names, str):
-        names = [names]
-    extra = [(n, result.history(n)) for n in dict.fromkeys(names) if n not in (sensor, HEAT_SINK_MEAN)]
-    curves = [
-        ("heat-sink mean", mean, _COLOURS[1], "--", 1.6),
-        (f"{sensor} location, local temperature", result.probes[sensor], _COLOURS[0], ":", 1.4),
-        (f"{sensor} reading", reading, _COLOURS[0], "-", 1.9),
-    ]
-    for k, (name, values) in enumerate(extra):
-        colour = _COLOURS[(k + 2) % len(_COLOURS)]
-        curves.append((_history_label(result, name), values, colour, "-", 1.2))
-    curves = [(label, to_temperature_unit(v, unit), c, s, w) for label, v, c, s, w in curves]
+    curves, n_extra = _gauge_lag_curves(result, names, sensor, unit)
 
     fig = new_figure(10.0, 5.8)
     ax = fig.add_subplot()
@@ -380,7 +364,7 @@ def plot_why_the_gauge_lags(
     ax.set_ylabel(f"Temperature [{symbol}]")
     rows = _shade_phases(fig, ax, result.phases, t0, t1)
     title = "Why the gauge lags: heat soaks from the heat sink into the sensor"
-    _title(ax, title + (" and the wheel" if wheel_default and extra else ""), rows)
+    _title(ax, title + (" and the wheel" if wheel_default and n_extra else ""), rows)
     fig.legend(loc="outside right upper", fontsize=8, frameon=False)
 
     t_end = float(result.end_of_heating)
@@ -389,65 +373,117 @@ def plot_why_the_gauge_lags(
         ax.axvline(t_end / 60.0, color="0.15", lw=1.0, ls=(0, (4, 2)), zorder=2)
     placer = LabelPlacer(fig, ax)
     if braked:
-        end_label = ax.annotate(
-            "end of braking",
-            xy=(t_end / 60.0, 0.99),
-            xycoords=("data", "axes fraction"),
-            xytext=(3, 0),
-            textcoords="offset points",
-            rotation=90,
-            ha="left",
-            va="top",
-            fontsize=7.5,
-            color="0.15",
-        )
-        end_label.set_in_layout(False)
-        placer.block_artist(end_label)
+        end_label = _end_of_braking_label(ax, placer, t_end)
         t_read, v_read = _peak(result.times, curves[2][1])
         t_local, _ = _peak(result.times, curves[1][1])
         if t_read > t_end:
-            # the delay arrow runs just below the "end of braking" label
-            bottom = end_label.get_window_extent(placer.renderer).y0 - 8.0
-            y_arrow = float(ax.transData.inverted().transform((0.0, bottom))[1])
-            ax.annotate(
-                "",
-                xy=(t_read / 60.0, y_arrow),
-                xytext=(t_end / 60.0, y_arrow),
-                arrowprops=dict(arrowstyle="<->", color=_COLOURS[0], lw=1.0, shrinkA=0, shrinkB=0),
-                zorder=5,
-            ).set_in_layout(False)
-            ax.plot([t_read / 60.0] * 2, [v_read, y_arrow], color=_COLOURS[0], lw=0.6, ls=":", zorder=2)
-            text = f"{sensor} reading peaks {minutes_text(t_read - t_end)} after the end of braking"
-            if t_local > t_end and t_read >= t_local:
-                text += (
-                    f"\n(conduction: local peak after {minutes_text(t_local - t_end)};"
-                    f" instrument lag: {minutes_text(t_read - t_local)} more)"
-                )
-            # the delay text goes right of the arrow, or above / below it clear of the end label
-            ends = ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])
-            length = (ends[1, 0] - ends[0, 0]) / placer.scale  # [points]
-            clear = (end_label.get_window_extent(placer.renderer).x1 - ends[0, 0]) / placer.scale + 4.0
-            options = [
-                (6.0, 0.0, "left", "center", False),
-                (clear - length, 4.0, "left", "bottom", False),
-                (0.0, 4.0, "right", "bottom", False),
-                (clear - length, -4.0, "left", "top", False),
-                (0.0, -4.0, "right", "top", False),
-                (6.0, 4.0, "left", "bottom", False),
-                (6.0, -4.0, "left", "top", False),
-            ]
-            placer.place(
-                (t_read / 60.0, y_arrow),
-                text,
-                colour=_COLOURS[0],
-                boxed=True,
-                candidates=options,
-            )
-            placer.points = np.concatenate(
-                (
-                    placer.points,
-                    densify(ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])),
-                )
-            )
+            _annotate_sensor_delay(ax, placer, end_label, sensor, t_end, t_local, (t_read, v_read))
     _mark_peaks(placer, peaks)
     return save_figure(fig, target, fmt)
+
+
+def _gauge_lag_curves(
+    result: Result, names: Sequence[str] | str | None, sensor: str, unit: str
+) -> tuple[list[tuple[str, np.ndarray, str, str, float]], int]:
+    """Curves (label, values in ``unit``, colour, line style, width) of the gauge-lag figure, and the number of
+    further histories among them.
+
+    First the heat-sink mean, the local temperature at the sensor and its reading; then ``names`` (by
+    default the hottest wheel cell and the fuse plugs), leaving out the sensor and the heat-sink mean.
+    """
+    reading = _probe_reading(result, sensor)
+    mean = _series(result, HEAT_SINK_MEAN)
+    if names is None:
+        names = [n for n in (WHEEL_MAX,) if n in result.series]
+        names += [n for n in result.readings if n.startswith("fuse plug")]
+    elif isinstance(names, str):
+        names = [names]
+    extra = [(n, result.history(n)) for n in dict.fromkeys(names) if n not in (sensor, HEAT_SINK_MEAN)]
+    curves = [
+        ("heat-sink mean", mean, _COLOURS[1], "--", 1.6),
+        (f"{sensor} location, local temperature", result.probes[sensor], _COLOURS[0], ":", 1.4),
+        (f"{sensor} reading", reading, _COLOURS[0], "-", 1.9),
+    ]
+    for k, (name, values) in enumerate(extra):
+        colour = _COLOURS[(k + 2) % len(_COLOURS)]
+        curves.append((_history_label(result, name), values, colour, "-", 1.2))
+    return [(label, to_temperature_unit(v, unit), c, s, w) for label, v, c, s, w in curves], len(extra)
+
+
+def _end_of_braking_label(ax, placer: LabelPlacer, t_end: float):
+    """Write "end of braking" up the dashed line at ``t_end`` [s]; the label is kept clear of others."""
+    end_label = ax.annotate(
+        "end of braking",
+        xy=(t_end / 60.0, 0.99),
+        xycoords=("data", "axes fraction"),
+        xytext=(3, 0),
+        textcoords="offset points",
+        rotation=90,
+        ha="left",
+        va="top",
+        fontsize=7.5,
+        color="0.15",
+    )
+    end_label.set_in_layout(False)
+    placer.block_artist(end_label)
+    return end_label
+
+
+def _annotate_sensor_delay(
+    ax,
+    placer: LabelPlacer,
+    end_label,
+    sensor: str,
+    t_end: float,
+    t_local: float,
+    reading_peak: tuple[float, float],
+) -> None:
+    """Arrow from the end of braking to the sensor reading's peak, with its delay split into conduction and lag.
+
+    Times [s]: ``t_end`` end of braking, ``t_local`` peak of the local temperature at the sensor,
+    ``reading_peak`` (time, value) of the reading's peak, after ``t_end``.
+    """
+    t_read, v_read = reading_peak
+    # the delay arrow runs just below the "end of braking" label
+    bottom = end_label.get_window_extent(placer.renderer).y0 - 8.0
+    y_arrow = float(ax.transData.inverted().transform((0.0, bottom))[1])
+    ax.annotate(
+        "",
+        xy=(t_read / 60.0, y_arrow),
+        xytext=(t_end / 60.0, y_arrow),
+        arrowprops=dict(arrowstyle="<->", color=_COLOURS[0], lw=1.0, shrinkA=0, shrinkB=0),
+        zorder=5,
+    ).set_in_layout(False)
+    ax.plot([t_read / 60.0] * 2, [v_read, y_arrow], color=_COLOURS[0], lw=0.6, ls=":", zorder=2)
+    text = f"{sensor} reading peaks {minutes_text(t_read - t_end)} after the end of braking"
+    if t_local > t_end and t_read >= t_local:
+        text += (
+            f"\n(conduction: local peak after {minutes_text(t_local - t_end)};"
+            f" instrument lag: {minutes_text(t_read - t_local)} more)"
+        )
+    # the delay text goes right of the arrow, or above / below it clear of the end label
+    ends = ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])
+    length = (ends[1, 0] - ends[0, 0]) / placer.scale  # [points]
+    clear = (end_label.get_window_extent(placer.renderer).x1 - ends[0, 0]) / placer.scale + 4.0
+    options = [
+        (6.0, 0.0, "left", "center", False),
+        (clear - length, 4.0, "left", "bottom", False),
+        (0.0, 4.0, "right", "bottom", False),
+        (clear - length, -4.0, "left", "top", False),
+        (0.0, -4.0, "right", "top", False),
+        (6.0, 4.0, "left", "bottom", False),
+        (6.0, -4.0, "left", "top", False),
+    ]
+    placer.place(
+        (t_read / 60.0, y_arrow),
+        text,
+        colour=_COLOURS[0],
+        boxed=True,
+        candidates=options,
+    )
+    placer.points = np.concatenate(
+        (
+            placer.points,
+            densify(ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])),
+        )
+    )

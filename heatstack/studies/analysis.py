@@ -447,7 +447,6 @@ def study_report(
     """
     confidence = _check_confidence(confidence)
     counts = table.counts()
-    level = f"{100 * confidence:g} %"
     lines = [
         f"## Study: {table.title or 'untitled'}",
         "",
@@ -458,70 +457,105 @@ def study_report(
     ]
     if table.method == "grid":
         lines.append("Grid sampling: the release fractions below are fractions of grid points, not probabilities.")
-    plugs = [n.split(":", 1)[1] for n in table.output_names if n.startswith("plug_released:")]
-    if plugs and counts["ok"]:
-        lines += [
-            "",
-            "### Fuse-plug release",
-            "",
-            f"| plug | released / cases | estimate | Wilson {level} | Clopper-Pearson {level} |",
-            "|---|---|---|---|---|",
-        ]
-        for plug in [None, *plugs]:
-            est = release_probability(table, plug, confidence)
-            lines.append(
-                f"| {est.label} | {est.events} / {est.trials} | {est.estimate:.3f} | "
-                f"{est.wilson[0]:.3f} - {est.wilson[1]:.3f} | "
-                f"{est.clopper_pearson[0]:.3f} - {est.clopper_pearson[1]:.3f} |"
-            )
-    margins = [n for n in table.output_names if n.startswith(("plug_margin", "limit_margin:"))]
-    if margins and counts["ok"]:
-        lines += [
-            "",
-            "### Margins [K] (positive: below the release temperature or limit)",
-            "",
-            "| quantity | P5 | P50 | P95 |",
-            "|---|---|---|---|",
-        ]
-        for name in margins:
-            p = margin_percentiles(table, name)
-            lines.append(f"| {name} | {_fmt(p[5.0])} | {_fmt(p[50.0])} | {_fmt(p[95.0])} |")
-    peaks = [n for n in table.output_names if n.startswith("plug_peak:")]
-    if peaks and counts["ok"]:
-        lines += [
-            "",
-            f"### Fuse-plug peak temperatures [{temperature_unit}]",
-            "",
-            "| plug | P5 | P50 | P95 |",
-            "|---|---|---|---|",
-        ]
-        for name in peaks:
-            p = margin_percentiles(table, name)
-            shown = [from_si(p[q], "temperature", temperature_unit) for q in (5.0, 50.0, 95.0)]
-            lines.append(f"| {name.split(':', 1)[1]} | " + " | ".join(_fmt(v) for v in shown) + " |")
+    if counts["ok"]:
+        lines += _release_lines(table, confidence)
+        lines += _margin_lines(table)
+        lines += _plug_peak_lines(table, temperature_unit)
     if counts["ok"] > len(table.parameter_names) + 1:
-        try:
-            result = sensitivity(table, output)
-        except InputError as exc:
-            lines += ["", f"Sensitivity not computed: {exc}"]
-        else:
-            lines += [
-                "",
-                f"### Sensitivity of {result.output} ({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
-                "",
-                "| parameter | Spearman rho | p-value | SRC |",
-                "|---|---|---|---|",
-            ]
-            for e in result.entries:
-                lines.append(f"| {e.parameter} | {e.spearman:+.3f} | {e.p_value:.2g} | {e.src:+.3f} |")
-            if result.skipped:
-                lines.append(f"Constant over the cases (left out): {', '.join(result.skipped)}.")
-    failed = np.flatnonzero(table["status"] == "failed")
-    if failed.size:
-        lines += ["", "### Failed cases", ""]
-        for index in failed[:max_failures]:
-            first = str(table["error"][index]).splitlines()[0] if table["error"][index] else "no error text"
-            lines.append(f"- case {int(index)}: {first}")
-        if failed.size > max_failures:
-            lines.append(f"- ... and {failed.size - max_failures} more")
+        lines += _sensitivity_lines(table, output)
+    lines += _failure_lines(table, max_failures)
     return "\n".join(lines) + "\n"
+
+
+def _release_lines(table: StudyTable, confidence: float) -> list[str]:
+    """Fuse-plug release table (any plug, then each plug) with both intervals; empty without plugs."""
+    plugs = [n.split(":", 1)[1] for n in table.output_names if n.startswith("plug_released:")]
+    if not plugs:
+        return []
+    level = f"{100 * confidence:g} %"
+    lines = [
+        "",
+        "### Fuse-plug release",
+        "",
+        f"| plug | released / cases | estimate | Wilson {level} | Clopper-Pearson {level} |",
+        "|---|---|---|---|---|",
+    ]
+    for plug in [None, *plugs]:
+        est = release_probability(table, plug, confidence)
+        lines.append(
+            f"| {est.label} | {est.events} / {est.trials} | {est.estimate:.3f} | "
+            f"{est.wilson[0]:.3f} - {est.wilson[1]:.3f} | "
+            f"{est.clopper_pearson[0]:.3f} - {est.clopper_pearson[1]:.3f} |"
+        )
+    return lines
+
+
+def _margin_lines(table: StudyTable) -> list[str]:
+    """Percentiles of every plug and limit margin [K]; empty without margins."""
+    margins = [n for n in table.output_names if n.startswith(("plug_margin", "limit_margin:"))]
+    if not margins:
+        return []
+    lines = [
+        "",
+        "### Margins [K] (positive: below the release temperature or limit)",
+        "",
+        "| quantity | P5 | P50 | P95 |",
+        "|---|---|---|---|",
+    ]
+    for name in margins:
+        p = margin_percentiles(table, name)
+        lines.append(f"| {name} | {_fmt(p[5.0])} | {_fmt(p[50.0])} | {_fmt(p[95.0])} |")
+    return lines
+
+
+def _plug_peak_lines(table: StudyTable, temperature_unit: str) -> list[str]:
+    """Percentiles of each fuse plug's peak temperature in ``temperature_unit``; empty without plugs."""
+    peaks = [n for n in table.output_names if n.startswith("plug_peak:")]
+    if not peaks:
+        return []
+    lines = [
+        "",
+        f"### Fuse-plug peak temperatures [{temperature_unit}]",
+        "",
+        "| plug | P5 | P50 | P95 |",
+        "|---|---|---|---|",
+    ]
+    for name in peaks:
+        p = margin_percentiles(table, name)
+        shown = [from_si(p[q], "temperature", temperature_unit) for q in (5.0, 50.0, 95.0)]
+        lines.append(f"| {name.split(':', 1)[1]} | " + " | ".join(_fmt(v) for v in shown) + " |")
+    return lines
+
+
+def _sensitivity_lines(table: StudyTable, output: str | None) -> list[str]:
+    """The sensitivity ranking of ``output``, or why it was not computed."""
+    try:
+        result = sensitivity(table, output)
+    except InputError as exc:
+        return ["", f"Sensitivity not computed: {exc}"]
+    lines = [
+        "",
+        f"### Sensitivity of {result.output} ({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
+        "",
+        "| parameter | Spearman rho | p-value | SRC |",
+        "|---|---|---|---|",
+    ]
+    for e in result.entries:
+        lines.append(f"| {e.parameter} | {e.spearman:+.3f} | {e.p_value:.2g} | {e.src:+.3f} |")
+    if result.skipped:
+        lines.append(f"Constant over the cases (left out): {', '.join(result.skipped)}.")
+    return lines
+
+
+def _failure_lines(table: StudyTable, max_failures: int) -> list[str]:
+    """The first line of the error of the first ``max_failures`` failed cases; empty if none failed."""
+    failed = np.flatnonzero(table["status"] == "failed")
+    if not failed.size:
+        return []
+    lines = ["", "### Failed cases", ""]
+    for index in failed[:max_failures]:
+        first = str(table["error"][index]).splitlines()[0] if table["error"][index] else "no error text"
+        lines.append(f"- case {int(index)}: {first}")
+    if failed.size > max_failures:
+        lines.append(f"- ... and {failed.size - max_failures} more")
+    return lines
