@@ -33,7 +33,7 @@ import pytest
 
 pytest.importorskip("fipy", minversion="4.0")
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "validation"))
+sys.path.insert(0, str(Path(__file__).resolve().parents[2] / "validation"))
 
 from fipy_reference import FipyTwin, radial_metric_difference  # noqa: E402
 

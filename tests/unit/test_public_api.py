@@ -9,7 +9,7 @@ from pathlib import Path
 
 import heatstack
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 
 def test_every_name_in_all_is_an_attribute():
@@ -98,9 +98,7 @@ def test_every_sub_package_and_the_type_marker_are_shipped():
     import tomllib
 
     config = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["setuptools"]
-    on_disk = {
-        ".".join(init.parent.relative_to(ROOT).parts) for init in (ROOT / "heatstack").rglob("__init__.py")
-    }
+    on_disk = {".".join(init.parent.relative_to(ROOT).parts) for init in (ROOT / "heatstack").rglob("__init__.py")}
     assert on_disk <= set(config["packages"])
     assert (ROOT / "heatstack" / "py.typed").is_file()
     assert "py.typed" in config["package-data"]["heatstack"]

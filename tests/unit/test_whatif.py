@@ -65,7 +65,9 @@ def test_cooling_time_of_a_lumped_body_matches_the_exponential(lumped):
     assert state.time == pytest.approx(300.0)
     mass = model.network.mass()
     start = float(np.dot(mass, state.temperature) / mass.sum())
-    answer = cooling_time_from_state(model, state, environment, scales, "centre", below=350.0, horizon="40 min", options=TIGHT)
+    answer = cooling_time_from_state(
+        model, state, environment, scales, "centre", below=350.0, horizon="40 min", options=TIGHT
+    )
     assert isinstance(answer, CoolingAnswer) and answer.reached
     assert answer.time_needed == pytest.approx(closed_form_time(start, 350.0), rel=0.01)
     assert answer.result.times[0] == pytest.approx(state.time)  # the run keeps the model's clock

@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 from heatstack.case import load_case, parse_case
 from heatstack.errors import HeatstackError, InputError
 
-DEMO = Path(__file__).resolve().parents[1] / "examples" / "demo_rto.toml"
+DEMO = Path(__file__).resolve().parents[2] / "examples" / "demo_rto.toml"
 
 SMALL = """
 [case]

@@ -30,7 +30,7 @@ from heatstack.studies import (
 )
 from heatstack.studies.paths import format_path, parse_path
 
-DEMO = Path(__file__).resolve().parents[1] / "examples" / "demo_rto.toml"
+DEMO = Path(__file__).resolve().parents[2] / "examples" / "demo_rto.toml"
 MASS = "duty.phases[0].events[0].mass"
 KNOT = 1852.0 / 3600.0  # m/s, exact by definition of the international nautical mile
 

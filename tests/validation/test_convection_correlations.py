@@ -133,9 +133,3 @@ def test_mixed_rule_bounds_and_value() -> None:
     n = np.array([60.0, 5.0, 1.0, 300.0])
     mixed = cv.nu_mixed(f, n)
     assert np.all(mixed >= np.maximum(f, n)) and np.all(mixed <= f + n)
-
-
-def test_vectorised_shapes() -> None:
-    ra = np.logspace(2, 10, 12).reshape(3, 4)
-    assert cv.nu_vertical_plate(ra, 0.7).shape == (3, 4)
-    assert cv.nu_horizontal_plate(ra, ra > 1e6).shape == (3, 4)

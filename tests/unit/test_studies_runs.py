@@ -49,7 +49,7 @@ from heatstack.studies.executors import DaskExecutor, StudyExecutor
 from heatstack.studies.plots import plot_margin_histogram, plot_tornado
 from heatstack.studies.runner import clear_model_cache
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "examples" / "demo_rto.toml"
 STEFAN_BOLTZMANN = 5.670374419e-8  # W/(m^2 K^4), CODATA 2018 (exact)
 
