@@ -15,6 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .errors import GeometryError
 from .geometry import Assembly
 from .materials import Material
 from .numerics.grid import Grid, build_grid
@@ -22,6 +23,7 @@ from .numerics.network import Network, build_network
 from .numerics.schedule import Schedule
 from .numerics.solver import SolverOptions, integrate
 from .result import Result, State
+from .units import quantity
 
 __all__ = ["Model", "simulate"]
 
@@ -50,14 +52,26 @@ class Model:
         Parameters
         ----------
         assembly : Assembly
-        cell_size : float or (float, float)
-            Target cell size [m] (or radial and axial sizes).
+        cell_size : float or str or pint.Quantity, or a pair of them
+            Target cell size [m] (or radial and axial sizes), e.g. ``"5 mm"``.
         min_cells : int
             Minimum number of cells across each part in each direction.
         materials : mapping of str to Material, optional
             Materials not in the materials directory (e.g. defined inline).
         """
-        grid = build_grid(assembly, cell_size, min_cells)
+        pair = isinstance(cell_size, tuple | list)
+        sizes = tuple(
+            quantity(
+                v,
+                "length",
+                f"cell_size[{k}]" if pair else "cell_size",
+                minimum=0.0,
+                exclusive_minimum=True,
+                error=GeometryError,
+            )
+            for k, v in enumerate(cell_size if pair else [cell_size])
+        )
+        grid = build_grid(assembly, sizes if pair else sizes[0], min_cells)
         return cls(assembly=assembly, grid=grid, network=build_network(assembly, grid, materials))
 
     @property
@@ -74,8 +88,17 @@ class Model:
     ) -> Result:
         """Integrate ``schedule`` from ``initial_temperature`` [K] (or a saved State).
 
-        ``progress``, if given, is called with the simulated time [s] after every step.
+        ``initial_temperature`` may carry a unit (``"30 degC"``), also per part in a
+        mapping. ``progress``, if given, is called with the simulated time [s] after every step.
         """
+        positive = {"minimum": 0.0, "exclusive_minimum": True}
+        if isinstance(initial_temperature, Mapping):
+            initial_temperature = {
+                name: quantity(value, "temperature", f"initial_temperature[{name!r}]", **positive)
+                for name, value in initial_temperature.items()
+            }
+        elif not isinstance(initial_temperature, State | np.ndarray):
+            initial_temperature = quantity(initial_temperature, "temperature", "initial_temperature", **positive)
         return integrate(self.network, schedule, initial_temperature, options, progress)
 
 

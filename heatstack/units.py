@@ -429,6 +429,7 @@ def declared(
     dimension: str,
     default: Any = dataclasses.MISSING,
     *,
+    positive: bool = False,
     minimum: float | None = None,
     exclusive_minimum: bool = False,
     maximum: float | None = None,
@@ -436,11 +437,14 @@ def declared(
 ) -> Any:
     """A dataclass field that declares its physical dimension (and bounds) once.
 
-    ``rotor_thickness: float = declared("length", 0.020, minimum=0, exclusive_minimum=True)``.
+    ``rotor_thickness: float = declared("length", 0.020, positive=True)``; ``positive``
+    is short for ``minimum=0.0, exclusive_minimum=True``.
     :func:`convert_declared` (called from ``__post_init__``) then turns whatever the
     user gave (SI number, unit string, pint Quantity) into the SI float; the case
     reader and the study paths look the dimension up with :func:`declared_dimension`.
     """
+    if positive:
+        minimum, exclusive_minimum = 0.0, True
     metadata = {
         "dimension": dimension,
         "minimum": minimum,
