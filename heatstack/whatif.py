@@ -34,7 +34,7 @@ from .numerics.solver import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
 from .result import Result, State
-from .units import to_si
+from .units import quantity
 
 __all__ = ["CoolingAnswer", "WhatIfAnswer", "cooling_time", "what_if", "history_names"]
 
@@ -92,20 +92,6 @@ def _check_length_scales(model: Model, length_scales: Mapping[str, float]) -> No
             f"length_scales: no length scale for the surface group(s) {missing}; give one for every "
             f"group of the model {list(model.network.groups)}"
         )
-
-
-def _positive_time(value: Any, field: str) -> float:
-    seconds = to_si(value, None, "time", field)
-    if not (np.isfinite(seconds) and seconds > 0):
-        raise InputError(f"{field}: must be a finite time > 0 s, got {value!r}")
-    return seconds
-
-
-def _temperature(value: Any, field: str) -> float:
-    kelvin = to_si(value, None, "temperature", field)
-    if not (np.isfinite(kelvin) and kelvin > 0):
-        raise InputError(f"{field}: must be a finite temperature > 0 K, got {value!r}")
-    return kelvin
 
 
 # ---------------------------------------------------------------------------- cooling time
@@ -236,8 +222,8 @@ def cooling_time(
     _check_length_scales(model, length_scales)
     if not isinstance(environment, Environment):
         raise InputError(f"environment: expected an Environment, got {type(environment).__name__}")
-    threshold = _temperature(below, "below")
-    duration = _positive_time(horizon, "horizon")
+    threshold = quantity(below, "temperature", "below", minimum=0.0, exclusive_minimum=True)
+    duration = quantity(horizon, "time", "horizon", minimum=0.0, exclusive_minimum=True)
     duty = DutyCycle([DutyPhase("parked", duration, environment, clamped=bool(clamped))])
     result = model.run(duty.schedule(length_scales, start=float(state.time)), state, options)
     values = result.history(series)
@@ -373,7 +359,7 @@ def what_if(
             raise InputError(f"{label}: expected an Environment, got {type(env).__name__}")
     if event is not None and not isinstance(event, BrakingEvent):
         raise InputError(f"event: expected a BrakingEvent or None, got {type(event).__name__}")
-    cooling = _positive_time(after, "after")
+    cooling = quantity(after, "time", "after", minimum=0.0, exclusive_minimum=True)
     phases = []
     energy = 0.0
     if event is not None:
