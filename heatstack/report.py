@@ -21,7 +21,7 @@ from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_ma
 from .builders import FusePlugSpec
 from .errors import InputError
 from .result import Result
-from .units import from_si
+from .units import convert_declared, declared, from_si
 
 __all__ = ["TyreSettings", "ReportSettings", "build_report", "format_report", "CAUTION"]
 
@@ -38,15 +38,18 @@ class TyreSettings:
 
     cold_pressure [Pa gauge], gas_volume [m^3], cavity_area [m^2] of rim exterior inside
     the tyre, h_cavity [W/(m^2 K)], outer_conductance [W/K] from the gas through the
-    carcass to ambient, pressure_limit [Pa gauge] or None.
+    carcass to ambient, pressure_limit [Pa gauge] or None. Each may also carry a unit.
     """
 
-    cold_pressure: float
-    gas_volume: float
-    cavity_area: float
-    h_cavity: float = 15.0
-    outer_conductance: float = 0.0
-    pressure_limit: float | None = None
+    cold_pressure: float = declared("pressure")
+    gas_volume: float = declared("volume", positive=True)
+    cavity_area: float = declared("area", positive=True)
+    h_cavity: float = declared("heat_transfer_coefficient", 15.0, minimum=0.0)
+    outer_conductance: float = declared("thermal_conductance", 0.0, minimum=0.0)
+    pressure_limit: float | None = declared("pressure", None)
+
+    def __post_init__(self) -> None:
+        convert_declared(self, "tyre")
 
 
 @dataclass(frozen=True)
