@@ -31,6 +31,7 @@ __all__ = [
     "registry",
     "quantity",
     "quantity_array",
+    "parse_quantity",
     "unit",
     "declared",
     "declared_dimension",
@@ -222,8 +223,16 @@ def _parse_unit(text: str) -> pint.Unit:
         raise _BadUnit("unknown unit name") from None
 
 
-def _read_text(text: str, field: str, allow_nonfinite: bool) -> pint.Quantity:
-    """A quantity string -> pint Quantity, through our own tokeniser."""
+def parse_quantity(text: str, field: str, allow_nonfinite: bool = False) -> pint.Quantity:
+    """Read a quantity string (``"20 mm"``) into a pint Quantity, through our own tokeniser.
+
+    Raises
+    ------
+    UnitError
+        If ``text`` is not one number followed by a unit expression (see the module notes).
+    InputError
+        If the number is not finite (unless ``allow_nonfinite``) or beyond float range.
+    """
     if len(text) > _MAX_TEXT:
         raise UnitError(f"{field}: {_quote(text)} is longer than {_MAX_TEXT} characters")
     stripped = text.strip()
@@ -272,7 +281,7 @@ def _convert(value: Any, given_unit: str | None, dimension: str, field: str, all
     if isinstance(value, str):
         if given_unit is not None:
             raise UnitError(f"{field}: {_quote(value)} carries a unit; do not also give unit={given_unit!r}")
-        value = _read_text(value, field, allow_nonfinite)
+        value = parse_quantity(value, field, allow_nonfinite)
     elif isinstance(value, pint.Quantity):
         if given_unit is not None:
             raise UnitError(f"{field}: {value!r} carries a unit; do not also give unit={given_unit!r}")

@@ -39,9 +39,9 @@ import numpy as np
 from scipy.stats import qmc
 
 from ..errors import HeatstackError, InputError
-from ..units import SI_UNITS, to_si
+from ..units import SI_UNITS, quantity, to_si
 from .distributions import DISTRIBUTIONS, Distribution, LogNormal, Normal, Triangular, TruncatedNormal, Uniform
-from .paths import _MISSING, Token, _convert, _dimension_of_text, _get, _leaf_paths, _set, format_path, parse_path
+from .paths import _MISSING, Token, _dimension_of_text, _get, _leaf_paths, _set, format_path, parse_path
 from .studyfile import load_study, study_from_mapping
 
 __all__ = [
@@ -386,18 +386,23 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
     leaf = str(paths[0][-1])
     dimension = parameter.dimension
     raw_values = list(parameter.values) if parameter.values is not None else []
+    texts = [b for b in bases if isinstance(b, str)]
+    texts += parameter.distribution.strings() if parameter.distribution is not None else []
+    texts += [v for v in raw_values if isinstance(v, str)]
     if dimension is None:
-        texts = [b for b in bases if isinstance(b, str)]
-        texts += parameter.distribution.strings() if parameter.distribution is not None else []
-        texts += [v for v in raw_values if isinstance(v, str)]
+        from ..case import key_dimension
+
+        dimension = key_dimension(paths[0])
+    if dimension is None:  # braking-event keys: each event function converts its own inputs
         for text in texts:
             dimension = _dimension_of_text(text, leaf)
             if dimension is not None:
                 break
-    if dimension is None and len(paths[0]) == 3 and tuple(paths[0][:2]) == ("assembly", "design"):
-        from ..case import design_dimension
-
-        dimension = design_dimension(leaf)
+    if dimension is None and texts:
+        raise InputError(
+            f"{where}: cannot tell the physical dimension of {texts[0]!r}; give the parameter a dimension "
+            f"(one of {', '.join(SI_UNITS)})"
+        )
     base_kinds = {type(b) for b in bases if b is not None}
     kind = "float"
     if raw_values and all(isinstance(v, bool) for v in raw_values) and base_kinds <= {bool}:
@@ -413,7 +418,9 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
         if kind == "bool":
             values = np.array([1.0 if v else 0.0 for v in raw_values])
         else:
-            values = np.array([_convert(v, dimension, f"{where}.values[{i}]") for i, v in enumerate(raw_values)])
+            values = np.array(
+                [quantity(v, dimension or "dimensionless", f"{where}.values[{i}]") for i, v in enumerate(raw_values)]
+            )
     if dimension is None and any(isinstance(b, str) for b in bases):
         raise InputError(f"{where}: cannot tell the physical dimension of {bases[0]!r}; give dimension = ...")
     for tokens, base_value in zip(paths, bases, strict=True):
@@ -516,16 +523,13 @@ def plan_study(study: Study) -> StudyPlan:
             raise InputError(f"study.parameters[{k}].name: {name!r} is used by two parameters")
     n_grid = math.prod(p.values.size for p in resolved) if grid else 0
     _check_sampling(study.sampling, n_grid)
-    cell = None if study.cell_size is None else _convert(study.cell_size, "length", "study.cell_size")
-    if cell is not None and not cell > 0:
-        raise InputError(f"study.cell_size: must be > 0, got {study.cell_size!r}")
+    positive = {"minimum": 0.0, "exclusive_minimum": True}
+    cell = None if study.cell_size is None else quantity(study.cell_size, "length", "study.cell_size", **positive)
     change = (
         None
         if study.target_change is None
-        else _convert(study.target_change, "temperature_difference", "study.target_change")
+        else quantity(study.target_change, "temperature_difference", "study.target_change", **positive)
     )
-    if change is not None and not change > 0:
-        raise InputError(f"study.target_change: must be > 0, got {study.target_change!r}")
     outputs = _check_outputs(study.outputs, base_case)
     # every parameter alone, then all together, at a representative value: catches keys
     # the case does not accept and values of the wrong type before any case runs

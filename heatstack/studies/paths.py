@@ -10,13 +10,12 @@ dimension can be read from such a string.
 from __future__ import annotations
 
 import json
-import math
 import re
 from collections.abc import Iterator, Mapping, Sequence
 from typing import Any
 
-from ..errors import InputError
-from ..units import SI_UNITS, registry, to_si
+from ..errors import HeatstackError, InputError
+from ..units import SI_UNITS, parse_quantity, registry
 
 __all__ = ["parse_path", "format_path"]
 
@@ -114,11 +113,6 @@ def _set(data: Any, tokens: Sequence[Token], value: Any) -> None:
 # ---------------------------------------------------------------------------- dimensions
 
 
-def _difference_of(dimension: str | None) -> str | None:
-    """Dimension of a spread (standard deviation) of a quantity of ``dimension``."""
-    return "temperature_difference" if dimension == "temperature" else dimension
-
-
 def _dimension_of_text(text: str, leaf: str) -> str | None:
     """Physical dimension (a key of ``SI_UNITS``) of a quantity string, or None if unknown.
 
@@ -128,8 +122,8 @@ def _dimension_of_text(text: str, leaf: str) -> str | None:
     """
     reg = registry()
     try:
-        quantity = reg.Quantity(text)
-    except Exception:
+        quantity = parse_quantity(text, "value")
+    except HeatstackError:
         return None
     units = f"{quantity.units}"
     if quantity.dimensionality == reg.Quantity(1.0, "K").dimensionality:
@@ -146,18 +140,3 @@ def _dimension_of_text(text: str, leaf: str) -> str | None:
         if reg.Quantity(1.0, unit).dimensionality == quantity.dimensionality:
             return dimension
     return None
-
-
-def _convert(value: Any, dimension: str | None, where: str) -> float:
-    """A user value (number or quantity string) in SI; bare numbers are SI already."""
-    if isinstance(value, bool) or not isinstance(value, int | float | str):
-        raise InputError(f"{where}: expected a number or a quantity such as '70 t', got {value!r}")
-    if isinstance(value, str) and dimension is None:
-        raise InputError(
-            f"{where}: cannot tell the physical dimension of {value!r}; give the parameter a dimension "
-            f"(one of {', '.join(SI_UNITS)})"
-        )
-    result = to_si(value, None, dimension or "dimensionless", where)
-    if not math.isfinite(result):
-        raise InputError(f"{where}: must be finite, got {value!r}")
-    return result
