@@ -102,15 +102,26 @@ def _matches(pattern: tuple[Any, ...], tokens: tuple[Any, ...]) -> bool:
     return True
 
 
-def key_dimension(tokens: tuple[str | int, ...]) -> str | None:
+_EVENT_KEY = ("duty", "phases", int, "events", int, str)
+
+
+def key_dimension(tokens: tuple[str | int, ...], case: Mapping[str, Any] | None = None) -> str | None:
     """The physical dimension declared for the case key at ``tokens``, or None.
 
     ``("assembly", "design", "rotor_thickness")`` -> ``"length"`` (from the field of
     :class:`~heatstack.builders.WheelBrakeDesign`); ``("output", "limits", "sensor")``
-    -> ``"temperature"``. Braking-event keys (``duty.phases[i].events[j].*``) have no
-    declaration here: each event function converts its own arguments.
+    -> ``"temperature"``. A braking-event key (``duty.phases[i].events[j].mass``) is
+    declared by its event function (:func:`heatstack.units.declares`); finding it needs
+    the event's ``kind``, read from the parsed ``case`` mapping.
     """
     tokens = tuple(tokens)
+    if _matches(_EVENT_KEY, tokens):
+        try:
+            kind = case["duty"]["phases"][tokens[2]]["events"][tokens[4]]["kind"]
+        except (TypeError, KeyError, IndexError):
+            return None
+        function = EVENT_KINDS.get(kind) if isinstance(kind, str) else None
+        return getattr(function, "dimensions", {}).get(tokens[5])
     for pattern, dimension in _CASE_KEYS.items():
         if _matches(pattern, tokens):
             return dimension

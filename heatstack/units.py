@@ -16,9 +16,11 @@ cannot hang and ``"2*3 m"`` is refused rather than read as 6 m.
 from __future__ import annotations
 
 import dataclasses
+import functools
+import inspect
 import math
 import re
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from functools import lru_cache
 from typing import Any
 
@@ -37,6 +39,8 @@ __all__ = [
     "declared_dimension",
     "declared_dimensions",
     "convert_declared",
+    "Declaration",
+    "declares",
     "to_si",
     "to_si_array",
     "from_si",
@@ -510,3 +514,60 @@ def from_si(value: Any, dimension: str, unit_text: str) -> np.ndarray | float:
     except pint.DimensionalityError as exc:
         raise UnitError(f"output unit {unit_text!r} is not a {dimension.replace('_', ' ')}") from exc
     return float(out) if np.ndim(out) == 0 else np.asarray(out)
+
+
+# ---------------------------------------------------------------------------- declared arguments
+
+
+@dataclasses.dataclass(frozen=True)
+class Declaration:
+    """The physical dimension and bounds declared for one function argument.
+
+    ``positive`` is short for ``minimum=0.0, exclusive_minimum=True``.
+    """
+
+    dimension: str
+    positive: dataclasses.InitVar[bool] = False
+    minimum: float | None = None
+    exclusive_minimum: bool = False
+    maximum: float | None = None
+
+    def __post_init__(self, positive: bool) -> None:
+        if self.dimension not in SI_UNITS:
+            raise UnitError(f"declaration: unknown dimension {self.dimension!r}")
+        if positive:
+            object.__setattr__(self, "minimum", 0.0)
+            object.__setattr__(self, "exclusive_minimum", True)
+
+
+def declares(**declarations: Declaration) -> Callable[[Callable[..., Any]], Callable[..., Any]]:
+    """Decorator: the named arguments of a function declare their dimension once.
+
+    Before the call, each named argument that is not ``None`` is converted to SI by
+    :func:`quantity` (so the body sees SI floats); the declarations stay readable as
+    ``function.dimensions`` (argument name -> dimension) for the case reader and studies.
+    """
+
+    def wrap(function: Callable[..., Any]) -> Callable[..., Any]:
+        signature = inspect.signature(function)
+
+        @functools.wraps(function)
+        def call(*args: Any, **kwargs: Any) -> Any:
+            bound = signature.bind(*args, **kwargs)
+            for name, spec in declarations.items():
+                value = bound.arguments.get(name)
+                if value is not None:
+                    bound.arguments[name] = quantity(
+                        value,
+                        spec.dimension,
+                        name,
+                        minimum=spec.minimum,
+                        exclusive_minimum=spec.exclusive_minimum,
+                        maximum=spec.maximum,
+                    )
+            return function(*bound.args, **bound.kwargs)
+
+        call.dimensions = {name: spec.dimension for name, spec in declarations.items()}  # type: ignore[attr-defined]
+        return call
+
+    return wrap

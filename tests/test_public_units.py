@@ -165,3 +165,14 @@ def test_case_brake_share_table_with_units_is_read():
     case = parse_case(text)
     energy = case.duty.phases[0].events[0].energy_per_brake
     assert energy == pytest.approx(base.duty.phases[0].events[0].energy_per_brake, rel=1e-9)
+
+
+def test_event_function_declares_its_arguments_for_the_case_key_lookup():
+    case = {"duty": {"phases": [{"events": [{"kind": "stop_from_aircraft", "mass": "70 t"}]}]}}
+    assert key_dimension(("duty", "phases", 0, "events", 0, "mass"), case) == "mass"
+    assert key_dimension(("duty", "phases", 0, "events", 0, "brake_on_speed"), case) == "speed"
+
+
+def test_event_function_converts_declared_arguments_before_its_body():
+    event = stop_from_aircraft(Q(70, "t"), "135 kt", 4, stop_time=Q(0.5, "min"))
+    assert event.end == pytest.approx(30.0)

@@ -38,7 +38,7 @@ import numpy as np
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from ..traces import read_trace
-from ..units import quantity, quantity_array
+from ..units import Declaration, declares, quantity, quantity_array
 from . import atmosphere
 
 __all__ = [
@@ -102,11 +102,6 @@ class BrakingEvent:
 # ---------------------------------------------------------------------------- inputs
 
 
-#: Bounds for :func:`heatstack.units.quantity`: strictly positive, and not negative.
-_POSITIVE = {"minimum": 0.0, "exclusive_minimum": True}
-_NOT_NEGATIVE = {"minimum": 0.0}
-
-
 def _count(value: Any, field: str) -> int:
     try:
         whole = not isinstance(value, bool) and float(value).is_integer() and float(value) >= 1
@@ -150,6 +145,11 @@ def _checked(function: Callable[[np.ndarray], Any]) -> Callable[[np.ndarray], np
 # ---------------------------------------------------------------------------- stops
 
 
+@declares(
+    energy=Declaration("energy", positive=True),
+    duration=Declaration("time", positive=True),
+    start=Declaration("time"),
+)
 def stop_from_energy(
     energy: Any,
     duration: Any,
@@ -185,9 +185,9 @@ def stop_from_energy(
     InputError
         For a non-positive energy or duration, an unknown profile or a bad table.
     """
-    e = quantity(energy, "energy", "energy", **_POSITIVE)
-    ts = quantity(duration, "time", "duration", **_POSITIVE)
-    t0 = quantity(start, "time", "start")
+    e = energy
+    ts = duration
+    t0 = start
     if isinstance(profile, str):
         if profile == "constant_deceleration":
             power = PowerHistory(np.array([t0, t0 + ts]), np.array([2.0 * e / ts, 0.0]))
@@ -248,25 +248,30 @@ def _brake_on_ground_speed(
         raise InputError(f"{', '.join(unused)}: not used for a {speed_kind} speed; remove or set speed_kind")
     if speed_kind == "ground":
         return speed, "ground speed given"
-    wind = 0.0 if headwind is None else quantity(headwind, "speed", "headwind")
+    wind = 0.0 if headwind is None else headwind
     if speed_kind == "true":
         tas = speed
     else:
         if pressure_altitude is None:
             raise InputError("pressure_altitude: required to convert a calibrated airspeed")
-        h = quantity(pressure_altitude, "length", "pressure_altitude")
-        oat = dt = None
-        if air_temperature is not None:
-            oat = quantity(air_temperature, "temperature", "air_temperature", **_POSITIVE)
-        if temperature_offset is not None:
-            dt = quantity(temperature_offset, "temperature_difference", "temperature_offset")
-        tas = float(atmosphere.true_airspeed(speed, h, oat, dt))
+        tas = float(atmosphere.true_airspeed(speed, pressure_altitude, air_temperature, temperature_offset))
     ground = float(atmosphere.ground_speed(tas, wind))
     if ground <= 0:
         raise InputError(f"headwind: leaves a ground speed of {ground:.3g} m/s at brake-on")
     return ground, f"{speed_kind} airspeed {speed:.4g} m/s -> TAS {tas:.4g} m/s, ground {ground:.4g} m/s"
 
 
+@declares(
+    mass=Declaration("mass", positive=True),
+    brake_on_speed=Declaration("speed", positive=True),
+    stop_time=Declaration("time", positive=True),
+    mean_deceleration=Declaration("acceleration", positive=True),
+    pressure_altitude=Declaration("length"),
+    air_temperature=Declaration("temperature", positive=True),
+    temperature_offset=Declaration("temperature_difference"),
+    headwind=Declaration("speed"),
+    start=Declaration("time"),
+)
 def stop_from_aircraft(
     mass: Any,
     brake_on_speed: Any,
@@ -331,8 +336,8 @@ def stop_from_aircraft(
         For bad numbers, a share outside [0, 1], both or neither of ``stop_time`` and
         ``mean_deceleration``, or a calibrated airspeed without ``pressure_altitude``.
     """
-    m = quantity(mass, "mass", "mass", **_POSITIVE)
-    v_in = quantity(brake_on_speed, "speed", "brake_on_speed", **_POSITIVE)
+    m = mass
+    v_in = brake_on_speed
     n = _count(braked_wheels, "braked_wheels")
     share_of, constant = _share_function(brake_share, share_speed_unit)
     v0, note = _brake_on_ground_speed(
@@ -341,10 +346,10 @@ def stop_from_aircraft(
     if (stop_time is None) == (mean_deceleration is None):
         raise InputError("stop_time, mean_deceleration: give exactly one")
     if stop_time is not None:
-        ts = quantity(stop_time, "time", "stop_time", **_POSITIVE)
+        ts = stop_time
     else:
-        ts = v0 / quantity(mean_deceleration, "acceleration", "mean_deceleration", **_POSITIVE)
-    t0 = quantity(start, "time", "start")
+        ts = v0 / mean_deceleration
+    t0 = start
     a = v0 / ts
     if constant is not None:
         power = PowerHistory(np.array([t0, t0 + ts]), np.array([constant * m * a * v0 / n, 0.0]))
@@ -393,6 +398,10 @@ def read_speed_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
     return times, speeds
 
 
+@declares(
+    mass=Declaration("mass", positive=True),
+    start=Declaration("time"),
+)
 def stop_from_speed_trace(
     path_or_rows: Any,
     mass: Any,
@@ -436,11 +445,11 @@ def stop_from_speed_trace(
         intervals.
     """
     t, v = read_speed_trace(path_or_rows)
-    m = quantity(mass, "mass", "mass", **_POSITIVE)
+    m = mass
     n = _count(braked_wheels, "braked_wheels")
     share_of, _ = _share_function(brake_share, share_speed_unit)
     if start is not None:
-        t = t - t[0] + quantity(start, "time", "start")
+        t = t - t[0] + start
     dt = np.diff(t)
     v_mid = 0.5 * (v[1:] + v[:-1])
     drop = np.maximum(0.5 * (v[:-1] ** 2 - v[1:] ** 2), 0.0)  # kinetic energy per kg lost
@@ -468,6 +477,14 @@ def _piecewise_constant(t: np.ndarray, level: np.ndarray) -> PowerHistory:
 # ---------------------------------------------------------------------------- taxi, retraction
 
 
+@declares(
+    mass=Declaration("mass", positive=True),
+    speed_high=Declaration("speed", positive=True),
+    speed_low=Declaration("speed", minimum=0.0),
+    snub_duration=Declaration("time", positive=True),
+    interval=Declaration("time", positive=True),
+    start=Declaration("time"),
+)
 def taxi_snubs(
     mass: Any,
     braked_wheels: int,
@@ -508,21 +525,21 @@ def taxi_snubs(
     BrakingEvent
         Energy per brake ``count * share m (v_h^2 - v_l^2) / (2 n)``.
     """
-    m = quantity(mass, "mass", "mass", **_POSITIVE)
+    m = mass
     n = _count(braked_wheels, "braked_wheels")
     _, share = _share_function(brake_share, None)
     if share is None:
         raise InputError("brake_share: taxi snubs take a constant share")
-    v_h = quantity(speed_high, "speed", "speed_high", **_POSITIVE)
-    v_l = quantity(speed_low, "speed", "speed_low", **_NOT_NEGATIVE)
+    v_h = speed_high
+    v_l = speed_low
     if v_l >= v_h:
         raise InputError(f"speed_low: {v_l} m/s must be below speed_high {v_h} m/s")
-    d = quantity(snub_duration, "time", "snub_duration", **_POSITIVE)
-    gap = quantity(interval, "time", "interval", **_POSITIVE)
+    d = snub_duration
+    gap = interval
     if gap < d:
         raise InputError(f"interval: {gap} s is shorter than snub_duration {d} s")
     k = _count(count, "count")
-    t0 = quantity(start, "time", "start")
+    t0 = start
     a = (v_h - v_l) / d
     levels = np.array([v_h, v_l]) * share * m * a / n
     snubs = [PowerHistory(np.array([t0 + i * gap, t0 + i * gap + d]), levels) for i in range(k)]
@@ -531,6 +548,13 @@ def taxi_snubs(
     return _event(name, combine(*snubs), kinetic, n, notes, share)
 
 
+@declares(
+    moment_of_inertia=Declaration("moment_of_inertia", positive=True),
+    lift_off_speed=Declaration("speed", positive=True),
+    tyre_rolling_radius=Declaration("length", positive=True),
+    spin_down_time=Declaration("time", positive=True),
+    start=Declaration("time"),
+)
 def gear_retraction(
     moment_of_inertia: Any,
     lift_off_speed: Any,
@@ -559,11 +583,11 @@ def gear_retraction(
     name : str
         Label of the event.
     """
-    inertia = quantity(moment_of_inertia, "moment_of_inertia", "moment_of_inertia", **_POSITIVE)
-    v = quantity(lift_off_speed, "speed", "lift_off_speed", **_POSITIVE)
-    r = quantity(tyre_rolling_radius, "length", "tyre_rolling_radius", **_POSITIVE)
-    ts = quantity(spin_down_time, "time", "spin_down_time", **_POSITIVE)
-    t0 = quantity(start, "time", "start")
+    inertia = moment_of_inertia
+    v = lift_off_speed
+    r = tyre_rolling_radius
+    ts = spin_down_time
+    t0 = start
     omega = v / r
     energy = 0.5 * inertia * omega**2
     power = PowerHistory(np.array([t0, t0 + ts]), np.array([2.0 * energy / ts, 0.0]))

@@ -41,7 +41,7 @@ from scipy.stats import qmc
 from ..errors import HeatstackError, InputError
 from ..units import SI_UNITS, quantity, to_si
 from .distributions import DISTRIBUTIONS, Distribution, LogNormal, Normal, Triangular, TruncatedNormal, Uniform
-from .paths import _MISSING, Token, _dimension_of_text, _get, _leaf_paths, _set, format_path, parse_path
+from .paths import _MISSING, Token, _get, _leaf_paths, _set, format_path, parse_path
 from .studyfile import load_study, study_from_mapping
 
 __all__ = [
@@ -368,7 +368,7 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
         close = difflib.get_close_matches(str(parameter.dimension), SI_UNITS, n=1)
         hint = f"; did you mean {close[0]!r}?" if close else f"; one of {', '.join(SI_UNITS)}"
         raise InputError(f"{where}.dimension: unknown dimension {parameter.dimension!r}{hint}")
-    paths, bases = [], []
+    paths, bases, absent = [], [], []
     for j, text in enumerate(parameter.paths):
         pwhere = f"{where}.path" if isinstance(parameter.path, str) else f"{where}.path[{j}]"
         tokens = parse_path(text, pwhere)
@@ -379,11 +379,11 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
                 hint = _closest_path(mapping, format_path(tokens), _design_fields(mapping))
                 raise InputError(f"{pwhere}: {format_path(tokens)!r} does not exist in the base case{hint}")
             value = None  # an optional key: checked by a trial parse below
+            absent.append((pwhere, tokens))
         elif isinstance(value, Mapping | list):
             raise InputError(f"{pwhere}: {format_path(tokens)!r} is a table or list in the base case, not a value")
         paths.append(tokens)
         bases.append(value)
-    leaf = str(paths[0][-1])
     dimension = parameter.dimension
     raw_values = list(parameter.values) if parameter.values is not None else []
     texts = [b for b in bases if isinstance(b, str)]
@@ -392,12 +392,11 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
     if dimension is None:
         from ..case import key_dimension
 
-        dimension = key_dimension(paths[0])
-    if dimension is None:  # braking-event keys: each event function converts its own inputs
-        for text in texts:
-            dimension = _dimension_of_text(text, leaf)
-            if dimension is not None:
-                break
+        dimension = key_dimension(paths[0], mapping)
+    if dimension is None and absent and texts:  # no declaration, not in the base case: a misspelt key?
+        pwhere, tokens = absent[0]
+        hint = _closest_path(mapping, format_path(tokens), _design_fields(mapping))
+        raise InputError(f"{pwhere}: {format_path(tokens)!r} does not exist in the base case{hint}")
     if dimension is None and texts:
         raise InputError(
             f"{where}: cannot tell the physical dimension of {texts[0]!r}; give the parameter a dimension "

@@ -1,10 +1,10 @@
-"""Key paths into a case mapping, and the values written at them converted to SI.
+"""Key paths into a case mapping: parse, format, read and write the value at a path.
 
 A path is written the way case-file errors name keys: ``duty.phases[0].events[0].mass``,
 ``assembly.fuse_plugs[1].release_temperature``, ``output.limits."inboard bead seat"``.
 :func:`parse_path` splits it into keys and list indices, :func:`format_path` writes it
-back. A value is a number in SI or a string with a unit (``"70 t"``); its physical
-dimension can be read from such a string.
+back. The physical dimension of the value at a path is the one its field declares
+(:func:`heatstack.case.key_dimension`).
 """
 
 from __future__ import annotations
@@ -14,8 +14,7 @@ import re
 from collections.abc import Iterator, Mapping, Sequence
 from typing import Any
 
-from ..errors import HeatstackError, InputError
-from ..units import SI_UNITS, parse_quantity, registry
+from ..errors import InputError
 
 __all__ = ["parse_path", "format_path"]
 
@@ -108,35 +107,3 @@ def _get(data: Any, tokens: Sequence[Token]) -> Any:
 def _set(data: Any, tokens: Sequence[Token], value: Any) -> None:
     parent = _get(data, tokens[:-1])
     parent[tokens[-1]] = value
-
-
-# ---------------------------------------------------------------------------- dimensions
-
-
-def _dimension_of_text(text: str, leaf: str) -> str | None:
-    """Physical dimension (a key of ``SI_UNITS``) of a quantity string, or None if unknown.
-
-    A temperature in an offset unit (degC, degF) is a temperature; in delta units it is
-    a temperature difference; in kelvin it is a temperature when the key names one
-    (``..._temperature``), else a difference (``tolerance``, ``target_change``).
-    """
-    reg = registry()
-    try:
-        quantity = parse_quantity(text, "value")
-    except HeatstackError:
-        return None
-    units = f"{quantity.units}"
-    if quantity.dimensionality == reg.Quantity(1.0, "K").dimensionality:
-        if "delta_" in units:
-            return "temperature_difference"
-        if "degree_Celsius" in units or "degree_Fahrenheit" in units:
-            return "temperature"
-        return "temperature" if "temperature" in leaf else "temperature_difference"
-    if quantity.dimensionless:
-        return "dimensionless"
-    for dimension, unit in SI_UNITS.items():
-        if dimension in ("temperature", "temperature_difference", "dimensionless"):
-            continue
-        if reg.Quantity(1.0, unit).dimensionality == quantity.dimensionality:
-            return dimension
-    return None
