@@ -19,17 +19,17 @@ from typing import Any
 import numpy as np
 
 from .builders import BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
+from .case_keys import EVENT_KINDS, key_dimension
 from .errors import HeatstackError, InputError
 from .geometry import ROLES, Assembly, Contact, FrictionSettings, Part, Probe
 from .materials import Material, material_from_mapping
 from .model import Model
 from .numerics.solver import SolverOptions
-from .operations import heat_input
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
 from .report import ReportSettings, TyreSettings
 from .result import Result
-from .units import declared_dimension, declared_dimensions, quantity
+from .units import declared_dimensions, quantity
 
 __all__ = [
     "Case",
@@ -37,99 +37,10 @@ __all__ = [
     "load_case",
     "parse_case",
     "case_from_mapping",
-    "key_dimension",
     "run_case",
-    "EVENT_KINDS",
 ]
 
 _REQUIRED = object()
-
-#: Braking-event kinds of ``[[duty.phases.events]]`` and the functions that make them.
-EVENT_KINDS: dict[str, Callable[..., BrakingEvent]] = {
-    "stop_from_energy": heat_input.stop_from_energy,
-    "stop_from_aircraft": heat_input.stop_from_aircraft,
-    "speed_trace": heat_input.stop_from_speed_trace,
-    "taxi_snubs": heat_input.taxi_snubs,
-    "gear_retraction": heat_input.gear_retraction,
-}
-
-
-# ------------------------------------------------------------------ declared dimensions
-
-#: Tables of the case file whose keys are the fields of a dataclass: the dimension of
-#: each key is the one its field declares (``int`` stands for any list index).
-_DECLARING_TABLES: dict[tuple[Any, ...], type] = {
-    ("assembly", "design"): WheelBrakeDesign,
-    ("assembly", "parts", int): Part,
-    ("assembly", "probes", int): Probe,
-    ("assembly", "contacts", int): Contact,
-    ("assembly", "fuse_plugs", int): FusePlugSpec,
-    ("duty",): DutyCycle,
-    ("duty", "phases", int): DutyPhase,
-    ("duty", "phases", int, "environment"): Environment,
-    ("solver",): SolverOptions,
-    ("tyre",): TyreSettings,
-}
-#: Keys of the case file that are not a dataclass field, and their dimension (``str``
-#: stands for any key).
-_CASE_KEYS: dict[tuple[Any, ...], str] = {
-    ("case", "initial_temperature"): "temperature",
-    ("assembly", "cell_size"): "length",
-    ("assembly", "cell_size_radial"): "length",
-    ("assembly", "cell_size_axial"): "length",
-    ("assembly", "default_contact_conductance"): "heat_transfer_coefficient",
-    ("assembly", "length_scales", str): "length",
-    ("duty", "phases", int, "environment", "wheel_well_air_temperature"): "temperature",
-    ("duty", "phases", int, "environment", "wheel_well_wall_temperature"): "temperature",
-    ("solver", "snapshot_times", int): "time",
-    ("output", "limits", str): "temperature",
-    ("output", "cooling_below"): "temperature",
-}
-
-
-def _matches(pattern: tuple[Any, ...], tokens: tuple[Any, ...]) -> bool:
-    if len(pattern) != len(tokens):
-        return False
-    for want, token in zip(pattern, tokens, strict=True):
-        if want is int:
-            if not isinstance(token, int):
-                return False
-        elif want is str:
-            if not isinstance(token, str):
-                return False
-        elif want != token:
-            return False
-    return True
-
-
-_EVENT_KEY = ("duty", "phases", int, "events", int, str)
-
-
-def key_dimension(tokens: tuple[str | int, ...], case: Mapping[str, Any] | None = None) -> str | None:
-    """The physical dimension declared for the case key at ``tokens``, or None.
-
-    ``("assembly", "design", "rotor_thickness")`` -> ``"length"`` (from the field of
-    :class:`~heatstack.builders.WheelBrakeDesign`); ``("output", "limits", "sensor")``
-    -> ``"temperature"``. A braking-event key (``duty.phases[i].events[j].mass``) is
-    declared by its event function (:func:`heatstack.units.declares`); finding it needs
-    the event's ``kind``, read from the parsed ``case`` mapping.
-    """
-    tokens = tuple(tokens)
-    if _matches(_EVENT_KEY, tokens):
-        try:
-            kind = case["duty"]["phases"][tokens[2]]["events"][tokens[4]]["kind"]
-        except (TypeError, KeyError, IndexError):
-            return None
-        function = EVENT_KINDS.get(kind) if isinstance(kind, str) else None
-        return getattr(function, "dimensions", {}).get(tokens[5])
-    for pattern, dimension in _CASE_KEYS.items():
-        if _matches(pattern, tokens):
-            return dimension
-    if tokens and isinstance(tokens[-1], str):
-        for pattern, cls in _DECLARING_TABLES.items():
-            if _matches(pattern, tokens[:-1]):
-                return declared_dimension(cls, tokens[-1])
-    return None
 
 
 class _Table:

@@ -19,7 +19,8 @@ from heatstack import (
     SolverOptions,
 )
 from heatstack.builders import WheelBrakeDesign, build_wheel_brake
-from heatstack.case import key_dimension, parse_case
+from heatstack.case import parse_case
+from heatstack.case_keys import key_dimension
 from heatstack.errors import GeometryError, InputError, UnitError
 from heatstack.materials import simple_material
 from heatstack.operations.heat_input import stop_from_aircraft

@@ -217,3 +217,19 @@ def test_arbitrary_unicode_gives_a_float_or_a_heatstack_error(text):
     except HeatstackError:
         return
     assert isinstance(out, float)
+
+
+def test_material_unit_key_goes_through_the_unit_check():
+    from heatstack.errors import MaterialError
+    from heatstack.materials import material_from_mapping
+
+    table = {"temperature_unit": "K", "source": "test", "table": [[200.0, 1.0], [2000.0, 1.0]]}
+    data = {
+        "name": "pad",
+        "density": {"value": 2000.0, "unit": "kg/m^3", "source": "test"},
+        "specific_heat": {**table, "unit": "J/(kg*K)"},
+        "conductivity": {**table, "unit": "W/(m*K)**9**9"},
+        "emissivity": {**table, "unit": "1", "table": [[200.0, 0.8], [2000.0, 0.8]]},
+    }
+    with pytest.raises(MaterialError, match=r"\[conductivity\] unit.*not a unit"):
+        material_from_mapping(data, "case.toml [materials.pad]")

@@ -390,7 +390,7 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
     texts += parameter.distribution.strings() if parameter.distribution is not None else []
     texts += [v for v in raw_values if isinstance(v, str)]
     if dimension is None:
-        from ..case import key_dimension
+        from ..case_keys import key_dimension
 
         dimension = key_dimension(paths[0], mapping)
     if dimension is None and absent and texts:  # no declaration, not in the base case: a misspelt key?
