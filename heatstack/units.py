@@ -3,8 +3,9 @@
 Inside heatstack every quantity is a plain float in SI (K, s, m, W, J, kg, Pa). Only
 public constructors, the case file and the command line call this module, through
 one path: :func:`quantity` (and :func:`quantity_array`) for values, :func:`unit` for
-unit strings given on their own, and :func:`declared` / :func:`convert_declared` for
-dataclass fields that declare their dimension once.
+unit strings given on their own, :func:`declared` / :func:`convert_declared` for
+dataclass fields and :func:`declares` for function arguments that declare their
+dimension once.
 
 A value string is read by our own tokeniser before pint sees it: exactly one number
 (decimal point or scientific notation, one optional sign) followed by a unit
@@ -21,7 +22,6 @@ import inspect
 import math
 import re
 from collections.abc import Callable, Mapping
-from functools import lru_cache
 from typing import Any
 
 import numpy as np
@@ -87,7 +87,7 @@ _UNIT_TOKEN = re.compile(
 )
 
 
-@lru_cache(maxsize=1)
+@functools.lru_cache(maxsize=1)
 def registry() -> pint.UnitRegistry:
     """Return heatstack's shared pint unit registry (created once)."""
     reg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
