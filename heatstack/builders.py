@@ -27,6 +27,7 @@ from .geometry import (
     cell_groups_by_role,
     rubbing_pairs_by_role,
 )
+from .units import convert_declared, declared
 
 __all__ = [
     "WheelBrakeDesign",
@@ -83,18 +84,23 @@ class FusePlugSpec:
     """
 
     name: str
-    z_fraction: float
-    depth_fraction: float = 0.5
-    release_temperature: float = 450.15
-    tolerance: float = 3.0
-    time_constant: float = 0.0
+    z_fraction: float = declared("dimensionless", minimum=0.0, maximum=1.0)
+    depth_fraction: float = declared("dimensionless", 0.5, minimum=0.0, maximum=1.0)
+    release_temperature: float = declared("temperature", 450.15, positive=True)
+    tolerance: float = declared("temperature_difference", 3.0, minimum=0.0)
+    time_constant: float = declared("time", 0.0, minimum=0.0)
+
+    def __post_init__(self) -> None:
+        convert_declared(self, f"fuse plug {self.name!r}", GeometryError)
 
 
 @dataclass(frozen=True)
 class WheelBrakeDesign:
     """Dimensions [m], materials and contact conductances [W/(m^2 K)] of a wheel and brake.
 
-    Every default is INVENTED for the reference design (no real product).
+    Every default is INVENTED for the reference design (no real product). Each number may
+    also be given with a unit (``rotor_thickness="18 mm"``) or as a pint Quantity; each
+    field declares its dimension once (:func:`heatstack.units.declared_dimension`).
     ``drive_key_conductance`` [W/K] is the conduction path from each rotor's keys through
     the wheel's drive keys into the rim bore (the keys themselves are not meshed).
 
@@ -168,70 +174,66 @@ class WheelBrakeDesign:
     """
 
     rotors: int = 4
-    rotor_thickness: float = 0.020
-    stator_thickness: float = 0.018
-    pressure_plate_thickness: float = 0.022
-    end_plate_thickness: float = 0.022
-    friction_inner_radius: float = 0.130
-    friction_outer_radius: float = 0.210
-    rotor_key_height: float = 0.010
-    stator_key_height: float = 0.010
+    rotor_thickness: float = declared("length", 0.020, positive=True)
+    stator_thickness: float = declared("length", 0.018, positive=True)
+    pressure_plate_thickness: float = declared("length", 0.022, positive=True)
+    end_plate_thickness: float = declared("length", 0.022, positive=True)
+    friction_inner_radius: float = declared("length", 0.130, positive=True)
+    friction_outer_radius: float = declared("length", 0.210, positive=True)
+    rotor_key_height: float = declared("length", 0.010, positive=True)
+    stator_key_height: float = declared("length", 0.010, positive=True)
     heat_sink_material: str = "carbon-carbon"
-    torque_tube_inner_radius: float = 0.106
+    torque_tube_inner_radius: float = declared("length", 0.106, positive=True)
     torque_tube_material: str = "low-alloy-steel"
-    backing_flange_thickness: float = 0.016
-    housing_thickness: float = 0.040
-    housing_outer_radius: float = 0.200
+    backing_flange_thickness: float = declared("length", 0.016, positive=True)
+    housing_thickness: float = declared("length", 0.040, positive=True)
+    housing_outer_radius: float = declared("length", 0.200, positive=True)
     housing_material: str = "low-alloy-steel"
     heat_shield: bool = True
-    heat_shield_gap: float = 0.014
-    heat_shield_thickness: float = 0.0015
+    heat_shield_gap: float = declared("length", 0.014, positive=True)
+    heat_shield_thickness: float = declared("length", 0.0015, positive=True)
     heat_shield_material: str = "stainless-heat-shield"
-    rim_bore_clearance: float = 0.006
-    rim_thickness: float = 0.012
-    rim_overhang_inboard: float = 0.010
-    rim_overhang_outboard: float = 0.030
-    flange_height: float = 0.028
-    flange_thickness: float = 0.014
-    web_gap: float = 0.012
-    web_thickness: float = 0.022
-    hub_inner_radius: float = 0.072
-    hub_thickness: float = 0.022
+    rim_bore_clearance: float = declared("length", 0.006, positive=True)
+    rim_thickness: float = declared("length", 0.012, positive=True)
+    rim_overhang_inboard: float = declared("length", 0.010, positive=True)
+    rim_overhang_outboard: float = declared("length", 0.030, positive=True)
+    flange_height: float = declared("length", 0.028, positive=True)
+    flange_thickness: float = declared("length", 0.014, positive=True)
+    web_gap: float = declared("length", 0.012, positive=True)
+    web_thickness: float = declared("length", 0.022, positive=True)
+    hub_inner_radius: float = declared("length", 0.072, positive=True)
+    hub_thickness: float = declared("length", 0.022, positive=True)
     wheel_material: str = "forged-aluminium-wheel-alloy"
-    bead_width: float = 0.040
-    bead_height: float = 0.018
+    bead_width: float = declared("length", 0.040, positive=True)
+    bead_height: float = declared("length", 0.018, positive=True)
     bead_material: str = "tyre-rubber"
-    sensor_depth: float = 0.004
-    sensor_z_fraction: float = 0.9
-    sensor_time_constant: float = 15.0
+    sensor_depth: float = declared("length", 0.004, positive=True)
+    sensor_z_fraction: float = declared("dimensionless", 0.9, minimum=0.0, maximum=1.0)
+    sensor_time_constant: float = declared("time", 15.0, positive=True)
     fuse_plugs: tuple[FusePlugSpec, ...] = field(
         default=(
             FusePlugSpec("fuse plug 1", z_fraction=0.80),
             FusePlugSpec("fuse plug 2", z_fraction=0.55),
         )
     )
-    rotor_stator_clamped: float = 3000.0
-    rotor_stator_released: float = 250.0
-    stator_torque_tube: float = 300.0
-    end_plate_flange: float = 1500.0
-    pressure_plate_housing: float = 150.0
-    housing_torque_tube: float = 2000.0
-    tyre_bead_rim: float = 800.0
-    drive_key_conductance: float = 4.0
+    rotor_stator_clamped: float = declared("heat_transfer_coefficient", 3000.0, positive=True)
+    rotor_stator_released: float = declared("heat_transfer_coefficient", 250.0, positive=True)
+    stator_torque_tube: float = declared("heat_transfer_coefficient", 300.0, positive=True)
+    end_plate_flange: float = declared("heat_transfer_coefficient", 1500.0, positive=True)
+    pressure_plate_housing: float = declared("heat_transfer_coefficient", 150.0, positive=True)
+    housing_torque_tube: float = declared("heat_transfer_coefficient", 2000.0, positive=True)
+    tyre_bead_rim: float = declared("heat_transfer_coefficient", 800.0, positive=True)
+    drive_key_conductance: float = declared("thermal_conductance", 4.0, positive=True)
     friction_distribution: str = "uniform_pressure"
 
     def __post_init__(self) -> None:
         if int(self.rotors) != self.rotors or self.rotors < 1:
             raise GeometryError(f"design: rotors must be a whole number >= 1, got {self.rotors}")
-        for name, value in self.__dict__.items():
-            if isinstance(value, float) and not value > 0 and name != "sensor_z_fraction":
-                raise GeometryError(f"design: {name} must be > 0, got {value}")
+        convert_declared(self, "design", GeometryError)
         if self.friction_outer_radius <= self.friction_inner_radius:
             raise GeometryError("design: friction_outer_radius must exceed friction_inner_radius")
         if self.torque_tube_inner_radius >= self.friction_inner_radius - self.stator_key_height:
             raise GeometryError("design: torque_tube_inner_radius must be inside the stator bore")
-        if not 0.0 <= self.sensor_z_fraction <= 1.0:
-            raise GeometryError("design: sensor_z_fraction must lie in [0, 1]")
 
     def with_changes(self, **changes) -> WheelBrakeDesign:
         """A copy with some fields changed (validated again)."""

@@ -19,6 +19,7 @@ from typing import Any
 import numpy as np
 
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
+from .case_keys import EVENT_KINDS, key_dimension
 from .errors import HeatstackError, InputError
 from .geometry import (
     HEAT_SINK_MEAN,
@@ -36,12 +37,11 @@ from .material_files import material_from_mapping
 from .materials import Material
 from .model import Model
 from .numerics.solver import SolverOptions
-from .operations import heat_input
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
 from .report import ReportSettings, TyreSettings
 from .result import Result
-from .units import to_si
+from .units import declared_dimensions, quantity
 
 __all__ = [
     "Case",
@@ -49,30 +49,19 @@ __all__ = [
     "load_case",
     "parse_case",
     "case_from_mapping",
-    "design_dimension",
     "run_case",
-    "EVENT_KINDS",
 ]
 
 _REQUIRED = object()
-
-#: Braking-event kinds of ``[[duty.phases.events]]`` and the functions that make them.
-EVENT_KINDS: dict[str, Callable[..., BrakingEvent]] = {
-    "stop_from_energy": heat_input.stop_from_energy,
-    "stop_from_aircraft": heat_input.stop_from_aircraft,
-    "speed_trace": heat_input.stop_from_speed_trace,
-    "taxi_snubs": heat_input.taxi_snubs,
-    "gear_retraction": heat_input.gear_retraction,
-}
 
 
 class _Table:
     """A TOML table being read: typed getters with key paths, unknown keys rejected."""
 
-    def __init__(self, data: Any, path: str):
+    def __init__(self, data: Any, path: str, tokens: tuple[str | int, ...] = ()):
         if not isinstance(data, Mapping):
             raise InputError(f"{path or 'case'}: expected a table, got {type(data).__name__}")
-        self.data, self.path, self.used = dict(data), path, set()
+        self.data, self.path, self.tokens, self.used = dict(data), path, tokens, set()
 
     def where(self, key: str) -> str:
         return f"{self.path}.{key}" if self.path else key
@@ -108,23 +97,39 @@ class _Table:
             raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {value!r}")
         return value
 
-    def quantity(self, key: str, dimension: str, default: Any = _REQUIRED) -> float:
+    def quantity(self, key: str, default: Any = _REQUIRED) -> float:
+        """The value at ``key`` in SI, in the dimension declared for it (:func:`key_dimension`)."""
         value = self.raw(key, default)
         if value is default:
             return value
+        return self.convert(value, (*self.tokens, key), self.where(key))
+
+    def convert(self, value: Any, tokens: tuple[str | int, ...], where: str) -> float:
+        dimension = key_dimension(tokens)
+        if dimension is None:
+            raise InputError(f"{where}: no physical dimension is declared for this key")
         if isinstance(value, bool) or not isinstance(value, int | float | str):
-            raise InputError(f"{self.where(key)}: expected a number or a quantity such as '20 mm', got {value!r}")
-        return to_si(value, None, dimension, self.where(key))
+            raise InputError(f"{where}: expected a number or a quantity such as '20 mm', got {value!r}")
+        return quantity(value, dimension, where)
+
+    def declared(self, cls: type, names: tuple[str, ...] | None = None) -> dict[str, float]:
+        """The keys of this table that are declared fields of ``cls`` (or ``names`` of them), in SI.
+
+        All of them count as valid keys for :meth:`finish`, given or not.
+        """
+        names = tuple(declared_dimensions(cls)) if names is None else names
+        self.used.update(names)
+        return {key: self.quantity(key) for key in names if self.has(key)}
 
     def table(self, key: str, default: Any = _REQUIRED) -> _Table:
         value = self.raw(key, default)
-        return _Table({} if value is None else value, self.where(key))
+        return _Table({} if value is None else value, self.where(key), (*self.tokens, key))
 
     def tables(self, key: str) -> list[_Table]:
         value = self.raw(key, [])
         if not isinstance(value, list):
             raise InputError(f"{self.where(key)}: expected an array of tables ([[{self.where(key)}]])")
-        return [_Table(item, f"{self.where(key)}[{k}]") for k, item in enumerate(value)]
+        return [_Table(item, f"{self.where(key)}[{k}]", (*self.tokens, key, k)) for k, item in enumerate(value)]
 
     def finish(self, allowed: tuple[str, ...] | None = None) -> None:
         """Reject keys that were not read (or not in ``allowed``), suggesting the closest."""
@@ -250,8 +255,7 @@ def _design(table: _Table) -> WheelBrakeDesign:
         elif isinstance(current, str):
             changes[key] = table.text(key)
         else:
-            dimension = design_dimension(key)
-            changes[key] = table.quantity(key, dimension)
+            changes[key] = table.quantity(key)
     table.finish(names)
     try:
         return defaults.with_changes(**changes)
@@ -259,44 +263,17 @@ def _design(table: _Table) -> WheelBrakeDesign:
         raise InputError(f"{table.path}: {exc}") from exc
 
 
-def design_dimension(key: str) -> str:
-    """The physical dimension of a WheelBrakeDesign field, for values given with units."""
-    if key.endswith("_time_constant"):
-        return "time"
-    if key.endswith("_fraction"):
-        return "dimensionless"
-    if key in ("drive_key_conductance",):
-        return "dimensionless"  # W/K: given as a plain number
-    if key.startswith(
-        (
-            "rotor_stator",
-            "stator_torque",
-            "end_plate_flange",
-            "pressure_plate_housing",
-            "housing_torque",
-            "tyre_bead_rim",
-        )
-    ):
-        return "heat_transfer_coefficient"
-    return "length"
-
-
 def _fuse_plugs(tables: list[_Table]) -> tuple[FusePlugSpec, ...]:
     plugs = []
     for t in tables:
-        plugs.append(
-            FusePlugSpec(
-                name=t.text("name"),
-                z_fraction=t.quantity("z_fraction", "dimensionless"),
-                depth_fraction=t.quantity("depth_fraction", "dimensionless", 0.5),
-                release_temperature=t.quantity("release_temperature", "temperature", 450.15),
-                tolerance=t.quantity("tolerance", "temperature_difference", 3.0),
-                time_constant=t.quantity("time_constant", "time", 0.0),
-            )
-        )
-        for attr in ("z_fraction", "depth_fraction"):
-            if not 0.0 <= getattr(plugs[-1], attr) <= 1.0:
-                raise InputError(f"{t.where(attr)}: must lie in [0, 1]")
+        name = t.text("name")
+        values = t.declared(FusePlugSpec)
+        if "z_fraction" not in values:
+            t.raw("z_fraction")  # required: raises naming the key path
+        try:
+            plugs.append(FusePlugSpec(name=name, **values))
+        except InputError as exc:
+            raise InputError(f"{t.path}: {exc}") from exc
         t.finish()
     return tuple(plugs)
 
@@ -308,10 +285,10 @@ def _part(t: _Table) -> Part:
     part = Part(
         t.text("name"),
         t.text("material"),
-        t.quantity("r_inner", "length"),
-        t.quantity("r_outer", "length"),
-        t.quantity("z_min", "length"),
-        t.quantity("z_max", "length"),
+        t.quantity("r_inner"),
+        t.quantity("r_outer"),
+        t.quantity("z_min"),
+        t.quantity("z_max"),
         role,
     )
     t.finish()
@@ -321,10 +298,10 @@ def _part(t: _Table) -> Part:
 def _probe(t: _Table) -> Probe:
     probe = Probe(
         t.text("name"),
-        t.quantity("r", "length"),
-        t.quantity("z", "length"),
+        t.quantity("r"),
+        t.quantity("z"),
         t.text("part", None),
-        t.quantity("time_constant", "time", 0.0),
+        t.quantity("time_constant", 0.0),
     )
     t.finish()
     return probe
@@ -335,8 +312,8 @@ def _contact(t: _Table) -> Contact:
     pair = t.raw(pair_key)
     if not (isinstance(pair, list) and len(pair) == 2 and all(isinstance(x, str) for x in pair)):
         raise InputError(f'{t.where(pair_key)}: expected two names, e.g. ["rotor", "stator"]')
-    clamped = t.quantity("clamped", "heat_transfer_coefficient", None)
-    released = t.quantity("released", "heat_transfer_coefficient", None)
+    clamped = t.quantity("clamped", None)
+    released = t.quantity("released", None)
     t.finish(("parts", "roles", "clamped", "released"))
     return Contact(**{pair_key: tuple(pair)}, clamped=clamped, released=released)
 
@@ -357,10 +334,10 @@ def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, tuple]:
         scales_table = table.table("length_scales", {})
         # a group named like one of the built wheel's lies as it does there
         surfaces = [
-            SurfaceGroup(k, scales_table.quantity(k, "length"), SURFACE_ORIENTATION.get(k, "horizontal_cylinder"))
+            SurfaceGroup(k, scales_table.quantity(k), SURFACE_ORIENTATION.get(k, "horizontal_cylinder"))
             for k in scales_table.data
         ]
-        default_h = table.quantity("default_contact_conductance", "heat_transfer_coefficient", None)
+        default_h = table.quantity("default_contact_conductance", None)
         distribution = table.text("friction_distribution", "uniform_pressure")
         table.finish()
         assembly = Assembly(
@@ -391,21 +368,13 @@ def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, tuple]:
 def _environment(t: _Table) -> Environment:
     well = None
     if t.has("wheel_well_air_temperature") or t.has("wheel_well_wall_temperature"):
-        well = (
-            t.quantity("wheel_well_air_temperature", "temperature"),
-            t.quantity("wheel_well_wall_temperature", "temperature"),
-        )
-    env = Environment(
-        ambient_temperature=t.quantity("ambient_temperature", "temperature", 288.15),
-        ambient_pressure=t.quantity("ambient_pressure", "pressure", 101325.0),
-        surroundings_temperature=t.quantity("surroundings_temperature", "temperature", None),
-        ground_speed=t.quantity("ground_speed", "speed", 0.0),
-        wind_speed=t.quantity("wind_speed", "speed", 0.0),
-        fan_speed=t.quantity("fan_speed", "speed", 0.0),
-        wheel_well=well,
-    )
+        well = (t.quantity("wheel_well_air_temperature"), t.quantity("wheel_well_wall_temperature"))
+    values = t.declared(Environment, tuple(k for k in declared_dimensions(Environment) if k != "wheel_well"))
     t.finish()
-    return env
+    try:
+        return Environment(**values, wheel_well=well)
+    except InputError as exc:
+        raise InputError(f"{t.path}: {exc}") from exc
 
 
 def _event(t: _Table, base: Path) -> BrakingEvent:
@@ -440,7 +409,7 @@ def _duty(table: _Table, base: Path) -> DutyCycle:
         env = _environment(t.table("environment", {}))
         events = [_event(e, base) for e in t.tables("events")]
         clamped = t.boolean("clamped", None)
-        duration = t.quantity("duration", "time")
+        duration = t.quantity("duration")
         t.finish()
         try:
             phases.append(DutyPhase(name, duration, env, events, clamped))
@@ -448,26 +417,25 @@ def _duty(table: _Table, base: Path) -> DutyCycle:
             raise InputError(f"{t.path}: {exc}") from exc
     if not phases:
         raise InputError(f"{table.where('phases')}: at least one [[duty.phases]] is needed")
-    radius = table.quantity("rolling_radius", "length", 0.5)
+    values = table.declared(DutyCycle)
     table.finish()
-    return DutyCycle(phases, radius)
+    return DutyCycle(phases, **values)
 
 
 def _solver(t: _Table) -> SolverOptions:
-    defaults = SolverOptions()
     snapshots = t.raw("snapshot_times", [])
     if not isinstance(snapshots, list):
         raise InputError(f'{t.where("snapshot_times")}: expected a list such as ["10 min", "1 h"]')
-    times = tuple(to_si(v, None, "time", f"{t.where('snapshot_times')}[{k}]") for k, v in enumerate(snapshots))
-    options = SolverOptions(
-        target_change=t.quantity("target_change", "temperature_difference", defaults.target_change),
-        initial_step=t.quantity("initial_step", "time", defaults.initial_step),
-        max_step=t.quantity("max_step", "time", defaults.max_step),
-        tolerance=t.quantity("tolerance", "temperature_difference", defaults.tolerance),
-        snapshot_times=times,
+    times = tuple(
+        t.convert(v, (*t.tokens, "snapshot_times", k), f"{t.where('snapshot_times')}[{k}]")
+        for k, v in enumerate(snapshots)
     )
+    values = t.declared(SolverOptions, ("target_change", "initial_step", "max_step", "tolerance"))
     t.finish()
-    return options
+    try:
+        return SolverOptions(**values, snapshot_times=times)
+    except InputError as exc:
+        raise InputError(f"{t.path}: {exc}") from exc
 
 
 def _output(t: _Table) -> OutputSettings:
@@ -475,13 +443,13 @@ def _output(t: _Table) -> OutputSettings:
     if unit not in ("degC", "degF", "K"):
         raise InputError(f"{t.where('temperature_unit')}: expected 'degC', 'degF' or 'K', got {unit!r}")
     limits_table = t.table("limits", {})
-    limits = {k: limits_table.quantity(k, "temperature") for k in limits_table.data}
+    limits = {k: limits_table.quantity(k) for k in limits_table.data}
     out = OutputSettings(
         t.text("file", "results.h5"),
         t.boolean("plots", True),
         unit,
         limits,
-        t.quantity("cooling_below", "temperature", None),
+        t.quantity("cooling_below", None),
         t.text("cooling_series", HEAT_SINK_MEAN),
     )
     t.finish()
@@ -491,7 +459,7 @@ def _output(t: _Table) -> OutputSettings:
 def _tyre(t: _Table, built: BuiltWheelBrake | None) -> TyreSettings | None:
     if not t.data:
         return None
-    area = t.quantity("cavity_area", "area", None)
+    area = t.quantity("cavity_area", None)
     if area is None:
         if built is None:
             raise InputError(f"{t.where('cavity_area')}: missing (required without the wheel-brake builder)")
@@ -499,16 +467,15 @@ def _tyre(t: _Table, built: BuiltWheelBrake | None) -> TyreSettings | None:
         rim = next(p for p in built.assembly.parts if p.name == "rim")
         length = rim.z_max - rim.z_min - 2.0 * (d.flange_thickness + d.bead_width)
         area = 2.0 * np.pi * d.rim_outer_radius * length
-    tyre = TyreSettings(
-        cold_pressure=t.quantity("cold_pressure", "pressure"),
-        gas_volume=t.quantity("gas_volume", "volume"),
-        cavity_area=area,
-        h_cavity=t.quantity("h_cavity", "heat_transfer_coefficient", 15.0),
-        outer_conductance=t.quantity("outer_conductance", "thermal_conductance", 0.0),
-        pressure_limit=t.quantity("pressure_limit", "pressure", None),
-    )
+    values = t.declared(TyreSettings)
+    for key in ("cold_pressure", "gas_volume"):
+        t.raw(key)  # required: raises naming the key path
+    values["cavity_area"] = area
     t.finish()
-    return tyre
+    try:
+        return TyreSettings(**values)
+    except InputError as exc:
+        raise InputError(f"{t.path}: {exc}") from exc
 
 
 def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> Case:
@@ -546,10 +513,10 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     ``text`` is kept as the case text; ``base`` resolves relative paths. Errors are not
     prefixed with ``origin`` here (:func:`parse_case` does that).
     """
-    root = _Table(data, "")
+    root = _Table(data, "", ())
     head = root.table("case", {})
     title = head.text("title", "untitled case")
-    initial = head.quantity("initial_temperature", "temperature", 288.15)
+    initial = head.quantity("initial_temperature", 288.15)
     head.finish()
     materials_table = root.table("materials", {})
     materials = {
@@ -557,9 +524,9 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
         for name, body in materials_table.data.items()
     }
     assembly_table = root.table("assembly", {})
-    cell = assembly_table.quantity("cell_size", "length", 0.004)
-    cell_r = assembly_table.quantity("cell_size_radial", "length", cell)
-    cell_z = assembly_table.quantity("cell_size_axial", "length", cell)
+    cell = assembly_table.quantity("cell_size", 0.004)
+    cell_r = assembly_table.quantity("cell_size_radial", cell)
+    cell_z = assembly_table.quantity("cell_size_axial", cell)
     min_cells = assembly_table.integer("min_cells", 3, minimum=1)
     if not (cell_r > 0 and cell_z > 0):
         raise InputError("assembly.cell_size: must be > 0")

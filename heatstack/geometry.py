@@ -21,6 +21,7 @@ from itertools import combinations
 import numpy as np
 
 from .errors import GeometryError
+from .units import convert_declared, declared, quantity
 
 __all__ = [
     "ROLES",
@@ -90,13 +91,6 @@ WHEEL_MAX = series_name(WHEEL, "max")
 GLOBAL_SERIES = (HEAT_SINK_MEAN, HEAT_SINK_MAX, WHEEL_MAX)
 
 
-def _positive(value: float, what: str) -> float:
-    value = float(value)
-    if not np.isfinite(value) or value <= 0:
-        raise GeometryError(f"{what} must be a positive finite number, got {value}")
-    return value
-
-
 @dataclass(frozen=True)
 class Part:
     """An axisymmetric annular block of one material.
@@ -108,9 +102,9 @@ class Part:
     material : str
         Name of a material file in ``materials/`` (or an inline material registered
         with the model).
-    r_inner, r_outer : float
-        Inner and outer radius [m]; ``0 <= r_inner < r_outer``.
-    z_min, z_max : float
+    r_inner, r_outer : float or str or pint.Quantity
+        Inner and outer radius [m] (or with a unit, ``"125 mm"``); ``0 <= r_inner < r_outer``.
+    z_min, z_max : float or str or pint.Quantity
         Axial extent [m]; ``z_min < z_max``.
     role : str
         One of :data:`ROLES`.
@@ -118,10 +112,10 @@ class Part:
 
     name: str
     material: str
-    r_inner: float
-    r_outer: float
-    z_min: float
-    z_max: float
+    r_inner: float = declared("length", minimum=0.0)
+    r_outer: float = declared("length")
+    z_min: float = declared("length")
+    z_max: float = declared("length")
     role: str = "other"
 
     def __post_init__(self) -> None:
@@ -129,15 +123,15 @@ class Part:
             raise GeometryError(f"part name must be a non-empty string, got {self.name!r}")
         if self.role not in ROLES:
             raise GeometryError(f"part {self.name!r}: role {self.role!r} is not one of {ROLES}")
-        for attr in ("r_inner", "r_outer", "z_min", "z_max"):
-            value = float(getattr(self, attr))
-            if not np.isfinite(value):
-                raise GeometryError(f"part {self.name!r}: {attr} must be finite, got {value}")
-            object.__setattr__(self, attr, value)
-        if self.r_inner < 0:
-            raise GeometryError(f"part {self.name!r}: r_inner must be >= 0, got {self.r_inner}")
-        _positive(self.r_outer - self.r_inner, f"part {self.name!r}: radial size r_outer - r_inner")
-        _positive(self.z_max - self.z_min, f"part {self.name!r}: axial size z_max - z_min")
+        convert_declared(self, f"part {self.name!r}", GeometryError)
+        if not self.r_outer > self.r_inner:
+            raise GeometryError(
+                f"part {self.name!r}: radial size r_outer - r_inner must be > 0, got {self.r_outer - self.r_inner:g} m"
+            )
+        if not self.z_max > self.z_min:
+            raise GeometryError(
+                f"part {self.name!r}: axial size z_max - z_min must be > 0, got {self.z_max - self.z_min:g} m"
+            )
 
     def contains(self, r: float, z: float) -> bool:
         """Whether the point (r [m], z [m]) lies in the part (boundary included).
@@ -172,16 +166,16 @@ class Contact:
         The two part names.
     roles : tuple of str, optional
         The two roles (order does not matter).
-    clamped : float or None
+    clamped : float or str or pint.Quantity or None
         Conductance [W/(m^2 K)] while the stack is clamped (brake applied).
-    released : float or None
+    released : float or str or pint.Quantity or None
         Conductance [W/(m^2 K)] while released; defaults to ``clamped``.
     """
 
     parts: tuple[str, str] | None = None
     roles: tuple[str, str] | None = None
-    clamped: float | None = None
-    released: float | None = None
+    clamped: float | None = declared("heat_transfer_coefficient", None, positive=True)
+    released: float | None = declared("heat_transfer_coefficient", None, positive=True)
 
     def __post_init__(self) -> None:
         if (self.parts is None) == (self.roles is None):
@@ -193,10 +187,7 @@ class Contact:
             for role in self.roles:
                 if role not in ROLES:
                     raise GeometryError(f"contact {self.roles!r}: unknown role {role!r}")
-        for attr in ("clamped", "released"):
-            value = getattr(self, attr)
-            if value is not None:
-                _positive(value, f"contact {pair!r}: {attr} conductance")
+        convert_declared(self, f"contact {pair!r}", GeometryError)
         if self.released is None:
             object.__setattr__(self, "released", self.clamped)
 
@@ -215,27 +206,24 @@ class Probe:
     ----------
     name : str
         Unique probe name (e.g. ``"sensor"``, ``"fuse plug 1"``).
-    r, z : float
-        Position [m]; must lie inside a part.
+    r, z : float or str or pint.Quantity
+        Position [m] (or with a unit, ``"113 mm"``); must lie inside a part.
     part : str, optional
         Owning part; needed only on a boundary shared by two parts.
-    time_constant : float
+    time_constant : float or str or pint.Quantity
         First-order lag of the instrument [s]; 0 records the local temperature.
     """
 
     name: str
-    r: float
-    z: float
+    r: float = declared("length", minimum=0.0)
+    z: float = declared("length")
     part: str | None = None
-    time_constant: float = 0.0
+    time_constant: float = declared("time", 0.0, minimum=0.0)
 
     def __post_init__(self) -> None:
         if not self.name:
             raise GeometryError("probe name must be a non-empty string")
-        if not (np.isfinite(self.r) and np.isfinite(self.z)) or self.r < 0:
-            raise GeometryError(f"probe {self.name!r}: position ({self.r}, {self.z}) is not valid")
-        if not np.isfinite(self.time_constant) or self.time_constant < 0:
-            raise GeometryError(f"probe {self.name!r}: time_constant must be >= 0 s, got {self.time_constant}")
+        convert_declared(self, f"probe {self.name!r}", GeometryError)
 
 
 @dataclass(frozen=True)
@@ -321,7 +309,7 @@ class ThermalLink:
     ----------
     part_a, side_a, part_b, side_b : str
         The two parts and their sides (see :data:`SIDES`).
-    conductance : float
+    conductance : float or str or pint.Quantity
         Total conductance of the path [W/K].
     name : str
         Label, e.g. ``"drive keys"``.
@@ -331,12 +319,12 @@ class ThermalLink:
     side_a: str
     part_b: str
     side_b: str
-    conductance: float
+    conductance: float = declared("thermal_conductance", positive=True)
     name: str = "link"
 
     def __post_init__(self) -> None:
         GapPair(self.part_a, self.side_a, self.part_b, self.side_b)
-        _positive(self.conductance, f"thermal link {self.name!r}: conductance")
+        convert_declared(self, f"thermal link {self.name!r}", GeometryError)
 
 
 @dataclass(frozen=True)
@@ -431,7 +419,15 @@ class SurfaceGroup:
     def __post_init__(self) -> None:
         if not self.name or not isinstance(self.name, str):
             raise GeometryError(f"surface group name must be a non-empty string, got {self.name!r}")
-        object.__setattr__(self, "length", _positive(self.length, f"surface group {self.name!r}: length"))
+        length = quantity(
+            self.length,
+            "length",
+            f"surface group {self.name!r}: length",
+            minimum=0.0,
+            exclusive_minimum=True,
+            error=GeometryError,
+        )
+        object.__setattr__(self, "length", length)
         if self.orientation not in SURFACE_ORIENTATIONS:
             raise GeometryError(
                 f"surface group {self.name!r}: orientation {self.orientation!r} is not one of {SURFACE_ORIENTATIONS}"
@@ -548,7 +544,15 @@ class Assembly:
         if not self.parts:
             raise GeometryError("assembly: at least one part is needed")
         if self.default_contact_conductance is not None:
-            _positive(self.default_contact_conductance, "default_contact_conductance")
+            conductance = quantity(
+                self.default_contact_conductance,
+                "heat_transfer_coefficient",
+                "default_contact_conductance",
+                minimum=0.0,
+                exclusive_minimum=True,
+                error=GeometryError,
+            )
+            object.__setattr__(self, "default_contact_conductance", conductance)
         self._check_unique("part", [p.name for p in self.parts])
         self._check_unique("probe", [p.name for p in self.probes])
         self._check_overlaps()

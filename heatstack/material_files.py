@@ -15,12 +15,10 @@ from functools import cache
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
-from .errors import MaterialError, UnitError
+from .errors import InputError, MaterialError
 from .materials import Material
 from .property_table import EXTRAPOLATIONS, PropertyTable, is_real_number
-from .units import to_si_array
+from .units import quantity, quantity_array
 
 __all__ = [
     "load_material",
@@ -75,18 +73,11 @@ def _one_line(text: str) -> str:
     return " ".join(text.split())
 
 
-def _convert(values: Any, unit: str, dimension: str, field_name: str) -> np.ndarray:
-    try:
-        return to_si_array(values, unit, dimension, field_name)
-    except UnitError as exc:
-        raise MaterialError(str(exc)) from exc
-
-
 def _read_density(data: Mapping[str, Any], where: str) -> float:
     section = _section(data, "density", _DENSITY_KEYS, where)
     if not is_real_number(section["value"]):
         raise MaterialError(f"{where}: [density] value must be a number, got {section['value']!r}")
-    return float(_convert(section["value"], section["unit"], "density", f"{where}: [density] unit"))
+    return quantity(section["value"], "density", f"{where}: [density] unit", unit=section["unit"])
 
 
 def _read_table(
@@ -99,13 +90,12 @@ def _read_table(
     for i, row in enumerate(rows, start=1):
         if not (isinstance(row, list | tuple) and len(row) == 2 and all(map(is_real_number, row))):
             raise MaterialError(f"{where}: [{key}] table row {i} must be [temperature, value] numbers, got {row!r}")
-    temperature = _convert(
-        [row[0] for row in rows],
-        section["temperature_unit"],
-        "temperature",
-        f"{where}: [{key}] temperature_unit",
+    temperature = quantity_array(
+        [row[0] for row in rows], "temperature", f"{where}: [{key}] temperature_unit", unit=section["temperature_unit"]
     )
-    value = _convert([row[1] for row in rows], section["unit"], _TABLE_DIMENSIONS[key], f"{where}: [{key}] unit")
+    value = quantity_array(
+        [row[1] for row in rows], _TABLE_DIMENSIONS[key], f"{where}: [{key}] unit", unit=section["unit"]
+    )
     return PropertyTable(prop, name, temperature, value, extrapolation, _one_line(section["source"]))
 
 
@@ -165,7 +155,7 @@ def _build(data: Any, origin: str, source_file: str) -> Material:
             extrapolation=extrapolation,
             source_file=source_file,
         )
-    except MaterialError as exc:
+    except InputError as exc:  # MaterialError, and UnitError from a unit key
         message = str(exc)
         if not message.startswith(origin):
             message = f"{origin}: {message}"

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .errors import GeometryError
 from .geometry import Assembly
 from .materials import Material
 from .numerics.grid import Grid, build_grid
@@ -22,6 +23,7 @@ from .numerics.network import Network, build_network
 from .numerics.schedule import Schedule
 from .numerics.solver import SolverOptions, integrate
 from .result import Result, State
+from .units import quantity
 
 __all__ = ["Model", "simulate"]
 
@@ -59,9 +61,8 @@ class Model:
         Parameters
         ----------
         assembly : Assembly
-            The parts [m], contacts and probes to mesh.
-        cell_size : float or (float, float)
-            Target cell size [m] (or radial and axial sizes [m]).
+        cell_size : float or str or pint.Quantity, or a pair of them
+            Target cell size [m] (or radial and axial sizes), e.g. ``"5 mm"``.
         min_cells : int
             Minimum number of cells across each part in each direction [-].
         materials : mapping of str to Material, optional
@@ -81,7 +82,19 @@ class Model:
         MaterialError
             If a part names a material that is neither given nor in the materials directory.
         """
-        grid = build_grid(assembly, cell_size, min_cells)
+        pair = isinstance(cell_size, tuple | list)
+        sizes = tuple(
+            quantity(
+                v,
+                "length",
+                f"cell_size[{k}]" if pair else "cell_size",
+                minimum=0.0,
+                exclusive_minimum=True,
+                error=GeometryError,
+            )
+            for k, v in enumerate(cell_size if pair else [cell_size])
+        )
+        grid = build_grid(assembly, sizes if pair else sizes[0], min_cells)
         return cls(assembly=assembly, grid=grid, network=build_network(assembly, grid, materials))
 
     @property
@@ -102,8 +115,9 @@ class Model:
         ----------
         schedule : Schedule
             Brake power [W] over time [s] and the phases with their boundary laws.
-        initial_temperature : float, mapping of str to float, State or ndarray
-            One temperature [K] for every cell, a temperature [K] per part name, a
+        initial_temperature : float, str, mapping of str to float or str, State or ndarray
+            One temperature (a number in [K] or a string with its unit, e.g. ``"30 degC"``) for every
+            cell, a temperature per part name, a
             :class:`~heatstack.result.State` saved by an earlier run (the run continues
             from its time and instrument readings), or one temperature [K] per active cell.
         options : SolverOptions, optional
@@ -127,6 +141,14 @@ class Model:
             If a step cannot be completed even at the smallest step size; the message
             says when and where.
         """
+        positive = {"minimum": 0.0, "exclusive_minimum": True}
+        if isinstance(initial_temperature, Mapping):
+            initial_temperature = {
+                name: quantity(value, "temperature", f"initial_temperature[{name!r}]", **positive)
+                for name, value in initial_temperature.items()
+            }
+        elif not isinstance(initial_temperature, State | np.ndarray):
+            initial_temperature = quantity(initial_temperature, "temperature", "initial_temperature", **positive)
         return integrate(self.network, schedule, initial_temperature, options, progress)
 
 

@@ -22,7 +22,7 @@ from .builders import FusePlugSpec
 from .errors import InputError
 from .geometry import GLOBAL_SERIES, HEAT_SINK_MEAN
 from .result import Result
-from .units import from_si
+from .units import convert_declared, declared, from_si
 
 __all__ = ["TyreSettings", "ReportSettings", "build_report", "format_report", "CAUTION"]
 
@@ -53,12 +53,15 @@ class TyreSettings:
         Pressure limit [Pa gauge] to assess against, or None for no limit.
     """
 
-    cold_pressure: float
-    gas_volume: float
-    cavity_area: float
-    h_cavity: float = 15.0
-    outer_conductance: float = 0.0
-    pressure_limit: float | None = None
+    cold_pressure: float = declared("pressure")
+    gas_volume: float = declared("volume", positive=True)
+    cavity_area: float = declared("area", positive=True)
+    h_cavity: float = declared("heat_transfer_coefficient", 15.0, minimum=0.0)
+    outer_conductance: float = declared("thermal_conductance", 0.0, minimum=0.0)
+    pressure_limit: float | None = declared("pressure", None)
+
+    def __post_init__(self) -> None:
+        convert_declared(self, "tyre")
 
 
 @dataclass(frozen=True)

@@ -21,12 +21,11 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-import pint
 
-from ..errors import InputError, UnitError
+from ..errors import InputError
 from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN
 from ..result import Result
-from ..units import registry, to_si
+from ..units import quantity
 
 __all__ = [
     "Peak",
@@ -255,46 +254,6 @@ def local_temperature(result: Result, name: str, field: str = "probe") -> np.nda
     return checked_history(result, name, result.probes[name])
 
 
-def absolute_temperature(value: Any, field: str) -> float:
-    """A user temperature limit [K] (number in K or string with a unit)."""
-    out = to_si(value, None, "temperature", field)
-    if not np.isfinite(out) or out <= 0:
-        raise InputError(f"{field}: must be a finite absolute temperature > 0 K, got {out} K")
-    return out
-
-
-def temperature_difference(value: Any, field: str) -> float:
-    """A user temperature difference [K], >= 0."""
-    out = to_si(value, None, "temperature_difference", field)
-    if not np.isfinite(out) or out < 0:
-        raise InputError(f"{field}: must be a finite temperature difference >= 0 K, got {out} K")
-    return out
-
-
-def to_si_unit(value: Any, si_unit: str, field: str) -> float:
-    """Convert to ``si_unit`` a quantity whose dimension :data:`heatstack.units.SI_UNITS` lacks.
-
-    A bare number is taken as already in ``si_unit``.
-    """
-    reg = registry()
-    if isinstance(value, str):
-        try:
-            quantity = reg.Quantity(value)
-        except Exception as exc:  # pint raises several unrelated exception types
-            raise UnitError(f"{field}: cannot read {value!r} as a quantity with a unit") from exc
-    elif isinstance(value, pint.Quantity):
-        quantity = value
-    else:
-        try:
-            return float(value)
-        except (TypeError, ValueError) as exc:
-            raise UnitError(f"{field}: expected a number, got {value!r}") from exc
-    try:
-        return float(quantity.to(si_unit).magnitude)
-    except pint.DimensionalityError as exc:
-        raise UnitError(f"{field}: expected a quantity in {si_unit}, got {quantity.units:~}") from exc
-
-
 def _peak_of(name: str, times: np.ndarray, values: np.ndarray, end_of_heating: float) -> Peak:
     k = int(np.argmax(values))
     bracket = (float(times[max(k - 1, 0)]), float(times[min(k + 1, times.size - 1)]))
@@ -331,8 +290,8 @@ def _from(times: np.ndarray, values: np.ndarray, start: float) -> tuple[np.ndarr
 
 def _time(result: Result, value: Any, field: str) -> float:
     times = record_times(result)
-    t = to_si(value, None, "time", field)
-    if not np.isfinite(t) or not times[0] <= t <= times[-1]:
+    t = quantity(value, "time", field)
+    if not times[0] <= t <= times[-1]:
         raise InputError(f"{field}: {t} s lies outside the record [{times[0]}, {times[-1]}] s")
     return t
 
@@ -390,7 +349,7 @@ def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND)
         Unknown sensor, missing heat-sink series, bad band, too few records.
     """
     times = record_times(result)
-    band_k = temperature_difference(band, "band")
+    band_k = quantity(band, "temperature_difference", "band", minimum=0.0)
     reading = _history(result, sensor)
     local = local_temperature(result, sensor, "sensor")
     for series in (HEAT_SINK_MEAN, HEAT_SINK_MAX):
@@ -469,7 +428,7 @@ def threshold_crossings(result: Result, name: str, limit: Any) -> list[tuple[flo
     InputError, UnitError
         Unknown name, a limit that is not a temperature, too few records.
     """
-    level = absolute_temperature(limit, "limit")
+    level = quantity(limit, "temperature", "limit", minimum=0.0, exclusive_minimum=True)
     return _crossings(record_times(result), _history(result, name), level)
 
 
@@ -497,7 +456,7 @@ def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
     out = []
     times = record_times(result)
     for name, value in limits.items():
-        limit = absolute_temperature(value, f"limits[{name!r}]")
+        limit = quantity(value, "temperature", f"limits[{name!r}]", minimum=0.0, exclusive_minimum=True)
         values = _history(result, name)
         k = int(np.argmax(values))
         top = float(values[k])
@@ -532,7 +491,7 @@ def cooling_time_in_result(result: Result, name: str, below: Any, after: Any = N
     """
     times = record_times(result)
     values = _history(result, name)
-    level = absolute_temperature(below, "below")
+    level = quantity(below, "temperature", "below", minimum=0.0, exclusive_minimum=True)
     if after is None:
         start = min(max(float(result.end_of_heating), times[0]), times[-1])
     elif isinstance(after, str) and after == "peak":

@@ -25,15 +25,8 @@ from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..numerics.instrument import first_order_lag
 from ..result import Result
-from ..units import to_si
-from .analysis import (
-    absolute_temperature,
-    first_reach,
-    local_temperature,
-    record_times,
-    temperature_difference,
-    to_si_unit,
-)
+from ..units import convert_declared, declared, quantity
+from .analysis import first_reach, local_temperature, record_times
 
 __all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs"]
 
@@ -61,24 +54,15 @@ class FusePlug:
     """
 
     name: str
-    release_temperature: float
-    tolerance: float
-    time_constant: float = 0.0
+    release_temperature: float = declared("temperature", positive=True)
+    tolerance: float = declared("temperature_difference", minimum=0.0)
+    time_constant: float = declared("time", 0.0, minimum=0.0)
 
     def __post_init__(self) -> None:
         if not isinstance(self.name, str) or not self.name:
             raise InputError(f"fuse plug: name must be a non-empty string, got {self.name!r}")
         where = f"fuse plug {self.name!r}"
-        tau = to_si(self.time_constant, None, "time", f"{where}: time_constant")
-        if not np.isfinite(tau) or tau < 0:
-            raise InputError(f"{where}: time_constant must be finite and >= 0 s, got {tau} s")
-        object.__setattr__(
-            self,
-            "release_temperature",
-            absolute_temperature(self.release_temperature, f"{where}: release_temperature"),
-        )
-        object.__setattr__(self, "tolerance", temperature_difference(self.tolerance, f"{where}: tolerance"))
-        object.__setattr__(self, "time_constant", tau)
+        convert_declared(self, where)
 
     @classmethod
     def from_thermal_mass(
@@ -119,12 +103,10 @@ class FusePlug:
         conductance (from memory).
         """
         where = f"fuse plug {name!r}"
-        m = to_si(mass, None, "mass", f"{where}: mass")
-        c = to_si(specific_heat, None, "specific_heat", f"{where}: specific_heat")
-        g = to_si_unit(contact_conductance, "W/K", f"{where}: contact_conductance")
-        for field, value in (("mass", m), ("specific_heat", c), ("contact_conductance", g)):
-            if not np.isfinite(value) or value <= 0:
-                raise InputError(f"{where}: {field} must be finite and > 0, got {value}")
+        positive = {"minimum": 0.0, "exclusive_minimum": True}
+        m = quantity(mass, "mass", f"{where}: mass", **positive)
+        c = quantity(specific_heat, "specific_heat", f"{where}: specific_heat", **positive)
+        g = quantity(contact_conductance, "thermal_conductance", f"{where}: contact_conductance", **positive)
         return cls(name, release_temperature, tolerance, m * c / g)
 
     @classmethod

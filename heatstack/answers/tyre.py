@@ -27,17 +27,15 @@ import numpy as np
 from ..errors import InputError
 from ..numerics.instrument import first_order_lag
 from ..result import Result
-from ..units import to_si
+from ..units import quantity
 from .analysis import (
     Margin,
-    absolute_temperature,
     checked_history,
     first_reach,
     frozen_copy,
     margins,
     name_tuple,
     record_times,
-    to_si_unit,
 )
 from .fuse_plugs import PlugAnswer
 
@@ -166,16 +164,9 @@ class PlugVersusPressure:
     limit: float
 
 
-def _positive(value: float, field: str, allow_zero: bool = False) -> float:
-    if not np.isfinite(value) or value < 0 or (value == 0 and not allow_zero):
-        sign = ">= 0" if allow_zero else "> 0"
-        raise InputError(f"{field}: must be finite and {sign}, got {value}")
-    return value
-
-
 def _absolute(value: Any, gauge: bool, ambient_pressure: float, field: str) -> float:
-    p = to_si(value, None, "pressure", field) + (ambient_pressure if gauge else 0.0)
-    if not np.isfinite(p) or p <= 0:
+    p = quantity(value, "pressure", field) + (ambient_pressure if gauge else 0.0)
+    if not p > 0:
         kind = "gauge" if gauge else "absolute"
         raise InputError(f"{field}: an absolute pressure > 0 Pa is needed; {value!r} ({kind}) gives {p} Pa")
     return p
@@ -261,17 +252,21 @@ def tyre_gas(
             f"known series: {sorted(result.series)}"
         )
     rim = checked_history(result, CAVITY_SERIES, result.series[CAVITY_SERIES])
-    p_amb = _positive(to_si(ambient_pressure, None, "pressure", "ambient_pressure"), "ambient_pressure")
+    positive, not_negative = {"minimum": 0.0, "exclusive_minimum": True}, {"minimum": 0.0}
+    p_amb = quantity(ambient_pressure, "pressure", "ambient_pressure", **positive)
     p_cold = _absolute(cold_pressure, gauge, p_amb, "cold_pressure")
-    volume = _positive(to_si_unit(gas_volume, "m**3", "gas_volume"), "gas_volume")
-    area = _positive(to_si(cavity_area, None, "area", "cavity_area"), "cavity_area")
-    h = _positive(to_si(h_cavity, None, "heat_transfer_coefficient", "h_cavity"), "h_cavity", True)
-    g_out = _positive(to_si_unit(outer_conductance, "W/K", "outer_conductance"), "outer_conductance", True)
-    t_cold = absolute_temperature(cold_temperature, "cold_temperature")
-    t_amb = t_cold if ambient is None else absolute_temperature(ambient, "ambient")
-    t_init = t_cold if initial_temperature is None else absolute_temperature(initial_temperature, "initial_temperature")
-    _positive(gas_constant, "gas_constant")
-    _positive(cv, "cv")
+    volume = quantity(gas_volume, "volume", "gas_volume", **positive)
+    area = quantity(cavity_area, "area", "cavity_area", **positive)
+    h = quantity(h_cavity, "heat_transfer_coefficient", "h_cavity", **not_negative)
+    g_out = quantity(outer_conductance, "thermal_conductance", "outer_conductance", **not_negative)
+    t_cold = quantity(cold_temperature, "temperature", "cold_temperature", **positive)
+    t_amb = t_cold if ambient is None else quantity(ambient, "temperature", "ambient", **positive)
+    if initial_temperature is None:
+        t_init = t_cold
+    else:
+        t_init = quantity(initial_temperature, "temperature", "initial_temperature", **positive)
+    quantity(gas_constant, "specific_heat", "gas_constant", **positive)
+    quantity(cv, "specific_heat", "cv", **positive)
 
     mass = p_cold * volume / (gas_constant * t_cold)
     conductance = h * area + g_out
@@ -386,5 +381,5 @@ def bead_seat_margin(
     list of Margin
         One per name, in order.
     """
-    limit = absolute_temperature(rubber_limit, "rubber_limit")
+    limit = quantity(rubber_limit, "temperature", "rubber_limit", minimum=0.0, exclusive_minimum=True)
     return margins(result, {name: limit for name in name_tuple(names, "names")})

@@ -14,6 +14,7 @@ from typing import Protocol, runtime_checkable
 import numpy as np
 
 from ..errors import ScheduleError
+from ..units import convert_declared, declared, quantity_array
 
 __all__ = [
     "BoundaryLaw",
@@ -63,32 +64,29 @@ class BoundaryLaw(Protocol):
 class FixedConvection:
     """A constant convective coefficient with grey radiation to the surroundings.
 
+    Each number may be SI or carry a unit (``h="8 W/(m^2*K)"``, ``ambient_temperature="15 degC"``).
+
     Parameters
     ----------
-    h : float
+    h : float or str or pint.Quantity
         Convective heat transfer coefficient [W/(m^2 K)], >= 0.
-    ambient_temperature : float
+    ambient_temperature : float or str or pint.Quantity
         Air temperature far from the surface [K].
-    surroundings_temperature : float, optional
+    surroundings_temperature : float or str or pint.Quantity, optional
         Temperature of the radiation surroundings [K]; defaults to the ambient.
     radiation : bool
         Whether the surface radiates to the surroundings.
     """
 
-    h: float
-    ambient_temperature: float
-    surroundings_temperature: float | None = None
+    h: float = declared("heat_transfer_coefficient", minimum=0.0)
+    ambient_temperature: float = declared("temperature", positive=True)
+    surroundings_temperature: float | None = declared("temperature", None, positive=True)
     radiation: bool = True
 
     def __post_init__(self) -> None:
-        if not np.isfinite(self.h) or self.h < 0:
-            raise ScheduleError(f"convection coefficient h must be finite and >= 0, got {self.h}")
-        if not self.ambient_temperature > 0:
-            raise ScheduleError(f"ambient_temperature must be > 0 K, got {self.ambient_temperature}")
+        convert_declared(self, "convection", ScheduleError)
         if self.surroundings_temperature is None:
             object.__setattr__(self, "surroundings_temperature", self.ambient_temperature)
-        elif not self.surroundings_temperature > 0:
-            raise ScheduleError(f"surroundings_temperature must be > 0 K, got {self.surroundings_temperature}")
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
         """Return ``h`` for every surface [W/(m^2 K)].
@@ -114,9 +112,9 @@ class PowerHistory:
 
     Parameters
     ----------
-    times : sequence of float
-        Strictly increasing times [s].
-    powers : sequence of float
+    times : sequence of float or str, or pint.Quantity
+        Strictly increasing times [s] (items may carry a unit, ``"30 s"``).
+    powers : sequence of float or str, or pint.Quantity
         Power at each time [W], >= 0. Zero outside ``[times[0], times[-1]]``.
         A step is written as two rows at the same time is not allowed; use a short ramp
         or :meth:`steps`.
@@ -126,8 +124,8 @@ class PowerHistory:
     powers: np.ndarray
 
     def __post_init__(self) -> None:
-        t = np.asarray(self.times, dtype=float)
-        p = np.asarray(self.powers, dtype=float)
+        t = quantity_array(self.times, "time", "power history times", allow_nonfinite=True)
+        p = quantity_array(self.powers, "power", "power history powers", allow_nonfinite=True)
         if t.ndim != 1 or t.shape != p.shape or t.size < 2:
             raise ScheduleError("power history: times and powers must be 1-D of equal length >= 2")
         if not (np.all(np.isfinite(t)) and np.all(np.isfinite(p))):

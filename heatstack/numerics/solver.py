@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import logging
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
@@ -32,6 +32,7 @@ import scipy.sparse.linalg as spla
 
 from ..errors import HeatstackError, InputError, PropertyRangeError, SolverError
 from ..result import Result, State
+from ..units import convert_declared, declared
 from .network import Network
 from .predictor import Extrapolator
 from .recording import Recorder
@@ -49,6 +50,8 @@ STEFAN_BOLTZMANN = 5.670374419e-8
 @dataclass(frozen=True)
 class SolverOptions:
     """Controls of the time integration.
+
+    Every quantity may be SI or carry a unit (``max_step="2 min"``, ``target_change="4 degC"``).
 
     Parameters
     ----------
@@ -70,26 +73,19 @@ class SolverOptions:
         Times [s] at which whole fields are stored (the start and end always are).
     """
 
-    target_change: float = 4.0
-    initial_step: float = 0.05
-    max_step: float = 120.0
-    min_step: float = 1e-5
-    growth: float = 1.5
-    fixed_step: float | None = None
-    tolerance: float = 1e-3
+    target_change: float = declared("temperature_difference", 4.0, positive=True)
+    initial_step: float = declared("time", 0.05, positive=True)
+    max_step: float = declared("time", 120.0, positive=True)
+    min_step: float = declared("time", 1e-5, positive=True)
+    growth: float = declared("dimensionless", 1.5, minimum=1.0)
+    fixed_step: float | None = declared("time", None, positive=True)
+    tolerance: float = declared("temperature_difference", 1e-3, positive=True)
     max_iterations: int = 30
     max_step_cuts: int = 10
-    snapshot_times: tuple[float, ...] = field(default=())
+    snapshot_times: tuple[float, ...] = declared("time", ())
 
     def __post_init__(self) -> None:
-        for name in ("target_change", "initial_step", "max_step", "min_step", "tolerance"):
-            value = getattr(self, name)
-            if not (np.isfinite(value) and value > 0):
-                raise InputError(f"solver option {name} must be > 0, got {value}")
-        if self.fixed_step is not None and not self.fixed_step > 0:
-            raise InputError(f"solver option fixed_step must be > 0, got {self.fixed_step}")
-        if self.growth < 1.0:
-            raise InputError(f"solver option growth must be >= 1, got {self.growth}")
+        convert_declared(self, "solver option")
 
 
 class _StepFailed(Exception):

@@ -19,7 +19,6 @@ from __future__ import annotations
 from .environment import (
     CrossFlow,
     FanCooling,
-    FixedH,
     MixedConvection,
     NaturalConvection,
     RotatingDisc,
@@ -40,7 +39,6 @@ __all__ = [
     "BrakingEvent",
     "CrossFlow",
     "FanCooling",
-    "FixedH",
     "MixedConvection",
     "NaturalConvection",
     "RotatingDisc",

@@ -17,15 +17,11 @@ import numpy as np
 from ..errors import ScheduleError
 from ..geometry import SurfaceGroup
 from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
-from ..units import to_si
+from ..units import convert_declared, declared
 from .environment import CrossFlow, FanCooling, MixedConvection, NaturalConvection, RotatingDisc, WheelWell
 from .heat_input import BrakingEvent, combine
 
 __all__ = ["Environment", "DutyPhase", "DutyCycle"]
-
-
-def _si(value: Any, dimension: str, field_name: str) -> float:
-    return to_si(value, None, dimension, field_name)
 
 
 @dataclass(frozen=True)
@@ -54,37 +50,19 @@ class Environment:
         Cooling laws given by hand for some surface groups (``"*"`` for all others).
     """
 
-    ambient_temperature: Any = 288.15
-    ambient_pressure: Any = 101325.0
-    surroundings_temperature: Any = None
-    ground_speed: Any = 0.0
-    wind_speed: Any = 0.0
-    fan_speed: Any = 0.0
-    wheel_well: tuple[Any, Any] | None = None
+    ambient_temperature: Any = declared("temperature", 288.15, positive=True)
+    ambient_pressure: Any = declared("pressure", 101325.0, positive=True)
+    surroundings_temperature: Any = declared("temperature", None, positive=True)
+    ground_speed: Any = declared("speed", 0.0, minimum=0.0)
+    wind_speed: Any = declared("speed", 0.0, minimum=0.0)
+    fan_speed: Any = declared("speed", 0.0, minimum=0.0)
+    wheel_well: tuple[Any, Any] | None = declared("temperature", None, positive=True)
     overrides: Mapping[str, BoundaryLaw] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
-        convert = {
-            "ambient_temperature": "temperature",
-            "ambient_pressure": "pressure",
-            "ground_speed": "speed",
-            "wind_speed": "speed",
-            "fan_speed": "speed",
-        }
-        for name, dimension in convert.items():
-            value = _si(getattr(self, name), dimension, f"environment {name}")
-            if (dimension != "speed" and not value > 0) or value < 0:
-                raise ScheduleError(f"environment {name} must be {'>= 0' if dimension == 'speed' else '> 0'}")
-            object.__setattr__(self, name, value)
-        if self.surroundings_temperature is not None:
-            object.__setattr__(
-                self,
-                "surroundings_temperature",
-                _si(self.surroundings_temperature, "temperature", "environment surroundings_temperature"),
-            )
-        if self.wheel_well is not None:
-            air, wall = (_si(v, "temperature", "environment wheel_well") for v in self.wheel_well)
-            object.__setattr__(self, "wheel_well", (air, wall))
+        if self.wheel_well is not None and (not isinstance(self.wheel_well, tuple | list) or len(self.wheel_well) != 2):
+            raise ScheduleError(f"environment wheel_well: expected (air, wall) temperatures, got {self.wheel_well!r}")
+        convert_declared(self, "environment", ScheduleError)
         object.__setattr__(self, "overrides", dict(self.overrides))
 
     def laws(self, surfaces: Sequence[SurfaceGroup], rolling_radius: float) -> dict[str, BoundaryLaw]:
@@ -154,16 +132,14 @@ class DutyPhase:
     """
 
     name: str
-    duration: Any
+    duration: Any = declared("time", positive=True)
     environment: Environment = field(default_factory=Environment)
     events: Sequence[BrakingEvent] = ()
     clamped: bool | None = None
 
     def __post_init__(self) -> None:
-        duration = _si(self.duration, "time", f"phase {self.name!r} duration")
-        if not duration > 0:
-            raise ScheduleError(f"phase {self.name!r}: duration must be > 0 s, got {duration}")
-        object.__setattr__(self, "duration", duration)
+        convert_declared(self, f"phase {self.name!r}", ScheduleError)
+        duration = self.duration
         object.__setattr__(self, "events", tuple(self.events))
         for event in self.events:
             if event.start < 0 or event.end > duration * (1 + 1e-12):
@@ -190,7 +166,7 @@ class DutyCycle:
     """
 
     phases: Sequence[DutyPhase]
-    rolling_radius: Any = 0.5
+    rolling_radius: Any = declared("length", 0.5, positive=True)
 
     def __post_init__(self) -> None:
         phases = tuple(self.phases)
@@ -200,11 +176,8 @@ class DutyCycle:
         for name in names:
             if names.count(name) > 1:
                 raise ScheduleError(f"duty cycle: two phases are named {name!r}")
-        radius = _si(self.rolling_radius, "length", "duty cycle rolling_radius")
-        if not radius > 0:
-            raise ScheduleError("duty cycle: rolling_radius must be > 0")
+        convert_declared(self, "duty cycle", ScheduleError)
         object.__setattr__(self, "phases", phases)
-        object.__setattr__(self, "rolling_radius", radius)
 
     @property
     def duration(self) -> float:

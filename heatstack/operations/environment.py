@@ -21,8 +21,8 @@ from typing import Any, ClassVar, Literal
 import numpy as np
 
 from ..errors import InputError
-from ..numerics.schedule import BoundaryLaw, FixedConvection
-from ..units import to_si
+from ..numerics.schedule import BoundaryLaw
+from ..units import convert_declared, declared
 from . import convection as nu
 from .air import T_MAX, T_MIN, AirProperties, air_properties
 from .atmosphere import G0
@@ -34,50 +34,20 @@ __all__ = [
     "FanCooling",
     "MixedConvection",
     "WheelWell",
-    "FixedH",
 ]
 
 Shape = Literal["vertical_plate", "horizontal_cylinder", "horizontal_plate_up", "horizontal_plate_down"]
 _SHAPES = ("vertical_plate", "horizontal_cylinder", "horizontal_plate_up", "horizontal_plate_down")
 
 
-def _quantity(law: Any, name: str, dimension: str) -> float:
-    """Convert field ``name`` of ``law`` to an SI float and store it back."""
-    raw = getattr(law, name)
-    value = to_si(raw, None, dimension, name) if isinstance(raw, str) or hasattr(raw, "units") else raw
-    try:
-        value = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{name}: expected a number, got {raw!r}") from None
-    if not np.isfinite(value):
-        raise InputError(f"{name}: must be finite, got {raw!r}")
-    object.__setattr__(law, name, value)
-    return value
-
-
-def _positive(law: Any, name: str, dimension: str, allow_zero: bool = False) -> float:
-    value = _quantity(law, name, dimension)
-    if value < 0 or (value == 0 and not allow_zero):
-        bound = ">= 0" if allow_zero else "> 0"
-        raise InputError(f"{name}: must be {bound}, got {value}")
-    return value
-
-
-def _ambient(
-    law: Any,
-    temperature: str = "ambient_temperature",
-    pressure: str = "ambient_pressure",
-    surroundings: bool = True,
-) -> None:
-    """Validate and convert the ambient-state fields of ``law`` in place."""
-    t = _positive(law, temperature, "temperature")
+def _ambient(law: Any, temperature: str = "ambient_temperature", surroundings: bool = True) -> None:
+    """Convert the declared fields of ``law`` to SI, check its air state, default its surroundings."""
+    convert_declared(law, "")
+    t = getattr(law, temperature)
     if not T_MIN <= t <= T_MAX:
         raise InputError(f"{temperature}: {t} K is outside the {T_MIN:.0f}-{T_MAX:.0f} K range of the air fits")
-    _positive(law, pressure, "pressure")
-    if surroundings and getattr(law, "surroundings_temperature", None) is None:
+    if surroundings and law.surroundings_temperature is None:
         object.__setattr__(law, "surroundings_temperature", t)
-    elif surroundings:
-        _positive(law, "surroundings_temperature", "temperature")
     object.__setattr__(law, "radiation", bool(law.radiation))
 
 
@@ -126,16 +96,15 @@ class NaturalConvection:
     time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
 
     shape: Shape
-    length: float
-    ambient_temperature: float
-    ambient_pressure: float = 101325.0
-    surroundings_temperature: float | None = None
+    length: float = declared("length", positive=True)
+    ambient_temperature: float = declared("temperature", positive=True)
+    ambient_pressure: float = declared("pressure", 101325.0, positive=True)
+    surroundings_temperature: float | None = declared("temperature", None, positive=True)
     radiation: bool = True
 
     def __post_init__(self) -> None:
         if self.shape not in _SHAPES:
             raise InputError(f"shape: {self.shape!r} is not one of {', '.join(_SHAPES)}")
-        _positive(self, "length", "length")
         _ambient(self)
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
@@ -187,16 +156,14 @@ class CrossFlow:
 
     time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
 
-    diameter: float
-    air_speed: float
-    ambient_temperature: float
-    ambient_pressure: float = 101325.0
-    surroundings_temperature: float | None = None
+    diameter: float = declared("length", positive=True)
+    air_speed: float = declared("speed", minimum=0.0)
+    ambient_temperature: float = declared("temperature", positive=True)
+    ambient_pressure: float = declared("pressure", 101325.0, positive=True)
+    surroundings_temperature: float | None = declared("temperature", None, positive=True)
     radiation: bool = True
 
     def __post_init__(self) -> None:
-        _positive(self, "diameter", "length")
-        _positive(self, "air_speed", "speed", allow_zero=True)
         _ambient(self)
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
@@ -246,16 +213,14 @@ class RotatingDisc:
 
     time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
 
-    radius: float
-    angular_speed: float
-    ambient_temperature: float
-    ambient_pressure: float = 101325.0
-    surroundings_temperature: float | None = None
+    radius: float = declared("length", positive=True)
+    angular_speed: float = declared("angular_speed", minimum=0.0)
+    ambient_temperature: float = declared("temperature", positive=True)
+    ambient_pressure: float = declared("pressure", 101325.0, positive=True)
+    surroundings_temperature: float | None = declared("temperature", None, positive=True)
     radiation: bool = True
 
     def __post_init__(self) -> None:
-        _positive(self, "radius", "length")
-        _positive(self, "angular_speed", "angular_speed", allow_zero=True)
         _ambient(self)
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
@@ -299,16 +264,14 @@ class FanCooling:
 
     time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
 
-    length: float
-    air_speed: float
-    ambient_temperature: float
-    ambient_pressure: float = 101325.0
-    surroundings_temperature: float | None = None
+    length: float = declared("length", positive=True)
+    air_speed: float = declared("speed", minimum=0.0)
+    ambient_temperature: float = declared("temperature", positive=True)
+    ambient_pressure: float = declared("pressure", 101325.0, positive=True)
+    surroundings_temperature: float | None = declared("temperature", None, positive=True)
     radiation: bool = True
 
     def __post_init__(self) -> None:
-        _positive(self, "length", "length")
-        _positive(self, "air_speed", "speed", allow_zero=True)
         _ambient(self)
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
@@ -359,7 +322,7 @@ class MixedConvection:
 
     natural: BoundaryLaw
     forced: BoundaryLaw
-    exponent: float = 3.0
+    exponent: float = declared("dimensionless", 3.0, positive=True)
     ambient_temperature: float = field(init=False)
     surroundings_temperature: float = field(init=False)
     radiation: bool = field(init=False)
@@ -373,7 +336,7 @@ class MixedConvection:
                 f"forced: ambient_temperature {self.forced.ambient_temperature} K differs from the "
                 f"natural law's {self.natural.ambient_temperature} K"
             )
-        _positive(self, "exponent", "dimensionless")
+        convert_declared(self, "")
         object.__setattr__(self, "ambient_temperature", self.natural.ambient_temperature)
         object.__setattr__(self, "surroundings_temperature", self.natural.surroundings_temperature)
         object.__setattr__(self, "radiation", self.natural.radiation)
@@ -432,16 +395,16 @@ class WheelWell:
     time_dependent: ClassVar[bool] = False  # lets the solver tabulate h(T_s)
 
     shape: Shape
-    length: float
-    air_temperature: float
-    wall_temperature: float
-    pressure: float = 101325.0
+    length: float = declared("length", positive=True)
+    air_temperature: float = declared("temperature", positive=True)
+    wall_temperature: float = declared("temperature", positive=True)
+    pressure: float = declared("pressure", 101325.0, positive=True)
     radiation: bool = True
     _still_air: NaturalConvection = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
-        _ambient(self, "air_temperature", "pressure", surroundings=False)
-        wall = _positive(self, "wall_temperature", "temperature")
+        _ambient(self, "air_temperature", surroundings=False)
+        wall = self.wall_temperature
         inner = NaturalConvection(self.shape, self.length, self.air_temperature, self.pressure, wall, self.radiation)
         object.__setattr__(self, "length", inner.length)
         object.__setattr__(self, "_still_air", inner)
@@ -472,29 +435,3 @@ class WheelWell:
             Coefficient [W/(m^2 K)], shape of ``surface_temperature``.
         """
         return self._still_air.convection_coefficient(surface_temperature, time)
-
-
-@dataclass(frozen=True)
-class FixedH(FixedConvection):
-    """A constant coefficient, as :class:`~heatstack.numerics.schedule.FixedConvection`.
-
-    Accepts numbers in SI or strings with a unit, e.g. ``FixedH("25 W/(m**2*K)", "20 degC")``.
-
-    Parameters
-    ----------
-    h : float
-        Convective coefficient [W/(m^2 K)], >= 0.
-    ambient_temperature : float
-        Air temperature [K].
-    surroundings_temperature : float, optional
-        Radiation surroundings [K]; the air temperature by default.
-    radiation : bool
-        Whether the surfaces radiate.
-    """
-
-    def __post_init__(self) -> None:
-        _quantity(self, "h", "heat_transfer_coefficient")
-        _quantity(self, "ambient_temperature", "temperature")
-        if self.surroundings_temperature is not None:
-            _quantity(self, "surroundings_temperature", "temperature")
-        super().__post_init__()

@@ -3,7 +3,7 @@
 Every event returns a :class:`BrakingEvent` whose ``power`` is a
 :class:`~heatstack.numerics.schedule.PowerHistory` [W] on a time axis that starts at
 the event's ``start`` time [s]. Quantities accept SI numbers or strings with a unit
-(``"62 t"``, ``"135 kt"``, ``"24 MJ"``), converted by :func:`heatstack.units.to_si`.
+(``"62 t"``, ``"135 kt"``, ``"24 MJ"``), converted by :func:`heatstack.units.quantity`.
 
 Energy bookkeeping: ``kinetic_energy`` is the kinetic energy the event removes from
 the aircraft (or a wheel), ``brake_share`` the fraction of it the brakes absorb (the
@@ -38,7 +38,7 @@ import numpy as np
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from ..traces import read_trace
-from ..units import to_si, to_si_array
+from ..units import Declaration, declares, quantity, quantity_array
 from . import atmosphere
 
 __all__ = [
@@ -102,23 +102,6 @@ class BrakingEvent:
 # ---------------------------------------------------------------------------- inputs
 
 
-def _si(value: Any, dimension: str, field: str) -> float:
-    """An SI float from a number or a string/Quantity with a unit; must be finite."""
-    if value is None:
-        raise InputError(f"{field}: a value is required")
-    number = to_si(value, None, dimension, field)
-    if not math.isfinite(number):
-        raise InputError(f"{field}: must be finite, got {value!r}")
-    return number
-
-
-def _positive(value: Any, dimension: str, field: str, allow_zero: bool = False) -> float:
-    number = _si(value, dimension, field)
-    if number < 0 or (number == 0 and not allow_zero):
-        raise InputError(f"{field}: must be {'>= 0' if allow_zero else '> 0'}, got {value!r}")
-    return number
-
-
 def _count(value: Any, field: str) -> int:
     try:
         whole = not isinstance(value, bool) and float(value).is_integer() and float(value) >= 1
@@ -133,19 +116,17 @@ def _share_function(share: Share, speed_unit: str | None) -> tuple[Callable[[np.
     """Return ``(f(v) -> share, constant or None)`` from a brake-share input."""
     if callable(share):
         return _checked(share), None
-    if np.ndim(share) == 0:
-        value = _si(share, "dimensionless", "brake_share")
-        if not 0.0 <= value <= 1.0:
-            raise InputError(f"brake_share: must be within [0, 1], got {share!r}")
+    if isinstance(share, str) or np.ndim(share) == 0:
+        value = quantity(share, "dimensionless", "brake_share", minimum=0.0, maximum=1.0)
         return (lambda v: np.full(np.shape(v), value)), value
-    table = np.asarray(share, dtype=float)
-    if table.ndim != 2 or table.shape[1] != 2 or table.shape[0] < 2:
+    rows = list(share)
+    if len(rows) < 2 or not all(isinstance(row, Sequence | np.ndarray) and len(row) == 2 for row in rows):
         raise InputError("brake_share: a table needs rows of (ground speed, share), at least two")
-    speeds = to_si_array(table[:, 0], speed_unit, "speed", "brake_share speed")
+    speeds = quantity_array([row[0] for row in rows], "speed", "brake_share speed", unit=speed_unit)
     if np.any(np.diff(speeds) <= 0):
         raise InputError("brake_share: table speeds must increase strictly")
-    if np.any(~(table[:, 1] >= 0) | ~(table[:, 1] <= 1)):
-        raise InputError("brake_share: table shares must be within [0, 1]")
+    shares = quantity_array([row[1] for row in rows], "dimensionless", "brake_share share", minimum=0.0, maximum=1.0)
+    table = np.column_stack((speeds, shares))
     return (lambda v: np.interp(v, speeds, table[:, 1])), None
 
 
@@ -164,6 +145,11 @@ def _checked(function: Callable[[np.ndarray], Any]) -> Callable[[np.ndarray], np
 # ---------------------------------------------------------------------------- stops
 
 
+@declares(
+    energy=Declaration("energy", positive=True),
+    duration=Declaration("time", positive=True),
+    start=Declaration("time"),
+)
 def stop_from_energy(
     energy: Any,
     duration: Any,
@@ -199,9 +185,9 @@ def stop_from_energy(
     InputError
         For a non-positive energy or duration, an unknown profile or a bad table.
     """
-    e = _positive(energy, "energy", "energy")
-    ts = _positive(duration, "time", "duration")
-    t0 = _si(start, "time", "start")
+    e = energy
+    ts = duration
+    t0 = start
     if isinstance(profile, str):
         if profile == "constant_deceleration":
             power = PowerHistory(np.array([t0, t0 + ts]), np.array([2.0 * e / ts, 0.0]))
@@ -262,25 +248,30 @@ def _brake_on_ground_speed(
         raise InputError(f"{', '.join(unused)}: not used for a {speed_kind} speed; remove or set speed_kind")
     if speed_kind == "ground":
         return speed, "ground speed given"
-    wind = 0.0 if headwind is None else _si(headwind, "speed", "headwind")
+    wind = 0.0 if headwind is None else headwind
     if speed_kind == "true":
         tas = speed
     else:
         if pressure_altitude is None:
             raise InputError("pressure_altitude: required to convert a calibrated airspeed")
-        h = _si(pressure_altitude, "length", "pressure_altitude")
-        oat = dt = None
-        if air_temperature is not None:
-            oat = _positive(air_temperature, "temperature", "air_temperature")
-        if temperature_offset is not None:
-            dt = _si(temperature_offset, "temperature_difference", "temperature_offset")
-        tas = float(atmosphere.true_airspeed(speed, h, oat, dt))
+        tas = float(atmosphere.true_airspeed(speed, pressure_altitude, air_temperature, temperature_offset))
     ground = float(atmosphere.ground_speed(tas, wind))
     if ground <= 0:
         raise InputError(f"headwind: leaves a ground speed of {ground:.3g} m/s at brake-on")
     return ground, f"{speed_kind} airspeed {speed:.4g} m/s -> TAS {tas:.4g} m/s, ground {ground:.4g} m/s"
 
 
+@declares(
+    mass=Declaration("mass", positive=True),
+    brake_on_speed=Declaration("speed", positive=True),
+    stop_time=Declaration("time", positive=True),
+    mean_deceleration=Declaration("acceleration", positive=True),
+    pressure_altitude=Declaration("length"),
+    air_temperature=Declaration("temperature", positive=True),
+    temperature_offset=Declaration("temperature_difference"),
+    headwind=Declaration("speed"),
+    start=Declaration("time"),
+)
 def stop_from_aircraft(
     mass: Any,
     brake_on_speed: Any,
@@ -345,8 +336,8 @@ def stop_from_aircraft(
         For bad numbers, a share outside [0, 1], both or neither of ``stop_time`` and
         ``mean_deceleration``, or a calibrated airspeed without ``pressure_altitude``.
     """
-    m = _positive(mass, "mass", "mass")
-    v_in = _positive(brake_on_speed, "speed", "brake_on_speed")
+    m = mass
+    v_in = brake_on_speed
     n = _count(braked_wheels, "braked_wheels")
     share_of, constant = _share_function(brake_share, share_speed_unit)
     v0, note = _brake_on_ground_speed(
@@ -355,10 +346,10 @@ def stop_from_aircraft(
     if (stop_time is None) == (mean_deceleration is None):
         raise InputError("stop_time, mean_deceleration: give exactly one")
     if stop_time is not None:
-        ts = _positive(stop_time, "time", "stop_time")
+        ts = stop_time
     else:
-        ts = v0 / _positive(mean_deceleration, "acceleration", "mean_deceleration")
-    t0 = _si(start, "time", "start")
+        ts = v0 / mean_deceleration
+    t0 = start
     a = v0 / ts
     if constant is not None:
         power = PowerHistory(np.array([t0, t0 + ts]), np.array([constant * m * a * v0 / n, 0.0]))
@@ -407,6 +398,10 @@ def read_speed_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
     return times, speeds
 
 
+@declares(
+    mass=Declaration("mass", positive=True),
+    start=Declaration("time"),
+)
 def stop_from_speed_trace(
     path_or_rows: Any,
     mass: Any,
@@ -456,11 +451,11 @@ def stop_from_speed_trace(
         a valid quantity (the message names it).
     """
     t, v = read_speed_trace(path_or_rows)
-    m = _positive(mass, "mass", "mass")
+    m = mass
     n = _count(braked_wheels, "braked_wheels")
     share_of, _ = _share_function(brake_share, share_speed_unit)
     if start is not None:
-        t = t - t[0] + _si(start, "time", "start")
+        t = t - t[0] + start
     dt = np.diff(t)
     v_mid = 0.5 * (v[1:] + v[:-1])
     drop = np.maximum(0.5 * (v[:-1] ** 2 - v[1:] ** 2), 0.0)  # kinetic energy per kg lost
@@ -488,6 +483,14 @@ def _piecewise_constant(t: np.ndarray, level: np.ndarray) -> PowerHistory:
 # ---------------------------------------------------------------------------- taxi, retraction
 
 
+@declares(
+    mass=Declaration("mass", positive=True),
+    speed_high=Declaration("speed", positive=True),
+    speed_low=Declaration("speed", minimum=0.0),
+    snub_duration=Declaration("time", positive=True),
+    interval=Declaration("time", positive=True),
+    start=Declaration("time"),
+)
 def taxi_snubs(
     mass: Any,
     braked_wheels: int,
@@ -534,21 +537,21 @@ def taxi_snubs(
         Naming the field: a value that is not a finite quantity of its dimension, a
         share outside [0, 1], ``speed_low >= speed_high`` or ``interval < snub_duration``.
     """
-    m = _positive(mass, "mass", "mass")
+    m = mass
     n = _count(braked_wheels, "braked_wheels")
     _, share = _share_function(brake_share, None)
     if share is None:
         raise InputError("brake_share: taxi snubs take a constant share")
-    v_h = _positive(speed_high, "speed", "speed_high")
-    v_l = _positive(speed_low, "speed", "speed_low", allow_zero=True)
+    v_h = speed_high
+    v_l = speed_low
     if v_l >= v_h:
         raise InputError(f"speed_low: {v_l} m/s must be below speed_high {v_h} m/s")
-    d = _positive(snub_duration, "time", "snub_duration")
-    gap = _positive(interval, "time", "interval")
+    d = snub_duration
+    gap = interval
     if gap < d:
         raise InputError(f"interval: {gap} s is shorter than snub_duration {d} s")
     k = _count(count, "count")
-    t0 = _si(start, "time", "start")
+    t0 = start
     a = (v_h - v_l) / d
     levels = np.array([v_h, v_l]) * share * m * a / n
     snubs = [PowerHistory(np.array([t0 + i * gap, t0 + i * gap + d]), levels) for i in range(k)]
@@ -557,6 +560,13 @@ def taxi_snubs(
     return _event(name, combine(*snubs), kinetic, n, notes, share)
 
 
+@declares(
+    moment_of_inertia=Declaration("moment_of_inertia", positive=True),
+    lift_off_speed=Declaration("speed", positive=True),
+    tyre_rolling_radius=Declaration("length", positive=True),
+    spin_down_time=Declaration("time", positive=True),
+    start=Declaration("time"),
+)
 def gear_retraction(
     moment_of_inertia: Any,
     lift_off_speed: Any,
@@ -595,11 +605,11 @@ def gear_retraction(
     InputError
         Naming the field: a value that is not a finite quantity of its dimension, or not > 0.
     """
-    inertia = _positive(moment_of_inertia, "moment_of_inertia", "moment_of_inertia")
-    v = _positive(lift_off_speed, "speed", "lift_off_speed")
-    r = _positive(tyre_rolling_radius, "length", "tyre_rolling_radius")
-    ts = _positive(spin_down_time, "time", "spin_down_time")
-    t0 = _si(start, "time", "start")
+    inertia = moment_of_inertia
+    v = lift_off_speed
+    r = tyre_rolling_radius
+    ts = spin_down_time
+    t0 = start
     omega = v / r
     energy = 0.5 * inertia * omega**2
     power = PowerHistory(np.array([t0, t0 + ts]), np.array([2.0 * energy / ts, 0.0]))

@@ -35,7 +35,7 @@ from ..numerics.solver import SolverOptions
 from ..operations.duty import DutyCycle, DutyPhase, Environment
 from ..operations.heat_input import BrakingEvent
 from ..result import Result, State
-from ..units import to_si
+from ..units import quantity
 
 __all__ = ["CoolingAnswer", "WhatIfAnswer", "check_history_name", "cooling_time_from_state", "what_if", "history_names"]
 
@@ -93,20 +93,6 @@ def _check_surfaces(model: Model, surfaces: Sequence[SurfaceGroup]) -> None:
             f"surfaces: no surface record for the surface group(s) {missing}; give one for every "
             f"group of the model {list(model.network.groups)}"
         )
-
-
-def _positive_time(value: Any, field: str) -> float:
-    seconds = to_si(value, None, "time", field)
-    if not (np.isfinite(seconds) and seconds > 0):
-        raise InputError(f"{field}: must be a finite time > 0 s, got {value!r}")
-    return seconds
-
-
-def _temperature(value: Any, field: str) -> float:
-    kelvin = to_si(value, None, "temperature", field)
-    if not (np.isfinite(kelvin) and kelvin > 0):
-        raise InputError(f"{field}: must be a finite temperature > 0 K, got {value!r}")
-    return kelvin
 
 
 # ---------------------------------------------------------------------------- cooling time
@@ -237,8 +223,8 @@ def cooling_time_from_state(
     _check_surfaces(model, surfaces)
     if not isinstance(environment, Environment):
         raise InputError(f"environment: expected an Environment, got {type(environment).__name__}")
-    threshold = _temperature(below, "below")
-    duration = _positive_time(horizon, "horizon")
+    threshold = quantity(below, "temperature", "below", minimum=0.0, exclusive_minimum=True)
+    duration = quantity(horizon, "time", "horizon", minimum=0.0, exclusive_minimum=True)
     duty = DutyCycle([DutyPhase("parked", duration, environment, clamped=bool(clamped))])
     result = model.run(duty.schedule(surfaces, start=float(state.time)), state, options)
     values = result.history(series)
@@ -374,7 +360,7 @@ def what_if(
             raise InputError(f"{label}: expected an Environment, got {type(env).__name__}")
     if event is not None and not isinstance(event, BrakingEvent):
         raise InputError(f"event: expected a BrakingEvent or None, got {type(event).__name__}")
-    cooling = _positive_time(after, "after")
+    cooling = quantity(after, "time", "after", minimum=0.0, exclusive_minimum=True)
     phases = []
     energy = 0.0
     if event is not None:

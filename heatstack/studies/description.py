@@ -39,21 +39,11 @@ import numpy as np
 from scipy.stats import qmc
 
 from ..builders import WheelBrakeDesign
-from ..case import case_from_mapping, design_dimension, load_case
+from ..case import case_from_mapping, load_case
 from ..errors import HeatstackError, InputError
-from ..units import SI_UNITS, to_si
+from ..units import SI_UNITS, quantity, to_si
 from .distributions import Distribution
-from .paths import (
-    MISSING,
-    Token,
-    dimension_of_text,
-    every_path,
-    format_path,
-    parse_path,
-    set_value_at,
-    value_at,
-    value_in_si,
-)
+from .paths import MISSING, Token, every_path, format_path, parse_path, set_value_at, value_at
 
 __all__ = [
     "Parameter",
@@ -364,7 +354,7 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
         close = difflib.get_close_matches(str(parameter.dimension), SI_UNITS, n=1)
         hint = f"; did you mean {close[0]!r}?" if close else f"; one of {', '.join(SI_UNITS)}"
         raise InputError(f"{where}.dimension: unknown dimension {parameter.dimension!r}{hint}")
-    paths, bases = [], []
+    paths, bases, absent = [], [], []
     for j, text in enumerate(parameter.paths):
         pwhere = f"{where}.path" if isinstance(parameter.path, str) else f"{where}.path[{j}]"
         tokens = parse_path(text, pwhere)
@@ -375,23 +365,29 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
                 hint = _closest_path(mapping, format_path(tokens), _design_fields(mapping))
                 raise InputError(f"{pwhere}: {format_path(tokens)!r} does not exist in the base case{hint}")
             value = None  # an optional key: checked by a trial parse below
+            absent.append((pwhere, tokens))
         elif isinstance(value, Mapping | list):
             raise InputError(f"{pwhere}: {format_path(tokens)!r} is a table or list in the base case, not a value")
         paths.append(tokens)
         bases.append(value)
-    leaf = str(paths[0][-1])
     dimension = parameter.dimension
     raw_values = list(parameter.values) if parameter.values is not None else []
+    texts = [b for b in bases if isinstance(b, str)]
+    texts += parameter.distribution.strings() if parameter.distribution is not None else []
+    texts += [v for v in raw_values if isinstance(v, str)]
     if dimension is None:
-        texts = [b for b in bases if isinstance(b, str)]
-        texts += parameter.distribution.strings() if parameter.distribution is not None else []
-        texts += [v for v in raw_values if isinstance(v, str)]
-        for text in texts:
-            dimension = dimension_of_text(text, leaf)
-            if dimension is not None:
-                break
-    if dimension is None and len(paths[0]) == 3 and tuple(paths[0][:2]) == ("assembly", "design"):
-        dimension = design_dimension(leaf)
+        from ..case_keys import key_dimension
+
+        dimension = key_dimension(paths[0], mapping)
+    if dimension is None and absent and texts:  # no declaration, not in the base case: a misspelt key?
+        pwhere, tokens = absent[0]
+        hint = _closest_path(mapping, format_path(tokens), _design_fields(mapping))
+        raise InputError(f"{pwhere}: {format_path(tokens)!r} does not exist in the base case{hint}")
+    if dimension is None and texts:
+        raise InputError(
+            f"{where}: cannot tell the physical dimension of {texts[0]!r}; give the parameter a dimension "
+            f"(one of {', '.join(SI_UNITS)})"
+        )
     base_kinds = {type(b) for b in bases if b is not None}
     kind = "float"
     if raw_values and all(isinstance(v, bool) for v in raw_values) and base_kinds <= {bool}:
@@ -407,7 +403,9 @@ def _resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) 
         if kind == "bool":
             values = np.array([1.0 if v else 0.0 for v in raw_values])
         else:
-            values = np.array([value_in_si(v, dimension, f"{where}.values[{i}]") for i, v in enumerate(raw_values)])
+            values = np.array(
+                [quantity(v, dimension or "dimensionless", f"{where}.values[{i}]") for i, v in enumerate(raw_values)]
+            )
     if dimension is None and any(isinstance(b, str) for b in bases):
         raise InputError(f"{where}: cannot tell the physical dimension of {bases[0]!r}; give dimension = ...")
     for tokens, base_value in zip(paths, bases, strict=True):
@@ -508,16 +506,13 @@ def plan_study(study: Study) -> StudyPlan:
             raise InputError(f"study.parameters[{k}].name: {name!r} is used by two parameters")
     n_grid = math.prod(p.values.size for p in resolved) if grid else 0
     _check_sampling(study.sampling, n_grid)
-    cell = None if study.cell_size is None else value_in_si(study.cell_size, "length", "study.cell_size")
-    if cell is not None and not cell > 0:
-        raise InputError(f"study.cell_size: must be > 0, got {study.cell_size!r}")
+    positive = {"minimum": 0.0, "exclusive_minimum": True}
+    cell = None if study.cell_size is None else quantity(study.cell_size, "length", "study.cell_size", **positive)
     change = (
         None
         if study.target_change is None
-        else value_in_si(study.target_change, "temperature_difference", "study.target_change")
+        else quantity(study.target_change, "temperature_difference", "study.target_change", **positive)
     )
-    if change is not None and not change > 0:
-        raise InputError(f"study.target_change: must be > 0, got {study.target_change!r}")
     outputs = _check_outputs(study.outputs, base_case)
     # every parameter alone, then all together, at a representative value: catches keys
     # the case does not accept and values of the wrong type before any case runs

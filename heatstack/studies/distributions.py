@@ -13,7 +13,7 @@ from typing import Any, ClassVar
 from scipy import stats
 
 from ..errors import InputError
-from .paths import spread_dimension, value_in_si
+from ..units import quantity
 
 __all__ = [
     "Distribution",
@@ -40,19 +40,20 @@ class Distribution:
     kind: ClassVar[str] = ""
     _spreads: ClassVar[tuple[str, ...]] = ()
     _plain: ClassVar[tuple[str, ...]] = ()
+    _positive: ClassVar[tuple[str, ...]] = ()
 
     def values_si(self, dimension: str | None, where: str) -> dict[str, float]:
         """The distribution's parameters in SI, validated; keys are the field names."""
         out = {}
+        spread = "temperature_difference" if dimension == "temperature" else dimension
         for f in fields(self):
             value = getattr(self, f.name)
-            sub = f"{where}.{f.name}"
             if f.name in self._plain:
-                out[f.name] = value_in_si(value, "dimensionless", sub)
-            elif f.name in self._spreads:
-                out[f.name] = value_in_si(value, spread_dimension(dimension), sub)
+                of = "dimensionless"
             else:
-                out[f.name] = value_in_si(value, dimension, sub)
+                of = (spread if f.name in self._spreads else dimension) or "dimensionless"
+            bounds = {"minimum": 0.0, "exclusive_minimum": True} if f.name in self._positive else {}
+            out[f.name] = quantity(value, of, f"{where}.{f.name}", **bounds)
         self._validate(out, where)
         return out
 
@@ -73,11 +74,6 @@ class Distribution:
     def strings(self) -> list[str]:
         """Parameters given as strings (they carry units)."""
         return [v for f in fields(self) if isinstance(v := getattr(self, f.name), str)]
-
-
-def _positive(v: dict[str, float], name: str, where: str, text: Any) -> None:
-    if not v[name] > 0:
-        raise InputError(f"{where}.{name}: must be > 0, got {text!r}")
 
 
 def _ordered(v: dict[str, float], low: str, high: str, where: str, given: Any) -> None:
@@ -108,9 +104,7 @@ class Normal(Distribution):
     std: Any
     kind: ClassVar[str] = "normal"
     _spreads: ClassVar[tuple[str, ...]] = ("std",)
-
-    def _validate(self, v, where):
-        _positive(v, "std", where, self.std)
+    _positive: ClassVar[tuple[str, ...]] = ("std",)
 
     def _scipy(self, v):
         return stats.norm(loc=v["mean"], scale=v["std"])
@@ -126,9 +120,9 @@ class TruncatedNormal(Distribution):
     high: Any
     kind: ClassVar[str] = "truncated_normal"
     _spreads: ClassVar[tuple[str, ...]] = ("std",)
+    _positive: ClassVar[tuple[str, ...]] = ("std",)
 
     def _validate(self, v, where):
-        _positive(v, "std", where, self.std)
         _ordered(v, "low", "high", where, self)
 
     def _scipy(self, v):
@@ -166,10 +160,7 @@ class LogNormal(Distribution):
     log_std: Any
     kind: ClassVar[str] = "lognormal"
     _plain: ClassVar[tuple[str, ...]] = ("log_std",)
-
-    def _validate(self, v, where):
-        _positive(v, "median", where, self.median)
-        _positive(v, "log_std", where, self.log_std)
+    _positive: ClassVar[tuple[str, ...]] = ("median", "log_std")
 
     def _scipy(self, v):
         return stats.lognorm(v["log_std"], scale=v["median"])

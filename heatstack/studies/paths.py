@@ -1,22 +1,20 @@
-"""Key paths into a case mapping, and the values written at them converted to SI.
+"""Key paths into a case mapping: parse, format, read and write the value at a path.
 
 A path is written the way case-file errors name keys: ``duty.phases[0].events[0].mass``,
 ``assembly.fuse_plugs[1].release_temperature``, ``output.limits."inboard bead seat"``.
 :func:`parse_path` splits it into keys and list indices, :func:`format_path` writes it
-back. A value is a number in SI or a string with a unit (``"70 t"``); its physical
-dimension can be read from such a string.
+back. The physical dimension of the value at a path is the one its field declares
+(:func:`heatstack.case.key_dimension`).
 """
 
 from __future__ import annotations
 
 import json
-import math
 import re
 from collections.abc import Iterator, Mapping, Sequence
 from typing import Any
 
 from ..errors import InputError
-from ..units import SI_UNITS, registry, to_si
 
 __all__ = [
     "parse_path",
@@ -25,9 +23,6 @@ __all__ = [
     "MISSING",
     "value_at",
     "set_value_at",
-    "spread_dimension",
-    "dimension_of_text",
-    "value_in_si",
 ]
 
 Token = str | int
@@ -122,55 +117,3 @@ def set_value_at(data: Any, tokens: Sequence[Token], value: Any) -> None:
     """Write ``value`` at a token path whose parent exists (in place)."""
     parent = value_at(data, tokens[:-1])
     parent[tokens[-1]] = value
-
-
-# ---------------------------------------------------------------------------- dimensions
-
-
-def spread_dimension(dimension: str | None) -> str | None:
-    """Dimension of a spread (standard deviation) of a quantity of ``dimension``."""
-    return "temperature_difference" if dimension == "temperature" else dimension
-
-
-def dimension_of_text(text: str, leaf: str) -> str | None:
-    """Physical dimension (a key of ``SI_UNITS``) of a quantity string, or None if unknown.
-
-    A temperature in an offset unit (degC, degF) is a temperature; in delta units it is
-    a temperature difference; in kelvin it is a temperature when the key names one
-    (``..._temperature``), else a difference (``tolerance``, ``target_change``).
-    """
-    reg = registry()
-    try:
-        quantity = reg.Quantity(text)
-    except Exception:
-        return None
-    units = f"{quantity.units}"
-    if quantity.dimensionality == reg.Quantity(1.0, "K").dimensionality:
-        if "delta_" in units:
-            return "temperature_difference"
-        if "degree_Celsius" in units or "degree_Fahrenheit" in units:
-            return "temperature"
-        return "temperature" if "temperature" in leaf else "temperature_difference"
-    if quantity.dimensionless:
-        return "dimensionless"
-    for dimension, unit in SI_UNITS.items():
-        if dimension in ("temperature", "temperature_difference", "dimensionless"):
-            continue
-        if reg.Quantity(1.0, unit).dimensionality == quantity.dimensionality:
-            return dimension
-    return None
-
-
-def value_in_si(value: Any, dimension: str | None, where: str) -> float:
-    """A user value (number or quantity string) in SI; bare numbers are SI already."""
-    if isinstance(value, bool) or not isinstance(value, int | float | str):
-        raise InputError(f"{where}: expected a number or a quantity such as '70 t', got {value!r}")
-    if isinstance(value, str) and dimension is None:
-        raise InputError(
-            f"{where}: cannot tell the physical dimension of {value!r}; give the parameter a dimension "
-            f"(one of {', '.join(SI_UNITS)})"
-        )
-    result = to_si(value, None, dimension or "dimensionless", where)
-    if not math.isfinite(result):
-        raise InputError(f"{where}: must be finite, got {value!r}")
-    return result

@@ -16,7 +16,6 @@ from heatstack.numerics.schedule import BoundaryLaw, FixedConvection
 from heatstack.operations.environment import (
     CrossFlow,
     FanCooling,
-    FixedH,
     MixedConvection,
     NaturalConvection,
     RotatingDisc,
@@ -54,7 +53,7 @@ def all_laws() -> list[BoundaryLaw]:
         FanCooling(0.4, 6.0, T_AIR),
         MixedConvection(natural, forced),
         WheelWell("vertical_plate", 0.3, 320.0, 305.0, 70000.0),
-        FixedH(20.0, T_AIR),
+        FixedConvection(20.0, T_AIR),
     ]
 
 
@@ -167,7 +166,7 @@ def test_units_accepted_and_defaults() -> None:
     assert law.ambient_temperature == pytest.approx(T_AIR, rel=1e-12)
     assert law.ambient_pressure == pytest.approx(101325.0, rel=1e-14)
     assert law.surroundings_temperature == law.ambient_temperature and law.radiation is True
-    fixed = FixedH("25 W/(m**2*K)", "20 degC", radiation=False)
+    fixed = FixedConvection("25 W/(m**2*K)", "20 degC", radiation=False)
     assert isinstance(fixed, FixedConvection) and fixed.ambient_temperature == pytest.approx(293.15)
     assert np.all(fixed.convection_coefficient(np.ones(3), 0.0) == 25.0)
 

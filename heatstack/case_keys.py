@@ -1,0 +1,110 @@
+"""Which physical dimension each key of a case file has, declared once.
+
+A key that is a field of a public dataclass (:class:`~heatstack.geometry.Part`,
+:class:`~heatstack.builders.WheelBrakeDesign`, :class:`~heatstack.operations.duty.Environment`
+...) has the dimension its field declares (:func:`heatstack.units.declared`); a
+braking-event key has the one its event function declares (:func:`heatstack.units.declares`);
+the few keys that only the case file has are listed here. The case reader and the
+studies look dimensions up with :func:`key_dimension`; nothing guesses from a name.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from typing import Any
+
+from .builders import FusePlugSpec, WheelBrakeDesign
+from .geometry import Contact, Part, Probe
+from .numerics.solver import SolverOptions
+from .operations import heat_input
+from .operations.duty import DutyCycle, DutyPhase, Environment
+from .operations.heat_input import BrakingEvent
+from .report import TyreSettings
+from .units import declared_dimension
+
+__all__ = ["EVENT_KINDS", "key_dimension"]
+
+#: Braking-event kinds of ``[[duty.phases.events]]`` and the functions that make them.
+EVENT_KINDS: dict[str, Callable[..., BrakingEvent]] = {
+    "stop_from_energy": heat_input.stop_from_energy,
+    "stop_from_aircraft": heat_input.stop_from_aircraft,
+    "speed_trace": heat_input.stop_from_speed_trace,
+    "taxi_snubs": heat_input.taxi_snubs,
+    "gear_retraction": heat_input.gear_retraction,
+}
+
+
+#: Tables of the case file whose keys are the fields of a dataclass: the dimension of
+#: each key is the one its field declares (``int`` stands for any list index).
+_DECLARING_TABLES: dict[tuple[Any, ...], type] = {
+    ("assembly", "design"): WheelBrakeDesign,
+    ("assembly", "parts", int): Part,
+    ("assembly", "probes", int): Probe,
+    ("assembly", "contacts", int): Contact,
+    ("assembly", "fuse_plugs", int): FusePlugSpec,
+    ("duty",): DutyCycle,
+    ("duty", "phases", int): DutyPhase,
+    ("duty", "phases", int, "environment"): Environment,
+    ("solver",): SolverOptions,
+    ("tyre",): TyreSettings,
+}
+#: Keys of the case file that are not a dataclass field, and their dimension (``str``
+#: stands for any key).
+_CASE_KEYS: dict[tuple[Any, ...], str] = {
+    ("case", "initial_temperature"): "temperature",
+    ("assembly", "cell_size"): "length",
+    ("assembly", "cell_size_radial"): "length",
+    ("assembly", "cell_size_axial"): "length",
+    ("assembly", "default_contact_conductance"): "heat_transfer_coefficient",
+    ("assembly", "length_scales", str): "length",
+    ("duty", "phases", int, "environment", "wheel_well_air_temperature"): "temperature",
+    ("duty", "phases", int, "environment", "wheel_well_wall_temperature"): "temperature",
+    ("solver", "snapshot_times", int): "time",
+    ("output", "limits", str): "temperature",
+    ("output", "cooling_below"): "temperature",
+}
+
+
+def _matches(pattern: tuple[Any, ...], tokens: tuple[Any, ...]) -> bool:
+    if len(pattern) != len(tokens):
+        return False
+    for want, token in zip(pattern, tokens, strict=True):
+        if want is int:
+            if not isinstance(token, int):
+                return False
+        elif want is str:
+            if not isinstance(token, str):
+                return False
+        elif want != token:
+            return False
+    return True
+
+
+_EVENT_KEY = ("duty", "phases", int, "events", int, str)
+
+
+def key_dimension(tokens: tuple[str | int, ...], case: Mapping[str, Any] | None = None) -> str | None:
+    """The physical dimension declared for the case key at ``tokens``, or None.
+
+    ``("assembly", "design", "rotor_thickness")`` -> ``"length"`` (from the field of
+    :class:`~heatstack.builders.WheelBrakeDesign`); ``("output", "limits", "sensor")``
+    -> ``"temperature"``. A braking-event key (``duty.phases[i].events[j].mass``) is
+    declared by its event function (:func:`heatstack.units.declares`); finding it needs
+    the event's ``kind``, read from the parsed ``case`` mapping.
+    """
+    tokens = tuple(tokens)
+    if _matches(_EVENT_KEY, tokens):
+        try:
+            kind = case["duty"]["phases"][tokens[2]]["events"][tokens[4]]["kind"]
+        except (TypeError, KeyError, IndexError):
+            return None
+        function = EVENT_KINDS.get(kind) if isinstance(kind, str) else None
+        return getattr(function, "dimensions", {}).get(tokens[5])
+    for pattern, dimension in _CASE_KEYS.items():
+        if _matches(pattern, tokens):
+            return dimension
+    if tokens and isinstance(tokens[-1], str):
+        for pattern, cls in _DECLARING_TABLES.items():
+            if _matches(pattern, tokens[:-1]):
+                return declared_dimension(cls, tokens[-1])
+    return None
