@@ -76,6 +76,7 @@ from .atomic import os_reason as _reason
 from .atomic import write_file_atomically
 from .atomic import write_target as _target
 from .errors import ResultFileError
+from .numerics.accounts import LEDGER_ACCOUNTS
 from .result import Result
 from .resultread import read_case_text, read_resolved_inputs, read_result
 
@@ -98,7 +99,6 @@ FORMAT_VERSION = 1
 _COMPRESSIONS = ("gzip", "lzf", "none")
 _GZIP_LEVEL = 4
 _TEXT = h5py.string_dtype("utf-8")
-_LEDGER_ACCOUNTS = ("heat_in", "convected", "radiated", "stored")
 _DESCRIPTION = (
     "heatstack results: transient axisymmetric heat conduction in a wheel and brake. "
     "SI units; each dataset states its unit in its 'unit' attribute."
@@ -303,7 +303,7 @@ def _write_content(
         dataset.attrs["name"] = name
 
     ledger = h5.create_group("ledger")
-    for account in _LEDGER_ACCOUNTS:
+    for account in LEDGER_ACCOUNTS:
         _put(ledger, account, _numeric(getattr(result.ledger, account), f"ledger.{account}", 1), "J")
     _put_text(ledger, "friction_labels", _texts(result.ledger.friction_labels, "ledger.friction_labels"))
     _put(ledger, "friction_split", _numeric(result.ledger.friction_split, "ledger.friction_split", 2), "J")

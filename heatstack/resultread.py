@@ -19,6 +19,7 @@ import numpy as np
 from .atomic import as_path as _as_path
 from .atomic import os_reason as _reason
 from .errors import ResultFileError
+from .numerics.accounts import LEDGER_ACCOUNTS
 from .result import EnergyLedger, Result, State
 
 __all__ = [
@@ -203,9 +204,6 @@ def read_result(path: str | Path) -> Result:
         format version, or lacks a required dataset; the message names the file and
         what is wrong.
     """
-    # deferred: resultfile.py re-exports this module's readers
-    from .resultfile import _LEDGER_ACCOUNTS
-
     with _open(path) as rd:
         times = rd.array("times", "s", 1)
         end_of_heating = rd.scalar("end_of_heating", "s")
@@ -249,7 +247,7 @@ def read_result(path: str | Path) -> Result:
             series[rd.name_of(dataset)] = rd.array(key, "K", 1, series_group)
 
         lg = rd.group("ledger")
-        accounts = {account: rd.array(account, "J", 1, lg) for account in _LEDGER_ACCOUNTS}
+        accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
         labels = rd.texts("friction_labels", lg)
         split = rd.array("friction_split", "J", 2, lg)
         if split.shape[0] != len(labels):
