@@ -44,7 +44,9 @@ class EnergyLedger:
     ``closure_error = stored - heat_in + convected + radiated``: zero for an exactly
     conservative scheme (gap radiation and contact flows are internal and cancel).
     ``friction_split`` holds, for each rubbing interface, the energy that entered the
-    part on each side, shape (n_interfaces, 2).
+    part on each side, shape (n_interfaces, 2). The four account fields are the running
+    sums of the steps' :class:`~heatstack.numerics.accounts.StepAccounts` of the same
+    names (``LEDGER_ACCOUNTS``).
     """
 
     heat_in: np.ndarray
