@@ -352,7 +352,7 @@ def profile() -> None:
         "conservative update (mat-vec + exact T(H))": cumulative("conservative_update"),
         "accounts of the accepted step (finish)": cumulative("finish"),
     }
-    parts["own lines of step and linearise: G, bincount assembly, matrix scatter, residual, checks"] = step - sum(parts.values())
+    parts["own lines of step and linearise: G, bincounts, scatter, residual, checks"] = step - sum(parts.values())
     print(
         f"\n[profile] heatstack, 12k case, {info['steps']} steps, {iterations} Newton iterations, "
         f"{info['factorisations']} factorisations (cProfile)"
