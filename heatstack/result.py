@@ -59,6 +59,9 @@ class EnergyLedger:
     friction_split : ndarray
         Energy [J] that entered the part on each side of each rubbing interface, shape
         (n_interfaces, 2).
+
+    The four account fields are the running sums of the steps'
+    :class:`~heatstack.numerics.accounts.StepAccounts` of the same names (``LEDGER_ACCOUNTS``).
     """
 
     heat_in: np.ndarray

@@ -1,10 +1,13 @@
-"""The names every heatstack results file shares: its format name, its layout version and its ledger accounts.
+"""The names every heatstack results file shares: its format name, its layout version and its ledger accounts
+(the cumulative accounts [J] under ``/ledger``, named by the solver's step record).
 
 Both the writer (:mod:`heatstack.resultfile`) and the reader (:mod:`heatstack.resultread`)
 import these, so the two sides of the file can never disagree.
 """
 
 from __future__ import annotations
+
+from .numerics.accounts import LEDGER_ACCOUNTS
 
 __all__ = ["FORMAT_NAME", "FORMAT_VERSION", "LEDGER_ACCOUNTS"]
 
@@ -13,6 +16,3 @@ FORMAT_NAME = "heatstack-result"
 
 FORMAT_VERSION = 1
 """Layout version written by :mod:`heatstack.resultfile`; files of a newer version are refused."""
-
-LEDGER_ACCOUNTS = ("heat_in", "convected", "radiated", "stored")
-"""Cumulative energy accounts [J] stored under ``/ledger`` in every results file."""

@@ -58,7 +58,7 @@ from heatstack import (
     SolverOptions,
     simple_material,
 )
-from heatstack.numerics.solver import _Integrator, initial_field
+from heatstack.numerics.solver import Integrator, initial_field
 
 HERE = Path(__file__).resolve().parent
 
@@ -144,12 +144,12 @@ def time_fipy(model: Model, times: np.ndarray, probes: dict, snapshot_times, rep
 
 
 def triangular_solve_time(model: Model, repeats: int = 300) -> tuple[float, float]:
-    """Factorise heatstack's last step matrix as ``_Integrator.factorise`` does; time ``lu.solve``."""
-    integrator = _Integrator(model.network, schedule(), options())
+    """Factorise heatstack's last step matrix as ``StepMatrix.factorise`` does; time ``lu.solve``."""
+    integrator = Integrator(model.network, schedule(), options())
     integrator.run(initial_field(model.network, T0), 0.0)
     start = time.perf_counter()
     lu = spla.splu(
-        integrator.matrix.copy(),
+        integrator.newton.system.matrix.copy(),
         permc_spec="MMD_AT_PLUS_A",
         diag_pivot_thresh=0.0,
         options={"SymmetricMode": True},
@@ -317,13 +317,13 @@ def memory() -> None:
 
 
 def profile() -> None:
-    """cProfile of heatstack's 12k run, aggregated by what ``_Integrator.step`` spends its time on.
+    """cProfile of heatstack's 12k run, aggregated by what ``NewtonStep.step`` spends its time on.
 
     cProfile cannot see inside ``step`` itself (``np.bincount`` is an array-function
     dispatcher, ufunc arithmetic and fancy indexing are not calls); that remainder is
     split line by line when ``line_profiler`` is importable (optional, not a dependency).
     """
-    from heatstack.numerics import solver
+    from heatstack.numerics import newton
 
     model, _ = build("12k")
     model.run(schedule(), T0, options())  # warm-up
@@ -335,7 +335,7 @@ def profile() -> None:
     info = result.metadata["solver"]
     iterations = info["iterations"]
 
-    def cumulative(name: str, file_part: str = "solver.py") -> float:
+    def cumulative(name: str, file_part: str = "newton.py") -> float:
         return sum(v[3] for k, v in stats.items() if k[2] == name and file_part in k[0])
 
     def own(name: str) -> float:
@@ -343,21 +343,21 @@ def profile() -> None:
 
     step = cumulative("step")
     parts = {
-        "material properties (k_r, k_z, c, H per iteration)": cumulative("properties"),
-        "boundary coefficients (per-group laws, radiation, U)": cumulative("boundary"),
-        "gap radiation conductances": cumulative("gaps"),
-        "friction partition": cumulative("friction_sources"),
+        "material properties (k_r, k_z, c, H per iteration)": cumulative("cell_properties", "assembly.py"),
+        "boundary coefficients (per-group laws, radiation, U)": cumulative("faces", "boundaries.py"),
+        "gap radiation conductances": cumulative("gaps", "boundaries.py"),
+        "friction partition": cumulative("friction", "assembly.py"),
         "triangular solves (SuperLU.solve)": own("'solve' of 'SuperLU'"),
         "factorisations (splu)": cumulative("factorise"),
-        "conservative update (mat-vec + exact T(H))": cumulative("_conservative_update"),
-        "accounts of the accepted step (_finish)": cumulative("_finish"),
+        "conservative update (mat-vec + exact T(H))": cumulative("conservative_update"),
+        "accounts of the accepted step (finish)": cumulative("finish"),
     }
-    parts["step's own lines: G, bincount assembly, matrix scatter, residual, checks"] = step - sum(parts.values())
+    parts["own lines of step and linearise: G, bincounts, scatter, residual, checks"] = step - sum(parts.values())
     print(
         f"\n[profile] heatstack, 12k case, {info['steps']} steps, {iterations} Newton iterations, "
         f"{info['factorisations']} factorisations (cProfile)"
     )
-    print(f"  _Integrator.step total {step:.3f} s = {1e3 * step / info['steps']:.2f} ms per step")
+    print(f"  NewtonStep.step total {step:.3f} s = {1e3 * step / info['steps']:.2f} ms per step")
     for label, value in parts.items():
         print(f"    {label:72s} {1e3 * value / iterations:6.3f} ms/iter {100 * value / step:5.1f} %")
     try:
@@ -365,14 +365,14 @@ def profile() -> None:
     except ImportError:
         print("  (install line_profiler for a line-by-line split of the step's own statements)")
         return
-    lines = LineProfiler(solver._Integrator.step)
+    lines = LineProfiler(newton.NewtonStep.step)
     lines.enable()
     model.run(schedule(), T0, options())
     lines.disable()
     entries = next(iter(lines.get_stats().timings.values()))
-    source = Path(solver.__file__).read_text().splitlines()
+    source = Path(newton.__file__).read_text().splitlines()
     total = sum(t for _, _, t in entries)
-    print("  line_profiler, _Integrator.step, top lines (includes the profiler's per-line overhead):")
+    print("  line_profiler, NewtonStep.step, top lines (includes the profiler's per-line overhead):")
     for lineno, hits, t in sorted(entries, key=lambda e: -e[2])[:14]:
         print(f"    {100 * t / total:5.1f} %  {hits:6d} hits  {source[lineno - 1].strip()[:88]}")
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..result import EnergyLedger, Result, State
+from .accounts import LEDGER_ACCOUNTS, StepAccounts
 from .instrument import first_order_lag
 from .network import Network
 from .schedule import Schedule
@@ -32,13 +33,15 @@ class Recorder:
             for group, cells in zip(net.assembly.cell_groups, net.cell_group_masks, strict=True)
             if cells.any()
         ]
-        self.accounts = {"heat_in": [0.0], "convected": [0.0], "radiated": [0.0], "stored": [0.0]}
+        self.ledger: dict[str, list[float]] = {account: [0.0] for account in LEDGER_ACCOUNTS}
         n_if = len(net.friction_labels)
         self.friction = np.zeros((n_if, 2))
         self.snap_times: list[float] = []
         self.snaps: list[np.ndarray] = []
 
-    def record(self, t: float, T: np.ndarray, out: dict | None, face_ts: np.ndarray) -> None:
+    def record(self, t: float, T: np.ndarray, accounts: StepAccounts | None, face_ts: np.ndarray) -> None:
+        """Record the state ``T`` [K] at ``t`` [s], the step's ``accounts`` (None at the start)
+        and the exposed-face temperatures ``face_ts`` [K]."""
         net = self.net
         self.times.append(t)
         self.probe_values.append(np.sum(T[net.probe_cells] * net.probe_weights, axis=1))
@@ -52,14 +55,13 @@ class Recorder:
         group_mean = np.bincount(net.face_group, weights=net.face_area * face_ts, minlength=len(net.groups))
         for name, mean in zip(net.groups, group_mean / self.group_area, strict=True):
             self.series.setdefault(f"surface:{name}", []).append(float(mean))
-        if out is not None:
-            for key in self.accounts:
-                self.accounts[key].append(self.accounts[key][-1] + out[key])
+        if accounts is not None:
+            for account, totals in self.ledger.items():
+                totals.append(totals[-1] + getattr(accounts, account))
             if self.friction.size:
-                energy_a, energy_b = out["friction"]
                 n_if = len(net.friction_labels)
-                self.friction[:, 0] += np.bincount(net.friction_interface, weights=energy_a, minlength=n_if)
-                self.friction[:, 1] += np.bincount(net.friction_interface, weights=energy_b, minlength=n_if)
+                self.friction[:, 0] += np.bincount(net.friction_interface, weights=accounts.friction_a, minlength=n_if)
+                self.friction[:, 1] += np.bincount(net.friction_interface, weights=accounts.friction_b, minlength=n_if)
 
     def snapshot(self, t: float, T: np.ndarray) -> None:
         if self.snap_times and abs(self.snap_times[-1] - t) < 1e-12:
@@ -88,7 +90,7 @@ class Recorder:
             },
         )
         ledger = EnergyLedger(
-            **{key: np.asarray(v) for key, v in self.accounts.items()},
+            **{account: np.asarray(totals) for account, totals in self.ledger.items()},
             friction_labels=net.friction_labels,
             friction_split=self.friction.copy(),
         )

@@ -1,0 +1,220 @@
+"""The step matrix and what goes into it: cell properties, link conductances, heat sources.
+
+The matrix of one backward-Euler step has a fixed sparsity pattern (every cell, every
+conduction link and every gap-radiation pair), built once per run by
+:func:`csc_pattern`; :class:`StepMatrix` writes the capacities, boundary coefficients
+and conductances of the current iterate into it in place and factorises it. The cell
+material properties (:func:`cell_properties`) and the friction and volumetric heat
+(:class:`HeatSources`) are what the assembly reads.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from ..errors import InputError
+from .network import Network
+from .schedule import Schedule
+
+__all__ = [
+    "CellProperties",
+    "HeatSources",
+    "StepMatrix",
+    "cell_enthalpy",
+    "cell_properties",
+    "cell_temperature",
+    "csc_pattern",
+    "out_of_range_cell",
+]
+
+
+@dataclass(frozen=True, eq=False)
+class CellProperties:
+    """Material properties of every cell at one temperature field.
+
+    Attributes
+    ----------
+    conductivity : ndarray
+        Radial conductivity of every cell, then axial [W/(m K)], shape (2 n,).
+    heat_capacity : ndarray
+        Volumetric heat capacity [J/(m^3 K)].
+    enthalpy : ndarray
+        Volumetric enthalpy [J/m^3].
+    """
+
+    conductivity: np.ndarray
+    heat_capacity: np.ndarray
+    enthalpy: np.ndarray
+
+
+def cell_properties(network: Network, T: np.ndarray) -> CellProperties:
+    """Conductivity, heat capacity and enthalpy of every cell at temperatures ``T`` [K]."""
+    n = network.n_cells
+    conductivity, c, H = np.empty(2 * n), np.empty(n), np.empty(n)
+    for material, block in network.material_blocks:
+        k_r, k_z, c[block], H[block] = material.thermal_properties(T[block])
+        conductivity[block] = k_r
+        conductivity[n + block.start : n + block.stop] = k_z
+    return CellProperties(conductivity=conductivity, heat_capacity=c, enthalpy=H)
+
+
+def cell_enthalpy(network: Network, T: np.ndarray) -> np.ndarray:
+    """Volumetric enthalpy [J/m^3] of every cell at temperatures ``T`` [K]."""
+    H = np.empty(network.n_cells)
+    for material, block in network.material_blocks:
+        H[block] = material.enthalpy(T[block])
+    return H
+
+
+def cell_temperature(network: Network, H: np.ndarray) -> np.ndarray:
+    """Temperature [K] of every cell from its volumetric enthalpy ``H`` [J/m^3] (exact inverse)."""
+    T = np.empty(network.n_cells)
+    for material, block in network.material_blocks:
+        T[block] = material.temperature_from_enthalpy(H[block])
+    return T
+
+
+def out_of_range_cell(network: Network, T: np.ndarray) -> int | None:
+    """The cell lying furthest outside its material's common table range."""
+    n = network.n_cells
+    excess = np.zeros(n)
+    for material, block in network.material_blocks:
+        tables = (
+            material.specific_heat,
+            material.conductivity_in_plane,
+            material.conductivity_through_thickness,
+        )
+        low = max(t.temperature[0] for t in tables)
+        high = min(t.temperature[-1] for t in tables)
+        excess[block] = np.maximum(low - T[block], T[block] - high)
+    excess[~np.isfinite(excess)] = np.inf
+    return int(np.argmax(excess)) if n else None
+
+
+def csc_pattern(n: int, rows: np.ndarray, cols: np.ndarray) -> tuple[sp.csc_matrix, np.ndarray]:
+    """A CSC matrix with the union pattern of (rows, cols) and each entry's data position."""
+    key = cols.astype(np.int64) * n + rows
+    unique, position = np.unique(key, return_inverse=True)
+    indices = (unique % n).astype(np.int32)
+    indptr = np.searchsorted(unique // n, np.arange(n + 1)).astype(np.int32)
+    matrix = sp.csc_matrix((np.zeros(unique.size), indices, indptr), shape=(n, n))
+    return matrix, position
+
+
+class StepMatrix:
+    """The matrix of one step, ``diag(capacity + U) + sum over links of G (e_a - e_b)(e_a - e_b)^T``.
+
+    Parameters
+    ----------
+    network : Network
+    """
+
+    def __init__(self, network: Network):
+        net, n = network, network.n_cells
+        self.net = network
+        # positions of each link end's conductivity in the radial-then-axial stack
+        self.link_a_conductivity = net.link_a + n * net.link_dir
+        self.link_b_conductivity = net.link_b + n * net.link_dir
+        diag = np.arange(n)
+        m, q = net.link_a.size, net.gap_a.size
+        rows = np.concatenate((diag, net.link_a, net.link_b, net.gap_a, net.gap_b))
+        cols = np.concatenate((diag, net.link_b, net.link_a, net.gap_b, net.gap_a))
+        self.matrix, self.position = csc_pattern(n, rows, cols)
+        self.unique_positions = np.unique(self.position).size == self.position.size
+        cuts = np.cumsum([n, m, m, q])
+        self.pos_diag, self.pos_ab, self.pos_ba, self.pos_gap_ab, self.pos_gap_ba = np.split(self.position, cuts)
+        link_ends = np.concatenate((net.link_a, net.link_b, net.gap_a, net.gap_b))
+        # each cell's sum of the conductances of its links and gap pairs, as one mat-vec
+        ends = np.arange(m + q)
+        self.incidence = sp.csr_matrix(
+            (np.ones(2 * (m + q)), (link_ends, np.concatenate((ends[:m], ends[:m], ends[m:], ends[m:])))),
+            shape=(n, m + q),
+        )
+
+    def link_conductances(self, conductivity: np.ndarray, contact: np.ndarray) -> np.ndarray:
+        """Conductance [W/K] of every link: two half-cell resistances and the contact resistance."""
+        net = self.net
+        return 1.0 / (
+            net.link_ga / conductivity[self.link_a_conductivity]
+            + net.link_gb / conductivity[self.link_b_conductivity]
+            + contact
+        )
+
+    def assemble(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
+        """Write the step matrix in place: ``diagonal`` plus the conductances of every link."""
+        data = self.matrix.data
+        diagonal = diagonal + self.incidence @ (np.concatenate((G, G_gap)) if G_gap.size else G)
+        if self.unique_positions:
+            data[self.pos_diag] = diagonal
+            negative = -G
+            data[self.pos_ab] = negative
+            data[self.pos_ba] = negative
+            if G_gap.size:
+                data[self.pos_gap_ab] = -G_gap
+                data[self.pos_gap_ba] = -G_gap
+        else:  # a link and a gap pair share cells: sum the duplicates
+            values = np.concatenate((diagonal, -G, -G, -G_gap, -G_gap))
+            data[:] = np.bincount(self.position, weights=values, minlength=data.size)
+
+    def factorise(self) -> spla.SuperLU:
+        """Sparse LU factors of the matrix as it stands (symmetric mode, fill-reducing order)."""
+        return spla.splu(
+            self.matrix.copy(),
+            permc_spec="MMD_AT_PLUS_A",
+            diag_pivot_thresh=0.0,
+            options={"SymmetricMode": True},
+        )
+
+
+class HeatSources:
+    """Friction heat at the rubbing faces and the schedule's volumetric heat, per cell.
+
+    Parameters
+    ----------
+    network : Network
+    schedule : Schedule
+    """
+
+    def __init__(self, network: Network, schedule: Schedule):
+        self.net, self.schedule = network, schedule
+        j, i = network.grid.cell_ij[:, 0], network.grid.cell_ij[:, 1]
+        self.cell_r, self.cell_z = network.grid.r_centres[i], network.grid.z_centres[j]
+
+    def volumetric(self, time: float) -> np.ndarray | None:
+        """Heat [W] from the schedule's volumetric source into each cell at ``time`` [s]."""
+        source = self.schedule.volumetric_source
+        if source is None:
+            return None
+        density = np.asarray(source(self.cell_r, self.cell_z, time), dtype=float)
+        if density.shape != (self.net.n_cells,) or not np.all(np.isfinite(density)):
+            raise InputError(f"volumetric source at t = {time} s must give one finite value per cell")
+        return density * self.net.volume
+
+    def friction(self, power: float, properties: CellProperties) -> tuple[np.ndarray, np.ndarray]:
+        """Heat [W] into the cell on each side of every rubbing face (effusivity partition).
+
+        Parameters
+        ----------
+        power : float
+            Friction power of the whole model [W].
+        properties : CellProperties
+            Properties of the current iterate (axial conductivity and heat capacity).
+
+        References
+        ----------
+        .. [1] Carslaw, H.S., Jaeger, J.C., Conduction of Heat in Solids, 2nd ed., Oxford,
+           1959, sec. 2.9 (two semi-infinite solids in contact: the flux divides in the
+           ratio of the effusivities sqrt(k rho c)).
+        """
+        net, n = self.net, self.net.n_cells
+        k, c = properties.conductivity, properties.heat_capacity
+        fa, fb = net.friction_a, net.friction_b
+        q = power * net.friction_weight
+        e_a = np.sqrt(k[n + fa] * c[fa])
+        e_b = np.sqrt(k[n + fb] * c[fb])
+        share_a = e_a / (e_a + e_b)
+        return q * share_a, q * (1.0 - share_a)

@@ -1,0 +1,368 @@
+"""One backward-Euler step on enthalpy, solved by a Newton iteration.
+
+Per cell ``i`` of volume ``V_i``::
+
+    V_i [H_i(T^{n+1}) - H_i(T^n)] / dt = sum_links G (T_j - T_i) - U_i (T_i - T_eq,i) + S_i
+
+Every conductance, boundary coefficient and source partition is evaluated at the
+current iterate (:meth:`NewtonStep.linearise`), so the system stays symmetric positive
+definite. Each iteration solves ``J d = -F`` with the factors of a recent ``J`` (one
+triangular solve); the iterates are Anderson-accelerated. When the correction is below
+the tolerance, the new enthalpy is set *from the fluxes at* ``T + d`` and the
+temperature by the exact inverse of ``H``, so every accepted step conserves energy to
+round-off; the step is accepted only if that moves no temperature by more than ten
+tolerances. The step closes with its :class:`~heatstack.numerics.accounts.StepAccounts`.
+
+References
+----------
+.. [1] Voller, V.R., Swaminathan, C.R., 1991, General source-based method for
+   solidification phase change, Numerical Heat Transfer B 19, 175-189 (enthalpy update
+   followed by the inverse temperature-enthalpy relation).
+.. [2] Walker, H.F., Ni, P., 2011, Anderson acceleration for fixed-point iterations,
+   SIAM J. Numer. Anal. 49(4), 1715-1735.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse.linalg as spla
+
+from ..errors import PropertyRangeError
+from .accounts import StepAccounts
+from .assembly import HeatSources, StepMatrix, cell_properties, cell_temperature, out_of_range_cell
+from .boundaries import Boundaries, FaceExchange, GapExchange, SurfaceTemperatures
+from .network import Network
+from .schedule import Phase, Schedule
+
+__all__ = ["NewtonStep", "StepFailed", "StepOutcome"]
+
+
+class StepFailed(Exception):
+    """A step that did not converge or left a property table; the caller cuts the step.
+
+    Parameters
+    ----------
+    reason : str
+    cell : int, optional
+        The cell where it went wrong.
+    at_guess : bool
+        Whether it failed at the extrapolated initial guess.
+    """
+
+    def __init__(self, reason: str, cell: int | None = None, at_guess: bool = False):
+        super().__init__(reason)
+        self.reason, self.cell, self.at_guess = reason, cell, at_guess
+
+
+@dataclass(frozen=True, eq=False)
+class StepOutcome:
+    """An accepted step: the new state, its surfaces and its energy accounts.
+
+    Attributes
+    ----------
+    temperature : ndarray
+        [K] per cell.
+    enthalpy : ndarray
+        [J/m^3] per cell.
+    surfaces : SurfaceTemperatures
+        Surface temperatures [K] at the last Newton iterate, the next step's start.
+    accounts : StepAccounts
+    iterations : int
+        Newton iterations taken.
+    """
+
+    temperature: np.ndarray
+    enthalpy: np.ndarray
+    surfaces: SurfaceTemperatures
+    accounts: StepAccounts
+    iterations: int
+
+
+@dataclass(frozen=True, eq=False)
+class StepFrame:
+    """What stays fixed during one step's iteration.
+
+    Attributes
+    ----------
+    phase : Phase
+        The schedule phase at the middle of the step.
+    time, dt : float
+        End of the step and its length [s].
+    power : float
+        Mean friction power over the step [W].
+    contact : ndarray
+        Contact resistance [K/W] of every link in this phase.
+    volume_rate : ndarray
+        ``V / dt`` of every cell [m^3/s].
+    volume_source : ndarray or None
+        Volumetric source heat [W] per cell at the end of the step.
+    enthalpy : ndarray
+        Enthalpy [J/m^3] at the start of the step.
+    """
+
+    phase: Phase
+    time: float
+    dt: float
+    power: float
+    contact: np.ndarray
+    volume_rate: np.ndarray
+    volume_source: np.ndarray | None
+    enthalpy: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class Linearisation:
+    """The step's linear system at one iterate (the matrix itself is in :class:`StepMatrix`).
+
+    Attributes
+    ----------
+    enthalpy : ndarray
+        [J/m^3] at the iterate.
+    capacity : ndarray
+        ``c V / dt`` [W/K] per cell.
+    source : ndarray
+        Right-hand side [W]: boundary inflow at the equivalent temperatures and heat sources.
+    faces : FaceExchange
+    gaps : GapExchange
+    friction_a, friction_b : ndarray
+        Friction heat [W] into each side of every rubbing face.
+    """
+
+    enthalpy: np.ndarray
+    capacity: np.ndarray
+    source: np.ndarray
+    faces: FaceExchange
+    gaps: GapExchange
+    friction_a: np.ndarray
+    friction_b: np.ndarray
+
+
+class NewtonStep:
+    """Takes backward-Euler steps of one network under one schedule, keeping its factors.
+
+    Parameters
+    ----------
+    network : Network
+    schedule : Schedule
+    tolerance : float
+        Newton stops when the estimated remaining temperature error is below this [K].
+    max_iterations : int
+        Newton iterations before the step fails.
+    stats : dict
+        Run statistics, counted in place (iterations, factorisations, largest finish adjustment).
+    """
+
+    def __init__(self, network: Network, schedule: Schedule, *, tolerance: float, max_iterations: int, stats: dict):
+        self.net, self.schedule = network, schedule
+        self.tolerance, self.max_iterations, self.stats = tolerance, max_iterations, stats
+        self.system = StepMatrix(network)
+        self.boundaries = Boundaries(network)
+        self.sources = HeatSources(network, schedule)
+        self.lu: spla.SuperLU | None = None
+        self.lu_dt: float | None = None
+        self.lu_phase: Phase | None = None
+        self.rate_estimate: float | None = None
+
+    def drop_factors(self) -> None:
+        """Forget the factors, so the next step factorises afresh."""
+        self.lu = None
+
+    def frame(self, t0: float, dt: float, H_n: np.ndarray) -> StepFrame:
+        """The fixed data of the step from ``t0`` over ``dt`` [s] starting at enthalpy ``H_n``."""
+        net = self.net
+        phase = self.schedule.phase_at(t0 + 0.5 * dt)
+        t1 = t0 + dt
+        return StepFrame(
+            phase=phase,
+            time=t1,
+            dt=dt,
+            power=self.schedule.energy(t0, t1) / dt,
+            contact=net.link_contact_clamped if phase.clamped else net.link_contact_released,
+            volume_rate=net.volume / dt,
+            volume_source=self.sources.volumetric(t1),
+            enthalpy=H_n,
+        )
+
+    def step(
+        self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, guess: np.ndarray, surfaces: SurfaceTemperatures
+    ) -> StepOutcome:
+        """Advance one step from ``T_n`` [K], ``H_n`` [J/m^3] at ``t0`` [s]; raises StepFailed.
+
+        ``guess`` [K] is the initial iterate; ``surfaces`` are the last step's surface
+        temperatures, moved with their cells to the guess.
+        """
+        frame = self.frame(t0, dt, H_n)
+        T = guess.copy()
+        previous_change = None
+        surfaces = surfaces.moved(self.net, guess - T_n)
+        # fresh factors when the step size or the phase (cooling laws, contact state) changes
+        refactor = self.lu is None or self.lu_phase is not frame.phase or not (0.75 <= dt / self.lu_dt <= 1.35)
+        fresh = False
+        history: list[tuple[np.ndarray, np.ndarray]] = []
+        for iteration in range(self.max_iterations):
+            system = self.linearise(frame, T, surfaces, iteration)
+            residual = (
+                self.system.matrix @ T
+                - system.capacity * T
+                + frame.volume_rate * (system.enthalpy - H_n)
+                - system.source
+            )
+            if refactor:
+                self.factorise(frame)
+                refactor, fresh = False, True
+            correction = self.lu.solve(-residual)
+            T_star = T + correction
+            change = np.abs(correction)
+            largest = float(change.max()) if change.size else 0.0
+            if not np.isfinite(largest):  # max propagates NaN and inf
+                bad = int(np.flatnonzero(~np.isfinite(T_star))[0])
+                raise StepFailed("non-finite temperature", bad)
+            self.stats["iterations"] += 1
+            if self.converged(largest, previous_change):
+                T_new, H_new = self.conservative_update(T_star, frame, system)
+                adjustment = float(np.max(np.abs(T_new - T_star))) if T_new.size else 0.0
+                if adjustment <= max(10.0 * self.tolerance, 1e-6):
+                    self.stats["largest_finish_adjustment"] = max(
+                        self.stats.get("largest_finish_adjustment", 0.0), adjustment
+                    )
+                    return self.finish(frame, system, T_star, T_new, H_new, iteration)
+                # the fluxes at T_star do not yet balance the cells: iterate on from the
+                # balanced state, with factors of the current coefficients
+                refactor, fresh, previous_change = True, False, None
+                history.clear()
+                T_star = T_new
+            else:
+                T_star = accelerate(history, T, correction)
+            T = T_star
+            surfaces = self.boundaries.surface_temperatures(T, system.faces, system.gaps)
+            if iteration >= 2 and previous_change is not None and largest > 0.3 * previous_change and not fresh:
+                refactor = True  # slow contraction with old factors: refactorise once this step
+            previous_change = largest
+        cell = int(np.argmax(change))
+        raise StepFailed(
+            f"Newton did not converge in {self.max_iterations} iterations (last update {largest:.3g} K)", cell
+        )
+
+    def linearise(
+        self, frame: StepFrame, T: np.ndarray, surfaces: SurfaceTemperatures, iteration: int
+    ) -> Linearisation:
+        """Coefficients and sources at the iterate ``T`` [K], assembled into the step matrix."""
+        net, n = self.net, self.net.n_cells
+        try:
+            properties = cell_properties(net, T)
+            faces = self.boundaries.faces(frame.phase, frame.time, surfaces.face, properties.conductivity)
+            gaps = self.boundaries.gaps(surfaces.gap_a, surfaces.gap_b, properties.conductivity)
+        except PropertyRangeError as exc:
+            raise StepFailed(str(exc), out_of_range_cell(net, T), at_guess=iteration == 0) from None
+        G = self.system.link_conductances(properties.conductivity, frame.contact)
+        U_cell = np.bincount(net.face_cell, weights=faces.transfer, minlength=n)
+        b = np.bincount(net.face_cell, weights=faces.transfer * faces.equivalent_temperature, minlength=n)
+        friction_a, friction_b = self.sources.friction(frame.power, properties)
+        b += np.bincount(net.friction_a, weights=friction_a, minlength=n)
+        b += np.bincount(net.friction_b, weights=friction_b, minlength=n)
+        if frame.volume_source is not None:
+            b += frame.volume_source
+        capacity = properties.heat_capacity * frame.volume_rate
+        self.system.assemble(capacity + U_cell, G, gaps.conductance)
+        return Linearisation(
+            enthalpy=properties.enthalpy,
+            capacity=capacity,
+            source=b,
+            faces=faces,
+            gaps=gaps,
+            friction_a=friction_a,
+            friction_b=friction_b,
+        )
+
+    def factorise(self, frame: StepFrame) -> None:
+        """Factorise the step matrix as it stands, for this step's size and phase."""
+        self.lu = self.system.factorise()
+        self.lu_dt = frame.dt
+        self.lu_phase = frame.phase
+        self.stats["factorisations"] += 1
+
+    def converged(self, largest: float, previous: float | None) -> bool:
+        """Whether the estimated remaining error ``rate / (1 - rate) * |last correction|`` is
+        below the tolerance; the contraction rate is measured from the last two
+        corrections, or on a step's first iteration taken (doubled, for safety) from the
+        previous step. The conservative end-of-step check still guards the result."""
+        tol = self.tolerance
+        if largest <= tol:
+            return True
+        if previous is None or previous <= 0:
+            rate = self.rate_estimate
+            return rate is not None and rate < 0.25 and 2.0 * rate / (1.0 - 2.0 * rate) * largest <= tol
+        rate = largest / previous
+        self.rate_estimate = rate
+        return rate < 0.9 and rate / (1.0 - rate) * largest <= tol
+
+    def conservative_update(
+        self, T_star: np.ndarray, frame: StepFrame, system: Linearisation
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """Enthalpy from the fluxes at ``T_star`` and the temperature by the exact inverse of H.
+
+        The new enthalpy is set so that every cell's balance holds exactly with the
+        step's coefficients and the fluxes at the last Newton iterate, so energy is
+        conserved to round-off; the step is accepted only when ``T_new - T_star`` is of
+        the order of the Newton tolerance.
+        """
+        outflow = self.system.matrix @ T_star - system.capacity * T_star
+        H_new = frame.enthalpy + (system.source - outflow) / frame.volume_rate
+        try:
+            return cell_temperature(self.net, H_new), H_new
+        except PropertyRangeError as exc:
+            raise StepFailed(str(exc), out_of_range_cell(self.net, T_star)) from None
+
+    def finish(
+        self,
+        frame: StepFrame,
+        system: Linearisation,
+        T_star: np.ndarray,
+        T_new: np.ndarray,
+        H_new: np.ndarray,
+        iteration: int,
+    ) -> StepOutcome:
+        """Accounts of an accepted step and the surface temperatures for the next one."""
+        net, dt, faces = self.net, frame.dt, system.faces
+        surfaces = self.boundaries.surface_temperatures(T_star, faces, system.gaps)
+        volume_heat = dt * float(np.sum(frame.volume_source)) if frame.volume_source is not None else 0.0
+        area = net.face_area
+        accounts = StepAccounts(
+            heat_in=frame.power * dt + volume_heat,
+            convected=dt * float(np.sum(faces.convection * area * (surfaces.face - faces.ambient))),
+            radiated=dt * float(np.sum(faces.radiation * area * (surfaces.face - faces.radiation_temperature))),
+            stored=float(np.sum(net.volume * (H_new - frame.enthalpy))),
+            friction_a=system.friction_a * dt,
+            friction_b=system.friction_b * dt,
+        )
+        return StepOutcome(
+            temperature=T_new, enthalpy=H_new, surfaces=surfaces, accounts=accounts, iterations=iteration + 1
+        )
+
+
+def accelerate(history: list, T: np.ndarray, correction: np.ndarray, depth: int = 2) -> np.ndarray:
+    """Anderson-accelerated next iterate of the fixed point ``T -> T + correction(T)``.
+
+    ``history`` holds the last ``depth + 1`` pairs (iterate, correction) and is updated.
+
+    References
+    ----------
+    .. [1] Walker, H.F., Ni, P., 2011, Anderson acceleration for fixed-point
+       iterations, SIAM J. Numer. Anal. 49(4), 1715-1735 (type II, depth ``depth``).
+    """
+    history.append((T, correction))
+    if len(history) > depth + 1:
+        del history[0]
+    if len(history) < 2:
+        return T + correction
+    d_T = np.column_stack([b[0] - a[0] for a, b in zip(history[:-1], history[1:], strict=True)])
+    d_f = np.column_stack([b[1] - a[1] for a, b in zip(history[:-1], history[1:], strict=True)])
+    gram = d_f.T @ d_f
+    try:
+        gamma = np.linalg.solve(gram + 1e-14 * np.trace(gram) * np.eye(gram.shape[0]), d_f.T @ correction)
+    except np.linalg.LinAlgError:
+        history.clear()
+        return T + correction
+    return T + correction - (d_T + d_f) @ gamma
