@@ -29,25 +29,16 @@ from .answers import (  # noqa: E402
     tyre_gas,
     tyre_pressure_margin,
 )
+from .assembly import Assembly
 from .builders import FusePlugSpec, WheelBrakeDesign, build_wheel_brake  # noqa: E402
 from .case import Case, load_case, run_case  # noqa: E402
 from .errors import HeatstackError, InputError, SolverError  # noqa: E402
-from .geometry import (  # noqa: E402
-    Assembly,
-    CellGroup,
-    Contact,
-    FrictionSettings,
-    GapPair,
-    Part,
-    Probe,
-    RubbingPair,
-    SurfaceGroup,
-)
+from .geometry import CellGroup, Contact, FrictionSettings, GapPair, Part, Probe, RubbingPair, SurfaceGroup
 from .material_files import available_materials, load_material  # noqa: E402
 from .materials import Material, simple_material  # noqa: E402
 from .model import Model, simulate  # noqa: E402
+from .numerics.options import SolverOptions  # noqa: E402
 from .numerics.schedule import BoundaryLaw, FixedConvection, Phase, PowerHistory, Schedule  # noqa: E402
-from .numerics.solver import SolverOptions  # noqa: E402
 from .operations.duty import DutyCycle, DutyPhase, Environment  # noqa: E402
 from .operations.heat_input import (  # noqa: E402
     gear_retraction,

@@ -15,18 +15,9 @@ from __future__ import annotations
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field, replace
 
+from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .errors import GeometryError
-from .geometry import (
-    Assembly,
-    Contact,
-    FrictionSettings,
-    Part,
-    Probe,
-    SurfaceGroup,
-    ThermalLink,
-    cell_groups_by_role,
-    rubbing_pairs_by_role,
-)
+from .geometry import Contact, FrictionSettings, Part, Probe, SurfaceGroup, ThermalLink
 from .units import convert_declared, declared
 
 __all__ = [

@@ -18,25 +18,15 @@ from typing import Any
 
 import numpy as np
 
+from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
 from .case_keys import EVENT_KINDS, key_dimension
 from .errors import HeatstackError, InputError
-from .geometry import (
-    HEAT_SINK_MEAN,
-    ROLES,
-    Assembly,
-    Contact,
-    FrictionSettings,
-    Part,
-    Probe,
-    SurfaceGroup,
-    cell_groups_by_role,
-    rubbing_pairs_by_role,
-)
+from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .material_files import material_from_mapping
 from .materials import Material
 from .model import Model
-from .numerics.solver import SolverOptions
+from .numerics.options import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
 from .report import ReportSettings, TyreSettings

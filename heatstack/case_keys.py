@@ -15,7 +15,7 @@ from typing import Any
 
 from .builders import FusePlugSpec, WheelBrakeDesign
 from .geometry import Contact, Part, Probe
-from .numerics.solver import SolverOptions
+from .numerics.options import SolverOptions
 from .operations import heat_input
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent

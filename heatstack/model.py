@@ -15,13 +15,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .assembly import Assembly
 from .errors import GeometryError
-from .geometry import Assembly
 from .materials import Material
 from .numerics.grid import Grid, build_grid
 from .numerics.network import Network, build_network
+from .numerics.options import SolverOptions
 from .numerics.schedule import Schedule
-from .numerics.solver import SolverOptions, integrate
+from .numerics.solver import integrate
 from .result import Result, State
 from .units import quantity
 

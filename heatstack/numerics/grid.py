@@ -11,8 +11,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..assembly import Assembly
 from ..errors import GeometryError
-from ..geometry import Assembly
 
 __all__ = ["Grid", "build_grid"]
 

@@ -21,8 +21,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..assembly import Assembly
 from ..errors import GeometryError, MaterialError
-from ..geometry import Assembly, Part
+from ..geometry import Part
 from ..material_files import load_material
 from ..materials import Material
 from .grid import Grid

@@ -31,10 +31,10 @@ import scipy.sparse.linalg as spla
 
 from ..errors import PropertyRangeError
 from .accounts import StepAccounts
-from .assembly import HeatSources, StepMatrix, cell_properties, cell_temperature, out_of_range_cell
 from .boundaries import Boundaries, FaceExchange, GapExchange, SurfaceTemperatures
 from .network import Network
 from .schedule import Phase, Schedule
+from .step_matrix import HeatSources, StepMatrix, cell_properties, cell_temperature, out_of_range_cell
 
 __all__ = ["NewtonStep", "StepFailed", "StepOutcome"]
 

@@ -22,7 +22,7 @@ from .newton import NewtonStep, StepFailed, StepOutcome
 from .schedule import Schedule
 
 if TYPE_CHECKING:
-    from .solver import SolverOptions
+    from .options import SolverOptions
 
 __all__ = ["StepControl"]
 

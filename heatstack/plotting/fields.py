@@ -19,8 +19,9 @@ from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
 
+from ..assembly import Assembly
 from ..errors import InputError
-from ..geometry import ROLES, Assembly, Part
+from ..geometry import ROLES, Part
 from ..numerics.grid import Grid
 from ..result import Result
 from .common import check_result, check_unit, figure_target, minutes_text, new_figure, save_figure, to_temperature_unit

@@ -70,8 +70,8 @@ from scipy.optimize import least_squares
 from ..errors import HeatstackError, InputError, SolverError
 from ..geometry import SurfaceGroup
 from ..model import Model
+from ..numerics.options import SolverOptions
 from ..numerics.schedule import PowerHistory, Schedule
-from ..numerics.solver import SolverOptions
 from ..operations.duty import DutyCycle
 from ..result import Result, State
 from ..units import to_si

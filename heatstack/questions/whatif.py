@@ -31,7 +31,7 @@ import numpy as np
 from ..errors import InputError
 from ..geometry import HEAT_SINK_MEAN, SurfaceGroup
 from ..model import Model
-from ..numerics.solver import SolverOptions
+from ..numerics.options import SolverOptions
 from ..operations.duty import DutyCycle, DutyPhase, Environment
 from ..operations.heat_input import BrakingEvent
 from ..result import Result, State

@@ -27,9 +27,10 @@ from heatstack import (
     SurfaceGroup,
     simple_material,
 )
+from heatstack.assembly import rubbing_pairs_by_role
 from heatstack.builders import SURFACE_GROUPS, build_wheel_brake
 from heatstack.errors import GeometryError
-from heatstack.geometry import HEAT_SINK, HEAT_SINK_MEAN, ROLES, WHEEL, rubbing_pairs_by_role
+from heatstack.geometry import HEAT_SINK, HEAT_SINK_MEAN, ROLES, WHEEL
 from heatstack.operations.duty import Environment
 from heatstack.operations.environment import FanCooling, MixedConvection, RotatingDisc
 

@@ -14,9 +14,9 @@ import scipy.sparse as sp
 
 from heatstack import Assembly, FixedConvection, Model, Part, Phase, PowerHistory, Schedule, simple_material
 from heatstack.numerics.accounts import LEDGER_ACCOUNTS, StepAccounts
-from heatstack.numerics.assembly import cell_enthalpy, csc_pattern
 from heatstack.numerics.boundaries import SurfaceTemperatures
 from heatstack.numerics.newton import NewtonStep
+from heatstack.numerics.step_matrix import cell_enthalpy, csc_pattern
 from heatstack.result import EnergyLedger
 
 MATERIAL = simple_material(
