@@ -38,9 +38,10 @@ from .analysis import (
     sensitivity,
     study_report,
 )
-from .description import Parameter, Sampling, Study, StudyPlan, plan_study
+from .description import Sampling, Study, StudyPlan, plan_study
 from .distributions import DISTRIBUTIONS, Distribution, LogNormal, Normal, Triangular, TruncatedNormal, Uniform
 from .executors import DaskExecutor, ExecutorError, LocalExecutor, SerialExecutor, StudyExecutor
+from .parameters import Parameter
 from .runner import CaseOutcome, StudyRun, run_study, summarise
 from .store import StudyStore, load_table
 from .studyfile import load_study, study_from_mapping

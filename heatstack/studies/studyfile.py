@@ -15,8 +15,9 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import InputError
-from .description import Parameter, Sampling, Study
+from .description import Sampling, Study
 from .distributions import DISTRIBUTIONS
+from .parameters import Parameter
 
 __all__ = ["study_from_mapping", "load_study"]
 
