@@ -27,10 +27,7 @@ Anderson, J.D., 1999, Aircraft Performance and Design, McGraw-Hill, sect. 6.7
 ISO 2533:1975, Standard Atmosphere (density, through :mod:`.atmosphere`).
 """
 
-from __future__ import annotations
-
 import math
-from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -39,261 +36,23 @@ from scipy.integrate import solve_ivp
 
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
-from ..units import to_si
 from . import atmosphere
+from .roll_inputs import Aircraft, Conditions, Runway, deceleration_target, non_negative
 
 __all__ = [
-    "BRAKING_LEVELS",
-    "Aircraft",
-    "Runway",
-    "Conditions",
     "EnergyAccounts",
     "StopResult",
     "integrate_ground_roll",
     "accelerate",
     "AccelerationRun",
-    "brake_on_ground_speed",
 ]
-
-#: Our own names for target decelerations of the aircraft [m/s^2]; "maximum" is the
-#: friction limit and "none" no braking.
-BRAKING_LEVELS: dict[str, float] = {"gentle": 1.5, "medium": 2.0, "firm": 3.0, "hard": 4.0}
 
 _RTOL = 1e-11
 _MAX_TIME = 3600.0  # a ground roll longer than this is taken as never ending [s]
-_SAMPLES = 1200  # uniform samples of the power history over a stop
+_KNOTS = 100  # uniform intervals of the power history over a stop (each knot is a solver breakpoint)
+_CHECK_SAMPLES = 2000  # samples on which a target deceleration is checked against friction
+_RAMP = 1e-3  # width of the ramp replacing a step of the forces in the power history [s]
 _KT = 1852.0 / 3600.0
-
-
-def _number(value: Any, dimension: str, field: str) -> float:
-    if value is None or isinstance(value, bool):
-        raise InputError(f"{field}: a number or a quantity is required, got {value!r}")
-    number = to_si(value, None, dimension, field)
-    if not math.isfinite(number):
-        raise InputError(f"{field}: must be finite, got {value!r}")
-    return number
-
-
-def _non_negative(value: Any, dimension: str, field: str, positive: bool = False) -> float:
-    number = _number(value, dimension, field)
-    if number < 0 or (positive and number == 0):
-        raise InputError(f"{field}: must be {'> 0' if positive else '>= 0'}, got {value!r}")
-    return number
-
-
-def _table(rows: Any, dimension: str, field: str, speed_field: str) -> tuple[tuple[float, ...], tuple[float, ...]]:
-    """Rows (speed, value) -> strictly increasing speeds [m/s] and values (SI)."""
-    if isinstance(rows, str) or not isinstance(rows, Sequence) or len(rows) < 1:
-        raise InputError(f"{field}: expected rows of ({speed_field}, value), e.g. [['0 kt', '40 kN'], ...]")
-    speeds, values = [], []
-    for k, row in enumerate(rows):
-        if isinstance(row, str) or not isinstance(row, Sequence) or len(row) != 2:
-            raise InputError(f"{field}[{k}]: expected a pair ({speed_field}, value), got {row!r}")
-        speeds.append(_number(row[0], "speed", f"{field}[{k}] speed"))
-        values.append(_non_negative(row[1], dimension, f"{field}[{k}] value"))
-    if any(b <= a for a, b in zip(speeds, speeds[1:], strict=False)):
-        raise InputError(f"{field}: the speeds must increase strictly, got {speeds} m/s")
-    return tuple(speeds), tuple(values)
-
-
-@dataclass(frozen=True)
-class Aircraft:
-    """The aircraft on the ground. Every quantity accepts a number (SI) or a string with a unit.
-
-    Parameters
-    ----------
-    mass : float or str
-        Aircraft mass [kg], > 0.
-    drag_area : float or str
-        Drag coefficient times reference area on the ground, ``C_D S`` [m^2], >= 0.
-    lift_area : float or str
-        ``C_L S`` on the ground before lift dumping [m^2], >= 0.
-    lift_area_dumped : float or str
-        ``C_L S`` after the spoilers deploy [m^2], >= 0.
-    spoiler_time : float or str
-        Time after brake-on at which the spoilers are deployed [s], >= 0.
-    idle_thrust : float or str
-        Total forward (idle) thrust of all engines during the stop [N], >= 0.
-    takeoff_thrust : float or str
-        Total take-off thrust for an acceleration phase [N], >= 0.
-    reverse_thrust : sequence of (speed, force)
-        Reverse thrust of ONE engine over air speed [m/s, N]; speeds increase strictly;
-        held constant beyond the ends.
-    reversers : int
-        Number of serviceable thrust reversers, >= 0.
-    reverse_cancel_speed : float or str
-        Air speed below which reverse thrust is cancelled [m/s], >= 0.
-    braked_wheels : int
-        Number of braked wheels, >= 1.
-    brake_shares : sequence of float, optional
-        Share of the total brake force of each brake (``braked_wheels`` entries, each
-        >= 0, summing to 1): e.g. 0 for an inoperative brake, more for a dragging one.
-        Equal shares when not given.
-    braked_weight_fraction : float
-        Share of the weight on the wheels carried by the braked wheels (0, 1].
-    """
-
-    mass: Any
-    drag_area: Any = 0.0
-    lift_area: Any = 0.0
-    lift_area_dumped: Any = 0.0
-    spoiler_time: Any = 0.0
-    idle_thrust: Any = 0.0
-    takeoff_thrust: Any = 0.0
-    reverse_thrust: Any = ()
-    reversers: int = 0
-    reverse_cancel_speed: Any = 0.0
-    braked_wheels: int = 1
-    brake_shares: Any = None
-    braked_weight_fraction: Any = 1.0
-
-    def __post_init__(self) -> None:
-        put = object.__setattr__
-        put(self, "mass", _non_negative(self.mass, "mass", "aircraft.mass", positive=True))
-        for name in ("drag_area", "lift_area", "lift_area_dumped"):
-            put(self, name, _non_negative(getattr(self, name), "area", f"aircraft.{name}"))
-        put(self, "spoiler_time", _non_negative(self.spoiler_time, "time", "aircraft.spoiler_time"))
-        for name in ("idle_thrust", "takeoff_thrust"):
-            put(self, name, _non_negative(getattr(self, name), "force", f"aircraft.{name}"))
-        put(
-            self,
-            "reverse_cancel_speed",
-            _non_negative(self.reverse_cancel_speed, "speed", "aircraft.reverse_cancel_speed"),
-        )
-        for name, minimum in (("reversers", 0), ("braked_wheels", 1)):
-            value = getattr(self, name)
-            if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
-                raise InputError(f"aircraft.{name}: expected a whole number >= {minimum}, got {value!r}")
-        if self.reverse_thrust is None or len(self.reverse_thrust) == 0:
-            if self.reversers:
-                raise InputError("aircraft.reverse_thrust: a table is needed when reversers > 0")
-            put(self, "reverse_thrust", ((), ()))
-        else:
-            put(self, "reverse_thrust", _table(self.reverse_thrust, "force", "aircraft.reverse_thrust", "air speed"))
-        fraction = _non_negative(self.braked_weight_fraction, "dimensionless", "aircraft.braked_weight_fraction")
-        if not 0 < fraction <= 1:
-            raise InputError(f"aircraft.braked_weight_fraction: must lie in (0, 1], got {fraction}")
-        put(self, "braked_weight_fraction", fraction)
-        put(self, "brake_shares", self._shares())
-
-    def _shares(self) -> tuple[float, ...]:
-        n = self.braked_wheels
-        if self.brake_shares is None:
-            return (1.0 / n,) * n
-        shares = self.brake_shares
-        if isinstance(shares, str) or not isinstance(shares, Sequence) or len(shares) != n:
-            raise InputError(f"aircraft.brake_shares: expected {n} shares (one per braked wheel), got {shares!r}")
-        values = tuple(_non_negative(s, "dimensionless", f"aircraft.brake_shares[{k}]") for k, s in enumerate(shares))
-        if abs(sum(values) - 1.0) > 1e-9:
-            raise InputError(f"aircraft.brake_shares: must sum to 1, got {sum(values):.12g}")
-        return values
-
-
-@dataclass(frozen=True)
-class Runway:
-    """The runway.
-
-    Parameters
-    ----------
-    braking_friction : float or sequence of (speed, float)
-        Tyre-runway friction coefficient available to a braked wheel [-], a constant
-        or a table over ground speed [m/s] (held beyond the ends); for the surface
-        state named in ``surface``.
-    surface : str
-        A label of the surface state for messages, e.g. ``"dry"`` or ``"wet"``.
-    slope : float
-        Gradient in the direction of travel, rise over run [-]; positive uphill.
-    rolling_friction : float
-        Rolling-resistance coefficient of the tyres [-]; 0.02 is a typical paved-runway
-        value in flight-mechanics texts (from memory).
-    """
-
-    braking_friction: Any
-    surface: str = "dry"
-    slope: Any = 0.0
-    rolling_friction: Any = 0.02
-
-    def __post_init__(self) -> None:
-        put = object.__setattr__
-        if isinstance(self.braking_friction, Sequence) and not isinstance(self.braking_friction, str):
-            table = _table(self.braking_friction, "dimensionless", "runway.braking_friction", "ground speed")
-        else:
-            value = _non_negative(self.braking_friction, "dimensionless", "runway.braking_friction")
-            table = ((0.0,), (value,))
-        put(self, "braking_friction", table)
-        if not isinstance(self.surface, str):
-            raise InputError(f"runway.surface: expected a label such as 'dry' or 'wet', got {self.surface!r}")
-        put(self, "slope", _number(self.slope, "dimensionless", "runway.slope"))
-        put(self, "rolling_friction", _non_negative(self.rolling_friction, "dimensionless", "runway.rolling_friction"))
-
-    def friction(self, ground_speed: np.ndarray) -> np.ndarray:
-        """Braking friction coefficient [-] at ground speed [m/s]."""
-        speeds, values = self.braking_friction
-        return np.interp(ground_speed, speeds, values)
-
-
-@dataclass(frozen=True)
-class Conditions:
-    """Wind and air at the runway.
-
-    Parameters
-    ----------
-    headwind : float or str
-        Headwind component [m/s]; a tailwind is negative.
-    pressure_altitude : float or str
-        Pressure altitude of the runway [m].
-    air_temperature : float or str, optional
-        Outside air temperature [K]; or ``temperature_offset`` (ISA + dT) [K]; ISA if neither.
-    temperature_offset : float or str, optional
-        ISA deviation [K].
-    """
-
-    headwind: Any = 0.0
-    pressure_altitude: Any = 0.0
-    air_temperature: Any = None
-    temperature_offset: Any = None
-
-    def __post_init__(self) -> None:
-        put = object.__setattr__
-        put(self, "headwind", _number(self.headwind, "speed", "conditions.headwind"))
-        put(self, "pressure_altitude", _number(self.pressure_altitude, "length", "conditions.pressure_altitude"))
-        if self.air_temperature is not None:
-            put(self, "air_temperature", _number(self.air_temperature, "temperature", "conditions.air_temperature"))
-        if self.temperature_offset is not None:
-            offset = _number(self.temperature_offset, "temperature_difference", "conditions.temperature_offset")
-            put(self, "temperature_offset", offset)
-        temperature = atmosphere.air_temperature_at(
-            self.pressure_altitude, self.air_temperature, self.temperature_offset
-        )
-        put(self, "air_temperature", temperature)
-        put(self, "temperature_offset", None)
-
-    @property
-    def density(self) -> float:
-        """Air density [kg/m^3]: ISO 2533 static pressure over ``R T``."""
-        return float(atmosphere.isa_pressure(self.pressure_altitude)) / (atmosphere.R_ISA * self.air_temperature)
-
-
-def brake_on_ground_speed(speed: Any, speed_kind: str, conditions: Conditions, field: str = "brake_on_speed") -> float:
-    """Ground speed [m/s] from a speed of kind ``"ground"``, ``"true"`` or ``"calibrated"`` (airspeeds).
-
-    Airspeeds become ground speed through the headwind; a calibrated airspeed becomes a
-    true airspeed through the ISO 2533 atmosphere at the conditions' pressure altitude
-    and temperature.
-    """
-    value = _non_negative(speed, "speed", field, positive=True)
-    if speed_kind == "ground":
-        return value
-    if speed_kind == "true":
-        tas = value
-    elif speed_kind == "calibrated":
-        tas = float(atmosphere.true_airspeed(value, conditions.pressure_altitude, conditions.air_temperature))
-    else:
-        raise InputError(f"speed_kind: {speed_kind!r} is not 'ground', 'calibrated' or 'true'")
-    ground = float(atmosphere.ground_speed(tas, conditions.headwind))
-    if ground <= 0:
-        raise InputError(f"{field}: the headwind leaves a ground speed of {ground:.3g} m/s")
-    return ground
 
 
 @dataclass(frozen=True)
@@ -363,20 +122,6 @@ class StopResult:
         return tuple(share * self.accounts.brakes for share in self.brake_shares)
 
 
-def _deceleration_target(braking: Any) -> float | None | str:
-    """A target deceleration [m/s^2], or "maximum" / "none"."""
-    if isinstance(braking, str) and braking in ("maximum", "none"):
-        return braking
-    if isinstance(braking, str) and braking in BRAKING_LEVELS:
-        return BRAKING_LEVELS[braking]
-    if isinstance(braking, str) and not any(ch.isdigit() for ch in braking):
-        names = ", ".join([*BRAKING_LEVELS, "maximum", "none"])
-        raise InputError(
-            f"braking: unknown level {braking!r}; use one of {names} or a deceleration such as '2.5 m/s^2'"
-        )
-    return _non_negative(braking, "acceleration", "braking", positive=True)
-
-
 class _Forces:
     """The forces of the equation of motion, vectorised over samples."""
 
@@ -387,7 +132,7 @@ class _Forces:
         theta = math.atan(runway.slope)
         self.weight_normal, self.weight_along = weight * math.cos(theta), weight * math.sin(theta)
         self.density, self.headwind = conditions.density, conditions.headwind
-        self.target = _deceleration_target(braking)
+        self.target = deceleration_target(braking)
         speeds, thrust = aircraft.reverse_thrust
         self.reverse_speeds = np.asarray(speeds)
         self.reverse_total = aircraft.reversers * np.asarray(thrust)
@@ -460,7 +205,7 @@ def integrate_ground_roll(
         achievable throughout the stop), or a roll that never ends (forward thrust
         exceeds all retarding forces; the speed is named).
     """
-    v0 = _non_negative(brake_on_speed, "speed", "brake_on_speed", positive=True)
+    v0 = non_negative(brake_on_speed, "speed", "brake_on_speed", positive=True)
     if not 0 <= stop_speed < v0:
         raise InputError(f"stop_speed: {stop_speed} m/s must lie in [0, brake-on speed {v0:.4g} m/s)")
     forces = _Forces(
@@ -536,38 +281,70 @@ def _raise_never_ends(forces: _Forces, t: float, y: np.ndarray, reverse_on: bool
     )
 
 
-def _result(
-    forces: _Forces, pieces: list, t_stop: float, y_end: np.ndarray, v0: float, kinetic: float, stop_speed: float
-) -> StopResult:
-    aircraft = forces.aircraft
-    grid = np.linspace(0.0, t_stop, _SAMPLES + 1)
-    bounds = [p[2] for p in pieces] + [t_stop]
+def _sample(pieces: list, grid: np.ndarray, width: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Times, states and reverse flags on ``grid`` and the piece ends.
+
+    A piece that is followed by another also gets a sample ``width`` before its end, so
+    a step of the forces there (lift dumping, reverse cancelled) becomes a short ramp.
+    """
     times, states, flags = [], [], []
     for k, (sol, reverse_on, t0, t1) in enumerate(pieces):
-        inside = grid[(grid >= t0) & (grid < t1)] if k < len(pieces) - 1 else grid[(grid >= t0) & (grid <= t1)]
-        local = np.unique(np.concatenate((inside, sol.ts[(sol.ts >= t0) & (sol.ts <= t1)], [t0, t1])))
-        if k < len(pieces) - 1:
-            local = local[local < t1]  # the next piece starts there
+        last = k == len(pieces) - 1
+        inside = grid[(grid >= t0) & ((grid <= t1) if last else (grid < t1 - width))]
+        ends = [t0, t1] if last else [t0, max(t1 - width, t0 + 0.5 * (t1 - t0))]
+        local = np.unique(np.concatenate((inside, ends)))
         times.append(local)
         states.append(sol(local))
         flags.append(np.full(local.size, reverse_on))
-    t = np.concatenate(times)
-    y = np.concatenate(states, axis=1)
-    reverse_flags = np.concatenate(flags)
-    v = np.maximum(y[0], 0.0)
-    v[-1] = stop_speed
+    return np.concatenate(times), np.concatenate(states, axis=1), np.concatenate(flags)
+
+
+def _exact_energy_history(t: np.ndarray, power: np.ndarray, energy: np.ndarray) -> PowerHistory:
+    """A piecewise-linear power history through the samples whose integral is the energy state.
+
+    Each interval ``[t_i, t_i+1]`` gets a mid-point knot of value
+    ``r_i = 2 e_i / dt_i - (P_i + P_i+1) / 2``, so the trapezoid over its two halves is the
+    interval's integrated brake energy ``e_i`` (to the integration tolerance); ``r_i`` is
+    the true mid-point power to second order. Intervals where ``r_i`` would be negative
+    (a ramp across a step of the forces) keep their trapezoid.
+    """
+    dt = np.diff(t)
+    r = 2.0 * np.diff(energy) / dt - 0.5 * (power[1:] + power[:-1])
+    keep = r >= 0
+    times = np.concatenate((t, 0.5 * (t[1:] + t[:-1])[keep]))
+    values = np.concatenate((power, r[keep]))
+    order = np.argsort(times, kind="stable")
+    return PowerHistory(times[order], values[order])
+
+
+def _brake_force(forces: _Forces, t: np.ndarray, v: np.ndarray, reverse_flags: np.ndarray) -> np.ndarray:
     brakes = np.empty_like(t)
     for on in (True, False):
         mask = reverse_flags == on
         if np.any(mask):
             brakes[mask] = forces.evaluate(t[mask], v[mask], on)[5]
-    _check_target(forces, t, v, reverse_flags)
+    return brakes
+
+
+def _result(
+    forces: _Forces, pieces: list, t_stop: float, y_end: np.ndarray, v0: float, kinetic: float, stop_speed: float
+) -> StopResult:
+    aircraft = forces.aircraft
+    dense = np.concatenate([np.linspace(0.0, t_stop, _CHECK_SAMPLES + 1), *(p[0].ts for p in pieces)])
+    t_check, y_check, flags_check = _sample(pieces, np.unique(dense), 0.0)
+    _check_target(forces, t_check, np.maximum(y_check[0], 0.0), flags_check)
+    width = min(_RAMP, 0.25 * t_stop / _KNOTS)
+    t, y, reverse_flags = _sample(pieces, np.linspace(0.0, t_stop, _KNOTS + 1), width)
+    v = np.maximum(y[0], 0.0)
+    v[-1] = stop_speed
+    brakes = _brake_force(forces, t, v, reverse_flags)
     accounts = EnergyAccounts(kinetic - 0.5 * aircraft.mass * stop_speed**2, *(float(x) for x in y_end[2:]))
-    total = PowerHistory(t, brakes * v)
-    powers = tuple(PowerHistory(t, share * brakes * v) for share in aircraft.brake_shares)
+    total = _exact_energy_history(t, brakes * v, y[2])
+    powers = tuple(PowerHistory(total.times, share * total.powers) for share in aircraft.brake_shares)
+    bounds = [p[2] for p in pieces[1:]]
     notes = (
         f"ground roll from {v0:.4g} m/s in {t_stop:.4g} s over {float(y_end[1]):.4g} m; "
-        f"breakpoints at {', '.join(f'{b:.4g}' for b in bounds[1:-1]) or 'none'} s"
+        f"force steps at {', '.join(f'{b:.4g}' for b in bounds) or 'none'} s"
     )
     return StopResult(
         t, v, y[1], brakes, accounts, float(t_stop), float(y_end[1]), v0, total, powers, aircraft.brake_shares, notes
@@ -627,7 +404,7 @@ def accelerate(aircraft: Aircraft, runway: Runway, conditions: Conditions, to_sp
     InputError
         If the take-off thrust cannot reach the speed (the speed where it stalls is named).
     """
-    v1 = _non_negative(to_speed, "speed", "reject_speed", positive=True)
+    v1 = non_negative(to_speed, "speed", "reject_speed", positive=True)
     forces = _Forces(aircraft, runway, conditions, "none", aircraft.takeoff_thrust)
     before_dump = -1.0  # any time before the spoilers deploy
 

@@ -17,16 +17,9 @@ import numpy as np
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from ..units import to_si
-from .ground_roll import (
-    Aircraft,
-    Conditions,
-    Runway,
-    StopResult,
-    accelerate,
-    brake_on_ground_speed,
-    integrate_ground_roll,
-)
+from .ground_roll import StopResult, accelerate, integrate_ground_roll
 from .heat_input import BrakingEvent
+from .roll_inputs import Aircraft, Conditions, Runway, brake_on_ground_speed
 
 __all__ = ["rejected_takeoff", "landing_roll", "taxi_stop", "event_from_ground_roll"]
 
