@@ -24,9 +24,10 @@ from .geometry import ROLES, Assembly, Contact, FrictionSettings, Part, Probe
 from .materials import Material, material_from_mapping
 from .model import Model
 from .numerics.solver import SolverOptions
-from .operations import heat_input
+from .operations import heat_input, stops
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
+from .operations.roll_inputs import Aircraft, Conditions, Runway
 from .report import ReportSettings, TyreSettings
 from .result import Result
 from .units import to_si
@@ -51,7 +52,13 @@ EVENT_KINDS: dict[str, Callable[..., BrakingEvent]] = {
     "speed_trace": heat_input.stop_from_speed_trace,
     "taxi_snubs": heat_input.taxi_snubs,
     "gear_retraction": heat_input.gear_retraction,
+    "rejected_takeoff": stops.rejected_takeoff,
+    "landing_roll": stops.landing_roll,
+    "taxi_stop": stops.taxi_stop,
 }
+
+#: Sub-tables of a ground-roll event (``[duty.phases.events.aircraft]`` ...) and their records.
+_ROLL_RECORDS = {"aircraft": Aircraft, "runway": Runway, "conditions": Conditions}
 
 
 class _Table:
@@ -405,6 +412,9 @@ def _event(t: _Table, base: Path) -> BrakingEvent:
     allowed = tuple(inspect.signature(function).parameters)
     t.finish(("kind", *allowed))
     kwargs = {key: value for key, value in t.data.items() if key != "kind"}
+    for key, record in _ROLL_RECORDS.items():
+        if key in kwargs and key in allowed:
+            kwargs[key] = _record(record, t.table(key))
     if isinstance(kwargs.get("path_or_rows"), str):
         kwargs["path_or_rows"] = str(base / kwargs["path_or_rows"])
     try:
@@ -418,6 +428,19 @@ def _event(t: _Table, base: Path) -> BrakingEvent:
         raise InputError(f"{t.path}: {kind} needs {', '.join(missing) or 'other keys'} ({exc})") from None
     except HeatstackError as exc:
         raise InputError(f"{t.path}: {exc}") from exc
+
+
+def _record(record: type, table: _Table) -> Any:
+    """A ground-roll input record from its sub-table; unknown keys and bad values name the key path."""
+    names = tuple(f.name for f in fields(record))
+    table.finish(names)
+    try:
+        return record(**table.data)
+    except TypeError:
+        missing = [f.name for f in fields(record) if f.name not in table.data]
+        raise InputError(f"{table.path}: missing {', '.join(missing)}") from None
+    except HeatstackError as exc:
+        raise InputError(f"{table.path}: {exc}") from exc
 
 
 def _duty(table: _Table, base: Path) -> DutyCycle:

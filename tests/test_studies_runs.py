@@ -123,7 +123,7 @@ cell_size = "12 mm"
 target_change = "10 K"
 
 [[study.parameters]]
-path = "duty.phases[0].events[0].mass"
+path = "duty.phases[0].events[0].aircraft.mass"
 name = "mass"
 distribution = "normal"
 mean = "62 t"
