@@ -20,6 +20,8 @@ from .geometry import Assembly, Contact, FrictionSettings, Part, Probe, ThermalL
 
 __all__ = ["WheelBrakeDesign", "FusePlugSpec", "BuiltWheelBrake", "build_wheel_brake", "SURFACE_GROUPS"]
 
+_MAY_BE_ZERO = ("sensor_z_fraction", "wear_fraction", "wear_per_face")  # design floats allowed to be 0
+
 #: The exposed-surface groups of a built wheel and brake, for cooling laws.
 SURFACE_GROUPS = (
     "stack outer diameter",
@@ -73,6 +75,13 @@ class WheelBrakeDesign:
     Every default is INVENTED for the reference design (no real product).
     ``drive_key_conductance`` [W/K] is the conduction path from each rotor's keys through
     the wheel's drive keys into the rim bore (the keys themselves are not meshed).
+
+    Wear: ``wear_fraction`` (0 new .. 1 at the wear limit, ``full_wear_per_face`` [m] worn
+    off each friction face) or ``wear_per_face`` [m] directly. Each rotor and stator loses
+    it on both faces, the pressure and end plates on their one rubbing face; the stack
+    stays against the backing flange, so it starts further outboard and the pistons'
+    extension is meshed as housing (the housing grows by :attr:`stack_wear`). The
+    heat-sink mass falls accordingly.
     """
 
     rotors: int = 4
@@ -127,12 +136,15 @@ class WheelBrakeDesign:
     tyre_bead_rim: float = 800.0
     drive_key_conductance: float = 4.0
     friction_distribution: str = "uniform_pressure"
+    wear_fraction: float = 0.0
+    wear_per_face: float = 0.0
+    full_wear_per_face: float = 0.003
 
     def __post_init__(self) -> None:
         if int(self.rotors) != self.rotors or self.rotors < 1:
             raise GeometryError(f"design: rotors must be a whole number >= 1, got {self.rotors}")
         for name, value in self.__dict__.items():
-            if isinstance(value, float) and not value > 0 and name != "sensor_z_fraction":
+            if isinstance(value, float) and not value > 0 and name not in _MAY_BE_ZERO:
                 raise GeometryError(f"design: {name} must be > 0, got {value}")
         if self.friction_outer_radius <= self.friction_inner_radius:
             raise GeometryError("design: friction_outer_radius must exceed friction_inner_radius")
@@ -140,6 +152,30 @@ class WheelBrakeDesign:
             raise GeometryError("design: torque_tube_inner_radius must be inside the stator bore")
         if not 0.0 <= self.sensor_z_fraction <= 1.0:
             raise GeometryError("design: sensor_z_fraction must lie in [0, 1]")
+        self._check_wear()
+
+    def _check_wear(self) -> None:
+        if not 0.0 <= self.wear_fraction <= 1.0:
+            raise GeometryError(
+                f"design: wear_fraction must lie in [0, 1] (new to fully worn), got {self.wear_fraction}"
+            )
+        if not self.wear_per_face >= 0.0:
+            raise GeometryError(f"design: wear_per_face must be >= 0, got {self.wear_per_face}")
+        if self.wear_fraction > 0 and self.wear_per_face > 0:
+            raise GeometryError("design: wear_fraction and wear_per_face: give one or the other, not both")
+        key = "wear_per_face" if self.wear_per_face > 0 else "wear_fraction"
+        worn = self.worn_per_face
+        for part, thickness, faces in (
+            ("rotor", self.rotor_thickness, 2),
+            ("stator", self.stator_thickness, 2),
+            ("pressure plate", self.pressure_plate_thickness, 1),
+            ("end plate", self.end_plate_thickness, 1),
+        ):
+            if faces * worn >= thickness:
+                raise GeometryError(
+                    f"design: {key}: {worn * 1e3:.3g} mm worn per friction face wears through the {part} "
+                    f"({thickness * 1e3:.3g} mm thick, {faces} friction face{'s' if faces > 1 else ''})"
+                )
 
     def with_changes(self, **changes) -> WheelBrakeDesign:
         """A copy with some fields changed (validated again)."""
@@ -147,6 +183,18 @@ class WheelBrakeDesign:
         if unknown:
             raise GeometryError(f"design: unknown field {unknown[0]!r}")
         return replace(self, **changes)
+
+    # wear -------------------------------------------------------------------------
+    @property
+    def worn_per_face(self) -> float:
+        """Thickness worn off each friction face [m]: ``wear_per_face``, or
+        ``wear_fraction * full_wear_per_face``."""
+        return self.wear_per_face if self.wear_per_face > 0 else self.wear_fraction * self.full_wear_per_face
+
+    @property
+    def stack_wear(self) -> float:
+        """Total thickness the stack has lost [m]: ``4 rotors`` friction faces worn."""
+        return 4 * self.rotors * self.worn_per_face
 
     # derived radii ---------------------------------------------------------------
     @property
@@ -201,11 +249,12 @@ class BuiltWheelBrake:
 
 def _stack(d: WheelBrakeDesign, z0: float) -> tuple[list[Part], float]:
     roles = ["pressure_plate"] + ["rotor", "stator"] * (d.rotors - 1) + ["rotor", "end_plate"]
+    worn = d.worn_per_face
     thickness = {
-        "pressure_plate": d.pressure_plate_thickness,
-        "rotor": d.rotor_thickness,
-        "stator": d.stator_thickness,
-        "end_plate": d.end_plate_thickness,
+        "pressure_plate": d.pressure_plate_thickness - worn,
+        "rotor": d.rotor_thickness - 2 * worn,
+        "stator": d.stator_thickness - 2 * worn,
+        "end_plate": d.end_plate_thickness - worn,
     }
     parts, z, counts = [], z0, {"rotor": 0, "stator": 0}
     for role in roles:
@@ -332,7 +381,7 @@ def build_wheel_brake(
     BuiltWheelBrake
     """
     d = design or WheelBrakeDesign()
-    z_stack0 = d.housing_thickness
+    z_stack0 = d.housing_thickness + d.stack_wear
     stack, z_stack1 = _stack(d, z_stack0)
     z_flange1 = z_stack1 + d.backing_flange_thickness
     z_in = -d.rim_overhang_inboard

@@ -207,3 +207,47 @@ def test_speed_samples_fall_to_rest() -> None:
     roll = integrate_ground_roll(_aircraft(), DRY, Conditions(), 70.0, "maximum")
     assert roll.speeds[0] == 70.0 and roll.speeds[-1] == 0.0
     assert np.all(np.diff(roll.times) > 0) and np.all(np.diff(roll.distances) >= 0)
+
+
+# ------------------------------------------------------------------------ case file and command line
+
+
+def _demo_with(tmp_path, old: str, new: str):
+    from heatstack.cli import demo_case_path
+
+    text = demo_case_path().read_text(encoding="utf-8")
+    assert old in text
+    path = tmp_path / "case.toml"
+    path.write_text(text.replace(old, new), encoding="utf-8")
+    return path
+
+
+def test_check_prints_the_stop_accounts_and_heat_sink_mass(tmp_path, capsys) -> None:
+    from heatstack.cli import main
+
+    path = _demo_with(tmp_path, 'cell_size = "4 mm"', 'cell_size = "12 mm"')
+    assert main(["check", str(path), "--layout", str(tmp_path / "layout.png")]) == 0
+    out = capsys.readouterr().out
+    for text in ("kinetic energy removed", "reverse thrust", "rolling resistance", "closure", "energy per brake"):
+        assert text in out
+    assert "heat-sink mass:" in out and " m in " in out
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "key"),
+    [
+        ('mass = "70 t"', 'mass = "-70 t"', "aircraft.mass"),
+        ('["60 kt", "22 kN"]', '["0 kt", "22 kN"]', "aircraft.reverse_thrust"),
+        ('braking = "maximum"', 'braking = "4.5 m/s^2"', "achievable"),
+        ('idle_thrust = "9 kN"', 'idle_thrust = "900 kN"', "never ends"),
+        ("rotors = 4", 'rotors = 4\nwear_per_face = "9.5 mm"', "wear_per_face"),
+        ("slope = -0.005", "slop = -0.005", "did you mean 'slope'"),
+    ],
+)
+def test_bad_ground_roll_case_exits_2_naming_the_key(tmp_path, capsys, old, new, key) -> None:
+    from heatstack.cli import main
+
+    path = _demo_with(tmp_path, old, new)
+    assert main(["check", str(path), "--layout", str(tmp_path / "layout.png")]) == 2
+    err = capsys.readouterr().err
+    assert key in err and "Traceback" not in err
