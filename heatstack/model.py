@@ -75,8 +75,11 @@ class Model:
         """Integrate ``schedule`` from ``initial_temperature`` [K] (or a saved State).
 
         ``progress``, if given, is called with the simulated time [s] after every step.
+        The result's metadata states the heat-sink mass used (``heat_sink_mass_kg``).
         """
-        return integrate(self.network, schedule, initial_temperature, options, progress)
+        result = integrate(self.network, schedule, initial_temperature, options, progress)
+        result.metadata["heat_sink_mass_kg"] = float(self.network.mass()[self.network.heat_sink].sum())
+        return result
 
 
 def simulate(

@@ -101,6 +101,7 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         "caution": CAUTION,
         "temperature_unit": unit,
         "end_of_braking_min": _minutes(result.end_of_heating),
+        "heat_sink_mass_kg": result.metadata.get("heat_sink_mass_kg"),
         "phases": [{"name": n, "start_min": _minutes(a), "end_min": _minutes(b)} for n, a, b in result.phases],
     }
     names = list(result.readings) + [s for s in ("heat_sink_mean", "heat_sink_max", "wheel_max") if s in result.series]
@@ -267,6 +268,8 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
         f"> {report['caution']}" if md else report["caution"],
     ]
     lines += ["", f"End of braking: {report['end_of_braking_min']} min."]
+    if report.get("heat_sink_mass_kg") is not None:
+        lines += [f"Heat-sink mass: {report['heat_sink_mass_kg']:.2f} kg."]
     lines += heading(f"Peak temperatures [{u}]")
     lines += _table(
         report["peaks"],

@@ -13,6 +13,7 @@ from heatstack.errors import GeometryError
 from heatstack.geometry import HEAT_SINK_ROLES
 from heatstack.operations.duty import DutyCycle, DutyPhase, Environment
 from heatstack.operations.heat_input import stop_from_energy
+from heatstack.report import build_report, format_report
 
 
 def _stack_parts(built):
@@ -68,6 +69,8 @@ def test_worn_heat_sink_runs_hotter_by_the_mass_ratio() -> None:
         result = model.run(duty.schedule(built.length_scales), 288.15)
         rises.append(peak(result, "heat_sink_mean").temperature - 288.15)
         masses.append(float(model.network.mass()[model.network.heat_sink].sum()))
+        assert result.metadata["heat_sink_mass_kg"] == masses[-1]
+        assert f"Heat-sink mass: {masses[-1]:.2f} kg." in format_report(build_report(result))
     mass_ratio = masses[0] / masses[1]
     assert masses[1] < masses[0]
     assert rises[1] > rises[0]
