@@ -55,6 +55,7 @@ EVENT_KINDS: dict[str, Callable[..., BrakingEvent]] = {
     "rejected_takeoff": stops.rejected_takeoff,
     "landing_roll": stops.landing_roll,
     "taxi_stop": stops.taxi_stop,
+    "speed_trace_roll": stops.speed_trace_roll,
 }
 
 #: Sub-tables of a ground-roll event (``[duty.phases.events.aircraft]`` ...) and their records.

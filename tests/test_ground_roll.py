@@ -10,9 +10,9 @@ import pytest
 from heatstack.errors import InputError
 from heatstack.operations import atmosphere as atm
 from heatstack.operations.duty import DutyCycle, DutyPhase
-from heatstack.operations.ground_roll import integrate_ground_roll
+from heatstack.operations.ground_roll import ground_roll_from_speed_trace, integrate_ground_roll
 from heatstack.operations.roll_inputs import Aircraft, Conditions, Runway, brake_on_ground_speed
-from heatstack.operations.stops import landing_roll, rejected_takeoff, taxi_stop
+from heatstack.operations.stops import landing_roll, rejected_takeoff, speed_trace_roll, taxi_stop
 
 KT = 1852.0 / 3600.0  # [m/s], exact
 
@@ -251,3 +251,40 @@ def test_bad_ground_roll_case_exits_2_naming_the_key(tmp_path, capsys, old, new,
     assert main(["check", str(path), "--layout", str(tmp_path / "layout.png")]) == 2
     err = capsys.readouterr().err
     assert key in err and "Traceback" not in err
+
+
+# ------------------------------------------------------------------------ recorded speed traces
+
+
+def test_speed_trace_of_brakes_alone_gives_half_m_v_squared() -> None:
+    # Kinematics: a linear trace with no other force puts m V0^2 / 2 into the brakes.
+    aircraft = Aircraft(mass="60 t", braked_wheels=4)
+    runway = Runway(braking_friction=1.0, rolling_friction=0.0)
+    roll = ground_roll_from_speed_trace(aircraft, runway, Conditions(), [(0.0, 70.0), (10.0, 45.0), (28.0, 0.0)])
+    assert roll.accounts.brakes == pytest.approx(0.5 * 60e3 * 70.0**2, rel=1e-12)
+    assert roll.brake_power.total_energy == pytest.approx(roll.accounts.brakes, rel=1e-9)
+    assert roll.stopping_distance == pytest.approx(0.5 * 25 * 10 + 45 * 10 + 0.5 * 45 * 18, rel=1e-12)
+
+
+def test_speed_trace_of_an_integrated_roll_recovers_its_brake_energy() -> None:
+    # Consistency: the trace of an integrated stop, read back, gives the same brake energy
+    # (to the trace's sampling) and accounts that close to round-off.
+    conditions = Conditions(headwind="-6 kt", pressure_altitude="1000 ft")
+    roll = integrate_ground_roll(_aircraft(), DRY, conditions, 70.0, "medium")
+    rows = list(zip(roll.times, roll.speeds, strict=True))
+    back = ground_roll_from_speed_trace(_aircraft(), DRY, conditions, rows)
+    acc = back.accounts
+    assert abs(acc.closure) < 1e-11 * acc.kinetic_energy_removed
+    assert acc.brakes == pytest.approx(roll.accounts.brakes, rel=2e-3)
+    assert acc.reverse_thrust == pytest.approx(roll.accounts.reverse_thrust, rel=2e-2)
+    event = speed_trace_roll(_aircraft(), DRY, rows, conditions, start="3 s")
+    assert event.start == 3.0 and event.energy_per_brake == pytest.approx(acc.brakes / 4, rel=1e-9)
+
+
+def test_speed_trace_slower_than_the_forces_reports_extra_propulsion() -> None:
+    # A trace that coasts at constant speed needs a push against drag and rolling resistance.
+    roll = ground_roll_from_speed_trace(
+        _aircraft(reversers=0, idle_thrust=0.0), DRY, Conditions(), [(0, 10.0), (5, 10.0)]
+    )
+    assert roll.accounts.brakes == 0.0 and roll.accounts.extra_propulsion > 0
+    assert abs(roll.accounts.closure) < 1e-6

@@ -37,6 +37,7 @@ from scipy.integrate import solve_ivp
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from . import atmosphere
+from .heat_input import read_speed_trace
 from .roll_inputs import Aircraft, Conditions, Runway, deceleration_target, non_negative
 
 __all__ = [
@@ -45,6 +46,7 @@ __all__ = [
     "integrate_ground_roll",
     "accelerate",
     "AccelerationRun",
+    "ground_roll_from_speed_trace",
 ]
 
 _RTOL = 1e-11
@@ -60,7 +62,10 @@ class EnergyAccounts:
     """Where the kinetic energy of a ground roll went [J].
 
     ``kinetic_energy_removed = brakes + reverse_thrust + drag + rolling_resistance
-    + potential_energy - forward_thrust`` to the integration tolerance.
+    + potential_energy - forward_thrust - extra_propulsion`` to the integration tolerance.
+    ``extra_propulsion`` is zero for an integrated roll; for a recorded speed trace it is
+    the work the trace needs beyond the modelled forces where it slows less than they
+    alone would slow it (see :func:`ground_roll_from_speed_trace`).
     """
 
     kinetic_energy_removed: float
@@ -70,12 +75,13 @@ class EnergyAccounts:
     rolling_resistance: float
     potential_energy: float
     forward_thrust: float
+    extra_propulsion: float = 0.0
 
     @property
     def closure(self) -> float:
         """Kinetic energy removed minus the sum of the terms [J]."""
         terms = self.brakes + self.reverse_thrust + self.drag + self.rolling_resistance + self.potential_energy
-        return self.kinetic_energy_removed - (terms - self.forward_thrust)
+        return self.kinetic_energy_removed - (terms - self.forward_thrust - self.extra_propulsion)
 
 
 @dataclass(frozen=True, eq=False)
@@ -432,3 +438,75 @@ def accelerate(aircraft: Aircraft, runway: Runway, conditions: Conditions, to_sp
             f"the retarding forces balance it at {v:.4g} m/s ({v / _KT:.4g} kt)"
         )
     return AccelerationRun(float(solution.t[-1]), float(solution.y[1, -1]), v1)
+
+
+_GAUSS_NODES, _GAUSS_WEIGHTS = np.polynomial.legendre.leggauss(6)
+_TRACE_SUBDIVISIONS = 4  # power-history intervals per trace interval
+
+
+def ground_roll_from_speed_trace(
+    aircraft: Aircraft, runway: Runway, conditions: Conditions, path_or_rows: Any
+) -> StopResult:
+    """The brakes' share of a recorded ground-speed trace, from the equation of motion.
+
+    On each trace interval the speed is linear (deceleration ``a`` constant); the brake
+    force is what the recorded deceleration leaves after the modelled forces,
+    ``F_b = max(m a - (F_rev + D + F_roll + W sin(theta) - T_fwd), 0)``; reverse thrust
+    acts wherever the air speed is at or above the cancel speed. Every work term is a
+    6-point Gauss-Legendre sum on each sub-interval, so the accounts close to round-off;
+    where the trace slows less than the modelled forces alone would slow it, the missing
+    push is reported as ``extra_propulsion``. The trace's first sample is brake-on (0 s).
+
+    Parameters
+    ----------
+    aircraft, runway, conditions : Aircraft, Runway, Conditions
+    path_or_rows : str or os.PathLike or text stream or rows
+        The trace, read by :func:`heatstack.operations.heat_input.read_speed_trace`.
+    """
+    t_trace, v_trace = read_speed_trace(path_or_rows)
+    t_trace = t_trace - t_trace[0]
+    forces = _Forces(aircraft, runway, conditions, "none", aircraft.idle_thrust)
+    cancel = aircraft.reverse_cancel_speed - conditions.headwind
+    accel = -np.diff(v_trace) / np.diff(t_trace)
+    knots, owner = _trace_knots(t_trace, aircraft.spoiler_time)
+    left, right = knots[:-1], knots[1:]
+    mid, half = 0.5 * (left + right), 0.5 * (right - left)
+    tq = mid[:, None] + half[:, None] * _GAUSS_NODES[None, :]
+    a = accel[owner][:, None] * np.ones_like(tq)
+    vq = np.interp(tq, t_trace, v_trace)
+    works = _trace_forces(forces, tq, vq, a, cancel)
+    weights = (half[:, None] * _GAUSS_WEIGHTS[None, :]) * vq
+    energies = [np.sum(f * weights, axis=1) for f in works]  # per sub-interval [J]
+    v_knots = np.interp(knots, t_trace, v_trace)
+    a_knots = np.append(accel[owner], accel[owner[-1]])
+    brake_at_knots = _trace_forces(forces, knots, v_knots, a_knots, cancel)[0]
+    totals = [float(np.sum(e)) for e in energies]
+    kinetic = float(np.sum(aircraft.mass * accel[owner][:, None] * weights))
+    accounts = EnergyAccounts(kinetic, *totals)
+    brake_energy = np.concatenate(([0.0], np.cumsum(energies[0])))
+    total = _exact_energy_history(knots, brake_at_knots * v_knots, brake_energy)
+    powers = tuple(PowerHistory(total.times, share * total.powers) for share in aircraft.brake_shares)
+    distances = np.concatenate(([0.0], np.cumsum(0.5 * (v_knots[1:] + v_knots[:-1]) * np.diff(knots))))
+    notes = f"speed trace of {t_trace.size} samples, {float(t_trace[-1]):.4g} s"
+    return StopResult(
+        knots, v_knots, distances, brake_at_knots, accounts, float(t_trace[-1]), float(distances[-1]),
+        float(v_trace[0]), total, powers, aircraft.brake_shares, notes,
+    )  # fmt: skip
+
+
+def _trace_knots(t_trace: np.ndarray, spoiler_time: float) -> tuple[np.ndarray, np.ndarray]:
+    """Sub-interval knots of a trace (and the spoiler time), with the trace interval each starts in."""
+    parts = [np.linspace(a, b, _TRACE_SUBDIVISIONS + 1)[:-1] for a, b in zip(t_trace[:-1], t_trace[1:], strict=True)]
+    knots = np.concatenate([*parts, t_trace[-1:]])
+    if t_trace[0] < spoiler_time < t_trace[-1]:
+        knots = np.unique(np.append(knots, spoiler_time))
+    owner = np.clip(np.searchsorted(t_trace, knots[:-1], side="right") - 1, 0, t_trace.size - 2)
+    return knots, owner
+
+
+def _trace_forces(forces: _Forces, t: np.ndarray, v: np.ndarray, a: np.ndarray, cancel: float) -> list[np.ndarray]:
+    """[brakes, reverse, drag, rolling, gravity, forward, extra propulsion] [N] along a trace."""
+    forward, reverse, drag, rolling, gravity, _, _ = forces.evaluate(t, v, True)
+    reverse = np.where(v >= cancel, reverse, 0.0)
+    residual = forces.mass * a - (reverse + drag + rolling + gravity - forward)
+    return [np.maximum(residual, 0.0), reverse, drag, rolling, gravity, forward, np.maximum(-residual, 0.0)]

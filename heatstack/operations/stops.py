@@ -17,11 +17,11 @@ import numpy as np
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from ..units import to_si
-from .ground_roll import StopResult, accelerate, integrate_ground_roll
+from .ground_roll import StopResult, accelerate, ground_roll_from_speed_trace, integrate_ground_roll
 from .heat_input import BrakingEvent
 from .roll_inputs import Aircraft, Conditions, Runway, brake_on_ground_speed
 
-__all__ = ["rejected_takeoff", "landing_roll", "taxi_stop", "event_from_ground_roll"]
+__all__ = ["rejected_takeoff", "landing_roll", "taxi_stop", "speed_trace_roll", "event_from_ground_roll"]
 
 
 def event_from_ground_roll(
@@ -164,4 +164,28 @@ def taxi_stop(
         raise InputError(f"end_speed: {v1:.4g} m/s must lie in [0, taxi_speed {v0:.4g} m/s)")
     idle = replace(aircraft, reversers=0, reverse_thrust=())
     roll = integrate_ground_roll(idle, runway, conditions, v0, braking, stop_speed=v1)
+    return event_from_ground_roll(roll, name, _start(start), modelled_brake)
+
+
+def speed_trace_roll(
+    aircraft: Aircraft,
+    runway: Runway,
+    path_or_rows: Any,
+    conditions: Conditions | None = None,
+    *,
+    modelled_brake: int = 1,
+    start: Any = 0.0,
+    name: str = "speed trace",
+) -> BrakingEvent:
+    """A recorded ground-speed trace whose brake force follows from the equation of motion.
+
+    Parameters
+    ----------
+    path_or_rows : str or os.PathLike or text stream or rows
+        The trace (see :func:`heatstack.operations.heat_input.read_speed_trace`); its
+        first sample is brake-on, moved to ``start``.
+
+    Other parameters are those of :func:`rejected_takeoff`.
+    """
+    roll = ground_roll_from_speed_trace(aircraft, runway, conditions or Conditions(), path_or_rows)
     return event_from_ground_roll(roll, name, _start(start), modelled_brake)
