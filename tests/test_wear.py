@@ -79,3 +79,30 @@ def test_worn_heat_sink_runs_hotter_by_the_mass_ratio() -> None:
     )
     assert rises[1] / rises[0] == pytest.approx(mass_ratio, rel=0.05)
     assert time.perf_counter() - started < 10.0
+
+
+def test_a_study_varies_wear_and_reversers_of_the_demo() -> None:
+    from pathlib import Path
+
+    from heatstack.case import case_from_mapping
+    from heatstack.studies import Parameter, Sampling, Study, plan_study
+
+    demo = Path(__file__).resolve().parents[1] / "examples" / "demo_rto.toml"
+    plan = plan_study(
+        Study(
+            demo,
+            [
+                Parameter("assembly.design.wear_fraction", values=[0.0, 1.0], name="wear"),
+                Parameter("duty.phases[0].events[0].aircraft.reversers", values=[0, 2], name="reversers"),
+            ],
+            Sampling("grid"),
+        )
+    )
+    energies, shifts = {}, {}
+    for k in range(len(plan.samples)):
+        case = case_from_mapping(plan.case_mapping(k), "", "<study>", demo.parent)
+        wear, reversers = plan.samples[k]
+        energies[(wear, reversers)] = case.duty.phases[0].events[0].energy_per_brake
+        shifts[(wear, reversers)] = case.built.stack_z[0]
+    assert energies[(0.0, 0.0)] > energies[(0.0, 2.0)] and energies[(1.0, 0.0)] == energies[(0.0, 0.0)]
+    assert shifts[(1.0, 0.0)] > shifts[(0.0, 0.0)]
