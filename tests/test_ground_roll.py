@@ -288,3 +288,11 @@ def test_speed_trace_slower_than_the_forces_reports_extra_propulsion() -> None:
     )
     assert roll.accounts.brakes == 0.0 and roll.accounts.extra_propulsion > 0
     assert abs(roll.accounts.closure) < 1e-6
+
+
+def test_no_reverse_thrust_below_the_cancel_speed() -> None:
+    # Brake-on already below the 60 kt cancel speed: the reversers give nothing.
+    slow = integrate_ground_roll(_aircraft(), DRY, Conditions(), 50 * KT, "medium")
+    assert slow.accounts.reverse_thrust == 0.0
+    fast = integrate_ground_roll(_aircraft(), DRY, Conditions(), 70 * KT, "medium")
+    assert fast.accounts.reverse_thrust > 0.0

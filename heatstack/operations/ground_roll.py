@@ -219,7 +219,7 @@ def integrate_ground_roll(
     )
     kinetic = 0.5 * aircraft.mass * v0**2
     scale = np.array([v0, v0 * 60.0, *([kinetic] * 6)])
-    reverse_on = bool(aircraft.reversers)
+    reverse_on = bool(aircraft.reversers) and v0 > aircraft.reverse_cancel_speed - conditions.headwind
     t, y = 0.0, np.array([v0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0])
     pieces: list[tuple[Any, bool, float, float]] = []
     _check_moving(forces, t, y, reverse_on)
