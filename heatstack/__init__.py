@@ -47,6 +47,8 @@ from .operations.heat_input import (  # noqa: E402
     stop_from_speed_trace,
     taxi_snubs,
 )
+from .operations.roll_inputs import Aircraft, Conditions, Runway  # noqa: E402
+from .operations.stops import landing_roll, rejected_takeoff, taxi_stop  # noqa: E402
 from .questions import cooling_time_from_state, estimate_energy, predict_from_estimate, what_if  # noqa: E402
 from .report import ReportSettings, TyreSettings, build_report, format_report  # noqa: E402
 from .result import EnergyLedger, Result, State  # noqa: E402
@@ -54,10 +56,12 @@ from .resultfile import write_result  # noqa: E402
 from .resultread import read_result  # noqa: E402
 
 __all__ = [
+    "Aircraft",
     "Assembly",
     "BoundaryLaw",
     "Case",
     "CellGroup",
+    "Conditions",
     "Contact",
     "DutyCycle",
     "DutyPhase",
@@ -78,6 +82,7 @@ __all__ = [
     "ReportSettings",
     "Result",
     "RubbingPair",
+    "Runway",
     "Schedule",
     "SolverError",
     "SolverOptions",
@@ -95,10 +100,12 @@ __all__ = [
     "estimate_energy",
     "format_report",
     "gear_retraction",
+    "landing_roll",
     "load_case",
     "load_material",
     "predict_from_estimate",
     "read_result",
+    "rejected_takeoff",
     "run_case",
     "sensor_lag",
     "simple_material",
@@ -107,6 +114,7 @@ __all__ = [
     "stop_from_energy",
     "stop_from_speed_trace",
     "taxi_snubs",
+    "taxi_stop",
     "tyre_gas",
     "tyre_pressure_margin",
     "what_if",

@@ -143,6 +143,13 @@ class WheelBrakeDesign:
         the end plate [-].
     sensor_time_constant : float
         First-order lag of the sensor behind the metal around it [s].
+    wear_fraction : float
+        Wear state from 0 (new) to 1 (at the wear limit, ``full_wear_per_face`` worn off each
+        friction face) [-].
+    wear_per_face : float
+        Thickness worn off each friction face [m], instead of ``wear_fraction``.
+    full_wear_per_face : float
+        Thickness each friction face loses between new and the wear limit [m] (invented default).
     fuse_plugs : tuple of FusePlugSpec
         Fuse plugs in the rim.
     rotor_stator_clamped, rotor_stator_released : float
@@ -162,6 +169,13 @@ class WheelBrakeDesign:
         If ``rotors`` is not a whole number >= 1, a length is not > 0, the friction radii
         are out of order, the torque tube is not inside the stator bore, or
         ``sensor_z_fraction`` is outside [0, 1].
+
+    Wear: ``wear_fraction`` (0 new .. 1 at the wear limit, ``full_wear_per_face`` [m] worn
+    off each friction face) or ``wear_per_face`` [m] directly. Each rotor and stator loses
+    it on both faces, the pressure and end plates on their one rubbing face; the stack
+    stays against the backing flange, so it starts further outboard and the pistons'
+    extension is meshed as housing (the housing grows by :attr:`stack_wear`). The
+    heat-sink mass falls accordingly.
     """
 
     rotors: int = 4
@@ -216,6 +230,9 @@ class WheelBrakeDesign:
     tyre_bead_rim: float = declared("heat_transfer_coefficient", 800.0, positive=True)
     drive_key_conductance: float = declared("thermal_conductance", 4.0, positive=True)
     friction_distribution: str = "uniform_pressure"
+    wear_fraction: float = declared("dimensionless", 0.0, minimum=0.0, maximum=1.0)
+    wear_per_face: float = declared("length", 0.0, minimum=0.0)
+    full_wear_per_face: float = declared("length", 0.003, positive=True)
 
     def __post_init__(self) -> None:
         if int(self.rotors) != self.rotors or self.rotors < 1:
@@ -225,6 +242,24 @@ class WheelBrakeDesign:
             raise GeometryError("design: friction_outer_radius must exceed friction_inner_radius")
         if self.torque_tube_inner_radius >= self.friction_inner_radius - self.stator_key_height:
             raise GeometryError("design: torque_tube_inner_radius must be inside the stator bore")
+        self._check_wear()
+
+    def _check_wear(self) -> None:
+        if self.wear_fraction > 0 and self.wear_per_face > 0:
+            raise GeometryError("design: wear_fraction and wear_per_face: give one or the other, not both")
+        key = "wear_per_face" if self.wear_per_face > 0 else "wear_fraction"
+        worn = self.worn_per_face
+        for part, thickness, faces in (
+            ("rotor", self.rotor_thickness, 2),
+            ("stator", self.stator_thickness, 2),
+            ("pressure plate", self.pressure_plate_thickness, 1),
+            ("end plate", self.end_plate_thickness, 1),
+        ):
+            if faces * worn >= thickness:
+                raise GeometryError(
+                    f"design: {key}: {worn * 1e3:.3g} mm worn per friction face wears through the {part} "
+                    f"({thickness * 1e3:.3g} mm thick, {faces} friction face{'s' if faces > 1 else ''})"
+                )
 
     def with_changes(self, **changes) -> WheelBrakeDesign:
         """A copy with some fields changed (validated again)."""
@@ -232,6 +267,18 @@ class WheelBrakeDesign:
         if unknown:
             raise GeometryError(f"design: unknown field {unknown[0]!r}")
         return replace(self, **changes)
+
+    # wear -------------------------------------------------------------------------
+    @property
+    def worn_per_face(self) -> float:
+        """Thickness worn off each friction face [m]: ``wear_per_face``, or
+        ``wear_fraction * full_wear_per_face``."""
+        return self.wear_per_face if self.wear_per_face > 0 else self.wear_fraction * self.full_wear_per_face
+
+    @property
+    def stack_wear(self) -> float:
+        """Total thickness the stack has lost [m]: ``4 rotors`` friction faces worn."""
+        return 4 * self.rotors * self.worn_per_face
 
     # derived radii ---------------------------------------------------------------
     @property
@@ -284,11 +331,12 @@ class BuiltWheelBrake:
 
 def _stack(d: WheelBrakeDesign, z0: float) -> tuple[list[Part], float]:
     roles = ["pressure_plate"] + ["rotor", "stator"] * (d.rotors - 1) + ["rotor", "end_plate"]
+    worn = d.worn_per_face
     thickness = {
-        "pressure_plate": d.pressure_plate_thickness,
-        "rotor": d.rotor_thickness,
-        "stator": d.stator_thickness,
-        "end_plate": d.end_plate_thickness,
+        "pressure_plate": d.pressure_plate_thickness - worn,
+        "rotor": d.rotor_thickness - 2 * worn,
+        "stator": d.stator_thickness - 2 * worn,
+        "end_plate": d.end_plate_thickness - worn,
     }
     parts, z, counts = [], z0, {"rotor": 0, "stator": 0}
     for role in roles:
@@ -437,7 +485,7 @@ def build_wheel_brake(
         If a part given by hand overlaps the built parts or a probe lies outside every part.
     """
     d = design or WheelBrakeDesign()
-    z_stack0 = d.housing_thickness
+    z_stack0 = d.housing_thickness + d.stack_wear
     stack, z_stack1 = _stack(d, z_stack0)
     z_flange1 = z_stack1 + d.backing_flange_thickness
     z_in = -d.rim_overhang_inboard

@@ -20,7 +20,7 @@ import numpy as np
 
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
-from .case_keys import EVENT_KINDS, key_dimension
+from .case_keys import EVENT_KINDS, ROLL_RECORDS, key_dimension
 from .errors import HeatstackError, InputError
 from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .material_files import material_from_mapping
@@ -377,6 +377,9 @@ def _event(t: _Table, base: Path) -> BrakingEvent:
     allowed = tuple(inspect.signature(function).parameters)
     t.finish(("kind", *allowed))
     kwargs = {key: value for key, value in t.data.items() if key != "kind"}
+    for key, record in ROLL_RECORDS.items():
+        if key in kwargs and key in allowed:
+            kwargs[key] = _record(record, t.table(key))
     if isinstance(kwargs.get("path_or_rows"), str):
         kwargs["path_or_rows"] = str(base / kwargs["path_or_rows"])
     try:
@@ -390,6 +393,23 @@ def _event(t: _Table, base: Path) -> BrakingEvent:
         raise InputError(f"{t.path}: {kind} needs {', '.join(missing) or 'other keys'} ({exc})") from None
     except HeatstackError as exc:
         raise InputError(f"{t.path}: {exc}") from exc
+
+
+def _record(record: type, table: _Table) -> Any:
+    """A ground-roll input record from its sub-table; unknown keys and bad values name the key path."""
+    names = tuple(f.name for f in fields(record))
+    table.finish(names)
+    try:
+        return record(**table.data)
+    except TypeError:
+        missing = [f.name for f in fields(record) if f.name not in table.data]
+        raise InputError(f"{table.path}: missing {', '.join(missing)}") from None
+    except HeatstackError as exc:
+        message, own = str(exc), f"{table.path.rsplit('.', 1)[-1]}: "
+        if message.startswith(own):  # "aircraft: mass: ..." -> "<path>.aircraft.mass: ..."
+            head, _, rest = message[len(own) :].partition(": ")
+            raise InputError(f"{table.path}.{head}: {rest}") from exc
+        raise InputError(f"{table.path}: {message}") from exc
 
 
 def _duty(table: _Table, base: Path) -> DutyCycle:

@@ -16,13 +16,14 @@ from typing import Any
 from .builders import FusePlugSpec, WheelBrakeDesign
 from .geometry import Contact, Part, Probe
 from .numerics.options import SolverOptions
-from .operations import heat_input
+from .operations import heat_input, stops
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
+from .operations.roll_inputs import Aircraft, Conditions, Runway
 from .report import TyreSettings
 from .units import declared_dimension
 
-__all__ = ["EVENT_KINDS", "key_dimension"]
+__all__ = ["EVENT_KINDS", "ROLL_RECORDS", "key_dimension"]
 
 #: Braking-event kinds of ``[[duty.phases.events]]`` and the functions that make them.
 EVENT_KINDS: dict[str, Callable[..., BrakingEvent]] = {
@@ -31,7 +32,16 @@ EVENT_KINDS: dict[str, Callable[..., BrakingEvent]] = {
     "speed_trace": heat_input.stop_from_speed_trace,
     "taxi_snubs": heat_input.taxi_snubs,
     "gear_retraction": heat_input.gear_retraction,
+    "rejected_takeoff": stops.rejected_takeoff,
+    "landing_roll": stops.landing_roll,
+    "taxi_stop": stops.taxi_stop,
+    "speed_trace_roll": stops.speed_trace_roll,
 }
+
+#: Sub-tables of a ground-roll event (``[duty.phases.events.aircraft]`` ...) and the records they fill.
+ROLL_RECORDS: dict[str, type] = {"aircraft": Aircraft, "runway": Runway, "conditions": Conditions}
+
+_ROLL_KEY = ("duty", "phases", int, "events", int, str, str)
 
 
 #: Tables of the case file whose keys are the fields of a dataclass: the dimension of
@@ -100,6 +110,8 @@ def key_dimension(tokens: tuple[str | int, ...], case: Mapping[str, Any] | None 
             return None
         function = EVENT_KINDS.get(kind) if isinstance(kind, str) else None
         return getattr(function, "dimensions", {}).get(tokens[5])
+    if _matches(_ROLL_KEY, tokens) and tokens[5] in ROLL_RECORDS:
+        return declared_dimension(ROLL_RECORDS[tokens[5]], tokens[6])
     for pattern, dimension in _CASE_KEYS.items():
         if _matches(pattern, tokens):
             return dimension

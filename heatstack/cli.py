@@ -138,9 +138,39 @@ def _cmd_check(args: argparse.Namespace) -> int:
         f"duty: {len(case.duty.phases)} phases over {case.duty.duration / 3600.0:.2f} h, "
         f"{energy / 1e6:.2f} MJ per brake"
     )
+    for phase in case.duty.phases:
+        for event in phase.events:
+            print(f"  {phase.name} / {event.name}: {event.energy_per_brake / 1e6:.2f} MJ into the modelled brake")
+            if event.ground_roll is not None:
+                _print_ground_roll(event.ground_roll)
+    if model.heat_sink_mass is not None:
+        print(f"heat-sink mass: {model.heat_sink_mass:.2f} kg")
     layout = Path(args.layout) if args.layout else Path(args.case).with_suffix(".layout.png")
     print(f"layout: {plot_layout(case.assembly, layout, model.grid)}")
     return 0
+
+
+def _print_ground_roll(roll) -> None:
+    """The stop's distance, time, energy accounts and energy per brake."""
+    acc = roll.accounts
+    print(
+        f"    stop from {roll.brake_on_speed / 0.514444:.1f} kt ground speed: {roll.stopping_distance:.0f} m in "
+        f"{roll.stopping_time:.1f} s"
+    )
+    rows = (
+        ("kinetic energy removed", acc.kinetic_energy_removed),
+        ("brakes", acc.brakes),
+        ("reverse thrust", acc.reverse_thrust),
+        ("aerodynamic drag", acc.drag),
+        ("rolling resistance", acc.rolling_resistance),
+        ("potential energy gained", acc.potential_energy),
+        ("forward thrust work (-)", acc.forward_thrust),
+    )
+    for label, value in rows:
+        print(f"    {label:26s} {value / 1e6:10.3f} MJ")
+    print(f"    {'closure':26s} {acc.closure:10.3g} J")
+    shares = ", ".join(f"{e / 1e6:.2f}" for e in roll.energy_per_brake)
+    print(f"    energy per brake [MJ]: {shares}")
 
 
 def _settings_from_file(path: Path, unit: str | None):

@@ -17,6 +17,7 @@ import numpy as np
 
 from .assembly import Assembly
 from .errors import GeometryError
+from .geometry import HEAT_SINK
 from .materials import Material
 from .numerics.grid import Grid, build_grid
 from .numerics.network import Network, build_network
@@ -103,6 +104,15 @@ class Model:
         """Number of active cells (unknowns)."""
         return self.grid.n_cells
 
+    @property
+    def heat_sink_mass(self) -> float | None:
+        """Mass [kg] of the ``heat_sink`` cell group at the reference density, or None without that group."""
+        network = self.network
+        for group, cells in zip(network.assembly.cell_groups, network.cell_group_masks, strict=True):
+            if group.name == HEAT_SINK:
+                return float(network.mass()[cells].sum())
+        return None
+
     def run(
         self,
         schedule: Schedule,
@@ -141,6 +151,7 @@ class Model:
         SolverError
             If a step cannot be completed even at the smallest step size; the message
             says when and where.
+        The result's metadata states the heat-sink mass used (``heat_sink_mass_kg``).
         """
         positive = {"minimum": 0.0, "exclusive_minimum": True}
         if isinstance(initial_temperature, Mapping):
@@ -150,7 +161,9 @@ class Model:
             }
         elif not isinstance(initial_temperature, State | np.ndarray):
             initial_temperature = quantity(initial_temperature, "temperature", "initial_temperature", **positive)
-        return integrate(self.network, schedule, initial_temperature, options, progress)
+        result = integrate(self.network, schedule, initial_temperature, options, progress)
+        result.metadata["heat_sink_mass_kg"] = self.heat_sink_mass
+        return result
 
 
 def simulate(

@@ -162,6 +162,7 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         "caution": CAUTION,
         "temperature_unit": unit,
         "end_of_braking_min": _minutes(result.end_of_heating),
+        "heat_sink_mass_kg": result.metadata.get("heat_sink_mass_kg"),
         "phases": [{"name": n, "start_min": _minutes(a), "end_min": _minutes(b)} for n, a, b in result.phases],
     }
     report["peaks"] = _peak_rows(result, unit)
@@ -372,6 +373,8 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
         f"> {report['caution']}" if md else report["caution"],
     ]
     lines += ["", f"End of braking: {report['end_of_braking_min']} min."]
+    if report.get("heat_sink_mass_kg") is not None:
+        lines += [f"Heat-sink mass: {report['heat_sink_mass_kg']:.2f} kg."]
     lines += _peaks_lines(report["peaks"], u, md)
     if "sensor" in report:
         lines += _sensor_lines(report["sensor"], u, du, md)

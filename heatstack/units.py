@@ -60,6 +60,7 @@ SI_UNITS: dict[str, str] = {
     "energy": "J",
     "power": "W",
     "pressure": "Pa",
+    "force": "N",
     "speed": "m/s",
     "acceleration": "m/s**2",
     "density": "kg/m**3",

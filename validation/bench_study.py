@@ -126,9 +126,11 @@ def invented_study(cell: float, change: float, cases: int) -> Study:
     return Study(
         DEMO,
         [
-            Parameter("duty.phases[0].events[0].mass", TruncatedNormal("58 t", "4 t", "48 t", "70 t"), name="mass"),
             Parameter(
-                "duty.phases[0].events[0].brake_on_speed",
+                "duty.phases[0].events[0].aircraft.mass", TruncatedNormal("58 t", "4 t", "48 t", "70 t"), name="mass"
+            ),
+            Parameter(
+                "duty.phases[0].events[0].reject_speed",
                 Triangular("120 kt", "130 kt", "140 kt"),
                 name="brake-on speed",
             ),

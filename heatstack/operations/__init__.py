@@ -10,8 +10,14 @@ convection
     Nusselt number correlations.
 environment
     Cooling laws satisfying :class:`heatstack.numerics.schedule.BoundaryLaw`.
+ground_roll
+    The equation of motion on the runway: brake power per brake and the energy accounts.
 heat_input
     Braking events giving a :class:`heatstack.numerics.schedule.PowerHistory`.
+roll_inputs
+    Aircraft, runway, wind and air, braking levels: the ground roll's input records.
+stops
+    Rejected take-off, landing roll and taxi stop from the ground roll, as braking events.
 """
 
 from __future__ import annotations

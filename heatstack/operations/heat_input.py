@@ -31,7 +31,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import TYPE_CHECKING, Any, Literal
 
 import numpy as np
 
@@ -40,6 +40,9 @@ from ..numerics.schedule import PowerHistory
 from ..traces import read_trace
 from ..units import Declaration, declares, quantity, quantity_array
 from . import atmosphere
+
+if TYPE_CHECKING:
+    from .ground_roll import StopResult
 
 __all__ = [
     "BrakingEvent",
@@ -79,6 +82,9 @@ class BrakingEvent:
         speed-dependent share, the energy-weighted mean.
     notes : str
         How the event was built.
+    ground_roll : StopResult or None
+        The integrated ground roll (energy accounts, distance, time) when the event
+        comes from the equation of motion (:mod:`heatstack.operations.stops`).
     """
 
     name: str
@@ -87,6 +93,7 @@ class BrakingEvent:
     kinetic_energy: float
     brake_share: float
     notes: str = ""
+    ground_roll: StopResult | None = None
 
     @property
     def start(self) -> float:

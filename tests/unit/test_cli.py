@@ -102,6 +102,6 @@ def test_study_with_a_bad_parameter_path_exits_2(tmp_path, capsys):
     study = tmp_path / "study.toml"
     text = (demo_case_path().parent / "demo_study.toml").read_text()
     text = text.replace('base_case = "demo_rto.toml"', f'base_case = "{demo_case_path()}"')
-    study.write_text(text.replace("events[0].mass", "events[0].mas"))
+    study.write_text(text.replace("events[0].aircraft.mass", "events[0].aircraft.mas"))
     assert main(["study", str(study), "--store", str(tmp_path / "s"), "--quiet"]) == 2
     assert "mass" in capsys.readouterr().err

@@ -31,7 +31,7 @@ from heatstack.studies import (
 from heatstack.studies.paths import format_path, parse_path
 
 DEMO = Path(__file__).resolve().parents[2] / "examples" / "demo_rto.toml"
-MASS = "duty.phases[0].events[0].mass"
+MASS = "duty.phases[0].events[0].aircraft.mass"
 KNOT = 1852.0 / 3600.0  # m/s, exact by definition of the international nautical mile
 
 
@@ -64,7 +64,7 @@ def test_units_follow_the_base_value_at_the_path():
         lhs(
             [
                 Parameter(MASS, Normal("70 t", "2 t"), name="mass"),
-                Parameter("duty.phases[0].events[0].brake_on_speed", Uniform("120 kt", "140 kt"), name="speed"),
+                Parameter("duty.phases[0].events[0].reject_speed", Uniform("120 kt", "140 kt"), name="speed"),
                 Parameter(
                     [f"duty.phases[{k}].environment.ambient_temperature" for k in range(3)],
                     Normal("25 degC", "3 degC"),
@@ -87,7 +87,7 @@ def test_units_follow_the_base_value_at_the_path():
     row = plan.case_mapping(0)
     temps = {row["duty"]["phases"][k]["environment"]["ambient_temperature"] for k in range(3)}
     assert temps == {plan.samples[0, 2]}
-    assert row["duty"]["phases"][0]["events"][0]["mass"] == plan.samples[0, 0]
+    assert row["duty"]["phases"][0]["events"][0]["aircraft"]["mass"] == plan.samples[0, 0]
 
 
 def test_absent_design_key_is_accepted_with_its_dimension():
@@ -119,8 +119,8 @@ def test_latin_hypercube_puts_one_case_in_each_stratum():
         lhs(
             [
                 Parameter(MASS, TruncatedNormal("70 t", "3 t", "62 t", "76 t"), name="m"),
-                Parameter("duty.phases[0].events[0].brake_on_speed", Triangular("120 kt", "132 kt", "140 kt")),
-                Parameter("duty.phases[0].events[0].stop_time", LogNormal("38 s", 0.1)),
+                Parameter("duty.phases[0].events[0].reject_speed", Triangular("120 kt", "132 kt", "140 kt")),
+                Parameter("duty.phases[0].events[0].aircraft.spoiler_time", LogNormal("1.5 s", 0.1)),
             ],
             cases=n,
         )
@@ -188,9 +188,9 @@ def test_fingerprint_ignores_the_title_but_not_the_seed():
 
 def test_unknown_path_names_the_closest_existing_path():
     with pytest.raises(
-        InputError, match=r"does not exist in the base case; did you mean 'duty.phases\[0\].events\[0\].mass'"
+        InputError, match=r"does not exist in the base case; did you mean 'duty.phases\[0\].events\[0\].aircraft.mass'"
     ):
-        plan_study(lhs([Parameter("duty.phases[0].events[0].mas", Normal("70 t", "2 t"))]))
+        plan_study(lhs([Parameter("duty.phases[0].events[0].aircraft.mas", Normal("70 t", "2 t"))]))
 
 
 def test_index_out_of_range_names_the_closest_path():
@@ -276,7 +276,7 @@ target_change = "10 K"
 outputs = ["sensor", "fuse plug 1"]
 
 [[study.parameters]]
-path = "duty.phases[0].events[0].mass"
+path = "duty.phases[0].events[0].aircraft.mass"
 name = "mass"
 distribution = "truncated_normal"
 mean = "64 t"

@@ -1,0 +1,258 @@
+"""Inputs of the ground roll: the aircraft, the runway, the wind and air, the braking effort.
+
+Frozen records whose constructors accept SI numbers or strings with a unit (``"70 t"``,
+``"40 kN"``, ``"10 kt"``) through :func:`heatstack.units.to_si`; every error names the
+key (``aircraft.mass``, ``runway.braking_friction``, ...). Used by :mod:`.ground_roll`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from ..errors import InputError
+from ..units import convert_declared, declared, quantity
+from . import atmosphere
+
+__all__ = [
+    "BRAKING_LEVELS",
+    "Aircraft",
+    "Runway",
+    "Conditions",
+    "brake_on_ground_speed",
+    "deceleration_target",
+    "non_negative",
+]
+
+#: Our own names for target decelerations of the aircraft [m/s^2]; "maximum" is the
+#: friction limit and "none" no braking.
+BRAKING_LEVELS: dict[str, float] = {"gentle": 1.5, "medium": 2.0, "firm": 3.0, "hard": 4.0}
+
+
+def _number(value: Any, dimension: str, field: str) -> float:
+    if value is None or isinstance(value, bool):
+        raise InputError(f"{field}: a number or a quantity is required, got {value!r}")
+    return quantity(value, dimension, field)
+
+
+def non_negative(value: Any, dimension: str, field: str, positive: bool = False) -> float:
+    """An SI float >= 0 (> 0 if ``positive``) from a number or a quantity; errors name ``field``."""
+    number = _number(value, dimension, field)
+    if number < 0 or (positive and number == 0):
+        raise InputError(f"{field}: must be {'> 0' if positive else '>= 0'}, got {value!r}")
+    return number
+
+
+def _table(rows: Any, dimension: str, field: str, speed_field: str) -> tuple[tuple[float, ...], tuple[float, ...]]:
+    """Rows (speed, value) -> strictly increasing speeds [m/s] and values (SI)."""
+    if isinstance(rows, str) or not isinstance(rows, Sequence) or len(rows) < 1:
+        raise InputError(f"{field}: expected rows of ({speed_field}, value), e.g. [['0 kt', '40 kN'], ...]")
+    speeds, values = [], []
+    for k, row in enumerate(rows):
+        if isinstance(row, str) or not isinstance(row, Sequence) or len(row) != 2:
+            raise InputError(f"{field}[{k}]: expected a pair ({speed_field}, value), got {row!r}")
+        speeds.append(_number(row[0], "speed", f"{field}[{k}] speed"))
+        values.append(non_negative(row[1], dimension, f"{field}[{k}] value"))
+    if any(b <= a for a, b in zip(speeds, speeds[1:], strict=False)):
+        raise InputError(f"{field}: the speeds must increase strictly, got {speeds} m/s")
+    return tuple(speeds), tuple(values)
+
+
+@dataclass(frozen=True)
+class Aircraft:
+    """The aircraft on the ground. Every quantity accepts a number (SI) or a string with a unit.
+
+    Parameters
+    ----------
+    mass : float or str
+        Aircraft mass [kg], > 0.
+    drag_area : float or str
+        Drag coefficient times reference area on the ground, ``C_D S`` [m^2], >= 0.
+    lift_area : float or str
+        ``C_L S`` on the ground before lift dumping [m^2], >= 0.
+    lift_area_dumped : float or str
+        ``C_L S`` after the spoilers deploy [m^2], >= 0.
+    spoiler_time : float or str
+        Time after brake-on at which the spoilers are deployed [s], >= 0.
+    idle_thrust : float or str
+        Total forward (idle) thrust of all engines during the stop [N], >= 0.
+    takeoff_thrust : float or str
+        Total take-off thrust for an acceleration phase [N], >= 0.
+    reverse_thrust : sequence of (speed, force)
+        Reverse thrust of ONE engine over air speed [m/s, N]; speeds increase strictly;
+        held constant beyond the ends.
+    reversers : int
+        Number of serviceable thrust reversers, >= 0.
+    reverse_cancel_speed : float or str
+        Air speed below which reverse thrust is cancelled [m/s], >= 0.
+    braked_wheels : int
+        Number of braked wheels, >= 1.
+    brake_shares : sequence of float, optional
+        Share of the total brake force of each brake (``braked_wheels`` entries, each
+        >= 0, summing to 1): e.g. 0 for an inoperative brake, more for a dragging one.
+        Equal shares when not given.
+    braked_weight_fraction : float
+        Share of the weight on the wheels carried by the braked wheels (0, 1].
+    """
+
+    mass: float = declared("mass", positive=True)
+    drag_area: float = declared("area", 0.0, minimum=0.0)
+    lift_area: float = declared("area", 0.0, minimum=0.0)
+    lift_area_dumped: float = declared("area", 0.0, minimum=0.0)
+    spoiler_time: float = declared("time", 0.0, minimum=0.0)
+    idle_thrust: float = declared("force", 0.0, minimum=0.0)
+    takeoff_thrust: float = declared("force", 0.0, minimum=0.0)
+    reverse_thrust: Any = ()
+    reversers: int = 0
+    reverse_cancel_speed: float = declared("speed", 0.0, minimum=0.0)
+    braked_wheels: int = 1
+    brake_shares: Any = None
+    braked_weight_fraction: Any = 1.0
+
+    def __post_init__(self) -> None:
+        put = object.__setattr__
+        convert_declared(self, "aircraft")
+        for name, minimum in (("reversers", 0), ("braked_wheels", 1)):
+            value = getattr(self, name)
+            if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
+                raise InputError(f"aircraft.{name}: expected a whole number >= {minimum}, got {value!r}")
+        if self.reverse_thrust is None or len(self.reverse_thrust) == 0:
+            if self.reversers:
+                raise InputError("aircraft.reverse_thrust: a table is needed when reversers > 0")
+            put(self, "reverse_thrust", ((), ()))
+        else:
+            put(self, "reverse_thrust", _table(self.reverse_thrust, "force", "aircraft.reverse_thrust", "air speed"))
+        fraction = non_negative(self.braked_weight_fraction, "dimensionless", "aircraft.braked_weight_fraction")
+        if not 0 < fraction <= 1:
+            raise InputError(f"aircraft.braked_weight_fraction: must lie in (0, 1], got {fraction}")
+        put(self, "braked_weight_fraction", fraction)
+        put(self, "brake_shares", self._shares())
+
+    def _shares(self) -> tuple[float, ...]:
+        n = self.braked_wheels
+        if self.brake_shares is None:
+            return (1.0 / n,) * n
+        shares = self.brake_shares
+        if isinstance(shares, str) or not isinstance(shares, Sequence) or len(shares) != n:
+            raise InputError(f"aircraft.brake_shares: expected {n} shares (one per braked wheel), got {shares!r}")
+        values = tuple(non_negative(s, "dimensionless", f"aircraft.brake_shares[{k}]") for k, s in enumerate(shares))
+        if abs(sum(values) - 1.0) > 1e-9:
+            raise InputError(f"aircraft.brake_shares: must sum to 1, got {sum(values):.12g}")
+        return values
+
+
+@dataclass(frozen=True)
+class Runway:
+    """The runway.
+
+    Parameters
+    ----------
+    braking_friction : float or sequence of (speed, float)
+        Tyre-runway friction coefficient available to a braked wheel [-], a constant
+        or a table over ground speed [m/s] (held beyond the ends); for the surface
+        state named in ``surface``.
+    surface : str
+        A label of the surface state for messages, e.g. ``"dry"`` or ``"wet"``.
+    slope : float
+        Gradient in the direction of travel, rise over run [-]; positive uphill.
+    rolling_friction : float
+        Rolling-resistance coefficient of the tyres [-]; 0.02 is a typical paved-runway
+        value in flight-mechanics texts (from memory).
+    """
+
+    braking_friction: Any
+    surface: str = "dry"
+    slope: float = declared("dimensionless", 0.0)
+    rolling_friction: float = declared("dimensionless", 0.02, minimum=0.0)
+
+    def __post_init__(self) -> None:
+        put = object.__setattr__
+        if isinstance(self.braking_friction, Sequence) and not isinstance(self.braking_friction, str):
+            table = _table(self.braking_friction, "dimensionless", "runway.braking_friction", "ground speed")
+        else:
+            value = non_negative(self.braking_friction, "dimensionless", "runway.braking_friction")
+            table = ((0.0,), (value,))
+        put(self, "braking_friction", table)
+        if not isinstance(self.surface, str):
+            raise InputError(f"runway.surface: expected a label such as 'dry' or 'wet', got {self.surface!r}")
+        convert_declared(self, "runway")
+
+    def friction(self, ground_speed: np.ndarray) -> np.ndarray:
+        """Braking friction coefficient [-] at ground speed [m/s]."""
+        speeds, values = self.braking_friction
+        return np.interp(ground_speed, speeds, values)
+
+
+@dataclass(frozen=True)
+class Conditions:
+    """Wind and air at the runway.
+
+    Parameters
+    ----------
+    headwind : float or str
+        Headwind component [m/s]; a tailwind is negative.
+    pressure_altitude : float or str
+        Pressure altitude of the runway [m].
+    air_temperature : float or str, optional
+        Outside air temperature [K]; or ``temperature_offset`` (ISA + dT) [K]; ISA if neither.
+    temperature_offset : float or str, optional
+        ISA deviation [K].
+    """
+
+    headwind: float = declared("speed", 0.0)
+    pressure_altitude: float = declared("length", 0.0)
+    air_temperature: float | None = declared("temperature", None, positive=True)
+    temperature_offset: float | None = declared("temperature_difference", None)
+
+    def __post_init__(self) -> None:
+        put = object.__setattr__
+        convert_declared(self, "conditions")
+        temperature = atmosphere.air_temperature_at(
+            self.pressure_altitude, self.air_temperature, self.temperature_offset
+        )
+        put(self, "air_temperature", temperature)
+        put(self, "temperature_offset", None)
+
+    @property
+    def density(self) -> float:
+        """Air density [kg/m^3]: ISO 2533 static pressure over ``R T``."""
+        return float(atmosphere.isa_pressure(self.pressure_altitude)) / (atmosphere.R_ISA * self.air_temperature)
+
+
+def brake_on_ground_speed(speed: Any, speed_kind: str, conditions: Conditions, field: str = "brake_on_speed") -> float:
+    """Ground speed [m/s] from a speed of kind ``"ground"``, ``"true"`` or ``"calibrated"`` (airspeeds).
+
+    Airspeeds become ground speed through the headwind; a calibrated airspeed becomes a
+    true airspeed through the ISO 2533 atmosphere at the conditions' pressure altitude
+    and temperature.
+    """
+    value = non_negative(speed, "speed", field, positive=True)
+    if speed_kind == "ground":
+        return value
+    if speed_kind == "true":
+        tas = value
+    elif speed_kind == "calibrated":
+        tas = float(atmosphere.true_airspeed(value, conditions.pressure_altitude, conditions.air_temperature))
+    else:
+        raise InputError(f"speed_kind: {speed_kind!r} is not 'ground', 'calibrated' or 'true'")
+    ground = float(atmosphere.ground_speed(tas, conditions.headwind))
+    if ground <= 0:
+        raise InputError(f"{field}: the headwind leaves a ground speed of {ground:.3g} m/s")
+    return ground
+
+
+def deceleration_target(braking: Any) -> float | None | str:
+    """A target deceleration [m/s^2] from a level name or a quantity, or ``"maximum"`` / ``"none"``."""
+    if isinstance(braking, str) and braking in ("maximum", "none"):
+        return braking
+    if isinstance(braking, str) and braking in BRAKING_LEVELS:
+        return BRAKING_LEVELS[braking]
+    if isinstance(braking, str) and not any(ch.isdigit() for ch in braking):
+        names = ", ".join([*BRAKING_LEVELS, "maximum", "none"])
+        raise InputError(
+            f"braking: unknown level {braking!r}; use one of {names} or a deceleration such as '2.5 m/s^2'"
+        )
+    return non_negative(braking, "acceleration", "braking", positive=True)
