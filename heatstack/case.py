@@ -11,6 +11,7 @@ from __future__ import annotations
 import difflib
 import inspect
 import tomllib
+import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field, fields, replace
 from pathlib import Path
@@ -19,7 +20,7 @@ from typing import Any
 import numpy as np
 
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
-from .errors import HeatstackError, InputError
+from .errors import HeatstackError, InputError, ScheduleError
 from .geometry import (
     HEAT_SINK_MEAN,
     ROLES,
@@ -139,7 +140,10 @@ class _Table:
 @dataclass(frozen=True)
 class OutputSettings:
     """What a run writes and reports: results file, plots, report unit, limits [K] per
-    probe or series, and the cooling-time question (series below a temperature [K])."""
+    probe or series, the cooling-time question (series below a temperature [K]) and the
+    braking event whose end is "end of braking" (``reference_event``; by default the
+    event with the most energy per brake, so gear retraction or taxi snubs after the
+    stop do not move it)."""
 
     file: str = "results.h5"
     plots: bool = True
@@ -147,6 +151,7 @@ class OutputSettings:
     limits: Mapping[str, float] = field(default_factory=dict)
     cooling_below: float | None = None
     cooling_series: str = HEAT_SINK_MEAN
+    reference_event: str | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -483,12 +488,13 @@ def _output(t: _Table) -> OutputSettings:
         limits,
         t.quantity("cooling_below", "temperature", None),
         t.text("cooling_series", HEAT_SINK_MEAN),
+        t.text("reference_event", None),
     )
     t.finish()
     return out
 
 
-def _tyre(t: _Table, built: BuiltWheelBrake | None) -> TyreSettings | None:
+def _tyre(t: _Table, built: BuiltWheelBrake | None, duty: DutyCycle) -> TyreSettings | None:
     if not t.data:
         return None
     area = t.quantity("cavity_area", "area", None)
@@ -504,8 +510,10 @@ def _tyre(t: _Table, built: BuiltWheelBrake | None) -> TyreSettings | None:
         gas_volume=t.quantity("gas_volume", "volume"),
         cavity_area=area,
         h_cavity=t.quantity("h_cavity", "heat_transfer_coefficient", 15.0),
-        outer_conductance=t.quantity("outer_conductance", "thermal_conductance", 0.0),
+        outer_conductance=t.quantity("outer_conductance", "thermal_conductance", None),
         pressure_limit=t.quantity("pressure_limit", "pressure", None),
+        # gauge pressures are read against the air where the duty starts, unless given
+        ambient_pressure=t.quantity("ambient_pressure", "pressure", duty.phases[0].environment.ambient_pressure),
     )
     t.finish()
     return tyre
@@ -567,8 +575,12 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     duty = _duty(root.table("duty"), base)
     solver = _solver(root.table("solver", {}))
     output = _output(root.table("output", {}))
-    tyre = _tyre(root.table("tyre", {}), built)
+    tyre = _tyre(root.table("tyre", {}), built, duty)
     root.finish(("case", "materials", "assembly", "duty", "solver", "output", "tyre"))
+    try:
+        duty.end_of_braking(output.reference_event)
+    except ScheduleError as exc:
+        raise InputError(f"output.{exc}") from None
     known = {p.name for p in assembly.probes} | {s for g in assembly.cell_groups for s in g.series_names}
     for name in output.limits:
         if name not in known:
@@ -640,7 +652,9 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     Returns
     -------
     Result
-        The run [K, s, J]; its metadata holds the case title and origin.
+        The run [K, s, J]; its metadata holds the case title and origin and the text of
+        every warning raised while meshing and running (``metadata["warnings"]``), which
+        the report shows.
 
     Raises
     ------
@@ -649,8 +663,13 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     SolverError
         If the solver cannot complete a step.
     """
-    model = model or case.build_model()
-    schedule = case.duty.schedule(case.assembly.surfaces)
-    result = model.run(schedule, case.initial_temperature, case.solver, progress)
-    result.metadata.update({"case_title": case.title, "case_origin": case.origin})
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        model = model or case.build_model()
+        schedule = case.duty.schedule(case.assembly.surfaces, reference_event=case.output.reference_event)
+        result = model.run(schedule, case.initial_temperature, case.solver, progress)
+    for item in caught:  # shown as before, and kept with the result for its report
+        warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
+    messages = list(dict.fromkeys(str(item.message) for item in caught))
+    result.metadata.update({"case_title": case.title, "case_origin": case.origin, "warnings": messages})
     return result

@@ -114,7 +114,11 @@ class Result:
     phases : tuple of (str, float, float)
         Name, start and end [s] of each duty phase.
     end_of_heating : float
-        Last time with brake power [s].
+        Last time with brake power [s] (a later small event or a dragging brake moves it).
+    end_of_braking : float
+        End of the stop that loaded the brake [s] (the duty's reference event: the one
+        the case names, else the one with the most energy); every delay "after braking"
+        counts from it.
     probe_positions : dict of str to (float, float)
         (r, z) of each probe [m].
     probe_time_constants : dict of str to float
@@ -138,6 +142,7 @@ class Result:
     final_state: State
     phases: tuple[tuple[str, float, float], ...] = ()
     end_of_heating: float = 0.0
+    end_of_braking: float = 0.0
     probe_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
     probe_time_constants: dict[str, float] = field(default_factory=dict)
     metadata: dict = field(default_factory=dict)

@@ -34,6 +34,7 @@ from .analysis import (
     checked_history,
     first_reach,
     frozen_copy,
+    level_crossings,
     margins,
     name_tuple,
     record_times,
@@ -47,6 +48,8 @@ __all__ = [
     "TyreGas",
     "PressureMargin",
     "PlugVersusPressure",
+    "OUTER_HEAT_TRANSFER_COEFFICIENT",
+    "default_outer_conductance",
     "tyre_gas",
     "tyre_pressure_margin",
     "plug_releases_before_limit",
@@ -59,6 +62,15 @@ NITROGEN_GAS_CONSTANT = 296.8
 NITROGEN_CV = 743.0
 #: Standard sea-level atmospheric pressure [Pa].
 STANDARD_PRESSURE = 101325.0
+#: Effective heat transfer coefficient from the tyre gas through the carcass to still air
+#: [W/(m^2 K)] for :func:`default_outer_conductance`: natural convection outside a tyre
+#: is about 5-10 W/(m^2 K) (common practice, no source); the rubber carcass in series
+#: (k about 0.2-0.3 W/(m K), 10-20 mm thick, i.e. 10-30 W/(m^2 K), from memory) brings the
+#: overall figure towards the low end, so 6 is taken.
+OUTER_HEAT_TRANSFER_COEFFICIENT = 6.0
+#: Major radius over tube radius of the torus :func:`default_outer_conductance` takes
+#: for a tyre: a rim radius about twice the section half-height (an assumption, no source).
+_TORUS_ASPECT = 3.0
 #: The series read as the rim exterior inside the tyre cavity.
 CAVITY_SERIES = "surface:tyre cavity"
 
@@ -94,6 +106,8 @@ class TyreGas:
     heat_absorbed : float
         Largest heat held by the gas above its initial state, ``m c_v (max T_g - T_g(t0))``
         [J]: the heat the one-way coupling leaves out of the conduction solve.
+    outer_conductance : float
+        Conductance gas -> ambient through the carcass used [W/K] (given, or estimated).
     """
 
     times: np.ndarray
@@ -108,6 +122,7 @@ class TyreGas:
     gas_mass: float
     time_constant: float
     heat_absorbed: float
+    outer_conductance: float = 0.0
 
     @property
     def gauge_pressure(self) -> np.ndarray:
@@ -130,6 +145,9 @@ class PressureMargin:
     exceeded : bool
     time_limit_reached : float or None
         First time the pressure reaches the limit [s]; None if never.
+    time_back_below_limit : float or None
+        First time after ``time_limit_reached`` the pressure falls back below the limit
+        [s]; None if it never reaches it, or does not fall back within the record.
     """
 
     limit: float
@@ -137,6 +155,7 @@ class PressureMargin:
     margin: float
     exceeded: bool
     time_limit_reached: float | None
+    time_back_below_limit: float | None = None
 
 
 @dataclass(frozen=True)
@@ -166,6 +185,40 @@ class PlugVersusPressure:
     limit: float
 
 
+def default_outer_conductance(gas_volume: Any, h_outer: float = OUTER_HEAT_TRANSFER_COEFFICIENT) -> float:
+    """Estimated conductance [W/K] from the tyre gas through the carcass to still air.
+
+    The tyre is taken as a torus of tube radius ``a`` about a major radius ``R = 3 a``
+    (assumed: rim radius about twice the section half-height), so its gas volume is
+    ``V = 2 pi^2 R a^2 = 6 pi^2 a^3`` and its outer surface ``A = 4 pi^2 R a = 12 pi^2 a^2``;
+    the conductance is ``h_outer A``. A tyre with 0.09 m^3 of gas gets about 1.6 m^2 and
+    9 W/K. An estimate, for when the case gives none: a measured or better-founded value
+    should replace it.
+
+    Parameters
+    ----------
+    gas_volume : float or str
+        Gas volume of the tyre [m^3], > 0.
+    h_outer : float
+        Overall heat transfer coefficient gas -> carcass -> still air [W/(m^2 K)]
+        (:data:`OUTER_HEAT_TRANSFER_COEFFICIENT` by default).
+
+    Returns
+    -------
+    float
+        [W/K]
+
+    References
+    ----------
+    Torus volume ``2 pi^2 R a^2`` and area ``4 pi^2 R a`` (Pappus's centroid theorems).
+    Natural convection coefficients of 5-10 W/(m^2 K) in still air: common practice, no source.
+    """
+    volume = _positive(to_si_unit(gas_volume, "m**3", "gas_volume"), "gas_volume")
+    tube = (volume / (2.0 * np.pi**2 * _TORUS_ASPECT)) ** (1.0 / 3.0)
+    area = 4.0 * np.pi**2 * _TORUS_ASPECT * tube**2
+    return float(_positive(h_outer, "h_outer", True) * area)
+
+
 def _positive(value: float, field: str, allow_zero: bool = False) -> float:
     if not np.isfinite(value) or value < 0 or (value == 0 and not allow_zero):
         sign = ">= 0" if allow_zero else "> 0"
@@ -188,7 +241,7 @@ def tyre_gas(
     cavity_area: Any,
     h_cavity: Any,
     cold_temperature: Any,
-    outer_conductance: Any = 0.0,
+    outer_conductance: Any = None,
     ambient: Any = None,
     *,
     gauge: bool = True,
@@ -222,8 +275,10 @@ def tyre_gas(
     cold_temperature : float or str
         Gas temperature at which ``cold_pressure`` holds [K]; also the gas temperature at
         the start of the record unless ``initial_temperature`` is given.
-    outer_conductance : float or str
-        Conductance gas -> ambient through the tyre carcass [W/K], >= 0.
+    outer_conductance : float or str, optional
+        Conductance gas -> ambient through the tyre carcass [W/K], >= 0; estimated from
+        the gas volume by :func:`default_outer_conductance` (about 6 W/(m^2 K) over the
+        outer surface of the tyre) when None. Zero lets the gas follow the rim.
     ambient : float or str, optional
         Air temperature for ``outer_conductance`` [K]; ``cold_temperature`` by default.
     gauge : bool
@@ -266,7 +321,10 @@ def tyre_gas(
     volume = _positive(to_si_unit(gas_volume, "m**3", "gas_volume"), "gas_volume")
     area = _positive(to_si(cavity_area, None, "area", "cavity_area"), "cavity_area")
     h = _positive(to_si(h_cavity, None, "heat_transfer_coefficient", "h_cavity"), "h_cavity", True)
-    g_out = _positive(to_si_unit(outer_conductance, "W/K", "outer_conductance"), "outer_conductance", True)
+    if outer_conductance is None:
+        g_out = default_outer_conductance(volume)
+    else:
+        g_out = _positive(to_si_unit(outer_conductance, "W/K", "outer_conductance"), "outer_conductance", True)
     t_cold = absolute_temperature(cold_temperature, "cold_temperature")
     t_amb = t_cold if ambient is None else absolute_temperature(ambient, "ambient")
     t_init = t_cold if initial_temperature is None else absolute_temperature(initial_temperature, "initial_temperature")
@@ -297,6 +355,7 @@ def tyre_gas(
         gas_mass=mass,
         time_constant=tau,
         heat_absorbed=float(mass * cv * (np.max(gas) - gas[0])),
+        outer_conductance=g_out,
     )
 
 
@@ -322,12 +381,18 @@ def tyre_pressure_margin(gas: TyreGas, limit: Any, gauge: bool = True) -> Pressu
         If ``limit`` is not a pressure, or not above 0 Pa absolute.
     """
     p_limit = _absolute(limit, gauge, gas.ambient_pressure, "limit")
+    reached = first_reach(gas.times, gas.pressure, p_limit)
+    back = None
+    if reached is not None:
+        downs = [t for t, way in level_crossings(gas.times, gas.pressure, p_limit) if way == "down" and t >= reached]
+        back = downs[0] if downs else None
     return PressureMargin(
         limit=p_limit,
         peak_pressure=gas.peak_pressure,
         margin=p_limit - gas.peak_pressure,
         exceeded=bool(gas.peak_pressure > p_limit),
-        time_limit_reached=first_reach(gas.times, gas.pressure, p_limit),
+        time_limit_reached=reached,
+        time_back_below_limit=back,
     )
 
 

@@ -180,7 +180,7 @@ def summarise(case: Any, result: Any, outputs: Sequence[str] | None = None) -> l
         else [*result.readings, *(s for s in result.series if not s.startswith("surface:"))]
     )
     out: list[tuple[str, float]] = []
-    end = float(result.end_of_heating)
+    end = float(result.end_of_braking)
     for name in names:
         peak, when = result.peak(name)
         out += [(f"peak:{name}", peak), (f"peak_time:{name}", when), (f"peak_delay:{name}", when - end)]
