@@ -40,6 +40,7 @@ from .numerics.solver import SolverOptions
 from .operations import heat_input
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
+from .property_table import forget_warnings
 from .report import ReportSettings, TyreSettings
 from .result import Result
 from .units import to_si
@@ -663,6 +664,7 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     SolverError
         If the solver cannot complete a step.
     """
+    forget_warnings()  # each run reports the materials that leave their tables in it
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         model = model or case.build_model()

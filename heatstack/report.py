@@ -35,7 +35,7 @@ from .answers.fuse_plugs import PlugAnswer, assess_fuse_plugs, plug_temperature
 from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_margin
 from .builders import FusePlugSpec
 from .errors import InputError
-from .geometry import GLOBAL_SERIES, HEAT_SINK_MEAN
+from .geometry import GLOBAL_SERIES, HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX
 from .result import Result
 from .units import from_si
 
@@ -56,6 +56,7 @@ __all__ = [
     "unit_symbols",
     "CAUTION",
     "PLUG_NOTE",
+    "SERIES_LABELS",
 ]
 
 CAUTION = (
@@ -70,6 +71,14 @@ PLUG_NOTE = (
     "its contact with the rim, with the time constant given), so it peaks lower and later than the "
     "rim; release, peak and margin are judged on the plug's own temperature."
 )
+
+
+#: How the report names the global series (other names are shown as they are).
+SERIES_LABELS = {
+    HEAT_SINK_MEAN: "heat sink mean (mass-weighted)",
+    HEAT_SINK_MAX: "heat sink, hottest cell",
+    WHEEL_MAX: "wheel, hottest cell",
+}
 
 
 @dataclass(frozen=True)
@@ -247,7 +256,7 @@ def _peak_rows(result: Result, plug_names: set[str]) -> list[dict[str, Any]]:
         rows.append(
             {
                 "name": p.name,
-                "label": f"rim at the seat of {p.name}" if p.name in plug_names else p.name,
+                "label": f"rim at the seat of {p.name}" if p.name in plug_names else SERIES_LABELS.get(p.name, p.name),
                 "peak_K": p.temperature,
                 "time_of_peak_s": p.time,
                 "delay_after_braking_s": delay,
@@ -617,13 +626,14 @@ def cooling_sentences(report: Mapping[str, Any]) -> list[str]:
     c, unit = report["cooling"], report["temperature_unit"]
     u = unit_symbols(unit)[0]
     below = f"{shown_temperature(c['below_K'], unit)} {u}"
+    series = SERIES_LABELS.get(c["series"], c["series"])
     if c["reached"]:
         return [
-            f"{c['series']} falls below {below} at {shown_minutes(c['time_s'])} min "
+            f"The {series} falls below {below} at {shown_minutes(c['time_s'])} min "
             f"({shown_minutes(c['after_braking_s'])} min after braking)."
         ]
     return [
-        f"{c['series']} does not fall below {below} within the record (ends at {shown_minutes(c['record_end_s'])} "
+        f"The {series} does not fall below {below} within the record (ends at {shown_minutes(c['record_end_s'])} "
         f"min at {shown_temperature(c['value_at_record_end_K'], unit)} {u})."
     ]
 

@@ -26,7 +26,6 @@ from .atomic import write_file_atomically
 from .report import (
     cooling_sentences,
     end_of_braking_sentence,
-    energy_sentence,
     format_report,
     report_tables,
     sensor_sentences,
@@ -62,9 +61,10 @@ h2 { font-size: 1.2rem; margin-top: 2.2rem; border-bottom: 1px solid #d0d0d5; pa
 .caution { background: #fff4e5; border-left: 5px solid #d55e00; padding: 0.7rem 1rem; font-weight: 600; }
 .warnings { background: #fdecea; border-left: 5px solid #b00020; padding: 0.5rem 1rem 0.5rem 2rem; }
 table { border-collapse: collapse; margin: 0.6rem 0; font-variant-numeric: tabular-nums; }
-th, td { border: 1px solid #d0d0d5; padding: 0.25rem 0.6rem; text-align: right; }
-th { background: #f1f1f4; text-align: center; }
-td:first-child, th:first-child { text-align: left; }
+th, td { border: 1px solid #d0d0d5; padding: 0.25rem 0.6rem; text-align: left; vertical-align: top; }
+th { background: #f1f1f4; font-weight: 600; }
+td.number, th.number { text-align: right; }
+td.number, td:first-child { white-space: nowrap; }
 figure { margin: 1.2rem 0; }
 figure img { max-width: 100%; height: auto; border: 1px solid #e4e4e8; }
 figcaption { font-size: 0.85rem; color: #555; }
@@ -118,9 +118,26 @@ def _esc(text: Any) -> str:
     return html.escape(str(text), quote=True)
 
 
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
 def _table(head: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
-    heads = "".join(f"<th>{_esc(h)}</th>" for h in head)
-    body = "".join("<tr>" + "".join(f"<td>{_esc(c)}</td>" for c in row) + "</tr>" for row in rows)
+    """A table; a column holding any number is right-aligned, the first column never wraps."""
+    numeric = [any(_is_number(row[k]) for row in rows) for k in range(len(head))]
+    heads = "".join(
+        f'<th class="{"number" if n else "text"}">{_esc(h)}</th>' for h, n in zip(head, numeric, strict=True)
+    )
+    body = "".join(
+        "<tr>"
+        + "".join(f'<td class="{"number" if n else "text"}">{_esc(c)}</td>' for c, n in zip(row, numeric, strict=True))
+        + "</tr>"
+        for row in rows
+    )
     return f"<table><thead><tr>{heads}</tr></thead><tbody>{body}</tbody></table>"
 
 
@@ -150,7 +167,8 @@ def _energy_html(energy: Mapping[str, Any]) -> str:
             ("stored", "stored_J"),
         )
     ]
-    text = _table(["account", "energy [MJ]"], rows) + _paragraphs([energy_sentence(energy)], "note")
+    closure = f"Closure error {energy['relative_closure_error']:.1e} of the input (stored - in + convected + radiated)."
+    text = _table(["account", "energy [MJ]"], rows) + _paragraphs([closure], "note")
     if energy["interfaces"]:
         split = [
             [i["interface"], f"{i['first_side_J'] / 1e6:.3f}", f"{i['second_side_J'] / 1e6:.3f}"]

@@ -32,6 +32,7 @@ import numpy as np
 from scipy import stats
 
 from ..errors import InputError, OptionalDependencyError
+from ..report import CAUTION
 from ..units import from_si
 
 __all__ = [
@@ -46,6 +47,7 @@ __all__ = [
     "sensitivity",
     "study_report",
     "column_unit",
+    "output_label",
     "DIAGNOSTIC_COLUMNS",
 ]
 
@@ -70,6 +72,54 @@ def column_unit(name: str) -> str:
         if name.startswith(prefix):
             return unit
     return {"energy_in": "J", "plug_margin_min": "K", "any_plug_released": "", "wall_time": "s"}.get(name, "")
+
+
+_LABELS = {
+    "plug_margin_min": "smallest fuse-plug margin (plug temperature)",
+    "any_plug_released": "any fuse plug released",
+    "energy_in": "braking energy in",
+}
+_PREFIX_LABELS = {
+    "plug_margin:": "{} margin (plug temperature)",
+    "plug_peak:": "{} peak (plug temperature)",
+    "plug_released:": "{} released",
+    "limit_margin:": "{} margin to its limit",
+    "peak:": "{} peak",
+    "peak_time:": "{} time of peak",
+    "peak_delay:": "{} peak after braking",
+    "solver:": "solver {}",
+}
+
+
+def output_label(name: str, plugs: Sequence[str] = ()) -> str:
+    """The name of an output column for a reader (the column names stay the data's names).
+
+    Parameters
+    ----------
+    name : str
+        Output column, e.g. ``"plug_margin_min"`` or ``"limit_margin:fuse plug 1"``.
+    plugs : sequence of str
+        Fuse plug names: the ``peak:``, ``peak_time:`` and ``peak_delay:`` columns of a plug's
+        probe are the rim at its seat, and are named so.
+
+    Returns
+    -------
+    str
+    """
+    if name in _LABELS:
+        return _LABELS[name]
+    for prefix, pattern in _PREFIX_LABELS.items():
+        if name.startswith(prefix):
+            subject = name[len(prefix) :]
+            if prefix in ("peak:", "peak_time:", "peak_delay:") and subject in plugs:
+                subject = f"rim at the seat of {subject},"
+            return pattern.format(subject)
+    return name
+
+
+def plug_names(table: StudyTable) -> tuple[str, ...]:
+    """The fuse plugs a study table has outputs for."""
+    return tuple(n.split(":", 1)[1] for n in table.output_names if n.startswith("plug_peak:"))
 
 
 @dataclass(frozen=True, eq=False)
@@ -450,7 +500,7 @@ def study_report(
     lines = [
         f"## Study: {table.title or 'untitled'}",
         "",
-        "*Not certified data.* Defer to the manufacturer's maintenance data.",
+        f"*{CAUTION}*",
         "",
         f"Cases: {table.n_cases} ({counts['ok']} finished, {counts['failed']} failed, "
         f"{counts['pending']} not run); sampling: {table.method or 'unknown'}.",
@@ -463,8 +513,23 @@ def study_report(
         lines += _plug_peak_lines(table, temperature_unit)
     if counts["ok"] > len(table.parameter_names) + 1:
         lines += _sensitivity_lines(table, output)
+    lines += _warning_lines(table)
     lines += _failure_lines(table, max_failures)
     return "\n".join(lines) + "\n"
+
+
+def _warning_lines(table: StudyTable) -> list[str]:
+    """Each distinct warning raised in the cases, with how many cases raised it; empty if none."""
+    if "warnings" not in table.columns:
+        return []
+    counts: dict[str, int] = {}
+    for text in table["warnings"]:
+        for line in dict.fromkeys(str(text).splitlines()):
+            if line.strip():
+                counts[line] = counts.get(line, 0) + 1
+    if not counts:
+        return []
+    return ["", "### Warnings raised in the cases", ""] + [f"- {w} ({n} cases)" for w, n in counts.items()]
 
 
 def _release_lines(table: StudyTable, confidence: float) -> list[str]:
@@ -504,7 +569,7 @@ def _margin_lines(table: StudyTable) -> list[str]:
     ]
     for name in margins:
         p = margin_percentiles(table, name)
-        lines.append(f"| {name} | {_fmt(p[5.0])} | {_fmt(p[50.0])} | {_fmt(p[95.0])} |")
+        lines.append(f"| {output_label(name)} | {_fmt(p[5.0])} | {_fmt(p[50.0])} | {_fmt(p[95.0])} |")
     return lines
 
 
@@ -535,7 +600,8 @@ def _sensitivity_lines(table: StudyTable, output: str | None) -> list[str]:
         return ["", f"Sensitivity not computed: {exc}"]
     lines = [
         "",
-        f"### Sensitivity of {result.output} ({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
+        f"### Sensitivity of {output_label(result.output, plug_names(table))} "
+        f"({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
         "",
         "| parameter | Spearman rho | p-value | SRC |",
         "|---|---|---|---|",
