@@ -181,7 +181,7 @@ class PropertyTable:
             self.material,
             self.name,
             f"{self._where()}: temperature {worst:.6g} K is outside the table ({table}); "
-            "clamping to the end value (warned once per material and property)",
+            "clamping to the end value (warned once per material and property in a run)",
             stacklevel=4,
         )
 
