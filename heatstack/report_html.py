@@ -23,10 +23,10 @@ from pathlib import Path
 from typing import Any
 
 from .atomic import write_file_atomically
-from .report import (
+from .report import format_report
+from .report_text import (
     cooling_sentences,
     end_of_braking_sentence,
-    format_report,
     report_tables,
     sensor_sentences,
     tyre_sentences,

@@ -34,6 +34,7 @@ from scipy import stats
 from ..errors import InputError, OptionalDependencyError
 from ..report import CAUTION
 from ..units import from_si
+from .labels import output_label, plug_names
 
 __all__ = [
     "StudyTable",
@@ -47,7 +48,6 @@ __all__ = [
     "sensitivity",
     "study_report",
     "column_unit",
-    "output_label",
     "DIAGNOSTIC_COLUMNS",
 ]
 
@@ -72,54 +72,6 @@ def column_unit(name: str) -> str:
         if name.startswith(prefix):
             return unit
     return {"energy_in": "J", "plug_margin_min": "K", "any_plug_released": "", "wall_time": "s"}.get(name, "")
-
-
-_LABELS = {
-    "plug_margin_min": "smallest fuse-plug margin (plug temperature)",
-    "any_plug_released": "any fuse plug released",
-    "energy_in": "braking energy in",
-}
-_PREFIX_LABELS = {
-    "plug_margin:": "{} margin (plug temperature)",
-    "plug_peak:": "{} peak (plug temperature)",
-    "plug_released:": "{} released",
-    "limit_margin:": "{} margin to its limit",
-    "peak:": "{} peak",
-    "peak_time:": "{} time of peak",
-    "peak_delay:": "{} peak after braking",
-    "solver:": "solver {}",
-}
-
-
-def output_label(name: str, plugs: Sequence[str] = ()) -> str:
-    """The name of an output column for a reader (the column names stay the data's names).
-
-    Parameters
-    ----------
-    name : str
-        Output column, e.g. ``"plug_margin_min"`` or ``"limit_margin:fuse plug 1"``.
-    plugs : sequence of str
-        Fuse plug names: the ``peak:``, ``peak_time:`` and ``peak_delay:`` columns of a plug's
-        probe are the rim at its seat, and are named so.
-
-    Returns
-    -------
-    str
-    """
-    if name in _LABELS:
-        return _LABELS[name]
-    for prefix, pattern in _PREFIX_LABELS.items():
-        if name.startswith(prefix):
-            subject = name[len(prefix) :]
-            if prefix in ("peak:", "peak_time:", "peak_delay:") and subject in plugs:
-                subject = f"rim at the seat of {subject},"
-            return pattern.format(subject)
-    return name
-
-
-def plug_names(table: StudyTable) -> tuple[str, ...]:
-    """The fuse plugs a study table has outputs for."""
-    return tuple(n.split(":", 1)[1] for n in table.output_names if n.startswith("plug_peak:"))
 
 
 @dataclass(frozen=True, eq=False)
@@ -600,7 +552,7 @@ def _sensitivity_lines(table: StudyTable, output: str | None) -> list[str]:
         return ["", f"Sensitivity not computed: {exc}"]
     lines = [
         "",
-        f"### Sensitivity of {output_label(result.output, plug_names(table))} "
+        f"### Sensitivity of {output_label(result.output, plug_names(table.output_names))} "
         f"({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
         "",
         "| parameter | Spearman rho | p-value | SRC |",

@@ -16,7 +16,8 @@ from matplotlib.figure import Figure
 
 from ..errors import InputError
 from ..plotting.common import figure_target, save_figure
-from .analysis import SensitivityResult, StudyTable, margin_percentiles, output_label
+from .analysis import SensitivityResult, StudyTable, margin_percentiles
+from .labels import output_label
 
 __all__ = ["plot_margin_histogram", "plot_tornado", "CAPTION"]
 
