@@ -228,7 +228,8 @@ def html_report(report: Mapping[str, Any], figures: Sequence[Path] = (), case_te
     unit = unit_symbols(report["temperature_unit"])[0]
     titles = {**_TITLES, "peaks": f"Peak temperatures [{unit}]"}
     nav = "".join(f'<a href="#{key}">{_esc(titles[key])}</a>' for key in present if key != "caution")
-    sections = "".join(f'<section id="{key}"><h2>{_esc(titles[key])}</h2>{bodies[key]}</section>' for key in present)
+    heads = {key: "" if key == "caution" else f"<h2>{_esc(titles[key])}</h2>" for key in present}
+    sections = "".join(f'<section id="{key}">{heads[key]}{bodies[key]}</section>' for key in present)
     title = _esc(report["title"] or "heatstack report")
     return (
         '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
