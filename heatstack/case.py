@@ -11,6 +11,7 @@ from __future__ import annotations
 import difflib
 import inspect
 import tomllib
+import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field, fields, replace
 from pathlib import Path
@@ -21,7 +22,7 @@ import numpy as np
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
 from .case_keys import EVENT_KINDS, ROLL_RECORDS, key_dimension
-from .errors import HeatstackError, InputError
+from .errors import HeatstackError, InputError, ScheduleError
 from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .material_files import material_from_mapping
 from .materials import Material
@@ -29,6 +30,7 @@ from .model import Model
 from .numerics.options import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
+from .property_table import forget_warnings
 from .report import ReportSettings, TyreSettings
 from .result import Result
 from .units import declared_dimensions, quantity
@@ -134,7 +136,10 @@ class _Table:
 @dataclass(frozen=True)
 class OutputSettings:
     """What a run writes and reports: results file, plots, report unit, limits [K] per
-    probe or series, and the cooling-time question (series below a temperature [K])."""
+    probe or series, the cooling-time question (series below a temperature [K]) and the
+    braking event whose end is "end of braking" (``reference_event``; by default the
+    event with the most energy per brake, so gear retraction or taxi snubs after the
+    stop do not move it)."""
 
     file: str = "results.h5"
     plots: bool = True
@@ -142,6 +147,7 @@ class OutputSettings:
     limits: Mapping[str, float] = field(default_factory=dict)
     cooling_below: float | None = None
     cooling_series: str = HEAT_SINK_MEAN
+    reference_event: str | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -461,12 +467,13 @@ def _output(t: _Table) -> OutputSettings:
         limits,
         t.quantity("cooling_below", None),
         t.text("cooling_series", HEAT_SINK_MEAN),
+        t.text("reference_event", None),
     )
     t.finish()
     return out
 
 
-def _tyre(t: _Table, built: BuiltWheelBrake | None) -> TyreSettings | None:
+def _tyre(t: _Table, built: BuiltWheelBrake | None, duty: DutyCycle) -> TyreSettings | None:
     if not t.data:
         return None
     area = t.quantity("cavity_area", None)
@@ -481,6 +488,8 @@ def _tyre(t: _Table, built: BuiltWheelBrake | None) -> TyreSettings | None:
     for key in ("cold_pressure", "gas_volume"):
         t.raw(key)  # required: raises naming the key path
     values["cavity_area"] = area
+    # gauge pressures are read against the air where the duty starts, unless given
+    values.setdefault("ambient_pressure", duty.phases[0].environment.ambient_pressure)
     t.finish()
     try:
         return TyreSettings(**values)
@@ -544,8 +553,12 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     duty = _duty(root.table("duty"), base)
     solver = _solver(root.table("solver", {}))
     output = _output(root.table("output", {}))
-    tyre = _tyre(root.table("tyre", {}), built)
+    tyre = _tyre(root.table("tyre", {}), built, duty)
     root.finish(("case", "materials", "assembly", "duty", "solver", "output", "tyre"))
+    try:
+        duty.end_of_braking(output.reference_event)
+    except ScheduleError as exc:
+        raise InputError(f"output.{exc}") from None
     known = {p.name for p in assembly.probes} | {s for g in assembly.cell_groups for s in g.series_names}
     for name in output.limits:
         if name not in known:
@@ -617,7 +630,9 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     Returns
     -------
     Result
-        The run [K, s, J]; its metadata holds the case title and origin.
+        The run [K, s, J]; its metadata holds the case title and origin and the text of
+        every warning raised while meshing and running (``metadata["warnings"]``), which
+        the report shows.
 
     Raises
     ------
@@ -626,8 +641,14 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     SolverError
         If the solver cannot complete a step.
     """
-    model = model or case.build_model()
-    schedule = case.duty.schedule(case.assembly.surfaces)
-    result = model.run(schedule, case.initial_temperature, case.solver, progress)
-    result.metadata.update({"case_title": case.title, "case_origin": case.origin})
+    forget_warnings()  # each run reports the materials that leave their tables in it
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        model = model or case.build_model()
+        schedule = case.duty.schedule(case.assembly.surfaces, reference_event=case.output.reference_event)
+        result = model.run(schedule, case.initial_temperature, case.solver, progress)
+    for item in caught:  # shown as before, and kept with the result for its report
+        warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
+    messages = list(dict.fromkeys(str(item.message) for item in caught))
+    result.metadata.update({"case_title": case.title, "case_origin": case.origin, "warnings": messages})
     return result

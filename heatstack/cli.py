@@ -22,6 +22,7 @@ from . import __version__
 from .atomic import write_file_atomically
 from .errors import HeatstackError, InputError, ResultFileError
 from .geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN
+from .report import CAUTION
 
 __all__ = ["main", "demo_case_path"]
 
@@ -64,6 +65,7 @@ def _write_plots(result, folder: Path, unit: str) -> list[Path]:
 def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, quiet: bool) -> int:
     from .case import load_case, run_case
     from .report import build_report, format_report
+    from .report_html import write_report_files
     from .resultfile import check_writable, write_result
 
     case = load_case(case_path)
@@ -86,8 +88,12 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
         resolved_inputs={"case": case.resolved(), "report": settings.to_mapping()},
     )
     written = _write_plots(result, out, settings.unit) if plots and case.output.plots else []
-    print(format_report(build_report(result, settings), "text"))
+    report = build_report(result, settings)
+    html_path, md_path = write_report_files(report, out, written, case.text)
+    print(format_report(report, "text"))
     print(f"results: {target}")
+    print(f"report:  {html_path}")
+    print(f"report:  {md_path}")
     for path in written:
         print(f"plot:    {path}")
     return 0
@@ -116,6 +122,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
     case = load_case(args.case)
     model = case.build_model()
     print(f"{case.title}")
+    print(CAUTION)
     print(f"{'part':20s} {'role':15s} {'material':30s} r [mm]          z [mm]")
     for part in case.assembly.parts:
         print(
@@ -214,6 +221,7 @@ def _cmd_plot(args: argparse.Namespace) -> int:
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
+    from .answers.fuse_plugs import assess_fuse_plugs
     from .case import load_case
     from .questions.inverse import estimate_energy
     from .questions.sensor_trace import read_sensor_trace
@@ -232,6 +240,7 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         raise_on_failure=False,
     )
     state = "converged" if estimate.converged else "NOT converged"
+    print(CAUTION)
     print(
         f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {estimate.standard_error / 1e6:.3f} MJ "
         f"(1 standard error; {state}; {estimate.n_runs} runs; residual rms {estimate.residual_rms:.2f} K)"
@@ -239,10 +248,11 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     if estimate.message:
         print(estimate.message)
     predicted = estimate.predicted
-    for name in (HEAT_SINK_MEAN, HEAT_SINK_MAX, *[p.name for p in case.fuse_plugs]):
-        if name in predicted.readings or name in predicted.series:
-            value, when = predicted.peak(name)
-            print(f"  predicted {name:16s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min")
+    peaks = [(name, *predicted.peak(name)) for name in (HEAT_SINK_MEAN, HEAT_SINK_MAX) if name in predicted.series]
+    if case.fuse_plugs:  # a plug's peak is its own lagged temperature, as in the report
+        peaks += [(a.name, a.peak, a.time_of_peak) for a in assess_fuse_plugs(predicted, case.fuse_plugs)]
+    for name, value, when in peaks:
+        print(f"  predicted {name:16s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min")
     return 0 if estimate.converged else 1
 
 
@@ -289,6 +299,7 @@ def _cmd_study(args: argparse.Namespace) -> int:
 def _cmd_materials(args: argparse.Namespace) -> int:
     from .material_files import available_materials, load_material
 
+    print(CAUTION)
     for name in available_materials():
         material = load_material(name)
         low, high = material.specific_heat.temperature_range

@@ -319,7 +319,7 @@ class Material:
             self.name,
             "specific_heat",
             f"{where}: enthalpy {worst:.6g} J/m^3 is outside the table ({table}); "
-            "extrapolating with the end specific heat (warned once per material and property)",
+            "extrapolating with the end specific heat (warned once per material and property in a run)",
             stacklevel=3,
         )
 

@@ -16,7 +16,7 @@ from numpy.typing import ArrayLike
 
 from .errors import HeatstackWarning, MaterialError, PropertyRangeError
 
-__all__ = ["PropertyTable", "EXTRAPOLATIONS", "warn_once", "as_float_array", "is_real_number"]
+__all__ = ["PropertyTable", "EXTRAPOLATIONS", "warn_once", "forget_warnings", "as_float_array", "is_real_number"]
 
 #: What a table does outside its rows: raise an error, or clamp to the end row (and warn once).
 EXTRAPOLATIONS = ("error", "clamp")
@@ -40,6 +40,12 @@ def warn_once(material: str, prop: str, message: str, stacklevel: int) -> None:
     if (material, prop) not in _clamp_warned:
         _clamp_warned.add((material, prop))
         warnings.warn(message, HeatstackWarning, stacklevel=stacklevel + 1)
+
+
+def forget_warnings() -> None:
+    """Let every (material, property) pair warn again: called at the start of each run, so
+    each run's report lists the materials that left their tables in that run."""
+    _clamp_warned.clear()
 
 
 def is_real_number(value: object) -> bool:
@@ -175,7 +181,7 @@ class PropertyTable:
             self.material,
             self.name,
             f"{self._where()}: temperature {worst:.6g} K is outside the table ({table}); "
-            "clamping to the end value (warned once per material and property)",
+            "clamping to the end value (warned once per material and property in a run)",
             stacklevel=4,
         )
 

@@ -1,35 +1,75 @@
 """The report of a run: peaks and delays, sensor against the true heat sink, fuse plugs,
-tyre bead and pressure, cooling time and the energy ledger, as text, Markdown or JSON.
+tyre bead and pressure, cooling time, the energy ledger and the warnings of the run.
+
+:func:`build_report` gives the report as data: every value in SI at full precision,
+each key naming its unit (``peak_K``, ``time_of_peak_s``, ``heat_in_J``,
+``peak_pressure_Pa_gauge``). That mapping is the JSON report. :func:`format_report`
+renders it as text or Markdown for reading, with temperatures in degC (default), degF
+or K and times in minutes (the tables and sentences of :mod:`heatstack.report_text`);
+:mod:`heatstack.report_html` renders it as one HTML file.
 
 The report is built from a Result and its :class:`ReportSettings` (stored with the
 result, so ``heatstack report results.h5`` gives the same report as the run).
-Temperatures are SI inside and shown in degC (default), degF or K.
 """
 
 from __future__ import annotations
 
 import json
-from collections.abc import Mapping
+import warnings
+from collections.abc import Mapping, Sequence
 from dataclasses import asdict, dataclass, field
 from typing import Any
 
 import numpy as np
 
-from .answers.analysis import cooling_time_in_result, margins, peak, sensor_lag, threshold_crossings
-from .answers.fuse_plugs import PlugAnswer, assess_fuse_plugs
+from . import __version__
+from .answers.analysis import (
+    cooling_time_in_result,
+    level_crossings,
+    margins,
+    peak,
+    record_times,
+    sensor_lag,
+    threshold_crossings,
+)
+from .answers.fuse_plugs import PlugAnswer, assess_fuse_plugs, plug_temperature
 from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_margin
 from .builders import FusePlugSpec
 from .errors import InputError
 from .geometry import GLOBAL_SERIES, HEAT_SINK_MEAN
+from .report_text import (
+    SERIES_LABELS,
+    cooling_sentences,
+    end_of_braking_sentence,
+    energy_sentence,
+    report_tables,
+    sensor_sentences,
+    tyre_sentences,
+    unit_symbols,
+)
 from .result import Result
-from .units import convert_declared, declared, from_si
+from .units import convert_declared, declared
 
-__all__ = ["TyreSettings", "ReportSettings", "build_report", "format_report", "CAUTION"]
+__all__ = [
+    "TyreSettings",
+    "ReportSettings",
+    "build_report",
+    "format_report",
+    "CAUTION",
+    "PLUG_NOTE",
+]
 
 CAUTION = (
     "CAUTION: engineering model output, not certified data. Defer to the wheel and brake "
     "manufacturer's maintenance data, the aircraft's approved documentation, local regulations "
     "and licensed practice. Hot brakes, wheels and tyres are dangerous to approach."
+)
+
+#: Why a fuse plug's peak differs from the rim's at its seat (one sentence for the report).
+PLUG_NOTE = (
+    "A fuse plug's own temperature lags the rim at its seat (the plug's small mass heats through "
+    "its contact with the rim, with the time constant given), so it peaks lower and later than the "
+    "rim; release, peak and margin are judged on the plug's own temperature."
 )
 
 
@@ -47,18 +87,23 @@ class TyreSettings:
         Rim exterior wetted by the tyre gas [m^2].
     h_cavity : float
         Heat transfer coefficient rim -> gas [W/(m^2 K)].
-    outer_conductance : float
-        Conductance from the gas through the carcass to ambient [W/K].
+    outer_conductance : float or None
+        Conductance from the gas through the carcass to ambient [W/K]; None for the
+        estimate of :func:`~heatstack.answers.tyre.default_outer_conductance` (about
+        6 W/(m^2 K) over the tyre's outer surface, from the gas volume).
     pressure_limit : float or None
         Pressure limit [Pa gauge] to assess against, or None for no limit.
+    ambient_pressure : float
+        Air pressure [Pa] the gauge pressures are read against (the case's own ambient).
     """
 
     cold_pressure: float = declared("pressure")
     gas_volume: float = declared("volume", positive=True)
     cavity_area: float = declared("area", positive=True)
     h_cavity: float = declared("heat_transfer_coefficient", 15.0, minimum=0.0)
-    outer_conductance: float = declared("thermal_conductance", 0.0, minimum=0.0)
+    outer_conductance: float | None = declared("thermal_conductance", None, minimum=0.0)
     pressure_limit: float | None = declared("pressure", None)
+    ambient_pressure: float = declared("pressure", 101325.0, positive=True)
 
     def __post_init__(self) -> None:
         convert_declared(self, "tyre")
@@ -71,9 +116,10 @@ class ReportSettings:
     Parameters
     ----------
     unit : str
-        Temperature unit of the report: ``"degC"``, ``"degF"`` or ``"K"``.
+        Temperature unit of the text report: ``"degC"``, ``"degF"`` or ``"K"``.
     limits : mapping of str to float
-        Temperature limit [K] per probe or series name, for the margins.
+        Temperature limit [K] per probe or series name, for the margins; a limit on a
+        fuse plug's name is judged on the plug's own (lagged) temperature.
     fuse_plugs : tuple of FusePlugSpec
         Fuse plugs to assess (release temperature [K], tolerance [K], lag [s]).
     tyre : TyreSettings or None
@@ -117,35 +163,33 @@ class ReportSettings:
         return cls(**data)
 
 
-def _shown(value: float | None, unit: str) -> float | None:
-    return None if value is None else round(float(from_si(value, "temperature", unit)), 1)
+def _float(value: float | None) -> float | None:
+    return None if value is None else float(value)
 
 
-def _difference(value: float, unit: str) -> float:
-    return round(float(value) * (1.8 if unit == "degF" else 1.0), 1)
-
-
-def _minutes(seconds: float | None) -> float | None:
-    return None if seconds is None else round(seconds / 60.0, 2)
-
-
-def build_report(result: Result, settings: ReportSettings | None = None) -> dict[str, Any]:
-    """The report as a plain, JSON-able mapping (temperatures in ``settings.unit``).
+def build_report(
+    result: Result, settings: ReportSettings | None = None, warnings_seen: Sequence[str] = ()
+) -> dict[str, Any]:
+    """The report as plain, JSON-able data: SI values at full precision, units in the keys.
 
     Parameters
     ----------
     result : Result
-        A finished run [K, s, J].
+        A finished run [K, s, J]. Warnings recorded in ``result.metadata["warnings"]``
+        (by :func:`heatstack.case.run_case`) are reported.
     settings : ReportSettings, optional
         What to assess; the defaults (degC, no limits, no fuse plugs, no tyre) when None.
+    warnings_seen : sequence of str
+        More warnings that bear on the answer, to report.
 
     Returns
     -------
     dict
-        Sections ``peaks``, ``sensor``, ``fuse_plugs``, ``margins``, ``tyre``,
-        ``cooling`` and ``ledger`` (and the title, caution and phases), with
-        temperatures in ``settings.unit``, differences in K or °F and times in minutes
-        (keys ending ``_min``); ready for :func:`format_report` or ``json.dumps``.
+        ``title``, ``caution``, ``heatstack_version``, ``end_of_braking_s``, ``phases``
+        and the sections ``peaks``, ``sensor``, ``fuse_plugs``, ``limits``, ``tyre``,
+        ``cooling``, ``energy`` and ``warnings``. Every key names its unit (``_K``,
+        ``_s``, ``_J``, ``_Pa``, ``_Pa_gauge``); ``temperature_unit`` is the unit the
+        text forms show.
 
     Raises
     ------
@@ -154,22 +198,34 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
         fuse plug or the cooling series names a history the result does not hold.
     """
     settings = settings or ReportSettings()
-    unit = settings.unit
-    if unit not in ("degC", "degF", "K"):
-        raise InputError(f"report unit must be 'degC', 'degF' or 'K', got {unit!r}")
+    if settings.unit not in ("degC", "degF", "K"):
+        raise InputError(f"report unit must be 'degC', 'degF' or 'K', got {settings.unit!r}")
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        report = _sections(result, settings)
+    for item in caught:  # still shown where warnings are shown, and kept in the report
+        warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
+    seen = [*result.metadata.get("warnings", ()), *warnings_seen, *(str(w.message) for w in caught)]
+    report["warnings"] = list(dict.fromkeys(str(w) for w in seen))
+    return report
+
+
+def _sections(result: Result, settings: ReportSettings) -> dict[str, Any]:
     report: dict[str, Any] = {
         "title": settings.title,
         "caution": CAUTION,
-        "temperature_unit": unit,
-        "end_of_braking_min": _minutes(result.end_of_heating),
+        "heatstack_version": __version__,
+        "temperature_unit": settings.unit,
+        "end_of_braking_s": float(result.end_of_braking),
         "heat_sink_mass_kg": result.metadata.get("heat_sink_mass_kg"),
-        "phases": [{"name": n, "start_min": _minutes(a), "end_min": _minutes(b)} for n, a, b in result.phases],
+        "phases": [{"name": n, "start_s": float(a), "end_s": float(b)} for n, a, b in result.phases],
     }
-    report["peaks"] = _peak_rows(result, unit)
+    plugs = assess_fuse_plugs(result, settings.fuse_plugs) if settings.fuse_plugs else []
+    report["peaks"] = _peak_rows(result, {p.name for p in plugs})
     if settings.sensor in result.readings and HEAT_SINK_MEAN in result.series:
         report["sensor"] = _sensor_section(result, settings)
-    plugs = assess_fuse_plugs(result, settings.fuse_plugs) if settings.fuse_plugs else []
-    report["fuse_plugs"] = [_fuse_plug_row(a, unit) for a in plugs]
+    report["fuse_plugs"] = [_fuse_plug_row(result, a) for a in plugs]
+    report["fuse_plug_note"] = PLUG_NOTE if plugs else ""
     report["limits"] = _limit_rows(result, settings)
     report["tyre"] = _tyre_section(result, settings, plugs)
     if settings.cooling_below is not None:
@@ -178,105 +234,139 @@ def build_report(result: Result, settings: ReportSettings | None = None) -> dict
     return report
 
 
-def _peak_rows(result: Result, unit: str) -> list[dict[str, Any]]:
-    """Peak, its time and its delay after braking of every reading and of the summary series present."""
+def _delay(time: float, end_of_braking: float) -> tuple[float | None, bool]:
+    """(delay after the end of braking [s], or None for a peak during braking; during braking)."""
+    during = time < end_of_braking
+    return (None if during else float(time - end_of_braking)), during
+
+
+def _peak_rows(result: Result, plug_names: set[str]) -> list[dict[str, Any]]:
+    """Peak, its time and its delay after braking of every reading and summary series present.
+
+    The probe at a fuse plug reads the rim at the plug's seat, and is labelled so.
+    """
     names = list(result.readings) + [s for s in GLOBAL_SERIES if s in result.series]
-    return [
-        {
-            "name": p.name,
-            "peak": _shown(p.temperature, unit),
-            "time_min": _minutes(p.time),
-            "delay_after_braking_min": _minutes(p.delay_after_braking),
-        }
-        for p in (peak(result, name) for name in names)
-    ]
+    rows = []
+    for p in (peak(result, name) for name in names):
+        delay, during = _delay(p.time, result.end_of_braking)
+        rows.append(
+            {
+                "name": p.name,
+                "label": f"rim at the seat of {p.name}" if p.name in plug_names else SERIES_LABELS.get(p.name, p.name),
+                "peak_K": p.temperature,
+                "time_of_peak_s": p.time,
+                "delay_after_braking_s": delay,
+                "during_braking": during,
+            }
+        )
+    return rows
 
 
 def _sensor_section(result: Result, settings: ReportSettings) -> dict[str, Any]:
     """The sensor reading against the true heat-sink temperature: its peak, delays and offsets."""
-    unit = settings.unit
     lag = sensor_lag(result, settings.sensor, settings.band)
     return {
         "name": lag.sensor,
         "time_constant_s": lag.time_constant,
-        "peak": _shown(lag.reading_peak, unit),
-        "time_of_peak_min": _minutes(lag.time_of_peak),
-        "delay_after_braking_min": _minutes(lag.delay),
-        "conduction_delay_min": _minutes(lag.conduction_delay),
-        "instrument_delay_min": _minutes(lag.instrument_delay),
-        "offset_to_heat_sink_mean_at_peak": _difference(lag.offset_to_mean_at_peak, unit),
-        "offset_to_hottest_cell_at_peak": _difference(lag.offset_to_max_at_peak, unit),
-        "largest_under_reading": _difference(float(np.min(lag.offset_to_mean)), unit),
-        "band": _difference(lag.band, unit),
-        "within_band_of_mean_min": _minutes(lag.within_band_time),
+        "peak_K": lag.reading_peak,
+        "time_of_peak_s": lag.time_of_peak,
+        "delay_after_braking_s": lag.delay,
+        "conduction_delay_s": lag.conduction_delay,
+        "instrument_delay_s": lag.instrument_delay,
+        "offset_to_heat_sink_mean_at_peak_K": lag.offset_to_mean_at_peak,
+        "offset_to_hottest_cell_at_peak_K": lag.offset_to_max_at_peak,
+        "largest_under_reading_K": float(np.min(lag.offset_to_mean)),
+        "band_K": lag.band,
+        "within_band_of_mean_s": _float(lag.within_band_time),
     }
 
 
-def _fuse_plug_row(a: PlugAnswer, unit: str) -> dict[str, Any]:
-    """One fuse plug's peak, release temperature, margin and release times."""
+def _fuse_plug_row(result: Result, a: PlugAnswer) -> dict[str, Any]:
+    """One fuse plug's own peak, release temperature, margin and release times; the rim at its seat."""
+    rim_peak, rim_time = result.peak(a.name) if a.name in result.readings else (None, None)
     return {
         "name": a.name,
-        "peak": _shown(a.peak, unit),
-        "time_of_peak_min": _minutes(a.time_of_peak),
-        "release_temperature": _shown(a.release_temperature, unit),
-        "margin": _difference(a.margin, unit),
+        "peak_K": a.peak,
+        "time_of_peak_s": a.time_of_peak,
+        "release_temperature_K": a.release_temperature,
+        "tolerance_K": a.tolerance,
+        "time_constant_s": a.time_constant,
+        "margin_K": a.margin,
         "releases": a.releases,
-        "release_time_min": _minutes(a.release_time),
-        "earliest_release_time_min": _minutes(a.earliest_release_time),
+        "release_time_s": _float(a.release_time),
+        "earliest_release_time_s": _float(a.earliest_release_time),
+        "rim_at_seat_peak_K": rim_peak,
+        "rim_at_seat_time_of_peak_s": rim_time,
     }
 
 
 def _limit_rows(result: Result, settings: ReportSettings) -> list[dict[str, Any]]:
-    """Each limited probe or series: limit, peak, margin and the times it crosses the limit."""
-    unit = settings.unit
-    return [
-        {
-            "name": m.name,
-            "limit": _shown(m.limit, unit),
-            "peak": _shown(m.peak, unit),
-            "margin": _difference(m.margin, unit),
-            "time_of_peak_min": _minutes(m.time_of_peak),
-            "exceeded": m.exceeded,
-            "crossings": [
-                {"time_min": _minutes(t), "direction": d} for t, d in threshold_crossings(result, m.name, m.limit)
-            ],
-        }
-        for m in (margins(result, settings.limits) if settings.limits else [])
-    ]
+    """Each limited probe or series: limit, peak, margin and the times it crosses the limit.
+
+    A limit on a fuse plug's name is judged on the plug's own temperature, so it agrees
+    with the fuse plug section.
+    """
+    if not settings.limits:
+        return []
+    plugs = {p.name: p for p in settings.fuse_plugs}
+    times = record_times(result)
+    rows = []
+    for m in margins(result, settings.limits):
+        if m.name in plugs:
+            values = plug_temperature(result, plugs[m.name])
+            k = int(np.argmax(values))
+            top, when, crossings = float(values[k]), float(times[k]), level_crossings(times, values, m.limit)
+            assessed = "fuse plug temperature"
+        else:
+            top, when, crossings = m.peak, m.time_of_peak, threshold_crossings(result, m.name, m.limit)
+            assessed = "reading" if m.name in result.readings else "series"
+        rows.append(
+            {
+                "name": m.name,
+                "assessed": assessed,
+                "limit_K": m.limit,
+                "peak_K": top,
+                "margin_K": m.limit - top,
+                "time_of_peak_s": when,
+                "exceeded": bool(top > m.limit),
+                "crossings": [{"time_s": t, "direction": d} for t, d in crossings],
+            }
+        )
+    return rows
 
 
 def _cooling_section(result: Result, settings: ReportSettings) -> dict[str, Any]:
     """When the cooling series falls below its threshold, or where the record ends if it does not."""
-    unit = settings.unit
     answer = cooling_time_in_result(result, settings.cooling_series, settings.cooling_below)
     return {
         "series": answer.name,
-        "below": _shown(answer.below, unit),
+        "below_K": answer.below,
         "reached": answer.reached,
-        "time_min": _minutes(answer.time_below),
-        "after_braking_min": _minutes(answer.duration),
-        "value_at_record_end": _shown(answer.value_at_record_end, unit),
-        "record_end_min": _minutes(answer.record_end),
+        "time_s": _float(answer.time_below),
+        "after_braking_s": _float(answer.duration),
+        "value_at_record_end_K": answer.value_at_record_end,
+        "record_end_s": answer.record_end,
     }
 
 
 def _energy_section(result: Result) -> dict[str, Any]:
-    """The energy ledger at the end of the record [MJ] and the split of each rubbing interface."""
+    """The energy ledger at the end of the record [J] and the split of each rubbing interface."""
     ledger = result.ledger
     return {
-        "in_MJ": ledger.heat_in[-1] / 1e6,
-        "convected_MJ": ledger.convected[-1] / 1e6,
-        "radiated_MJ": ledger.radiated[-1] / 1e6,
-        "stored_MJ": ledger.stored[-1] / 1e6,
+        "heat_in_J": float(ledger.heat_in[-1]),
+        "convected_J": float(ledger.convected[-1]),
+        "radiated_J": float(ledger.radiated[-1]),
+        "stored_J": float(ledger.stored[-1]),
         "relative_closure_error": ledger.relative_closure_error,
         "interfaces": [
-            {"interface": label, "first_side_MJ": float(a) / 1e6, "second_side_MJ": float(b) / 1e6}
+            {"interface": label, "first_side_J": float(a), "second_side_J": float(b)}
             for label, (a, b) in zip(ledger.friction_labels, ledger.friction_split, strict=True)
         ],
     }
 
 
 def _tyre_section(result: Result, settings: ReportSettings, plugs: list) -> dict[str, Any] | None:
+    """Tyre gas: peak pressure, the first time the limit is reached and when it falls back."""
     tyre = settings.tyre
     if tyre is None or "surface:tyre cavity" not in result.series:
         return None
@@ -288,20 +378,26 @@ def _tyre_section(result: Result, settings: ReportSettings, plugs: list) -> dict
         tyre.h_cavity,
         settings.cold_temperature,
         tyre.outer_conductance,
+        ambient_pressure=tyre.ambient_pressure,
     )
-    section = {
-        "cold_pressure_bar_gauge": tyre.cold_pressure / 1e5,
-        "peak_pressure_bar_gauge": round((gas.peak_pressure - gas.ambient_pressure) / 1e5, 3),
-        "time_of_peak_min": _minutes(gas.time_of_peak),
-        "peak_gas_temperature": _shown(gas.peak_temperature, settings.unit),
+    section: dict[str, Any] = {
+        "ambient_pressure_Pa": gas.ambient_pressure,
+        "cold_pressure_Pa_gauge": gas.cold_pressure - gas.ambient_pressure,
+        "outer_conductance_W_per_K": gas.outer_conductance,
+        "outer_conductance_estimated": tyre.outer_conductance is None,
+        "peak_pressure_Pa_gauge": gas.peak_pressure - gas.ambient_pressure,
+        "time_of_peak_s": gas.time_of_peak,
+        "peak_gas_temperature_K": gas.peak_temperature,
     }
     if tyre.pressure_limit is not None:
         margin = tyre_pressure_margin(gas, tyre.pressure_limit)
         section.update(
             {
-                "pressure_limit_bar_gauge": tyre.pressure_limit / 1e5,
-                "pressure_margin_bar": round(margin.margin / 1e5, 3),
+                "pressure_limit_Pa_gauge": margin.limit - gas.ambient_pressure,
+                "pressure_margin_Pa": margin.margin,
                 "limit_exceeded": margin.exceeded,
+                "limit_first_reached_s": _float(margin.time_limit_reached),
+                "back_below_limit_s": _float(margin.time_back_below_limit),
             }
         )
         if plugs:
@@ -310,18 +406,7 @@ def _tyre_section(result: Result, settings: ReportSettings, plugs: list) -> dict
     return section
 
 
-def _table(rows: list[dict], columns: list[tuple[str, str]], markdown: bool) -> list[str]:
-    def cell(value: Any) -> str:
-        if value is None:
-            return "-"
-        if isinstance(value, bool):
-            return "yes" if value else "no"
-        if isinstance(value, float):
-            return f"{value:.2f}" if abs(value) < 100 else f"{value:.1f}"
-        return str(value)
-
-    head = [title for _, title in columns]
-    body = [[cell(row.get(key)) for key, _ in columns] for row in rows]
+def _table_lines(head: list[str], body: list[list[str]], markdown: bool) -> list[str]:
     if markdown:
         lines = ["| " + " | ".join(head) + " |", "|" + "|".join("---" for _ in head) + "|"]
         return lines + ["| " + " | ".join(r) + " |" for r in body]
@@ -329,15 +414,6 @@ def _table(rows: list[dict], columns: list[tuple[str, str]], markdown: bool) -> 
     lines = ["  ".join(h.ljust(w) for h, w in zip(head, widths, strict=True))]
     lines.append("  ".join("-" * w for w in widths))
     return lines + ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)) for r in body]
-
-
-def _crossed(crossings: list[dict]) -> str:
-    marks = {"up": "above", "down": "below"}
-    return ", ".join(f"{marks[c['direction']]} {c['time_min']}" for c in crossings) or "never"
-
-
-def _or_never(minutes: float | None) -> str:
-    return "no time in the record" if minutes is None else f"{minutes} min"
 
 
 def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
@@ -348,7 +424,8 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
     report : mapping
         The output of :func:`build_report`.
     fmt : str
-        ``"text"`` (plain columns), ``"markdown"`` (tables) or ``"json"``.
+        ``"text"`` (plain columns), ``"markdown"`` (tables) or ``"json"`` (the data
+        itself: SI, full precision).
 
     Returns
     -------
@@ -361,139 +438,44 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
         If ``fmt`` is none of the three.
     """
     if fmt == "json":
-        return json.dumps(report, indent=2)
+        return json.dumps(report, indent=2) + "\n"
     if fmt not in ("text", "markdown"):
         raise InputError(f"report format must be 'text', 'markdown' or 'json', got {fmt!r}")
     md = fmt == "markdown"
-    u = {"degC": "°C", "degF": "°F", "K": "K"}[report["temperature_unit"]]
-    du = "°F" if u == "°F" else "K"  # unit of a temperature difference
+    tables = report_tables(report)
     lines = [
         f"# {report['title']}" if md else report["title"],
         "",
         f"> {report['caution']}" if md else report["caution"],
     ]
-    lines += ["", f"End of braking: {report['end_of_braking_min']} min."]
+    if report["warnings"]:
+        lines += _heading("Warnings that bear on these answers", md)
+        lines += [f"- {w}" for w in report["warnings"]]
+    lines += ["", end_of_braking_sentence(report)]
     if report.get("heat_sink_mass_kg") is not None:
         lines += [f"Heat-sink mass: {report['heat_sink_mass_kg']:.2f} kg."]
-    lines += _peaks_lines(report["peaks"], u, md)
-    if "sensor" in report:
-        lines += _sensor_lines(report["sensor"], u, du, md)
-    if report["fuse_plugs"]:
-        lines += _fuse_plug_lines(report["fuse_plugs"], u, du, md)
-    if report["limits"]:
-        lines += _limit_lines(report["limits"], u, du, md)
-    if report.get("tyre"):
-        lines += _tyre_lines(report["tyre"], u, md)
-    if "cooling" in report:
-        lines += _cooling_lines(report["cooling"], u, md)
-    lines += _energy_lines(report["energy"], md)
+    lines += _heading(f"Peak temperatures [{unit_symbols(report['temperature_unit'])[0]}]", md)
+    lines += _table_lines(*tables["peaks"], md)
+    for key, title, sentences in (
+        ("sensor", "Why the gauge lags: sensor against the true heat-sink temperature", sensor_sentences),
+        ("fuse_plugs", "Fuse plugs", None),
+        ("limits", "Limits", None),
+        ("tyre", "Tyre gas", tyre_sentences),
+        ("cooling", "Cooling time", cooling_sentences),
+    ):
+        if not report.get(key):
+            continue
+        lines += _heading(title, md)
+        if key in tables:
+            lines += _table_lines(*tables[key], md)
+        if key == "fuse_plugs":
+            lines += ["", report["fuse_plug_note"]]
+        if sentences is not None:
+            lines += sentences(report)
+    lines += _heading("Energy ledger [MJ]", md) + [energy_sentence(report["energy"])]
     return "\n".join(lines) + "\n"
 
 
 def _heading(text: str, markdown: bool) -> list[str]:
     """A section heading: Markdown level 2, or the text underlined with '='."""
     return ["", f"## {text}", ""] if markdown else ["", text, "=" * len(text)]
-
-
-def _peaks_lines(rows: list[dict], u: str, md: bool) -> list[str]:
-    """The peak temperatures table; ``u`` is the shown temperature unit."""
-    return _heading(f"Peak temperatures [{u}]", md) + _table(
-        rows,
-        [
-            ("name", "probe / series"),
-            ("peak", f"peak {u}"),
-            ("time_min", "at [min]"),
-            ("delay_after_braking_min", "after braking [min]"),
-        ],
-        md,
-    )
-
-
-def _sensor_lines(s: Mapping[str, Any], u: str, du: str, md: bool) -> list[str]:
-    """Why the gauge lags, in words; ``du`` is the unit of a temperature difference."""
-    return _heading("Why the gauge lags: sensor against the true heat-sink temperature", md) + [
-        f"The sensor reading peaks at {s['peak']} {u}, {s['delay_after_braking_min']} min after the end of braking",
-        f"({s['conduction_delay_min']} min of conduction to the sensor location, "
-        f"{s['instrument_delay_min']} min of instrument lag, time constant {s['time_constant_s']} s).",
-        f"At its peak it reads {s['offset_to_heat_sink_mean_at_peak']} {du} against the heat-sink mass-mean "
-        f"and {s['offset_to_hottest_cell_at_peak']} {du} against the hottest heat-sink cell;",
-        f"the largest under-reading is {s['largest_under_reading']} {du}. It first comes within {s['band']} {du} "
-        f"of the mean at {_or_never(s['within_band_of_mean_min'])}.",
-    ]
-
-
-def _fuse_plug_lines(rows: list[dict], u: str, du: str, md: bool) -> list[str]:
-    """The fuse plugs table."""
-    return _heading("Fuse plugs", md) + _table(
-        rows,
-        [
-            ("name", "plug"),
-            ("peak", f"peak {u}"),
-            ("time_of_peak_min", "at [min]"),
-            ("release_temperature", f"release {u}"),
-            ("margin", f"margin {du}"),
-            ("releases", "releases"),
-            ("release_time_min", "release at [min]"),
-        ],
-        md,
-    )
-
-
-def _limit_lines(rows: list[dict], u: str, du: str, md: bool) -> list[str]:
-    """The limits table, with the times each limit is crossed."""
-    return _heading("Limits", md) + _table(
-        [{**row, "crossed": _crossed(row["crossings"])} for row in rows],
-        [
-            ("name", "probe / series"),
-            ("limit", f"limit {u}"),
-            ("peak", f"peak {u}"),
-            ("margin", f"margin {du}"),
-            ("exceeded", "exceeded"),
-            ("crossed", "crossed [min]"),
-        ],
-        md,
-    )
-
-
-def _tyre_lines(t: Mapping[str, Any], u: str, md: bool) -> list[str]:
-    """Tyre gas pressure peak, its margin to the limit and whether a fuse plug releases first."""
-    lines = _heading("Tyre gas", md) + [
-        f"Cold {t['cold_pressure_bar_gauge']:.2f} bar gauge; peak {t['peak_pressure_bar_gauge']:.2f} bar gauge "
-        f"at {t['time_of_peak_min']} min (gas {t['peak_gas_temperature']} {u})."
-    ]
-    if "pressure_limit_bar_gauge" in t:
-        lines += [
-            f"Limit {t['pressure_limit_bar_gauge']:.2f} bar gauge: margin {t['pressure_margin_bar']:.2f} bar"
-            f"{' - EXCEEDED' if t['limit_exceeded'] else ''}."
-        ]
-        if "plug_releases_before_pressure_limit" in t:
-            lines += [
-                "A fuse plug releases before the pressure limit is reached "
-                "(pressures after a release assume no deflation)."
-                if t["plug_releases_before_pressure_limit"]
-                else "No fuse plug releases before the pressure limit is reached."
-            ]
-    return lines
-
-
-def _cooling_lines(c: Mapping[str, Any], u: str, md: bool) -> list[str]:
-    """When the cooling series falls below its threshold, or that it does not within the record."""
-    if c["reached"]:
-        sentence = (
-            f"{c['series']} falls below {c['below']} {u} at {c['time_min']} min "
-            f"({c['after_braking_min']} min after braking)."
-        )
-    else:
-        sentence = (
-            f"{c['series']} does not fall below {c['below']} {u} within the record "
-            f"(ends at {c['record_end_min']} min at {c['value_at_record_end']} {u})."
-        )
-    return _heading("Cooling time", md) + [sentence]
-
-
-def _energy_lines(e: Mapping[str, Any], md: bool) -> list[str]:
-    """The energy ledger in one sentence [MJ]."""
-    return _heading("Energy ledger [MJ]", md) + [
-        f"in {e['in_MJ']:.3f}, convected {e['convected_MJ']:.3f}, radiated {e['radiated_MJ']:.3f}, "
-        f"stored {e['stored_MJ']:.3f}; closure error {e['relative_closure_error']:.1e} of the input."
-    ]

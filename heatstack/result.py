@@ -117,7 +117,11 @@ class Result:
     phases : tuple of (str, float, float)
         Name, start and end [s] of each duty phase.
     end_of_heating : float
-        Last time with brake power [s].
+        Last time with brake power [s] (a later small event or a dragging brake moves it).
+    end_of_braking : float, optional
+        End of the stop that loaded the brake [s] (the duty's reference event: the one
+        the case names, else the one with the most energy); every delay "after braking"
+        counts from it. ``end_of_heating`` when not given.
     probe_positions : dict of str to (float, float)
         (r, z) of each probe [m].
     probe_time_constants : dict of str to float
@@ -141,9 +145,14 @@ class Result:
     final_state: State
     phases: tuple[tuple[str, float, float], ...] = ()
     end_of_heating: float = 0.0
+    end_of_braking: float | None = None
     probe_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
     probe_time_constants: dict[str, float] = field(default_factory=dict)
     metadata: dict = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        if self.end_of_braking is None:
+            object.__setattr__(self, "end_of_braking", float(self.end_of_heating))
 
     def history(self, name: str) -> np.ndarray:
         """Temperature history [K] of a probe reading or a global series, by name."""

@@ -12,6 +12,7 @@ Layout (format version 1)::
                                       heatstack_version, created (ISO 8601, UTC), description
     /times                     record times [s], shape (n,)
     /end_of_heating            scalar [s]
+    /end_of_braking            scalar [s] (end of the reference stop; absent in older files)
     /metadata                  text: JSON object (solver statistics, case title, ...)
     /case/text                 text: the case file as written by the user
     /case/resolved_inputs      text: JSON object of the inputs after defaults and unit conversion
@@ -246,6 +247,7 @@ def _write_content(
 
     _put(h5, "times", _numeric(result.times, "times", 1), "s")
     _put(h5, "end_of_heating", np.float64(result.end_of_heating), "s")
+    _put(h5, "end_of_braking", np.float64(result.end_of_braking), "s")
     _put_text(h5, "metadata", metadata_json).attrs["encoding"] = "json"
 
     case = h5.create_group("case")

@@ -203,6 +203,8 @@ def read_result(path: str | Path) -> Result:
     with _open(path) as rd:
         times = rd.array("times", "s", 1)
         end_of_heating = rd.scalar("end_of_heating", "s")
+        # files written before the reference stop was stored: the last time with power
+        end_of_braking = rd.scalar("end_of_braking", "s") if "end_of_braking" in rd.h5 else end_of_heating
         metadata = rd.json("metadata")
         rd.json("resolved_inputs", rd.group("case"))
         rd.text("text", rd.group("case"))
@@ -298,6 +300,7 @@ def read_result(path: str | Path) -> Result:
         final_state=final_state,
         phases=phases,
         end_of_heating=end_of_heating,
+        end_of_braking=end_of_braking,
         probe_positions=positions,
         probe_time_constants=time_constants,
         metadata=metadata,

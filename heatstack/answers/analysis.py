@@ -35,6 +35,7 @@ __all__ = [
     "peak",
     "sensor_lag",
     "threshold_crossings",
+    "level_crossings",
     "margins",
     "cooling_time_in_result",
 ]
@@ -59,7 +60,8 @@ class Peak:
     time : float
         Record time of the peak [s].
     delay_after_braking : float
-        ``time - end_of_heating`` [s]; negative if the peak came before the end of braking.
+        ``time - end_of_braking`` [s] (the end of the reference stop); negative if the peak
+        came during braking.
     bracket : (float, float)
         Record times either side of the peak [s]: the maximum of the smooth history lies
         between them (the resolution of ``time``).
@@ -83,7 +85,7 @@ class SensorLag:
     time_constant : float
         Instrument time constant of the probe [s].
     end_of_braking : float
-        End of heating of the run [s].
+        End of braking of the run [s] (end of the reference stop).
     reading_peak : float
         Peak of the reading [K].
     time_of_peak : float
@@ -254,14 +256,15 @@ def local_temperature(result: Result, name: str, field: str = "probe") -> np.nda
     return checked_history(result, name, result.probes[name])
 
 
-def _peak_of(name: str, times: np.ndarray, values: np.ndarray, end_of_heating: float) -> Peak:
+def _peak_of(name: str, times: np.ndarray, values: np.ndarray, end_of_braking: float) -> Peak:
     k = int(np.argmax(values))
     bracket = (float(times[max(k - 1, 0)]), float(times[min(k + 1, times.size - 1)]))
-    return Peak(name, float(values[k]), float(times[k]), float(times[k] - end_of_heating), bracket)
+    return Peak(name, float(values[k]), float(times[k]), float(times[k] - end_of_braking), bracket)
 
 
-def _crossings(times: np.ndarray, values: np.ndarray, level: float) -> list[tuple[float, str]]:
-    """Times where a piecewise-linear history reaches (>=) or leaves ``level``."""
+def level_crossings(times: np.ndarray, values: np.ndarray, level: float) -> list[tuple[float, str]]:
+    """Times [s] where a piecewise-linear history reaches (>=) or leaves ``level``, with
+    the direction ``"up"`` or ``"down"``; ``times`` [s], ``values`` and ``level`` in one unit."""
     above = values >= level
     out = []
     for k in np.flatnonzero(above[1:] != above[:-1]):
@@ -275,7 +278,7 @@ def first_reach(times: np.ndarray, values: np.ndarray, level: float) -> float | 
     """First time a piecewise-linear history is at or above ``level`` [s]; None if never."""
     if values[0] >= level:
         return float(times[0])
-    ups = [t for t, direction in _crossings(times, values, level) if direction == "up"]
+    ups = [t for t, direction in level_crossings(times, values, level) if direction == "up"]
     return ups[0] if ups else None
 
 
@@ -318,7 +321,7 @@ def peak(result: Result, name: str) -> Peak:
         Unknown name (the message lists the known ones) or fewer than two records.
     """
     values = _history(result, name)
-    return _peak_of(name, record_times(result), values, float(result.end_of_heating))
+    return _peak_of(name, record_times(result), values, float(result.end_of_braking))
 
 
 def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND) -> SensorLag:
@@ -360,7 +363,7 @@ def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND)
             )
     mean = checked_history(result, HEAT_SINK_MEAN, result.series[HEAT_SINK_MEAN])
     hottest = checked_history(result, HEAT_SINK_MAX, result.series[HEAT_SINK_MAX])
-    end = float(result.end_of_heating)
+    end = float(result.end_of_braking)
     read_peak = _peak_of(sensor, times, reading, end)
     local_peak = _peak_of(sensor, times, local, end)
     to_mean, to_max = reading - mean, reading - hottest
@@ -429,7 +432,7 @@ def threshold_crossings(result: Result, name: str, limit: Any) -> list[tuple[flo
         Unknown name, a limit that is not a temperature, too few records.
     """
     level = quantity(limit, "temperature", "limit", minimum=0.0, exclusive_minimum=True)
-    return _crossings(record_times(result), _history(result, name), level)
+    return level_crossings(record_times(result), _history(result, name), level)
 
 
 def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
@@ -493,7 +496,7 @@ def cooling_time_in_result(result: Result, name: str, below: Any, after: Any = N
     values = _history(result, name)
     level = quantity(below, "temperature", "below", minimum=0.0, exclusive_minimum=True)
     if after is None:
-        start = min(max(float(result.end_of_heating), times[0]), times[-1])
+        start = min(max(float(result.end_of_braking), times[0]), times[-1])
     elif isinstance(after, str) and after == "peak":
         start = float(times[int(np.argmax(values))])
     else:

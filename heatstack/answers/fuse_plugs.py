@@ -28,7 +28,7 @@ from ..result import Result
 from ..units import convert_declared, declared, quantity
 from .analysis import first_reach, local_temperature, record_times
 
-__all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs"]
+__all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs", "plug_temperature", "as_fuse_plug"]
 
 
 @dataclass(frozen=True)
@@ -157,6 +157,31 @@ class PlugAnswer:
     time_constant: float
 
 
+def as_fuse_plug(item: FusePlug | FusePlugSpec) -> FusePlug:
+    """A :class:`FusePlug` from a plug or a builder's :class:`~heatstack.builders.FusePlugSpec`
+    (with the spec's own time constant); InputError for anything else."""
+    if isinstance(item, FusePlugSpec):
+        return FusePlug.from_spec(item)
+    if isinstance(item, FusePlug):
+        return item
+    raise InputError(f"plugs: expected FusePlug or FusePlugSpec, got {type(item).__name__}")
+
+
+def plug_temperature(result: Result, plug: FusePlug | FusePlugSpec) -> np.ndarray:
+    """The plug's own temperature [K] at every record time: the local rim temperature at
+    its seat passed through the plug's first-order lag (the temperature its release,
+    peak and margin are judged on).
+
+    Raises
+    ------
+    InputError
+        The result lacks the plug's probe, or has too few records.
+    """
+    plug = as_fuse_plug(plug)
+    local = local_temperature(result, plug.name, f"fuse plug {plug.name!r}")
+    return first_order_lag(record_times(result), local, plug.time_constant)
+
+
 def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) -> list[PlugAnswer]:
     """Peak, margin and release time of each fuse plug.
 
@@ -170,7 +195,7 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
     result : Result
     plugs : sequence of FusePlug or FusePlugSpec
         The plugs; a ``FusePlugSpec`` (e.g. from ``build_wheel_brake().fuse_plugs``) is
-        taken with no lag of its own. The result does not record the plugs of the
+        taken with its own time constant. The result does not record the plugs of the
         design that was run: pass that design's plugs.
 
     Returns
@@ -191,14 +216,8 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
     times = record_times(result)
     out = []
     for item in plugs:
-        if isinstance(item, FusePlugSpec):
-            plug = FusePlug.from_spec(item)
-        elif isinstance(item, FusePlug):
-            plug = item
-        else:
-            raise InputError(f"plugs: expected FusePlug or FusePlugSpec, got {type(item).__name__}")
-        local = local_temperature(result, plug.name, f"fuse plug {plug.name!r}")
-        temperature = first_order_lag(times, local, plug.time_constant)
+        plug = as_fuse_plug(item)
+        temperature = plug_temperature(result, plug)
         k = int(np.argmax(temperature))
         top = float(temperature[k])
         release = first_reach(times, temperature, plug.release_temperature)

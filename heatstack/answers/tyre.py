@@ -33,6 +33,7 @@ from .analysis import (
     checked_history,
     first_reach,
     frozen_copy,
+    level_crossings,
     margins,
     name_tuple,
     record_times,
@@ -45,6 +46,8 @@ __all__ = [
     "TyreGas",
     "PressureMargin",
     "PlugVersusPressure",
+    "OUTER_HEAT_TRANSFER_COEFFICIENT",
+    "default_outer_conductance",
     "tyre_gas",
     "tyre_pressure_margin",
     "plug_releases_before_limit",
@@ -57,6 +60,15 @@ NITROGEN_GAS_CONSTANT = 296.8
 NITROGEN_CV = 743.0
 #: Standard sea-level atmospheric pressure [Pa].
 STANDARD_PRESSURE = 101325.0
+#: Effective heat transfer coefficient from the tyre gas through the carcass to still air
+#: [W/(m^2 K)] for :func:`default_outer_conductance`: natural convection outside a tyre
+#: is about 5-10 W/(m^2 K) (common practice, no source); the rubber carcass in series
+#: (k about 0.2-0.3 W/(m K), 10-20 mm thick, i.e. 10-30 W/(m^2 K), from memory) brings the
+#: overall figure towards the low end, so 6 is taken.
+OUTER_HEAT_TRANSFER_COEFFICIENT = 6.0
+#: Major radius over tube radius of the torus :func:`default_outer_conductance` takes
+#: for a tyre: a rim radius about twice the section half-height (an assumption, no source).
+_TORUS_ASPECT = 3.0
 #: The series read as the rim exterior inside the tyre cavity.
 CAVITY_SERIES = "surface:tyre cavity"
 
@@ -92,6 +104,8 @@ class TyreGas:
     heat_absorbed : float
         Largest heat held by the gas above its initial state, ``m c_v (max T_g - T_g(t0))``
         [J]: the heat the one-way coupling leaves out of the conduction solve.
+    outer_conductance : float
+        Conductance gas -> ambient through the carcass used [W/K] (given, or estimated).
     """
 
     times: np.ndarray
@@ -106,6 +120,7 @@ class TyreGas:
     gas_mass: float
     time_constant: float
     heat_absorbed: float
+    outer_conductance: float = 0.0
 
     @property
     def gauge_pressure(self) -> np.ndarray:
@@ -128,6 +143,9 @@ class PressureMargin:
     exceeded : bool
     time_limit_reached : float or None
         First time the pressure reaches the limit [s]; None if never.
+    time_back_below_limit : float or None
+        First time after ``time_limit_reached`` the pressure falls back below the limit
+        [s]; None if it never reaches it, or does not fall back within the record.
     """
 
     limit: float
@@ -135,6 +153,7 @@ class PressureMargin:
     margin: float
     exceeded: bool
     time_limit_reached: float | None
+    time_back_below_limit: float | None = None
 
 
 @dataclass(frozen=True)
@@ -164,6 +183,40 @@ class PlugVersusPressure:
     limit: float
 
 
+def default_outer_conductance(gas_volume: Any, h_outer: float = OUTER_HEAT_TRANSFER_COEFFICIENT) -> float:
+    """Estimated conductance [W/K] from the tyre gas through the carcass to still air.
+
+    The tyre is taken as a torus of tube radius ``a`` about a major radius ``R = 3 a``
+    (assumed: rim radius about twice the section half-height), so its gas volume is
+    ``V = 2 pi^2 R a^2 = 6 pi^2 a^3`` and its outer surface ``A = 4 pi^2 R a = 12 pi^2 a^2``;
+    the conductance is ``h_outer A``. A tyre with 0.09 m^3 of gas gets about 1.6 m^2 and
+    9 W/K. An estimate, for when the case gives none: a measured or better-founded value
+    should replace it.
+
+    Parameters
+    ----------
+    gas_volume : float or str
+        Gas volume of the tyre [m^3], > 0.
+    h_outer : float
+        Overall heat transfer coefficient gas -> carcass -> still air [W/(m^2 K)]
+        (:data:`OUTER_HEAT_TRANSFER_COEFFICIENT` by default).
+
+    Returns
+    -------
+    float
+        [W/K]
+
+    References
+    ----------
+    Torus volume ``2 pi^2 R a^2`` and area ``4 pi^2 R a`` (Pappus's centroid theorems).
+    Natural convection coefficients of 5-10 W/(m^2 K) in still air: common practice, no source.
+    """
+    volume = quantity(gas_volume, "volume", "gas_volume", minimum=0.0, exclusive_minimum=True)
+    tube = (volume / (2.0 * np.pi**2 * _TORUS_ASPECT)) ** (1.0 / 3.0)
+    area = 4.0 * np.pi**2 * _TORUS_ASPECT * tube**2
+    return float(quantity(h_outer, "heat_transfer_coefficient", "h_outer", minimum=0.0) * area)
+
+
 def _absolute(value: Any, gauge: bool, ambient_pressure: float, field: str) -> float:
     p = quantity(value, "pressure", field) + (ambient_pressure if gauge else 0.0)
     if not p > 0:
@@ -179,7 +232,7 @@ def tyre_gas(
     cavity_area: Any,
     h_cavity: Any,
     cold_temperature: Any,
-    outer_conductance: Any = 0.0,
+    outer_conductance: Any = None,
     ambient: Any = None,
     *,
     gauge: bool = True,
@@ -213,8 +266,10 @@ def tyre_gas(
     cold_temperature : float or str
         Gas temperature at which ``cold_pressure`` holds [K]; also the gas temperature at
         the start of the record unless ``initial_temperature`` is given.
-    outer_conductance : float or str
-        Conductance gas -> ambient through the tyre carcass [W/K], >= 0.
+    outer_conductance : float or str, optional
+        Conductance gas -> ambient through the tyre carcass [W/K], >= 0; estimated from
+        the gas volume by :func:`default_outer_conductance` (about 6 W/(m^2 K) over the
+        outer surface of the tyre) when None. Zero lets the gas follow the rim.
     ambient : float or str, optional
         Air temperature for ``outer_conductance`` [K]; ``cold_temperature`` by default.
     gauge : bool
@@ -258,7 +313,10 @@ def tyre_gas(
     volume = quantity(gas_volume, "volume", "gas_volume", **positive)
     area = quantity(cavity_area, "area", "cavity_area", **positive)
     h = quantity(h_cavity, "heat_transfer_coefficient", "h_cavity", **not_negative)
-    g_out = quantity(outer_conductance, "thermal_conductance", "outer_conductance", **not_negative)
+    if outer_conductance is None:
+        g_out = default_outer_conductance(volume)
+    else:
+        g_out = quantity(outer_conductance, "thermal_conductance", "outer_conductance", **not_negative)
     t_cold = quantity(cold_temperature, "temperature", "cold_temperature", **positive)
     t_amb = t_cold if ambient is None else quantity(ambient, "temperature", "ambient", **positive)
     if initial_temperature is None:
@@ -292,6 +350,7 @@ def tyre_gas(
         gas_mass=mass,
         time_constant=tau,
         heat_absorbed=float(mass * cv * (np.max(gas) - gas[0])),
+        outer_conductance=g_out,
     )
 
 
@@ -317,12 +376,18 @@ def tyre_pressure_margin(gas: TyreGas, limit: Any, gauge: bool = True) -> Pressu
         If ``limit`` is not a pressure, or not above 0 Pa absolute.
     """
     p_limit = _absolute(limit, gauge, gas.ambient_pressure, "limit")
+    reached = first_reach(gas.times, gas.pressure, p_limit)
+    back = None
+    if reached is not None:
+        downs = [t for t, way in level_crossings(gas.times, gas.pressure, p_limit) if way == "down" and t >= reached]
+        back = downs[0] if downs else None
     return PressureMargin(
         limit=p_limit,
         peak_pressure=gas.peak_pressure,
         margin=p_limit - gas.peak_pressure,
         exceeded=bool(gas.peak_pressure > p_limit),
-        time_limit_reached=first_reach(gas.times, gas.pressure, p_limit),
+        time_limit_reached=reached,
+        time_back_below_limit=back,
     )
 
 

@@ -111,6 +111,9 @@ class Recorder:
             final_state=final,
             phases=tuple((p.name, p.start, p.end) for p in schedule.phases),
             end_of_heating=schedule.power.end_of_heating,
+            end_of_braking=(
+                schedule.power.end_of_heating if schedule.end_of_braking is None else schedule.end_of_braking
+            ),
             probe_positions={p.name: (p.r, p.z) for p in net.assembly.probes},
             probe_time_constants={p.name: p.time_constant for p in net.assembly.probes},
             metadata={"solver": dict(stats)},

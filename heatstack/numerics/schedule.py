@@ -241,12 +241,16 @@ class Schedule:
         ``source(r, z, t) -> ndarray``: a heat source [W/m^3] at cell centres ``r``, ``z``
         [m] and time ``t`` [s], evaluated at the end of each step. For verification
         (manufactured solutions) and for heating not at a rubbing interface.
+    end_of_braking : float, optional
+        End of the stop that loaded the brake [s], the reference of every delay "after
+        braking"; the last time with power (``power.end_of_heating``) when None.
     """
 
     power: PowerHistory
     phases: Sequence[Phase]
     extra_breakpoints: Sequence[float] = field(default=())
     volumetric_source: Callable[[np.ndarray, np.ndarray, float], np.ndarray] | None = None
+    end_of_braking: float | None = None
 
     def __post_init__(self) -> None:
         phases = tuple(self.phases)

@@ -196,6 +196,49 @@ class DutyCycle:
                 shifted.append(PowerHistory(event.power.times + t0, event.power.powers))
         return combine(*shifted) if shifted else PowerHistory(np.array([start, start + 1.0]), np.zeros(2))
 
+    def end_of_braking(self, reference_event: str | None = None, start: float = 0.0) -> float:
+        """End of the stop that loaded the brake [s], for a cycle beginning at ``start``.
+
+        The reference event is the one named ``reference_event`` (the case key
+        ``[output] reference_event``), or else the event with the most energy per brake
+        (the first of equals). Later, smaller events (taxi snubs, gear retraction, a
+        dragging brake) do not move it, so delays "after braking" count from the stop
+        that heated the brake.
+
+        Parameters
+        ----------
+        reference_event : str, optional
+            Name of the reference braking event.
+        start : float
+            Start time of the cycle [s].
+
+        Returns
+        -------
+        float
+            End time of the reference event [s]; ``start`` for a cycle without braking.
+
+        Raises
+        ------
+        ScheduleError
+            If ``reference_event`` names no event of the cycle (the message lists them).
+        """
+        ends = [
+            (event.name, event.energy_per_brake, float(t0 + event.end))
+            for phase, t0 in zip(self.phases, self.phase_starts(start), strict=True)
+            for event in phase.events
+        ]
+        if reference_event is not None:
+            named = [end for name, _, end in ends if name == reference_event]
+            if not named:
+                known = ", ".join(repr(name) for name, _, _ in ends) or "none"
+                raise ScheduleError(
+                    f"reference_event {reference_event!r}: no braking event of that name; events: {known}"
+                )
+            return named[0]
+        if not ends:
+            return float(start)
+        return max(ends, key=lambda row: row[1])[2]
+
     def energy_summary(self) -> list[dict[str, Any]]:
         """One row per braking event: phase, event, energy per brake [J], kinetic energy [J], share."""
         return [
@@ -215,6 +258,7 @@ class DutyCycle:
         surfaces: Sequence[SurfaceGroup],
         start: float = 0.0,
         extra_breakpoints: Sequence[float] = (),
+        reference_event: str | None = None,
     ) -> Schedule:
         """The solver's schedule for this cycle beginning at ``start`` [s].
 
@@ -228,12 +272,15 @@ class DutyCycle:
             Start time [s], e.g. the time of a saved state a chained run begins from.
         extra_breakpoints : sequence of float
             More times [s] to land on.
+        reference_event : str, optional
+            The braking event whose end is the end of braking (see :meth:`end_of_braking`).
         """
         phases = []
         for phase, t0 in zip(self.phases, self.phase_starts(start), strict=True):
             laws = phase.environment.laws(surfaces, self.rolling_radius)
             phases.append(Phase(phase.name, float(t0), float(t0 + phase.duration), laws, phase.is_clamped))
-        return Schedule(self.power(start), phases, tuple(extra_breakpoints))
+        end = self.end_of_braking(reference_event, start)
+        return Schedule(self.power(start), phases, tuple(extra_breakpoints), end_of_braking=end)
 
 
 def _surface_records(surfaces: Sequence[SurfaceGroup]) -> tuple[SurfaceGroup, ...]:

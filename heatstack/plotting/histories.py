@@ -367,7 +367,7 @@ def plot_why_the_gauge_lags(
     _title(ax, title + (" and the wheel" if wheel_default and n_extra else ""), rows)
     fig.legend(loc="outside right upper", fontsize=8, frameon=False)
 
-    t_end = float(result.end_of_heating)
+    t_end = float(result.end_of_braking)
     braked = t0 < t_end <= t1
     if braked:
         ax.axvline(t_end / 60.0, color="0.15", lw=1.0, ls=(0, (4, 2)), zorder=2)

@@ -32,7 +32,9 @@ import numpy as np
 from scipy import stats
 
 from ..errors import InputError, OptionalDependencyError
+from ..report import CAUTION
 from ..units import from_si
+from .labels import output_label, plug_names
 
 __all__ = [
     "StudyTable",
@@ -450,7 +452,7 @@ def study_report(
     lines = [
         f"## Study: {table.title or 'untitled'}",
         "",
-        "*Not certified data.* Defer to the manufacturer's maintenance data.",
+        f"*{CAUTION}*",
         "",
         f"Cases: {table.n_cases} ({counts['ok']} finished, {counts['failed']} failed, "
         f"{counts['pending']} not run); sampling: {table.method or 'unknown'}.",
@@ -463,8 +465,23 @@ def study_report(
         lines += _plug_peak_lines(table, temperature_unit)
     if counts["ok"] > len(table.parameter_names) + 1:
         lines += _sensitivity_lines(table, output)
+    lines += _warning_lines(table)
     lines += _failure_lines(table, max_failures)
     return "\n".join(lines) + "\n"
+
+
+def _warning_lines(table: StudyTable) -> list[str]:
+    """Each distinct warning raised in the cases, with how many cases raised it; empty if none."""
+    if "warnings" not in table.columns:
+        return []
+    counts: dict[str, int] = {}
+    for text in table["warnings"]:
+        for line in dict.fromkeys(str(text).splitlines()):
+            if line.strip():
+                counts[line] = counts.get(line, 0) + 1
+    if not counts:
+        return []
+    return ["", "### Warnings raised in the cases", ""] + [f"- {w} ({n} cases)" for w, n in counts.items()]
 
 
 def _release_lines(table: StudyTable, confidence: float) -> list[str]:
@@ -504,7 +521,7 @@ def _margin_lines(table: StudyTable) -> list[str]:
     ]
     for name in margins:
         p = margin_percentiles(table, name)
-        lines.append(f"| {name} | {_fmt(p[5.0])} | {_fmt(p[50.0])} | {_fmt(p[95.0])} |")
+        lines.append(f"| {output_label(name)} | {_fmt(p[5.0])} | {_fmt(p[50.0])} | {_fmt(p[95.0])} |")
     return lines
 
 
@@ -535,7 +552,8 @@ def _sensitivity_lines(table: StudyTable, output: str | None) -> list[str]:
         return ["", f"Sensitivity not computed: {exc}"]
     lines = [
         "",
-        f"### Sensitivity of {result.output} ({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
+        f"### Sensitivity of {output_label(result.output, plug_names(table.output_names))} "
+        f"({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
         "",
         "| parameter | Spearman rho | p-value | SRC |",
         "|---|---|---|---|",

@@ -17,6 +17,7 @@ from matplotlib.figure import Figure
 from ..errors import InputError
 from ..plotting.common import figure_target, save_figure
 from .analysis import SensitivityResult, StudyTable, margin_percentiles
+from .labels import output_label
 
 __all__ = ["plot_margin_histogram", "plot_tornado", "CAPTION"]
 
@@ -110,7 +111,8 @@ def plot_margin_histogram(
             fontsize=7,
             color=_INK,
         )
-    ax.set_xlabel(f"{column} [{unit}]" if unit else column, fontsize=9)
+    label = output_label(column)
+    ax.set_xlabel(f"{label} [{unit}]" if unit else label, fontsize=9)
     ax.set_ylabel("cases", fontsize=9)
     negative = int(np.count_nonzero(values < 0)) if is_margin else None
     heading = title or table.title or "study"
@@ -168,8 +170,8 @@ def plot_tornado(
             color=_INK,
         )
     name = "Spearman rank correlation" if measure == "spearman" else "standardised regression coefficient"
-    ax.set_xlabel(f"{name} with {result.output} [-]", fontsize=9)
-    heading = title or f"Sensitivity of {result.output}"
+    ax.set_xlabel(f"{name} with {output_label(result.output)} [-]", fontsize=9)
+    heading = title or f"Sensitivity of {output_label(result.output)}"
     ax.set_title(f"{heading} ({result.cases} cases, R^2 = {result.r_squared:.2f})", fontsize=10, color=_INK, loc="left")
     _plain(ax)
     _caption(fig, "")

@@ -180,14 +180,18 @@ def summarise(case: Any, result: Any, outputs: Sequence[str] | None = None) -> l
         else [*result.readings, *(s for s in result.series if not s.startswith("surface:"))]
     )
     out: list[tuple[str, float]] = []
-    end = float(result.end_of_heating)
+    end = float(result.end_of_braking)
     for name in names:
         peak, when = result.peak(name)
         out += [(f"peak:{name}", peak), (f"peak_time:{name}", when), (f"peak_delay:{name}", when - end)]
+    answers = assess_fuse_plugs(result, case.fuse_plugs) if case.fuse_plugs else []
+    plug_peaks = {plug.name: plug.peak for plug in answers}
     for name, limit in case.output.limits.items():
-        out.append((f"limit_margin:{name}", float(limit) - result.peak(name)[0]))
+        # a limit on a fuse plug is judged on the plug's own temperature, as in the report
+        top = plug_peaks[name] if name in plug_peaks else result.peak(name)[0]
+        out.append((f"limit_margin:{name}", float(limit) - top))
     margins, released = [], []
-    for plug in assess_fuse_plugs(result, case.fuse_plugs) if case.fuse_plugs else []:
+    for plug in answers:
         # the plug's own lag behind the rim is applied (its time constant from the case)
         out += [
             (f"plug_peak:{plug.name}", plug.peak),

@@ -31,7 +31,7 @@ def test_run_writes_results_and_plots(small_run):
 def test_report_formats_agree(small_run, capsys):
     assert main(["report", str(small_run / "results.h5"), "--format", "json"]) == 0
     data = json.loads(capsys.readouterr().out)
-    assert data["energy"]["in_MJ"] == pytest.approx(1.0, rel=1e-9)
+    assert data["energy"]["heat_in_J"] == pytest.approx(1e6, rel=1e-9)
     assert main(["report", str(small_run / "results.h5"), "--format", "markdown", "--unit", "degF"]) == 0
     assert "| probe / series |" in capsys.readouterr().out
 

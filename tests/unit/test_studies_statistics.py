@@ -210,7 +210,8 @@ def test_report_lists_probabilities_margins_and_failures():
     )
     text = study_report(table)
     est = release_probability(table)
-    assert "Not certified data" in text
+    assert "not certified data" in text and "local regulations" in text
+    assert "plug_margin" not in text and "plug_peak" not in text  # readable names only
     assert f"| any plug | {est.events} / {n - 1} | {est.estimate:.3f} |" in text
     assert f"{est.wilson[0]:.3f} - {est.wilson[1]:.3f}" in text
     assert "case 39: SolverError: invented failure" in text

@@ -1,0 +1,196 @@
+"""The report's numbers for reading: temperatures in degC, degF or K, times in minutes, the
+tables and the sentences shared by the text, Markdown and HTML forms of the report.
+
+Everything here reads the data of :func:`heatstack.report.build_report` (SI, full
+precision) and turns it into text; nothing is computed again.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from .geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX
+from .units import from_si
+
+__all__ = [
+    "SERIES_LABELS",
+    "report_tables",
+    "end_of_braking_sentence",
+    "sensor_sentences",
+    "tyre_sentences",
+    "cooling_sentences",
+    "energy_sentence",
+    "shown_temperature",
+    "shown_difference",
+    "shown_minutes",
+    "unit_symbols",
+]
+
+#: How the report names the global series (other names are shown as they are).
+SERIES_LABELS = {
+    HEAT_SINK_MEAN: "heat sink mean (mass-weighted)",
+    HEAT_SINK_MAX: "heat sink, hottest cell",
+    WHEEL_MAX: "wheel, hottest cell",
+}
+
+
+def shown_temperature(value: float | None, unit: str) -> str:
+    """A temperature [K] for reading, in ``unit``, one decimal; ``-`` for None."""
+    return "-" if value is None else f"{float(from_si(value, 'temperature', unit)):.1f}"
+
+
+def shown_difference(value: float | None, unit: str) -> str:
+    """A temperature difference [K] for reading (in °F when ``unit`` is degF), one decimal."""
+    return "-" if value is None else f"{float(value) * (1.8 if unit == 'degF' else 1.0):.1f}"
+
+
+def shown_minutes(seconds: float | None) -> str:
+    """A time [s] in minutes, two decimals; ``-`` for None."""
+    return "-" if seconds is None else f"{seconds / 60.0:.2f}"
+
+
+def unit_symbols(unit: str) -> tuple[str, str]:
+    """(symbol of a temperature, symbol of a temperature difference) for ``unit``."""
+    symbol = {"degC": "°C", "degF": "°F", "K": "K"}[unit]
+    return symbol, "°F" if unit == "degF" else "K"
+
+
+def report_tables(report: Mapping[str, Any]) -> dict[str, tuple[list[str], list[list[str]]]]:
+    """The report's tables for reading: name -> (column heads, rows of cell text).
+
+    Shared by the Markdown, text and HTML forms so they show the same numbers.
+    """
+    unit = report["temperature_unit"]
+    u, du = unit_symbols(unit)
+
+    def delay(row: Mapping[str, Any]) -> str:
+        return "during braking" if row["during_braking"] else shown_minutes(row["delay_after_braking_s"])
+
+    tables = {
+        "peaks": (
+            ["probe / series", f"peak [{u}]", "at [min]", "after braking [min]"],
+            [
+                [r["label"], shown_temperature(r["peak_K"], unit), shown_minutes(r["time_of_peak_s"]), delay(r)]
+                for r in report["peaks"]
+            ],
+        )
+    }
+    if report["fuse_plugs"]:
+        tables["fuse_plugs"] = (
+            ["plug", f"plug peak [{u}]", "at [min]", f"release [{u}]", f"margin [{du}]", "releases",
+             "release at [min]", f"rim at seat peak [{u}]"],
+            [
+                [
+                    r["name"], shown_temperature(r["peak_K"], unit), shown_minutes(r["time_of_peak_s"]),
+                    shown_temperature(r["release_temperature_K"], unit), shown_difference(r["margin_K"], unit),
+                    "yes" if r["releases"] else "no", shown_minutes(r["release_time_s"]),
+                    shown_temperature(r["rim_at_seat_peak_K"], unit),
+                ]
+                for r in report["fuse_plugs"]
+            ],
+        )  # fmt: skip
+    if report["limits"]:
+        tables["limits"] = (
+            ["probe / series", "judged on", f"limit [{u}]", f"peak [{u}]", f"margin [{du}]", "exceeded",
+             "crossed [min]"],
+            [
+                [
+                    r["name"], r["assessed"], shown_temperature(r["limit_K"], unit),
+                    shown_temperature(r["peak_K"], unit), shown_difference(r["margin_K"], unit),
+                    "yes" if r["exceeded"] else "no", _crossed(r["crossings"]),
+                ]
+                for r in report["limits"]
+            ],
+        )  # fmt: skip
+    return tables
+
+
+def _crossed(crossings: list[dict]) -> str:
+    marks = {"up": "above", "down": "below"}
+    return ", ".join(f"{marks[c['direction']]} {shown_minutes(c['time_s'])}" for c in crossings) or "never"
+
+
+def end_of_braking_sentence(report: Mapping[str, Any]) -> str:
+    """What "end of braking" means in this report, and when it is."""
+    return (
+        f"End of braking: {shown_minutes(report['end_of_braking_s'])} min (end of the stop that loaded the "
+        "brake; later small events do not move it). Delays below count from it."
+    )
+
+
+def sensor_sentences(report: Mapping[str, Any]) -> list[str]:
+    """Why the gauge lags, in words."""
+    s, unit = report["sensor"], report["temperature_unit"]
+    u, du = unit_symbols(unit)
+    band_time = s["within_band_of_mean_s"]
+    within = "no time in the record" if band_time is None else f"{shown_minutes(band_time)} min"
+    return [
+        f"The sensor reading peaks at {shown_temperature(s['peak_K'], unit)} {u}, "
+        f"{shown_minutes(s['delay_after_braking_s'])} min after the end of braking "
+        f"({shown_minutes(s['conduction_delay_s'])} min of conduction to the sensor location, "
+        f"{shown_minutes(s['instrument_delay_s'])} min of instrument lag, time constant {s['time_constant_s']:g} s).",
+        f"At its peak it reads {shown_difference(s['offset_to_heat_sink_mean_at_peak_K'], unit)} {du} against the "
+        f"heat-sink mass-mean and {shown_difference(s['offset_to_hottest_cell_at_peak_K'], unit)} {du} against the "
+        f"hottest heat-sink cell; the largest under-reading is {shown_difference(s['largest_under_reading_K'], unit)} "
+        f"{du}. It first comes within {shown_difference(s['band_K'], unit)} {du} of the mean at {within}.",
+    ]
+
+
+def tyre_sentences(report: Mapping[str, Any]) -> list[str]:
+    """Tyre gas pressure peak, when the limit is first reached and left, and whether a plug releases first."""
+    t, unit = report["tyre"], report["temperature_unit"]
+    g = t["outer_conductance_W_per_K"]
+    lines = [
+        f"Cold {t['cold_pressure_Pa_gauge'] / 1e5:.2f} bar gauge (against {t['ambient_pressure_Pa'] / 100:.0f} hPa "
+        f"ambient); peak {t['peak_pressure_Pa_gauge'] / 1e5:.2f} bar gauge at {shown_minutes(t['time_of_peak_s'])} min "
+        f"(gas {shown_temperature(t['peak_gas_temperature_K'], unit)} {unit_symbols(unit)[0]}). Carcass conductance "
+        f"{g:.1f} W/K" + (" (estimated from the tyre's outer surface, 6 W/(m² K))." if t["outer_conductance_estimated"]
+                           else "."),
+    ]  # fmt: skip
+    if "pressure_limit_Pa_gauge" in t:
+        if t["limit_first_reached_s"] is None:
+            when = "is not reached within the record"
+        else:
+            back = t["back_below_limit_s"]
+            when = f"is first reached at {shown_minutes(t['limit_first_reached_s'])} min and " + (
+                "not left within the record" if back is None else f"left at {shown_minutes(back)} min"
+            )
+        lines.append(
+            f"Limit {t['pressure_limit_Pa_gauge'] / 1e5:.2f} bar gauge {when}; margin "
+            f"{t['pressure_margin_Pa'] / 1e5:.2f} bar{' - EXCEEDED' if t['limit_exceeded'] else ''}."
+        )
+        if "plug_releases_before_pressure_limit" in t:
+            lines.append(
+                "A fuse plug releases before the pressure limit is reached "
+                "(pressures after a release assume no deflation)."
+                if t["plug_releases_before_pressure_limit"]
+                else "No fuse plug releases before the pressure limit is reached."
+            )
+    return lines
+
+
+def cooling_sentences(report: Mapping[str, Any]) -> list[str]:
+    """When the cooling series falls below its threshold, or that it does not within the record."""
+    c, unit = report["cooling"], report["temperature_unit"]
+    u = unit_symbols(unit)[0]
+    below = f"{shown_temperature(c['below_K'], unit)} {u}"
+    series = SERIES_LABELS.get(c["series"], c["series"])
+    if c["reached"]:
+        return [
+            f"The {series} falls below {below} at {shown_minutes(c['time_s'])} min "
+            f"({shown_minutes(c['after_braking_s'])} min after braking)."
+        ]
+    return [
+        f"The {series} does not fall below {below} within the record (ends at {shown_minutes(c['record_end_s'])} "
+        f"min at {shown_temperature(c['value_at_record_end_K'], unit)} {u})."
+    ]
+
+
+def energy_sentence(e: Mapping[str, Any]) -> str:
+    """The energy ledger in one sentence [MJ]."""
+    return (
+        f"in {e['heat_in_J'] / 1e6:.3f}, convected {e['convected_J'] / 1e6:.3f}, "
+        f"radiated {e['radiated_J'] / 1e6:.3f}, stored {e['stored_J'] / 1e6:.3f}; "
+        f"closure error {e['relative_closure_error']:.1e} of the input."
+    )
