@@ -164,13 +164,21 @@ def result_dataset(result: Result) -> Any:
     coords: dict[str, Any] = {
         "time": ("time", times, attrs("s", "time since the start of the run")),
         "probe": ("probe", names, {"long_name": "probe name", "cf_role": "timeseries_id"}),
-        "snapshot_time": ("snapshot_time", np.asarray(result.snapshot_times, float), attrs("s", "snapshot time")),
+        "snapshot_time": (
+            "snapshot_time",
+            np.asarray(result.snapshot_times, float),
+            attrs("s", "time of the field snapshot"),
+        ),
         "r": ("r", 0.5 * (r_edges[:-1] + r_edges[1:]), attrs("m", "radius of the cell centre")),
         "z": ("z", 0.5 * (z_edges[:-1] + z_edges[1:]), attrs("m", "axial position of the cell centre")),
         "part": ("part", list(result.part_names), {"long_name": "part name"}),
     }
     data: dict[str, Any] = {
-        "reading": (("time", "probe"), table(result.readings, names), attrs("K", "probe reading after its lag")),
+        "reading": (
+            ("time", "probe"),
+            table(result.readings, names),
+            attrs("K", "probe reading after its instrument lag"),
+        ),
         "local": (("time", "probe"), table(result.probes, names), attrs("K", "local temperature at the probe")),
     }
     surfaces: dict[str, np.ndarray] = {}
@@ -178,7 +186,11 @@ def result_dataset(result: Result) -> Any:
     for name, values in result.series.items():
         place = series_place(name)
         if place.kind == OWN_VARIABLE:
-            data[name] = ("time", np.asarray(values, dtype=float), attrs("K", f"temperature series {name}"))
+            data[name] = (
+                "time",
+                np.asarray(values, dtype=float),
+                {**attrs("K", f"temperature series {name}"), "series_name": name},
+            )
         else:
             (surfaces if place.kind == SURFACE_SERIES else others)[place.key] = np.asarray(values, dtype=float)
     for dim, variable, columns, long_name, meaning in (
@@ -193,7 +205,11 @@ def result_dataset(result: Result) -> Any:
         np.asarray(result.snapshots, dtype=float).reshape(len(result.snapshot_times), z_edges.size - 1, -1),
         {**attrs("K", "temperature field"), "comment": "NaN in void cells"},
     )
-    data["part_map"] = (("z", "r"), np.asarray(result.part_map), attrs("1", "index into part of each cell, -1 void"))
+    data["part_map"] = (
+        ("z", "r"),
+        np.asarray(result.part_map),
+        {**attrs("1", "index into part of the part each cell belongs to"), "comment": "-1 marks a void cell"},
+    )
     return xarray.Dataset(data, coords=coords, attrs={"Conventions": "CF-1.11", "source": "heatstack"})
 
 

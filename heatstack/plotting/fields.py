@@ -321,9 +321,7 @@ def _label_inside(ax: Axes, placer: LabelPlacer, part: Part, fontsize: float) ->
     return False
 
 
-def _free_spot(
-    placer: LabelPlacer, corners: np.ndarray, size: tuple[float, float], along_x: bool
-) -> np.ndarray | None:
+def _free_spot(placer: LabelPlacer, corners: np.ndarray, size: tuple[float, float], along_x: bool) -> np.ndarray | None:
     """Centre [pixels] for a ``size`` label inside the rectangle ``corners`` clear of other labels.
 
     Tries the middle first, then shifts along the rectangle's long direction.
