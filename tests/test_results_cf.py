@@ -290,3 +290,26 @@ def test_odd_series_names_go_to_temperature_series(result, tmp_path):
         assert ds.temperature_series.sel(series="a/b: c d").values[0] == 301.0
         assert ds.temperature_series.sel(series="reading").values[0] == 302.0
     assert list(read_result(path).series) == list(odd)
+
+
+def test_demo_results_file_opens_in_xarray_with_named_coordinates(tmp_path):
+    from heatstack import load_case, run_case
+    from heatstack.cli import demo_case_path
+
+    case = load_case(demo_case_path())
+    path = write_result(run_case(case, case.build_model()), tmp_path / "demo.h5", case_text=case.text)
+    with _open(path) as ds:
+        assert not [d for d in ds.sizes if str(d).startswith("phony_dim")]
+        assert {"time", "probe", "snapshot_time", "r", "z", "part", "surface"} <= set(ds.coords)
+        assert "sensor" in list(ds.probe.values)
+        sensor = ds.reading.sel(probe="sensor")
+        assert sensor.dims == ("time",) and float(sensor.max()) > float(sensor[0])
+        assert ds.heat_sink_mean.attrs["units"] == "K"
+    with _open(path, group="ledger") as ledger:
+        assert ledger.heat_in.attrs["units"] == "J" and ledger.sizes["rubbing_interface"] > 0
+
+
+def test_help_lists_the_export_verb(capsys):
+    with pytest.raises(SystemExit):
+        main(["--help"])
+    assert "export" in capsys.readouterr().out
