@@ -313,3 +313,22 @@ def test_help_lists_the_export_verb(capsys):
     with pytest.raises(SystemExit):
         main(["--help"])
     assert "export" in capsys.readouterr().out
+
+
+def test_a_file_with_empty_dimensions_opens_in_xarray(result, tmp_path):
+    bare = dataclasses.replace(
+        result,
+        snapshot_times=np.zeros(0),
+        snapshots=np.zeros((0, *result.part_map.shape)),
+        probes={},
+        readings={},
+        probe_positions={},
+        probe_time_constants={},
+        phases=(),
+    )
+    path = write_result(bare, tmp_path / "bare.h5")
+    with _open(path) as ds:
+        assert ds.sizes["probe"] == 0 and ds.sizes["snapshot_time"] == 0
+        assert ds.reading.shape == (result.times.size, 0)
+    with _open(path, group="phases") as phases:
+        assert phases.sizes["phase"] == 0
