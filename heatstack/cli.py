@@ -1,7 +1,7 @@
 """The ``heatstack`` command line.
 
 Verbs: ``run`` a case, ``check`` a case (parts, cells, layout drawing), ``report`` on a
-results file, ``plot`` a results file, ``fit`` the braking energy to a recorded sensor
+results file, ``plot`` a results file, ``export`` a results file as CSV, ``fit`` the braking energy to a recorded sensor
 trace, run or resume a ``study``, list ``materials``, run the ``demo``.
 
 Exit codes: 0 success, 2 bad input (a heatstack input error), 1 internal error. User
@@ -296,6 +296,21 @@ def _cmd_study(args: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_export(args: argparse.Namespace) -> int:
+    from .report import CAUTION
+    from .resultexport import export_csv
+    from .resultread import read_result
+
+    path = Path(args.results)
+    result = read_result(path)
+    unit = args.unit or _settings_from_file(path, None).unit
+    written = export_csv(result, Path(args.csv), source=str(path), temperature_unit=unit, caution=CAUTION)
+    print(CAUTION)
+    for file in written:
+        print(f"csv:     {file}")
+    return 0
+
+
 def _cmd_materials(args: argparse.Namespace) -> int:
     from .material_files import available_materials, load_material
 
@@ -349,6 +364,17 @@ def _parser() -> argparse.ArgumentParser:
     plot.add_argument("--time", type=float, action="append", help="also map the field at this time [min]")
     plot.add_argument("--unit", choices=units)
     plot.set_defaults(func=_cmd_plot)
+
+    export = verbs.add_parser(
+        "export",
+        help="write the histories and the energy ledger of a results file as CSV (units in the header)",
+        description="Write histories.csv and ledger.csv into a folder, e.g. "
+        "'heatstack export run.h5 --csv run-csv'. A file the export did not write is never replaced.",
+    )
+    export.add_argument("results", help="results file (.h5)")
+    export.add_argument("--csv", required=True, metavar="DIR", help="folder for the CSV files (created if missing)")
+    export.add_argument("--unit", choices=units, help="temperature unit of the CSV (default: the report's)")
+    export.set_defaults(func=_cmd_export)
 
     fit = verbs.add_parser("fit", help="estimate the braking energy from a recorded sensor trace")
     fit.add_argument("case", help="case file whose duty the trace followed")

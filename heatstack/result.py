@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .errors import InputError
+from .resulttables import history_frame, result_dataset
 
 __all__ = ["Result", "EnergyLedger", "State"]
 
@@ -174,3 +175,33 @@ class Result:
         if self.snapshot_times.size == 0:
             raise InputError("this result holds no field snapshots")
         return self.snapshots[int(np.argmin(np.abs(self.snapshot_times - time)))]
+
+    def to_dataframe(self):
+        """The histories as a tidy pandas DataFrame: columns ``time_s`` [s], ``name``, ``kind``, ``value_K`` [K].
+
+        One row per record time and history; ``kind`` is ``"reading"`` (a probe's reading
+        after its instrument lag), ``"local"`` (the local temperature at a probe) or
+        ``"series"``; ``frame.attrs["units"]`` names each column's unit. Needs pandas
+        (``pip install "heatstack[data]"``).
+
+        Raises
+        ------
+        OptionalDependencyError
+            If pandas is not installed.
+        """
+        return history_frame(self)
+
+    def to_xarray(self):
+        """The histories and field snapshots as an xarray Dataset with named coordinates.
+
+        The same layout as the root of a results file opened with
+        ``xarray.open_dataset(path, engine="h5netcdf")``: ``reading`` and ``local`` over
+        (time, probe) [K], the series, ``temperature`` over (snapshot_time, z, r) [K].
+        Needs xarray (``pip install "heatstack[data]"``).
+
+        Raises
+        ------
+        OptionalDependencyError
+            If xarray is not installed.
+        """
+        return result_dataset(self)

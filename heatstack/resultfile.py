@@ -6,47 +6,59 @@ again later without re-running the solver. Every numeric dataset is in SI units 
 carries a ``unit`` attribute ("K", "s", "J", "m", or "1" for pure numbers and
 indices); text datasets carry ``unit = ""``.
 
-Layout (format version 1)::
+The layout (format version 2) follows the netCDF-4 / CF conventions where they fit, so that
+``xarray.open_dataset(path, engine="h5netcdf")`` (and ``group="ledger"`` and so on) gives
+named dimensions with their coordinates: every dimension is an HDF5 dimension scale, every
+variable is named for what it is and carries ``units`` (UDUNITS spelling: "K", "s", "J",
+"m", "1") and ``long_name`` attributes; text variables carry no ``units``::
 
-    /                          attrs: format = "heatstack-result", format_version,
-                                      heatstack_version, created (ISO 8601, UTC), description
-    /times                     record times [s], shape (n,)
-    /end_of_heating            scalar [s]
-    /end_of_braking            scalar [s] (end of the reference stop; absent in older files)
-    /metadata                  text: JSON object (solver statistics, case title, ...)
-    /case/text                 text: the case file as written by the user
-    /case/resolved_inputs      text: JSON object of the inputs after defaults and unit conversion
-    /grid/r_edges              [m], shape (nr + 1,)
-    /grid/z_edges              [m], shape (nz + 1,)
-    /grid/part_map             [1] part index per cell, -1 for void, shape (nz, nr)
-    /grid/part_names           text, shape (n_parts,)
-    /grid/part_roles           text, shape (n_parts,)
-    /probes                    attrs: position_unit = "m", time_constant_unit = "s"
-    /probes/0000, 0001, ...    one group per probe, in the order of the result;
-                               attrs: name, and (when known) r, z, time_constant
-    /probes/NNNN/local         local temperature [K], shape (n,)
-    /probes/NNNN/reading       reading after the instrument lag [K], shape (n,)
-    /series/0000, 0001, ...    one dataset per global series [K], shape (n,); attr name
-    /ledger/heat_in            cumulative energies [J], shape (n,)
-    /ledger/convected
-    /ledger/radiated
-    /ledger/stored
-    /ledger/friction_labels    text, shape (n_interfaces,)
-    /ledger/friction_split     [J], shape (n_interfaces, 2)
-    /snapshots/times           [s], shape (s,)
-    /snapshots/temperature     [K], shape (s, nz, nr), NaN in void cells; chunked one
-                               snapshot per chunk and compressed
-    /final_state/time          scalar [s]
-    /final_state/temperature   [K] per active cell, shape (n_active,)
-    /final_state/reading_names text, shape (n_lagged,): probes whose instrument lags
-    /final_state/readings      [K], shape (n_lagged,): their readings at the final time
-                               (both absent in files written before heatstack kept them)
-    /phases/names              text, shape (n_phases,)
-    /phases/start              [s], shape (n_phases,)
-    /phases/end                [s], shape (n_phases,)
+    /                         attrs: Conventions = "CF-1.11", format = "heatstack-result",
+                                     format_version, heatstack_version, created (ISO 8601, UTC),
+                                     title, source, history, series_order (every series name,
+                                     in the order of the result)
+      time(time)              record times [s]
+      probe(probe)            probe names (text; cf_role = "timeseries_id")
+      probe_r(probe), probe_z(probe)    probe position [m], NaN where not known
+      probe_time_constant(probe)        instrument time constant [s], NaN where not known
+      probe_content(probe)    CF flag masks: 1 local recorded, 2 reading recorded,
+                              4 position known, 8 time constant known
+      local(time, probe)      local temperature at each probe [K]
+      reading(time, probe)    probe reading after its instrument lag [K]
+      heat_sink_mean(time), heat_sink_max(time), wheel_max(time), ...
+                              one variable per cell-group series [K], named as the series
+      surface(surface)        exposed-surface group names (text)
+      surface_temperature(time, surface)  area-weighted mean surface temperature [K]
+                              (the series ``surface:<group>``)
+      series(series), temperature_series(time, series)
+                              any other series whose name is not a plain identifier [K]
+      end_of_heating          scalar [s]
+      end_of_braking          scalar [s]: end of the reference stop (the delays count from it)
+      snapshot_time(snapshot_time)        snapshot times [s]
+      r(r), z(z)              cell-centre radius and axial position [m]
+      r_edge(r_edge), z_edge(z_edge)      grid lines [m]
+      part(part)              part names (text); part_role(part): their roles (text)
+      part_map(z, r)          index into part of each cell, -1 for void [1]
+      temperature(snapshot_time, z, r)    field snapshots [K], NaN in void cells; chunked one
+                              snapshot per chunk and compressed
+    /ledger
+      time(time)              the record times again [s], so the group opens alone
+      heat_in, convected, radiated, stored (time)   cumulative energies [J]
+      rubbing_interface(rubbing_interface)          text; side(side): "first", "second"
+      friction_split(rubbing_interface, side)       energy into each side [J]
+    /phases
+      phase(phase)            phase names (text); start(phase), end(phase) [s]
+    /final_state
+      final_time              scalar [s]
+      cell(cell)              active-cell index [1]; temperature(cell) [K]
+      lagged_probe(lagged_probe)  probes whose instrument lags (text); reading(lagged_probe) [K]
+    /case
+      text                    the case file as written by the user (text)
+      resolved_inputs         JSON object of the inputs after defaults and unit conversion
+      run_metadata            JSON object of ``Result.metadata`` (solver statistics, ...)
 
-Probe and series names are free text (they may hold spaces, colons or slashes), so
-they are kept in a ``name`` attribute and the HDF5 names are zero-padded indices.
+Names are free text (they may hold spaces, colons or slashes), so they are stored as
+text coordinates, never as HDF5 names. Files of format version 1 (index-named groups,
+``unit`` attributes, no dimension scales) are still read by :mod:`heatstack.resultread`.
 
 Writing is atomic: the file is written to a temporary file in the target folder,
 flushed to disk, then moved over the target in one step, so a failed write never
@@ -74,17 +86,27 @@ from . import atomic
 from .atomic import as_path, os_reason, write_file_atomically, write_target
 from .errors import ResultFileError
 from .result import Result
-from .resultformat import FORMAT_NAME, FORMAT_VERSION, LEDGER_ACCOUNTS
+from .resultformat import (
+    CONVENTIONS,
+    FORMAT_NAME,
+    FORMAT_VERSION,
+    LEDGER_ACCOUNTS,
+    OWN_VARIABLE,
+    PROBE_HAS_LOCAL,
+    PROBE_HAS_POSITION,
+    PROBE_HAS_READING,
+    PROBE_HAS_TIME_CONSTANT,
+    SURFACE_SERIES,
+    series_place,
+)
 
 __all__ = ["check_writable", "write_result"]
 
 _COMPRESSIONS = ("gzip", "lzf", "none")
 _GZIP_LEVEL = 4
 _TEXT = h5py.string_dtype("utf-8")
-_DESCRIPTION = (
-    "heatstack results: transient axisymmetric heat conduction in a wheel and brake. "
-    "SI units; each dataset states its unit in its 'unit' attribute."
-)
+_TITLE = "heatstack results: transient axisymmetric heat conduction in a wheel and brake"
+_DESCRIPTION = "SI units; each variable states its unit in its 'units' attribute. Not certified data."
 
 
 # --------------------------------------------------------------------------- paths
@@ -206,26 +228,60 @@ def _texts(values: Any, what: str) -> list[str]:
     return values
 
 
-def _put(group: h5py.Group, name: str, data: np.ndarray, unit: str, **options: Any) -> h5py.Dataset:
+def _variable(
+    group: h5py.Group,
+    name: str,
+    data: np.ndarray,
+    dims: tuple[h5py.Dataset, ...],
+    units: str,
+    long_name: str,
+    **options: Any,
+) -> h5py.Dataset:
+    """A numeric variable with ``units`` and ``long_name``, its dimensions attached as scales."""
     dataset = group.create_dataset(name, data=data, **options)
-    dataset.attrs["unit"] = unit
+    dataset.attrs["units"] = units
+    dataset.attrs["long_name"] = long_name
+    for axis, scale in enumerate(dims):
+        dataset.dims[axis].attach_scale(scale)
     return dataset
 
 
-def _put_text(group: h5py.Group, name: str, data: str | list[str]) -> h5py.Dataset:
+def _text_variable(
+    group: h5py.Group, name: str, data: str | list[str], long_name: str, dims: tuple[h5py.Dataset, ...] = ()
+) -> h5py.Dataset:
+    """A UTF-8 text variable (a scalar text, or a list of texts along ``dims``)."""
     if isinstance(data, str):
         dataset = group.create_dataset(name, data=data, dtype=_TEXT)
     else:
         dataset = group.create_dataset(name, data=np.array(data, dtype=object), shape=(len(data),), dtype=_TEXT)
-    dataset.attrs["unit"] = ""
+    dataset.attrs["long_name"] = long_name
+    for axis, scale in enumerate(dims):
+        dataset.dims[axis].attach_scale(scale)
+    return dataset
+
+
+def _coordinate(
+    group: h5py.Group, name: str, data: np.ndarray | list[str], units: str | None, long_name: str
+) -> h5py.Dataset:
+    """A dimension named ``name`` with its coordinate values: an HDF5 dimension scale.
+
+    ``units`` None makes a text coordinate (names).
+    """
+    if units is None:
+        dataset = _text_variable(group, name, list(data), long_name)
+    else:
+        dataset = group.create_dataset(name, data=data)
+        dataset.attrs["units"] = units
+        dataset.attrs["long_name"] = long_name
+    dataset.make_scale(name)
     return dataset
 
 
 def _snapshot_options(shape: tuple[int, ...], compression: str) -> dict[str, Any]:
     """Chunk one snapshot per chunk; compress unless ``compression`` is "none"."""
-    if len(shape) != 3 or shape[1] == 0 or shape[2] == 0:
+    if len(shape) != 3 or 0 in shape:
         return {}
-    options: dict[str, Any] = {"chunks": (1, shape[1], shape[2]), "maxshape": (None, shape[1], shape[2])}
+    options: dict[str, Any] = {"chunks": (1, shape[1], shape[2])}
     if compression == "gzip":
         options.update(compression="gzip", compression_opts=_GZIP_LEVEL, shuffle=True)
     elif compression == "lzf":
@@ -233,85 +289,195 @@ def _snapshot_options(shape: tuple[int, ...], compression: str) -> dict[str, Any
     return options
 
 
+def _columns(histories: list[np.ndarray], n: int, what: str) -> np.ndarray:
+    """Histories of length ``n`` as the columns of an (n, k) array; NaN columns stand for absent ones."""
+    table = np.full((n, len(histories)), np.nan, dtype=np.float64)
+    for column, history in enumerate(histories):
+        if history is None:
+            continue
+        if history.shape != (n,):
+            raise ResultFileError(f"result field {what} has {history.shape[0]} values, but there are {n} record times")
+        table[:, column] = history
+    return table
+
+
+def _write_probes(h5: h5py.File, result: Result, time: h5py.Dataset) -> None:
+    names = _texts(
+        dict.fromkeys([*result.probes, *result.readings, *result.probe_positions, *result.probe_time_constants]),
+        "probe names",
+    )
+    n = time.shape[0]
+    probe = _coordinate(h5, "probe", names, None, "probe name")
+    probe.attrs["cf_role"] = "timeseries_id"
+    positions = np.array([result.probe_positions.get(name, (np.nan, np.nan)) for name in names], dtype=np.float64)
+    positions = positions.reshape(len(names), 2)
+    _variable(h5, "probe_r", positions[:, 0], (probe,), "m", "radius of the probe")
+    _variable(h5, "probe_z", positions[:, 1], (probe,), "m", "axial position of the probe")
+    constants = np.array([result.probe_time_constants.get(name, np.nan) for name in names], dtype=np.float64)
+    _variable(h5, "probe_time_constant", constants, (probe,), "s", "instrument time constant of the probe")
+    content = np.array(
+        [
+            (PROBE_HAS_LOCAL if name in result.probes else 0)
+            | (PROBE_HAS_READING if name in result.readings else 0)
+            | (PROBE_HAS_POSITION if name in result.probe_positions else 0)
+            | (PROBE_HAS_TIME_CONSTANT if name in result.probe_time_constants else 0)
+            for name in names
+        ],
+        dtype=np.int8,
+    )
+    flags = _variable(h5, "probe_content", content, (probe,), "1", "what is recorded for the probe")
+    flags.attrs["flag_masks"] = np.array(
+        [PROBE_HAS_LOCAL, PROBE_HAS_READING, PROBE_HAS_POSITION, PROBE_HAS_TIME_CONSTANT], dtype=np.int8
+    )
+    flags.attrs["flag_meanings"] = "local_recorded reading_recorded position_known time_constant_known"
+    local = [_numeric(result.probes[name], f"probes[{name!r}]", 1) if name in result.probes else None for name in names]
+    reading = [
+        _numeric(result.readings[name], f"readings[{name!r}]", 1) if name in result.readings else None for name in names
+    ]
+    dims = (time, probe)
+    _variable(h5, "local", _columns(local, n, "probes"), dims, "K", "local temperature at the probe")
+    _variable(h5, "reading", _columns(reading, n, "readings"), dims, "K", "probe reading after its instrument lag")
+
+
+def _write_series(h5: h5py.File, result: Result, time: h5py.Dataset) -> None:
+    names = _texts(result.series, "series names")
+    h5.attrs["series_order"] = np.array(names, dtype=object) if names else np.array([], dtype=_TEXT)
+    n = time.shape[0]
+    surfaces: list[tuple[str, np.ndarray]] = []
+    others: list[tuple[str, np.ndarray]] = []
+    for name in names:
+        history = _numeric(result.series[name], f"series[{name!r}]", 1)
+        place = series_place(name)
+        if place.kind == OWN_VARIABLE:
+            if history.shape != (n,):
+                raise ResultFileError(f"result field series[{name!r}] has {history.size} values, not {n}")
+            dataset = _variable(h5, name, history, (time,), "K", f"temperature series {name}")
+            dataset.attrs["series_name"] = name
+        elif place.kind == SURFACE_SERIES:
+            surfaces.append((place.key, history))
+        else:
+            others.append((place.key, history))
+    if surfaces:
+        surface = _coordinate(h5, "surface", [s[0] for s in surfaces], None, "exposed-surface group")
+        table = _columns([s[1] for s in surfaces], n, "series")
+        _variable(h5, "surface_temperature", table, (time, surface), "K", "area-weighted mean surface temperature")
+    if others:
+        series = _coordinate(h5, "series", [s[0] for s in others], None, "temperature series name")
+        table = _columns([s[1] for s in others], n, "series")
+        _variable(h5, "temperature_series", table, (time, series), "K", "temperature series named in series")
+
+
+def _write_fields(h5: h5py.File, result: Result, compression: str) -> None:
+    r_edges = _numeric(result.r_edges, "r_edges", 1)
+    z_edges = _numeric(result.z_edges, "z_edges", 1)
+    part_map = _numeric(result.part_map, "part_map", 2, "iu")
+    if part_map.shape != (z_edges.size - 1, r_edges.size - 1):
+        raise ResultFileError(f"result field part_map has shape {part_map.shape}, but the grid edges give "
+                              f"{(z_edges.size - 1, r_edges.size - 1)}")  # fmt: skip
+    r = _coordinate(h5, "r", 0.5 * (r_edges[:-1] + r_edges[1:]), "m", "radius of the cell centre")
+    z = _coordinate(h5, "z", 0.5 * (z_edges[:-1] + z_edges[1:]), "m", "axial position of the cell centre")
+    _coordinate(h5, "r_edge", r_edges, "m", "radius of the radial grid lines")
+    _coordinate(h5, "z_edge", z_edges, "m", "axial position of the axial grid lines")
+    part = _coordinate(h5, "part", _texts(result.part_names, "part_names"), None, "part name")
+    roles = _texts(result.part_roles, "part_roles")
+    if len(roles) != part.shape[0]:
+        raise ResultFileError("result fields part_names and part_roles differ in length")
+    _text_variable(h5, "part_role", roles, "role of the part", (part,))
+    cells = _variable(h5, "part_map", part_map, (z, r), "1", "index into part of the part each cell belongs to")
+    cells.attrs["comment"] = "-1 marks a void cell"
+
+    snapshot_time = _coordinate(
+        h5, "snapshot_time", _numeric(result.snapshot_times, "snapshot_times", 1), "s", "time of the field snapshot"
+    )
+    fields = np.asarray(result.snapshots)
+    if fields.size == 0 and fields.ndim != 3:  # no snapshots at all: keep the field shape
+        fields = np.zeros((0, *part_map.shape), dtype=np.float64)
+    fields = _numeric(fields, "snapshots", 3)
+    if fields.shape[0] != snapshot_time.shape[0] or fields.shape[1:] != part_map.shape:
+        raise ResultFileError(f"result field snapshots has shape {fields.shape}, not "
+                              f"{(snapshot_time.shape[0], *part_map.shape)}")  # fmt: skip
+    temperature = _variable(
+        h5, "temperature", fields, (snapshot_time, z, r), "K", "temperature field",
+        **_snapshot_options(fields.shape, compression),
+    )  # fmt: skip
+    temperature.attrs["comment"] = "NaN in void cells"
+
+
+def _write_ledger(group: h5py.Group, result: Result) -> None:
+    time = _coordinate(group, "time", _numeric(result.times, "times", 1), "s", "time since the start of the run")
+    meanings = {
+        "heat_in": "friction energy put into the assembly since the start",
+        "convected": "energy lost by convection since the start",
+        "radiated": "energy lost by radiation to the surroundings since the start",
+        "stored": "change of the stored enthalpy since the start",
+    }
+    for account in LEDGER_ACCOUNTS:
+        history = _numeric(getattr(result.ledger, account), f"ledger.{account}", 1)
+        if history.shape != time.shape:
+            raise ResultFileError(f"result field ledger.{account} has {history.size} values, not {time.shape[0]}")
+        _variable(group, account, history, (time,), "J", meanings[account])
+    labels = _texts(result.ledger.friction_labels, "ledger.friction_labels")
+    interface = _coordinate(group, "rubbing_interface", labels, None, "rubbing interface")
+    side = _coordinate(group, "side", ["first", "second"], None, "side of the rubbing interface")
+    split = _numeric(result.ledger.friction_split, "ledger.friction_split", 2)
+    if split.shape != (len(labels), 2):
+        raise ResultFileError(f"result field ledger.friction_split has shape {split.shape}, not {(len(labels), 2)}")
+    _variable(group, "friction_split", split, (interface, side), "J", "friction energy into each side")
+
+
 def _write_content(
     h5: h5py.File, result: Result, case_text: str, inputs_json: str, metadata_json: str, compression: str
 ) -> None:
-    """Write every group, dataset and attribute of a results file into an open, empty file."""
+    """Write every group, variable and attribute of a results file into an open, empty file."""
     from . import __version__
 
+    created = _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
+    h5.attrs["Conventions"] = CONVENTIONS
     h5.attrs["format"] = FORMAT_NAME
     h5.attrs["format_version"] = np.int64(FORMAT_VERSION)
     h5.attrs["heatstack_version"] = str(__version__)
-    h5.attrs["created"] = _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
-    h5.attrs["description"] = _DESCRIPTION
+    h5.attrs["created"] = created
+    h5.attrs["title"] = _TITLE
+    h5.attrs["source"] = f"heatstack {__version__}"
+    h5.attrs["history"] = f"{created} written by heatstack {__version__}"
+    h5.attrs["comment"] = _DESCRIPTION
 
-    _put(h5, "times", _numeric(result.times, "times", 1), "s")
-    _put(h5, "end_of_heating", np.float64(result.end_of_heating), "s")
-    _put(h5, "end_of_braking", np.float64(result.end_of_braking), "s")
-    _put_text(h5, "metadata", metadata_json).attrs["encoding"] = "json"
-
-    case = h5.create_group("case")
-    _put_text(case, "text", case_text)
-    _put_text(case, "resolved_inputs", inputs_json).attrs["encoding"] = "json"
-
-    grid = h5.create_group("grid")
-    _put(grid, "r_edges", _numeric(result.r_edges, "r_edges", 1), "m")
-    _put(grid, "z_edges", _numeric(result.z_edges, "z_edges", 1), "m")
-    _put(grid, "part_map", _numeric(result.part_map, "part_map", 2, "iu"), "1")
-    _put_text(grid, "part_names", _texts(result.part_names, "part_names"))
-    _put_text(grid, "part_roles", _texts(result.part_roles, "part_roles"))
-
-    probes = h5.create_group("probes")
-    probes.attrs["position_unit"] = "m"
-    probes.attrs["time_constant_unit"] = "s"
-    names = list(
-        dict.fromkeys([*result.probes, *result.readings, *result.probe_positions, *result.probe_time_constants])
-    )
-    for index, name in enumerate(_texts(names, "probe names")):
-        probe = probes.create_group(f"{index:04d}")
-        probe.attrs["name"] = name
-        if name in result.probe_positions:
-            r, z = result.probe_positions[name]
-            probe.attrs["r"] = float(r)
-            probe.attrs["z"] = float(z)
-        if name in result.probe_time_constants:
-            probe.attrs["time_constant"] = float(result.probe_time_constants[name])
-        if name in result.probes:
-            _put(probe, "local", _numeric(result.probes[name], f"probes[{name!r}]", 1), "K")
-        if name in result.readings:
-            _put(probe, "reading", _numeric(result.readings[name], f"readings[{name!r}]", 1), "K")
-
-    series = h5.create_group("series")
-    for index, name in enumerate(_texts(result.series, "series names")):
-        dataset = _put(series, f"{index:04d}", _numeric(result.series[name], f"series[{name!r}]", 1), "K")
-        dataset.attrs["name"] = name
-
-    ledger = h5.create_group("ledger")
-    for account in LEDGER_ACCOUNTS:
-        _put(ledger, account, _numeric(getattr(result.ledger, account), f"ledger.{account}", 1), "J")
-    _put_text(ledger, "friction_labels", _texts(result.ledger.friction_labels, "ledger.friction_labels"))
-    _put(ledger, "friction_split", _numeric(result.ledger.friction_split, "ledger.friction_split", 2), "J")
-
-    snapshots = h5.create_group("snapshots")
-    _put(snapshots, "times", _numeric(result.snapshot_times, "snapshot_times", 1), "s")
-    fields = np.asarray(result.snapshots)
-    if fields.size == 0 and fields.ndim != 3:  # no snapshots at all: keep the field shape
-        fields = np.zeros((0, *np.shape(result.part_map)), dtype=np.float64)
-    fields = _numeric(fields, "snapshots", 3)
-    _put(snapshots, "temperature", fields, "K", **_snapshot_options(fields.shape, compression))
-
-    final = h5.create_group("final_state")
-    _put(final, "time", np.float64(result.final_state.time), "s")
-    _put(final, "temperature", _numeric(result.final_state.temperature, "final_state.temperature", 1), "K")
-    reading_names = tuple(result.final_state.readings)
-    _put_text(final, "reading_names", _texts(reading_names, "final_state.readings"))
-    readings = np.array([float(result.final_state.readings[name]) for name in reading_names], dtype=np.float64)
-    _put(final, "readings", _numeric(readings, "final_state.readings", 1), "K")
+    time = _coordinate(h5, "time", _numeric(result.times, "times", 1), "s", "time since the start of the run")
+    _write_probes(h5, result, time)
+    _write_series(h5, result, time)
+    end = h5.create_dataset("end_of_heating", data=np.float64(result.end_of_heating))
+    end.attrs.update(units="s", long_name="last time with brake power")
+    end = h5.create_dataset("end_of_braking", data=np.float64(result.end_of_braking))
+    end.attrs.update(units="s", long_name="end of the stop that loaded the brake (the delays' reference)")
+    _write_fields(h5, result, compression)
+    _write_ledger(h5.create_group("ledger"), result)
 
     phases = h5.create_group("phases")
-    _put_text(phases, "names", _texts((p[0] for p in result.phases), "phase names"))
-    _put(phases, "start", np.array([float(p[1]) for p in result.phases], dtype=np.float64), "s")
-    _put(phases, "end", np.array([float(p[2]) for p in result.phases], dtype=np.float64), "s")
+    phase = _coordinate(phases, "phase", _texts((p[0] for p in result.phases), "phase names"), None, "duty phase")
+    starts = np.array([float(p[1]) for p in result.phases], dtype=np.float64)
+    ends = np.array([float(p[2]) for p in result.phases], dtype=np.float64)
+    _variable(phases, "start", starts, (phase,), "s", "start of the phase")
+    _variable(phases, "end", ends, (phase,), "s", "end of the phase")
+
+    final = h5.create_group("final_state")
+    stamp = final.create_dataset("final_time", data=np.float64(result.final_state.time))
+    stamp.attrs.update(units="s", long_name="time of the final state")
+    state = _numeric(result.final_state.temperature, "final_state.temperature", 1)
+    cell = _coordinate(final, "cell", np.arange(state.size, dtype=np.int64), "1", "active-cell index")
+    _variable(final, "temperature", state, (cell,), "K", "temperature of each active cell at the final time")
+    reading_names = _texts(tuple(result.final_state.readings), "final_state.readings")
+    lagged = _coordinate(final, "lagged_probe", reading_names, None, "probe whose instrument lags")
+    readings = np.array([float(result.final_state.readings[name]) for name in reading_names], dtype=np.float64)
+    _variable(final, "reading", readings, (lagged,), "K", "reading of the lagged probe at the final time")
+
+    case = h5.create_group("case")
+    _text_variable(case, "text", case_text, "the case file as written")
+    _text_variable(case, "resolved_inputs", inputs_json, "inputs after defaults and unit conversion [SI]").attrs[
+        "encoding"
+    ] = "json"
+    _text_variable(case, "run_metadata", metadata_json, "run metadata: solver statistics and notes").attrs[
+        "encoding"
+    ] = "json"
 
 
 def write_result(

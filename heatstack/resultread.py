@@ -1,7 +1,8 @@
 """Reading a results file back: the whole run, or just its case text or resolved inputs.
 
 The layout, and the checks made on it, are described in :mod:`heatstack.resultfile`, which
-writes the file and re-exports these readers. Every failure is a ResultFileError naming the
+writes the file. Files of format version 1 (before the netCDF-4 / CF layout) and version 2
+are both read. Every failure is a ResultFileError naming the
 file and what is wrong with it.
 """
 
@@ -19,7 +20,19 @@ import numpy as np
 from .atomic import as_path, os_reason
 from .errors import ResultFileError
 from .result import EnergyLedger, Result, State
-from .resultformat import FORMAT_NAME, FORMAT_VERSION, LEDGER_ACCOUNTS
+from .resultformat import (
+    FORMAT_NAME,
+    FORMAT_VERSION,
+    LEDGER_ACCOUNTS,
+    OTHER_SERIES,
+    OWN_VARIABLE,
+    PROBE_HAS_LOCAL,
+    PROBE_HAS_POSITION,
+    PROBE_HAS_READING,
+    PROBE_HAS_TIME_CONSTANT,
+    SURFACE_SERIES,
+    series_place,
+)
 
 __all__ = [
     "read_case_text",
@@ -34,6 +47,8 @@ class _Reader:
     def __init__(self, h5: h5py.File, path: Path) -> None:
         self.h5 = h5
         self.path = path
+        self.version = FORMAT_VERSION
+        self.unit_key = "units"
 
     def fail(self, what: str) -> ResultFileError:
         return ResultFileError(f"results file {str(self.path)!r}: {what}")
@@ -58,7 +73,7 @@ class _Reader:
         self, name: str, unit: str, ndim: int | None, parent: h5py.Group | None = None, kind: str = "f"
     ) -> np.ndarray:
         dataset = self.dataset(name, parent)
-        stored = _attr_text(dataset.attrs.get("unit"))
+        stored = _attr_text(dataset.attrs.get(self.unit_key))
         if stored != unit:
             raise self.fail(f"dataset {dataset.name!r} has unit {stored!r}, expected {unit!r}")
         if dataset.dtype.kind not in kind:
@@ -145,7 +160,8 @@ def _open(path: str | Path) -> Iterator[_Reader]:
     try:
         with h5:
             reader = _Reader(h5, given)
-            _check_format(reader)
+            reader.version = _check_format(reader)
+            reader.unit_key = "unit" if reader.version == 1 else "units"
             yield reader
     except ResultFileError:
         raise
@@ -155,7 +171,8 @@ def _open(path: str | Path) -> Iterator[_Reader]:
         ) from None
 
 
-def _check_format(reader: _Reader) -> None:
+def _check_format(reader: _Reader) -> int:
+    """The format version of the open file, checked to be one this heatstack reads."""
     attrs = reader.h5.attrs
     if "format" not in attrs:
         raise reader.fail(f"not a heatstack results file (no 'format' attribute; expected {FORMAT_NAME!r})")
@@ -176,6 +193,7 @@ def _check_format(reader: _Reader) -> None:
         )
     if version < 1:
         raise reader.fail(f"format_version {version} is not valid")
+    return version
 
 
 def read_result(path: str | Path) -> Result:
@@ -201,88 +219,91 @@ def read_result(path: str | Path) -> Result:
         what is wrong.
     """
     with _open(path) as rd:
-        times = rd.array("times", "s", 1)
-        end_of_heating = rd.scalar("end_of_heating", "s")
-        # files written before the reference stop was stored: the last time with power
-        end_of_braking = rd.scalar("end_of_braking", "s") if "end_of_braking" in rd.h5 else end_of_heating
-        metadata = rd.json("metadata")
-        rd.json("resolved_inputs", rd.group("case"))
-        rd.text("text", rd.group("case"))
+        return _read_version_1(rd) if rd.version == 1 else _read_version_2(rd)
 
-        grid = rd.group("grid")
-        r_edges = rd.array("r_edges", "m", 1, grid)
-        z_edges = rd.array("z_edges", "m", 1, grid)
-        part_map = rd.array("part_map", "1", 2, grid, kind="iu")
-        part_names = rd.texts("part_names", grid)
-        part_roles = rd.texts("part_roles", grid)
-        cells = (z_edges.size - 1, r_edges.size - 1)
-        if part_map.shape != cells:
-            raise rd.fail(f"grid/part_map has shape {part_map.shape}, but the edges give {cells}")
-        if len(part_names) != len(part_roles):
-            raise rd.fail("grid/part_names and grid/part_roles differ in length")
 
-        probes: dict[str, np.ndarray] = {}
-        readings: dict[str, np.ndarray] = {}
-        positions: dict[str, tuple[float, float]] = {}
-        time_constants: dict[str, float] = {}
-        probe_group = rd.group("probes")
-        for key in _ordered(probe_group):
-            member = rd.group(key, probe_group)
-            name = rd.name_of(member)
-            if "r" in member.attrs or "z" in member.attrs:
-                positions[name] = (rd.number_attr(member, "r"), rd.number_attr(member, "z"))
-            if "time_constant" in member.attrs:
-                time_constants[name] = rd.number_attr(member, "time_constant")
-            if "local" in member:
-                probes[name] = rd.array("local", "K", 1, member)
-            if "reading" in member:
-                readings[name] = rd.array("reading", "K", 1, member)
+def _read_version_1(rd: _Reader) -> Result:
+    """A Result from a file of format version 1: index-named groups, ``unit`` attributes."""
+    times = rd.array("times", "s", 1)
+    end_of_heating = rd.scalar("end_of_heating", "s")
+    # version 1 knew no reference stop: the last time with power
+    end_of_braking = rd.scalar("end_of_braking", "s") if "end_of_braking" in rd.h5 else end_of_heating
+    metadata = rd.json("metadata")
+    rd.json("resolved_inputs", rd.group("case"))
+    rd.text("text", rd.group("case"))
 
-        series: dict[str, np.ndarray] = {}
-        series_group = rd.group("series")
-        for key in _ordered(series_group):
-            dataset = rd.dataset(key, series_group)
-            series[rd.name_of(dataset)] = rd.array(key, "K", 1, series_group)
+    grid = rd.group("grid")
+    r_edges = rd.array("r_edges", "m", 1, grid)
+    z_edges = rd.array("z_edges", "m", 1, grid)
+    part_map = rd.array("part_map", "1", 2, grid, kind="iu")
+    part_names = rd.texts("part_names", grid)
+    part_roles = rd.texts("part_roles", grid)
+    cells = (z_edges.size - 1, r_edges.size - 1)
+    if part_map.shape != cells:
+        raise rd.fail(f"grid/part_map has shape {part_map.shape}, but the edges give {cells}")
+    if len(part_names) != len(part_roles):
+        raise rd.fail("grid/part_names and grid/part_roles differ in length")
 
-        lg = rd.group("ledger")
-        accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
-        labels = rd.texts("friction_labels", lg)
-        split = rd.array("friction_split", "J", 2, lg)
-        if split.shape[0] != len(labels):
-            raise rd.fail("ledger/friction_split and ledger/friction_labels differ in length")
-        ledger = EnergyLedger(**accounts, friction_labels=labels, friction_split=split)
+    probes: dict[str, np.ndarray] = {}
+    readings: dict[str, np.ndarray] = {}
+    positions: dict[str, tuple[float, float]] = {}
+    time_constants: dict[str, float] = {}
+    probe_group = rd.group("probes")
+    for key in _ordered(probe_group):
+        member = rd.group(key, probe_group)
+        name = rd.name_of(member)
+        if "r" in member.attrs or "z" in member.attrs:
+            positions[name] = (rd.number_attr(member, "r"), rd.number_attr(member, "z"))
+        if "time_constant" in member.attrs:
+            time_constants[name] = rd.number_attr(member, "time_constant")
+        if "local" in member:
+            probes[name] = rd.array("local", "K", 1, member)
+        if "reading" in member:
+            readings[name] = rd.array("reading", "K", 1, member)
 
-        snaps = rd.group("snapshots")
-        snapshot_times = rd.array("times", "s", 1, snaps)
-        snapshots = rd.array("temperature", "K", 3, snaps)
-        if snapshots.shape[0] != snapshot_times.size:
-            raise rd.fail("snapshots/temperature and snapshots/times differ in length")
-        if snapshots.shape[1:] != cells:
-            raise rd.fail(f"snapshots/temperature holds fields of shape {snapshots.shape[1:]}, not {cells}")
+    series: dict[str, np.ndarray] = {}
+    series_group = rd.group("series")
+    for key in _ordered(series_group):
+        dataset = rd.dataset(key, series_group)
+        series[rd.name_of(dataset)] = rd.array(key, "K", 1, series_group)
 
-        final = rd.group("final_state")
-        final_readings = {}
-        if "readings" in final:
-            names = rd.texts("reading_names", final)
-            values = rd.array("readings", "K", 1, final)
-            if len(names) != values.size:
-                raise rd.fail("final_state/reading_names and final_state/readings differ in length")
-            final_readings = {name: float(v) for name, v in zip(names, values, strict=True)}
-        final_state = State(
-            time=rd.scalar("time", "s", final),
-            temperature=rd.array("temperature", "K", 1, final),
-            readings=final_readings,
-        )
+    lg = rd.group("ledger")
+    accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
+    labels = rd.texts("friction_labels", lg)
+    split = rd.array("friction_split", "J", 2, lg)
+    if split.shape[0] != len(labels):
+        raise rd.fail("ledger/friction_split and ledger/friction_labels differ in length")
+    ledger = EnergyLedger(**accounts, friction_labels=labels, friction_split=split)
 
-        ph = rd.group("phases")
-        phase_names = rd.texts("names", ph)
-        starts = rd.array("start", "s", 1, ph)
-        ends = rd.array("end", "s", 1, ph)
-        if not len(phase_names) == starts.size == ends.size:
-            raise rd.fail("phases/names, phases/start and phases/end differ in length")
-        phases = tuple(
-            (name, float(start), float(end)) for name, start, end in zip(phase_names, starts, ends, strict=True)
-        )
+    snaps = rd.group("snapshots")
+    snapshot_times = rd.array("times", "s", 1, snaps)
+    snapshots = rd.array("temperature", "K", 3, snaps)
+    if snapshots.shape[0] != snapshot_times.size:
+        raise rd.fail("snapshots/temperature and snapshots/times differ in length")
+    if snapshots.shape[1:] != cells:
+        raise rd.fail(f"snapshots/temperature holds fields of shape {snapshots.shape[1:]}, not {cells}")
+
+    final = rd.group("final_state")
+    final_readings = {}
+    if "readings" in final:
+        names = rd.texts("reading_names", final)
+        values = rd.array("readings", "K", 1, final)
+        if len(names) != values.size:
+            raise rd.fail("final_state/reading_names and final_state/readings differ in length")
+        final_readings = {name: float(v) for name, v in zip(names, values, strict=True)}
+    final_state = State(
+        time=rd.scalar("time", "s", final),
+        temperature=rd.array("temperature", "K", 1, final),
+        readings=final_readings,
+    )
+
+    ph = rd.group("phases")
+    phase_names = rd.texts("names", ph)
+    starts = rd.array("start", "s", 1, ph)
+    ends = rd.array("end", "s", 1, ph)
+    if not len(phase_names) == starts.size == ends.size:
+        raise rd.fail("phases/names, phases/start and phases/end differ in length")
+    phases = tuple((name, float(start), float(end)) for name, start, end in zip(phase_names, starts, ends, strict=True))
 
     return Result(
         times=times,
@@ -304,6 +325,135 @@ def read_result(path: str | Path) -> Result:
         probe_positions=positions,
         probe_time_constants=time_constants,
         metadata=metadata,
+    )
+
+
+def _columns_of(rd: _Reader, name: str, n: int, labels: tuple[str, ...]) -> np.ndarray:
+    """The (n, k) history table ``name``, checked against ``n`` record times and ``labels``."""
+    table = rd.array(name, "K", 2)
+    if table.shape != (n, len(labels)):
+        raise rd.fail(f"{name!r} has shape {table.shape}, expected {(n, len(labels))}")
+    return table
+
+
+def _series_version_2(rd: _Reader, n: int) -> dict[str, np.ndarray]:
+    """Every series, in the order of the root ``series_order`` attribute."""
+    if "series_order" not in rd.h5.attrs:
+        raise rd.fail("lacks the root attribute 'series_order'")
+    order = tuple(_attr_text(name) for name in np.atleast_1d(rd.h5.attrs["series_order"]))
+    tables: dict[str, tuple[dict[str, int], np.ndarray]] = {}
+    for kind, coordinate, variable in ((SURFACE_SERIES, "surface", "surface_temperature"),
+                                       (OTHER_SERIES, "series", "temperature_series")):  # fmt: skip
+        if coordinate in rd.h5:
+            labels = rd.texts(coordinate)
+            tables[kind] = ({label: k for k, label in enumerate(labels)}, _columns_of(rd, variable, n, labels))
+    series: dict[str, np.ndarray] = {}
+    for name in order:
+        place = series_place(name)
+        if place.kind == OWN_VARIABLE:
+            series[name] = rd.array(place.key, "K", 1)
+            continue
+        columns, table = tables.get(place.kind, ({}, None))
+        if place.key not in columns:
+            raise rd.fail(f"lacks the series {name!r} named in 'series_order'")
+        series[name] = np.ascontiguousarray(table[:, columns[place.key]])
+    return series
+
+
+def _read_version_2(rd: _Reader) -> Result:
+    """A Result from a file of format version 2: the netCDF-4 / CF layout."""
+    times = rd.array("time", "s", 1)
+    n = times.size
+    names = rd.texts("probe")
+    content = rd.array("probe_content", "1", 1, kind="iu")
+    r = rd.array("probe_r", "m", 1)
+    z = rd.array("probe_z", "m", 1)
+    constants = rd.array("probe_time_constant", "s", 1)
+    local = _columns_of(rd, "local", n, names)
+    reading = _columns_of(rd, "reading", n, names)
+    if not content.size == r.size == z.size == constants.size == len(names):
+        raise rd.fail("the probe variables differ in length from 'probe'")
+    probes: dict[str, np.ndarray] = {}
+    readings: dict[str, np.ndarray] = {}
+    positions: dict[str, tuple[float, float]] = {}
+    time_constants: dict[str, float] = {}
+    for k, name in enumerate(names):
+        flags = int(content[k])
+        if flags & PROBE_HAS_LOCAL:
+            probes[name] = np.ascontiguousarray(local[:, k])
+        if flags & PROBE_HAS_READING:
+            readings[name] = np.ascontiguousarray(reading[:, k])
+        if flags & PROBE_HAS_POSITION:
+            positions[name] = (float(r[k]), float(z[k]))
+        if flags & PROBE_HAS_TIME_CONSTANT:
+            time_constants[name] = float(constants[k])
+    series = _series_version_2(rd, n)
+
+    r_edges = rd.array("r_edge", "m", 1)
+    z_edges = rd.array("z_edge", "m", 1)
+    part_map = rd.array("part_map", "1", 2, kind="iu")
+    part_names = rd.texts("part")
+    part_roles = rd.texts("part_role")
+    cells = (z_edges.size - 1, r_edges.size - 1)
+    if part_map.shape != cells:
+        raise rd.fail(f"part_map has shape {part_map.shape}, but the grid edges give {cells}")
+    if len(part_names) != len(part_roles):
+        raise rd.fail("part and part_role differ in length")
+    snapshot_times = rd.array("snapshot_time", "s", 1)
+    snapshots = rd.array("temperature", "K", 3)
+    if snapshots.shape != (snapshot_times.size, *cells):
+        raise rd.fail(f"temperature has shape {snapshots.shape}, expected {(snapshot_times.size, *cells)}")
+
+    lg = rd.group("ledger")
+    accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
+    if any(values.size != n for values in accounts.values()):
+        raise rd.fail("a ledger account differs in length from 'time'")
+    labels = rd.texts("rubbing_interface", lg)
+    split = rd.array("friction_split", "J", 2, lg)
+    if split.shape[0] != len(labels):
+        raise rd.fail("ledger/friction_split and ledger/rubbing_interface differ in length")
+    ledger = EnergyLedger(**accounts, friction_labels=labels, friction_split=split)
+
+    final = rd.group("final_state")
+    lagged = rd.texts("lagged_probe", final)
+    values = rd.array("reading", "K", 1, final)
+    if len(lagged) != values.size:
+        raise rd.fail("final_state/lagged_probe and final_state/reading differ in length")
+    final_state = State(
+        time=rd.scalar("final_time", "s", final),
+        temperature=rd.array("temperature", "K", 1, final),
+        readings={name: float(v) for name, v in zip(lagged, values, strict=True)},
+    )
+
+    ph = rd.group("phases")
+    phase_names = rd.texts("phase", ph)
+    starts = rd.array("start", "s", 1, ph)
+    ends = rd.array("end", "s", 1, ph)
+    if not len(phase_names) == starts.size == ends.size:
+        raise rd.fail("phases/phase, phases/start and phases/end differ in length")
+    case = rd.group("case")
+    rd.text("text", case)
+    rd.json("resolved_inputs", case)
+    return Result(
+        times=times,
+        probes=probes,
+        readings=readings,
+        series=series,
+        ledger=ledger,
+        snapshot_times=snapshot_times,
+        snapshots=snapshots,
+        r_edges=r_edges,
+        z_edges=z_edges,
+        part_map=part_map,
+        part_names=part_names,
+        part_roles=part_roles,
+        final_state=final_state,
+        phases=tuple((p, float(s), float(e)) for p, s, e in zip(phase_names, starts, ends, strict=True)),
+        end_of_heating=rd.scalar("end_of_heating", "s"),
+        end_of_braking=rd.scalar("end_of_braking", "s"),
+        probe_positions=positions,
+        probe_time_constants=time_constants,
+        metadata=rd.json("run_metadata", case),
     )
 
 

@@ -166,35 +166,36 @@ def test_root_attributes_describe_the_file(written):
     assert abs(dt.datetime.now(dt.UTC) - created) < dt.timedelta(hours=1)
 
 
-def test_every_dataset_carries_a_unit_and_numeric_ones_a_real_unit(written):
+def test_every_numeric_variable_carries_units_and_every_variable_a_long_name(written):
     found: dict[str, str] = {}
 
     def visit(name, item):
         if isinstance(item, h5py.Dataset):
-            assert "unit" in item.attrs, name
-            found[name] = item.attrs["unit"]
+            assert item.attrs.get("long_name"), name
             if item.dtype.kind in "biuf":
-                assert item.attrs["unit"] != "", name
+                assert item.attrs.get("units"), name
+                found[name] = item.attrs["units"]
+            else:
+                assert "units" not in item.attrs, name
 
     with h5py.File(written, "r") as h5:
         h5.visititems(visit)
-    assert found["times"] == "s"
-    assert found["grid/r_edges"] == found["grid/z_edges"] == "m"
+    assert found["time"] == found["ledger/time"] == found["snapshot_time"] == "s"
+    assert found["r"] == found["z"] == found["r_edge"] == found["probe_r"] == "m"
     assert found["ledger/heat_in"] == found["ledger/friction_split"] == "J"
-    assert found["snapshots/temperature"] == found["final_state/temperature"] == "K"
-    assert found["probes/0000/local"] == found["probes/0000/reading"] == "K"
+    assert found["temperature"] == found["final_state/temperature"] == "K"
+    assert found["local"] == found["reading"] == found["heat_sink_mean"] == "K"
 
 
-def test_probe_position_and_time_constant_are_attributes(written):
+def test_probe_position_and_time_constant_are_variables_along_probe(written):
     with h5py.File(written, "r") as h5:
-        probe = h5["probes/0000"]
-        assert (probe.attrs["name"], probe.attrs["r"], probe.attrs["z"]) == ("sensor", 0.15, 0.005)
-        assert probe.attrs["time_constant"] == 5.0
+        assert [name.decode() if isinstance(name, bytes) else name for name in h5["probe"][()]] == ["sensor"]
+        assert (h5["probe_r"][0], h5["probe_z"][0], h5["probe_time_constant"][0]) == (0.15, 0.005, 5.0)
 
 
 def test_snapshots_are_compressed_one_snapshot_per_chunk(result, written):
     with h5py.File(written, "r") as h5:
-        fields = h5["snapshots/temperature"]
+        fields = h5["temperature"]
         assert fields.chunks == (1, *result.part_map.shape)
         assert fields.compression == "gzip"
 
@@ -326,7 +327,7 @@ def test_wrong_unit_is_refused(written, tmp_path):
     path = tmp_path / "unit.h5"
     path.write_bytes(written.read_bytes())
     with h5py.File(path, "r+") as h5:
-        h5["times"].attrs["unit"] = "min"
+        h5["time"].attrs["units"] = "min"
     with pytest.raises(ResultFileError, match="'min'"):
         read_result(path)
 
