@@ -27,7 +27,7 @@ from ..result import Result
 from .common import check_result, check_unit, figure_target, minutes_text, new_figure, save_figure, to_temperature_unit
 from .labels import LabelPlacer, box_overlap
 
-__all__ = ["plot_field", "plot_layout"]
+__all__ = ["plot_field", "plot_layout", "snapshot_index"]
 
 #: Fill colour of each part role in the layout figure (our own choice).
 _ROLE_COLOURS = {
@@ -57,6 +57,27 @@ def _text_colour(fill: str) -> str:
 
 
 # --------------------------------------------------------------------------- 2. field
+def snapshot_index(result: Result, time: float) -> int:
+    """Index of the stored snapshot nearest ``time`` [s], the one :func:`plot_field` draws.
+
+    Raises
+    ------
+    InputError
+        ``time`` not a number or outside the record, or the result holds no snapshots.
+    """
+    t_first, t_last = float(result.times[0]), float(result.times[-1])
+    try:
+        time = float(time)
+    except (TypeError, ValueError) as exc:
+        raise InputError(f"plot_field: time must be a number of seconds, got {time!r}") from exc
+    tol = 1e-9 * max(abs(t_last), 1.0)
+    if not np.isfinite(time) or time < t_first - tol or time > t_last + tol:
+        raise InputError(f"plot_field: time {time} s is outside the record ({t_first:g} s to {t_last:g} s)")
+    if result.snapshot_times.size == 0:
+        raise InputError("plot_field: this result holds no field snapshots")
+    return int(np.argmin(np.abs(result.snapshot_times - time)))
+
+
 def _cell_edges(part_map: np.ndarray, r_edges: np.ndarray, z_edges: np.ndarray, every: bool = False) -> np.ndarray:
     """Cell edges as segments [m] in (z, r) order, shape (n, 2, 2).
 
@@ -116,17 +137,8 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
     target, fmt = figure_target(path)
     check_result(result)
     symbol = check_unit(unit)
-    t_first, t_last = float(result.times[0]), float(result.times[-1])
-    try:
-        time = float(time)
-    except (TypeError, ValueError) as exc:
-        raise InputError(f"plot_field: time must be a number of seconds, got {time!r}") from exc
-    tol = 1e-9 * max(abs(t_last), 1.0)
-    if not np.isfinite(time) or time < t_first - tol or time > t_last + tol:
-        raise InputError(f"plot_field: time {time} s is outside the record ({t_first:g} s to {t_last:g} s)")
-    if result.snapshot_times.size == 0:
-        raise InputError("plot_field: this result holds no field snapshots")
-    k = int(np.argmin(np.abs(result.snapshot_times - time)))
+    k = snapshot_index(result, time)
+    time = float(time)
     shown = float(result.snapshot_times[k])
     values = to_temperature_unit(result.snapshots[k], unit)
     z_mm, r_mm = result.z_edges * 1e3, result.r_edges * 1e3
@@ -174,19 +186,23 @@ def _record_scale(result: Result, unit: str) -> tuple[float, float]:
 
 
 def _isotherms(ax: Axes, result: Result, masked: np.ma.MaskedArray, scale: tuple[float, float]) -> None:
-    """Thin labelled isotherms on the cell centres, at round steps of the shared scale."""
-    if masked.count() < 4 or np.ptp(masked.compressed()) < 1e-6:
-        return
+    """Thin labelled isotherms on the cell centres at round steps of the shared scale, part by part.
+
+    Each part is contoured alone, so no isotherm is drawn across a contact, where the temperature jumps.
+    """
     levels = MaxNLocator(nbins=8).tick_values(*scale)
-    inside = levels[(levels > masked.min()) & (levels < masked.max())]
-    if inside.size == 0:
-        return
     z_mid = 0.5 * (result.z_edges[1:] + result.z_edges[:-1]) * 1e3
     r_mid = 0.5 * (result.r_edges[1:] + result.r_edges[:-1]) * 1e3
-    lines = ax.contour(z_mid, r_mid, masked, levels=inside, colors="white", linewidths=0.6, alpha=0.85, zorder=2)
-    labels = ax.clabel(lines, fmt="%.0f", fontsize=6.5, inline=True, inline_spacing=2)
-    for label in labels:
-        label.set_color("white")
+    for index in range(len(result.part_names)):
+        part = np.ma.masked_where(result.part_map.T != index, masked)
+        if part.count() < 4:
+            continue
+        inside = levels[(levels > part.min()) & (levels < part.max())]
+        if inside.size == 0:
+            continue
+        lines = ax.contour(z_mid, r_mid, part, levels=inside, colors="white", linewidths=0.6, alpha=0.85, zorder=2)
+        for label in ax.clabel(lines, fmt="%.0f", fontsize=6.5, inline=True, inline_spacing=2):
+            label.set_color("white")
 
 
 def _name_parts(ax: Axes, placer: LabelPlacer, result: Result) -> None:

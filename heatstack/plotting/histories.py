@@ -240,6 +240,10 @@ def _mark_peaks(fig: Figure, panels: Sequence[_Panel], result: Result, curves: S
         panel.ax.plot([t / 60.0], [v], "o", ms=4, color=curve.colour, mec="white", mew=0.6, zorder=4)
         peaks.append((panel, t, v, f"{curve.peak_prefix}{v:.0f} {symbol} at {minutes_text(t)}", curve.colour))
     placers = {id(p.ax): LabelPlacer(fig, p.ax) for p in panels}
+    for panel in panels:  # keep clear of the labels already written (thresholds, end of braking)
+        for text in panel.ax.texts:
+            if text.get_visible() and text.get_text():
+                placers[id(panel.ax)].block_artist(text)
     for panel, t, v, _, _ in peaks:
         placers[id(panel.ax)].block_points(np.array([[t / 60.0, v]]))
     for panel, t, v, text, colour in sorted(peaks, key=lambda p: -p[2]):
@@ -568,10 +572,10 @@ def plot_why_the_gauge_lags(
     if braked:
         for panel in panels:
             panel.ax.axvline(t_end / 60.0, color="0.15", lw=1.0, ls=(0, (4, 2)), zorder=2)
+    if braked:
+        _end_of_braking_label(_panel_at(panels, t_end).ax, t_end)
     placers = _mark_peaks(fig, panels, result, curves, symbol)
     if braked:
-        first = _panel_at(panels, t_end)
-        _end_of_braking_label(first.ax, placers[id(first.ax)], t_end)
         t_read, v_read = _peak(result.times, curves[2].values)
         t_local, _ = _peak(result.times, curves[1].values)
         if t_read > t_end:
@@ -612,8 +616,8 @@ def _gauge_lag_curves(
     return curves, extra
 
 
-def _end_of_braking_label(ax, placer: LabelPlacer, t_end: float):
-    """Write "end of braking" up the dashed line at ``t_end`` [s]; the label is kept clear of others."""
+def _end_of_braking_label(ax, t_end: float):
+    """Write "end of braking" up the dashed line at ``t_end`` [s]; later labels keep clear of it."""
     end_label = ax.annotate(
         "end of braking",
         xy=(t_end / 60.0, 0.99),
@@ -627,7 +631,6 @@ def _end_of_braking_label(ax, placer: LabelPlacer, t_end: float):
         color="0.15",
     )
     end_label.set_in_layout(False)
-    placer.block_artist(end_label)
     return end_label
 
 
