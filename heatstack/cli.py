@@ -11,7 +11,9 @@ errors print one clear line, never a traceback.
 from __future__ import annotations
 
 import argparse
+import logging
 import os
+import shutil
 import sys
 import warnings
 from collections.abc import Callable, Sequence
@@ -27,12 +29,25 @@ from .report import CAUTION
 __all__ = ["main", "demo_case_path"]
 
 
+def _examples_folder() -> Path:
+    """The shipped examples: the installed ``heatstack._examples``, else the source tree's ``examples``."""
+    shipped = Path(str(resources.files("heatstack"))) / "_examples"
+    if (shipped / "demo_rto.toml").is_file():
+        return shipped
+    return Path(__file__).resolve().parents[1] / "examples"
+
+
 def demo_case_path() -> Path:
     """The invented demonstration case shipped with heatstack."""
-    shipped = Path(str(resources.files("heatstack"))) / "_examples" / "demo_rto.toml"
-    if shipped.is_file():
-        return shipped
-    return Path(__file__).resolve().parents[1] / "examples" / "demo_rto.toml"
+    return _examples_folder() / "demo_rto.toml"
+
+
+#: ``heatstack example NAME``: the files each shipped example copies (a study needs its base case).
+EXAMPLES = {
+    "demo": ("demo_rto.toml",),
+    "study": ("demo_study.toml", "demo_rto.toml"),
+    "api": ("turnaround.py",),
+}
 
 
 def _progress(total_time: float, start: float, quiet: bool) -> tuple[Callable[[float], None] | None, Callable]:
@@ -50,16 +65,40 @@ def _progress(total_time: float, start: float, quiet: bool) -> tuple[Callable[[f
     return update, bar.close
 
 
-def _write_plots(result, folder: Path, unit: str) -> list[Path]:
+def _figure_thresholds(settings) -> list:
+    """The report's temperature limits and fuse-plug release temperatures, as lines for the figures."""
+    from .plotting import Threshold
+
+    plugs = {plug.name: plug.release_temperature for plug in settings.fuse_plugs}
+    lines = [Threshold(name, float(t), "release") for name, t in plugs.items()]
+    lines += [Threshold(name, float(t)) for name, t in settings.limits.items() if name not in plugs]
+    return lines
+
+
+def _write_plots(result, folder: Path, unit: str, name: str, thresholds: Sequence = ()) -> list[Path]:
+    """Every figure of a run into ``folder``, each file name starting with ``name`` (the case's)."""
     from .plotting import plot_field, plot_histories, plot_sensor_offset, plot_why_the_gauge_lags
 
-    written = [plot_histories(result, folder / "histories.png", unit=unit)]
+    written = [plot_histories(result, folder / f"{name}-histories.png", unit=unit, thresholds=thresholds)]
     if "sensor" in result.readings and HEAT_SINK_MEAN in result.series:
-        written.append(plot_sensor_offset(result, folder / "sensor-offset.png", unit=unit))
-        written.append(plot_why_the_gauge_lags(result, folder / "why-the-gauge-lags.png", unit=unit))
+        written.append(plot_sensor_offset(result, folder / f"{name}-sensor-offset.png", unit=unit))
+        written.append(
+            plot_why_the_gauge_lags(result, folder / f"{name}-why-the-gauge-lags.png", unit=unit, thresholds=thresholds)
+        )
     for t in result.snapshot_times[1:-1]:
-        written.append(plot_field(result, folder / f"field-{t / 60.0:06.1f}min.png", float(t), unit=unit))
+        written.append(plot_field(result, folder / f"{name}-field-{t / 60.0:06.1f}min.png", float(t), unit=unit))
     return written
+
+
+def _make_folder(folder: Path, what: str) -> Path:
+    """Create ``folder`` (and its parents) for ``what``; ResultFileError naming it if that cannot be done."""
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except (FileExistsError, NotADirectoryError) as exc:
+        raise ResultFileError(f"{what} {str(folder)!r} is a file, not a folder") from exc
+    except OSError as exc:
+        raise ResultFileError(f"{what} {str(folder)!r} cannot be created: {exc.strerror}") from exc
+    return folder
 
 
 def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, quiet: bool) -> int:
@@ -87,7 +126,9 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
         case_text=case.text,
         resolved_inputs={"case": case.resolved(), "report": settings.to_mapping()},
     )
-    written = _write_plots(result, out, settings.unit) if plots and case.output.plots else []
+    written = []
+    if plots and case.output.plots:
+        written = _write_plots(result, out, settings.unit, case_path.stem, _figure_thresholds(settings))
     report = build_report(result, settings)
     html_path, md_path = write_report_files(report, out, written, case.text)
     print(format_report(report, "text"))
@@ -101,13 +142,12 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
 
 def _cmd_run(args: argparse.Namespace) -> int:
     case = Path(args.case)
-    out = Path(args.out) if args.out else case.resolve().parent
+    out = _make_folder(Path(args.out), "--out folder") if args.out else case.resolve().parent
     return _run_case_file(case, out, not args.no_plots, args.unit, args.quiet)
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
-    out = Path(args.out)
-    out.mkdir(parents=True, exist_ok=True)
+    out = _make_folder(Path(args.out), "--out folder")
     print(
         "heatstack demo: an INVENTED rejected take-off on an invented wheel and brake, then parked cooling.",
         file=sys.stderr,
@@ -203,7 +243,6 @@ def _cmd_report(args: argparse.Namespace) -> int:
 
 
 def _cmd_plot(args: argparse.Namespace) -> int:
-    from .plotting import plot_field
     from .resultread import read_result
 
     path = Path(args.results)
@@ -211,13 +250,32 @@ def _cmd_plot(args: argparse.Namespace) -> int:
     out = Path(args.out) if args.out else path.resolve().parent
     if not out.is_dir():
         raise ResultFileError(f"plot folder {str(out)!r} does not exist")
-    unit = args.unit or _settings_from_file(path, None).unit
-    written = _write_plots(result, out, unit)
-    for minutes in args.time or ():
-        written.append(plot_field(result, out / f"field-{minutes:06.1f}min.png", minutes * 60.0, unit=unit))
+    settings = _settings_from_file(path, args.unit)
+    fields = _plot_field_times(result, out, path.stem, settings.unit, args.time or ())
+    written = _write_plots(result, out, settings.unit, path.stem, _figure_thresholds(settings)) + fields
     for p in written:
         print(p)
     return 0
+
+
+def _plot_field_times(result, out: Path, name: str, unit: str, minutes: Sequence[float]) -> list[Path]:
+    """Map the field at the snapshot nearest each requested time [min]; the file is named by the snapshot drawn."""
+    from .plotting import plot_field, snapshot_index
+
+    written = []
+    for requested in minutes:
+        try:
+            shown = float(result.snapshot_times[snapshot_index(result, requested * 60.0)])
+        except InputError as exc:
+            raise InputError(f"--time {requested:g}: {exc}") from exc
+        target = out / f"{name}-field-{shown / 60.0:06.1f}min.png"
+        if abs(shown - requested * 60.0) > 0.5:
+            print(
+                f"--time {requested:g} min: drawing the nearest stored snapshot, {shown / 60.0:.1f} min",
+                file=sys.stderr,
+            )
+        written.append(plot_field(result, target, requested * 60.0, unit=unit))
+    return written
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
@@ -315,12 +373,72 @@ def _cmd_materials(args: argparse.Namespace) -> int:
     from .material_files import available_materials, load_material
 
     print(CAUTION)
+    if args.name:
+        _show_material(load_material(args.name))
+        return 0
     for name in available_materials():
         material = load_material(name)
         low, high = material.specific_heat.temperature_range
         kind = "anisotropic" if material.anisotropic else "isotropic"
         print(f"{name:32s} {material.density:7.0f} kg/m^3  {low:5.0f}-{high:5.0f} K  {kind}")
     return 0
+
+
+def _show_material(material) -> None:
+    """Print one material: its description, density and every property table with its source."""
+    import tomllib
+
+    print(f"{material.name}  ({material.source_file})")
+    if material.description:
+        print(material.description.strip())
+    density_source = ""
+    if material.source_file and Path(material.source_file).is_file():
+        with open(material.source_file, "rb") as handle:
+            density_source = tomllib.load(handle).get("density", {}).get("source", "")
+    print(f"\ndensity: {material.density:.0f} kg/m^3")
+    if density_source:
+        print(f"  source: {' '.join(density_source.split())}")
+    tables = (
+        ("specific heat", "J/(kg*K)", material.specific_heat),
+        ("conductivity, in plane", "W/(m*K)", material.conductivity_in_plane),
+        ("conductivity, through thickness", "W/(m*K)", material.conductivity_through_thickness),
+        ("emissivity", "-", material.emissivity),
+    )
+    for title, unit, table in tables:
+        print(f"\n{title} [{unit}], outside the table: {table.extrapolation}")
+        print(f"  {'T [K]':>8s}  {'T [degC]':>8s}  {'value':>10s}")
+        for temperature, value in zip(table.temperature, table.value, strict=True):
+            print(f"  {temperature:8.1f}  {temperature - 273.15:8.1f}  {value:10.4g}")
+        print(f"  source: {' '.join(table.source.split()) or '(none given)'}")
+
+
+def _cmd_example(args: argparse.Namespace) -> int:
+    if args.name not in EXAMPLES:
+        raise InputError(f"example {args.name!r} is not one of: {', '.join(EXAMPLES)}")
+    folder = _make_folder(Path(args.dir), "example folder")
+    source = _examples_folder()
+    targets = [(source / name, folder / name) for name in EXAMPLES[args.name]]
+    existing = [str(target) for _, target in targets if target.exists()]
+    if existing:
+        raise ResultFileError(f"example {args.name!r}: will not overwrite {', '.join(existing)}")
+    for origin, target in targets:
+        shutil.copyfile(origin, target)
+        print(f"example: {target}")
+    return 0
+
+
+_EXAMPLES_HELP = {
+    "run": "example: heatstack run my_case.toml --out results/",
+    "demo": "example: heatstack demo --out heatstack-demo",
+    "check": "example: heatstack check my_case.toml --layout layout.svg",
+    "report": "example: heatstack report results/results.h5 --format markdown",
+    "plot": "example: heatstack plot results/results.h5 --time 20",
+    "fit": "example: heatstack fit my_case.toml recorded_trace.csv --sensor sensor",
+    "study": "example: heatstack study demo_study.toml --workers 2 --report study.md",
+    "materials": "example: heatstack materials carbon-carbon",
+    "example": "example: heatstack example study my-study/   (names: demo, study, api)",
+    "export": "example: heatstack export results/results.h5 --csv results/csv",
+}
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -332,57 +450,69 @@ def _parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"heatstack {__version__}")
     verbs = parser.add_subparsers(dest="verb", required=True, metavar="VERB")
     units = ("degC", "degF", "K")
+    loudness = argparse.ArgumentParser(add_help=False)
+    level = loudness.add_mutually_exclusive_group()
+    level.add_argument("-v", "--verbose", action="store_true", help="also log progress detail")
+    level.add_argument("-q", "--quiet", action="store_true", help="no progress output, errors only")
 
-    run = verbs.add_parser("run", help="run a case file, write the results file and plots, print the report")
+    def verb(name: str, summary: str) -> argparse.ArgumentParser:
+        return verbs.add_parser(
+            name,
+            help=summary,
+            description=summary,
+            epilog=_EXAMPLES_HELP[name],
+            parents=[loudness],
+            formatter_class=argparse.RawDescriptionHelpFormatter,
+        )
+
+    run = verb("run", "run a case file, write the results file and plots, print the report")
     run.add_argument("case", help="case file (TOML)")
     run.add_argument("--out", help="folder for results and plots (default: the case file's folder)")
     run.add_argument("--no-plots", action="store_true", help="write no plots")
     run.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
-    run.add_argument("--quiet", action="store_true", help="no progress output")
     run.set_defaults(func=_cmd_run)
 
-    demo = verbs.add_parser("demo", help="run the invented demonstration case")
+    demo = verb("demo", "run the invented demonstration case")
     demo.add_argument("--out", default="heatstack-demo", help="folder for results and plots (default: %(default)s)")
     demo.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
-    demo.add_argument("--quiet", action="store_true", help="no progress output")
     demo.set_defaults(func=_cmd_demo)
 
-    check = verbs.add_parser("check", help="validate a case, list its parts and cells, draw its layout")
+    check = verb("check", "validate a case, list its parts and cells, draw its layout")
     check.add_argument("case")
     check.add_argument("--layout", help="PNG or SVG file for the r-z layout (default: CASE.layout.png)")
     check.set_defaults(func=_cmd_check)
 
-    report = verbs.add_parser("report", help="report on a results file")
+    report = verb("report", "report on a results file")
     report.add_argument("results", help="results file (.h5)")
     report.add_argument("--format", choices=("text", "markdown", "json"), default="text")
     report.add_argument("--unit", choices=units)
     report.set_defaults(func=_cmd_report)
 
-    plot = verbs.add_parser("plot", help="plot a results file")
+    plot = verb("plot", "plot a results file")
     plot.add_argument("results")
     plot.add_argument("--out", help="folder for the plots (default: the results file's folder)")
-    plot.add_argument("--time", type=float, action="append", help="also map the field at this time [min]")
+    plot.add_argument(
+        "--time",
+        type=float,
+        action="append",
+        help="map the field at the stored snapshot nearest this time [min]; the file is named by that snapshot",
+    )
     plot.add_argument("--unit", choices=units)
     plot.set_defaults(func=_cmd_plot)
 
-    export = verbs.add_parser(
-        "export",
-        help="write the histories and the energy ledger of a results file as CSV (units in the header)",
-        description="Write histories.csv and ledger.csv into a folder, e.g. "
-        "'heatstack export run.h5 --csv run-csv'. A file the export did not write is never replaced.",
-    )
+    export = verb("export", "write the histories and the energy ledger of a results file as CSV (units in the header)")
     export.add_argument("results", help="results file (.h5)")
     export.add_argument("--csv", required=True, metavar="DIR", help="folder for the CSV files (created if missing)")
     export.add_argument("--unit", choices=units, help="temperature unit of the CSV (default: the report's)")
     export.set_defaults(func=_cmd_export)
 
-    fit = verbs.add_parser("fit", help="estimate the braking energy from a recorded sensor trace")
+    fit = verb("fit", "estimate the braking energy from a recorded sensor trace")
     fit.add_argument("case", help="case file whose duty the trace followed")
     fit.add_argument("trace", help="CSV: time_<unit>,temperature_<unit>")
     fit.add_argument("--sensor", default="sensor", help="probe the trace was read from (default: %(default)s)")
     fit.set_defaults(func=_cmd_fit)
 
-    study = verbs.add_parser("study", help="run or resume a sweep or Monte Carlo study")
+    study = verb("study", "run or resume a sweep or Monte Carlo study")
     study.add_argument("study", help="study file (TOML with a [study] table and its base_case)")
     study.add_argument("--store", help="store folder (default: STUDY.store); a rerun resumes it")
     place = study.add_mutually_exclusive_group()
@@ -393,11 +523,16 @@ def _parser() -> argparse.ArgumentParser:
     study.add_argument("--report", help="also write the study report (Markdown) to this file")
     study.add_argument("--plots", help="folder for the margin histogram and tornado (default: the store)")
     study.add_argument("--unit", choices=units, default="degC")
-    study.add_argument("--quiet", action="store_true")
     study.set_defaults(func=_cmd_study)
 
-    materials = verbs.add_parser("materials", help="list the shipped materials")
+    materials = verb("materials", "list the shipped materials")
+    materials.add_argument("name", nargs="?", help="show this material's tables and their sources")
     materials.set_defaults(func=_cmd_materials)
+
+    example = verb("example", "copy a shipped example (demo, study, api) into a folder, never overwriting")
+    example.add_argument("name", help=f"one of: {', '.join(EXAMPLES)}")
+    example.add_argument("dir", nargs="?", default=".", help="folder to copy into (default: the current folder)")
+    example.set_defaults(func=_cmd_example)
     return parser
 
 
@@ -406,9 +541,21 @@ def _show_warning(message, category, filename, lineno, file=None, line=None) -> 
     print(f"heatstack: warning: {message}", file=sys.stderr)
 
 
+def _set_logging(verbose: bool, quiet: bool) -> None:
+    """Log records of the ``heatstack`` loggers to stderr: INFO with --verbose, ERROR with --quiet, else WARNING."""
+    logger = logging.getLogger("heatstack")
+    logger.setLevel(logging.INFO if verbose else logging.ERROR if quiet else logging.WARNING)
+    if not any(getattr(h, "heatstack_cli", False) for h in logger.handlers):
+        handler = logging.StreamHandler(sys.stderr)
+        handler.setFormatter(logging.Formatter("heatstack: %(message)s"))
+        handler.heatstack_cli = True
+        logger.addHandler(handler)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit code."""
     args = _parser().parse_args(argv)
+    _set_logging(args.verbose, args.quiet)
     warnings.showwarning = _show_warning
     try:
         return int(args.func(args))

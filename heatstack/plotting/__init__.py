@@ -10,12 +10,15 @@ Every figure carries a caption saying that it is not certified data.
 
 from __future__ import annotations
 
-from .common import CAPTION
-from .fields import plot_field, plot_layout
+from .common import CAPTION, SERIES_STYLES, Threshold
+from .fields import plot_field, plot_layout, snapshot_index
 from .histories import plot_histories, plot_sensor_offset, plot_why_the_gauge_lags
 
 __all__ = [
     "CAPTION",
+    "SERIES_STYLES",
+    "Threshold",
+    "snapshot_index",
     "plot_histories",
     "plot_field",
     "plot_sensor_offset",

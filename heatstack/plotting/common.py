@@ -7,6 +7,8 @@ strip (:data:`CAPTION`), then written through a temporary file beside the target
 from __future__ import annotations
 
 import os
+import re
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -20,6 +22,12 @@ from ..units import from_si
 
 __all__ = [
     "CAPTION",
+    "OKABE_ITO",
+    "SeriesStyle",
+    "SERIES_STYLES",
+    "series_kind",
+    "style_for",
+    "Threshold",
     "check_unit",
     "to_temperature_unit",
     "to_difference_unit",
@@ -28,10 +36,126 @@ __all__ = [
     "check_result",
     "minutes_text",
     "new_figure",
+    "add_foot_legend",
 ]
 
 #: The caption line printed at the foot of every figure.
 CAPTION = "Not certified data. Computed by heatstack; defer to the manufacturer's maintenance data."
+
+#: The eight colours of the Okabe-Ito palette, distinguishable with the common colour-vision
+#: deficiencies: M. Okabe and K. Ito (2008), "Color Universal Design (CUD): how to make figures and
+#: presentations that are friendly to colorblind people", https://jfly.uni-koeln.de/color/.
+OKABE_ITO = {
+    "black": "#000000",
+    "orange": "#E69F00",
+    "sky blue": "#56B4E9",
+    "bluish green": "#009E73",
+    "yellow": "#F0E442",
+    "blue": "#0072B2",
+    "vermillion": "#D55E00",
+    "reddish purple": "#CC79A7",
+}
+
+
+@dataclass(frozen=True)
+class SeriesStyle:
+    """How one kind of series is drawn in every figure.
+
+    Parameters
+    ----------
+    colour : str
+        Line colour (an Okabe-Ito colour).
+    dashes : tuple of tuple
+        Line styles, the first for the first series of this kind, the next for the second, ...
+        so that two fuse plugs differ in a grey print too.
+    width : float
+        Line width [points].
+    label : str
+        What the kind is, for legends of thresholds and keys.
+    """
+
+    colour: str
+    dashes: tuple
+    width: float
+    label: str
+
+
+_SOLID, _DASHED, _DOTTED = (0, ()), (0, (5.0, 2.0)), (0, (1.0, 1.6))
+_DASH_DOT, _LONG_DASH = (0, (6.0, 2.0, 1.2, 2.0)), (0, (9.0, 2.5))
+_DASH_DOT_DOT = (0, (6.0, 1.8, 1.2, 1.8, 1.2, 1.8))
+
+#: The one table of series kind -> colour and line styles, used by every figure of a run and of a
+#: study, so a series keeps its colour between figures and between runs.
+SERIES_STYLES = {
+    "heat_sink_mean": SeriesStyle(OKABE_ITO["vermillion"], (_DASHED,), 1.7, "heat-sink mean"),
+    "heat_sink_max": SeriesStyle(OKABE_ITO["orange"], (_DASH_DOT,), 1.3, "heat sink, hottest cell"),
+    "wheel_max": SeriesStyle(OKABE_ITO["bluish green"], (_DASH_DOT_DOT,), 1.3, "wheel, hottest cell"),
+    "sensor_reading": SeriesStyle(OKABE_ITO["blue"], (_SOLID,), 2.0, "sensor reading"),
+    "sensor_local": SeriesStyle(OKABE_ITO["blue"], (_DOTTED,), 1.4, "temperature at the sensor"),
+    "fuse_plug": SeriesStyle(OKABE_ITO["reddish purple"], (_SOLID, _LONG_DASH, _DASH_DOT), 1.5, "fuse plug"),
+    "bead_seat": SeriesStyle(OKABE_ITO["sky blue"], (_SOLID, _LONG_DASH, _DASH_DOT), 1.5, "bead seat"),
+    "probe": SeriesStyle(OKABE_ITO["black"], (_SOLID, _LONG_DASH, _DASH_DOT, _DASH_DOT_DOT), 1.2, "probe"),
+    "surface": SeriesStyle("#555555", (_DOTTED, _DASHED, _DASH_DOT), 1.1, "surface mean"),
+    "offset": SeriesStyle(OKABE_ITO["black"], (_SOLID,), 1.3, "sensor offset"),
+    "study": SeriesStyle("#7f8c99", (_SOLID,), 1.0, "study cases"),
+    "release": SeriesStyle(OKABE_ITO["vermillion"], (_SOLID,), 1.4, "release / limit"),
+}
+
+
+def series_kind(name: str, sensor: str = "sensor") -> str:
+    """The :data:`SERIES_STYLES` kind of a probe or series name (``"fuse plug 2"`` -> ``"fuse_plug"``)."""
+    if name in ("heat_sink_mean", "heat_sink_max", "wheel_max"):
+        return name
+    if name == sensor:
+        return "sensor_reading"
+    if name.startswith("surface:"):
+        return "surface"
+    lowered = name.lower()
+    if "fuse plug" in lowered:
+        return "fuse_plug"
+    if "bead seat" in lowered:
+        return "bead_seat"
+    return "probe"
+
+
+def style_for(name: str, sensor: str = "sensor", variant: int | None = None) -> tuple[str, tuple, float]:
+    """Colour, line style and width [points] of the series ``name``, the same in every figure.
+
+    Series of one kind share the colour and differ by line style: the variant is the number at the
+    end of the name (``"fuse plug 2"`` -> the second style), ``"outboard"`` names take the second
+    style, else the first; ``variant`` overrides.
+    """
+    style = SERIES_STYLES[series_kind(name, sensor)]
+    if variant is None:
+        number = re.search(r"(\d+)\s*$", name)
+        variant = int(number.group(1)) - 1 if number else (1 if "outboard" in name.lower() else 0)
+    return style.colour, style.dashes[max(variant, 0) % len(style.dashes)], style.width
+
+
+@dataclass(frozen=True)
+class Threshold:
+    """A temperature drawn as a horizontal line in the history figures.
+
+    Parameters
+    ----------
+    series : str
+        The probe or series the threshold belongs to (its colour is used).
+    temperature : float
+        The threshold [K].
+    kind : str
+        ``"release"`` (a fuse plug's release temperature) or ``"limit"`` (a temperature limit).
+    """
+
+    series: str
+    temperature: float
+    kind: str = "limit"
+
+    def __post_init__(self) -> None:
+        if self.kind not in ("release", "limit"):
+            raise InputError(f"threshold of {self.series!r}: kind must be 'release' or 'limit', got {self.kind!r}")
+        if not np.isfinite(self.temperature) or self.temperature <= 0.0:
+            raise InputError(f"threshold of {self.series!r}: temperature must be > 0 K, got {self.temperature!r}")
+
 
 _UNIT_LABELS = {"degC": "°C", "degF": "°F", "K": "K"}
 _DELTA_UNITS = {"degC": "delta_degC", "degF": "delta_degF", "K": "K"}
@@ -98,11 +222,39 @@ def minutes_text(seconds: float) -> str:
 
 
 # --------------------------------------------------------------------------- figure frame
+_CAPTION_STRIP = 0.24  # [in] kept free for the caption at the foot of every figure
+_LEGEND_ROW = 0.2  # [in] height of one legend row under the axes
+
+
 def new_figure(width: float, height: float) -> Figure:
     """A constrained-layout figure on an Agg canvas with the caption strip at its foot."""
     fig = Figure(figsize=(width, height), dpi=100, layout="constrained")
     FigureCanvasAgg(fig)
-    strip = 0.24 / height  # [figure fraction] kept free for the caption
+    strip = _CAPTION_STRIP / height  # [figure fraction]
     fig.get_layout_engine().set(rect=(0.0, strip, 1.0, 1.0 - strip))
     fig.text(0.008, 0.3 * strip, CAPTION, fontsize=7, color="0.3", ha="left", va="bottom")
     return fig
+
+
+def add_foot_legend(fig: Figure, handles: list, labels: list[str], columns: int = 4) -> None:
+    """A legend in rows under the axes, above the caption, the layout shrunk to leave it room."""
+    if not handles:
+        return
+    columns = min(columns, len(handles))
+    rows = -(-len(handles) // columns)
+    height = fig.get_figheight()
+    strip = _CAPTION_STRIP / height
+    room = (rows * _LEGEND_ROW + 0.08) / height
+    fig.get_layout_engine().set(rect=(0.0, strip + room, 1.0, 1.0 - strip - room))
+    legend = fig.legend(
+        handles,
+        labels,
+        loc="lower center",
+        bbox_to_anchor=(0.5, strip),
+        ncols=columns,
+        fontsize=8,
+        frameon=False,
+        borderaxespad=0.0,
+        handlelength=3.0,
+    )
+    legend.set_in_layout(False)

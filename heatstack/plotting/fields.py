@@ -18,6 +18,7 @@ from matplotlib.colors import to_rgb
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
+from matplotlib.ticker import MaxNLocator
 
 from ..assembly import Assembly
 from ..errors import InputError
@@ -27,7 +28,7 @@ from ..result import Result
 from .common import check_result, check_unit, figure_target, minutes_text, new_figure, save_figure, to_temperature_unit
 from .labels import LabelPlacer, box_overlap
 
-__all__ = ["plot_field", "plot_layout"]
+__all__ = ["plot_field", "plot_layout", "snapshot_index"]
 
 #: Fill colour of each part role in the layout figure (our own choice).
 _ROLE_COLOURS = {
@@ -57,6 +58,27 @@ def _text_colour(fill: str) -> str:
 
 
 # --------------------------------------------------------------------------- 2. field
+def snapshot_index(result: Result, time: float) -> int:
+    """Index of the stored snapshot nearest ``time`` [s], the one :func:`plot_field` draws.
+
+    Raises
+    ------
+    InputError
+        ``time`` not a number or outside the record, or the result holds no snapshots.
+    """
+    t_first, t_last = float(result.times[0]), float(result.times[-1])
+    try:
+        time = float(time)
+    except (TypeError, ValueError) as exc:
+        raise InputError(f"plot_field: time must be a number of seconds, got {time!r}") from exc
+    tol = 1e-9 * max(abs(t_last), 1.0)
+    if not np.isfinite(time) or time < t_first - tol or time > t_last + tol:
+        raise InputError(f"plot_field: time {time} s is outside the record ({t_first:g} s to {t_last:g} s)")
+    if result.snapshot_times.size == 0:
+        raise InputError("plot_field: this result holds no field snapshots")
+    return int(np.argmin(np.abs(result.snapshot_times - time)))
+
+
 def _cell_edges(part_map: np.ndarray, r_edges: np.ndarray, z_edges: np.ndarray, every: bool = False) -> np.ndarray:
     """Cell edges as segments [m] in (z, r) order, shape (n, 2, 2).
 
@@ -116,30 +138,18 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
     target, fmt = figure_target(path)
     check_result(result)
     symbol = check_unit(unit)
-    t_first, t_last = float(result.times[0]), float(result.times[-1])
-    try:
-        time = float(time)
-    except (TypeError, ValueError) as exc:
-        raise InputError(f"plot_field: time must be a number of seconds, got {time!r}") from exc
-    tol = 1e-9 * max(abs(t_last), 1.0)
-    if not np.isfinite(time) or time < t_first - tol or time > t_last + tol:
-        raise InputError(f"plot_field: time {time} s is outside the record ({t_first:g} s to {t_last:g} s)")
-    if result.snapshot_times.size == 0:
-        raise InputError("plot_field: this result holds no field snapshots")
-    k = int(np.argmin(np.abs(result.snapshot_times - time)))
+    k = snapshot_index(result, time)
+    time = float(time)
     shown = float(result.snapshot_times[k])
     values = to_temperature_unit(result.snapshots[k], unit)
     z_mm, r_mm = result.z_edges * 1e3, result.r_edges * 1e3
 
     fig = new_figure(9.0, _height_for(r_mm[-1] - r_mm[0], z_mm[-1] - z_mm[0], 6.6))
     ax = fig.add_subplot()
-    finite = values[np.isfinite(values)]
-    vmin, vmax = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
-    if vmax - vmin < 1e-6:
-        vmin, vmax = vmin - 1.0, vmax + 1.0
-    mesh = ax.pcolormesh(
-        z_mm, r_mm, np.ma.masked_invalid(values.T), cmap=_FIELD_CMAP, vmin=vmin, vmax=vmax, shading="flat"
-    )
+    vmin, vmax = _record_scale(result, unit)
+    masked = np.ma.masked_invalid(values.T)
+    mesh = ax.pcolormesh(z_mm, r_mm, masked, cmap=_FIELD_CMAP, vmin=vmin, vmax=vmax, shading="flat")
+    _isotherms(ax, result, masked, (vmin, vmax))
     outlines = _cell_edges(result.part_map, result.r_edges, result.z_edges) * 1e3
     ax.add_collection(LineCollection(outlines, colors="0.1", linewidths=0.7, zorder=3))
     ax.set_xlim(z_mm[0], z_mm[-1])
@@ -148,7 +158,7 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
     ax.set_xlabel("Axial position z [mm]")
     ax.set_ylabel("Radius r [mm]")
     bar = fig.colorbar(mesh, ax=ax, shrink=0.85, pad=0.02)
-    bar.set_label(f"Temperature [{symbol}]")
+    bar.set_label(f"Temperature [{symbol}]  (one scale for every snapshot of the run)")
     title = f"Temperature field at {minutes_text(shown)}"
     if abs(shown - time) > 0.5:
         title += f" (nearest stored snapshot to {minutes_text(time)})"
@@ -162,7 +172,67 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
     placer.block_points(np.array([(z, r) for _, z, r in positions]).reshape(-1, 2), half=5.0)
     for name, z, r in positions:
         placer.place((z, r), name, boxed=True)
+    _name_parts(ax, placer, result)
     return save_figure(fig, target, fmt)
+
+
+def _record_scale(result: Result, unit: str) -> tuple[float, float]:
+    """The colour range [display unit] of every stored snapshot, so all field maps of a run compare."""
+    values = to_temperature_unit(result.snapshots, unit)
+    finite = values[np.isfinite(values)]
+    vmin, vmax = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
+    if vmax - vmin < 1e-6:
+        vmin, vmax = vmin - 1.0, vmax + 1.0
+    return vmin, vmax
+
+
+def _isotherms(ax: Axes, result: Result, masked: np.ma.MaskedArray, scale: tuple[float, float]) -> None:
+    """Thin labelled isotherms on the cell centres at round steps of the shared scale, part by part.
+
+    Each part is contoured alone, so no isotherm is drawn across a contact, where the temperature jumps.
+    """
+    levels = MaxNLocator(nbins=8).tick_values(*scale)
+    z_mid = 0.5 * (result.z_edges[1:] + result.z_edges[:-1]) * 1e3
+    r_mid = 0.5 * (result.r_edges[1:] + result.r_edges[:-1]) * 1e3
+    for index in range(len(result.part_names)):
+        part = np.ma.masked_where(result.part_map.T != index, masked)
+        if part.count() < 4:
+            continue
+        inside = levels[(levels > part.min()) & (levels < part.max())]
+        if inside.size == 0:
+            continue
+        lines = ax.contour(z_mid, r_mid, part, levels=inside, colors="white", linewidths=0.6, alpha=0.85, zorder=2)
+        for label in ax.clabel(lines, fmt="%.0f", fontsize=6.5, inline=True, inline_spacing=2):
+            label.set_color("white")
+
+
+def _name_parts(ax: Axes, placer: LabelPlacer, result: Result) -> None:
+    """Each part's name at the middle of its cells where it fits clear of other labels (else it is left out)."""
+    z_mid = 0.5 * (result.z_edges[1:] + result.z_edges[:-1]) * 1e3
+    r_mid = 0.5 * (result.r_edges[1:] + result.r_edges[:-1]) * 1e3
+    for index, name in enumerate(result.part_names):
+        j, i = np.nonzero(result.part_map == index)
+        if j.size == 0:
+            continue
+        lo = ax.transData.transform((result.z_edges[j.min()] * 1e3, result.r_edges[i.min()] * 1e3))
+        hi = ax.transData.transform((result.z_edges[j.max() + 1] * 1e3, result.r_edges[i.max() + 1] * 1e3))
+        width, height = np.abs(hi - lo)
+        centre = (float(np.mean(z_mid[j])), float(np.mean(r_mid[i])))
+        for rotation in (0, 90):
+            w, h = placer.text_size(name, 6.5, rotation)
+            if w + 4 > width or h + 4 > height:
+                continue
+            pixel = ax.transData.transform(centre)
+            box = np.array([pixel[0] - w / 2, pixel[1] - h / 2, pixel[0] + w / 2, pixel[1] + h / 2])
+            if any(box_overlap(box, other) > 0.0 for other in placer.boxes):
+                continue
+            label = ax.text(
+                *centre, name, rotation=rotation, ha="center", va="center", fontsize=6.5, color="black", zorder=4
+            )
+            label.set_bbox(dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.6))
+            label.set_in_layout(False)
+            placer.boxes.append(box)
+            break
 
 
 # --------------------------------------------------------------------------- 4. layout
@@ -299,7 +369,7 @@ def _label_inside(ax: Axes, placer: LabelPlacer, part: Part, fontsize: float) ->
     if split:
         options.append((split, 90))
     for text, rotation in options:
-        w, h = placer._size(text, fontsize, rotation)
+        w, h = placer.text_size(text, fontsize, rotation)
         if w + 4 <= width and h + 4 <= height:
             spot = _free_spot(placer, corners, (w, h), rotation == 0)
             if spot is None:

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Sequence
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -17,38 +18,55 @@ from ..errors import InputError
 from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX
 from ..result import Result
 from .common import (
+    SERIES_STYLES,
+    Threshold,
+    add_foot_legend,
     check_result,
     check_unit,
     figure_target,
     minutes_text,
     new_figure,
     save_figure,
+    style_for,
     to_difference_unit,
     to_temperature_unit,
 )
-from .labels import LabelPlacer, densify
+from .labels import LabelPlacer
 
 __all__ = ["plot_histories", "plot_sensor_offset", "plot_why_the_gauge_lags"]
 
-#: Line colours: a plain palette of our own, dark enough for coloured label text on white.
-_COLOURS = (
-    "#1f4e9c",
-    "#c0392b",
-    "#2e8b57",
-    "#d2691e",
-    "#7d3c98",
-    "#17808a",
-    "#8c564b",
-    "#222222",
-    "#4d5d6e",
-    "#8a7300",
-)
-_PHASE_FILLS = ("#e4e8ee", "#f3f4f6")
+_PHASE_FILLS = ("#e9ecf1", "#f7f7f8")
 _SERIES_LABELS = {
     HEAT_SINK_MEAN: "heat-sink mean (mass-weighted)",
     HEAT_SINK_MAX: "heat sink, hottest cell",
     WHEEL_MAX: "wheel, hottest cell",
 }
+#: The time axis is split when braking takes less than this fraction of the record.
+_SPLIT_BELOW = 0.08
+#: The expanded left panel shows at least this long [s] and at least this many braking durations.
+_EXPANDED_MIN, _EXPANDED_FACTOR = 120.0, 3.0
+
+
+@dataclass(frozen=True)
+class _Curve:
+    """One drawn curve: legend label, values [display unit], look, and the text before its peak label."""
+
+    label: str
+    values: np.ndarray
+    colour: str
+    dashes: tuple
+    width: float
+    peak_prefix: str = ""
+    mark_peak: bool = True
+
+
+@dataclass(frozen=True)
+class _Panel:
+    """One time panel of a row: its axes and the time span [s] it shows."""
+
+    ax: object
+    start: float
+    end: float
 
 
 # --------------------------------------------------------------------------- shared pieces
@@ -61,18 +79,104 @@ def _history_label(result: Result, name: str) -> str:
     return _SERIES_LABELS.get(name, name)
 
 
-def _shade_phases(fig: Figure, ax, phases: Sequence[tuple[str, float, float]], t0: float, t1: float) -> int:
-    """Alternating light bands for the duty phases, their names in rows above the axes.
+def _history_curve(result: Result, name: str, unit: str, sensor: str = "sensor") -> _Curve:
+    colour, dashes, width = style_for(name, sensor)
+    return _Curve(_history_label(result, name), to_temperature_unit(result.history(name), unit), colour, dashes, width)
 
-    Returns the number of label rows used above the axes.
+
+def _time_spans(result: Result) -> list[tuple[float, float]]:
+    """Time spans [s] of the panels: the whole record, or the braking expanded and the rest.
+
+    The axis is split when braking ends within the first few per cent of the record, so the
+    braking minute gets a panel of its own instead of a sliver at the left edge.
+    """
+    t0, t1 = float(result.times[0]), float(result.times[-1])
+    t_end = float(result.end_of_heating)
+    if not (t0 < t_end < t1) or (t_end - t0) > _SPLIT_BELOW * (t1 - t0):
+        return [(t0, t1)]
+    cut = min(t0 + max(_EXPANDED_FACTOR * (t_end - t0), _EXPANDED_MIN), t0 + 0.25 * (t1 - t0))
+    return [(t0, cut), (cut, t1)]
+
+
+def _time_panels(fig: Figure, result: Result, height_ratios: Sequence[float] = (1.0,)) -> list[list[_Panel]]:
+    """Rows of time panels sharing the temperature axis per row and the time axis per column."""
+    spans = _time_spans(result)
+    axes = fig.subplots(
+        len(height_ratios),
+        len(spans),
+        sharex="col",
+        sharey="row",
+        squeeze=False,
+        gridspec_kw={"height_ratios": list(height_ratios), "width_ratios": [1.0, 2.4][: len(spans)]},
+    )
+    if len(spans) > 1:
+        fig.get_layout_engine().set(wspace=0.0, w_pad=0.02)
+    rows = []
+    for row in axes:
+        panels = [_Panel(ax, lo, hi) for ax, (lo, hi) in zip(row, spans, strict=True)]
+        for k, panel in enumerate(panels):
+            panel.ax.set_xlim(panel.start / 60.0, panel.end / 60.0)
+            panel.ax.grid(True, color="0.87", lw=0.5, zorder=0.5)
+            panel.ax.set_axisbelow(True)
+            if k > 0:
+                panel.ax.spines["left"].set_linestyle((0, (3, 2)))
+                panel.ax.tick_params(axis="y", left=False)
+        rows.append(panels)
+    bottom = rows[-1]
+    if len(bottom) > 1:
+        bottom[0].ax.set_xlabel("Time [min]  (braking, expanded)")
+        bottom[1].ax.set_xlabel("Time [min]  (scale changes at the dashed edge)")
+    else:
+        bottom[0].ax.set_xlabel("Time [min]")
+    return rows
+
+
+def _panel_at(panels: Sequence[_Panel], t: float) -> _Panel:
+    """The panel whose span holds time ``t`` [s]."""
+    for panel in panels:
+        if t <= panel.end:
+            return panel
+    return panels[-1]
+
+
+def _draw_curves(panels: Sequence[_Panel], minutes: np.ndarray, curves: Sequence[_Curve], legend: bool = True) -> None:
+    for panel in panels:
+        for curve in curves:
+            panel.ax.plot(
+                minutes,
+                curve.values,
+                color=curve.colour,
+                ls=curve.dashes,
+                lw=curve.width,
+                label=curve.label if legend and panel is panels[0] else None,
+                zorder=3,
+            )
+
+
+def _shade_phases(fig: Figure, panels: Sequence[_Panel], phases: Sequence[tuple[str, float, float]]) -> str:
+    """Alternating light bands for the duty phases, their names in one row above the axes.
+
+    A name wider than its band is replaced by its number, and the numbered names are returned as
+    a key line (``"phases: 1 rejected take-off stop; ..."``) for the title; names never stack.
     """
     labels = []
     for k, (name, start, end) in enumerate(phases):
-        lo, hi = max(start, t0), min(end, t1)
-        if hi <= lo:
-            continue
-        ax.axvspan(lo / 60.0, hi / 60.0, color=_PHASE_FILLS[k % 2], lw=0, zorder=0)
-        label = ax.annotate(
+        best = None
+        for panel in panels:
+            lo, hi = max(start, panel.start), min(end, panel.end)
+            if hi <= lo:
+                continue
+            panel.ax.axvspan(lo / 60.0, hi / 60.0, color=_PHASE_FILLS[k % 2], lw=0, zorder=0)
+            x0, x1 = panel.ax.transData.transform([(lo / 60.0, 0.0), (hi / 60.0, 0.0)])[:, 0]
+            if best is None or x1 - x0 > best[0]:
+                best = (x1 - x0, panel, lo, hi)
+        if best is not None:
+            labels.append((k + 1, name, *best))
+    fig.draw_without_rendering()
+    renderer = fig.canvas.get_renderer()
+    keyed = []
+    for number, name, width, panel, lo, hi in labels:
+        label = panel.ax.annotate(
             name,
             xy=(0.5 * (lo + hi) / 60.0, 1.0),
             xycoords=("data", "axes fraction"),
@@ -84,37 +188,32 @@ def _shade_phases(fig: Figure, ax, phases: Sequence[tuple[str, float, float]], t
             color="0.3",
             annotation_clip=False,
         )
-        labels.append(label)
-    if len(labels) < 2:
-        return len(labels)
-    fig.draw_without_rendering()
-    renderer = fig.canvas.get_renderer()
-    rows: list[list[tuple[float, float]]] = [[], [], []]
-    for label in labels:
-        bb = label.get_window_extent(renderer)
-        span = (bb.x0 - 3.0, bb.x1 + 3.0)
-
-        def clash(row, span=span):
-            return sum(max(0.0, min(span[1], b) - max(span[0], a)) for a, b in row)
-
-        row = min(range(len(rows)), key=lambda k: (clash(rows[k]) > 0, clash(rows[k]), k))
-        rows[row].append(span)
-        label.xyann = (0, 2 + 9 * row)
-    return 1 + max(k for k, row in enumerate(rows) if row)
+        if label.get_window_extent(renderer).width + 6.0 > width and " " in name:
+            words = name.split()
+            half = max(1, len(words) // 2)
+            label.set_text(" ".join(words[:half]) + "\n" + " ".join(words[half:]))
+            label.set_multialignment("center")
+        if label.get_window_extent(renderer).width + 6.0 > width:
+            label.set_text(str(number))
+            keyed.append(f"{number} {name}")
+            if label.get_window_extent(renderer).width + 2.0 > width:
+                label.set_visible(False)
+    return ("phases: " + "; ".join(keyed)) if keyed else ""
 
 
-def _title(ax, text: str, rows: int) -> None:
-    """Axes title above the phase-name rows."""
-    ax.set_title(text, fontsize=11, pad=6 + 9 * rows)
+def _title(fig: Figure, text: str, key: str) -> None:
+    """Figure title, with the key of numbered phases under it."""
+    fig.suptitle(text + (f"\n{key}" if key else ""), fontsize=11 if not key else 10.5)
 
 
-def _time_axis(ax, result: Result) -> tuple[float, float]:
-    t0, t1 = float(result.times[0]), float(result.times[-1])
-    ax.set_xlim(t0 / 60.0, t1 / 60.0)
-    ax.set_xlabel("Time [min]")
-    ax.grid(True, color="0.85", lw=0.5, zorder=0.5)
-    ax.set_axisbelow(True)
-    return t0, t1
+def _legend(fig: Figure) -> None:
+    """The legend in rows under the panels, so the title and the curves keep the full width."""
+    handles, labels = [], []
+    for ax in fig.axes:
+        for handle, label in zip(*ax.get_legend_handles_labels(), strict=True):
+            handles.append(handle)
+            labels.append(label)
+    add_foot_legend(fig, handles, labels)
 
 
 def _headroom(ax, values: Sequence[np.ndarray], top: float = 0.12, bottom: float = 0.04) -> None:
@@ -130,11 +229,101 @@ def _peak(times: np.ndarray, values: np.ndarray) -> tuple[float, float]:
     return float(times[k]), float(values[k])
 
 
-def _mark_peaks(placer: LabelPlacer, peaks: Sequence[tuple[float, float, str, str]]) -> None:
-    """Label each peak (time [s], value [display unit], text, colour), hottest first."""
-    placer.block_points(np.array([(t / 60.0, v) for t, v, _, _ in peaks]).reshape(-1, 2))
-    for t, v, text, colour in sorted(peaks, key=lambda p: -p[1]):
-        placer.place((t / 60.0, v), text, colour=colour)
+def _mark_peaks(fig: Figure, panels: Sequence[_Panel], result: Result, curves: Sequence[_Curve], symbol: str) -> dict:
+    """Mark and label each curve's peak in the panel holding it, hottest first; return the placers by axes."""
+    peaks = []
+    for curve in curves:
+        if not curve.mark_peak:
+            continue
+        t, v = _peak(result.times, curve.values)
+        panel = _panel_at(panels, t)
+        panel.ax.plot([t / 60.0], [v], "o", ms=4, color=curve.colour, mec="white", mew=0.6, zorder=4)
+        peaks.append((panel, t, v, f"{curve.peak_prefix}{v:.0f} {symbol} at {minutes_text(t)}", curve.colour))
+    placers = {id(p.ax): LabelPlacer(fig, p.ax) for p in panels}
+    for panel in panels:  # keep clear of the labels already written (thresholds, end of braking)
+        for text in panel.ax.texts:
+            if text.get_visible() and text.get_text():
+                placers[id(panel.ax)].block_artist(text)
+    for panel, t, v, _, _ in peaks:
+        placers[id(panel.ax)].block_points(np.array([[t / 60.0, v]]))
+    for panel, t, v, text, colour in sorted(peaks, key=lambda p: -p[2]):
+        placers[id(panel.ax)].place((t / 60.0, v), text, colour=colour)
+    return placers
+
+
+def _threshold_groups(
+    thresholds: Sequence[Threshold], names: Sequence[str], unit: str
+) -> list[tuple[float, str, list[Threshold]]]:
+    """Thresholds of the drawn series grouped by value [display unit] and kind, lowest first."""
+    groups: dict[tuple[float, str], list[Threshold]] = {}
+    for threshold in thresholds:
+        if threshold.series in names:
+            groups.setdefault((round(threshold.temperature, 3), threshold.kind), []).append(threshold)
+    return [
+        (float(to_temperature_unit(np.array(members[0].temperature), unit)), kind, members)
+        for (_, kind), members in sorted(groups.items())
+    ]
+
+
+def _joined_names(names: Sequence[str]) -> str:
+    """Names joined with their shared leading or trailing words said once ("fuse plug 1, 2")."""
+    words = [name.split() for name in names]
+    if len(words) < 2:
+        return ", ".join(names)
+    head = 0
+    while all(len(w) > head + 1 and w[head] == words[0][head] for w in words):
+        head += 1
+    if head:
+        return " ".join(words[0][:head]) + " " + ", ".join(" ".join(w[head:]) for w in words)
+    tail = 0
+    while all(len(w) > tail + 1 and w[-1 - tail] == words[0][-1 - tail] for w in words):
+        tail += 1
+    if tail:
+        return ", ".join(" ".join(w[: len(w) - tail]) for w in words) + " " + " ".join(words[0][len(words[0]) - tail :])
+    return ", ".join(names)
+
+
+def _draw_thresholds(fig: Figure, panels: Sequence[_Panel], groups, symbol: str) -> None:
+    """Release temperatures and limits as thin lines in their series' colour, one label per value.
+
+    Call after the temperature axis is scaled; a label too close to the one below goes under its line.
+    """
+    if not groups:
+        return
+    fig.draw_without_rendering()
+    last_pixel = np.inf
+    for value, kind, members in sorted(groups, key=lambda g: -g[0]):
+        colour, _, _ = style_for(members[0].series)
+        for panel in panels:
+            panel.ax.axhline(value, color=colour, lw=0.9, ls=(0, (8, 3, 2, 3)), alpha=0.9, zorder=2)
+        word = "release" if kind == "release" else "limit"
+        pixel = float(panels[-1].ax.transData.transform((0.0, value))[1])
+        above = last_pixel - pixel > 12.0
+        last_pixel = pixel if above else -np.inf
+        label = panels[-1].ax.annotate(
+            f"{_joined_names([m.series for m in members])} {word} {value:.0f} {symbol}",
+            xy=(1.0, value),
+            xycoords=("axes fraction", "data"),
+            xytext=(-3, 2 if above else -2),
+            textcoords="offset points",
+            ha="right",
+            va="bottom" if above else "top",
+            fontsize=7,
+            color=colour,
+            bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.85),
+            zorder=6,
+        )
+        label.set_in_layout(False)
+
+
+def _check_thresholds(thresholds: Sequence[Threshold] | None) -> tuple[Threshold, ...]:
+    if thresholds is None:
+        return ()
+    out = tuple(thresholds)
+    for item in out:
+        if not isinstance(item, Threshold):
+            raise InputError(f"thresholds: expected heatstack Threshold records, got {type(item).__name__}")
+    return out
 
 
 def _probe_reading(result: Result, name: str) -> np.ndarray:
@@ -155,8 +344,13 @@ def plot_histories(
     path: str | os.PathLike,
     names: Sequence[str] | None = None,
     unit: str = "degC",
+    thresholds: Sequence[Threshold] | None = None,
 ) -> Path:
     """Plot probe readings and global series against time, duty phases shaded, peaks marked.
+
+    Each series keeps its colour and line style of :data:`~heatstack.plotting.common.SERIES_STYLES`.
+    When braking is short beside the record, the time axis is split: the braking expanded on the
+    left, the rest on the right.
 
     Parameters
     ----------
@@ -169,6 +363,8 @@ def plot_histories(
         reading, then ``heat_sink_mean`` and ``heat_sink_max`` (no ``surface:*`` series).
     unit : {"degC", "degF", "K"}
         Temperature unit of the axis.
+    thresholds : sequence of Threshold, optional
+        Release temperatures and limits [K]; those of drawn series are drawn as lines.
 
     Returns
     -------
@@ -185,6 +381,7 @@ def plot_histories(
     target, fmt = figure_target(path)
     check_result(result)
     symbol = check_unit(unit)
+    thresholds = _check_thresholds(thresholds)
     if names is None:
         names = [*result.readings, *(n for n in (HEAT_SINK_MEAN, HEAT_SINK_MAX) if n in result.series)]
     elif isinstance(names, str):
@@ -192,36 +389,29 @@ def plot_histories(
     names = list(dict.fromkeys(names))
     if not names:
         raise InputError("plot_histories: no probe or series names to plot")
-    curves = [(name, to_temperature_unit(result.history(name), unit)) for name in names]
+    curves = [_history_curve(result, name, unit) for name in names]
 
     fig = new_figure(10.0, 5.6)
-    ax = fig.add_subplot()
-    t0, t1 = _time_axis(ax, result)
-    minutes = result.times / 60.0
-    peaks = []
-    for k, (name, values) in enumerate(curves):
-        colour = _COLOURS[k % len(_COLOURS)]
-        style = "-" if name in result.readings else "--"
-        ax.plot(minutes, values, color=colour, ls=style, lw=1.4, label=_history_label(result, name), zorder=3)
-        t, v = _peak(result.times, values)
-        ax.plot([t / 60.0], [v], "o", ms=4, color=colour, mec="white", mew=0.6, zorder=4)
-        peaks.append((t, v, f"{v:.0f} {symbol} at {minutes_text(t)}", colour))
-    _headroom(ax, [v for _, v in curves])
-    ax.set_ylabel(f"Temperature [{symbol}]")
-    rows = _shade_phases(fig, ax, result.phases, t0, t1)
-    _title(ax, "Temperature histories (probe readings solid, global series dashed)", rows)
-    fig.legend(loc="outside right upper", fontsize=8, frameon=False)
-    _mark_peaks(LabelPlacer(fig, ax), peaks)
+    panels = _time_panels(fig, result)[0]
+    _draw_curves(panels, result.times / 60.0, curves)
+    groups = _threshold_groups(thresholds, names, unit)
+    _headroom(panels[0].ax, [c.values for c in curves] + [np.array([g[0] for g in groups])])
+    panels[0].ax.set_ylabel(f"Temperature [{symbol}]")
+    key = _shade_phases(fig, panels, result.phases)
+    _title(fig, "Temperature histories (probe readings, global series)", key)
+    _legend(fig)
+    _draw_thresholds(fig, panels, groups, symbol)
+    _mark_peaks(fig, panels, result, curves, symbol)
     return save_figure(fig, target, fmt)
 
 
 # --------------------------------------------------------------------------- 3. sensor offset
 def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "sensor", unit: str = "degC") -> Path:
-    """Plot a sensor's reading against the heat-sink temperature, with the offset on a second axis.
+    """Plot a sensor's reading against the heat-sink temperature, with the offset in a panel below.
 
     Drawn: the sensor reading, the local temperature at the sensor, the heat-sink
-    mass-mean and (if recorded) the hottest heat-sink cell; on the right axis the offset
-    ``reading - heat-sink mean``. Peaks and the largest under-reading are marked.
+    mass-mean and (if recorded) the hottest heat-sink cell; below, on its own axis, the
+    offset ``reading - heat-sink mean``. Peaks and the largest under-reading are marked.
 
     Parameters
     ----------
@@ -251,52 +441,63 @@ def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "s
     symbol = check_unit(unit)
     reading_k = _probe_reading(result, sensor)
     mean_k = _series(result, HEAT_SINK_MEAN)
+    local = SERIES_STYLES["sensor_local"]
     curves = [
-        (f"{sensor} reading", to_temperature_unit(reading_k, unit), _COLOURS[0], "-", 1.8),
-        (f"{sensor} location, local", to_temperature_unit(result.probes[sensor], unit), _COLOURS[0], ":", 1.3),
-        ("heat-sink mean", to_temperature_unit(mean_k, unit), _COLOURS[1], "--", 1.5),
+        _Curve(f"{sensor} reading", to_temperature_unit(reading_k, unit), *style_for(sensor, sensor)),
+        _Curve(
+            f"{sensor} location, local",
+            to_temperature_unit(result.probes[sensor], unit),
+            local.colour,
+            local.dashes[0],
+            local.width,
+            mark_peak=False,
+        ),
+        _Curve("heat-sink mean", to_temperature_unit(mean_k, unit), *style_for(HEAT_SINK_MEAN)),
     ]
     if HEAT_SINK_MAX in result.series:
         hottest = to_temperature_unit(result.series[HEAT_SINK_MAX], unit)
-        curves.append(("heat sink, hottest cell", hottest, _COLOURS[3], "-.", 1.2))
+        curves.append(_Curve("heat sink, hottest cell", hottest, *style_for(HEAT_SINK_MAX), mark_peak=False))
     offset = to_difference_unit(reading_k - mean_k, unit)
 
-    fig = new_figure(10.0, 5.6)
-    ax = fig.add_subplot()
-    t0, t1 = _time_axis(ax, result)
+    fig = new_figure(10.0, 6.4)
+    top, bottom = _time_panels(fig, result, height_ratios=(2.6, 1.0))
     minutes = result.times / 60.0
-    for label, values, colour, style, width in curves:
-        ax.plot(minutes, values, color=colour, ls=style, lw=width, label=label, zorder=3)
-    _headroom(ax, [c[1] for c in curves])
-    ax.set_ylabel(f"Temperature [{symbol}]")
-    twin = ax.twinx()
-    twin.plot(minutes, offset, color="0.35", lw=1.2, label=f"offset: {sensor} reading − heat-sink mean")
-    twin.axhline(0.0, color="0.35", lw=0.6, ls=(0, (1, 2)))
-    _headroom(twin, [offset, np.zeros(1)], top=0.12, bottom=0.12)
-    twin.set_ylabel(f"Offset, reading − heat-sink mean [{symbol}]", color="0.3")
-    twin.tick_params(axis="y", colors="0.3")
-    rows = _shade_phases(fig, ax, result.phases, t0, t1)
-    _title(ax, f"Sensor offset: {sensor} reading against the heat-sink temperature", rows)
-    handles = ax.get_lines()[: len(curves)] + twin.get_lines()[:1]
-    fig.legend(handles=handles, loc="outside right upper", fontsize=8, frameon=False)
-
-    peaks = []
-    for k in (0, 2):
-        label, values, colour, _, _ = curves[k]
-        t, v = _peak(result.times, values)
-        ax.plot([t / 60.0], [v], "o", ms=4, color=colour, mec="white", mew=0.6, zorder=4)
-        peaks.append((t, v, f"{v:.0f} {symbol} at {minutes_text(t)}", colour))
-    placer = LabelPlacer(fig, ax, obstacle_axes=(twin,))
-    _mark_peaks(placer, peaks)
+    _draw_curves(top, minutes, curves)
+    _headroom(top[0].ax, [c.values for c in curves])
+    top[0].ax.set_ylabel(f"Temperature [{symbol}]")
+    style = SERIES_STYLES["offset"]
+    for panel in bottom:
+        panel.ax.plot(
+            minutes,
+            offset,
+            color=style.colour,
+            lw=style.width,
+            label=f"offset: {sensor} reading − heat-sink mean" if panel is bottom[0] else None,
+        )
+        panel.ax.axhline(0.0, color="0.35", lw=0.7, ls=(0, (1, 2)))
+    _headroom(bottom[0].ax, [offset, np.zeros(1)], top=0.15, bottom=0.15)
+    bottom[0].ax.set_ylabel(f"Offset [{symbol}]\nreading − mean")
+    key = _shade_phases(fig, top, result.phases)
+    for panel in bottom:
+        for k, (_, start, end) in enumerate(result.phases):
+            lo, hi = max(start, panel.start), min(end, panel.end)
+            if hi > lo:
+                panel.ax.axvspan(lo / 60.0, hi / 60.0, color=_PHASE_FILLS[k % 2], lw=0, zorder=0)
+    _title(fig, f"Sensor offset: {sensor} reading against the heat-sink temperature", key)
+    _legend(fig)
+    _mark_peaks(fig, top, result, curves, symbol)
     k_low = int(np.argmin(offset))
     if offset[k_low] < 0:
         t_low, v_low = float(result.times[k_low]), float(offset[k_low])
-        twin.plot([t_low / 60.0], [v_low], "v", ms=5, color="0.25", zorder=4)
-        # place in the twin axes: same pixels, its own data coordinates
-        twin_placer = LabelPlacer(fig, twin, obstacle_axes=(ax,))
-        twin_placer.boxes.extend(placer.boxes)
-        twin_placer.place(
-            (t_low / 60.0, v_low), f"reads {-v_low:.0f} {symbol} low at {minutes_text(t_low)}", colour="0.2"
+        panel = _panel_at(bottom, t_low)
+        panel.ax.plot([t_low / 60.0], [v_low], "v", ms=5, color="0.25", zorder=4)
+        right = [(8.0, 0.0, "left", "center", False), (8.0, 6.0, "left", "bottom", False)]
+        LabelPlacer(fig, panel.ax).place(
+            (t_low / 60.0, v_low),
+            f"reads {-v_low:.0f} {symbol} low at {minutes_text(t_low)}",
+            colour="0.1",
+            boxed=True,
+            candidates=right,
         )
     return save_figure(fig, target, fmt)
 
@@ -308,6 +509,7 @@ def plot_why_the_gauge_lags(
     names: Sequence[str] | None = None,
     sensor: str = "sensor",
     unit: str = "degC",
+    thresholds: Sequence[Threshold] | None = None,
 ) -> Path:
     """Show on one time axis how heat soaks from the heat sink to the sensor and the wheel.
 
@@ -330,6 +532,8 @@ def plot_why_the_gauge_lags(
         Probe name of the brake temperature sensor.
     unit : {"degC", "degF", "K"}
         Temperature unit of the axis.
+    thresholds : sequence of Threshold, optional
+        Release temperatures and limits [K]; those of drawn series are drawn as lines.
 
     Returns
     -------
@@ -346,47 +550,43 @@ def plot_why_the_gauge_lags(
     target, fmt = figure_target(path)
     check_result(result)
     symbol = check_unit(unit)
+    thresholds = _check_thresholds(thresholds)
     wheel_default = names is None
-    curves, n_extra = _gauge_lag_curves(result, names, sensor, unit)
+    curves, extra = _gauge_lag_curves(result, names, sensor, unit)
 
     fig = new_figure(10.0, 5.8)
-    ax = fig.add_subplot()
-    t0, t1 = _time_axis(ax, result)
-    minutes = result.times / 60.0
-    peaks = []
-    prefixes = {1: "local ", 2: "reading "}
-    for k, (label, values, colour, style, width) in enumerate(curves):
-        ax.plot(minutes, values, color=colour, ls=style, lw=width, label=label, zorder=3)
-        t, v = _peak(result.times, values)
-        ax.plot([t / 60.0], [v], "o", ms=4, color=colour, mec="white", mew=0.6, zorder=4)
-        peaks.append((t, v, f"{prefixes.get(k, '')}{v:.0f} {symbol} at {minutes_text(t)}", colour))
-    _headroom(ax, [c[1] for c in curves], top=0.3)
-    ax.set_ylabel(f"Temperature [{symbol}]")
-    rows = _shade_phases(fig, ax, result.phases, t0, t1)
+    panels = _time_panels(fig, result)[0]
+    _draw_curves(panels, result.times / 60.0, curves)
+    groups = _threshold_groups(thresholds, extra, unit)
+    _headroom(panels[0].ax, [c.values for c in curves] + [np.array([g[0] for g in groups])], top=0.3)
+    panels[0].ax.set_ylabel(f"Temperature [{symbol}]")
+    key = _shade_phases(fig, panels, result.phases)
     title = "Why the gauge lags: heat soaks from the heat sink into the sensor"
-    _title(ax, title + (" and the wheel" if wheel_default and n_extra else ""), rows)
-    fig.legend(loc="outside right upper", fontsize=8, frameon=False)
+    _title(fig, title + (" and the wheel" if wheel_default and extra else ""), key)
+    _legend(fig)
+    _draw_thresholds(fig, panels, groups, symbol)
 
+    t0, t1 = float(result.times[0]), float(result.times[-1])
     t_end = float(result.end_of_braking)
     braked = t0 < t_end <= t1
     if braked:
-        ax.axvline(t_end / 60.0, color="0.15", lw=1.0, ls=(0, (4, 2)), zorder=2)
-    placer = LabelPlacer(fig, ax)
+        for panel in panels:
+            panel.ax.axvline(t_end / 60.0, color="0.15", lw=1.0, ls=(0, (4, 2)), zorder=2)
     if braked:
-        end_label = _end_of_braking_label(ax, placer, t_end)
-        t_read, v_read = _peak(result.times, curves[2][1])
-        t_local, _ = _peak(result.times, curves[1][1])
+        _end_of_braking_label(_panel_at(panels, t_end).ax, t_end)
+    placers = _mark_peaks(fig, panels, result, curves, symbol)
+    if braked:
+        t_read, v_read = _peak(result.times, curves[2].values)
+        t_local, _ = _peak(result.times, curves[1].values)
         if t_read > t_end:
-            _annotate_sensor_delay(ax, placer, end_label, sensor, t_end, t_local, (t_read, v_read))
-    _mark_peaks(placer, peaks)
+            _annotate_sensor_delay(placers[id(_panel_at(panels, t_read).ax)], sensor, t_end, t_local, (t_read, v_read))
     return save_figure(fig, target, fmt)
 
 
 def _gauge_lag_curves(
     result: Result, names: Sequence[str] | str | None, sensor: str, unit: str
-) -> tuple[list[tuple[str, np.ndarray, str, str, float]], int]:
-    """Curves (label, values in ``unit``, colour, line style, width) of the gauge-lag figure, and the number of
-    further histories among them.
+) -> tuple[list[_Curve], list[str]]:
+    """Curves of the gauge-lag figure, and the names of the further histories among them.
 
     First the heat-sink mean, the local temperature at the sensor and its reading; then ``names`` (by
     default the hottest wheel cell and the fuse plugs), leaving out the sensor and the heat-sink mean.
@@ -398,20 +598,26 @@ def _gauge_lag_curves(
         names += [n for n in result.readings if n.startswith("fuse plug")]
     elif isinstance(names, str):
         names = [names]
-    extra = [(n, result.history(n)) for n in dict.fromkeys(names) if n not in (sensor, HEAT_SINK_MEAN)]
+    extra = [n for n in dict.fromkeys(names) if n not in (sensor, HEAT_SINK_MEAN)]
+    local = SERIES_STYLES["sensor_local"]
     curves = [
-        ("heat-sink mean", mean, _COLOURS[1], "--", 1.6),
-        (f"{sensor} location, local temperature", result.probes[sensor], _COLOURS[0], ":", 1.4),
-        (f"{sensor} reading", reading, _COLOURS[0], "-", 1.9),
+        _Curve("heat-sink mean", to_temperature_unit(mean, unit), *style_for(HEAT_SINK_MEAN)),
+        _Curve(
+            f"{sensor} location, local temperature",
+            to_temperature_unit(result.probes[sensor], unit),
+            local.colour,
+            local.dashes[0],
+            local.width,
+            peak_prefix="local ",
+        ),
+        _Curve(f"{sensor} reading", to_temperature_unit(reading, unit), *style_for(sensor, sensor), "reading "),
     ]
-    for k, (name, values) in enumerate(extra):
-        colour = _COLOURS[(k + 2) % len(_COLOURS)]
-        curves.append((_history_label(result, name), values, colour, "-", 1.2))
-    return [(label, to_temperature_unit(v, unit), c, s, w) for label, v, c, s, w in curves], len(extra)
+    curves += [_history_curve(result, name, unit, sensor) for name in extra]
+    return curves, extra
 
 
-def _end_of_braking_label(ax, placer: LabelPlacer, t_end: float):
-    """Write "end of braking" up the dashed line at ``t_end`` [s]; the label is kept clear of others."""
+def _end_of_braking_label(ax, t_end: float):
+    """Write "end of braking" up the dashed line at ``t_end`` [s]; later labels keep clear of it."""
     end_label = ax.annotate(
         "end of braking",
         xy=(t_end / 60.0, 0.99),
@@ -425,65 +631,23 @@ def _end_of_braking_label(ax, placer: LabelPlacer, t_end: float):
         color="0.15",
     )
     end_label.set_in_layout(False)
-    placer.block_artist(end_label)
     return end_label
 
 
 def _annotate_sensor_delay(
-    ax,
-    placer: LabelPlacer,
-    end_label,
-    sensor: str,
-    t_end: float,
-    t_local: float,
-    reading_peak: tuple[float, float],
+    placer: LabelPlacer, sensor: str, t_end: float, t_local: float, reading_peak: tuple[float, float]
 ) -> None:
-    """Arrow from the end of braking to the sensor reading's peak, with its delay split into conduction and lag.
+    """A boxed note near the sensor reading's peak: its delay after the end of braking, conduction and lag.
 
     Times [s]: ``t_end`` end of braking, ``t_local`` peak of the local temperature at the sensor,
     ``reading_peak`` (time, value) of the reading's peak, after ``t_end``.
     """
     t_read, v_read = reading_peak
-    # the delay arrow runs just below the "end of braking" label
-    bottom = end_label.get_window_extent(placer.renderer).y0 - 8.0
-    y_arrow = float(ax.transData.inverted().transform((0.0, bottom))[1])
-    ax.annotate(
-        "",
-        xy=(t_read / 60.0, y_arrow),
-        xytext=(t_end / 60.0, y_arrow),
-        arrowprops=dict(arrowstyle="<->", color=_COLOURS[0], lw=1.0, shrinkA=0, shrinkB=0),
-        zorder=5,
-    ).set_in_layout(False)
-    ax.plot([t_read / 60.0] * 2, [v_read, y_arrow], color=_COLOURS[0], lw=0.6, ls=":", zorder=2)
     text = f"{sensor} reading peaks {minutes_text(t_read - t_end)} after the end of braking"
     if t_local > t_end and t_read >= t_local:
         text += (
             f"\n(conduction: local peak after {minutes_text(t_local - t_end)};"
             f" instrument lag: {minutes_text(t_read - t_local)} more)"
         )
-    # the delay text goes right of the arrow, or above / below it clear of the end label
-    ends = ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])
-    length = (ends[1, 0] - ends[0, 0]) / placer.scale  # [points]
-    clear = (end_label.get_window_extent(placer.renderer).x1 - ends[0, 0]) / placer.scale + 4.0
-    options = [
-        (6.0, 0.0, "left", "center", False),
-        (clear - length, 4.0, "left", "bottom", False),
-        (0.0, 4.0, "right", "bottom", False),
-        (clear - length, -4.0, "left", "top", False),
-        (0.0, -4.0, "right", "top", False),
-        (6.0, 4.0, "left", "bottom", False),
-        (6.0, -4.0, "left", "top", False),
-    ]
-    placer.place(
-        (t_read / 60.0, y_arrow),
-        text,
-        colour=_COLOURS[0],
-        boxed=True,
-        candidates=options,
-    )
-    placer.points = np.concatenate(
-        (
-            placer.points,
-            densify(ax.transData.transform([(t_end / 60.0, y_arrow), (t_read / 60.0, y_arrow)])),
-        )
-    )
+    colour = style_for(sensor, sensor)[0]
+    placer.place((t_read / 60.0, v_read), text, colour=colour, boxed=True)

@@ -97,7 +97,8 @@ class LabelPlacer:
         bb = artist.get_window_extent(self.renderer)
         self.boxes.append(np.array([bb.x0, bb.y0, bb.x1, bb.y1]))
 
-    def _size(self, text: str, fontsize: float, rotation: float = 0.0) -> tuple[float, float]:
+    def text_size(self, text: str, fontsize: float, rotation: float = 0.0) -> tuple[float, float]:
+        """Width and height [pixels] of ``text`` drawn at ``fontsize`` [points] and ``rotation`` [degrees]."""
         probe = self.ax.text(0, 0, text, fontsize=fontsize, rotation=rotation)
         bb = probe.get_window_extent(self.renderer)
         probe.remove()
@@ -119,7 +120,7 @@ class LabelPlacer:
         ``candidates`` replaces the default offsets: (dx, dy [points], ha, va, leader).
         """
         anchor = self.ax.transData.transform(np.asarray(xy, dtype=float))
-        w, h = self._size(text, fontsize)
+        w, h = self.text_size(text, fontsize)
         pad = 2.0
         area = (w + 2 * pad) * (h + 2 * pad)
         best, best_score = None, np.inf

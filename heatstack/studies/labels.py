@@ -16,7 +16,7 @@ _PREFIX_LABELS = {
     "plug_margin:": "{} margin (plug temperature)",
     "plug_peak:": "{} peak (plug temperature)",
     "plug_released:": "{} released",
-    "limit_margin:": "{} margin to its limit",
+    "limit_margin:": "{}: margin to its limit",
     "peak:": "{} peak",
     "peak_time:": "{} time of peak",
     "peak_delay:": "{} peak after braking",
@@ -43,7 +43,7 @@ def output_label(name: str, plugs: Sequence[str] = ()) -> str:
         return _LABELS[name]
     for prefix, pattern in _PREFIX_LABELS.items():
         if name.startswith(prefix):
-            subject = name[len(prefix) :]
+            subject = name[len(prefix) :].replace("_", " ")
             if prefix in ("peak:", "peak_time:", "peak_delay:") and subject in plugs:
                 subject = f"rim at the seat of {subject},"
             return pattern.format(subject)

@@ -1,39 +1,31 @@
 """Study figures: a histogram of a margin and a tornado of sensitivities.
 
 Drawn with matplotlib's object interface (:class:`matplotlib.figure.Figure`, the Agg
-renderer; no pyplot state), in a plain style of our own, each with the caption "Not
-certified data", and written atomically (:func:`heatstack.atomic.write_file_atomically`).
-The format follows the suffix: ``.png`` or ``.svg``.
+renderer; no pyplot state) on the frame of the run figures
+(:func:`heatstack.plotting.common.new_figure`: the same size, the same "Not certified data"
+caption, the colours of :data:`heatstack.plotting.common.SERIES_STYLES`), and written
+atomically. The format follows the suffix: ``.png`` or ``.svg``.
 """
 
 from __future__ import annotations
 
 import os
+import textwrap
 from pathlib import Path
 
 import numpy as np
-from matplotlib.figure import Figure
+from matplotlib.ticker import MaxNLocator
 
 from ..errors import InputError
-from ..plotting.common import figure_target, save_figure
+from ..plotting.common import OKABE_ITO, SERIES_STYLES, figure_target, new_figure, save_figure
 from .analysis import SensitivityResult, StudyTable, margin_percentiles
 from .labels import output_label
 
-__all__ = ["plot_margin_histogram", "plot_tornado", "CAPTION"]
-
-#: Caption on every study figure.
-CAPTION = "Not certified data. Defer to the manufacturer's maintenance data."
+__all__ = ["plot_margin_histogram", "plot_tornado"]
 
 _INK = "#222222"
-_BAR = "#7a8a99"
-_ACCENT = "#b0413e"
-_MUTED = "#9a9a9a"
-
-
-def new_figure(width: float, height: float) -> Figure:
-    fig = Figure(figsize=(width, height), layout="constrained")
-    fig.get_layout_engine().set(h_pad=0.08)
-    return fig
+_WIDTH, _HEIGHT = 10.0, 5.6  # [in] the size of the run figures
+_TITLE_CHARACTERS = 95  # a title wraps beyond this many characters, so it is never clipped
 
 
 def _plain(ax) -> None:
@@ -41,13 +33,14 @@ def _plain(ax) -> None:
         ax.spines[side].set_visible(False)
     for side in ("left", "bottom"):
         ax.spines[side].set_color(_INK)
-    ax.tick_params(colors=_INK, labelsize=8)
+    ax.tick_params(colors=_INK, labelsize=9)
     ax.xaxis.label.set_color(_INK)
     ax.yaxis.label.set_color(_INK)
 
 
-def _caption(fig: Figure, text: str) -> None:
-    fig.supxlabel(f"{CAPTION} {text}".strip(), fontsize=7, color=_MUTED)
+def _title(fig, text: str) -> None:
+    lines = [textwrap.fill(line, _TITLE_CHARACTERS) for line in text.split("\n")]
+    fig.suptitle("\n".join(lines), fontsize=11, color=_INK)
 
 
 def plot_margin_histogram(
@@ -84,12 +77,14 @@ def plot_margin_histogram(
         raise InputError(f"plot_margin_histogram: no finished case has a value of {column!r}")
     unit = table.units.get(column, "")
     pct = margin_percentiles(table, column)
-    fig = new_figure(6.4, 3.8)
+    fig = new_figure(_WIDTH, _HEIGHT)
     ax = fig.add_subplot()
-    ax.hist(values, bins=bins, color=_BAR, edgecolor="white", linewidth=0.5)
+    ax.hist(values, bins=bins, color=SERIES_STYLES["study"].colour, edgecolor="white", linewidth=0.5)
+    ax.yaxis.set_major_locator(MaxNLocator(integer=True))
     is_margin = "margin" in column
+    release = SERIES_STYLES["release"].colour
     if is_margin:
-        ax.axvline(0.0, color=_ACCENT, linewidth=1.2)
+        ax.axvline(0.0, color=release, linewidth=1.4)
         ax.annotate(
             "release / limit",
             (0.0, 1.0),
@@ -97,8 +92,8 @@ def plot_margin_histogram(
             xytext=(3, -3),
             textcoords="offset points",
             va="top",
-            fontsize=7,
-            color=_ACCENT,
+            fontsize=8,
+            color=release,
         )
     for q, style in ((5.0, ":"), (50.0, "--"), (95.0, ":")):
         ax.axvline(pct[q], color=_INK, linestyle=style, linewidth=0.9)
@@ -108,18 +103,17 @@ def plot_margin_histogram(
             xycoords=("data", "axes fraction"),
             xytext=(3, 0),
             textcoords="offset points",
-            fontsize=7,
+            fontsize=8,
             color=_INK,
         )
-    label = output_label(column)
-    ax.set_xlabel(f"{label} [{unit}]" if unit else label, fontsize=9)
-    ax.set_ylabel("cases", fontsize=9)
+    words = output_label(column)
+    ax.set_xlabel(f"{words} [{unit}]" if unit else words, fontsize=10)
+    ax.set_ylabel("Number of cases", fontsize=10)
     negative = int(np.count_nonzero(values < 0)) if is_margin else None
     heading = title or table.title or "study"
-    extra = f" ({negative} of {values.size} cases below zero)" if negative is not None else f" ({values.size} cases)"
-    ax.set_title(heading + extra, fontsize=10, color=_INK, loc="left")
+    extra = f"\n{negative} of {values.size} cases below zero" if negative is not None else f"\n{values.size} cases"
+    _title(fig, heading + extra)
     _plain(ax)
-    _caption(fig, "")
     return save_figure(fig, target, fmt)
 
 
@@ -150,14 +144,22 @@ def plot_tornado(
     entries = sorted(result.entries, key=lambda e: abs(getattr(e, measure)))
     values = np.array([getattr(e, measure) for e in entries])
     labels = [e.parameter for e in entries]
-    fig = new_figure(6.4, 1.2 + 0.38 * len(entries))
+    fig = new_figure(_WIDTH, max(_HEIGHT, 1.6 + 0.45 * len(entries)))
     ax = fig.add_subplot()
-    colours = [_ACCENT if v < 0 else _BAR for v in values]
-    ax.barh(np.arange(len(entries)), values, color=colours, height=0.6)
-    ax.set_yticks(np.arange(len(entries)), labels, fontsize=8)
+    bars = ax.barh(
+        np.arange(len(entries)),
+        values,
+        color=[OKABE_ITO["vermillion"] if v < 0 else OKABE_ITO["blue"] for v in values],
+        height=0.6,
+        edgecolor="white",
+    )
+    for bar, v in zip(bars, values, strict=True):
+        if v < 0:
+            bar.set_hatch("///")  # a grey print still tells lowering from raising
+    ax.set_yticks(np.arange(len(entries)), labels, fontsize=9)
     ax.axvline(0.0, color=_INK, linewidth=0.8)
     limit = max(1e-12, float(np.max(np.abs(values))))
-    ax.set_xlim(-1.15 * limit, 1.15 * limit)
+    ax.set_xlim(-1.35 * limit, 1.35 * limit)
     for k, v in enumerate(values):
         ax.annotate(
             f"{v:+.2f}",
@@ -166,13 +168,23 @@ def plot_tornado(
             textcoords="offset points",
             ha="left" if v >= 0 else "right",
             va="center",
-            fontsize=7,
+            fontsize=8,
             color=_INK,
         )
     name = "Spearman rank correlation" if measure == "spearman" else "standardised regression coefficient"
-    ax.set_xlabel(f"{name} with {output_label(result.output)} [-]", fontsize=9)
-    heading = title or f"Sensitivity of {output_label(result.output)}"
-    ax.set_title(f"{heading} ({result.cases} cases, R^2 = {result.r_squared:.2f})", fontsize=10, color=_INK, loc="left")
+    output = output_label(result.output)
+    ax.set_xlabel(f"{name} [-]", fontsize=10)
+    ax.text(
+        0.99,
+        0.01,
+        "hatched: raising the parameter lowers the output",
+        transform=ax.transAxes,
+        ha="right",
+        va="bottom",
+        fontsize=8,
+        color=_INK,
+    )
+    heading = title or f"Sensitivity of: {output}"
+    _title(fig, f"{heading}\n{result.cases} cases, R² = {result.r_squared:.2f}")
     _plain(ax)
-    _caption(fig, "")
     return save_figure(fig, target, fmt)

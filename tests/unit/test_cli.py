@@ -25,7 +25,7 @@ def small_run(tmp_path_factory):
 
 def test_run_writes_results_and_plots(small_run):
     assert (small_run / "results.h5").is_file()
-    assert (small_run / "histories.png").stat().st_size > 0
+    assert (small_run / "small-histories.png").stat().st_size > 0  # figures carry the case name
 
 
 def test_report_formats_agree(small_run, capsys):

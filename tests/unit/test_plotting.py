@@ -13,12 +13,15 @@ from heatstack.builders import build_wheel_brake
 from heatstack.errors import InputError, ResultFileError
 from heatstack.plotting import (
     CAPTION,
+    SERIES_STYLES,
+    Threshold,
     plot_field,
     plot_histories,
     plot_layout,
     plot_sensor_offset,
     plot_why_the_gauge_lags,
 )
+from heatstack.plotting.common import OKABE_ITO, style_for
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 
@@ -148,3 +151,37 @@ def test_layout_without_grid(run, tmp_path):
 def test_plotting_leaves_pyplot_alone():
     code = "import sys, heatstack.plotting; sys.exit('matplotlib.pyplot' in sys.modules)"
     assert subprocess.run([sys.executable, "-c", code], check=False).returncode == 0
+
+
+def test_a_series_kind_keeps_one_palette_colour_and_its_variants_differ_by_dash():
+    plug_1, plug_2 = style_for("fuse plug 1"), style_for("fuse plug 2")
+    assert plug_1[0] == plug_2[0] and plug_1[1] != plug_2[1]
+    assert style_for("sensor") == style_for("sensor")  # no state: the same in every figure and run
+    assert style_for("heat_sink_mean")[0] != style_for("sensor")[0]
+    palette = set(OKABE_ITO.values())
+    for kind in ("heat_sink_mean", "heat_sink_max", "wheel_max", "sensor_reading", "fuse_plug", "bead_seat"):
+        assert SERIES_STYLES[kind].colour in palette
+
+
+def test_thresholds_are_drawn_and_labelled_once_per_value(run, tmp_path):
+    lines = [Threshold("fuse plug 1", 450.15, "release"), Threshold("fuse plug 2", 450.15, "release")]
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        text = plot_histories(run[2], tmp_path / "h.svg", thresholds=lines).read_text(encoding="utf-8")
+    assert text.count("fuse plug 1, 2 release 177 °C") == 1
+
+
+def test_a_threshold_of_unknown_kind_is_an_input_error():
+    with pytest.raises(InputError, match="fuse plug 1"):
+        Threshold("fuse plug 1", 450.0, "melt")
+
+
+def test_a_short_stop_gets_its_own_expanded_time_panel(run, tmp_path):
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        text = plot_why_the_gauge_lags(run[2], tmp_path / "g.svg").read_text(encoding="utf-8")
+    assert "braking, expanded" in text and "end of braking" in text
+
+
+def test_field_maps_share_the_run_scale_and_name_the_parts(run, tmp_path):
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        text = plot_field(run[2], tmp_path / "f.svg", 600.0).read_text(encoding="utf-8")
+    assert "one scale for every snapshot of the run" in text and "torque tube" in text

@@ -25,6 +25,7 @@ import tomllib
 from pathlib import Path
 
 import h5py
+import matplotlib
 import numpy as np
 import pytest
 
@@ -436,6 +437,10 @@ def test_plots_are_written_whole_with_the_caption(folder, tmp_path):
     table = run_study(study, tmp_path / "store", SerialExecutor(), progress=False).table
     png = plot_margin_histogram(table, tmp_path / "margin.png", column="limit_margin:heat_sink_mean")
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    with matplotlib.rc_context({"svg.fonttype": "none"}):  # text kept as text to search it
+        histogram = plot_margin_histogram(table, tmp_path / "m.svg", column="limit_margin:heat_sink_mean")
+    words = histogram.read_text()
+    assert "heat sink mean: margin to its limit" in words and "limit_margin:" not in words  # no internal names
     result = sensitivity(table, "limit_margin:heat_sink_mean")
     assert result.entries[0].parameter == "energy" and result.entries[0].spearman == pytest.approx(-1.0)
     svg = plot_tornado(result, tmp_path / "tornado.svg").read_text()
