@@ -66,7 +66,7 @@ def test_worn_heat_sink_runs_hotter_by_the_mass_ratio() -> None:
     for fraction in (0.0, 1.0):
         built = build_wheel_brake(WheelBrakeDesign(wear_fraction=fraction))
         model = Model.build(built.assembly, cell_size=0.012)
-        result = model.run(duty.schedule(built.length_scales), 288.15)
+        result = model.run(duty.schedule(built.assembly.surfaces), 288.15)
         rises.append(peak(result, "heat_sink_mean").temperature - 288.15)
         masses.append(float(model.network.mass()[model.network.heat_sink].sum()))
         assert result.metadata["heat_sink_mass_kg"] == masses[-1]
