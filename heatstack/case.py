@@ -40,7 +40,8 @@ from .operations import heat_input
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
 from .report import ReportSettings, TyreSettings
-from .result import Result
+from .questions.chaining import read_start, run_from_state, state_for_model
+from .result import Result, State
 from .units import to_si
 
 __all__ = [
@@ -176,6 +177,11 @@ class Case:
         The case file's text.
     origin : str
         File name or ``"<string>"``.
+    initial_state : str or None
+        Results file whose final state (or snapshot, see ``initial_state_time``) the run
+        starts from, instead of ``initial_temperature`` (``[case] initial_state``).
+    initial_state_time : float or None
+        A time of that run [s] (``[case] initial_state_time``); None for its final state.
     """
 
     title: str
@@ -192,6 +198,8 @@ class Case:
     tyre: TyreSettings | None
     text: str
     origin: str
+    initial_state: str | None = None
+    initial_state_time: float | None = None
 
     def report_settings(self) -> ReportSettings:
         """What the report assesses for this case."""
@@ -550,6 +558,12 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     head = root.table("case", {})
     title = head.text("title", "untitled case")
     initial = head.quantity("initial_temperature", "temperature", 288.15)
+    initial_state = head.text("initial_state", None)
+    initial_state_time = head.quantity("initial_state_time", "time", None)
+    if initial_state is not None:
+        initial_state = str(base / initial_state)
+    elif initial_state_time is not None:
+        raise InputError("case.initial_state_time: needs case.initial_state (the earlier results file)")
     head.finish()
     materials_table = root.table("materials", {})
     materials = {
@@ -590,6 +604,8 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
         tyre,
         text,
         origin,
+        initial_state,
+        initial_state_time,
     )
 
 
@@ -640,7 +656,9 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     Returns
     -------
     Result
-        The run [K, s, J]; its metadata holds the case title and origin.
+        The run [K, s, J]; its metadata holds the case title and origin. With
+        ``[case] initial_state`` it continues the earlier run on its clock, the
+        instruments and fuse plugs lagging on from where they were.
 
     Raises
     ------
@@ -650,7 +668,14 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
         If the solver cannot complete a step.
     """
     model = model or case.build_model()
-    schedule = case.duty.schedule(case.assembly.surfaces)
-    result = model.run(schedule, case.initial_temperature, case.solver, progress)
+    initial: float | State = case.initial_temperature
+    note = ""
+    if case.initial_state is not None:
+        start = read_start(case.initial_state, case.initial_state_time)
+        initial, note = state_for_model(model, start), start.note
+    schedule = case.duty.schedule(case.assembly.surfaces, start=initial.time if isinstance(initial, State) else 0.0)
+    result = run_from_state(model, schedule, initial, case.fuse_plugs, case.solver, progress)
     result.metadata.update({"case_title": case.title, "case_origin": case.origin})
+    if case.initial_state is not None:
+        result.metadata.update({"initial_state": case.initial_state, "initial_state_note": note})
     return result

@@ -30,11 +30,16 @@ class State:
         state starts each named probe's instrument from its reading (so a sensor that
         lagged behind the metal when the state was saved still lags); a probe not named
         starts in equilibrium with its local temperature.
+    plug_temperatures : dict of str to float
+        Temperature [K] of each fuse plug (the rim temperature at its probe through the
+        plug's own lag) at ``time``; a chained run's fuse-plug answer starts each named
+        plug from it instead of in equilibrium with the rim.
     """
 
     time: float
     temperature: np.ndarray
     readings: dict[str, float] = field(default_factory=dict)
+    plug_temperatures: dict[str, float] = field(default_factory=dict)
 
 
 @dataclass(frozen=True, eq=False)
@@ -121,6 +126,9 @@ class Result:
         Instrument time constant of each probe [s].
     metadata : dict
         Free text: case text, version, solver statistics.
+    initial_plug_temperatures : dict of str to float
+        Fuse-plug temperatures [K] at the first record, for a run chained from a state
+        that carried them (empty: every plug starts in equilibrium with the rim).
     """
 
     times: np.ndarray
@@ -141,6 +149,7 @@ class Result:
     probe_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
     probe_time_constants: dict[str, float] = field(default_factory=dict)
     metadata: dict = field(default_factory=dict)
+    initial_plug_temperatures: dict[str, float] = field(default_factory=dict)
 
     def history(self, name: str) -> np.ndarray:
         """Temperature history [K] of a probe reading or a global series, by name."""

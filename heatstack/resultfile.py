@@ -40,6 +40,11 @@ Layout (format version 1)::
     /final_state/reading_names text, shape (n_lagged,): probes whose instrument lags
     /final_state/readings      [K], shape (n_lagged,): their readings at the final time
                                (both absent in files written before heatstack kept them)
+    /final_state/plug_names    text, shape (n_plugs,): fuse plugs whose lagged temperature
+    /final_state/plug_temperatures [K], shape (n_plugs,): at the final time (absent in
+                               older files and empty when the run was not assessed for plugs)
+    /initial_plugs/plug_names, /initial_plugs/plug_temperatures: the same at the first
+                               record, for a run chained from a state that carried them
     /phases/names              text, shape (n_phases,)
     /phases/start              [s], shape (n_phases,)
     /phases/end                [s], shape (n_phases,)
@@ -305,11 +310,21 @@ def _write_content(
     _put_text(final, "reading_names", _texts(reading_names, "final_state.readings"))
     readings = np.array([float(result.final_state.readings[name]) for name in reading_names], dtype=np.float64)
     _put(final, "readings", _numeric(readings, "final_state.readings", 1), "K")
+    _put_named_temperatures(final, "plug", result.final_state.plug_temperatures, "final_state.plug_temperatures")
+    start = h5.create_group("initial_plugs")
+    _put_named_temperatures(start, "plug", result.initial_plug_temperatures, "initial_plug_temperatures")
 
     phases = h5.create_group("phases")
     _put_text(phases, "names", _texts((p[0] for p in result.phases), "phase names"))
     _put(phases, "start", np.array([float(p[1]) for p in result.phases], dtype=np.float64), "s")
     _put(phases, "end", np.array([float(p[2]) for p in result.phases], dtype=np.float64), "s")
+
+
+def _put_named_temperatures(group: h5py.Group, stem: str, values: Mapping[str, float], what: str) -> None:
+    names = tuple(values)
+    _put_text(group, f"{stem}_names", _texts(names, what))
+    numbers = np.array([float(values[name]) for name in names], dtype=np.float64)
+    _put(group, f"{stem}_temperatures", _numeric(numbers, what, 1), "K")
 
 
 def write_result(

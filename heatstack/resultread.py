@@ -270,7 +270,9 @@ def read_result(path: str | Path) -> Result:
             time=rd.scalar("time", "s", final),
             temperature=rd.array("temperature", "K", 1, final),
             readings=final_readings,
+            plug_temperatures=_named_temperatures(rd, final, "plug"),
         )
+        initial_plugs = _named_temperatures(rd, rd.h5["initial_plugs"], "plug") if "initial_plugs" in rd.h5 else {}
 
         ph = rd.group("phases")
         phase_names = rd.texts("names", ph)
@@ -301,7 +303,19 @@ def read_result(path: str | Path) -> Result:
         probe_positions=positions,
         probe_time_constants=time_constants,
         metadata=metadata,
+        initial_plug_temperatures=initial_plugs,
     )
+
+
+def _named_temperatures(rd: _Reader, group: h5py.Group, stem: str) -> dict[str, float]:
+    """Optional (names, temperatures [K]) pair of a group; empty when absent (older files)."""
+    if f"{stem}_temperatures" not in group:
+        return {}
+    names = rd.texts(f"{stem}_names", group)
+    values = rd.array(f"{stem}_temperatures", "K", 1, group)
+    if len(names) != values.size:
+        raise rd.fail(f"{group.name}/{stem}_names and {stem}_temperatures differ in length")
+    return {name: float(v) for name, v in zip(names, values, strict=True)}
 
 
 def read_case_text(path: str | Path) -> str:

@@ -16,7 +16,7 @@ temperature, 450.15 K (177 degC), lies at the low end of that range.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -24,7 +24,7 @@ import numpy as np
 from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..numerics.instrument import first_order_lag
-from ..result import Result
+from ..result import Result, State
 from ..units import to_si
 from .analysis import (
     absolute_temperature,
@@ -35,7 +35,7 @@ from .analysis import (
     to_si_unit,
 )
 
-__all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs"]
+__all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs", "state_with_plugs"]
 
 
 @dataclass(frozen=True)
@@ -181,7 +181,9 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
     The plug temperature is the local rim temperature at the plug's probe (not the
     probe reading) passed through the plug's own first-order lag, integrated exactly for
     a history piecewise linear between records
-    (:func:`heatstack.numerics.instrument.first_order_lag`).
+    (:func:`heatstack.numerics.instrument.first_order_lag`). A plug starts from the
+    result's ``initial_plug_temperatures`` (a run chained from a state that carried the
+    plugs' temperatures), else in equilibrium with the rim.
 
     Parameters
     ----------
@@ -216,7 +218,9 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
         else:
             raise InputError(f"plugs: expected FusePlug or FusePlugSpec, got {type(item).__name__}")
         local = local_temperature(result, plug.name, f"fuse plug {plug.name!r}")
-        temperature = first_order_lag(times, local, plug.time_constant)
+        temperature = first_order_lag(
+            times, local, plug.time_constant, result.initial_plug_temperatures.get(plug.name)
+        )
         k = int(np.argmax(temperature))
         top = float(temperature[k])
         release = first_reach(times, temperature, plug.release_temperature)
@@ -237,3 +241,31 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
             )
         )
     return out
+
+
+def state_with_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) -> State:
+    """The result's final state with each fuse plug's temperature [K] at that time.
+
+    A run started from it (:mod:`heatstack.questions.chaining`) carries the plugs' own
+    lag on, instead of restarting each plug in equilibrium with the rim.
+
+    Parameters
+    ----------
+    result : Result
+    plugs : sequence of FusePlug or FusePlugSpec
+
+    Returns
+    -------
+    State
+        ``result.final_state`` with ``plug_temperatures`` filled in.
+    """
+    answers = assess_fuse_plugs(result, plugs) if plugs else []
+    times = record_times(result)
+    temperatures = {}
+    for answer in answers:
+        local = local_temperature(result, answer.name, f"fuse plug {answer.name!r}")
+        lagged = first_order_lag(
+            times, local, answer.time_constant, result.initial_plug_temperatures.get(answer.name)
+        )
+        temperatures[answer.name] = float(lagged[-1])
+    return replace(result.final_state, plug_temperatures=temperatures)
