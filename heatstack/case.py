@@ -39,8 +39,8 @@ from .numerics.solver import SolverOptions
 from .operations import heat_input
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
-from .report import ReportSettings, TyreSettings
 from .questions.chaining import read_start, run_from_state, state_for_model
+from .report import ReportSettings, TyreSettings
 from .result import Result, State
 from .units import to_si
 

@@ -218,9 +218,7 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
         else:
             raise InputError(f"plugs: expected FusePlug or FusePlugSpec, got {type(item).__name__}")
         local = local_temperature(result, plug.name, f"fuse plug {plug.name!r}")
-        temperature = first_order_lag(
-            times, local, plug.time_constant, result.initial_plug_temperatures.get(plug.name)
-        )
+        temperature = first_order_lag(times, local, plug.time_constant, result.initial_plug_temperatures.get(plug.name))
         k = int(np.argmax(temperature))
         top = float(temperature[k])
         release = first_reach(times, temperature, plug.release_temperature)
@@ -264,8 +262,6 @@ def state_with_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) -
     temperatures = {}
     for answer in answers:
         local = local_temperature(result, answer.name, f"fuse plug {answer.name!r}")
-        lagged = first_order_lag(
-            times, local, answer.time_constant, result.initial_plug_temperatures.get(answer.name)
-        )
+        lagged = first_order_lag(times, local, answer.time_constant, result.initial_plug_temperatures.get(answer.name))
         temperatures[answer.name] = float(lagged[-1])
     return replace(result.final_state, plug_temperatures=temperatures)

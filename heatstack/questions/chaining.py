@@ -156,13 +156,17 @@ def check_start_fits(model: Model, start: ChainStart) -> None:
         problems.append(f"part names differ{detail}")
     if start.n_cells != model.n_cells:
         problems.append(f"active cells: {start.n_cells} in the file, {model.n_cells} in this model")
-    for name, ours_edges, theirs in (("radial", net.grid.r_edges, start.r_edges), ("axial", net.grid.z_edges, start.z_edges)):
+    for name, ours_edges, theirs in (
+        ("radial", net.grid.r_edges, start.r_edges),
+        ("axial", net.grid.z_edges, start.z_edges),
+    ):
         problem = _edges_differ(name, np.asarray(ours_edges, dtype=float), theirs)
         if problem:
             problems.append(problem)
     if problems:
         raise InputError(
-            f"initial_state: {start.source!r} comes from another grid or design: " + "; ".join(problems)
+            f"initial_state: {start.source!r} comes from another grid or design: "
+            + "; ".join(problems)
             + " (use the same design and cell size as the earlier run)"
         )
 
