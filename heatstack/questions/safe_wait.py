@@ -12,15 +12,14 @@ Each margin grows with the wait (a cooler wheel peaks lower after the same stop)
 governing margin is the smallest, each scaled to a common footing (1 K, 0.1 bar). The
 search samples a ladder of waits (independent runs, through a study executor), asserts
 the governing margin is non-decreasing on them, brackets its zero and closes the bracket
-by false position with the Illinois modification (a bracketing root finder like
-bisection, faster on a smooth margin), always keeping a safe upper end: the wait
-returned is never on the unsafe side of the root by more than nothing, and lies within
-``tolerance`` above it.
+by Brent's method (:func:`scipy.optimize.brentq`: a bracketing root finder like
+bisection, faster on a smooth margin). The wait returned is the shortest run wait
+whose margin is >= 0: on the safe side of the root, within ``tolerance`` above it.
 
 References
 ----------
-.. [1] Dowell, M., Jarratt, P., A modified regula falsi method for computing the root of
-   an equation, BIT 11 (1971) 168-174 (the Illinois method).
+.. [1] Brent, R.P., Algorithms for Minimization without Derivatives, Prentice-Hall,
+   1973, ch. 4.
 """
 
 from __future__ import annotations
@@ -30,6 +29,7 @@ from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
+from scipy.optimize import brentq
 
 from ..answers.fuse_plugs import FusePlug, assess_fuse_plugs
 from ..answers.tyre import tyre_gas
@@ -182,6 +182,8 @@ class WaitSample:
         The sensor's reading at the end of the wait [K] (what the crew sees).
     result : Result or None
         The departure's run, from the end of the wait (kept for the answer's wait only).
+    departure_state : State or None
+        The state at the end of the wait (a longer wait can continue from it).
     """
 
     wait: float
@@ -191,16 +193,21 @@ class WaitSample:
     peaks: dict[str, float]
     sensor_at_departure: float | None
     result: Result | None = None
+    departure_state: State | None = None
 
 
-def _departure_state(problem: WaitProblem, wait: float) -> State:
-    """The state at the end of the wait (a parked cooling run chained from the problem's state)."""
-    if wait <= 0:
-        return problem.state
+def _departure_state(problem: WaitProblem, wait: float, base: WaitSample | None) -> State:
+    """The state at the end of the wait: parked cooling chained from the problem's state,
+    or from the departure state of an earlier sample ``base`` with a shorter wait."""
+    start, waited = problem.state, 0.0
+    if base is not None and base.departure_state is not None and base.wait <= wait:
+        start, waited = base.departure_state, base.wait
+    if wait - waited <= 0:
+        return start
     dep = problem.departure
-    duty = DutyCycle([DutyPhase("wait", wait, dep.environment, clamped=dep.clamped_while_waiting)])
-    schedule = duty.schedule(problem.surfaces, start=float(problem.state.time))
-    return run_from_state(problem.model, schedule, problem.state, problem.limits.plugs, problem.options).final_state
+    duty = DutyCycle([DutyPhase("wait", wait - waited, dep.environment, clamped=dep.clamped_while_waiting)])
+    schedule = duty.schedule(problem.surfaces, start=float(start.time))
+    return run_from_state(problem.model, schedule, start, problem.limits.plugs, problem.options).final_state
 
 
 def _departure_duty(problem: WaitProblem) -> DutyCycle:
@@ -243,16 +250,19 @@ def _margins(problem: WaitProblem, result: Result) -> tuple[list[tuple[str, floa
     return margins, peaks
 
 
-def evaluate_wait(problem: WaitProblem, wait: float, keep_result: bool = False) -> WaitSample:
+def evaluate_wait(
+    problem: WaitProblem, wait: float, keep_result: bool = False, base: WaitSample | None = None
+) -> WaitSample:
     """Run the departure's rejected take-off after ``wait`` [s] from the state; its margins.
 
     The wait is one parked run chained from the state, the departure a second run
     chained from the end of the wait (instruments and fuse plugs lag on across both);
     the peaks count from the departure on. The tyre gas starts at the departure in
     equilibrium with the rim surface under it (a cautious choice: the gas lags below the
-    rim while both cool).
+    rim while both cool). With ``base`` (a sample of a shorter wait) the wait continues
+    from that sample's departure state instead of starting over.
     """
-    departure = _departure_state(problem, wait)
+    departure = _departure_state(problem, wait, base)
     schedule = _departure_duty(problem).schedule(problem.surfaces, start=float(departure.time))
     result = run_from_state(problem.model, schedule, departure, problem.limits.plugs, problem.options)
     margins, peaks = _margins(problem, result)
@@ -269,6 +279,7 @@ def evaluate_wait(problem: WaitProblem, wait: float, keep_result: bool = False) 
         peaks=peaks,
         sensor_at_departure=sensor,
         result=result if keep_result else None,
+        departure_state=departure,
     )
 
 
@@ -348,25 +359,29 @@ def _no_wait(problem: WaitProblem, last: WaitSample, max_wait: float) -> NoSafeW
 
 
 def _close_bracket(problem: WaitProblem, lo: WaitSample, hi: WaitSample, tolerance: float) -> list[WaitSample]:
-    """Illinois false position on the governing margin; ``lo`` unsafe, ``hi`` safe."""
-    runs = []
-    lo_m, hi_m = lo.margin, hi.margin
-    side = 0
-    while hi.wait - lo.wait > tolerance:
-        guess = hi.wait - hi_m * (hi.wait - lo.wait) / (hi_m - lo_m)
-        span = hi.wait - lo.wait
-        guess += 0.5 * tolerance  # lean to the safe side: a guess near the root then closes the bracket
-        guess = min(max(guess, lo.wait + 0.02 * span), hi.wait - 0.02 * span)
-        new = evaluate_wait(problem, guess, keep_result=True)
-        runs.append(new)
-        if new.margin >= 0:  # Illinois: halve the stale end's margin when the same end moves twice
-            hi, hi_m = new, new.margin
-            lo_m = lo_m / 2 if side == 1 else lo_m
-            side = 1
-        else:
-            lo, lo_m = new, new.margin
-            hi_m = hi_m / 2 if side == -1 else hi_m
-            side = -1
+    """Brent's method on the governing margin between ``lo`` (unsafe) and ``hi`` (safe).
+
+    Every run is kept; when no safe run lies within ``tolerance`` above the root, one
+    more run at the root plus half the tolerance supplies it.
+    """
+    runs: list[WaitSample] = []
+    ends = {lo.wait: lo.margin, hi.wait: hi.margin}
+
+    def margin(wait: float) -> float:
+        if wait in ends:  # brentq starts by evaluating the bracket's ends, already run
+            return ends[wait]
+        below = [s for s in (lo, *runs) if s.wait <= wait and s.margin < 0]
+        sample = evaluate_wait(problem, wait, keep_result=True, base=max(below, key=lambda s: s.wait))
+        runs.append(sample)
+        return sample.margin
+
+    root = brentq(margin, lo.wait, hi.wait, xtol=0.25 * tolerance, full_output=False)
+    safe = [s.wait for s in (*runs, hi) if s.margin >= 0]
+    for shift in (0.5, 1.0):
+        if min(safe) <= root + tolerance:
+            break
+        if margin(root + shift * tolerance) >= 0:
+            safe.append(root + shift * tolerance)
     return runs
 
 
