@@ -30,6 +30,10 @@ class State:
         state starts each named probe's instrument from its reading (so a sensor that
         lagged behind the metal when the state was saved still lags); a probe not named
         starts in equilibrium with its local temperature.
+    step : float or None
+        The time step [s] the run that made this state would have taken next; a run
+        chained from the state starts with it (unless braking starts at once), so it
+        steps as the same duty run in one piece would. None: the solver's initial step.
     plug_temperatures : dict of str to float
         Temperature [K] of each fuse plug (the rim temperature at its probe through the
         plug's own lag) at ``time``; a chained run's fuse-plug answer starts each named
@@ -40,6 +44,7 @@ class State:
     temperature: np.ndarray
     readings: dict[str, float] = field(default_factory=dict)
     plug_temperatures: dict[str, float] = field(default_factory=dict)
+    step: float | None = None
 
 
 @dataclass(frozen=True, eq=False)

@@ -43,6 +43,7 @@ Layout (format version 1)::
     /final_state/plug_names    text, shape (n_plugs,): fuse plugs whose lagged temperature
     /final_state/plug_temperatures [K], shape (n_plugs,): at the final time (absent in
                                older files and empty when the run was not assessed for plugs)
+    /final_state/step          scalar [s], optional: the next time step, for a chained run
     /initial_plugs/plug_names, /initial_plugs/plug_temperatures: the same at the first
                                record, for a run chained from a state that carried them
     /phases/names              text, shape (n_phases,)
@@ -311,6 +312,8 @@ def _write_content(
     readings = np.array([float(result.final_state.readings[name]) for name in reading_names], dtype=np.float64)
     _put(final, "readings", _numeric(readings, "final_state.readings", 1), "K")
     _put_named_temperatures(final, "plug", result.final_state.plug_temperatures, "final_state.plug_temperatures")
+    if result.final_state.step is not None:
+        _put(final, "step", np.float64(result.final_state.step), "s")
     start = h5.create_group("initial_plugs")
     _put_named_temperatures(start, "plug", result.initial_plug_temperatures, "initial_plug_temperatures")
 

@@ -271,6 +271,7 @@ def read_result(path: str | Path) -> Result:
             temperature=rd.array("temperature", "K", 1, final),
             readings=final_readings,
             plug_temperatures=_named_temperatures(rd, final, "plug"),
+            step=rd.scalar("step", "s", final) if "step" in final else None,
         )
         initial_plugs = _named_temperatures(rd, rd.h5["initial_plugs"], "plug") if "initial_plugs" in rd.h5 else {}
 

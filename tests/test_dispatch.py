@@ -216,3 +216,111 @@ def test_a_falling_margin_is_refused_as_not_monotone(wait_answer):
     flipped = [replace(s, margin=-s.margin) for s in samples]
     with pytest.raises(HeatstackError, match="not monotone"):
         check_monotone(flipped)
+
+
+# ---------------------------------------------------------------------------- a day of operations
+
+FLIGHTS_HEADER = (
+    "arrival_time,arrival_mass,arrival_speed,taxi_in,turnaround,departure_mass,taxi_out,elevation,temperature,wind"
+)
+FLIGHTS = [
+    "07:00,62 t,125 kt,6 min,40 min,66 t,8 min,100 m,15 degC,3 m/s",
+    "08:40,60 t,120 kt,5 min,30 min,64 t,6 min,1500 ft,25 degC,0 m/s",
+]
+
+
+def _write_flights(folder, rows, header=FLIGHTS_HEADER):
+    path = folder / "flights.csv"
+    path.write_text("\n".join([header, *rows]) + "\n", encoding="utf-8")
+    return path
+
+
+def test_a_chained_day_equals_the_same_day_in_one_piece(wheel, tmp_path):
+    from heatstack.dayfile import read_flights
+    from heatstack.questions.day import DayPlan, day_duty, run_day
+
+    built, plugs, model, surfaces, arrival = wheel
+    # Newton converged tightly: the chain and the one piece then take the same steps
+    fine = SolverOptions(target_change=0.5, max_step=20.0, tolerance=1e-7)
+    flights = read_flights(_write_flights(tmp_path, FLIGHTS))
+    plan = DayPlan(model, surfaces, plugs, AMBIENT, flights, options=fine)
+    day = run_day(plan)
+    whole = run_from_state(
+        model, day_duty(plan).schedule(surfaces, start=flights[0].arrival_time), AMBIENT, plugs, fine
+    )
+    for answer in day.flights:
+        for leg in (answer.arrival, answer.departure):
+            for name in whole.probes:
+                assert np.max(np.abs(leg.probes[name] - np.interp(leg.times, whole.times, whole.probes[name]))) < 0.01
+                assert (
+                    np.max(np.abs(leg.readings[name] - np.interp(leg.times, whole.times, whole.readings[name]))) < 0.01
+                )
+    for name, value in whole.final_state.plug_temperatures.items():  # the plugs' own lag, carried leg to leg
+        assert day.flights[-1].departure.final_state.plug_temperatures[name] == pytest.approx(value, abs=0.01)
+    first = day.flights[0]
+    assert first.peaks["sensor"][0] > first.departure_state.readings["sensor"]
+    assert {"heat_sink_mean", "wheel_max", "fuse plug 1 (plug)"} <= set(first.peaks)
+
+
+def test_a_flights_table_with_a_missing_column_is_refused(tmp_path):
+    from heatstack.dayfile import read_flights
+
+    header = FLIGHTS_HEADER.replace(",wind", "")
+    rows = [r.rsplit(",", 1)[0] for r in FLIGHTS]
+    with pytest.raises(InputError, match=r"missing column\(s\) \['wind'\]"):
+        read_flights(_write_flights(tmp_path, rows, header))
+
+
+def test_a_flights_table_with_a_non_increasing_time_is_refused(tmp_path):
+    from heatstack.dayfile import read_flights
+
+    rows = [FLIGHTS[0], FLIGHTS[1].replace("08:40", "06:50")]
+    with pytest.raises(InputError, match="row 3, column arrival_time: times must increase"):
+        read_flights(_write_flights(tmp_path, rows))
+
+
+# ---------------------------------------------------------------------------- command line
+
+
+@pytest.fixture(scope="module")
+def arrival_file(wheel, tmp_path_factory):
+    """An arrival run written with its case text, as `heatstack run` writes it."""
+    from heatstack.case import load_case, run_case
+    from heatstack.cli import demo_case_path
+
+    text = demo_case_path().read_text(encoding="utf-8").replace('cell_size = "4 mm"', 'cell_size = "8 mm"')
+    text = text.replace('duration = "3 h"', 'duration = "10 min"')
+    folder = tmp_path_factory.mktemp("cli")
+    (folder / "case.toml").write_text(text, encoding="utf-8")
+    case = load_case(folder / "case.toml")
+    path = folder / "arrival.h5"
+    write_result(run_case(case), path, case_text=text)
+    return path
+
+
+def test_cli_cool_prints_the_caution_and_the_answer(arrival_file, capsys):
+    from heatstack.cli import main
+
+    assert main(["cool", str(arrival_file), "--below", "150degC", "--fan", "5m/s", "--horizon", "3 h"]) == 0
+    out = capsys.readouterr().out
+    assert "not certified data" in out and "heat_sink_mean falls below" in out
+
+
+def test_cli_bad_input_is_a_heatstack_error_with_exit_2(arrival_file, tmp_path, capsys):
+    from heatstack.cli import main
+
+    assert main(["cool", str(arrival_file), "--below", "150 m"]) == 2
+    assert main(["what-if", str(arrival_file), "--event", "60 t"]) == 2
+    assert main(["wait", str(tmp_path / "missing.h5"), "--departure", "50 t, 110 kt"]) == 2
+    assert main(["day", str(tmp_path / "missing.toml")]) == 2
+    err = capsys.readouterr().err
+    assert err.count("heatstack: error:") == 4 and "Traceback" not in err
+
+
+@pytest.mark.parametrize("verb", ["cool", "what-if", "wait", "day"])
+def test_cli_help_gives_one_example(verb, capsys):
+    from heatstack.cli import main
+
+    with pytest.raises(SystemExit):
+        main([verb, "--help"])
+    assert f"example:\n  heatstack {verb} " in capsys.readouterr().out

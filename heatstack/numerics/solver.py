@@ -488,7 +488,13 @@ class _Integrator:
         self.stats["factorisations"] += 1
 
     # ---------------------------------------------------------------- the run
-    def run(self, T0: np.ndarray, t_start: float, start_readings: dict[str, float] | None = None) -> Result:
+    def run(
+        self,
+        T0: np.ndarray,
+        t_start: float,
+        start_readings: dict[str, float] | None = None,
+        first_step: float | None = None,
+    ) -> Result:
         net, opt, schedule = self.net, self.opt, self.schedule
         breakpoints = np.unique(np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float))))
         breakpoints = breakpoints[(breakpoints > t_start) & (breakpoints <= schedule.end)]
@@ -502,6 +508,8 @@ class _Integrator:
         rec.snapshot(t_start, T)
         t = t_start
         dt = opt.fixed_step or opt.initial_step
+        if opt.fixed_step is None and first_step and not self._heating_starts(t_start):
+            dt = min(max(float(first_step), opt.min_step), opt.max_step)  # as the run in one piece would step on
         kinks = set(float(b) for b in schedule.breakpoints())
         predictor = Extrapolator()
         predictor.accept(t, T)
@@ -528,7 +536,7 @@ class _Integrator:
                 predictor.restart()
                 predictor.accept(t, T)
         rec.snapshot(t, T)
-        return rec.result(schedule, State(time=t, temperature=T.copy()), self.stats, start_readings)
+        return rec.result(schedule, State(time=t, temperature=T.copy(), step=float(dt)), self.stats, start_readings)
 
     def _heating_starts(self, time: float) -> bool:
         power = self.schedule.power
@@ -655,8 +663,9 @@ def integrate(
     if start < schedule.start - 1e-9 or start >= schedule.end:
         raise InputError(f"initial state time {start} s is outside the schedule {schedule.start}..{schedule.end} s")
     readings = _start_readings(initial) if isinstance(initial, State) else None
+    step = initial.step if isinstance(initial, State) else None
     try:
-        return _Integrator(network, schedule, options, progress).run(T0, max(start, schedule.start), readings)
+        return _Integrator(network, schedule, options, progress).run(T0, max(start, schedule.start), readings, step)
     except HeatstackError:
         raise
     except (FloatingPointError, ValueError, RuntimeError) as exc:

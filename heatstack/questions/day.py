@@ -356,11 +356,16 @@ def run_day(plan: DayPlan) -> DayAnswer:
     check_timing(plan)
     state: float | State = plan.initial_temperature
     start = plan.flights[0].arrival_time
+    # every leg lands on the one-piece day's breakpoints (event ends meeting the next phase
+    # add close pairs there), so the chain steps exactly as the day run in one piece
+    reference = day_duty(plan).schedule(plan.surfaces, start=start).breakpoints()
     answers = []
     for k, flight in enumerate(plan.flights):
         legs = []
         for phases in (arrival_phases(plan, flight), departure_phases(plan, k)):
-            schedule = DutyCycle(phases).schedule(plan.surfaces, start=start)
+            end = start + sum(p.duration for p in phases)
+            inside = reference[(reference > start) & (reference < end)]
+            schedule = DutyCycle(phases).schedule(plan.surfaces, start=start, extra_breakpoints=inside)
             legs.append(run_from_state(plan.model, schedule, state, plan.plugs, plan.options))
             state, start = legs[-1].final_state, legs[-1].final_state.time
         peaks: dict[str, tuple[float, float]] = {}
