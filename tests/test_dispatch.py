@@ -328,3 +328,26 @@ def test_cli_help_gives_one_example(verb, capsys):
     with pytest.raises(SystemExit):
         main([verb, "--help"])
     assert f"example:\n  heatstack {verb} " in capsys.readouterr().out
+
+
+def test_ramp_readings_rebuild_the_state_at_the_upper_energy_bound(wheel):
+    # the readings are made by the model itself at 12 MJ (a self-consistency check, no source)
+    from heatstack.operations.heat_input import stop_from_energy
+    from heatstack.questions.ramp import state_from_ramp_readings
+
+    built, plugs, model, surfaces, arrival = wheel
+
+    def duty(energy: float) -> DutyCycle:
+        stop = stop_from_energy(energy, "35 s", name="landing")
+        return DutyCycle([DutyPhase("landing", "40 s", ROLLING, [stop]), DutyPhase("taxi-in", "10 min", PARKED)])
+
+    truth = model.run(duty(12e6).schedule(surfaces), AMBIENT)
+    times = np.array([300.0, 420.0, 540.0, 640.0])
+    readings = np.interp(times, truth.times, truth.readings["sensor"]) + np.array([0.4, -0.3, 0.2, -0.2])
+    ramp = state_from_ramp_readings(model, duty, surfaces, times, readings, AMBIENT, plugs)
+    assert ramp.energy == pytest.approx(12e6, rel=0.03)
+    assert ramp.energy_used == pytest.approx(ramp.energy + 2.0 * ramp.standard_error)
+    assert ramp.standard_error > 0 and ramp.state.time == pytest.approx(640.0)
+    mass = model.network.mass()
+    assert np.dot(mass, ramp.state.temperature) > np.dot(mass, truth.final_state.temperature) - 1e-6 * mass.sum()
+    assert set(ramp.state.plug_temperatures) == {p.name for p in plugs}
