@@ -36,6 +36,10 @@ from heatstack.questions.safe_wait import (
 from heatstack.questions.whatif import cooling_time_from_state
 from heatstack.resultfile import write_result
 
+# The invented design's tyre-rubber tables end at 500 K; the hot turnarounds here pass it at
+# the bead seat, where the property is clamped to its end value (a documented soft warning).
+pytestmark = pytest.mark.filterwarnings("ignore:material 'tyre-rubber'.*outside the table")
+
 SIGMA = 5.670374419e-8  # Stefan-Boltzmann constant [W/(m^2 K^4)] (CODATA 2018)
 RHO, CP, K = 8900.0, 385.0, 400.0  # copper-like [kg/m^3], [J/(kg K)], [W/(m K)]
 R_IN, R_OUT, LENGTH = 0.05, 0.07, 0.02  # [m]
