@@ -31,8 +31,9 @@ from .numerics.options import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.heat_input import BrakingEvent
 from .property_table import forget_warnings
+from .questions.chaining import read_start, run_from_state, state_for_model
 from .report import ReportSettings, TyreSettings
-from .result import Result
+from .result import Result, State
 from .units import declared_dimensions, quantity
 
 __all__ = [
@@ -177,6 +178,11 @@ class Case:
         The case file's text.
     origin : str
         File name or ``"<string>"``.
+    initial_state : str or None
+        Results file whose final state (or snapshot, see ``initial_state_time``) the run
+        starts from, instead of ``initial_temperature`` (``[case] initial_state``).
+    initial_state_time : float or None
+        A time of that run [s] (``[case] initial_state_time``); None for its final state.
     """
 
     title: str
@@ -193,6 +199,8 @@ class Case:
     tyre: TyreSettings | None
     text: str
     origin: str
+    initial_state: str | None = None
+    initial_state_time: float | None = None
 
     def report_settings(self) -> ReportSettings:
         """What the report assesses for this case."""
@@ -536,6 +544,12 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     head = root.table("case", {})
     title = head.text("title", "untitled case")
     initial = head.quantity("initial_temperature", 288.15)
+    initial_state = head.text("initial_state", None)
+    initial_state_time = head.quantity("initial_state_time", None)
+    if initial_state is not None:
+        initial_state = str(base / initial_state)
+    elif initial_state_time is not None:
+        raise InputError("case.initial_state_time: needs case.initial_state (the earlier results file)")
     head.finish()
     materials_table = root.table("materials", {})
     materials = {
@@ -580,6 +594,8 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
         tyre,
         text,
         origin,
+        initial_state,
+        initial_state_time,
     )
 
 
@@ -632,7 +648,8 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     Result
         The run [K, s, J]; its metadata holds the case title and origin and the text of
         every warning raised while meshing and running (``metadata["warnings"]``), which
-        the report shows.
+        the report shows. With ``[case] initial_state`` it continues the earlier run on
+        its clock, the instruments and fuse plugs lagging on from where they were.
 
     Raises
     ------
@@ -645,10 +662,21 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         model = model or case.build_model()
-        schedule = case.duty.schedule(case.assembly.surfaces, reference_event=case.output.reference_event)
-        result = model.run(schedule, case.initial_temperature, case.solver, progress)
+        initial: float | State = case.initial_temperature
+        note = ""
+        if case.initial_state is not None:
+            start = read_start(case.initial_state, case.initial_state_time)
+            initial, note = state_for_model(model, start), start.note
+        schedule = case.duty.schedule(
+            case.assembly.surfaces,
+            start=initial.time if isinstance(initial, State) else 0.0,
+            reference_event=case.output.reference_event,
+        )
+        result = run_from_state(model, schedule, initial, case.fuse_plugs, case.solver, progress)
     for item in caught:  # shown as before, and kept with the result for its report
         warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
     messages = list(dict.fromkeys(str(item.message) for item in caught))
     result.metadata.update({"case_title": case.title, "case_origin": case.origin, "warnings": messages})
+    if case.initial_state is not None:
+        result.metadata.update({"initial_state": case.initial_state, "initial_state_note": note})
     return result

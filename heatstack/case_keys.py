@@ -62,6 +62,7 @@ _DECLARING_TABLES: dict[tuple[Any, ...], type] = {
 #: stands for any key).
 _CASE_KEYS: dict[tuple[Any, ...], str] = {
     ("case", "initial_temperature"): "temperature",
+    ("case", "initial_state_time"): "time",
     ("assembly", "cell_size"): "length",
     ("assembly", "cell_size_radial"): "length",
     ("assembly", "cell_size_axial"): "length",

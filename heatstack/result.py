@@ -31,11 +31,21 @@ class State:
         state starts each named probe's instrument from its reading (so a sensor that
         lagged behind the metal when the state was saved still lags); a probe not named
         starts in equilibrium with its local temperature.
+    step : float or None
+        The time step [s] the run that made this state would have taken next; a run
+        chained from the state starts with it (unless braking starts at once), so it
+        steps as the same duty run in one piece would. None: the solver's initial step.
+    plug_temperatures : dict of str to float
+        Temperature [K] of each fuse plug (the rim temperature at its probe through the
+        plug's own lag) at ``time``; a chained run's fuse-plug answer starts each named
+        plug from it instead of in equilibrium with the rim.
     """
 
     time: float
     temperature: np.ndarray
     readings: dict[str, float] = field(default_factory=dict)
+    plug_temperatures: dict[str, float] = field(default_factory=dict)
+    step: float | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -129,6 +139,9 @@ class Result:
         Instrument time constant of each probe [s].
     metadata : dict
         Free text: case text, version, solver statistics.
+    initial_plug_temperatures : dict of str to float
+        Fuse-plug temperatures [K] at the first record, for a run chained from a state
+        that carried them (empty: every plug starts in equilibrium with the rim).
     """
 
     times: np.ndarray
@@ -150,6 +163,7 @@ class Result:
     probe_positions: dict[str, tuple[float, float]] = field(default_factory=dict)
     probe_time_constants: dict[str, float] = field(default_factory=dict)
     metadata: dict = field(default_factory=dict)
+    initial_plug_temperatures: dict[str, float] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
         if self.end_of_braking is None:

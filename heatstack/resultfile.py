@@ -51,6 +51,10 @@ variable is named for what it is and carries ``units`` (UDUNITS spelling: "K", "
       final_time              scalar [s]
       cell(cell)              active-cell index [1]; temperature(cell) [K]
       lagged_probe(lagged_probe)  probes whose instrument lags (text); reading(lagged_probe) [K]
+      plug(plug)              fuse plugs (text); plug_temperature(plug) [K] through each plug's own lag
+      step                    scalar [s], optional: the next time step, for a chained run
+    /initial_plugs
+      plug(plug), plug_temperature(plug)  the same at the first record (a run chained from a state)
     /case
       text                    the case file as written by the user (text)
       resolved_inputs         JSON object of the inputs after defaults and unit conversion
@@ -258,6 +262,21 @@ def _text_variable(
     for axis, scale in enumerate(dims):
         dataset.dims[axis].attach_scale(scale)
     return dataset
+
+
+def _write_plug_temperatures(group: h5py.Group, values: Mapping[str, float], when: str) -> None:
+    """Fuse plugs (text coordinate ``plug``) and their own lagged temperatures [K] ``when``."""
+    names = _texts(tuple(values), f"{group.name} plug names")
+    plug = _coordinate(group, "plug", names, None, "fuse plug")
+    numbers = np.array([float(values[name]) for name in names], dtype=np.float64)
+    _variable(
+        group,
+        "plug_temperature",
+        _numeric(numbers, f"{group.name} plug temperatures", 1),
+        (plug,),
+        "K",
+        f"fuse-plug temperature (through the plug's own lag) {when}",
+    )
 
 
 def _coordinate(
@@ -469,6 +488,11 @@ def _write_content(
     lagged = _coordinate(final, "lagged_probe", reading_names, None, "probe whose instrument lags")
     readings = np.array([float(result.final_state.readings[name]) for name in reading_names], dtype=np.float64)
     _variable(final, "reading", readings, (lagged,), "K", "reading of the lagged probe at the final time")
+    _write_plug_temperatures(final, result.final_state.plug_temperatures, "at the final time")
+    if result.final_state.step is not None:
+        step = final.create_dataset("step", data=np.float64(result.final_state.step))
+        step.attrs.update(units="s", long_name="next time step, for a run chained from this state")
+    _write_plug_temperatures(h5.create_group("initial_plugs"), result.initial_plug_temperatures, "at the first record")
 
     case = h5.create_group("case")
     _text_variable(case, "text", case_text, "the case file as written")

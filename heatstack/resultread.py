@@ -423,7 +423,10 @@ def _read_version_2(rd: _Reader) -> Result:
         time=rd.scalar("final_time", "s", final),
         temperature=rd.array("temperature", "K", 1, final),
         readings={name: float(v) for name, v in zip(lagged, values, strict=True)},
+        plug_temperatures=_plug_temperatures(rd, final),
+        step=rd.scalar("step", "s", final) if "step" in final else None,
     )
+    initial_plugs = _plug_temperatures(rd, rd.h5["initial_plugs"]) if "initial_plugs" in rd.h5 else {}
 
     ph = rd.group("phases")
     phase_names = rd.texts("phase", ph)
@@ -454,7 +457,19 @@ def _read_version_2(rd: _Reader) -> Result:
         probe_positions=positions,
         probe_time_constants=time_constants,
         metadata=rd.json("run_metadata", case),
+        initial_plug_temperatures=initial_plugs,
     )
+
+
+def _plug_temperatures(rd: _Reader, group: h5py.Group) -> dict[str, float]:
+    """The fuse plugs' own temperatures [K] stored in ``group``; empty where absent (files before they were kept)."""
+    if "plug_temperature" not in group:
+        return {}
+    names = rd.texts("plug", group)
+    values = rd.array("plug_temperature", "K", 1, group)
+    if len(names) != values.size:
+        raise rd.fail(f"{group.name}/plug and {group.name}/plug_temperature differ in length")
+    return {name: float(v) for name, v in zip(names, values, strict=True)}
 
 
 def read_case_text(path: str | Path) -> str:

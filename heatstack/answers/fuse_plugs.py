@@ -16,7 +16,7 @@ temperature, 450.15 K (177 degC), lies at the low end of that range.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -24,11 +24,11 @@ import numpy as np
 from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..numerics.instrument import first_order_lag
-from ..result import Result
+from ..result import Result, State
 from ..units import convert_declared, declared, quantity
 from .analysis import first_reach, local_temperature, record_times
 
-__all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs", "plug_temperature", "as_fuse_plug"]
+__all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs", "plug_temperature", "as_fuse_plug", "state_with_plugs"]
 
 
 @dataclass(frozen=True)
@@ -170,7 +170,9 @@ def as_fuse_plug(item: FusePlug | FusePlugSpec) -> FusePlug:
 def plug_temperature(result: Result, plug: FusePlug | FusePlugSpec) -> np.ndarray:
     """The plug's own temperature [K] at every record time: the local rim temperature at
     its seat passed through the plug's first-order lag (the temperature its release,
-    peak and margin are judged on).
+    peak and margin are judged on). A plug starts from the result's
+    ``initial_plug_temperatures`` (a run chained from a state that carried them), else in
+    equilibrium with the rim.
 
     Raises
     ------
@@ -179,7 +181,8 @@ def plug_temperature(result: Result, plug: FusePlug | FusePlugSpec) -> np.ndarra
     """
     plug = as_fuse_plug(plug)
     local = local_temperature(result, plug.name, f"fuse plug {plug.name!r}")
-    return first_order_lag(record_times(result), local, plug.time_constant)
+    start = result.initial_plug_temperatures.get(plug.name)
+    return first_order_lag(record_times(result), local, plug.time_constant, start)
 
 
 def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) -> list[PlugAnswer]:
@@ -238,3 +241,23 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
             )
         )
     return out
+
+
+def state_with_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) -> State:
+    """The result's final state with each fuse plug's own temperature [K] at that time.
+
+    A run started from it (:mod:`heatstack.questions.chaining`) carries the plugs' own
+    lag on, instead of restarting each plug in equilibrium with the rim.
+
+    Parameters
+    ----------
+    result : Result
+    plugs : sequence of FusePlug or FusePlugSpec
+
+    Returns
+    -------
+    State
+        ``result.final_state`` with ``plug_temperatures`` filled in.
+    """
+    temperatures = {as_fuse_plug(plug).name: float(plug_temperature(result, plug)[-1]) for plug in plugs}
+    return replace(result.final_state, plug_temperatures=temperatures)

@@ -83,6 +83,7 @@ class Recorder:
         final = State(
             time=final.time,
             temperature=final.temperature,
+            step=final.step,
             readings={
                 name: float(readings[name][-1])
                 for name, tau in zip(net.probe_names, net.probe_time_constants, strict=True)

@@ -71,8 +71,9 @@ def integrate(
     if start < schedule.start - 1e-9 or start >= schedule.end:
         raise InputError(f"initial state time {start} s is outside the schedule {schedule.start}..{schedule.end} s")
     readings = _start_readings(initial) if isinstance(initial, State) else None
+    step = initial.step if isinstance(initial, State) else None
     try:
-        return Integrator(network, schedule, options, progress).run(T0, max(start, schedule.start), readings)
+        return Integrator(network, schedule, options, progress).run(T0, max(start, schedule.start), readings, step)
     except HeatstackError:
         raise
     except (FloatingPointError, ValueError, RuntimeError) as exc:
@@ -111,10 +112,18 @@ class Integrator:
         )
         self.control = StepControl(network, schedule, options, self.newton, self.stats)
 
-    def run(self, T0: np.ndarray, t_start: float, start_readings: dict[str, float] | None = None) -> Result:
+    def run(
+        self,
+        T0: np.ndarray,
+        t_start: float,
+        start_readings: dict[str, float] | None = None,
+        first_step: float | None = None,
+    ) -> Result:
         """Integrate from the field ``T0`` [K] at ``t_start`` [s] to the end of the schedule.
 
-        ``start_readings`` [K] are the instrument readings at ``t_start``.
+        ``start_readings`` [K] are the instrument readings at ``t_start``; ``first_step`` [s], the step a
+        run that made the starting state would have taken next (a chained run then steps as the run in one
+        piece would, unless heating starts at once).
         """
         net, opt, schedule, control = self.net, self.opt, self.schedule, self.control
         breakpoints = np.unique(np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float))))
@@ -130,6 +139,8 @@ class Integrator:
         rec.snapshot(t_start, T)
         t = t_start
         dt = opt.fixed_step or opt.initial_step
+        if opt.fixed_step is None and first_step and not control.heating_starts(t_start):
+            dt = min(max(float(first_step), opt.min_step), opt.max_step)
         predictor = Extrapolator()
         predictor.accept(t, T)
         for target in breakpoints:
@@ -155,7 +166,8 @@ class Integrator:
                 predictor.restart()
                 predictor.accept(t, T)
         rec.snapshot(t, T)
-        return rec.result(schedule, State(time=t, temperature=T.copy()), self.stats, start_readings)
+        final = State(time=t, temperature=T.copy(), step=float(dt))
+        return rec.result(schedule, final, self.stats, start_readings)
 
 
 def initial_field(network: Network, initial: float | Mapping[str, float] | State | np.ndarray) -> np.ndarray:

@@ -12,6 +12,18 @@ inverse
     The braking energy behind a recorded sensor trace (:func:`estimate_energy`), with the
     trace reader (sensor_trace), the convection multiplier (convection_scaling) and the
     fit helpers (fit_tools) in their own modules.
+chaining
+    Start a run from a results file's final state (or a snapshot), grid and design
+    checked, instruments and fuse plugs lagging on (:func:`chaining.run_from_state`).
+safe_wait
+    The shortest safe wait before a departure whose take-off may be rejected
+    (:func:`safe_wait.shortest_safe_wait`).
+ramp
+    A wheel state from sensor readings after a known duty, at a bound of the fitted
+    energy (:func:`ramp.state_from_ramp_readings`).
+day
+    A day of operations expanded into a chain of legs (:func:`day.run_day`); its files
+    are read by :mod:`heatstack.dayfile`.
 """
 
 from __future__ import annotations

@@ -1,0 +1,119 @@
+"""Figures of the dispatch questions: a day of operations on one time axis, and the wait's margin.
+
+:func:`plot_day` draws the day's temperature histories, flight after flight on the day's
+clock (hours), the sensor reading against the true heat-sink temperature and the fuse
+plugs, with each departure marked and, below, the governing margin if that take-off were
+rejected. :func:`plot_wait_margin` draws the governing margin of a shortest-safe-wait
+answer against the wait, every run of the search a point, the wait found marked.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+from ..geometry import HEAT_SINK_MEAN
+from ..questions.day import DayAnswer
+from ..questions.safe_wait import WaitAnswer
+from .common import check_unit, figure_target, new_figure, save_figure, to_temperature_unit
+
+__all__ = ["plot_day", "plot_wait_margin"]
+
+_SHOWN = ("sensor", HEAT_SINK_MEAN, "wheel_max")
+
+
+def _day_lines(ax, day: DayAnswer, unit: str) -> None:
+    for k, flight in enumerate(day.flights):
+        for leg in (flight.arrival, flight.departure):
+            hours = leg.times / 3600.0
+            names = [n for n in _SHOWN if n in leg.readings or n in leg.series]
+            names += [p for p in leg.probes if p.startswith("fuse plug")]
+            for i, name in enumerate(names):
+                label = name if k == 0 and leg is flight.arrival else None
+                ax.plot(hours, to_temperature_unit(leg.history(name), unit), color=f"C{i}", lw=1.2, label=label)
+        ax.axvline(flight.departure_state.time / 3600.0, color="0.4", ls="--", lw=0.8)
+        ax.text(
+            flight.departure_state.time / 3600.0, 1.0, f" dep. {flight.flight.number}",
+            transform=ax.get_xaxis_transform(), fontsize=7, va="top",
+        )  # fmt: skip
+
+
+def plot_day(day: DayAnswer, path: str | os.PathLike, unit: str = "degC") -> Path:
+    """The day's histories per flight on one time axis, and each departure's governing margin.
+
+    Parameters
+    ----------
+    day : DayAnswer
+        From :func:`~heatstack.questions.day.run_day`.
+    path : str or path-like
+        A .png or .svg file.
+    unit : str
+        Temperature unit shown (``"degC"``, ``"degF"``, ``"K"``).
+
+    Returns
+    -------
+    Path
+        The file written.
+    """
+    if not isinstance(day, DayAnswer):
+        raise InputError(f"day: expected a DayAnswer, got {type(day).__name__}")
+    unit = check_unit(unit)
+    target, fmt = figure_target(path)
+    margins = [(f.departure_state.time / 3600.0, f.departure_margin) for f in day.flights if f.departure_margin]
+    fig = new_figure(10.0, 6.5 if margins else 4.5)
+    axes = fig.subplots(2 if margins else 1, 1, sharex=True, squeeze=False, height_ratios=[3, 1] if margins else None)
+    ax = axes[0, 0]
+    _day_lines(ax, day, unit)
+    ax.set_ylabel(f"temperature [{unit}]")
+    ax.set_title(day.title, fontsize=10)
+    ax.legend(fontsize=7, loc="upper right")
+    ax.grid(alpha=0.3)
+    if margins:
+        low = axes[1, 0]
+        x = [m[0] for m in margins]
+        y = [m[1].margin for m in margins]
+        low.bar(x, y, width=0.08, color=["C2" if v >= 0 else "C3" for v in y])
+        for xi, (_, m) in zip(x, margins, strict=True):
+            low.annotate(m.governing, (xi, m.margin), fontsize=7, ha="center", va="bottom" if m.margin >= 0 else "top")
+        low.axhline(0.0, color="k", lw=0.8)
+        low.set_ylabel("margin if rejected [K]")
+        low.grid(alpha=0.3)
+        axes[-1, 0].set_xlabel("time of day [h]")
+    else:
+        ax.set_xlabel("time of day [h]")
+    return save_figure(fig, target, fmt)
+
+
+def plot_wait_margin(answer: WaitAnswer, path: str | os.PathLike) -> Path:
+    """The governing margin against the wait before departure, with the wait found.
+
+    Parameters
+    ----------
+    answer : WaitAnswer
+        From :func:`~heatstack.questions.safe_wait.shortest_safe_wait`.
+    path : str or path-like
+        A .png or .svg file.
+
+    Returns
+    -------
+    Path
+    """
+    if not isinstance(answer, WaitAnswer):
+        raise InputError(f"answer: expected a WaitAnswer, got {type(answer).__name__}")
+    target, fmt = figure_target(path)
+    fig = new_figure(7.5, 4.5)
+    ax = fig.subplots()
+    waits = np.array([s.wait for s in answer.samples]) / 60.0
+    margins = np.array([s.margin for s in answer.samples])
+    ax.plot(waits, margins, "o-", color="C0", ms=4, label="governing margin (K; 0.1 bar counts as 1)")
+    ax.axhline(0.0, color="k", lw=0.8)
+    ax.axvline(answer.wait / 60.0, color="C3", ls="--", label=f"shortest safe wait {answer.wait / 60.0:.1f} min")
+    ax.set_xlabel("wait before departure [min]")
+    ax.set_ylabel("margin if the take-off is rejected")
+    ax.set_title(f"governed by {answer.governing}", fontsize=10)
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
+    return save_figure(fig, target, fmt)
