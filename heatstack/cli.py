@@ -2,7 +2,7 @@
 
 Verbs: ``run`` a case, ``check`` a case (parts, cells, layout drawing), ``report`` on a
 results file, ``plot`` a results file, ``fit`` the braking energy to a recorded sensor
-trace, run or resume a ``study``, list ``materials``, run the ``demo``.
+trace, ``calibrate`` a case to measured test traces, run or resume a ``study``, list ``materials``, run the ``demo``.
 
 Exit codes: 0 success, 2 bad input (a heatstack input error), 1 internal error. User
 errors print one clear line, never a traceback.
@@ -216,6 +216,29 @@ def _cmd_fit(args: argparse.Namespace) -> int:
     return 0 if estimate.converged else 1
 
 
+def _cmd_calibrate(args: argparse.Namespace) -> int:
+    from .questions.calibrate import calibrate, fit_summary, write_calibration_outputs
+    from .questions.calibration_file import load_calibration
+
+    calibration = load_calibration(args.calibration)
+    out = Path(args.out) if args.out else Path(args.calibration).with_suffix(".calibrated")
+    if out.exists() and not out.is_dir():
+        raise InputError(f"--out: {str(out)!r} is not a folder")
+    if not args.quiet:
+        print(
+            f"heatstack: {calibration.title}: {len(calibration.runs)} runs, {len(calibration.parameters)} parameters, "
+            f"{calibration.n_points} readings",
+            file=sys.stderr,
+        )
+    run = calibrate(calibration)
+    print(run.fit.message)
+    print(fit_summary(run.fit, run.identifiability))
+    print(run.identifiability.statement)
+    for path in write_calibration_outputs(run, out):
+        print(f"wrote: {path}")
+    return 0 if run.fit.converged else 1
+
+
 def _cmd_study(args: argparse.Namespace) -> int:
     from .studies import LocalExecutor, load_study, run_study, sensitivity, study_report
     from .studies.plots import plot_margin_histogram, plot_tornado
@@ -314,6 +337,12 @@ def _parser() -> argparse.ArgumentParser:
     fit.add_argument("trace", help="CSV: time_<unit>,temperature_<unit>")
     fit.add_argument("--sensor", default="sensor", help="probe the trace was read from (default: %(default)s)")
     fit.set_defaults(func=_cmd_fit)
+
+    calibrate = verbs.add_parser("calibrate", help="fit a case's uncertain parameters to measured test traces")
+    calibrate.add_argument("calibration", help="calibration file (TOML: base case, runs with traces, parameters)")
+    calibrate.add_argument("--out", help="folder for the calibrated case, reports and figure (default: FILE.calibrated)")
+    calibrate.add_argument("--quiet", action="store_true")
+    calibrate.set_defaults(func=_cmd_calibrate)
 
     study = verbs.add_parser("study", help="run or resume a sweep or Monte Carlo study")
     study.add_argument("study", help="study file (TOML with a [study] table and its base_case)")

@@ -31,13 +31,13 @@ TRUTH = {
 }
 #: Invented runs: duty overrides (SI) and the thermocouples read.
 RUNS = (
-    ("stop 1", {"duty.phases[0].events[0].energy": 1.0e6, "duty.phases[1].environment.wind_speed": 1.0}),
-    ("stop 2", {"duty.phases[0].events[0].energy": 1.5e6, "duty.phases[1].environment.wind_speed": 2.0}),
-    ("stop 3", {"duty.phases[0].events[0].energy": 2.0e6, "duty.phases[1].environment.wind_speed": 4.0}),
+    ("stop 1", {"duty.phases[0].events[0].energy": 1.0e6, "duty.phases[2].environment.wind_speed": 1.0}),
+    ("stop 2", {"duty.phases[0].events[0].energy": 1.5e6, "duty.phases[2].environment.wind_speed": 2.0}),
+    ("stop 3", {"duty.phases[0].events[0].energy": 2.0e6, "duty.phases[2].environment.wind_speed": 4.0}),
 )
 #: Thermocouple declared in the calibration file (r, z, part) as well as the sensor.
 THERMOCOUPLE = {"name": "tc stator", "r": 0.15, "z": 0.035, "part": "stator"}
-NOISE = 0.5  # standard deviation of the invented measurement noise [K]
+NOISE = 1.0  # standard deviation of the invented measurement noise [K]
 SAMPLE_TIMES = np.arange(0.0, 900.0 + 1e-9, 10.0)  # [s]
 
 
@@ -48,8 +48,8 @@ def synthetic_readings(
     probes: Sequence[str],
     times: np.ndarray,
     *,
-    cell_size: float = 0.005,
-    target_change: float = 1.0,
+    cell_size: float = 0.00125,
+    target_change: float = 0.5,
     extra_probes: Sequence[Mapping] = (),
 ) -> list[np.ndarray]:
     """Noise-free readings of ``probes`` at ``times`` [K] from a finer run of the base case."""

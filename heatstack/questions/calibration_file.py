@@ -317,8 +317,25 @@ def _prior(data: Any, dimension: str, where: str) -> Prior:
     return Prior(kind, center, spread)
 
 
-def _parameter(data: Any, k: int, base: Mapping, run_names: tuple[str, ...]) -> FitParameter:
+def _trial_parse(calibration: Calibration, paths: tuple[tuple[Token, ...], ...], value: float, where: str) -> None:
+    """A key the base case lacks must be one the case accepts: parse the base case with it set."""
+    base = calibration.base_mapping
+    missing = [path for path in paths if value_at(base, path) is MISSING]
+    if not missing:
+        return
+    trial = copy.deepcopy(base)
+    for path in missing:
+        set_value_at(trial, path, value)
+    try:
+        case_from_mapping(trial, calibration.base_text, calibration.base_origin, calibration.base_dir)
+    except HeatstackError as exc:
+        hint = closest_path_hint(base, format_path(missing[0]))
+        raise InputError(f"{where}: {format_path(missing[0])!r} does not exist in the base case{hint} ({exc})") from None
+
+
+def _parameter(data: Any, k: int, calibration: Calibration, run_names: tuple[str, ...]) -> FitParameter:
     where = f"parameters[{k}]"
+    base = calibration.base_mapping
     data = _table(data, where)
     _check_keys(data, ("name", "path", "start", "lower", "upper", "prior", "run"), where)
     raw_paths = _required(data, "path", where)
@@ -336,6 +353,7 @@ def _parameter(data: Any, k: int, base: Mapping, run_names: tuple[str, ...]) -> 
         raise InputError(
             f"{where}.start: {raw['start']!r} lies outside the bounds [{raw['lower']!r}, {raw['upper']!r}]"
         )
+    _trial_parse(calibration, paths, start, f"{where}.path")
     prior = _prior(data["prior"], dimension, f"{where}.prior") if "prior" in data else None
     if prior is not None and prior.kind == "lognormal" and not lower > 0:
         raise InputError(f"{where}.prior: a lognormal prior needs a lower bound above zero")
@@ -499,7 +517,7 @@ def _calibration(data: Mapping, origin: str, folder: Path) -> Calibration:
     params_data = data.get("parameters", [])
     if not isinstance(params_data, list) or not params_data:
         raise InputError("parameters: at least one parameter to fit ([[parameters]]) is needed")
-    parameters = tuple(_parameter(p, k, base_mapping, names) for k, p in enumerate(params_data))
+    parameters = tuple(_parameter(p, k, calibration, names) for k, p in enumerate(params_data))
     if len({p.name for p in parameters}) != len(parameters):
         raise InputError("parameters: parameter names must be unique")
     n_points = sum(t.times.size for run in runs for t in run.traces)

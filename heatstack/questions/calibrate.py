@@ -1,0 +1,120 @@
+"""The whole calibration: fit, what the data tell, answers with intervals, then the files (all or nothing).
+
+:func:`calibrate` runs every step on one executor and returns a :class:`CalibrationRun`;
+:func:`write_calibration_outputs` writes the calibrated case, the text and markdown
+reports and the figure, each atomically, only after every step has succeeded.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..atomic import write_file_atomically
+from ..errors import InputError
+from ..studies.executors import StudyExecutor
+from .calibrated_case import calibrated_case_text, write_calibrated_case
+from .calibration import CalibrationFit, fit_calibration, make_executor, sampled_answers
+from .calibration_file import Calibration
+from .calibration_report import (
+    CalibrationAnswers,
+    answer_intervals,
+    format_calibration_report,
+    plot_calibration,
+)
+from .identifiability import Identifiability, Profile, identifiability, profile_parameter
+
+__all__ = ["CalibrationRun", "calibrate", "write_calibration_outputs", "fit_summary"]
+
+
+@dataclass(frozen=True, eq=False)
+class CalibrationRun:
+    """Everything a calibration found.
+
+    Attributes
+    ----------
+    calibration : Calibration
+    fit : CalibrationFit
+    identifiability : Identifiability
+    answers : CalibrationAnswers or None
+        None when ``prediction_samples`` is 0.
+    profile : Profile or None
+    """
+
+    calibration: Calibration
+    fit: CalibrationFit
+    identifiability: Identifiability
+    answers: CalibrationAnswers | None
+    profile: Profile | None
+
+
+def calibrate(calibration: Calibration, executor: StudyExecutor | None = None) -> CalibrationRun:
+    """Fit, assess and predict (see :mod:`heatstack.questions.calibration`).
+
+    Parameters
+    ----------
+    calibration : Calibration
+    executor : StudyExecutor, optional
+        By default the one the file's ``[fit]`` names, closed afterwards.
+
+    Raises
+    ------
+    InputError
+        An unreachable Dask scheduler (before any run).
+    CalibrationFitError
+        A run failed.
+    """
+    settings = calibration.settings
+    owned = executor is None
+    runner = make_executor(settings.executor, settings.workers, settings.timeout) if owned else executor
+    try:
+        runner.start()
+        fit = fit_calibration(calibration, runner)
+        ident = identifiability(fit)
+        profile = None
+        if settings.profile is not None:
+            profile = profile_parameter(calibration, fit, settings.profile, runner)
+        answers = None
+        if settings.prediction_samples > 0:
+            names, at_fit, draws = sampled_answers(calibration, fit, runner, settings.prediction_samples)
+            answers = answer_intervals(names, at_fit, draws)
+    finally:
+        if owned:
+            runner.close()
+    return CalibrationRun(calibration, fit, ident, answers, profile)
+
+
+def write_calibration_outputs(run: CalibrationRun, folder: str | os.PathLike) -> tuple[Path, ...]:
+    """Write ``calibrated-case.toml``, ``calibration-report.txt``, ``.md`` and ``calibration-traces.png``.
+
+    Raises
+    ------
+    InputError
+        If ``folder`` exists and is not a folder.
+    ResultFileError
+        If a file cannot be written (files already written are complete).
+    """
+    folder = Path(folder)
+    if folder.exists() and not folder.is_dir():
+        raise InputError(f"--out: {str(folder)!r} is not a folder")
+    folder.mkdir(parents=True, exist_ok=True)
+    c, fit, ident = run.calibration, run.fit, run.identifiability
+    calibrated_case_text(c, fit, ident)  # fails before anything is written if a value cannot be
+    text = format_calibration_report(c, fit, ident, run.answers, run.profile)
+    markdown = format_calibration_report(c, fit, ident, run.answers, run.profile, markdown=True)
+    written = [write_calibrated_case(folder / "calibrated-case.toml", c, fit, ident)]
+    for name, body in (("calibration-report.txt", text), ("calibration-report.md", markdown)):
+        written.append(write_file_atomically(folder / name, lambda t, b=body: Path(t).write_text(b, encoding="utf-8"),
+                                             "report file"))  # fmt: skip
+    written.append(plot_calibration(c, fit, folder / "calibration-traces.png"))
+    return tuple(written)
+
+
+def fit_summary(fit: CalibrationFit, ident: Identifiability) -> str:
+    """One line per parameter: value, interval, determined."""
+    lines = []
+    for k, p in enumerate(fit.parameters):
+        state = "" if ident.determined[k] else "  NOT DETERMINED by the traces"
+        lines.append(f"{p.name}: {fit.values[k]:.5g} (95 %: {fit.lower_95[k]:.4g} to {fit.upper_95[k]:.4g}){state}")
+    return "\n".join(lines)
