@@ -185,11 +185,14 @@ def _cmd_plot(args: argparse.Namespace) -> int:
 
 def _cmd_fit(args: argparse.Namespace) -> int:
     from .case import load_case
-    from .questions.inverse import estimate_energy
     from .questions.sensor_trace import read_sensor_trace
 
     case = load_case(args.case)
     t, T = read_sensor_trace(args.trace)
+    if args.sensor_time_constant_sd is not None or args.contact_conductance_sd is not None:
+        return _fit_with_inputs(args, case, t, T)
+    from .questions.inverse import estimate_energy
+
     model = case.build_model()
     estimate = estimate_energy(
         model,
@@ -206,6 +209,11 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {estimate.standard_error / 1e6:.3f} MJ "
         f"(1 standard error; {state}; {estimate.n_runs} runs; residual rms {estimate.residual_rms:.2f} K)"
     )
+    _print_fit_details(estimate, case)
+    return 0 if estimate.converged else 1
+
+
+def _print_fit_details(estimate, case) -> None:
     if estimate.message:
         print(estimate.message)
     predicted = estimate.predicted
@@ -213,6 +221,29 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         if name in predicted.readings or name in predicted.series:
             value, when = predicted.peak(name)
             print(f"  predicted {name:16s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min")
+
+
+def _fit_with_inputs(args: argparse.Namespace, case, t, T) -> int:
+    from .questions.honest_energy import energy_with_input_uncertainty
+    from .units import to_si
+
+    tau_sd = None
+    if args.sensor_time_constant_sd is not None:
+        tau_sd = to_si(args.sensor_time_constant_sd, None, "time", "--sensor-time-constant-sd")
+    honest = energy_with_input_uncertainty(case, t, T, args.sensor, tau_sd, args.contact_conductance_sd)
+    estimate = honest.estimate
+    state = "converged" if estimate.converged else "NOT converged"
+    print(
+        f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {honest.standard_deviation / 1e6:.3f} MJ "
+        f"(1 standard deviation, trace scatter and uncertain inputs; {state})"
+    )
+    print(f"  from the trace scatter: +/- {estimate.standard_error / 1e6:.3f} MJ")
+    for part in honest.contributions:
+        print(
+            f"  from the {part.name}: +/- {part.standard_deviation / 1e6:.3f} MJ "
+            f"(refits {part.energy_low / 1e6:.3f} and {part.energy_high / 1e6:.3f} MJ)"
+        )
+    _print_fit_details(estimate, case)
     return 0 if estimate.converged else 1
 
 
@@ -336,11 +367,19 @@ def _parser() -> argparse.ArgumentParser:
     fit.add_argument("case", help="case file whose duty the trace followed")
     fit.add_argument("trace", help="CSV: time_<unit>,temperature_<unit>")
     fit.add_argument("--sensor", default="sensor", help="probe the trace was read from (default: %(default)s)")
+    fit.add_argument("--sensor-time-constant-sd", help="treat the sensor time constant as uncertain, e.g. '5 s' (1 sd)")
+    fit.add_argument(
+        "--contact-conductance-sd",
+        type=float,
+        help="treat every contact conductance as uncertain by this relative 1 sd, e.g. 0.3",
+    )
     fit.set_defaults(func=_cmd_fit)
 
     calibrate = verbs.add_parser("calibrate", help="fit a case's uncertain parameters to measured test traces")
     calibrate.add_argument("calibration", help="calibration file (TOML: base case, runs with traces, parameters)")
-    calibrate.add_argument("--out", help="folder for the calibrated case, reports and figure (default: FILE.calibrated)")
+    calibrate.add_argument(
+        "--out", help="folder for the calibrated case, reports and figure (default: FILE.calibrated)"
+    )
     calibrate.add_argument("--quiet", action="store_true")
     calibrate.set_defaults(func=_cmd_calibrate)
 

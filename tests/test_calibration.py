@@ -24,7 +24,6 @@ from heatstack.questions.calibrated_case import read_calibration_block, toml_tex
 from heatstack.questions.calibration import fit_calibration
 from heatstack.questions.calibration_file import load_calibration
 from heatstack.questions.calibration_report import runs_test
-from heatstack.questions.identifiability import identifiability
 from heatstack.studies.executors import SerialExecutor
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -42,7 +41,11 @@ TRUTH_PATHS = {
 }
 TIMES = np.arange(0.0, 300.0 + 1e-9, 6.0)
 ENERGIES = (0.4e6, 0.6e6)
-NOISE = 1.0  # K
+#: The coverage trials' cheaper run: one stop, one minute of cooling, coarse steps.
+SHORT_TIMES = np.arange(0.0, 50.0 + 1e-9, 1.0)
+SHORT_OVERRIDES = '"duty.phases[1].duration" = "40 s"\n"solver.target_change" = "4 K"'
+
+NOISE = 2.0  # K
 
 PARAMETERS = """
 [[parameters]]
@@ -70,31 +73,35 @@ upper = "3 m"
 """
 
 
-def _run_block(k: int, energy: float, sensor_file: str, tc_file: str, sigma: float = NOISE) -> str:
+def _run_block(k: int, energy: float, sensor_file: str, tc_file: str, overrides: str) -> str:
     return f"""
 [[runs]]
 name = "stop {k}"
 [runs.overrides]
 "duty.phases[0].events[0].energy" = {energy}
+{overrides}
 [[runs.traces]]
 file = "{sensor_file}"
 probe = "sensor"
-uncertainty = "{sigma} K"
+uncertainty = "{NOISE} K"
 [[runs.traces]]
 file = "{tc_file}"
 probe = "tc rotor"
-uncertainty = "{sigma} K"
+uncertainty = "{NOISE} K"
 """
 
 
-def _campaign(folder: Path, clean: list[list[np.ndarray]], seed: int, extra: str = "", fit: str = "") -> Path:
+def _campaign(
+    folder: Path, clean: list[list[np.ndarray]], seed: int, extra: str = "", fit: str = "", short: bool = False
+) -> Path:
     rng = np.random.default_rng(seed)
     (folder / "tiny.toml").write_text(BASE, encoding="utf-8")
     runs = ""
-    for k, (energy, readings) in enumerate(zip(ENERGIES, clean, strict=True), start=1):
+    times, overrides = (SHORT_TIMES, SHORT_OVERRIDES) if short else (TIMES, "")
+    for k, (energy, readings) in enumerate(zip(ENERGIES, clean, strict=False), start=1):
         for probe, values in zip(("sensor", "tc"), readings, strict=True):
-            write_trace(folder / f"s{k}_{probe}.csv", TIMES, values + rng.normal(0, NOISE, values.size), "synthetic")
-        runs += _run_block(k, energy, f"s{k}_sensor.csv", f"s{k}_tc.csv")
+            write_trace(folder / f"s{k}_{probe}.csv", times, values + rng.normal(0, NOISE, values.size), "synthetic")
+        runs += _run_block(k, energy, f"s{k}_sensor.csv", f"s{k}_tc.csv", overrides)
     text = f'[calibration]\ntitle = "synthetic"\nbase_case = "tiny.toml"\n[fit]\nexecutor = "serial"\n' \
            f'prediction_samples = 4\n{fit}\n{PARAMETERS}{extra}{runs}'  # fmt: skip
     path = folder / "campaign.toml"
@@ -102,20 +109,33 @@ def _campaign(folder: Path, clean: list[list[np.ndarray]], seed: int, extra: str
     return path
 
 
-def _clean(fine: bool) -> list[list[np.ndarray]]:
-    """Noise-free readings at the truth: fine grid and tight steps (fine) or the fit's own model."""
-    options = {"cell_size": 0.005, "target_change": 1.0} if fine else {"cell_size": 0.01, "target_change": 4.0}
+def _clean_fine() -> list[list[np.ndarray]]:
+    """Noise-free readings at the truth, on a finer grid and with tighter steps than the fit's."""
     return [
-        synthetic_readings(BASE, TRUTH_PATHS, {"duty.phases[0].events[0].energy": e}, ("sensor", "tc rotor"), TIMES,
-                           **options)  # fmt: skip
+        synthetic_readings(
+            BASE,
+            TRUTH_PATHS,
+            {"duty.phases[0].events[0].energy": e},
+            ("sensor", "tc rotor"),
+            TIMES,
+            cell_size=0.005,
+            target_change=0.5,
+        )  # fmt: skip
         for e in ENERGIES
     ]
+
+
+def _clean_short() -> list[list[np.ndarray]]:
+    """Noise-free readings of the coverage trials' single short run, from the fit's own model."""
+    overrides = {"duty.phases[0].events[0].energy": ENERGIES[0], "duty.phases[1].duration": 40.0}
+    return [synthetic_readings(BASE, TRUTH_PATHS, overrides, ("sensor", "tc rotor"), SHORT_TIMES,
+                               cell_size=0.01, target_change=4.0)]  # fmt: skip
 
 
 @pytest.fixture(scope="module")
 def recovered(tmp_path_factory):
     folder = tmp_path_factory.mktemp("recovery")
-    path = _campaign(folder, _clean(fine=True), seed=7, extra=GUARD)
+    path = _campaign(folder, _clean_fine(), seed=7, extra=GUARD)
     calibration = load_calibration(path)
     return calibration, calibrate(calibration, SerialExecutor()), folder
 
@@ -169,17 +189,17 @@ def test_toml_writer_round_trips_the_base_case():
 
 def test_interval_coverage_near_nominal_in_repeated_trials(tmp_path):
     # 95 % linearised intervals (Seber & Wild 1989, sec. 5.1) on data from the fit's own model
-    # (the interval's coverage, not the model error, is tested); 24 seeds, each parameter: the
-    # count covered must be within binomial noise of 0.95 * 24 = 22.8 (P(X <= 19) ~ 3 % at p = 0.95).
-    clean = _clean(fine=False)
-    trials, covered = 24, np.zeros(2)
+    # (the interval's coverage, not the model error, is tested); 20 seeds, each parameter: the
+    # count covered must be within binomial noise of 0.95 * 20 = 19 (P(X <= 16) ~ 1.6 % at p = 0.95).
+    clean = _clean_short()
+    trials, covered = 20, np.zeros(2)
     for seed in range(trials):
-        path = _campaign(tmp_path, clean, seed=100 + seed, fit="max_evaluations = 12")
+        path = _campaign(tmp_path, clean, seed=100 + seed, fit="max_evaluations = 12", short=True)
         calibration = load_calibration(path)
         fit = fit_calibration(calibration, SerialExecutor(), start=[TRUTH["contact"], TRUTH["tau"]])
         for k, name in enumerate(("contact", "tau")):
             covered[k] += fit.lower_95[k] <= TRUTH[name] <= fit.upper_95[k]
-    assert np.all(covered >= 20), covered
+    assert np.all(covered >= 17), covered
 
 
 # ---------------------------------------------------------------------------- bad input
@@ -242,3 +262,17 @@ def test_cli_bad_path_exits_2_and_writes_nothing(campaign, capsys):
     assert main(["calibrate", str(campaign), "--out", str(out)]) == 2
     assert "does not exist in the base case" in capsys.readouterr().err
     assert not out.exists()
+
+
+def test_energy_interval_grows_when_sensor_lag_and_contacts_are_uncertain(tmp_path):
+    # First-order propagation of independent inputs: JCGM 100:2008 (GUM), sec. 5.1.2.
+    from heatstack.questions.honest_energy import energy_with_input_uncertainty
+
+    (tmp_path / "tiny.toml").write_text(BASE.replace('duration = "5 min"', 'duration = "40 s"'), encoding="utf-8")
+    case = parse_case((tmp_path / "tiny.toml").read_text(), "tiny", tmp_path)
+    clean = _clean_short()[0][0]
+    readings = clean + np.random.default_rng(5).normal(0.0, NOISE, clean.size)
+    honest = energy_with_input_uncertainty(case, SHORT_TIMES, readings, "sensor", 5.0, 0.3)
+    assert [c.name for c in honest.contributions] == ["sensor time constant", "contact conductances"]
+    assert all(c.standard_deviation > 0 for c in honest.contributions)
+    assert honest.standard_deviation > honest.estimate.standard_error

@@ -27,6 +27,7 @@ TRUTH = {
     "assembly.contacts[0].clamped": 3000.0,
     "assembly.contacts[0].released": 300.0,
     "assembly.contacts[1].clamped": 550.0,
+    "assembly.contacts[1].released": 550.0,
     "assembly.probes[0].time_constant": 12.0,
 }
 #: Invented runs: duty overrides (SI) and the thermocouples read.

@@ -11,17 +11,31 @@ whatif
 inverse
     The braking energy behind a recorded sensor trace (:func:`estimate_energy`), with the
     trace reader (sensor_trace), the convection multiplier (convection_scaling) and the
-    fit helpers (fit_tools) in their own modules.
+    fit helpers (fit_tools) in their own modules; honest_energy widens its interval for an
+    uncertain sensor time constant and contact conductances.
+calibrate
+    The case's uncertain parameters fitted to measured test traces (:func:`calibrate`): the
+    file (calibration_file), the fit (calibration), what the data tell (identifiability),
+    the calibrated case (calibrated_case) and the report (calibration_report). Uses the
+    study machinery (:mod:`heatstack.studies`: key paths, executors), which never imports
+    this package.
 """
 
 from __future__ import annotations
 
+from .calibrate import CalibrationRun, calibrate, write_calibration_outputs
+from .calibration_file import Calibration, load_calibration
 from .convection_scaling import ScaledConvection, scale_convection
 from .inverse import EnergyEstimate, FitError, estimate_energy, predict_from_estimate
 from .sensor_trace import read_sensor_trace
 from .whatif import CoolingAnswer, WhatIfAnswer, cooling_time_from_state, history_names, what_if
 
 __all__ = [
+    "Calibration",
+    "CalibrationRun",
+    "calibrate",
+    "load_calibration",
+    "write_calibration_outputs",
     "CoolingAnswer",
     "EnergyEstimate",
     "FitError",

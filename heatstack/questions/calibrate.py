@@ -11,11 +11,23 @@ import os
 from dataclasses import dataclass
 from pathlib import Path
 
+import numpy as np
+
 from ..atomic import write_file_atomically
 from ..errors import InputError
 from ..studies.executors import StudyExecutor
 from .calibrated_case import calibrated_case_text, write_calibrated_case
-from .calibration import CalibrationFit, fit_calibration, make_executor, sampled_answers
+from .calibration import (
+    CalibrationFit,
+    CalibrationFitError,
+    CalibrationJob,
+    Evaluator,
+    fit_calibration,
+    from_internal,
+    make_executor,
+    parameter_mapping,
+    to_internal,
+)
 from .calibration_file import Calibration
 from .calibration_report import (
     CalibrationAnswers,
@@ -25,7 +37,7 @@ from .calibration_report import (
 )
 from .identifiability import Identifiability, Profile, identifiability, profile_parameter
 
-__all__ = ["CalibrationRun", "calibrate", "write_calibration_outputs", "fit_summary"]
+__all__ = ["CalibrationRun", "calibrate", "write_calibration_outputs", "fit_summary", "sampled_answers"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -118,3 +130,56 @@ def fit_summary(fit: CalibrationFit, ident: Identifiability) -> str:
         state = "" if ident.determined[k] else "  NOT DETERMINED by the traces"
         lines.append(f"{p.name}: {fit.values[k]:.5g} (95 %: {fit.lower_95[k]:.4g} to {fit.upper_95[k]:.4g}){state}")
     return "\n".join(lines)
+
+
+def sampled_answers(
+    calibration: Calibration,
+    fit: CalibrationFit,
+    executor: StudyExecutor,
+    samples: int,
+    seed: int = 0,
+) -> tuple[tuple[str, ...], np.ndarray, np.ndarray]:
+    """The base case's answers at the fit and at draws of the parameters from their covariance.
+
+    Per-run parameters stay at their base-case values. Directions the data do not
+    determine (infinite variance) are drawn uniformly within the bounds.
+
+    Returns
+    -------
+    (names, at_fit, draws)
+        Answer names, their values at the fit [SI], and one row per draw (NaN where a
+        draw lacks an answer).
+    """
+    params = calibration.parameters
+    shared = [j for j, p in enumerate(params) if p.run is None]
+    rng = np.random.default_rng(seed)
+    cov = fit.covariance[np.ix_(shared, shared)]
+    finite = np.all(np.isfinite(cov), axis=0)
+    points = [fit.internal]
+    for _ in range(samples):
+        u = fit.internal.copy()
+        idx = [shared[k] for k in np.flatnonzero(finite)]
+        if idx:
+            u[idx] = rng.multivariate_normal(fit.internal[idx], fit.covariance[np.ix_(idx, idx)])
+        for k in np.flatnonzero(~finite):
+            p = params[shared[k]]
+            u[shared[k]] = rng.uniform(to_internal(p, p.lower), to_internal(p, p.upper))
+        for j, p in enumerate(params):
+            u[j] = np.clip(u[j], to_internal(p, p.lower), to_internal(p, p.upper))
+        points.append(u)
+    base = calibration.base_mapping
+    jobs = []
+    for u in points:
+        values = [from_internal(p, x) for p, x in zip(params, u, strict=True)]
+        mapping = parameter_mapping(base, params, values, None)
+        jobs.append(CalibrationJob(mapping, calibration.base_text, calibration.base_origin,
+                                   str(calibration.base_dir), summary=True))  # fmt: skip
+    outcomes = Evaluator(calibration, executor).run_jobs(jobs)
+    if outcomes[0].error:
+        raise CalibrationFitError(f"the base case at the fitted values failed: {outcomes[0].error}")
+    names = outcomes[0].names
+    draws = np.full((samples, len(names)), np.nan)
+    for k, outcome in enumerate(outcomes[1:]):
+        lookup = dict(zip(outcome.names, outcome.values, strict=True))
+        draws[k] = [lookup.get(name, np.nan) for name in names]
+    return names, outcomes[0].values, draws

@@ -27,8 +27,14 @@ from .calibration import CalibrationFit, parameter_mapping
 from .calibration_file import Calibration
 from .identifiability import Identifiability
 
-__all__ = ["MACHINE_PREFIX", "toml_text", "calibrated_case_text", "write_calibrated_case", "read_calibration_block",
-           "values_by_name"]
+__all__ = [
+    "MACHINE_PREFIX",
+    "toml_text",
+    "calibrated_case_text",
+    "write_calibrated_case",
+    "read_calibration_block",
+    "values_by_name",
+]
 
 #: Prefix of the machine-readable comment line of a calibrated case.
 MACHINE_PREFIX = "# heatstack-calibration: "
@@ -105,7 +111,9 @@ def calibrated_case_text(calibration: Calibration, fit: CalibrationFit, ident: I
         unit = SI_UNITS.get(p.dimension, "")
         where = ", ".join(format_path(path) for path in p.paths)
         note = "" if shared[k] else f" (run {p.run!r} only; not written below)"
-        lines.append(f"#   {p.name} [{where}] = {_interval_text(fit.values[k], fit.lower_95[k], fit.upper_95[k], unit)}{note}")
+        lines.append(
+            f"#   {p.name} [{where}] = {_interval_text(fit.values[k], fit.lower_95[k], fit.upper_95[k], unit)}{note}"
+        )
         records.append({
             "name": p.name, "paths": [format_path(path) for path in p.paths], "unit": unit, "run": p.run,
             "value": float(fit.values[k]),

@@ -30,7 +30,7 @@ from __future__ import annotations
 import hashlib
 import json
 import logging
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -58,7 +58,6 @@ __all__ = [
     "to_internal",
     "from_internal",
     "parameter_mapping",
-    "sampled_answers",
     "Evaluator",
 ]
 
@@ -66,6 +65,8 @@ log = logging.getLogger(__name__)
 
 #: Forward-difference step of the Jacobian in the fitted coordinate ``u`` [-].
 FD_STEP = 0.02
+#: Relative step and cost-change tolerances of the fit: finer than the runs' own step-control noise is not sought.
+XTOL, FTOL = 1e-4, 1e-6
 Z95 = 1.959963984540054  # two-sided 95 % normal quantile
 
 _MODELS: dict[str, Any] = {}
@@ -153,7 +154,8 @@ def run_calibration_job(job: CalibrationJob) -> CalibrationOutcome:
         case = case_from_mapping(job.mapping, job.text, job.origin, Path(job.base_dir))
         result = run_case(case, _model(case, job.mapping))
         readings = tuple(
-            np.interp(times, result.times, result.history(probe)) for probe, times in zip(job.probes, job.times)
+            np.interp(times, result.times, result.history(probe))
+            for probe, times in zip(job.probes, job.times, strict=True)
         )
         pairs: list[tuple[str, float]] = []
         if job.summary:
@@ -309,7 +311,9 @@ class Evaluator:
         table: list[list[Any]] = [[None] * len(runs) for _ in points]
         for (k, r), outcome in zip(where, outcomes, strict=True):
             if outcome.error:
-                values = ", ".join(f"{p.name}={from_internal(p, x):.5g}" for p, x in zip(self.parameters, points[k]))
+                values = ", ".join(
+                    f"{p.name}={from_internal(p, x):.5g}" for p, x in zip(self.parameters, points[k], strict=True)
+                )
                 raise CalibrationFitError(f"run {runs[r].name!r} failed at {values}: {outcome.error}")
             table[k][r] = list(outcome.readings)
         return table
@@ -348,6 +352,7 @@ class _Problem:
         self.ev = evaluator
         self.cache: dict[bytes, list[Any]] = {}
         self.best: tuple[float, np.ndarray] | None = None
+        self.last_jacobian: tuple[bytes, np.ndarray] | None = None
 
     def base(self, u: np.ndarray) -> list[Any]:
         key = np.asarray(u, dtype=float).tobytes()
@@ -367,6 +372,9 @@ class _Problem:
         return out
 
     def data_jacobian(self, u: np.ndarray) -> np.ndarray:
+        key = np.asarray(u, dtype=float).tobytes()
+        if self.last_jacobian is not None and self.last_jacobian[0] == key:
+            return self.last_jacobian[1]
         base = self.base(u)
         points, runs_of, steps = [], [], []
         for j in range(len(u)):
@@ -383,7 +391,9 @@ class _Problem:
         for j, row in enumerate(table):
             merged = [row[r] if row[r] is not None else base[r] for r in range(len(base))]
             columns.append((self.ev.stack(merged) - y0) / steps[j])
-        return np.column_stack(columns) / self.ev.sigmas[:, None]
+        jacobian = np.column_stack(columns) / self.ev.sigmas[:, None]
+        self.last_jacobian = (key, jacobian)
+        return jacobian
 
     def jacobian(self, u: np.ndarray) -> np.ndarray:
         _, prior_jac = self.ev.prior_rows(u)
@@ -489,6 +499,8 @@ def _fit(calibration: Calibration, runner: StudyExecutor, start, fixed: dict[int
         f_scale=settings.loss_scale,
         max_nfev=settings.max_evaluations,
         x_scale="jac",
+        xtol=XTOL,
+        ftol=FTOL,
     )
     converged, message = _message(result, ev.evaluations, settings.max_evaluations)
     u = full(result.x) if converged or problem.best is None else problem.best[1]
@@ -510,9 +522,11 @@ def _summarise_fit(
     covariance[np.ix_(free, free)] = _covariance(full_jac, max(1.0, chi2))
     sd = np.sqrt(np.clip(np.diag(covariance), 0.0, np.inf))
     values = np.array([from_internal(p, x) for p, x in zip(params, u, strict=True)])
+    low, high = np.full(len(params), -np.inf), np.full(len(params), np.inf)
     with np.errstate(over="ignore", invalid="ignore"):
-        low = np.array([from_internal(p, x - Z95 * s) if np.isfinite(s) else -np.inf for p, x, s in zip(params, u, sd)])
-        high = np.array([from_internal(p, x + Z95 * s) if np.isfinite(s) else np.inf for p, x, s in zip(params, u, sd)])
+        for k, (p, x, s) in enumerate(zip(params, u, sd, strict=True)):
+            if np.isfinite(s):
+                low[k], high[k] = from_internal(p, x - Z95 * s), from_internal(p, x + Z95 * s)
     predicted = tuple(r for run_readings in readings for r in run_readings)
     traces = [t for run in calibration.runs for t in run.traces]
     residuals = tuple(p - t.temperatures for p, t in zip(predicted, traces, strict=True))
@@ -520,57 +534,3 @@ def _summarise_fit(
         params, values, low, high, u, covariance, jacobian, predicted, residuals,
         tuple(t.name for t in traces), chi2, ev.evaluations, ev.model_runs, converged, message,
     )  # fmt: skip
-
-
-def sampled_answers(
-    calibration: Calibration,
-    fit: CalibrationFit,
-    executor: StudyExecutor,
-    samples: int,
-    seed: int = 0,
-    progress: Callable[[int], None] | None = None,
-) -> tuple[tuple[str, ...], np.ndarray, np.ndarray]:
-    """The base case's answers at the fit and at draws of the parameters from their covariance.
-
-    Per-run parameters stay at their base-case values. Directions the data do not
-    determine (infinite variance) are drawn uniformly within the bounds.
-
-    Returns
-    -------
-    (names, at_fit, draws)
-        Answer names, their values at the fit [SI], and one row per draw (NaN where a
-        draw lacks an answer).
-    """
-    params = calibration.parameters
-    shared = [j for j, p in enumerate(params) if p.run is None]
-    rng = np.random.default_rng(seed)
-    cov = fit.covariance[np.ix_(shared, shared)]
-    finite = np.all(np.isfinite(cov), axis=0)
-    points = [fit.internal]
-    for _ in range(samples):
-        u = fit.internal.copy()
-        idx = [shared[k] for k in np.flatnonzero(finite)]
-        if idx:
-            u[idx] = rng.multivariate_normal(fit.internal[idx], fit.covariance[np.ix_(idx, idx)])
-        for k in np.flatnonzero(~finite):
-            p = params[shared[k]]
-            u[shared[k]] = rng.uniform(to_internal(p, p.lower), to_internal(p, p.upper))
-        for j, p in enumerate(params):
-            u[j] = np.clip(u[j], to_internal(p, p.lower), to_internal(p, p.upper))
-        points.append(u)
-    base = calibration.base_mapping
-    jobs = []
-    for u in points:
-        values = [from_internal(p, x) for p, x in zip(params, u, strict=True)]
-        mapping = parameter_mapping(base, params, values, None)
-        jobs.append(CalibrationJob(mapping, calibration.base_text, calibration.base_origin,
-                                   str(calibration.base_dir), summary=True))  # fmt: skip
-    outcomes = Evaluator(calibration, executor).run_jobs(jobs)
-    if outcomes[0].error:
-        raise CalibrationFitError(f"the base case at the fitted values failed: {outcomes[0].error}")
-    names = outcomes[0].names
-    draws = np.full((samples, len(names)), np.nan)
-    for k, outcome in enumerate(outcomes[1:]):
-        lookup = dict(zip(outcome.names, outcome.values, strict=True))
-        draws[k] = [lookup.get(name, np.nan) for name in names]
-    return names, outcomes[0].values, draws

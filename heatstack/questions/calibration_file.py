@@ -330,7 +330,9 @@ def _trial_parse(calibration: Calibration, paths: tuple[tuple[Token, ...], ...],
         case_from_mapping(trial, calibration.base_text, calibration.base_origin, calibration.base_dir)
     except HeatstackError as exc:
         hint = closest_path_hint(base, format_path(missing[0]))
-        raise InputError(f"{where}: {format_path(missing[0])!r} does not exist in the base case{hint} ({exc})") from None
+        raise InputError(
+            f"{where}: {format_path(missing[0])!r} does not exist in the base case{hint} ({exc})"
+        ) from None
 
 
 def _parameter(data: Any, k: int, calibration: Calibration, run_names: tuple[str, ...]) -> FitParameter:
@@ -427,9 +429,7 @@ def _run(data: Any, k: int, calibration: Calibration, folder: Path) -> TestRun:
     if not isinstance(traces, list) or not traces:
         raise InputError(f"{where}.traces: at least one measured trace is needed")
     duration = float(case.duty.duration)
-    measured = tuple(
-        _trace(t, f"{where}.traces[{j}]", name, folder, probes, duration) for j, t in enumerate(traces)
-    )
+    measured = tuple(_trace(t, f"{where}.traces[{j}]", name, folder, probes, duration) for j, t in enumerate(traces))
     return TestRun(name, mapping, measured, duration)
 
 
@@ -438,7 +438,16 @@ def _run(data: Any, k: int, calibration: Calibration, folder: Path) -> TestRun:
 
 def _settings(data: Any) -> FitSettings:
     data = _table(data, "fit")
-    allowed = ("loss", "loss_scale", "max_evaluations", "executor", "workers", "timeout", "prediction_samples", "profile")
+    allowed = (
+        "loss",
+        "loss_scale",
+        "max_evaluations",
+        "executor",
+        "workers",
+        "timeout",
+        "prediction_samples",
+        "profile",
+    )
     _check_keys(data, allowed, "fit")
     loss = data.get("loss", "linear")
     if loss not in LOSSES:

@@ -150,7 +150,7 @@ def _trace_rows(calibration: Calibration, fit: CalibrationFit) -> list[list[str]
 
 def _answer_rows(answers: CalibrationAnswers) -> list[list[str]]:
     rows = []
-    for name, value, low, high in zip(answers.names, answers.at_fit, answers.lower_95, answers.upper_95):
+    for name, value, low, high in zip(answers.names, answers.at_fit, answers.lower_95, answers.upper_95, strict=True):
         unit, scale, offset = _answer_unit(name)
         interval = "-" if not np.isfinite(low) else f"{low * scale + offset:.4g} to {high * scale + offset:.4g}"
         rows.append([name, f"{value * scale + offset:.4g}", interval, unit])

@@ -111,7 +111,7 @@ def identifiability(fit: CalibrationFit) -> Identifiability:
     lines = []
     for name, ok, h in zip(names, determined, half, strict=True):
         if not ok:
-            how = "at all (the traces do not respond to it)" if not np.isfinite(h) else f"(95 % half-width {h:.2g} in u)"
+            how = f"(95 % half-width {h:.2g} in u)" if np.isfinite(h) else "at all (the traces do not respond to it)"
             lines.append(f"The traces do not determine {name} {how}; its value comes from its start or prior.")
     top = singular[0] if singular.size and singular[0] > 0 else 1.0
     for s, vector in zip(singular, vt, strict=True):
