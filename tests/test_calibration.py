@@ -276,3 +276,18 @@ def test_energy_interval_grows_when_sensor_lag_and_contacts_are_uncertain(tmp_pa
     assert [c.name for c in honest.contributions] == ["sensor time constant", "contact conductances"]
     assert all(c.standard_deviation > 0 for c in honest.contributions)
     assert honest.standard_deviation > honest.estimate.standard_error
+
+
+def test_profile_likelihood_interval_close_to_the_linearised_one(tmp_path):
+    # Nearly linear problem: the likelihood-ratio interval (chi-square rise 3.84) and the
+    # linearised one agree (Seber & Wild 1989, sec. 5.9 against sec. 5.1).
+    from heatstack.questions.identifiability import profile_parameter
+
+    path = _campaign(tmp_path, _clean_short(), seed=11, fit="max_evaluations = 12", short=True)
+    calibration = load_calibration(path)
+    executor = SerialExecutor()
+    fit = fit_calibration(calibration, executor, start=[TRUTH["contact"], TRUTH["tau"]])
+    profile = profile_parameter(calibration, fit, "tau", executor, points=5)
+    assert profile.lower_95 < fit.values[1] < profile.upper_95
+    linear = fit.upper_95[1] - fit.lower_95[1]
+    assert profile.upper_95 - profile.lower_95 == pytest.approx(linear, rel=0.3)
