@@ -417,13 +417,13 @@ def _covariance(jacobian: np.ndarray, scale: float) -> np.ndarray:
 
 def _message(result: Any, evaluations: int, limit: int) -> tuple[bool, str]:
     if result.status > 0:
-        return True, f"converged after {evaluations} evaluations: {result.message}"
+        return True, f"converged after {evaluations} evaluations: {result.message.rstrip('.')}"
     if result.status == 0:
         return False, (
             f"did not converge: the evaluation limit ({limit}) was reached; the best estimate so far is "
             "returned (raise fit.max_evaluations, or fit fewer parameters)"
         )
-    return False, f"did not converge: {result.message}"
+    return False, f"did not converge: {result.message.rstrip('.')}"
 
 
 def fit_calibration(

@@ -210,7 +210,7 @@ def plot_calibration(calibration: Calibration, fit: CalibrationFit, path: str | 
         bottom.plot(trace.times / 60.0, residual, ".-", ms=3, lw=0.5, color=line[0].get_color())
     top.set_ylabel("temperature [degC]")
     top.legend(fontsize=7)
-    top.set_title(f"{calibration.title}: measured (dots) and calibrated model (lines)")
+    top.set_title(f"{calibration.title}\nmeasured (dots), calibrated model (lines)", fontsize=9)
     bottom.axhline(0.0, color="k", lw=0.5)
     bottom.set_ylabel("predicted - measured [K]")
     bottom.set_xlabel("time [min]")
