@@ -1,8 +1,9 @@
 """The ``heatstack`` command line.
 
 Verbs: ``run`` a case, ``check`` a case (parts, cells, layout drawing), ``report`` on a
-results file, ``plot`` a results file, ``export`` a results file as CSV, ``fit`` the braking energy to a recorded sensor
-trace, run or resume a ``study``, list ``materials``, run the ``demo``; from a results
+results file, ``plot`` a results file, ``export`` a results file as CSV, ``fit`` the braking
+energy to a recorded sensor trace, ``calibrate`` a case to measured test traces, run or
+resume a ``study``, list ``materials``, run the ``demo``; from a results
 file's final state: ``cool`` (time to cool below a temperature), ``what-if`` (peaks if a
 stop started now), ``wait`` (the shortest safe wait before a departure); ``day`` runs a
 day of operations.
@@ -282,13 +283,15 @@ def _plot_field_times(result, out: Path, name: str, unit: str, minutes: Sequence
 
 
 def _cmd_fit(args: argparse.Namespace) -> int:
-    from .answers.fuse_plugs import assess_fuse_plugs
     from .case import load_case
-    from .questions.inverse import estimate_energy
     from .questions.sensor_trace import read_sensor_trace
 
     case = load_case(args.case)
     t, T = read_sensor_trace(args.trace)
+    if args.sensor_time_constant_sd is not None or args.contact_conductance_sd is not None:
+        return _fit_with_inputs(args, case, t, T)
+    from .questions.inverse import estimate_energy
+
     model = case.build_model()
     estimate = estimate_energy(
         model,
@@ -306,6 +309,13 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {estimate.standard_error / 1e6:.3f} MJ "
         f"(1 standard error; {state}; {estimate.n_runs} runs; residual rms {estimate.residual_rms:.2f} K)"
     )
+    _print_fit_details(estimate, case)
+    return 0 if estimate.converged else 1
+
+
+def _print_fit_details(estimate, case) -> None:
+    from .answers.fuse_plugs import assess_fuse_plugs
+
     if estimate.message:
         print(estimate.message)
     predicted = estimate.predicted
@@ -314,7 +324,53 @@ def _cmd_fit(args: argparse.Namespace) -> int:
         peaks += [(a.name, a.peak, a.time_of_peak) for a in assess_fuse_plugs(predicted, case.fuse_plugs)]
     for name, value, when in peaks:
         print(f"  predicted {name:16s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min")
+
+
+def _fit_with_inputs(args: argparse.Namespace, case, t, T) -> int:
+    from .questions.honest_energy import energy_with_input_uncertainty
+    from .units import to_si
+
+    tau_sd = None
+    if args.sensor_time_constant_sd is not None:
+        tau_sd = to_si(args.sensor_time_constant_sd, None, "time", "--sensor-time-constant-sd")
+    honest = energy_with_input_uncertainty(case, t, T, args.sensor, tau_sd, args.contact_conductance_sd)
+    estimate = honest.estimate
+    state = "converged" if estimate.converged else "NOT converged"
+    print(
+        f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {honest.standard_deviation / 1e6:.3f} MJ "
+        f"(1 standard deviation, trace scatter and uncertain inputs; {state})"
+    )
+    print(f"  from the trace scatter: +/- {estimate.standard_error / 1e6:.3f} MJ")
+    for part in honest.contributions:
+        print(
+            f"  from the {part.name}: +/- {part.standard_deviation / 1e6:.3f} MJ "
+            f"(refits {part.energy_low / 1e6:.3f} and {part.energy_high / 1e6:.3f} MJ)"
+        )
+    _print_fit_details(estimate, case)
     return 0 if estimate.converged else 1
+
+
+def _cmd_calibrate(args: argparse.Namespace) -> int:
+    from .questions.calibrate import calibrate, fit_summary, write_calibration_outputs
+    from .questions.calibration_file import load_calibration
+
+    calibration = load_calibration(args.calibration)
+    out = Path(args.out) if args.out else Path(args.calibration).with_suffix(".calibrated")
+    if out.exists() and not out.is_dir():
+        raise InputError(f"--out: {str(out)!r} is not a folder")
+    if not args.quiet:
+        print(
+            f"heatstack: {calibration.title}: {len(calibration.runs)} runs, {len(calibration.parameters)} parameters, "
+            f"{calibration.n_points} readings",
+            file=sys.stderr,
+        )
+    run = calibrate(calibration)
+    print(run.fit.message)
+    print(fit_summary(run.fit, run.identifiability))
+    print(run.identifiability.statement)
+    for path in write_calibration_outputs(run, out):
+        print(f"wrote: {path}")
+    return 0 if run.fit.converged else 1
 
 
 def _cmd_study(args: argparse.Namespace) -> int:
@@ -441,6 +497,7 @@ _EXAMPLES_HELP = {
     "materials": "example: heatstack materials carbon-carbon",
     "example": "example: heatstack example study my-study/   (names: demo, study, api)",
     "export": "example: heatstack export results/results.h5 --csv results/csv",
+    "calibrate": "example: heatstack calibrate dyno_campaign.toml --out calibrated/",
 }
 
 
@@ -724,7 +781,20 @@ def _parser() -> argparse.ArgumentParser:
     fit.add_argument("case", help="case file whose duty the trace followed")
     fit.add_argument("trace", help="CSV: time_<unit>,temperature_<unit>")
     fit.add_argument("--sensor", default="sensor", help="probe the trace was read from (default: %(default)s)")
+    fit.add_argument("--sensor-time-constant-sd", help="treat the sensor time constant as uncertain, e.g. '5 s' (1 sd)")
+    fit.add_argument(
+        "--contact-conductance-sd",
+        type=float,
+        help="treat every contact conductance as uncertain by this relative 1 sd, e.g. 0.3",
+    )
     fit.set_defaults(func=_cmd_fit)
+
+    calibrate = verb("calibrate", "fit a case's uncertain parameters to measured test traces")
+    calibrate.add_argument("calibration", help="calibration file (TOML: base case, runs with traces, parameters)")
+    calibrate.add_argument(
+        "--out", help="folder for the calibrated case, reports and figure (default: FILE.calibrated)"
+    )
+    calibrate.set_defaults(func=_cmd_calibrate)
 
     study = verb("study", "run or resume a sweep or Monte Carlo study")
     study.add_argument("study", help="study file (TOML with a [study] table and its base_case)")

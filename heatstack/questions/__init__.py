@@ -11,7 +11,8 @@ whatif
 inverse
     The braking energy behind a recorded sensor trace (:func:`estimate_energy`), with the
     trace reader (sensor_trace), the convection multiplier (convection_scaling) and the
-    fit helpers (fit_tools) in their own modules.
+    fit helpers (fit_tools) in their own modules; honest_energy widens its interval for an
+    uncertain sensor time constant and contact conductances.
 chaining
     Start a run from a results file's final state (or a snapshot), grid and design
     checked, instruments and fuse plugs lagging on (:func:`chaining.run_from_state`).
@@ -24,6 +25,13 @@ ramp
 day
     A day of operations expanded into a chain of legs (:func:`day.run_day`); its files
     are read by :mod:`heatstack.dayfile`.
+calibrate
+    The case's uncertain parameters fitted to measured test traces (:func:`calibrate`): the
+    file (calibration_file), the fit (calibration), what the data tell (identifiability),
+    the calibrated case (calibrated_case) and the report (calibration_report). Uses the
+    study machinery (:mod:`heatstack.studies`: key paths, executors), which never imports
+    this package. It is imported from its module (``heatstack.questions.calibrate``), not from
+    here: it sits above the studies, which read case files, which chain runs from this package.
 """
 
 from __future__ import annotations

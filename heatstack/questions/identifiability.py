@@ -1,0 +1,194 @@
+"""What the traces can tell: singular values of the scaled Jacobian, correlations, undetermined parameters, profiles.
+
+The Jacobian is that of the weighted trace residuals in the fitted coordinates ``u``
+(``ln`` of positive parameters, else the value over its bound range), so its columns are
+comparable: a singular value ``s_k`` means a unit change of ``u`` along the singular
+vector ``v_k`` moves the residual by ``s_k`` measurement sigmas. A parameter is *not
+determined* by the traces when its data-only 95 % half-width in ``u`` exceeds
+:data:`UNDETERMINED_HALF_WIDTH` (a factor of about 2 on a log parameter, half its bound
+range on another) or the data do not see it at all; a combination is poorly determined
+when its singular value is below :data:`WEAK_RATIO` of the largest.
+
+References
+----------
+.. [1] Seber, G.A.F., Wild, C.J., Nonlinear Regression, Wiley, 1989, sec. 5.1 (linearised
+   covariance) and sec. 5.9 (profile t, likelihood-ratio intervals).
+.. [2] Bates, D.M., Watts, D.G., Nonlinear Regression Analysis and Its Applications,
+   Wiley, 1988, sec. 6.1 (profiling).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..studies.executors import StudyExecutor
+from .calibration import Z95, CalibrationFit, fit_calibration, from_internal, to_internal
+from .calibration_file import Calibration
+
+__all__ = [
+    "Identifiability",
+    "Profile",
+    "identifiability",
+    "profile_parameter",
+    "UNDETERMINED_HALF_WIDTH",
+    "WEAK_RATIO",
+]
+
+#: Data-only 95 % half-width in ``u`` above which a parameter is reported as not determined [-].
+UNDETERMINED_HALF_WIDTH = 0.7
+#: Singular value ratio below which a combination is reported as poorly determined [-].
+WEAK_RATIO = 0.01
+
+
+@dataclass(frozen=True, eq=False)
+class Identifiability:
+    """What the traces determine.
+
+    Attributes
+    ----------
+    names : tuple of str
+    singular_values : ndarray
+        Of the scaled data Jacobian, largest first [-].
+    singular_vectors : ndarray
+        Rows: the right singular vectors, in the order of ``singular_values``.
+    correlation : ndarray
+        Parameter correlation matrix (NaN where a variance is infinite).
+    data_half_width : ndarray
+        95 % half-width in ``u`` from the traces alone (no priors) [-].
+    determined : tuple of bool
+    statement : str
+        Which parameters or combinations the traces do not determine, in words.
+    """
+
+    names: tuple[str, ...]
+    singular_values: np.ndarray
+    singular_vectors: np.ndarray
+    correlation: np.ndarray
+    data_half_width: np.ndarray
+    determined: tuple[bool, ...]
+    statement: str
+
+
+def _data_half_width(jacobian: np.ndarray, scale: float) -> np.ndarray:
+    _, singular, vt = np.linalg.svd(jacobian, full_matrices=False)
+    m = jacobian.shape[1]
+    if singular.size == 0 or singular[0] <= 0:
+        return np.full(m, np.inf)
+    keep = singular > singular[0] * 1e-8
+    variance = np.sum((vt[keep] / singular[keep, None]) ** 2, axis=0) * scale
+    blind = np.sum(vt[~keep] ** 2, axis=0) > 1e-6 if np.any(~keep) else np.zeros(m, dtype=bool)
+    variance[blind] = np.inf
+    return Z95 * np.sqrt(variance)
+
+
+def _combination(vector: np.ndarray, names: tuple[str, ...], logs: tuple[bool, ...]) -> str:
+    order = np.argsort(-np.abs(vector))
+    terms = []
+    for k in order:
+        if abs(vector[k]) < 0.2:
+            break
+        label = f"ln({names[k]})" if logs[k] else names[k]
+        terms.append(f"{vector[k]:+.2f} {label}")
+    return " ".join(terms)
+
+
+def identifiability(fit: CalibrationFit) -> Identifiability:
+    """Singular values, correlations and the plain statement for a fit (see the module docstring)."""
+    names = tuple(p.name for p in fit.parameters)
+    logs = tuple(p.log for p in fit.parameters)
+    jac = fit.jacobian
+    singular = np.linalg.svd(jac, compute_uv=False) if jac.size else np.zeros(0)
+    _, _, vt = np.linalg.svd(jac, full_matrices=False)
+    sd = fit.standard_errors()
+    with np.errstate(invalid="ignore", divide="ignore"):
+        correlation = fit.covariance / np.outer(sd, sd)
+    correlation[~np.isfinite(correlation)] = np.nan
+    np.fill_diagonal(correlation, np.where(np.isfinite(sd) & (sd > 0), 1.0, np.nan))
+    half = _data_half_width(jac, max(1.0, fit.reduced_chi_square))
+    determined = tuple(bool(h <= UNDETERMINED_HALF_WIDTH) for h in half)
+    lines = []
+    for name, ok, h in zip(names, determined, half, strict=True):
+        if not ok:
+            how = f"(95 % half-width {h:.2g} in u)" if np.isfinite(h) else "at all (the traces do not respond to it)"
+            lines.append(f"The traces do not determine {name} {how}; its value comes from its start or prior.")
+    top = singular[0] if singular.size and singular[0] > 0 else 1.0
+    for s, vector in zip(singular, vt, strict=True):
+        if s < WEAK_RATIO * top and np.count_nonzero(np.abs(vector) >= 0.2) > 1:
+            lines.append(
+                f"The combination {_combination(vector, names, logs)} is poorly determined "
+                f"(singular value {s / top:.2g} of the largest)."
+            )
+    if not lines:
+        lines.append("The traces determine every fitted parameter.")
+    return Identifiability(names, singular, vt, correlation, half, determined, "\n".join(lines))
+
+
+@dataclass(frozen=True, eq=False)
+class Profile:
+    """A profile of the fit's cost over one parameter.
+
+    Attributes
+    ----------
+    name : str
+    values : ndarray
+        Values the parameter was held at [SI].
+    chi_square : ndarray
+        Weighted SSR (priors included) of the refit at each value [-].
+    lower_95, upper_95 : float
+        Where the profile rises 3.84 above its minimum (likelihood-ratio interval; NaN
+        when not reached within the values tried) [SI].
+    """
+
+    name: str
+    values: np.ndarray
+    chi_square: np.ndarray
+    lower_95: float
+    upper_95: float
+
+
+def profile_parameter(
+    calibration: Calibration, fit: CalibrationFit, name: str, executor: StudyExecutor, points: int = 7
+) -> Profile:
+    """Refit the other parameters with ``name`` held at values across its interval.
+
+    The values span ``u +/- 3 sd`` (within the bounds; the whole bound range when the
+    parameter is not determined). The cost is rescaled by the fit's reduced chi-square
+    when that exceeds one, as the covariance is.
+    """
+    names = [p.name for p in fit.parameters]
+    j = names.index(name)
+    p = fit.parameters[j]
+    low, high = to_internal(p, p.lower), to_internal(p, p.upper)
+    sd = fit.standard_errors()[j]
+    if np.isfinite(sd):
+        low, high = max(low, fit.internal[j] - 3 * sd), min(high, fit.internal[j] + 3 * sd)
+    grid = np.linspace(low, high, points)
+    chi = []
+    for u in grid:
+        refit = fit_calibration(calibration, executor, start=list(fit.values), fixed={j: from_internal(p, u)})
+        chi.append(sum(float(np.sum((r / _sigma(calibration, k)) ** 2)) for k, r in enumerate(refit.residuals)))
+    chi_arr = np.array(chi) / max(1.0, fit.reduced_chi_square)
+    values = np.array([from_internal(p, u) for u in grid])
+    return Profile(name, values, chi_arr, *_crossings(values, chi_arr))
+
+
+def _sigma(calibration: Calibration, k: int) -> float:
+    traces = [t for run in calibration.runs for t in run.traces]
+    return traces[k].uncertainty
+
+
+def _crossings(values: np.ndarray, chi: np.ndarray) -> tuple[float, float]:
+    level = float(np.min(chi)) + Z95**2
+    k = int(np.argmin(chi))
+    lower = upper = float("nan")
+    for i in range(k, 0, -1):
+        if chi[i - 1] >= level:
+            lower = float(np.interp(level, [chi[i], chi[i - 1]], [values[i], values[i - 1]]))
+            break
+    for i in range(k, len(chi) - 1):
+        if chi[i + 1] >= level:
+            upper = float(np.interp(level, [chi[i], chi[i + 1]], [values[i], values[i + 1]]))
+            break
+    return lower, upper
