@@ -29,7 +29,7 @@ from .materials import Material
 from .model import Model
 from .numerics.options import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
-from .operations.heat_input import BrakingEvent
+from .operations.events import BrakingEvent
 from .property_table import forget_warnings
 from .report import ReportSettings, TyreSettings
 from .result import Result
