@@ -485,6 +485,30 @@ def build_wheel_brake(
         If a part given by hand overlaps the built parts or a probe lies outside every part.
     """
     d = design or WheelBrakeDesign()
+    parts, (z_stack0, z_stack1) = _built_parts(d)
+    parts = _apply_replacements(parts, replace_parts) + list(extra_parts)
+    probes = _probes(d, parts, (z_stack0, z_stack1), extra_probes)
+    rotors = [p.name for p in parts if p.role == "rotor"]
+    links = [
+        ThermalLink(name, "outer", "rim", "inner", d.drive_key_conductance, f"drive keys {name}") for name in rotors
+    ]
+    assembly = Assembly(
+        parts,
+        links=links,
+        contacts=_contacts(d),
+        probes=probes,
+        default_contact_conductance=1000.0,
+        surface_groups=_surface_groups(),
+        friction=FrictionSettings(distribution=d.friction_distribution),
+        rubbing_pairs=rubbing_pairs_by_role(parts),
+        cell_groups=cell_groups_by_role(parts),
+        surfaces=surface_records(d),
+    )
+    return BuiltWheelBrake(assembly, d, tuple(d.fuse_plugs), (z_stack0, z_stack1))
+
+
+def _built_parts(d: WheelBrakeDesign) -> tuple[list[Part], tuple[float, float]]:
+    """The parts of the design and the axial extent of the stack ``(z_min, z_max)`` [m]."""
     z_stack0 = d.housing_thickness + d.stack_wear
     stack, z_stack1 = _stack(d, z_stack0)
     z_flange1 = z_stack1 + d.backing_flange_thickness
@@ -494,15 +518,7 @@ def build_wheel_brake(
     parts = [
         Part("housing", d.housing_material, r_tt_out, d.housing_outer_radius, 0.0, z_stack0, "other"),
         *stack,
-        Part(
-            "torque tube",
-            d.torque_tube_material,
-            d.torque_tube_inner_radius,
-            r_tt_out,
-            0.0,
-            z_stack1,
-            "torque_tube",
-        ),
+        Part("torque tube", d.torque_tube_material, d.torque_tube_inner_radius, r_tt_out, 0.0, z_stack1, "torque_tube"),
         Part(
             "backing flange",
             d.torque_tube_material,
@@ -527,11 +543,22 @@ def build_wheel_brake(
                 "heat_shield",
             )
         )
-    parts = _apply_replacements(parts, replace_parts) + list(extra_parts)
+    return parts, (z_stack0, z_stack1)
 
+
+def _probes(
+    d: WheelBrakeDesign, parts: Sequence[Part], stack: tuple[float, float], extra: Sequence[Probe]
+) -> list[Probe]:
+    """The design's probes (sensor, hottest rotor, bead seats, fuse plugs) and the ``extra`` ones.
+
+    ``stack`` holds the axial ends of the stack [m]; the rim and the rotors are looked
+    up by name in ``parts`` (after any replacement).
+    """
+    z_stack0, z_stack1 = stack
+    z_in = -d.rim_overhang_inboard
     rim = next(p for p in parts if p.name == "rim")
     middle_rotor = next(p for p in parts if p.name == f"rotor {(d.rotors + 1) // 2}")
-    probes = [
+    return [
         Probe(
             "sensor",
             d.torque_tube_inner_radius + d.sensor_depth,
@@ -556,25 +583,8 @@ def build_wheel_brake(
             )
             for plug in d.fuse_plugs
         ),
-        *extra_probes,
+        *extra,
     ]
-    rotors = [p.name for p in parts if p.role == "rotor"]
-    links = [
-        ThermalLink(name, "outer", "rim", "inner", d.drive_key_conductance, f"drive keys {name}") for name in rotors
-    ]
-    assembly = Assembly(
-        parts,
-        links=links,
-        contacts=_contacts(d),
-        probes=probes,
-        default_contact_conductance=1000.0,
-        surface_groups=_surface_groups(),
-        friction=FrictionSettings(distribution=d.friction_distribution),
-        rubbing_pairs=rubbing_pairs_by_role(parts),
-        cell_groups=cell_groups_by_role(parts),
-        surfaces=surface_records(d),
-    )
-    return BuiltWheelBrake(assembly, d, tuple(d.fuse_plugs), (z_stack0, z_stack1))
 
 
 def _apply_replacements(parts: list[Part], replacements: Sequence[Part]) -> list[Part]:

@@ -21,7 +21,8 @@ import numpy as np
 
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
-from .case_keys import EVENT_KINDS, ROLL_RECORDS, key_dimension
+from .case_keys import EVENT_KINDS, ROLL_RECORDS
+from .case_table import CaseTable
 from .errors import HeatstackError, InputError, ScheduleError
 from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .material_files import material_from_mapping
@@ -29,12 +30,12 @@ from .materials import Material
 from .model import Model
 from .numerics.options import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
-from .operations.heat_input import BrakingEvent
+from .operations.events import BrakingEvent
 from .property_table import forget_warnings
 from .questions.chaining import read_start, run_from_state, state_for_model
 from .report import ReportSettings, TyreSettings
 from .result import Result, State
-from .units import declared_dimensions, quantity
+from .units import declared_dimensions
 
 __all__ = [
     "Case",
@@ -44,94 +45,6 @@ __all__ = [
     "case_from_mapping",
     "run_case",
 ]
-
-_REQUIRED = object()
-
-
-class _Table:
-    """A TOML table being read: typed getters with key paths, unknown keys rejected."""
-
-    def __init__(self, data: Any, path: str, tokens: tuple[str | int, ...] = ()):
-        if not isinstance(data, Mapping):
-            raise InputError(f"{path or 'case'}: expected a table, got {type(data).__name__}")
-        self.data, self.path, self.tokens, self.used = dict(data), path, tokens, set()
-
-    def where(self, key: str) -> str:
-        return f"{self.path}.{key}" if self.path else key
-
-    def has(self, key: str) -> bool:
-        return key in self.data
-
-    def raw(self, key: str, default: Any = _REQUIRED) -> Any:
-        self.used.add(key)
-        if key in self.data:
-            return self.data[key]
-        if default is _REQUIRED:
-            raise InputError(f"{self.where(key)}: missing (required)")
-        return default
-
-    def text(self, key: str, default: Any = _REQUIRED) -> str:
-        value = self.raw(key, default)
-        if value is not default and not isinstance(value, str):
-            raise InputError(f"{self.where(key)}: expected a string, got {value!r}")
-        return value
-
-    def boolean(self, key: str, default: Any = _REQUIRED) -> bool:
-        value = self.raw(key, default)
-        if value is not default and not isinstance(value, bool):
-            raise InputError(f"{self.where(key)}: expected true or false, got {value!r}")
-        return value
-
-    def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0) -> int:
-        value = self.raw(key, default)
-        if value is default:
-            return value
-        if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
-            raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {value!r}")
-        return value
-
-    def quantity(self, key: str, default: Any = _REQUIRED) -> float:
-        """The value at ``key`` in SI, in the dimension declared for it (:func:`key_dimension`)."""
-        value = self.raw(key, default)
-        if value is default:
-            return value
-        return self.convert(value, (*self.tokens, key), self.where(key))
-
-    def convert(self, value: Any, tokens: tuple[str | int, ...], where: str) -> float:
-        dimension = key_dimension(tokens)
-        if dimension is None:
-            raise InputError(f"{where}: no physical dimension is declared for this key")
-        if isinstance(value, bool) or not isinstance(value, int | float | str):
-            raise InputError(f"{where}: expected a number or a quantity such as '20 mm', got {value!r}")
-        return quantity(value, dimension, where)
-
-    def declared(self, cls: type, names: tuple[str, ...] | None = None) -> dict[str, float]:
-        """The keys of this table that are declared fields of ``cls`` (or ``names`` of them), in SI.
-
-        All of them count as valid keys for :meth:`finish`, given or not.
-        """
-        names = tuple(declared_dimensions(cls)) if names is None else names
-        self.used.update(names)
-        return {key: self.quantity(key) for key in names if self.has(key)}
-
-    def table(self, key: str, default: Any = _REQUIRED) -> _Table:
-        value = self.raw(key, default)
-        return _Table({} if value is None else value, self.where(key), (*self.tokens, key))
-
-    def tables(self, key: str) -> list[_Table]:
-        value = self.raw(key, [])
-        if not isinstance(value, list):
-            raise InputError(f"{self.where(key)}: expected an array of tables ([[{self.where(key)}]])")
-        return [_Table(item, f"{self.where(key)}[{k}]", (*self.tokens, key, k)) for k, item in enumerate(value)]
-
-    def finish(self, allowed: tuple[str, ...] | None = None) -> None:
-        """Reject keys that were not read (or not in ``allowed``), suggesting the closest."""
-        allowed = tuple(sorted(self.used)) if allowed is None else allowed
-        for key in self.data:
-            if key not in allowed and key not in self.used:
-                close = difflib.get_close_matches(str(key), allowed, n=1, cutoff=0.5)
-                hint = f"; did you mean {close[0]!r}?" if close else f"; valid keys: {', '.join(allowed)}"
-                raise InputError(f"{self.where(str(key))}: unknown key{hint}")
 
 
 @dataclass(frozen=True)
@@ -244,7 +157,7 @@ class Case:
 # ------------------------------------------------------------------------ sections
 
 
-def _design(table: _Table) -> WheelBrakeDesign:
+def _design(table: CaseTable) -> WheelBrakeDesign:
     defaults = WheelBrakeDesign()
     changes: dict[str, Any] = {}
     names = tuple(f.name for f in fields(WheelBrakeDesign) if f.name != "fuse_plugs")
@@ -267,7 +180,7 @@ def _design(table: _Table) -> WheelBrakeDesign:
         raise InputError(f"{table.path}: {exc}") from exc
 
 
-def _fuse_plugs(tables: list[_Table]) -> tuple[FusePlugSpec, ...]:
+def _fuse_plugs(tables: list[CaseTable]) -> tuple[FusePlugSpec, ...]:
     plugs = []
     for t in tables:
         name = t.text("name")
@@ -282,7 +195,7 @@ def _fuse_plugs(tables: list[_Table]) -> tuple[FusePlugSpec, ...]:
     return tuple(plugs)
 
 
-def _part(t: _Table) -> Part:
+def _part(t: CaseTable) -> Part:
     role = t.text("role", "other")
     if role not in ROLES:
         raise InputError(f"{t.where('role')}: {role!r} is not one of {', '.join(ROLES)}")
@@ -299,7 +212,7 @@ def _part(t: _Table) -> Part:
     return part
 
 
-def _probe(t: _Table) -> Probe:
+def _probe(t: CaseTable) -> Probe:
     probe = Probe(
         t.text("name"),
         t.quantity("r"),
@@ -311,7 +224,7 @@ def _probe(t: _Table) -> Probe:
     return probe
 
 
-def _contact(t: _Table) -> Contact:
+def _contact(t: CaseTable) -> Contact:
     pair_key = "parts" if t.has("parts") else "roles"
     pair = t.raw(pair_key)
     if not (isinstance(pair, list) and len(pair) == 2 and all(isinstance(x, str) for x in pair)):
@@ -322,7 +235,7 @@ def _contact(t: _Table) -> Contact:
     return Contact(**{pair_key: tuple(pair)}, clamped=clamped, released=released)
 
 
-def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, tuple]:
+def _assembly(table: CaseTable) -> tuple[Assembly, BuiltWheelBrake | None, tuple]:
     builder = table.text("builder", "wheel-brake")
     if builder not in ("wheel-brake", "none"):
         raise InputError(f"{table.where('builder')}: expected 'wheel-brake' or 'none', got {builder!r}")
@@ -369,7 +282,7 @@ def _assembly(table: _Table) -> tuple[Assembly, BuiltWheelBrake | None, tuple]:
     return assembly, built, built.fuse_plugs
 
 
-def _environment(t: _Table) -> Environment:
+def _environment(t: CaseTable) -> Environment:
     well = None
     if t.has("wheel_well_air_temperature") or t.has("wheel_well_wall_temperature"):
         well = (t.quantity("wheel_well_air_temperature"), t.quantity("wheel_well_wall_temperature"))
@@ -381,7 +294,7 @@ def _environment(t: _Table) -> Environment:
         raise InputError(f"{t.path}: {exc}") from exc
 
 
-def _event(t: _Table, base: Path) -> BrakingEvent:
+def _event(t: CaseTable, base: Path) -> BrakingEvent:
     kind = t.text("kind")
     if kind not in EVENT_KINDS:
         close = difflib.get_close_matches(kind, EVENT_KINDS, n=1)
@@ -409,7 +322,7 @@ def _event(t: _Table, base: Path) -> BrakingEvent:
         raise InputError(f"{t.path}: {exc}") from exc
 
 
-def _record(record: type, table: _Table) -> Any:
+def _record(record: type, table: CaseTable) -> Any:
     """A ground-roll input record from its sub-table; unknown keys and bad values name the key path."""
     names = tuple(f.name for f in fields(record))
     table.finish(names)
@@ -426,7 +339,7 @@ def _record(record: type, table: _Table) -> Any:
         raise InputError(f"{table.path}: {message}") from exc
 
 
-def _duty(table: _Table, base: Path) -> DutyCycle:
+def _duty(table: CaseTable, base: Path) -> DutyCycle:
     phases = []
     for t in table.tables("phases"):
         name = t.text("name")
@@ -446,7 +359,7 @@ def _duty(table: _Table, base: Path) -> DutyCycle:
     return DutyCycle(phases, **values)
 
 
-def _solver(t: _Table) -> SolverOptions:
+def _solver(t: CaseTable) -> SolverOptions:
     snapshots = t.raw("snapshot_times", [])
     if not isinstance(snapshots, list):
         raise InputError(f'{t.where("snapshot_times")}: expected a list such as ["10 min", "1 h"]')
@@ -462,7 +375,7 @@ def _solver(t: _Table) -> SolverOptions:
         raise InputError(f"{t.path}: {exc}") from exc
 
 
-def _output(t: _Table) -> OutputSettings:
+def _output(t: CaseTable) -> OutputSettings:
     unit = t.text("temperature_unit", "degC")
     if unit not in ("degC", "degF", "K"):
         raise InputError(f"{t.where('temperature_unit')}: expected 'degC', 'degF' or 'K', got {unit!r}")
@@ -481,7 +394,7 @@ def _output(t: _Table) -> OutputSettings:
     return out
 
 
-def _tyre(t: _Table, built: BuiltWheelBrake | None, duty: DutyCycle) -> TyreSettings | None:
+def _tyre(t: CaseTable, built: BuiltWheelBrake | None, duty: DutyCycle) -> TyreSettings | None:
     if not t.data:
         return None
     area = t.quantity("cavity_area", None)
@@ -540,7 +453,7 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     ``text`` is kept as the case text; ``base`` resolves relative paths. Errors are not
     prefixed with ``origin`` here (:func:`parse_case` does that).
     """
-    root = _Table(data, "", ())
+    root = CaseTable(data, "", ())
     head = root.table("case", {})
     title = head.text("title", "untitled case")
     initial = head.quantity("initial_temperature", 288.15)
@@ -553,7 +466,9 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     head.finish()
     materials_table = root.table("materials", {})
     materials = {
-        name: material_from_mapping({"name": name, **dict(_Table(body, f"materials.{name}").data)}, f"materials.{name}")
+        name: material_from_mapping(
+            {"name": name, **dict(CaseTable(body, f"materials.{name}").data)}, f"materials.{name}"
+        )
         for name, body in materials_table.data.items()
     }
     assembly_table = root.table("assembly", {})

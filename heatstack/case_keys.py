@@ -18,7 +18,7 @@ from .geometry import Contact, Part, Probe
 from .numerics.options import SolverOptions
 from .operations import heat_input, stops
 from .operations.duty import DutyCycle, DutyPhase, Environment
-from .operations.heat_input import BrakingEvent
+from .operations.events import BrakingEvent
 from .operations.roll_inputs import Aircraft, Conditions, Runway
 from .report import TyreSettings
 from .units import declared_dimension

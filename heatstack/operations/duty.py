@@ -19,7 +19,7 @@ from ..geometry import SurfaceGroup
 from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
 from ..units import convert_declared, declared
 from .environment import CrossFlow, FanCooling, MixedConvection, NaturalConvection, RotatingDisc, WheelWell
-from .heat_input import BrakingEvent, combine
+from .events import BrakingEvent, combine
 
 __all__ = ["Environment", "DutyPhase", "DutyCycle"]
 

@@ -37,8 +37,8 @@ from scipy.integrate import solve_ivp
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from . import atmosphere
-from .heat_input import read_speed_trace
 from .roll_inputs import Aircraft, Conditions, Runway, deceleration_target, non_negative
+from .speed_trace import read_speed_trace
 
 __all__ = [
     "EnergyAccounts",
@@ -461,7 +461,7 @@ def ground_roll_from_speed_trace(
     ----------
     aircraft, runway, conditions : Aircraft, Runway, Conditions
     path_or_rows : str or os.PathLike or text stream or rows
-        The trace, read by :func:`heatstack.operations.heat_input.read_speed_trace`.
+        The trace, read by :func:`heatstack.operations.speed_trace.read_speed_trace`.
     """
     t_trace, v_trace = read_speed_trace(path_or_rows)
     t_trace = t_trace - t_trace[0]

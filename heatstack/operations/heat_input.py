@@ -9,50 +9,32 @@ Energy bookkeeping: ``kinetic_energy`` is the kinetic energy the event removes f
 the aircraft (or a wheel), ``brake_share`` the fraction of it the brakes absorb (the
 rest goes to reverse thrust, aerodynamic drag and rolling resistance), and
 ``energy_per_brake = share * kinetic_energy / braked_wheels``, equal to the integral
-of the power history.
-
-Speed-trace CSV format
-----------------------
-Two comma-separated columns, time then ground speed, one sample a row. Blank lines
-and lines starting with ``#`` are skipped. An optional header row names the columns
-``time_<unit>,ground_speed_<unit>`` with any unit pint reads (``time_s,ground_speed_kt``,
-``time_min,ground_speed_km/h``); without a header the numbers are SI (s, m/s).
-Times must increase strictly. Example::
-
-    # landing roll, invented numbers
-    time_s,ground_speed_kt
-    0,120
-    10,80
-    22,0
+of the power history. The record and :func:`combine` live in
+:mod:`heatstack.operations.events`; speed traces are read by
+:mod:`heatstack.operations.speed_trace`.
 """
 
 from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any, Literal
+from typing import Any, Literal
 
 import numpy as np
 
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
-from ..traces import read_trace
 from ..units import Declaration, declares, quantity, quantity_array
 from . import atmosphere
-
-if TYPE_CHECKING:
-    from .ground_roll import StopResult
+from .events import BrakingEvent, combine
+from .speed_trace import read_speed_trace
 
 __all__ = [
-    "BrakingEvent",
     "stop_from_energy",
     "stop_from_aircraft",
     "stop_from_speed_trace",
     "taxi_snubs",
     "gear_retraction",
-    "combine",
-    "read_speed_trace",
 ]
 
 #: A brake share: a constant in [0, 1], a function of ground speed [m/s], or a table
@@ -60,53 +42,6 @@ __all__ = [
 Share = float | Callable[[np.ndarray], Any] | Sequence[Sequence[float]]
 
 _TABLE_STEPS = 400  # time steps of a stop with a speed-dependent share
-_RAMP = 1e-3  # width of the ramp replacing a power step when histories are combined [s]
-
-
-@dataclass(frozen=True)
-class BrakingEvent:
-    """One braking event and its energy bookkeeping.
-
-    Attributes
-    ----------
-    name : str
-        Label of the event.
-    power : PowerHistory
-        Friction power of one brake [W] versus time [s].
-    energy_per_brake : float
-        Energy into one brake [J], the integral of ``power``.
-    kinetic_energy : float
-        Kinetic energy removed from the aircraft (or wheel) by the event [J].
-    brake_share : float
-        Fraction of ``kinetic_energy`` absorbed by all braked wheels [-]; for a
-        speed-dependent share, the energy-weighted mean.
-    notes : str
-        How the event was built.
-    ground_roll : StopResult or None
-        The integrated ground roll (energy accounts, distance, time) when the event
-        comes from the equation of motion (:mod:`heatstack.operations.stops`).
-    """
-
-    name: str
-    power: PowerHistory
-    energy_per_brake: float
-    kinetic_energy: float
-    brake_share: float
-    notes: str = ""
-    ground_roll: StopResult | None = None
-
-    @property
-    def start(self) -> float:
-        """First time of the power history [s]."""
-        return float(self.power.times[0])
-
-    @property
-    def end(self) -> float:
-        """Last time of the power history [s]."""
-        return float(self.power.times[-1])
-
-
-# ---------------------------------------------------------------------------- inputs
 
 
 def _count(value: Any, field: str) -> int:
@@ -378,33 +313,6 @@ def _event(
     return BrakingEvent(name, power, energy, kinetic, share, notes)
 
 
-# ---------------------------------------------------------------------------- speed traces
-
-
-def read_speed_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Read a speed trace: times [s] and ground speeds [m/s].
-
-    Parameters
-    ----------
-    path_or_rows : str or os.PathLike or text stream or iterable of (float, float)
-        A CSV file (``time_<unit>,ground_speed_<unit>`` header optional; see
-        :mod:`heatstack.traces`), an open text stream of it, or rows of
-        (time [s], ground speed [m/s]).
-
-    Raises
-    ------
-    InputError
-        Naming the line (or row) of a non-numeric, short, negative-speed or
-        non-increasing entry, or an unknown header unit.
-    """
-    times, speeds, lines = read_trace(path_or_rows, "speed trace", "ground_speed", "speed")
-    negative = np.flatnonzero(speeds < 0)
-    if negative.size:
-        k = int(negative[0])
-        raise InputError(f"{lines[k]}: negative ground speed {speeds[k]:g} m/s")
-    return times, speeds
-
-
 @declares(
     mass=Declaration("mass", positive=True),
     start=Declaration("time"),
@@ -431,7 +339,7 @@ def stop_from_speed_trace(
     Parameters
     ----------
     path_or_rows : str or os.PathLike or text stream or iterable of (float, float)
-        The trace; see :func:`read_speed_trace` and the module docstring.
+        The trace; see :func:`heatstack.operations.speed_trace.read_speed_trace`.
     mass : float or str
         Aircraft mass [kg], > 0.
     braked_wheels : int
@@ -621,60 +529,3 @@ def gear_retraction(
     energy = 0.5 * inertia * omega**2
     power = PowerHistory(np.array([t0, t0 + ts]), np.array([2.0 * energy / ts, 0.0]))
     return _event(name, power, energy, 1, f"wheel at {omega:.4g} rad/s stopped in {ts:g} s", 1.0)
-
-
-# ---------------------------------------------------------------------------- combining
-
-
-def combine(*histories: PowerHistory | BrakingEvent) -> PowerHistory:
-    """Sum several power histories into one, on the union of their times.
-
-    A history is zero outside its table, so it may start or end with a step. Where
-    the sum steps at an inner time ``t`` (left value ``L``, right value ``R``), the
-    step is replaced by knots ``t - w/2``, ``t`` and ``t + w/2`` with values the true
-    sum, ``(L + R)/2`` and the true sum: this conserves the energy exactly, and
-    ``w = min(1 ms, a quarter of the smallest time spacing)``.
-
-    Parameters
-    ----------
-    *histories : PowerHistory or BrakingEvent
-        The histories [W]; events contribute their ``power``.
-
-    Returns
-    -------
-    PowerHistory
-        The summed power [W].
-
-    Raises
-    ------
-    InputError
-        If no history is given or an argument is neither kind.
-    """
-    if not histories:
-        raise InputError("combine: no power histories given")
-    parts = [h.power if isinstance(h, BrakingEvent) else h for h in histories]
-    for index, part in enumerate(parts):
-        if not isinstance(part, PowerHistory):
-            raise InputError(f"combine: argument {index + 1} is not a power history or braking event")
-    knots = np.unique(np.concatenate([p.times for p in parts]))
-    left = sum(_side_value(p, knots, before=True) for p in parts)
-    right = sum(_side_value(p, knots, before=False) for p in parts)
-    scale = max(float(np.max(np.abs(left))), float(np.max(np.abs(right))), 1e-300)
-    inner = np.zeros(knots.size, dtype=bool)
-    inner[1:-1] = np.abs(left[1:-1] - right[1:-1]) > 1e-12 * scale
-    values = np.where(inner, 0.5 * (left + right), right)
-    values[-1] = left[-1]
-    if not np.any(inner):
-        return PowerHistory(knots, values)
-    width = min(_RAMP, 0.25 * float(np.min(np.diff(knots))))
-    ramps = np.concatenate((knots[inner] - 0.5 * width, knots[inner] + 0.5 * width))
-    ramp_values = sum(p.power(ramps) for p in parts)
-    order = np.argsort(np.concatenate((knots, ramps)), kind="stable")
-    return PowerHistory(np.concatenate((knots, ramps))[order], np.concatenate((values, ramp_values))[order])
-
-
-def _side_value(history: PowerHistory, knots: np.ndarray, before: bool) -> np.ndarray:
-    """Value of ``history`` just before (or after) each knot; zero outside its table."""
-    t = history.times
-    inside = (knots > t[0]) & (knots <= t[-1]) if before else (knots >= t[0]) & (knots < t[-1])
-    return np.where(inside, np.interp(knots, t, history.powers), 0.0)

@@ -1,7 +1,7 @@
 """Stops from the equation of motion: rejected take-off, landing roll, taxi stop -> BrakingEvent.
 
 Each function integrates the ground roll of :mod:`.ground_roll` and returns a
-:class:`~heatstack.operations.heat_input.BrakingEvent` carrying the power history of the
+:class:`~heatstack.operations.events.BrakingEvent` carrying the power history of the
 modelled brake (``modelled_brake``, counted from 1 among the braked wheels) and the
 integrated roll itself (``ground_roll``: energy accounts, distance, time, the power of
 every brake). No brake share is guessed: the brakes take what the forces leave them.
@@ -15,8 +15,8 @@ from typing import Any
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from ..units import Declaration, declares
+from .events import BrakingEvent
 from .ground_roll import StopResult, accelerate, ground_roll_from_speed_trace, integrate_ground_roll
-from .heat_input import BrakingEvent
 from .roll_inputs import Aircraft, Conditions, Runway, brake_on_ground_speed
 
 __all__ = ["rejected_takeoff", "landing_roll", "taxi_stop", "speed_trace_roll", "event_from_ground_roll"]
@@ -214,7 +214,7 @@ def speed_trace_roll(
     Parameters
     ----------
     path_or_rows : str or os.PathLike or text stream or rows
-        The trace (see :func:`heatstack.operations.heat_input.read_speed_trace`); its
+        The trace (see :func:`heatstack.operations.speed_trace.read_speed_trace`); its
         first sample is brake-on, moved to ``start``.
 
     Other parameters are those of :func:`rejected_takeoff`.

@@ -33,7 +33,7 @@ from ..geometry import HEAT_SINK_MEAN, SurfaceGroup
 from ..model import Model
 from ..numerics.options import SolverOptions
 from ..operations.duty import DutyCycle, DutyPhase, Environment
-from ..operations.heat_input import BrakingEvent
+from ..operations.events import BrakingEvent
 from ..result import Result, State
 from ..units import quantity
 

@@ -16,16 +16,15 @@ import pytest
 from heatstack.errors import InputError, ScheduleError, UnitError
 from heatstack.numerics.schedule import PowerHistory
 from heatstack.operations import atmosphere
+from heatstack.operations.events import BrakingEvent, combine
 from heatstack.operations.heat_input import (
-    BrakingEvent,
-    combine,
     gear_retraction,
-    read_speed_trace,
     stop_from_aircraft,
     stop_from_energy,
     stop_from_speed_trace,
     taxi_snubs,
 )
+from heatstack.operations.speed_trace import read_speed_trace
 from heatstack.units import to_si
 
 LB = 0.45359237

@@ -30,7 +30,8 @@ from heatstack.builders import build_wheel_brake
 from heatstack.errors import InputError, UnitError
 from heatstack.numerics.schedule import PowerHistory
 from heatstack.operations.duty import DutyCycle, DutyPhase, Environment
-from heatstack.operations.heat_input import BrakingEvent, stop_from_energy
+from heatstack.operations.events import BrakingEvent
+from heatstack.operations.heat_input import stop_from_energy
 from heatstack.questions.whatif import CoolingAnswer, WhatIfAnswer, cooling_time_from_state, history_names, what_if
 
 RHO, CP, K = 8900.0, 385.0, 400.0  # copper-like [kg/m^3], [J/(kg K)], [W/(m K)]

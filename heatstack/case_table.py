@@ -1,0 +1,108 @@
+"""Reading one TOML table of a case file: typed getters that name the key path.
+
+:class:`CaseTable` wraps a table of a case file (:mod:`heatstack.case`) with its key
+path (``duty.phases[2].events[0]``); every getter raises an :class:`InputError`
+naming the full key, quantities are converted to SI in the dimension declared for
+the key (:func:`heatstack.case_keys.key_dimension`), and :meth:`CaseTable.finish`
+rejects unknown keys, suggesting the closest valid one.
+"""
+
+from __future__ import annotations
+
+import difflib
+from collections.abc import Mapping
+from typing import Any
+
+from .case_keys import key_dimension
+from .errors import InputError
+from .units import declared_dimensions, quantity
+
+__all__ = ["CaseTable"]
+
+_REQUIRED = object()
+
+
+class CaseTable:
+    """A TOML table being read: typed getters with key paths, unknown keys rejected."""
+
+    def __init__(self, data: Any, path: str, tokens: tuple[str | int, ...] = ()):
+        if not isinstance(data, Mapping):
+            raise InputError(f"{path or 'case'}: expected a table, got {type(data).__name__}")
+        self.data, self.path, self.tokens, self.used = dict(data), path, tokens, set()
+
+    def where(self, key: str) -> str:
+        return f"{self.path}.{key}" if self.path else key
+
+    def has(self, key: str) -> bool:
+        return key in self.data
+
+    def raw(self, key: str, default: Any = _REQUIRED) -> Any:
+        self.used.add(key)
+        if key in self.data:
+            return self.data[key]
+        if default is _REQUIRED:
+            raise InputError(f"{self.where(key)}: missing (required)")
+        return default
+
+    def text(self, key: str, default: Any = _REQUIRED) -> str:
+        value = self.raw(key, default)
+        if value is not default and not isinstance(value, str):
+            raise InputError(f"{self.where(key)}: expected a string, got {value!r}")
+        return value
+
+    def boolean(self, key: str, default: Any = _REQUIRED) -> bool:
+        value = self.raw(key, default)
+        if value is not default and not isinstance(value, bool):
+            raise InputError(f"{self.where(key)}: expected true or false, got {value!r}")
+        return value
+
+    def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0) -> int:
+        value = self.raw(key, default)
+        if value is default:
+            return value
+        if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
+            raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {value!r}")
+        return value
+
+    def quantity(self, key: str, default: Any = _REQUIRED) -> float:
+        """The value at ``key`` in SI, in the dimension declared for it (:func:`key_dimension`)."""
+        value = self.raw(key, default)
+        if value is default:
+            return value
+        return self.convert(value, (*self.tokens, key), self.where(key))
+
+    def convert(self, value: Any, tokens: tuple[str | int, ...], where: str) -> float:
+        dimension = key_dimension(tokens)
+        if dimension is None:
+            raise InputError(f"{where}: no physical dimension is declared for this key")
+        if isinstance(value, bool) or not isinstance(value, int | float | str):
+            raise InputError(f"{where}: expected a number or a quantity such as '20 mm', got {value!r}")
+        return quantity(value, dimension, where)
+
+    def declared(self, cls: type, names: tuple[str, ...] | None = None) -> dict[str, float]:
+        """The keys of this table that are declared fields of ``cls`` (or ``names`` of them), in SI.
+
+        All of them count as valid keys for :meth:`finish`, given or not.
+        """
+        names = tuple(declared_dimensions(cls)) if names is None else names
+        self.used.update(names)
+        return {key: self.quantity(key) for key in names if self.has(key)}
+
+    def table(self, key: str, default: Any = _REQUIRED) -> CaseTable:
+        value = self.raw(key, default)
+        return CaseTable({} if value is None else value, self.where(key), (*self.tokens, key))
+
+    def tables(self, key: str) -> list[CaseTable]:
+        value = self.raw(key, [])
+        if not isinstance(value, list):
+            raise InputError(f"{self.where(key)}: expected an array of tables ([[{self.where(key)}]])")
+        return [CaseTable(item, f"{self.where(key)}[{k}]", (*self.tokens, key, k)) for k, item in enumerate(value)]
+
+    def finish(self, allowed: tuple[str, ...] | None = None) -> None:
+        """Reject keys that were not read (or not in ``allowed``), suggesting the closest."""
+        allowed = tuple(sorted(self.used)) if allowed is None else allowed
+        for key in self.data:
+            if key not in allowed and key not in self.used:
+                close = difflib.get_close_matches(str(key), allowed, n=1, cutoff=0.5)
+                hint = f"; did you mean {close[0]!r}?" if close else f"; valid keys: {', '.join(allowed)}"
+                raise InputError(f"{self.where(str(key))}: unknown key{hint}")
