@@ -26,8 +26,10 @@ from pathlib import Path
 
 from . import __version__
 from .atomic import write_file_atomically
+from .cli_fitting import cmd_calibrate, cmd_fit
+from .cli_turnaround import add_turnaround_verbs
 from .errors import HeatstackError, InputError, ResultFileError
-from .geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN
+from .geometry import HEAT_SINK_MEAN
 from .report import CAUTION
 
 __all__ = ["main", "demo_case_path"]
@@ -282,97 +284,6 @@ def _plot_field_times(result, out: Path, name: str, unit: str, minutes: Sequence
     return written
 
 
-def _cmd_fit(args: argparse.Namespace) -> int:
-    from .case import load_case
-    from .questions.sensor_trace import read_sensor_trace
-
-    case = load_case(args.case)
-    t, T = read_sensor_trace(args.trace)
-    if args.sensor_time_constant_sd is not None or args.contact_conductance_sd is not None:
-        return _fit_with_inputs(args, case, t, T)
-    from .questions.inverse import estimate_energy
-
-    model = case.build_model()
-    estimate = estimate_energy(
-        model,
-        case.duty,
-        case.assembly.surfaces,
-        t,
-        T,
-        case.initial_temperature,
-        sensor=args.sensor,
-        raise_on_failure=False,
-    )
-    state = "converged" if estimate.converged else "NOT converged"
-    print(CAUTION)
-    print(
-        f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {estimate.standard_error / 1e6:.3f} MJ "
-        f"(1 standard error; {state}; {estimate.n_runs} runs; residual rms {estimate.residual_rms:.2f} K)"
-    )
-    _print_fit_details(estimate, case)
-    return 0 if estimate.converged else 1
-
-
-def _print_fit_details(estimate, case) -> None:
-    from .answers.fuse_plugs import assess_fuse_plugs
-
-    if estimate.message:
-        print(estimate.message)
-    predicted = estimate.predicted
-    peaks = [(name, *predicted.peak(name)) for name in (HEAT_SINK_MEAN, HEAT_SINK_MAX) if name in predicted.series]
-    if case.fuse_plugs:  # a plug's peak is its own lagged temperature, as in the report
-        peaks += [(a.name, a.peak, a.time_of_peak) for a in assess_fuse_plugs(predicted, case.fuse_plugs)]
-    for name, value, when in peaks:
-        print(f"  predicted {name:16s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min")
-
-
-def _fit_with_inputs(args: argparse.Namespace, case, t, T) -> int:
-    from .questions.honest_energy import energy_with_input_uncertainty
-    from .units import to_si
-
-    tau_sd = None
-    if args.sensor_time_constant_sd is not None:
-        tau_sd = to_si(args.sensor_time_constant_sd, None, "time", "--sensor-time-constant-sd")
-    honest = energy_with_input_uncertainty(case, t, T, args.sensor, tau_sd, args.contact_conductance_sd)
-    estimate = honest.estimate
-    state = "converged" if estimate.converged else "NOT converged"
-    print(
-        f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {honest.standard_deviation / 1e6:.3f} MJ "
-        f"(1 standard deviation, trace scatter and uncertain inputs; {state})"
-    )
-    print(f"  from the trace scatter: +/- {estimate.standard_error / 1e6:.3f} MJ")
-    for part in honest.contributions:
-        print(
-            f"  from the {part.name}: +/- {part.standard_deviation / 1e6:.3f} MJ "
-            f"(refits {part.energy_low / 1e6:.3f} and {part.energy_high / 1e6:.3f} MJ)"
-        )
-    _print_fit_details(estimate, case)
-    return 0 if estimate.converged else 1
-
-
-def _cmd_calibrate(args: argparse.Namespace) -> int:
-    from .questions.calibrate import calibrate, fit_summary, write_calibration_outputs
-    from .questions.calibration_file import load_calibration
-
-    calibration = load_calibration(args.calibration)
-    out = Path(args.out) if args.out else Path(args.calibration).with_suffix(".calibrated")
-    if out.exists() and not out.is_dir():
-        raise InputError(f"--out: {str(out)!r} is not a folder")
-    if not args.quiet:
-        print(
-            f"heatstack: {calibration.title}: {len(calibration.runs)} runs, {len(calibration.parameters)} parameters, "
-            f"{calibration.n_points} readings",
-            file=sys.stderr,
-        )
-    run = calibrate(calibration)
-    print(run.fit.message)
-    print(fit_summary(run.fit, run.identifiability))
-    print(run.identifiability.statement)
-    for path in write_calibration_outputs(run, out):
-        print(f"wrote: {path}")
-    return 0 if run.fit.converged else 1
-
-
 def _cmd_study(args: argparse.Namespace) -> int:
     from .studies import LocalExecutor, load_study, run_study, sensitivity, study_report
     from .studies.plots import plot_margin_histogram, plot_tornado
@@ -501,217 +412,6 @@ _EXAMPLES_HELP = {
 }
 
 
-# ---------------------------------------------------------------------------- turnaround verbs
-
-
-def _caution() -> None:
-    from .report import CAUTION
-
-    print(CAUTION)
-
-
-def _from_results(path: str):
-    """(case, model, state) of a results file: its stored case, rebuilt, and its final state."""
-    from .case import parse_case
-    from .questions.chaining import read_start, state_for_model
-    from .resultread import read_case_text
-
-    text = read_case_text(path)
-    if not text:
-        raise ResultFileError(f"{path!r} keeps no case text: the model cannot be rebuilt from it")
-    case = parse_case(text, f"the case stored in {path}")
-    model = case.build_model()
-    return case, model, state_for_model(model, read_start(path))
-
-
-def _environment(args: argparse.Namespace, ground_speed: str | float = 0.0):
-    from .operations.duty import Environment
-
-    return Environment(ambient_temperature=args.ambient, fan_speed=args.fan or 0.0, ground_speed=ground_speed)
-
-
-def _stop(text: str, args: argparse.Namespace, name: str):
-    """A stop from "MASS, SPEED" (e.g. "60 t, 120 kt") and the stop options."""
-    from .operations.heat_input import stop_from_aircraft
-
-    parts = [p.strip() for p in text.split(",")]
-    if len(parts) != 2 or not all(parts):
-        raise InputError(f'{name}: expected "MASS, BRAKE-ON SPEED" such as "60 t, 120 kt", got {text!r}')
-    return stop_from_aircraft(
-        parts[0], parts[1], args.braked_wheels, args.brake_share, stop_time=args.stop_time, name=name
-    )
-
-
-def _print_peaks(peaks, now=None) -> None:
-    for name, (value, when) in peaks.items():
-        start = f"  (now {now[name] - 273.15:6.1f} degC)" if now else ""
-        print(f"  {name:20s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min{start}")
-
-
-def _cmd_cool(args: argparse.Namespace) -> int:
-    from .questions.whatif import cooling_time_from_state
-
-    _caution()
-    case, model, state = _from_results(args.results)
-    answer = cooling_time_from_state(
-        model, state, _environment(args), case.assembly.surfaces, args.series, below=args.below, horizon=args.horizon
-    )
-    print(answer.message)
-    return 0
-
-
-def _cmd_what_if(args: argparse.Namespace) -> int:
-    from .questions.whatif import what_if
-
-    _caution()
-    case, model, state = _from_results(args.results)
-    event = _stop(args.event, args, "event")
-    answer = what_if(
-        model,
-        state,
-        event,
-        _environment(args),
-        case.assembly.surfaces,
-        args.after,
-        braking_environment=_environment(args, "60 kt"),
-    )
-    print(f"if a stop of {answer.energy / 1e6:.2f} MJ per brake started now ({state.time / 60.0:.1f} min):")
-    _print_peaks(answer.peaks, answer.now)
-    return 0
-
-
-def _wait_problem(args: argparse.Namespace):
-    from .questions.safe_wait import Departure, DispatchLimits, TyreCheck, WaitProblem
-    from .units import to_si
-
-    case, model, state = _from_results(args.results)
-    tyre = None
-    if case.tyre is not None and case.tyre.pressure_limit is not None:
-        t = case.tyre
-        tyre = TyreCheck(
-            t.cold_pressure,
-            t.pressure_limit,
-            t.gas_volume,
-            t.cavity_area,
-            t.h_cavity,
-            t.outer_conductance,
-            case.initial_temperature,
-        )
-    limits = DispatchLimits(
-        tuple(case.fuse_plugs),
-        to_si(args.plug_margin, None, "temperature_difference", "--plug-margin"),
-        to_si(args.heat_sink_limit, None, "temperature", "--heat-sink-limit") if args.heat_sink_limit else None,
-        tyre=tyre,
-    )
-    departure = Departure(
-        _stop(args.departure, args, "rejected take-off"),
-        _environment(args),
-        _environment(args, "60 kt"),
-        after=to_si(args.after, None, "time", "--after"),
-    )
-    return WaitProblem(model, state, departure, limits, tuple(case.assembly.surfaces))
-
-
-def _cmd_wait(args: argparse.Namespace) -> int:
-    from .questions.safe_wait import shortest_safe_wait
-    from .studies import LocalExecutor
-
-    _caution()
-    problem = _wait_problem(args)
-    with LocalExecutor(workers=args.workers) as executor:
-        answer = shortest_safe_wait(problem, args.max_wait, args.tolerance, executor)
-    print(answer.message)
-    at = answer.at_wait
-    for name, margin, unit in at.margins:
-        shown = f"{margin / 1e5:7.2f} bar" if unit == "Pa" else f"{margin:7.1f} K"
-        print(f"  {name:20s} margin {shown}" + ("   <- governs" if name == answer.governing else ""))
-    if at.sensor_at_departure is not None:
-        print(f"sensor reading expected at departure: {at.sensor_at_departure - 273.15:.0f} degC")
-    if args.plot:
-        from .plotting.dispatch import plot_wait_margin
-
-        print(f"plot: {plot_wait_margin(answer, args.plot)}")
-    return 0
-
-
-def _cmd_day(args: argparse.Namespace) -> int:
-    from .dayfile import load_operations
-    from .questions.day import run_day
-
-    _caution()
-    plan = load_operations(args.operations)
-    day = run_day(plan)
-    for line in day.summary_lines():
-        print(line)
-    if args.plot:
-        from .plotting.dispatch import plot_day
-
-        print(f"plot: {plot_day(day, args.plot)}")
-    return 0
-
-
-def _turnaround_verbs(verbs, loudness: argparse.ArgumentParser) -> None:
-    """The verbs that start from a results file's final state, and the day of operations."""
-    raw = argparse.RawDescriptionHelpFormatter
-    cool = verbs.add_parser(
-        "cool",
-        parents=[loudness],
-        help="time to cool below a temperature from a results file's final state",
-        formatter_class=raw,
-        epilog="example:\n  heatstack cool demo-results.h5 --below 150degC --fan 5m/s",
-    )
-    cool.add_argument("results")
-    cool.add_argument("--below", required=True, help="threshold, e.g. 150degC")
-    cool.add_argument("--series", default=HEAT_SINK_MEAN, help="probe or series (default: %(default)s)")
-    cool.add_argument("--horizon", default="6 h", help="longest time looked at (default: %(default)s)")
-    cool.set_defaults(func=_cmd_cool)
-    what = verbs.add_parser(
-        "what-if",
-        parents=[loudness],
-        help="peaks if a stop started now, from a results file's final state",
-        formatter_class=raw,
-        epilog='example:\n  heatstack what-if demo-results.h5 --event "60 t, 120 kt" --stop-time 35s',
-    )
-    what.add_argument("results")
-    what.add_argument("--event", required=True, help='the stop: "MASS, BRAKE-ON SPEED"')
-    what.add_argument("--after", default="3 h", help="cooling watched after it (default: %(default)s)")
-    what.set_defaults(func=_cmd_what_if)
-    wait = verbs.add_parser(
-        "wait",
-        parents=[loudness],
-        help="shortest safe wait before a departure whose take-off may be rejected",
-        formatter_class=raw,
-        epilog='example:\n  heatstack wait demo-results.h5 --departure "50 t, 110 kt" --heat-sink-limit 900degC',
-    )
-    wait.add_argument("results")
-    wait.add_argument("--departure", required=True, help='the rejected take-off: "MASS, BRAKE-ON SPEED"')
-    wait.add_argument("--plug-margin", default="10 K", help="fuse plugs below release by (default: %(default)s)")
-    wait.add_argument("--heat-sink-limit", help="highest heat-sink peak allowed, e.g. 900degC")
-    wait.add_argument("--after", default="90 min", help="cooling watched after the stop (default: %(default)s)")
-    wait.add_argument("--max-wait", default="4 h", help="longest wait looked at (default: %(default)s)")
-    wait.add_argument("--tolerance", default="30 s", help="accuracy of the wait (default: %(default)s)")
-    wait.add_argument("--workers", type=int, default=2, help="local worker processes (default: %(default)s)")
-    wait.add_argument("--plot", help="PNG file: the margin against wait time")
-    wait.set_defaults(func=_cmd_wait)
-    for verb in (cool, what, wait):
-        verb.add_argument("--ambient", default="15 degC", help="air temperature (default: %(default)s)")
-        verb.add_argument("--fan", help="brake cooling fan air speed, e.g. 5m/s")
-    for verb in (what, wait):
-        verb.add_argument("--stop-time", default="35 s", help="duration of the stop (default: %(default)s)")
-        verb.add_argument("--braked-wheels", type=int, default=4, help="(default: %(default)s)")
-        verb.add_argument("--brake-share", type=float, default=0.9, help="share of kinetic energy braked")
-    day = verbs.add_parser(
-        "day",
-        parents=[loudness],
-        help="run a day of operations (TOML + CSV of flights), per-flight peaks",
-        formatter_class=raw,
-        epilog="example:\n  heatstack day operations.toml --plot day.png",
-    )
-    day.add_argument("operations", help="operations file (TOML)")
-    day.add_argument("--plot", help="PNG file: the day's histories and each departure's margin")
-    day.set_defaults(func=_cmd_day)
-
-
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="heatstack",
@@ -787,14 +487,14 @@ def _parser() -> argparse.ArgumentParser:
         type=float,
         help="treat every contact conductance as uncertain by this relative 1 sd, e.g. 0.3",
     )
-    fit.set_defaults(func=_cmd_fit)
+    fit.set_defaults(func=cmd_fit)
 
     calibrate = verb("calibrate", "fit a case's uncertain parameters to measured test traces")
     calibrate.add_argument("calibration", help="calibration file (TOML: base case, runs with traces, parameters)")
     calibrate.add_argument(
         "--out", help="folder for the calibrated case, reports and figure (default: FILE.calibrated)"
     )
-    calibrate.set_defaults(func=_cmd_calibrate)
+    calibrate.set_defaults(func=cmd_calibrate)
 
     study = verb("study", "run or resume a sweep or Monte Carlo study")
     study.add_argument("study", help="study file (TOML with a [study] table and its base_case)")
@@ -809,7 +509,7 @@ def _parser() -> argparse.ArgumentParser:
     study.add_argument("--unit", choices=units, default="degC")
     study.set_defaults(func=_cmd_study)
 
-    _turnaround_verbs(verbs, loudness)
+    add_turnaround_verbs(verbs, loudness)
 
     materials = verb("materials", "list the shipped materials")
     materials.add_argument("name", nargs="?", help="show this material's tables and their sources")
