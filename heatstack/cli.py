@@ -436,6 +436,16 @@ def _parser() -> argparse.ArgumentParser:
             formatter_class=argparse.RawDescriptionHelpFormatter,
         )
 
+    _add_run_verbs(verb, units)
+    _add_result_verbs(verb, units)
+    _add_study_verbs(verb, units)
+    _add_shipped_verbs(verb)
+    add_turnaround_verbs(verbs, loudness)
+    return parser
+
+
+def _add_run_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units: tuple[str, ...]) -> None:
+    """The verbs that run or check a case: run, demo, check."""
     run = verb("run", "run a case file, write the results file and plots, print the report")
     run.add_argument("case", help="case file (TOML)")
     run.add_argument("--out", help="folder for results and plots (default: the case file's folder)")
@@ -453,6 +463,9 @@ def _parser() -> argparse.ArgumentParser:
     check.add_argument("--layout", help="PNG or SVG file for the r-z layout (default: CASE.layout.png)")
     check.set_defaults(func=_cmd_check)
 
+
+def _add_result_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units: tuple[str, ...]) -> None:
+    """The verbs that read a results file: report, plot, export."""
     report = verb("report", "report on a results file")
     report.add_argument("results", help="results file (.h5)")
     report.add_argument("--format", choices=("text", "markdown", "json"), default="text")
@@ -477,6 +490,9 @@ def _parser() -> argparse.ArgumentParser:
     export.add_argument("--unit", choices=units, help="temperature unit of the CSV (default: the report's)")
     export.set_defaults(func=_cmd_export)
 
+
+def _add_study_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units: tuple[str, ...]) -> None:
+    """The verbs that run a fit or a study: fit, study."""
     fit = verb("fit", "estimate the braking energy from a recorded sensor trace")
     fit.add_argument("case", help="case file whose duty the trace followed")
     fit.add_argument("trace", help="CSV: time_<unit>,temperature_<unit>")
@@ -509,8 +525,9 @@ def _parser() -> argparse.ArgumentParser:
     study.add_argument("--unit", choices=units, default="degC")
     study.set_defaults(func=_cmd_study)
 
-    add_turnaround_verbs(verbs, loudness)
 
+def _add_shipped_verbs(verb: Callable[[str, str], argparse.ArgumentParser]) -> None:
+    """The verbs that show or copy shipped data: materials, example."""
     materials = verb("materials", "list the shipped materials")
     materials.add_argument("name", nargs="?", help="show this material's tables and their sources")
     materials.set_defaults(func=_cmd_materials)
@@ -519,7 +536,6 @@ def _parser() -> argparse.ArgumentParser:
     example.add_argument("name", help=f"one of: {', '.join(EXAMPLES)}")
     example.add_argument("dir", nargs="?", default=".", help="folder to copy into (default: the current folder)")
     example.set_defaults(func=_cmd_example)
-    return parser
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:

@@ -244,22 +244,7 @@ def _read_version_1(rd: _Reader) -> Result:
     if len(part_names) != len(part_roles):
         raise rd.fail("grid/part_names and grid/part_roles differ in length")
 
-    probes: dict[str, np.ndarray] = {}
-    readings: dict[str, np.ndarray] = {}
-    positions: dict[str, tuple[float, float]] = {}
-    time_constants: dict[str, float] = {}
-    probe_group = rd.group("probes")
-    for key in _ordered(probe_group):
-        member = rd.group(key, probe_group)
-        name = rd.name_of(member)
-        if "r" in member.attrs or "z" in member.attrs:
-            positions[name] = (rd.number_attr(member, "r"), rd.number_attr(member, "z"))
-        if "time_constant" in member.attrs:
-            time_constants[name] = rd.number_attr(member, "time_constant")
-        if "local" in member:
-            probes[name] = rd.array("local", "K", 1, member)
-        if "reading" in member:
-            readings[name] = rd.array("reading", "K", 1, member)
+    probes, readings, positions, time_constants = _probes_version_1(rd)
 
     series: dict[str, np.ndarray] = {}
     series_group = rd.group("series")
@@ -267,13 +252,7 @@ def _read_version_1(rd: _Reader) -> Result:
         dataset = rd.dataset(key, series_group)
         series[rd.name_of(dataset)] = rd.array(key, "K", 1, series_group)
 
-    lg = rd.group("ledger")
-    accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
-    labels = rd.texts("friction_labels", lg)
-    split = rd.array("friction_split", "J", 2, lg)
-    if split.shape[0] != len(labels):
-        raise rd.fail("ledger/friction_split and ledger/friction_labels differ in length")
-    ledger = EnergyLedger(**accounts, friction_labels=labels, friction_split=split)
+    ledger = _ledger_version_1(rd)
 
     snaps = rd.group("snapshots")
     snapshot_times = rd.array("times", "s", 1, snaps)
@@ -283,19 +262,7 @@ def _read_version_1(rd: _Reader) -> Result:
     if snapshots.shape[1:] != cells:
         raise rd.fail(f"snapshots/temperature holds fields of shape {snapshots.shape[1:]}, not {cells}")
 
-    final = rd.group("final_state")
-    final_readings = {}
-    if "readings" in final:
-        names = rd.texts("reading_names", final)
-        values = rd.array("readings", "K", 1, final)
-        if len(names) != values.size:
-            raise rd.fail("final_state/reading_names and final_state/readings differ in length")
-        final_readings = {name: float(v) for name, v in zip(names, values, strict=True)}
-    final_state = State(
-        time=rd.scalar("time", "s", final),
-        temperature=rd.array("temperature", "K", 1, final),
-        readings=final_readings,
-    )
+    final_state = _final_state_version_1(rd)
 
     ph = rd.group("phases")
     phase_names = rd.texts("names", ph)
@@ -325,6 +292,57 @@ def _read_version_1(rd: _Reader) -> Result:
         probe_positions=positions,
         probe_time_constants=time_constants,
         metadata=metadata,
+    )
+
+
+def _probes_version_1(
+    rd: _Reader,
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray], dict[str, tuple[float, float]], dict[str, float]]:
+    """Local temperatures, readings, positions [m] and time constants [s] of the probes, by name."""
+    probes: dict[str, np.ndarray] = {}
+    readings: dict[str, np.ndarray] = {}
+    positions: dict[str, tuple[float, float]] = {}
+    time_constants: dict[str, float] = {}
+    probe_group = rd.group("probes")
+    for key in _ordered(probe_group):
+        member = rd.group(key, probe_group)
+        name = rd.name_of(member)
+        if "r" in member.attrs or "z" in member.attrs:
+            positions[name] = (rd.number_attr(member, "r"), rd.number_attr(member, "z"))
+        if "time_constant" in member.attrs:
+            time_constants[name] = rd.number_attr(member, "time_constant")
+        if "local" in member:
+            probes[name] = rd.array("local", "K", 1, member)
+        if "reading" in member:
+            readings[name] = rd.array("reading", "K", 1, member)
+    return probes, readings, positions, time_constants
+
+
+def _ledger_version_1(rd: _Reader) -> EnergyLedger:
+    """The energy ledger [J] of a version 1 file."""
+    lg = rd.group("ledger")
+    accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
+    labels = rd.texts("friction_labels", lg)
+    split = rd.array("friction_split", "J", 2, lg)
+    if split.shape[0] != len(labels):
+        raise rd.fail("ledger/friction_split and ledger/friction_labels differ in length")
+    return EnergyLedger(**accounts, friction_labels=labels, friction_split=split)
+
+
+def _final_state_version_1(rd: _Reader) -> State:
+    """The state at the end of the record in a version 1 file."""
+    final = rd.group("final_state")
+    final_readings = {}
+    if "readings" in final:
+        names = rd.texts("reading_names", final)
+        values = rd.array("readings", "K", 1, final)
+        if len(names) != values.size:
+            raise rd.fail("final_state/reading_names and final_state/readings differ in length")
+        final_readings = {name: float(v) for name, v in zip(names, values, strict=True)}
+    return State(
+        time=rd.scalar("time", "s", final),
+        temperature=rd.array("temperature", "K", 1, final),
+        readings=final_readings,
     )
 
 
@@ -360,10 +378,10 @@ def _series_version_2(rd: _Reader, n: int) -> dict[str, np.ndarray]:
     return series
 
 
-def _read_version_2(rd: _Reader) -> Result:
-    """A Result from a file of format version 2: the netCDF-4 / CF layout."""
-    times = rd.array("time", "s", 1)
-    n = times.size
+def _probes_version_2(
+    rd: _Reader, n: int
+) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray], dict[str, tuple[float, float]], dict[str, float]]:
+    """Local temperatures, readings, positions [m] and time constants [s] of the probes, by name."""
     names = rd.texts("probe")
     content = rd.array("probe_content", "1", 1, kind="iu")
     r = rd.array("probe_r", "m", 1)
@@ -387,6 +405,43 @@ def _read_version_2(rd: _Reader) -> Result:
             positions[name] = (float(r[k]), float(z[k]))
         if flags & PROBE_HAS_TIME_CONSTANT:
             time_constants[name] = float(constants[k])
+    return probes, readings, positions, time_constants
+
+
+def _ledger_version_2(rd: _Reader, n: int) -> EnergyLedger:
+    """The energy ledger [J] of a version 2 file, each account ``n`` record times long."""
+    lg = rd.group("ledger")
+    accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
+    if any(values.size != n for values in accounts.values()):
+        raise rd.fail("a ledger account differs in length from 'time'")
+    labels = rd.texts("rubbing_interface", lg)
+    split = rd.array("friction_split", "J", 2, lg)
+    if split.shape[0] != len(labels):
+        raise rd.fail("ledger/friction_split and ledger/rubbing_interface differ in length")
+    return EnergyLedger(**accounts, friction_labels=labels, friction_split=split)
+
+
+def _final_state_version_2(rd: _Reader) -> State:
+    """The state at the end of the record in a version 2 file."""
+    final = rd.group("final_state")
+    lagged = rd.texts("lagged_probe", final)
+    values = rd.array("reading", "K", 1, final)
+    if len(lagged) != values.size:
+        raise rd.fail("final_state/lagged_probe and final_state/reading differ in length")
+    return State(
+        time=rd.scalar("final_time", "s", final),
+        temperature=rd.array("temperature", "K", 1, final),
+        readings={name: float(v) for name, v in zip(lagged, values, strict=True)},
+        plug_temperatures=_plug_temperatures(rd, final),
+        step=rd.scalar("step", "s", final) if "step" in final else None,
+    )
+
+
+def _read_version_2(rd: _Reader) -> Result:
+    """A Result from a file of format version 2: the netCDF-4 / CF layout."""
+    times = rd.array("time", "s", 1)
+    n = times.size
+    probes, readings, positions, time_constants = _probes_version_2(rd, n)
     series = _series_version_2(rd, n)
 
     r_edges = rd.array("r_edge", "m", 1)
@@ -404,28 +459,9 @@ def _read_version_2(rd: _Reader) -> Result:
     if snapshots.shape != (snapshot_times.size, *cells):
         raise rd.fail(f"temperature has shape {snapshots.shape}, expected {(snapshot_times.size, *cells)}")
 
-    lg = rd.group("ledger")
-    accounts = {account: rd.array(account, "J", 1, lg) for account in LEDGER_ACCOUNTS}
-    if any(values.size != n for values in accounts.values()):
-        raise rd.fail("a ledger account differs in length from 'time'")
-    labels = rd.texts("rubbing_interface", lg)
-    split = rd.array("friction_split", "J", 2, lg)
-    if split.shape[0] != len(labels):
-        raise rd.fail("ledger/friction_split and ledger/rubbing_interface differ in length")
-    ledger = EnergyLedger(**accounts, friction_labels=labels, friction_split=split)
+    ledger = _ledger_version_2(rd, n)
 
-    final = rd.group("final_state")
-    lagged = rd.texts("lagged_probe", final)
-    values = rd.array("reading", "K", 1, final)
-    if len(lagged) != values.size:
-        raise rd.fail("final_state/lagged_probe and final_state/reading differ in length")
-    final_state = State(
-        time=rd.scalar("final_time", "s", final),
-        temperature=rd.array("temperature", "K", 1, final),
-        readings={name: float(v) for name, v in zip(lagged, values, strict=True)},
-        plug_temperatures=_plug_temperatures(rd, final),
-        step=rd.scalar("step", "s", final) if "step" in final else None,
-    )
+    final_state = _final_state_version_2(rd)
     initial_plugs = _plug_temperatures(rd, rd.h5["initial_plugs"]) if "initial_plugs" in rd.h5 else {}
 
     ph = rd.group("phases")

@@ -4,6 +4,9 @@ pandas and xarray are optional (``pip install "heatstack[data]"``): they are imp
 when :func:`history_frame` or :func:`result_dataset` is called, and their absence is an
 :class:`~heatstack.errors.OptionalDependencyError` saying how to install them. The CSV rows
 (:func:`history_rows`, :func:`ledger_rows`) need neither.
+
+The result is taken duck-typed (a :class:`heatstack.result.Result`, not imported here,
+so that ``Result.to_dataframe`` / ``Result.to_xarray`` can call this module).
 """
 
 from __future__ import annotations
@@ -12,15 +15,12 @@ import importlib
 from collections.abc import Iterator
 from dataclasses import dataclass
 from types import ModuleType
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 
 from .errors import OptionalDependencyError
 from .resultformat import LEDGER_ACCOUNTS, OWN_VARIABLE, SURFACE_SERIES, series_place
-
-if TYPE_CHECKING:
-    from .result import Result
 
 __all__ = [
     "DATA_EXTRA",
@@ -77,7 +77,7 @@ class HistoryColumn:
     values: np.ndarray
 
 
-def history_columns(result: Result) -> tuple[HistoryColumn, ...]:
+def history_columns(result: Any) -> tuple[HistoryColumn, ...]:
     """Every temperature history of ``result``: probe readings, local probe values, then the series."""
     return (
         *(HistoryColumn(name, READING, np.asarray(v, dtype=float)) for name, v in result.readings.items()),
@@ -86,7 +86,7 @@ def history_columns(result: Result) -> tuple[HistoryColumn, ...]:
     )
 
 
-def history_frame(result: Result) -> Any:
+def history_frame(result: Any) -> Any:
     """The histories of ``result`` as a tidy pandas DataFrame, one row per (time, history).
 
     Parameters
@@ -120,7 +120,7 @@ def history_frame(result: Result) -> Any:
     return frame
 
 
-def result_dataset(result: Result) -> Any:
+def result_dataset(result: Any) -> Any:
     """The histories and field snapshots of ``result`` as an xarray Dataset.
 
     The same names, coordinates and attributes as the root of a results file opened with
@@ -213,7 +213,7 @@ def result_dataset(result: Result) -> Any:
     return xarray.Dataset(data, coords=coords, attrs={"Conventions": "CF-1.11", "source": "heatstack"})
 
 
-def history_rows(result: Result, temperature: Any = None) -> Iterator[list[float]]:
+def history_rows(result: Any, temperature: Any = None) -> Iterator[list[float]]:
     """Rows of the wide history table: the record time [s], then every history of :func:`history_columns`.
 
     ``temperature``, if given, converts an array of kelvin to the output unit.
@@ -225,7 +225,7 @@ def history_rows(result: Result, temperature: Any = None) -> Iterator[list[float
         yield [float(x) for x in row]
 
 
-def ledger_rows(result: Result) -> Iterator[list[float]]:
+def ledger_rows(result: Any) -> Iterator[list[float]]:
     """Rows of the ledger table: time [s], each cumulative account [J] and the closure error [J]."""
     ledger = result.ledger
     table = np.column_stack(

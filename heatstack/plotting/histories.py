@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import os
 from collections.abc import Sequence
-from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -32,41 +31,15 @@ from .common import (
     to_temperature_unit,
 )
 from .labels import LabelPlacer
+from .timeaxis import PHASE_FILLS, Curve, Panel, draw_curves, panel_at, shade_phases, time_panels
 
 __all__ = ["plot_histories", "plot_sensor_offset", "plot_why_the_gauge_lags"]
 
-_PHASE_FILLS = ("#e9ecf1", "#f7f7f8")
 _SERIES_LABELS = {
     HEAT_SINK_MEAN: "heat-sink mean (mass-weighted)",
     HEAT_SINK_MAX: "heat sink, hottest cell",
     WHEEL_MAX: "wheel, hottest cell",
 }
-#: The time axis is split when braking takes less than this fraction of the record.
-_SPLIT_BELOW = 0.08
-#: The expanded left panel shows at least this long [s] and at least this many braking durations.
-_EXPANDED_MIN, _EXPANDED_FACTOR = 120.0, 3.0
-
-
-@dataclass(frozen=True)
-class _Curve:
-    """One drawn curve: legend label, values [display unit], look, and the text before its peak label."""
-
-    label: str
-    values: np.ndarray
-    colour: str
-    dashes: tuple
-    width: float
-    peak_prefix: str = ""
-    mark_peak: bool = True
-
-
-@dataclass(frozen=True)
-class _Panel:
-    """One time panel of a row: its axes and the time span [s] it shows."""
-
-    ax: object
-    start: float
-    end: float
 
 
 # --------------------------------------------------------------------------- shared pieces
@@ -79,126 +52,9 @@ def _history_label(result: Result, name: str) -> str:
     return _SERIES_LABELS.get(name, name)
 
 
-def _history_curve(result: Result, name: str, unit: str, sensor: str = "sensor") -> _Curve:
+def _history_curve(result: Result, name: str, unit: str, sensor: str = "sensor") -> Curve:
     colour, dashes, width = style_for(name, sensor)
-    return _Curve(_history_label(result, name), to_temperature_unit(result.history(name), unit), colour, dashes, width)
-
-
-def _time_spans(result: Result) -> list[tuple[float, float]]:
-    """Time spans [s] of the panels: the whole record, or the braking expanded and the rest.
-
-    The axis is split when braking ends within the first few per cent of the record, so the
-    braking minute gets a panel of its own instead of a sliver at the left edge.
-    """
-    t0, t1 = float(result.times[0]), float(result.times[-1])
-    t_end = float(result.end_of_heating)
-    if not (t0 < t_end < t1) or (t_end - t0) > _SPLIT_BELOW * (t1 - t0):
-        return [(t0, t1)]
-    cut = min(t0 + max(_EXPANDED_FACTOR * (t_end - t0), _EXPANDED_MIN), t0 + 0.25 * (t1 - t0))
-    return [(t0, cut), (cut, t1)]
-
-
-def _time_panels(fig: Figure, result: Result, height_ratios: Sequence[float] = (1.0,)) -> list[list[_Panel]]:
-    """Rows of time panels sharing the temperature axis per row and the time axis per column."""
-    spans = _time_spans(result)
-    axes = fig.subplots(
-        len(height_ratios),
-        len(spans),
-        sharex="col",
-        sharey="row",
-        squeeze=False,
-        gridspec_kw={"height_ratios": list(height_ratios), "width_ratios": [1.0, 2.4][: len(spans)]},
-    )
-    if len(spans) > 1:
-        fig.get_layout_engine().set(wspace=0.0, w_pad=0.02)
-    rows = []
-    for row in axes:
-        panels = [_Panel(ax, lo, hi) for ax, (lo, hi) in zip(row, spans, strict=True)]
-        for k, panel in enumerate(panels):
-            panel.ax.set_xlim(panel.start / 60.0, panel.end / 60.0)
-            panel.ax.grid(True, color="0.87", lw=0.5, zorder=0.5)
-            panel.ax.set_axisbelow(True)
-            if k > 0:
-                panel.ax.spines["left"].set_linestyle((0, (3, 2)))
-                panel.ax.tick_params(axis="y", left=False)
-        rows.append(panels)
-    bottom = rows[-1]
-    if len(bottom) > 1:
-        bottom[0].ax.set_xlabel("Time [min]  (braking, expanded)")
-        bottom[1].ax.set_xlabel("Time [min]  (scale changes at the dashed edge)")
-    else:
-        bottom[0].ax.set_xlabel("Time [min]")
-    return rows
-
-
-def _panel_at(panels: Sequence[_Panel], t: float) -> _Panel:
-    """The panel whose span holds time ``t`` [s]."""
-    for panel in panels:
-        if t <= panel.end:
-            return panel
-    return panels[-1]
-
-
-def _draw_curves(panels: Sequence[_Panel], minutes: np.ndarray, curves: Sequence[_Curve], legend: bool = True) -> None:
-    for panel in panels:
-        for curve in curves:
-            panel.ax.plot(
-                minutes,
-                curve.values,
-                color=curve.colour,
-                ls=curve.dashes,
-                lw=curve.width,
-                label=curve.label if legend and panel is panels[0] else None,
-                zorder=3,
-            )
-
-
-def _shade_phases(fig: Figure, panels: Sequence[_Panel], phases: Sequence[tuple[str, float, float]]) -> str:
-    """Alternating light bands for the duty phases, their names in one row above the axes.
-
-    A name wider than its band is replaced by its number, and the numbered names are returned as
-    a key line (``"phases: 1 rejected take-off stop; ..."``) for the title; names never stack.
-    """
-    labels = []
-    for k, (name, start, end) in enumerate(phases):
-        best = None
-        for panel in panels:
-            lo, hi = max(start, panel.start), min(end, panel.end)
-            if hi <= lo:
-                continue
-            panel.ax.axvspan(lo / 60.0, hi / 60.0, color=_PHASE_FILLS[k % 2], lw=0, zorder=0)
-            x0, x1 = panel.ax.transData.transform([(lo / 60.0, 0.0), (hi / 60.0, 0.0)])[:, 0]
-            if best is None or x1 - x0 > best[0]:
-                best = (x1 - x0, panel, lo, hi)
-        if best is not None:
-            labels.append((k + 1, name, *best))
-    fig.draw_without_rendering()
-    renderer = fig.canvas.get_renderer()
-    keyed = []
-    for number, name, width, panel, lo, hi in labels:
-        label = panel.ax.annotate(
-            name,
-            xy=(0.5 * (lo + hi) / 60.0, 1.0),
-            xycoords=("data", "axes fraction"),
-            xytext=(0, 2),
-            textcoords="offset points",
-            ha="center",
-            va="bottom",
-            fontsize=7.5,
-            color="0.3",
-            annotation_clip=False,
-        )
-        if label.get_window_extent(renderer).width + 6.0 > width and " " in name:
-            words = name.split()
-            half = max(1, len(words) // 2)
-            label.set_text(" ".join(words[:half]) + "\n" + " ".join(words[half:]))
-            label.set_multialignment("center")
-        if label.get_window_extent(renderer).width + 6.0 > width:
-            label.set_text(str(number))
-            keyed.append(f"{number} {name}")
-            if label.get_window_extent(renderer).width + 2.0 > width:
-                label.set_visible(False)
-    return ("phases: " + "; ".join(keyed)) if keyed else ""
+    return Curve(_history_label(result, name), to_temperature_unit(result.history(name), unit), colour, dashes, width)
 
 
 def _title(fig: Figure, text: str, key: str) -> None:
@@ -229,14 +85,14 @@ def _peak(times: np.ndarray, values: np.ndarray) -> tuple[float, float]:
     return float(times[k]), float(values[k])
 
 
-def _mark_peaks(fig: Figure, panels: Sequence[_Panel], result: Result, curves: Sequence[_Curve], symbol: str) -> dict:
+def _mark_peaks(fig: Figure, panels: Sequence[Panel], result: Result, curves: Sequence[Curve], symbol: str) -> dict:
     """Mark and label each curve's peak in the panel holding it, hottest first; return the placers by axes."""
     peaks = []
     for curve in curves:
         if not curve.mark_peak:
             continue
         t, v = _peak(result.times, curve.values)
-        panel = _panel_at(panels, t)
+        panel = panel_at(panels, t)
         panel.ax.plot([t / 60.0], [v], "o", ms=4, color=curve.colour, mec="white", mew=0.6, zorder=4)
         peaks.append((panel, t, v, f"{curve.peak_prefix}{v:.0f} {symbol} at {minutes_text(t)}", curve.colour))
     placers = {id(p.ax): LabelPlacer(fig, p.ax) for p in panels}
@@ -283,7 +139,7 @@ def _joined_names(names: Sequence[str]) -> str:
     return ", ".join(names)
 
 
-def _draw_thresholds(fig: Figure, panels: Sequence[_Panel], groups, symbol: str) -> None:
+def _draw_thresholds(fig: Figure, panels: Sequence[Panel], groups, symbol: str) -> None:
     """Release temperatures and limits as thin lines in their series' colour, one label per value.
 
     Call after the temperature axis is scaled; a label too close to the one below goes under its line.
@@ -392,12 +248,12 @@ def plot_histories(
     curves = [_history_curve(result, name, unit) for name in names]
 
     fig = new_figure(10.0, 5.6)
-    panels = _time_panels(fig, result)[0]
-    _draw_curves(panels, result.times / 60.0, curves)
+    panels = time_panels(fig, result)[0]
+    draw_curves(panels, result.times / 60.0, curves)
     groups = _threshold_groups(thresholds, names, unit)
     _headroom(panels[0].ax, [c.values for c in curves] + [np.array([g[0] for g in groups])])
     panels[0].ax.set_ylabel(f"Temperature [{symbol}]")
-    key = _shade_phases(fig, panels, result.phases)
+    key = shade_phases(fig, panels, result.phases)
     _title(fig, "Temperature histories (probe readings, global series)", key)
     _legend(fig)
     _draw_thresholds(fig, panels, groups, symbol)
@@ -443,8 +299,8 @@ def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "s
     mean_k = _series(result, HEAT_SINK_MEAN)
     local = SERIES_STYLES["sensor_local"]
     curves = [
-        _Curve(f"{sensor} reading", to_temperature_unit(reading_k, unit), *style_for(sensor, sensor)),
-        _Curve(
+        Curve(f"{sensor} reading", to_temperature_unit(reading_k, unit), *style_for(sensor, sensor)),
+        Curve(
             f"{sensor} location, local",
             to_temperature_unit(result.probes[sensor], unit),
             local.colour,
@@ -452,17 +308,17 @@ def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "s
             local.width,
             mark_peak=False,
         ),
-        _Curve("heat-sink mean", to_temperature_unit(mean_k, unit), *style_for(HEAT_SINK_MEAN)),
+        Curve("heat-sink mean", to_temperature_unit(mean_k, unit), *style_for(HEAT_SINK_MEAN)),
     ]
     if HEAT_SINK_MAX in result.series:
         hottest = to_temperature_unit(result.series[HEAT_SINK_MAX], unit)
-        curves.append(_Curve("heat sink, hottest cell", hottest, *style_for(HEAT_SINK_MAX), mark_peak=False))
+        curves.append(Curve("heat sink, hottest cell", hottest, *style_for(HEAT_SINK_MAX), mark_peak=False))
     offset = to_difference_unit(reading_k - mean_k, unit)
 
     fig = new_figure(10.0, 6.4)
-    top, bottom = _time_panels(fig, result, height_ratios=(2.6, 1.0))
+    top, bottom = time_panels(fig, result, height_ratios=(2.6, 1.0))
     minutes = result.times / 60.0
-    _draw_curves(top, minutes, curves)
+    draw_curves(top, minutes, curves)
     _headroom(top[0].ax, [c.values for c in curves])
     top[0].ax.set_ylabel(f"Temperature [{symbol}]")
     style = SERIES_STYLES["offset"]
@@ -477,19 +333,19 @@ def plot_sensor_offset(result: Result, path: str | os.PathLike, sensor: str = "s
         panel.ax.axhline(0.0, color="0.35", lw=0.7, ls=(0, (1, 2)))
     _headroom(bottom[0].ax, [offset, np.zeros(1)], top=0.15, bottom=0.15)
     bottom[0].ax.set_ylabel(f"Offset [{symbol}]\nreading − mean")
-    key = _shade_phases(fig, top, result.phases)
+    key = shade_phases(fig, top, result.phases)
     for panel in bottom:
         for k, (_, start, end) in enumerate(result.phases):
             lo, hi = max(start, panel.start), min(end, panel.end)
             if hi > lo:
-                panel.ax.axvspan(lo / 60.0, hi / 60.0, color=_PHASE_FILLS[k % 2], lw=0, zorder=0)
+                panel.ax.axvspan(lo / 60.0, hi / 60.0, color=PHASE_FILLS[k % 2], lw=0, zorder=0)
     _title(fig, f"Sensor offset: {sensor} reading against the heat-sink temperature", key)
     _legend(fig)
     _mark_peaks(fig, top, result, curves, symbol)
     k_low = int(np.argmin(offset))
     if offset[k_low] < 0:
         t_low, v_low = float(result.times[k_low]), float(offset[k_low])
-        panel = _panel_at(bottom, t_low)
+        panel = panel_at(bottom, t_low)
         panel.ax.plot([t_low / 60.0], [v_low], "v", ms=5, color="0.25", zorder=4)
         right = [(8.0, 0.0, "left", "center", False), (8.0, 6.0, "left", "bottom", False)]
         LabelPlacer(fig, panel.ax).place(
@@ -555,12 +411,12 @@ def plot_why_the_gauge_lags(
     curves, extra = _gauge_lag_curves(result, names, sensor, unit)
 
     fig = new_figure(10.0, 5.8)
-    panels = _time_panels(fig, result)[0]
-    _draw_curves(panels, result.times / 60.0, curves)
+    panels = time_panels(fig, result)[0]
+    draw_curves(panels, result.times / 60.0, curves)
     groups = _threshold_groups(thresholds, extra, unit)
     _headroom(panels[0].ax, [c.values for c in curves] + [np.array([g[0] for g in groups])], top=0.3)
     panels[0].ax.set_ylabel(f"Temperature [{symbol}]")
-    key = _shade_phases(fig, panels, result.phases)
+    key = shade_phases(fig, panels, result.phases)
     title = "Why the gauge lags: heat soaks from the heat sink into the sensor"
     _title(fig, title + (" and the wheel" if wheel_default and extra else ""), key)
     _legend(fig)
@@ -573,19 +429,19 @@ def plot_why_the_gauge_lags(
         for panel in panels:
             panel.ax.axvline(t_end / 60.0, color="0.15", lw=1.0, ls=(0, (4, 2)), zorder=2)
     if braked:
-        _end_of_braking_label(_panel_at(panels, t_end).ax, t_end)
+        _end_of_braking_label(panel_at(panels, t_end).ax, t_end)
     placers = _mark_peaks(fig, panels, result, curves, symbol)
     if braked:
         t_read, v_read = _peak(result.times, curves[2].values)
         t_local, _ = _peak(result.times, curves[1].values)
         if t_read > t_end:
-            _annotate_sensor_delay(placers[id(_panel_at(panels, t_read).ax)], sensor, t_end, t_local, (t_read, v_read))
+            _annotate_sensor_delay(placers[id(panel_at(panels, t_read).ax)], sensor, t_end, t_local, (t_read, v_read))
     return save_figure(fig, target, fmt)
 
 
 def _gauge_lag_curves(
     result: Result, names: Sequence[str] | str | None, sensor: str, unit: str
-) -> tuple[list[_Curve], list[str]]:
+) -> tuple[list[Curve], list[str]]:
     """Curves of the gauge-lag figure, and the names of the further histories among them.
 
     First the heat-sink mean, the local temperature at the sensor and its reading; then ``names`` (by
@@ -601,8 +457,8 @@ def _gauge_lag_curves(
     extra = [n for n in dict.fromkeys(names) if n not in (sensor, HEAT_SINK_MEAN)]
     local = SERIES_STYLES["sensor_local"]
     curves = [
-        _Curve("heat-sink mean", to_temperature_unit(mean, unit), *style_for(HEAT_SINK_MEAN)),
-        _Curve(
+        Curve("heat-sink mean", to_temperature_unit(mean, unit), *style_for(HEAT_SINK_MEAN)),
+        Curve(
             f"{sensor} location, local temperature",
             to_temperature_unit(result.probes[sensor], unit),
             local.colour,
@@ -610,7 +466,7 @@ def _gauge_lag_curves(
             local.width,
             peak_prefix="local ",
         ),
-        _Curve(f"{sensor} reading", to_temperature_unit(reading, unit), *style_for(sensor, sensor), "reading "),
+        Curve(f"{sensor} reading", to_temperature_unit(reading, unit), *style_for(sensor, sensor), "reading "),
     ]
     curves += [_history_curve(result, name, unit, sensor) for name in extra]
     return curves, extra
