@@ -592,6 +592,7 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
         warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
     messages = list(dict.fromkeys(str(item.message) for item in caught))
     result.metadata.update({"case_title": case.title, "case_origin": case.origin, "warnings": messages})
+    result.metadata["stops"] = case.duty.stop_accounts()  # the ground rolls' energy accounts, for the report
     if case.initial_state is not None:
         result.metadata.update({"initial_state": case.initial_state, "initial_state_note": note})
     return result

@@ -44,6 +44,7 @@ from .report_text import (
     energy_sentence,
     report_tables,
     sensor_sentences,
+    stop_sentences,
     tyre_sentences,
     unit_symbols,
 )
@@ -231,6 +232,7 @@ def _sections(result: Result, settings: ReportSettings) -> dict[str, Any]:
     if settings.cooling_below is not None:
         report["cooling"] = _cooling_section(result, settings)
     report["energy"] = _energy_section(result)
+    report["stops"] = list(result.metadata.get("stops", []))
     return report
 
 
@@ -472,6 +474,8 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
             lines += ["", report["fuse_plug_note"]]
         if sentences is not None:
             lines += sentences(report)
+    if report.get("stops"):
+        lines += _heading("The stops: where the kinetic energy went", md) + stop_sentences(report)
     lines += _heading("Energy ledger [MJ]", md) + [energy_sentence(report["energy"])]
     return "\n".join(lines) + "\n"
 

@@ -29,6 +29,7 @@ from .report_text import (
     end_of_braking_sentence,
     report_tables,
     sensor_sentences,
+    stop_sentences,
     tyre_sentences,
     unit_symbols,
 )
@@ -45,6 +46,7 @@ SECTIONS = (
     "limits",
     "tyre",
     "cooling",
+    "stops",
     "energy",
     "figures",
     "case",
@@ -96,6 +98,7 @@ _TITLES = {
     "limits": "Limits",
     "tyre": "Tyre gas",
     "cooling": "Cooling time",
+    "stops": "The stops: where the kinetic energy went",
     "energy": "Energy ledger",
     "figures": "Figures",
     "case": "Case file",
@@ -196,6 +199,8 @@ def _section_bodies(report: Mapping[str, Any], figures: Sequence[Path], case_tex
         bodies["tyre"] = _paragraphs(tyre_sentences(report))
     if report.get("cooling"):
         bodies["cooling"] = _paragraphs(cooling_sentences(report))
+    if report.get("stops"):
+        bodies["stops"] = _paragraphs([t for t in stop_sentences(report) if t])
     bodies["energy"] = _energy_html(report["energy"])
     if figures:
         bodies["figures"] = "".join(_figure(Path(f)) for f in figures)

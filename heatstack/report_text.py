@@ -21,6 +21,7 @@ __all__ = [
     "tyre_sentences",
     "cooling_sentences",
     "energy_sentence",
+    "stop_sentences",
     "shown_temperature",
     "shown_difference",
     "shown_minutes",
@@ -194,3 +195,29 @@ def energy_sentence(e: Mapping[str, Any]) -> str:
         f"radiated {e['radiated_J'] / 1e6:.3f}, stored {e['stored_J'] / 1e6:.3f}; "
         f"closure error {e['relative_closure_error']:.1e} of the input."
     )
+
+
+_STOP_TERMS = (
+    ("brakes_J", "brakes"),
+    ("reverse_thrust_J", "reverse thrust"),
+    ("drag_J", "aerodynamic drag"),
+    ("rolling_resistance_J", "rolling resistance"),
+    ("potential_energy_J", "potential energy gained"),
+    ("forward_thrust_J", "forward thrust work (taken off)"),
+)
+
+
+def stop_sentences(report: Mapping[str, Any]) -> list[str]:
+    """One paragraph per ground-roll stop: distance, time, where the kinetic energy went, energy per brake."""
+    out = []
+    for stop in report.get("stops", []):
+        terms = ", ".join(f"{label} {stop[key] / 1e6:.2f}" for key, label in _STOP_TERMS)
+        per_brake = ", ".join(f"{e / 1e6:.2f}" for e in stop["energy_per_brake_J"])
+        out.append(
+            f"{stop['event']} ({stop['phase']}): from {stop['brake_on_speed_m_per_s'] / 0.514444:.1f} kt ground "
+            f"speed, {stop['stopping_distance_m']:.0f} m in {stop['stopping_time_s']:.1f} s. Kinetic energy "
+            f"removed {stop['kinetic_energy_removed_J'] / 1e6:.2f} MJ: {terms} MJ (closure "
+            f"{stop['closure_J']:.2g} J). Energy per brake [MJ]: {per_brake}."
+        )
+        out.append("")
+    return out[:-1] if out else out

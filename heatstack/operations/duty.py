@@ -253,6 +253,37 @@ class DutyCycle:
             for event in phase.events
         ]
 
+    def stop_accounts(self) -> list[dict[str, Any]]:
+        """The energy accounts of every event built from the equation of motion, in SI with units in the keys.
+
+        Returns
+        -------
+        list of dict
+            Per ground-roll event: ``phase``, ``event``, ``brake_on_speed_m_per_s``, ``stopping_distance_m``,
+            ``stopping_time_s``, ``energy_per_brake_J`` (one per braked wheel) and each account of
+            :class:`~heatstack.operations.ground_roll.EnergyAccounts` [J] with its closure.
+        """
+        rows = []
+        for phase in self.phases:
+            for event in phase.events:
+                roll = getattr(event, "ground_roll", None)
+                if roll is None:
+                    continue
+                accounts = {f"{name}_J": float(value) for name, value in vars(roll.accounts).items()}
+                rows.append(
+                    {
+                        "phase": phase.name,
+                        "event": event.name,
+                        "brake_on_speed_m_per_s": float(roll.brake_on_speed),
+                        "stopping_distance_m": float(roll.stopping_distance),
+                        "stopping_time_s": float(roll.stopping_time),
+                        "energy_per_brake_J": [float(e) for e in roll.energy_per_brake],
+                        **accounts,
+                        "closure_J": float(roll.accounts.closure),
+                    }
+                )
+        return rows
+
     def schedule(
         self,
         surfaces: Sequence[SurfaceGroup],

@@ -190,7 +190,7 @@ def test_a_tyre_without_outer_conductance_gets_the_estimate(demo_run):
 
 def _unnamed_numbers(node, key=""):
     """Keys of numeric leaves that do not name a unit."""
-    units = ("_K", "_s", "_J", "_Pa", "_Pa_gauge", "_W_per_K", "_kg")
+    units = ("_K", "_s", "_J", "_Pa", "_Pa_gauge", "_W_per_K", "_kg", "_m")
     if isinstance(node, dict):
         return [bad for k, v in node.items() for bad in _unnamed_numbers(v, k)]
     if isinstance(node, list):
@@ -253,3 +253,16 @@ def test_materials_and_check_carry_the_caution(tmp_path, capsys):
     case.write_text(SMALL)
     assert main(["check", str(case)]) == 0
     assert "local regulations" in capsys.readouterr().out
+
+
+def test_the_report_gives_each_stops_energy_accounts(demo_run, demo_report):
+    # the demo's rejected take-off comes from the equation of motion: its accounts reach every report, and the
+    # energy its modelled brake takes is what the thermal model was given (the ledger's heat in)
+    _, result = demo_run
+    (stop,) = demo_report["stops"]
+    assert stop["stopping_distance_m"] > 0 and stop["stopping_time_s"] > 0
+    assert abs(stop["closure_J"]) <= 1e-9 * stop["kinetic_energy_removed_J"]
+    assert stop["energy_per_brake_J"][0] == pytest.approx(float(result.ledger.heat_in[-1]), rel=1e-6)
+    text = format_report(demo_report, "text")
+    assert "where the kinetic energy went" in text and "reverse thrust" in text
+    assert json.loads(format_report(demo_report, "json"))["stops"][0]["brakes_J"] == stop["brakes_J"]
