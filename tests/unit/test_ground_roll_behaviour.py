@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from roll_case import DRY, KT, aircraft
 
 from heatstack.errors import InputError
 from heatstack.operations.duty import DutyCycle, DutyPhase
@@ -12,42 +13,14 @@ from heatstack.operations.ground_roll import ground_roll_from_speed_trace, integ
 from heatstack.operations.roll_inputs import Aircraft, Conditions, Runway
 from heatstack.operations.stops import landing_roll, rejected_takeoff, taxi_stop
 
-KT = 1852.0 / 3600.0  # [m/s], exact
-
-
-# An INVENTED twin-engine aircraft and runway for these tests only.
-REVERSE_TABLE = [["0 kt", "15 kN"], ["60 kt", "25 kN"], ["160 kt", "40 kN"]]
-
-
-def _aircraft(**changes) -> Aircraft:
-    values = dict(
-        mass="70 t",
-        drag_area="5 m^2",
-        lift_area="80 m^2",
-        lift_area_dumped="8 m^2",
-        spoiler_time="1.5 s",
-        idle_thrust="8 kN",
-        takeoff_thrust="220 kN",
-        reverse_thrust=REVERSE_TABLE,
-        reversers=2,
-        reverse_cancel_speed="60 kt",
-        braked_wheels=4,
-        braked_weight_fraction=0.92,
-    )
-    values.update(changes)
-    return Aircraft(**values)
-
-
-DRY = Runway(braking_friction=[["0 kt", 0.55], ["160 kt", 0.40]], surface="dry", slope=0.008)
-
 
 def _brake_energy(aircraft: Aircraft, conditions: Conditions, speed: str = "130 kt") -> float:
     return rejected_takeoff(aircraft, DRY, speed, conditions, speed_kind="calibrated").ground_roll.accounts.brakes
 
 
 def test_rejected_takeoff_with_acceleration_starts_braking_later() -> None:
-    event = rejected_takeoff(_aircraft(), DRY, "130 kt", accelerate_from_rest=True, start="2 s")
-    stop_only = rejected_takeoff(_aircraft(), DRY, "130 kt")
+    event = rejected_takeoff(aircraft(), DRY, "130 kt", accelerate_from_rest=True, start="2 s")
+    stop_only = rejected_takeoff(aircraft(), DRY, "130 kt")
     assert event.start > 2.0 + 10.0  # a 70 t aircraft on 220 kN needs more than 10 s to 130 kt
     assert event.energy_per_brake == pytest.approx(stop_only.energy_per_brake, rel=1e-12)
     assert event.end - event.start == pytest.approx(stop_only.ground_roll.stopping_time, rel=1e-12)
@@ -55,22 +28,22 @@ def test_rejected_takeoff_with_acceleration_starts_braking_later() -> None:
 
 def test_brakes_are_not_equal_inoperative_and_dragging() -> None:
     shares = [0.0, 0.3, 0.3, 0.4]  # one inoperative, one dragging
-    aircraft = _aircraft(brake_shares=shares)
-    events = [landing_roll(aircraft, DRY, "125 kt", braking="firm", modelled_brake=k) for k in (1, 2, 3, 4)]
+    plane = aircraft(brake_shares=shares)
+    events = [landing_roll(plane, DRY, "125 kt", braking="firm", modelled_brake=k) for k in (1, 2, 3, 4)]
     total = events[0].ground_roll.accounts.brakes
     assert events[0].energy_per_brake == 0.0
     for event, share in zip(events[1:], shares[1:], strict=True):
         assert event.energy_per_brake == pytest.approx(share * total, rel=1e-5)
     assert sum(events[0].ground_roll.energy_per_brake) == pytest.approx(total, rel=1e-12)
     with pytest.raises(InputError, match="modelled_brake"):
-        landing_roll(aircraft, DRY, "125 kt", modelled_brake=5)
+        landing_roll(plane, DRY, "125 kt", modelled_brake=5)
     with pytest.raises(InputError, match="brake_shares"):
-        _aircraft(brake_shares=[0.5, 0.5, 0.5, 0.5])
+        aircraft(brake_shares=[0.5, 0.5, 0.5, 0.5])
 
 
 def test_stops_are_duty_cycle_events() -> None:
-    taxi = taxi_stop(_aircraft(), DRY, "20 kt", start="5 s")
-    slow = taxi_stop(_aircraft(), DRY, "20 kt", end_speed="8 kt", start="30 s")
+    taxi = taxi_stop(aircraft(), DRY, "20 kt", start="5 s")
+    slow = taxi_stop(aircraft(), DRY, "20 kt", end_speed="8 kt", start="30 s")
     assert 0 < slow.energy_per_brake < taxi.energy_per_brake
     assert taxi.ground_roll.accounts.reverse_thrust == 0.0
     cycle = DutyCycle([DutyPhase("taxi", "60 s", events=[taxi, slow])])
@@ -78,28 +51,28 @@ def test_stops_are_duty_cycle_events() -> None:
 
 
 def test_autobrake_level_sets_the_deceleration() -> None:
-    roll = integrate_ground_roll(_aircraft(reversers=0), DRY, Conditions(), 65.0, "gentle")
+    roll = integrate_ground_roll(aircraft(reversers=0), DRY, Conditions(), 65.0, "gentle")
     # 1.5 m/s^2 held by the brakes all the way (drag and rolling never exceed it here).
     assert roll.stopping_time == pytest.approx(65.0 / 1.5, rel=1e-9)
 
 
 def test_negative_mass_is_named() -> None:
     with pytest.raises(InputError, match="aircraft: mass"):
-        _aircraft(mass="-5 t")
+        aircraft(mass="-5 t")
 
 
 def test_deceleration_the_friction_cannot_give_names_the_achievable_one() -> None:
     wet = Runway(braking_friction=[["0 kt", 0.3], ["160 kt", 0.12]], surface="wet")
     with pytest.raises(InputError, match=r"braking: .*wet.*achievable throughout the stop is (\d\.\d+) m/s\^2") as info:
-        integrate_ground_roll(_aircraft(reversers=0), wet, Conditions(), 70.0, "hard")
+        integrate_ground_roll(aircraft(reversers=0), wet, Conditions(), 70.0, "hard")
     achievable = float(info.value.args[0].split("is ")[-1].split(" m/s")[0])
     assert 1.0 < achievable < 4.0
-    integrate_ground_roll(_aircraft(reversers=0), wet, Conditions(), 70.0, 0.95 * achievable)
+    integrate_ground_roll(aircraft(reversers=0), wet, Conditions(), 70.0, 0.95 * achievable)
 
 
 def test_reverse_table_not_over_increasing_speed() -> None:
     with pytest.raises(InputError, match="aircraft.reverse_thrust: the speeds must increase"):
-        _aircraft(reverse_thrust=[["60 kt", "20 kN"], ["30 kt", "25 kN"]])
+        aircraft(reverse_thrust=[["60 kt", "20 kN"], ["30 kt", "25 kN"]])
 
 
 def test_stop_that_never_ends_names_the_speed() -> None:
@@ -107,16 +80,16 @@ def test_stop_that_never_ends_names_the_speed() -> None:
     # balanced where drag makes up the rest, never at rest.
     runway = Runway(braking_friction=0.5, rolling_friction=0.01)
     with pytest.raises(InputError, match=r"aircraft.idle_thrust: the stop never ends.* at (\d+\.?\d*) m/s"):
-        integrate_ground_roll(_aircraft(reversers=0, drag_area=0.0), runway, Conditions(), 30.0, "none")
+        integrate_ground_roll(aircraft(reversers=0, drag_area=0.0), runway, Conditions(), 30.0, "none")
 
 
 def test_unknown_braking_level() -> None:
     with pytest.raises(InputError, match="braking: unknown level 'strong'"):
-        integrate_ground_roll(_aircraft(), DRY, Conditions(), 60.0, "strong")
+        integrate_ground_roll(aircraft(), DRY, Conditions(), 60.0, "strong")
 
 
 def test_speed_samples_fall_to_rest() -> None:
-    roll = integrate_ground_roll(_aircraft(), DRY, Conditions(), 70.0, "maximum")
+    roll = integrate_ground_roll(aircraft(), DRY, Conditions(), 70.0, "maximum")
     assert roll.speeds[0] == 70.0 and roll.speeds[-1] == 0.0
     assert np.all(np.diff(roll.times) > 0) and np.all(np.diff(roll.distances) >= 0)
 
@@ -165,7 +138,7 @@ def test_bad_ground_roll_case_exits_2_naming_the_key(tmp_path, capsys, old, new,
 def test_speed_trace_slower_than_the_forces_reports_extra_propulsion() -> None:
     # A trace that coasts at constant speed needs a push against drag and rolling resistance.
     roll = ground_roll_from_speed_trace(
-        _aircraft(reversers=0, idle_thrust=0.0), DRY, Conditions(), [(0, 10.0), (5, 10.0)]
+        aircraft(reversers=0, idle_thrust=0.0), DRY, Conditions(), [(0, 10.0), (5, 10.0)]
     )
     assert roll.accounts.brakes == 0.0 and roll.accounts.extra_propulsion > 0
     assert abs(roll.accounts.closure) < 1e-6
@@ -173,7 +146,7 @@ def test_speed_trace_slower_than_the_forces_reports_extra_propulsion() -> None:
 
 def test_no_reverse_thrust_below_the_cancel_speed() -> None:
     # Brake-on already below the 60 kt cancel speed: the reversers give nothing.
-    slow = integrate_ground_roll(_aircraft(), DRY, Conditions(), 50 * KT, "medium")
+    slow = integrate_ground_roll(aircraft(), DRY, Conditions(), 50 * KT, "medium")
     assert slow.accounts.reverse_thrust == 0.0
-    fast = integrate_ground_roll(_aircraft(), DRY, Conditions(), 70 * KT, "medium")
+    fast = integrate_ground_roll(aircraft(), DRY, Conditions(), 70 * KT, "medium")
     assert fast.accounts.reverse_thrust > 0.0

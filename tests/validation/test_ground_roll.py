@@ -5,39 +5,12 @@ from __future__ import annotations
 import math
 
 import pytest
+from roll_case import DRY, aircraft
 
 from heatstack.operations import atmosphere as atm
 from heatstack.operations.ground_roll import ground_roll_from_speed_trace, integrate_ground_roll
 from heatstack.operations.roll_inputs import Aircraft, Conditions, Runway, brake_on_ground_speed
 from heatstack.operations.stops import rejected_takeoff, speed_trace_roll
-
-KT = 1852.0 / 3600.0  # [m/s], exact
-
-
-# An INVENTED twin-engine aircraft and runway for these tests only.
-REVERSE_TABLE = [["0 kt", "15 kN"], ["60 kt", "25 kN"], ["160 kt", "40 kN"]]
-
-
-def _aircraft(**changes) -> Aircraft:
-    values = dict(
-        mass="70 t",
-        drag_area="5 m^2",
-        lift_area="80 m^2",
-        lift_area_dumped="8 m^2",
-        spoiler_time="1.5 s",
-        idle_thrust="8 kN",
-        takeoff_thrust="220 kN",
-        reverse_thrust=REVERSE_TABLE,
-        reversers=2,
-        reverse_cancel_speed="60 kt",
-        braked_wheels=4,
-        braked_weight_fraction=0.92,
-    )
-    values.update(changes)
-    return Aircraft(**values)
-
-
-DRY = Runway(braking_friction=[["0 kt", 0.55], ["160 kt", 0.40]], surface="dry", slope=0.008)
 
 
 def test_brakes_alone_at_constant_deceleration_take_half_m_v_squared() -> None:
@@ -78,7 +51,7 @@ def test_energy_accounts_close_with_every_term_active() -> None:
     # First law along the runway: KE removed = brakes + reverse + drag + rolling + PE - forward work.
     conditions = Conditions(headwind="12 kt", pressure_altitude="2000 ft", air_temperature="32 degC")
     for braking in ("maximum", "medium"):
-        roll = integrate_ground_roll(_aircraft(), DRY, conditions, 72.0, braking)
+        roll = integrate_ground_roll(aircraft(), DRY, conditions, 72.0, braking)
         acc = roll.accounts
         for term in (acc.brakes, acc.reverse_thrust, acc.drag, acc.rolling_resistance, acc.potential_energy):
             assert term > 0
@@ -113,10 +86,10 @@ def test_trade_fact_reversers_tailwind_altitude_heat(capsys) -> None:
     # Common practice, no source: each serviceable reverser lowers the brake energy; a
     # tailwind, a higher airfield and a hotter day raise it (brake-on at a calibrated speed).
     still = Conditions()
-    by_reversers = [_brake_energy(_aircraft(reversers=n), still) for n in (0, 1, 2)]
-    tailwind = _brake_energy(_aircraft(), Conditions(headwind="-10 kt"))
-    high = _brake_energy(_aircraft(), Conditions(pressure_altitude="5000 ft"))
-    hot = _brake_energy(_aircraft(), Conditions(air_temperature="40 degC"))
+    by_reversers = [_brake_energy(aircraft(reversers=n), still) for n in (0, 1, 2)]
+    tailwind = _brake_energy(aircraft(), Conditions(headwind="-10 kt"))
+    high = _brake_energy(aircraft(), Conditions(pressure_altitude="5000 ft"))
+    hot = _brake_energy(aircraft(), Conditions(air_temperature="40 degC"))
     base = by_reversers[2]
     assert by_reversers[0] > by_reversers[1] > by_reversers[2]
     assert tailwind > base and high > base and hot > base
@@ -152,12 +125,12 @@ def test_speed_trace_of_an_integrated_roll_recovers_its_brake_energy() -> None:
     # Consistency: the trace of an integrated stop, read back, gives the same brake energy
     # (to the trace's sampling) and accounts that close to round-off.
     conditions = Conditions(headwind="-6 kt", pressure_altitude="1000 ft")
-    roll = integrate_ground_roll(_aircraft(), DRY, conditions, 70.0, "medium")
+    roll = integrate_ground_roll(aircraft(), DRY, conditions, 70.0, "medium")
     rows = list(zip(roll.times, roll.speeds, strict=True))
-    back = ground_roll_from_speed_trace(_aircraft(), DRY, conditions, rows)
+    back = ground_roll_from_speed_trace(aircraft(), DRY, conditions, rows)
     acc = back.accounts
     assert abs(acc.closure) < 1e-11 * acc.kinetic_energy_removed
     assert acc.brakes == pytest.approx(roll.accounts.brakes, rel=2e-3)
     assert acc.reverse_thrust == pytest.approx(roll.accounts.reverse_thrust, rel=2e-2)
-    event = speed_trace_roll(_aircraft(), DRY, rows, conditions, start="3 s")
+    event = speed_trace_roll(aircraft(), DRY, rows, conditions, start="3 s")
     assert event.start == 3.0 and event.energy_per_brake == pytest.approx(acc.brakes / 4, rel=1e-9)
