@@ -11,23 +11,15 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from lag_case import OPTIONS, TAU, lag_model, lag_schedule
 
 from heatstack import (
-    Assembly,
     FixedConvection,
-    Model,
-    Part,
     Phase,
     PowerHistory,
-    Probe,
     Schedule,
-    SolverOptions,
-    simple_material,
 )
 from heatstack.numerics.instrument import first_order_lag
-
-STEEL = simple_material("plain", 7800.0, 480.0, 40.0, temperature_range=(200.0, 1500.0))
-TAU = 60.0  # s, slow against the heating so the reading lags by tens of kelvin
 
 
 def test_lag_from_a_given_start_relaxes_exponentially():
@@ -36,26 +28,9 @@ def test_lag_from_a_given_start_relaxes_exponentially():
     np.testing.assert_allclose(y, 500.0 + (350.0 - 500.0) * np.exp(-t / TAU), rtol=0, atol=1e-9)
 
 
-def _model() -> Model:
-    assembly = Assembly(
-        [Part("rotor", "plain", 0.1, 0.2, 0.0, 0.02, "rotor"), Part("stator", "plain", 0.1, 0.2, 0.02, 0.04, "stator")],
-        probes=[Probe("sensor", 0.15, 0.03, time_constant=TAU), Probe("bare", 0.15, 0.03)],
-    )
-    return Model.build(assembly, 0.01, materials={"plain": STEEL})
-
-
-def _schedule(extra=()) -> Schedule:
-    law = {"*": FixedConvection(20.0, 300.0, radiation=False)}
-    power = PowerHistory((0.0, 1.0, 200.0), (0.0, 2.0e4, 2.0e4))
-    return Schedule(power, [Phase("heat", 0.0, 200.0, law)], extra_breakpoints=extra)
-
-
-OPTIONS = SolverOptions(fixed_step=2.0, tolerance=1e-8)
-
-
 def test_a_split_run_reads_like_the_whole_run():
-    model = _model()
-    whole = model.run(_schedule(extra=(100.0,)), 300.0, OPTIONS)
+    model = lag_model()
+    whole = model.run(lag_schedule(extra=(100.0,)), 300.0, OPTIONS)
     first = model.run(
         Schedule(
             PowerHistory((0.0, 1.0, 200.0), (0.0, 2.0e4, 2.0e4)),
@@ -68,7 +43,7 @@ def test_a_split_run_reads_like_the_whole_run():
     # the sensor lags the metal by tens of kelvin when the first run ends
     assert state.readings["sensor"] < first.probes["sensor"][-1] - 10.0
     assert "bare" not in state.readings  # no lag, nothing to carry
-    second = model.run(_schedule(), state, OPTIONS)
+    second = model.run(lag_schedule(), state, OPTIONS)
     k = int(np.searchsorted(whole.times, 100.0))
     assert whole.times[k] == pytest.approx(100.0)
     np.testing.assert_allclose(second.readings["sensor"], whole.readings["sensor"][k:], atol=1e-5)
