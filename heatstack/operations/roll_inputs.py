@@ -32,18 +32,9 @@ __all__ = [
 BRAKING_LEVELS: dict[str, float] = {"gentle": 1.5, "medium": 2.0, "firm": 3.0, "hard": 4.0}
 
 
-def _number(value: Any, dimension: str, field: str) -> float:
-    if value is None or isinstance(value, bool):
-        raise InputError(f"{field}: a number or a quantity is required, got {value!r}")
-    return quantity(value, dimension, field)
-
-
 def non_negative(value: Any, dimension: str, field: str, positive: bool = False) -> float:
-    """An SI float >= 0 (> 0 if ``positive``) from a number or a quantity; errors name ``field``."""
-    number = _number(value, dimension, field)
-    if number < 0 or (positive and number == 0):
-        raise InputError(f"{field}: must be {'> 0' if positive else '>= 0'}, got {value!r}")
-    return number
+    """An SI float >= 0 (> 0 if ``positive``) from a number or a quantity, through :func:`heatstack.units.quantity`."""
+    return quantity(value, dimension, field, minimum=0.0, exclusive_minimum=positive)
 
 
 def _table(rows: Any, dimension: str, field: str, speed_field: str) -> tuple[tuple[float, ...], tuple[float, ...]]:
@@ -54,7 +45,7 @@ def _table(rows: Any, dimension: str, field: str, speed_field: str) -> tuple[tup
     for k, row in enumerate(rows):
         if isinstance(row, str) or not isinstance(row, Sequence) or len(row) != 2:
             raise InputError(f"{field}[{k}]: expected a pair ({speed_field}, value), got {row!r}")
-        speeds.append(_number(row[0], "speed", f"{field}[{k}] speed"))
+        speeds.append(quantity(row[0], "speed", f"{field}[{k}] speed"))
         values.append(non_negative(row[1], dimension, f"{field}[{k}] value"))
     if any(b <= a for a, b in zip(speeds, speeds[1:], strict=False)):
         raise InputError(f"{field}: the speeds must increase strictly, got {speeds} m/s")
