@@ -76,6 +76,11 @@ def check_temperature(temperature: float | np.ndarray, field: str = "air tempera
     field : str
         Name used in the error message.
 
+    Returns
+    -------
+    ndarray
+        The temperatures as a float array [K].
+
     Raises
     ------
     InputError
