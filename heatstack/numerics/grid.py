@@ -152,6 +152,11 @@ def build_grid(
     Returns
     -------
     Grid
+
+    Raises
+    ------
+    GeometryError
+        If a cell size is not positive or ``min_cells`` is below 1.
     """
     dr, dz = (cell_size, cell_size) if np.isscalar(cell_size) else cell_size
     if not (dr > 0 and dz > 0):

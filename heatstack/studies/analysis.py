@@ -269,6 +269,11 @@ def binomial_intervals(
     -------
     wilson, clopper_pearson : (float, float)
 
+    Raises
+    ------
+    InputError
+        If the counts are not whole numbers with ``0 <= events <= trials`` and ``trials >= 1``.
+
     Notes
     -----
     Wilson's interval is that of :meth:`scipy.stats.binomtest` (``method="wilson"``).
