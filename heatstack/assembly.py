@@ -250,14 +250,46 @@ class Assembly:
         return {s.name: s.length for s in self.surfaces}
 
     def part(self, name: str) -> Part:
-        """The part called ``name``."""
+        """The part called ``name``.
+
+        Parameters
+        ----------
+        name : str
+            Part name.
+
+        Returns
+        -------
+        Part
+            The part.
+
+        Raises
+        ------
+        GeometryError
+            If no part has that name.
+        """
         for part in self.parts:
             if part.name == name:
                 return part
         raise GeometryError(f"no part named {name!r}")
 
     def owner_of(self, probe: Probe) -> Part:
-        """The part that contains ``probe`` (its declared part if given)."""
+        """The part that contains ``probe`` (its declared part if given).
+
+        Parameters
+        ----------
+        probe : Probe
+            The probe, at ``r``, ``z`` [m].
+
+        Returns
+        -------
+        Part
+            Its declared part, else the first part containing it.
+
+        Raises
+        ------
+        GeometryError
+            If the probe is not inside its declared part, or lies outside every part.
+        """
         if probe.part is not None:
             part = self.part(probe.part)
             if not part.contains(probe.r, probe.z):

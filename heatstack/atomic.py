@@ -36,7 +36,23 @@ __all__ = [
 
 
 def as_path(path: Any) -> Path:
-    """``path`` as a :class:`Path`, or a ResultFileError for anything that is not a path."""
+    """``path`` as a :class:`Path`, or a ResultFileError for anything that is not a path.
+
+    Parameters
+    ----------
+    path : object
+        A non-empty str or os.PathLike.
+
+    Returns
+    -------
+    Path
+        The path.
+
+    Raises
+    ------
+    ResultFileError
+        If ``path`` is not a non-empty str or path.
+    """
     if isinstance(path, str | os.PathLike):
         text = os.fspath(path)
         if isinstance(text, str) and text:
@@ -45,14 +61,36 @@ def as_path(path: Any) -> Path:
 
 
 def write_target(path: Path) -> Path:
-    """The file a write to ``path`` replaces: symbolic links are followed to their target."""
+    """The file a write to ``path`` replaces: symbolic links are followed to their target.
+
+    Parameters
+    ----------
+    path : Path
+        The path written to.
+
+    Returns
+    -------
+    Path
+        The link's resolved target, or ``path`` itself.
+    """
     if path.is_symlink():
         return Path(os.path.realpath(path))
     return path
 
 
 def os_reason(exc: OSError) -> str:
-    """The short reason an operating-system call failed ("Permission denied"), for a message."""
+    """The short reason an operating-system call failed ("Permission denied"), for a message.
+
+    Parameters
+    ----------
+    exc : OSError
+        The error.
+
+    Returns
+    -------
+    str
+        Its ``strerror``, else its text, else its class name.
+    """
     return exc.strerror or str(exc) or type(exc).__name__
 
 
@@ -60,6 +98,25 @@ def new_temp_file(folder: Path, stem: str) -> tuple[Path, int]:
     """Create a new, empty, uniquely named hidden file in ``folder``; return it and its descriptor.
 
     The file is created with mode 0o666 filtered by the umask, as an ordinary new file.
+
+    Parameters
+    ----------
+    folder : Path
+        Folder to create it in.
+    stem : str
+        Part of the name (``.<stem>.<random>.tmp``).
+
+    Returns
+    -------
+    path : Path
+        The file.
+    descriptor : int
+        Its open file descriptor (read-write).
+
+    Raises
+    ------
+    FileExistsError
+        If no free name is found in 100 tries.
     """
     flags = os.O_RDWR | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
     for _ in range(100):
@@ -102,7 +159,13 @@ def move_into_place(temp: Path, target: Path) -> None:
 
 
 def fsync_folder(folder: Path) -> None:
-    """Make a rename in ``folder`` durable where the platform allows it (best effort)."""
+    """Make a rename in ``folder`` durable where the platform allows it (best effort).
+
+    Parameters
+    ----------
+    folder : Path
+        The folder; errors opening or syncing it are ignored.
+    """
     if not hasattr(os, "O_DIRECTORY"):
         return
     try:

@@ -262,7 +262,23 @@ class WheelBrakeDesign:
                 )
 
     def with_changes(self, **changes) -> WheelBrakeDesign:
-        """A copy with some fields changed (validated again)."""
+        """A copy with some fields changed (validated again).
+
+        Parameters
+        ----------
+        **changes
+            New field values (SI numbers, unit strings or quantities), by field name.
+
+        Returns
+        -------
+        WheelBrakeDesign
+            The changed design.
+
+        Raises
+        ------
+        GeometryError
+            If a field name is unknown or the changed design is invalid.
+        """
         unknown = sorted(set(changes) - set(self.__dataclass_fields__))
         if unknown:
             raise GeometryError(f"design: unknown field {unknown[0]!r}")

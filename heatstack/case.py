@@ -53,7 +53,25 @@ class OutputSettings:
     probe or series, the cooling-time question (series below a temperature [K]) and the
     braking event whose end is "end of braking" (``reference_event``; by default the
     event with the most energy per brake, so gear retraction or taxi snubs after the
-    stop do not move it)."""
+    stop do not move it).
+
+    Attributes
+    ----------
+    file : str
+        Results file name.
+    plots : bool
+        Whether the run writes its plots.
+    temperature_unit : str
+        Report unit: ``"degC"``, ``"degF"`` or ``"K"``.
+    limits : mapping of str to float
+        Limit of each probe or series [K].
+    cooling_below : float or None
+        Temperature of the cooling-time question [K].
+    cooling_series : str
+        Series the cooling-time question follows.
+    reference_event : str or None
+        Braking event whose end is "end of braking".
+    """
 
     file: str = "results.h5"
     plots: bool = True
@@ -116,7 +134,13 @@ class Case:
     initial_state_time: float | None = None
 
     def report_settings(self) -> ReportSettings:
-        """What the report assesses for this case."""
+        """What the report assesses for this case.
+
+        Returns
+        -------
+        ReportSettings
+            Unit, limits [K], fuse plugs, tyre, cold temperature [K], cooling question and title.
+        """
         return ReportSettings(
             unit=self.output.temperature_unit,
             limits=dict(self.output.limits),
@@ -129,11 +153,24 @@ class Case:
         )
 
     def build_model(self) -> Model:
-        """Mesh the case's assembly."""
+        """Mesh the case's assembly.
+
+        Returns
+        -------
+        Model
+            The model built at the case's cell sizes [m] and minimum cell count.
+        """
         return Model.build(self.assembly, self.cell_size, self.min_cells, self.materials)
 
     def resolved(self) -> dict[str, Any]:
-        """The inputs as plain SI values, for the results file."""
+        """The inputs as plain SI values, for the results file.
+
+        Returns
+        -------
+        dict
+            Title, cell sizes [m], minimum cells, initial temperature [K], parts, probes, phases
+            (durations [s], energies per brake [J]) and limits [K].
+        """
         return {
             "title": self.title,
             "cell_size_m": list(self.cell_size),
@@ -430,6 +467,11 @@ def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> C
     base : str or Path
         Folder against which relative paths in the case (speed traces) are resolved.
 
+    Returns
+    -------
+    Case
+        The validated case.
+
     Raises
     ------
     InputError
@@ -450,8 +492,28 @@ def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> C
 def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     """Validate an already parsed case mapping (e.g. a study's modified copy) into a Case.
 
-    ``text`` is kept as the case text; ``base`` resolves relative paths. Errors are not
-    prefixed with ``origin`` here (:func:`parse_case` does that).
+    Errors are not prefixed with ``origin`` here (:func:`parse_case` does that).
+
+    Parameters
+    ----------
+    data : dict
+        The case mapping, as TOML reads it.
+    text : str
+        Kept as the case text.
+    origin : str
+        Name of the case's source, kept in the Case.
+    base : Path
+        Folder against which relative paths (speed traces, initial state) are resolved.
+
+    Returns
+    -------
+    Case
+        The validated case.
+
+    Raises
+    ------
+    InputError
+        Naming the key path and what was expected.
     """
     root = CaseTable(data, "", ())
     head = root.table("case", {})

@@ -102,6 +102,18 @@ def key_dimension(tokens: tuple[str | int, ...], case: Mapping[str, Any] | None 
     -> ``"temperature"``. A braking-event key (``duty.phases[i].events[j].mass``) is
     declared by its event function (:func:`heatstack.units.declares`); finding it needs
     the event's ``kind``, read from the parsed ``case`` mapping.
+
+    Parameters
+    ----------
+    tokens : tuple of str and int
+        Key path in the case mapping.
+    case : mapping, optional
+        The parsed case mapping, needed for braking-event keys.
+
+    Returns
+    -------
+    str or None
+        The dimension (a key of :data:`heatstack.units.SI_UNITS`), None when none is declared.
     """
     tokens = tuple(tokens)
     if _matches(_EVENT_KEY, tokens):

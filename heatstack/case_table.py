@@ -23,7 +23,22 @@ _REQUIRED = object()
 
 
 class CaseTable:
-    """A TOML table being read: typed getters with key paths, unknown keys rejected."""
+    """A TOML table being read: typed getters with key paths, unknown keys rejected.
+
+    Parameters
+    ----------
+    data : mapping
+        The table's contents.
+    path : str
+        Key path of the table, used in error messages ("" for the root).
+    tokens : tuple of str and int, optional
+        The same path as tokens, to look up the declared dimension of a key.
+
+    Raises
+    ------
+    InputError
+        If ``data`` is not a table.
+    """
 
     def __init__(self, data: Any, path: str, tokens: tuple[str | int, ...] = ()):
         if not isinstance(data, Mapping):
@@ -31,12 +46,55 @@ class CaseTable:
         self.data, self.path, self.tokens, self.used = dict(data), path, tokens, set()
 
     def where(self, key: str) -> str:
+        """The key path of ``key`` in this table, for messages.
+
+        Parameters
+        ----------
+        key : str
+            A key of the table.
+
+        Returns
+        -------
+        str
+            ``"<path>.<key>"``, or ``key`` at the root.
+        """
         return f"{self.path}.{key}" if self.path else key
 
     def has(self, key: str) -> bool:
+        """Whether the table holds ``key``.
+
+        Parameters
+        ----------
+        key : str
+            The key.
+
+        Returns
+        -------
+        bool
+            True when the key is given.
+        """
         return key in self.data
 
     def raw(self, key: str, default: Any = _REQUIRED) -> Any:
+        """The value at ``key`` as given, marking the key as read.
+
+        Parameters
+        ----------
+        key : str
+            The key.
+        default : object, optional
+            Returned when the key is absent; without it the key is required.
+
+        Returns
+        -------
+        object
+            The value, or ``default``.
+
+        Raises
+        ------
+        InputError
+            If a required key is missing.
+        """
         self.used.add(key)
         if key in self.data:
             return self.data[key]
@@ -45,18 +103,77 @@ class CaseTable:
         return default
 
     def text(self, key: str, default: Any = _REQUIRED) -> str:
+        """The string at ``key``.
+
+        Parameters
+        ----------
+        key : str
+            The key.
+        default : object, optional
+            Returned when the key is absent; without it the key is required.
+
+        Returns
+        -------
+        str
+            The string, or ``default``.
+
+        Raises
+        ------
+        InputError
+            If the key is missing (and required) or its value is not a string.
+        """
         value = self.raw(key, default)
         if value is not default and not isinstance(value, str):
             raise InputError(f"{self.where(key)}: expected a string, got {value!r}")
         return value
 
     def boolean(self, key: str, default: Any = _REQUIRED) -> bool:
+        """The boolean at ``key``.
+
+        Parameters
+        ----------
+        key : str
+            The key.
+        default : object, optional
+            Returned when the key is absent; without it the key is required.
+
+        Returns
+        -------
+        bool
+            The value, or ``default``.
+
+        Raises
+        ------
+        InputError
+            If the key is missing (and required) or its value is not true or false.
+        """
         value = self.raw(key, default)
         if value is not default and not isinstance(value, bool):
             raise InputError(f"{self.where(key)}: expected true or false, got {value!r}")
         return value
 
     def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0) -> int:
+        """The whole number at ``key``, at least ``minimum``.
+
+        Parameters
+        ----------
+        key : str
+            The key.
+        default : object, optional
+            Returned when the key is absent; without it the key is required.
+        minimum : int, optional
+            Smallest value allowed.
+
+        Returns
+        -------
+        int
+            The value, or ``default``.
+
+        Raises
+        ------
+        InputError
+            If the key is missing (and required) or its value is not a whole number >= ``minimum``.
+        """
         value = self.raw(key, default)
         if value is default:
             return value
@@ -65,13 +182,57 @@ class CaseTable:
         return value
 
     def quantity(self, key: str, default: Any = _REQUIRED) -> float:
-        """The value at ``key`` in SI, in the dimension declared for it (:func:`key_dimension`)."""
+        """The value at ``key`` in SI, in the dimension declared for it (:func:`key_dimension`).
+
+        Parameters
+        ----------
+        key : str
+            The key.
+        default : object, optional
+            Returned as given when the key is absent; without it the key is required.
+
+        Returns
+        -------
+        float
+            The value in SI, or ``default``.
+
+        Raises
+        ------
+        InputError
+            If the key is missing (and required), has no declared dimension, or its value is not
+            a number or quantity in range.
+        UnitError
+            If the unit is unknown or of the wrong dimension.
+        """
         value = self.raw(key, default)
         if value is default:
             return value
         return self.convert(value, (*self.tokens, key), self.where(key))
 
     def convert(self, value: Any, tokens: tuple[str | int, ...], where: str) -> float:
+        """A value found at ``tokens`` in SI, in the dimension declared for that key path.
+
+        Parameters
+        ----------
+        value : object
+            The value as given: a number or a quantity string.
+        tokens : tuple of str and int
+            Key path of the value, to look its dimension up.
+        where : str
+            Key path used in error messages.
+
+        Returns
+        -------
+        float
+            The value in SI.
+
+        Raises
+        ------
+        InputError
+            If no dimension is declared for the key, or the value is not a number or quantity.
+        UnitError
+            If the unit is unknown or of the wrong dimension.
+        """
         dimension = key_dimension(tokens)
         if dimension is None:
             raise InputError(f"{where}: no physical dimension is declared for this key")
@@ -83,23 +244,82 @@ class CaseTable:
         """The keys of this table that are declared fields of ``cls`` (or ``names`` of them), in SI.
 
         All of them count as valid keys for :meth:`finish`, given or not.
+
+        Parameters
+        ----------
+        cls : type
+            A dataclass with fields declared by :func:`heatstack.units.declared`.
+        names : tuple of str, optional
+            The fields to read; every declared field by default.
+
+        Returns
+        -------
+        dict of str to float
+            The given keys' values in SI.
         """
         names = tuple(declared_dimensions(cls)) if names is None else names
         self.used.update(names)
         return {key: self.quantity(key) for key in names if self.has(key)}
 
     def table(self, key: str, default: Any = _REQUIRED) -> CaseTable:
+        """The sub-table at ``key``.
+
+        Parameters
+        ----------
+        key : str
+            The key.
+        default : object, optional
+            Used when the key is absent (None gives an empty table); without it the key is required.
+
+        Returns
+        -------
+        CaseTable
+            The sub-table, with its key path.
+
+        Raises
+        ------
+        InputError
+            If the key is missing (and required) or its value is not a table.
+        """
         value = self.raw(key, default)
         return CaseTable({} if value is None else value, self.where(key), (*self.tokens, key))
 
     def tables(self, key: str) -> list[CaseTable]:
+        """The array of tables at ``key`` (empty when absent).
+
+        Parameters
+        ----------
+        key : str
+            The key.
+
+        Returns
+        -------
+        list of CaseTable
+            One table per item, with its key path ``key[k]``.
+
+        Raises
+        ------
+        InputError
+            If the value is not an array of tables.
+        """
         value = self.raw(key, [])
         if not isinstance(value, list):
             raise InputError(f"{self.where(key)}: expected an array of tables ([[{self.where(key)}]])")
         return [CaseTable(item, f"{self.where(key)}[{k}]", (*self.tokens, key, k)) for k, item in enumerate(value)]
 
     def finish(self, allowed: tuple[str, ...] | None = None) -> None:
-        """Reject keys that were not read (or not in ``allowed``), suggesting the closest."""
+        """Reject keys that were not read (or not in ``allowed``), suggesting the closest.
+
+        Parameters
+        ----------
+        allowed : tuple of str, optional
+            The valid keys; by default the keys read so far.
+
+        Raises
+        ------
+        InputError
+            Naming the first unknown key and the closest valid one (or the valid keys).
+        """
         allowed = tuple(sorted(self.used)) if allowed is None else allowed
         for key in self.data:
             if key not in allowed and key not in self.used:

@@ -44,7 +44,13 @@ def _examples_folder() -> Path:
 
 
 def demo_case_path() -> Path:
-    """The invented demonstration case shipped with heatstack."""
+    """The invented demonstration case shipped with heatstack.
+
+    Returns
+    -------
+    Path
+        ``demo_rto.toml`` in the examples folder.
+    """
     return _examples_folder() / "demo_rto.toml"
 
 
@@ -555,7 +561,19 @@ def _set_logging(verbose: bool, quiet: bool) -> None:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Run the command line; return the exit code."""
+    """Run the command line; return the exit code.
+
+    Parameters
+    ----------
+    argv : sequence of str, optional
+        Arguments without the program name; ``sys.argv[1:]`` by default.
+
+    Returns
+    -------
+    int
+        The verb's exit code; 2 for bad input or a results-file problem, 1 for another
+        heatstack failure, 130 when interrupted, 0 when the output pipe closed.
+    """
     args = _parser().parse_args(argv)
     _set_logging(args.verbose, args.quiet)
     warnings.showwarning = _show_warning

@@ -16,6 +16,18 @@ __all__ = ["cmd_fit", "cmd_calibrate"]
 
 
 def cmd_fit(args: argparse.Namespace) -> int:
+    """The ``fit`` verb: estimate the energy per brake from a recorded sensor trace.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        The parsed command line (case, trace, sensor, optional input spreads).
+
+    Returns
+    -------
+    int
+        0 when the fit converged, else 1.
+    """
     from .case import load_case
     from .questions.sensor_trace import read_sensor_trace
 
@@ -84,6 +96,23 @@ def _fit_with_inputs(args: argparse.Namespace, case, t, T) -> int:
 
 
 def cmd_calibrate(args: argparse.Namespace) -> int:
+    """The ``calibrate`` verb: fit a calibration file's parameters and write its outputs.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        The parsed command line (calibration file, output folder, quiet).
+
+    Returns
+    -------
+    int
+        0 when the fit converged, else 1.
+
+    Raises
+    ------
+    InputError
+        If ``--out`` exists and is not a folder.
+    """
     from .questions.calibrate import calibrate, fit_summary, write_calibration_outputs
     from .questions.calibration_file import load_calibration
 

@@ -162,7 +162,16 @@ def _cmd_day(args: argparse.Namespace) -> int:
 
 
 def add_turnaround_verbs(verbs, loudness: argparse.ArgumentParser) -> None:
-    """The verbs that start from a results file's final state, and the day of operations."""
+    """The verbs that start from a results file's final state, and the day of operations.
+
+    Parameters
+    ----------
+    verbs : argparse._SubParsersAction
+        The command line's verb sub-parsers, to which ``cool``, ``what-if``, ``wait`` and
+        ``day`` are added.
+    loudness : argparse.ArgumentParser
+        Parent parser of the shared verbosity options.
+    """
     raw = argparse.RawDescriptionHelpFormatter
     cool = verbs.add_parser(
         "cool",

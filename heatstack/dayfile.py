@@ -47,6 +47,16 @@ def _cell(value: str, column: str, row: int) -> float:
 def read_flights(path: str | Path) -> tuple[Flight, ...]:
     """Read and check the flights table (CSV with a header row of :data:`COLUMNS`).
 
+    Parameters
+    ----------
+    path : str or Path
+        The CSV file.
+
+    Returns
+    -------
+    tuple of Flight
+        The flights in SI, numbered from 1.
+
     Raises
     ------
     InputError
@@ -128,6 +138,18 @@ def _limits(table: Any, plugs: tuple[FusePlugSpec, ...]) -> DispatchLimits | Non
 
 def load_operations(path: str | Path, options: SolverOptions | None = None) -> DayPlan:
     """Read an operations file (see the module notes) into a :class:`DayPlan`.
+
+    Parameters
+    ----------
+    path : str or Path
+        The operations file (TOML); the case and flights files are found from its folder.
+    options : SolverOptions, optional
+        Solver options; the case's by default.
+
+    Returns
+    -------
+    DayPlan
+        The validated day.
 
     Raises
     ------

@@ -75,7 +75,20 @@ WHEEL = "wheel"
 
 
 def series_name(group: str, statistic: str) -> str:
-    """Name of the recorded series of ``statistic`` over the cell group ``group``, e.g. ``"wheel_max"``."""
+    """Name of the recorded series of ``statistic`` over the cell group ``group``, e.g. ``"wheel_max"``.
+
+    Parameters
+    ----------
+    group : str
+        Cell group name.
+    statistic : str
+        ``"mean"`` or ``"max"``.
+
+    Returns
+    -------
+    str
+        ``"<group>_<statistic>"``.
+    """
     return f"{group}_{statistic}"
 
 

@@ -147,11 +147,33 @@ class Material:
         return not same
 
     def conductivity_radial(self, temperature: ArrayLike) -> np.ndarray:
-        """Radial conductivity [W/(m K)] (the in-plane table) at ``temperature`` [K]."""
+        """Radial conductivity (the in-plane table) at ``temperature``.
+
+        Parameters
+        ----------
+        temperature : array_like
+            Temperature [K].
+
+        Returns
+        -------
+        ndarray
+            Conductivity [W/(m K)].
+        """
         return self.conductivity_in_plane(temperature)
 
     def conductivity_axial(self, temperature: ArrayLike) -> np.ndarray:
-        """Axial conductivity [W/(m K)] (the through-thickness table) at ``temperature`` [K]."""
+        """Axial conductivity (the through-thickness table) at ``temperature``.
+
+        Parameters
+        ----------
+        temperature : array_like
+            Temperature [K].
+
+        Returns
+        -------
+        ndarray
+            Conductivity [W/(m K)].
+        """
         return self.conductivity_through_thickness(temperature)
 
     def volumetric_heat_capacity(self, temperature: ArrayLike) -> np.ndarray:

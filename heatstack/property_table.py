@@ -49,7 +49,18 @@ def forget_warnings() -> None:
 
 
 def is_real_number(value: object) -> bool:
-    """True for an int or float (a real number), false for a bool or anything else."""
+    """True for an int or float (a real number), false for a bool or anything else.
+
+    Parameters
+    ----------
+    value : object
+        The value to test.
+
+    Returns
+    -------
+    bool
+        Whether ``value`` is a real number other than a bool.
+    """
     return isinstance(value, numbers.Real) and not isinstance(value, bool)
 
 

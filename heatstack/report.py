@@ -151,12 +151,29 @@ class ReportSettings:
     title: str = ""
 
     def to_mapping(self) -> dict[str, Any]:
-        """Plain JSON-able form (for the results file)."""
+        """Plain JSON-able form (for the results file).
+
+        Returns
+        -------
+        dict
+            The fields as plain values (:func:`dataclasses.asdict`), SI units.
+        """
         return asdict(self)
 
     @classmethod
     def from_mapping(cls, data: Mapping[str, Any]) -> ReportSettings:
-        """Inverse of :meth:`to_mapping`."""
+        """Inverse of :meth:`to_mapping`.
+
+        Parameters
+        ----------
+        data : mapping
+            A mapping written by :meth:`to_mapping`.
+
+        Returns
+        -------
+        ReportSettings
+            The settings, fuse plugs and tyre rebuilt as records.
+        """
         data = dict(data)
         data["fuse_plugs"] = tuple(FusePlugSpec(**p) for p in data.get("fuse_plugs", ()))
         tyre = data.get("tyre")

@@ -107,7 +107,13 @@ _TITLES = {
 
 
 def library_versions() -> dict[str, str]:
-    """Versions of Python, heatstack and the libraries it computes with (``"not installed"`` if absent)."""
+    """Versions of Python, heatstack and the libraries it computes with (``"not installed"`` if absent).
+
+    Returns
+    -------
+    dict of str to str
+        ``python``, ``platform``, ``heatstack`` and each library's version.
+    """
     out = {"python": platform.python_version(), "platform": platform.platform()}
     for name in ("heatstack", *_LIBRARIES):
         try:

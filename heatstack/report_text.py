@@ -37,22 +37,70 @@ SERIES_LABELS = {
 
 
 def shown_temperature(value: float | None, unit: str) -> str:
-    """A temperature [K] for reading, in ``unit``, one decimal; ``-`` for None."""
+    """A temperature for reading, in ``unit``, one decimal; ``-`` for None.
+
+    Parameters
+    ----------
+    value : float or None
+        Temperature [K].
+    unit : str
+        ``"degC"``, ``"degF"`` or ``"K"``.
+
+    Returns
+    -------
+    str
+        The text.
+    """
     return "-" if value is None else f"{float(from_si(value, 'temperature', unit)):.1f}"
 
 
 def shown_difference(value: float | None, unit: str) -> str:
-    """A temperature difference [K] for reading (in °F when ``unit`` is degF), one decimal."""
+    """A temperature difference for reading (in °F when ``unit`` is degF), one decimal.
+
+    Parameters
+    ----------
+    value : float or None
+        Temperature difference [K].
+    unit : str
+        ``"degC"``, ``"degF"`` or ``"K"``.
+
+    Returns
+    -------
+    str
+        The text; ``-`` for None.
+    """
     return "-" if value is None else f"{float(value) * (1.8 if unit == 'degF' else 1.0):.1f}"
 
 
 def shown_minutes(seconds: float | None) -> str:
-    """A time [s] in minutes, two decimals; ``-`` for None."""
+    """A time in minutes, two decimals; ``-`` for None.
+
+    Parameters
+    ----------
+    seconds : float or None
+        Time [s].
+
+    Returns
+    -------
+    str
+        The text.
+    """
     return "-" if seconds is None else f"{seconds / 60.0:.2f}"
 
 
 def unit_symbols(unit: str) -> tuple[str, str]:
-    """(symbol of a temperature, symbol of a temperature difference) for ``unit``."""
+    """(symbol of a temperature, symbol of a temperature difference) for ``unit``.
+
+    Parameters
+    ----------
+    unit : str
+        ``"degC"``, ``"degF"`` or ``"K"``.
+
+    Returns
+    -------
+    temperature, difference : str
+        E.g. ``"°C"`` and ``"K"``.
+    """
     symbol = {"degC": "°C", "degF": "°F", "K": "K"}[unit]
     return symbol, "°F" if unit == "degF" else "K"
 
@@ -61,6 +109,17 @@ def report_tables(report: Mapping[str, Any]) -> dict[str, tuple[list[str], list[
     """The report's tables for reading: name -> (column heads, rows of cell text).
 
     Shared by the Markdown, text and HTML forms so they show the same numbers.
+
+    Parameters
+    ----------
+    report : mapping
+        The report (:func:`heatstack.report.build_report`), values in SI.
+
+    Returns
+    -------
+    dict of str to (list of str, list of list of str)
+        ``"peaks"``, and ``"fuse_plugs"`` and ``"limits"`` when the report has them;
+        temperatures in the report's unit, times in minutes.
     """
     unit = report["temperature_unit"]
     u, du = unit_symbols(unit)
@@ -113,7 +172,18 @@ def _crossed(crossings: list[dict]) -> str:
 
 
 def end_of_braking_sentence(report: Mapping[str, Any]) -> str:
-    """What "end of braking" means in this report, and when it is."""
+    """What "end of braking" means in this report, and when it is.
+
+    Parameters
+    ----------
+    report : mapping
+        The report.
+
+    Returns
+    -------
+    str
+        The sentence (time in minutes).
+    """
     return (
         f"End of braking: {shown_minutes(report['end_of_braking_s'])} min (end of the stop that loaded the "
         "brake; later small events do not move it). Delays below count from it."
@@ -121,7 +191,18 @@ def end_of_braking_sentence(report: Mapping[str, Any]) -> str:
 
 
 def sensor_sentences(report: Mapping[str, Any]) -> list[str]:
-    """Why the gauge lags, in words."""
+    """Why the gauge lags, in words.
+
+    Parameters
+    ----------
+    report : mapping
+        The report (its ``sensor`` section).
+
+    Returns
+    -------
+    list of str
+        Two sentences: the peak and its delays, and the offsets from the heat sink.
+    """
     s, unit = report["sensor"], report["temperature_unit"]
     u, du = unit_symbols(unit)
     band_time = s["within_band_of_mean_s"]
@@ -139,7 +220,18 @@ def sensor_sentences(report: Mapping[str, Any]) -> list[str]:
 
 
 def tyre_sentences(report: Mapping[str, Any]) -> list[str]:
-    """Tyre gas pressure peak, when the limit is first reached and left, and whether a plug releases first."""
+    """Tyre gas pressure peak, when the limit is first reached and left, and whether a plug releases first.
+
+    Parameters
+    ----------
+    report : mapping
+        The report (its ``tyre`` section).
+
+    Returns
+    -------
+    list of str
+        The sentences (pressures in bar, times in minutes).
+    """
     t, unit = report["tyre"], report["temperature_unit"]
     g = t["outer_conductance_W_per_K"]
     lines = [
@@ -172,7 +264,18 @@ def tyre_sentences(report: Mapping[str, Any]) -> list[str]:
 
 
 def cooling_sentences(report: Mapping[str, Any]) -> list[str]:
-    """When the cooling series falls below its threshold, or that it does not within the record."""
+    """When the cooling series falls below its threshold, or that it does not within the record.
+
+    Parameters
+    ----------
+    report : mapping
+        The report (its ``cooling`` section).
+
+    Returns
+    -------
+    list of str
+        One sentence.
+    """
     c, unit = report["cooling"], report["temperature_unit"]
     u = unit_symbols(unit)[0]
     below = f"{shown_temperature(c['below_K'], unit)} {u}"
@@ -189,7 +292,18 @@ def cooling_sentences(report: Mapping[str, Any]) -> list[str]:
 
 
 def energy_sentence(e: Mapping[str, Any]) -> str:
-    """The energy ledger in one sentence [MJ]."""
+    """The energy ledger in one sentence [MJ].
+
+    Parameters
+    ----------
+    e : mapping
+        The report's energy section (heat in, convected, radiated, stored [J], closure error).
+
+    Returns
+    -------
+    str
+        The sentence.
+    """
     return (
         f"in {e['heat_in_J'] / 1e6:.3f}, convected {e['convected_J'] / 1e6:.3f}, "
         f"radiated {e['radiated_J'] / 1e6:.3f}, stored {e['stored_J'] / 1e6:.3f}; "
@@ -208,7 +322,18 @@ _STOP_TERMS = (
 
 
 def stop_sentences(report: Mapping[str, Any]) -> list[str]:
-    """One paragraph per ground-roll stop: distance, time, where the kinetic energy went, energy per brake."""
+    """One paragraph per ground-roll stop: distance, time, where the kinetic energy went, energy per brake.
+
+    Parameters
+    ----------
+    report : mapping
+        The report (its ``stops`` list).
+
+    Returns
+    -------
+    list of str
+        The paragraphs, separated by empty strings.
+    """
     out = []
     for stop in report.get("stops", []):
         terms = ", ".join(f"{label} {stop[key] / 1e6:.2f}" for key, label in _STOP_TERMS)

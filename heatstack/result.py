@@ -170,7 +170,23 @@ class Result:
             object.__setattr__(self, "end_of_braking", float(self.end_of_heating))
 
     def history(self, name: str) -> np.ndarray:
-        """Temperature history [K] of a probe reading or a global series, by name."""
+        """Temperature history of a probe reading or a global series, by name.
+
+        Parameters
+        ----------
+        name : str
+            Probe or series name.
+
+        Returns
+        -------
+        ndarray
+            The values at every record time [K].
+
+        Raises
+        ------
+        InputError
+            If there is no such probe or series (the known names are listed).
+        """
         if name in self.readings:
             return self.readings[name]
         if name in self.series:
@@ -179,13 +195,47 @@ class Result:
         raise InputError(f"no probe or series named {name!r}; known: {known}")
 
     def peak(self, name: str) -> tuple[float, float]:
-        """(peak temperature [K], time of the peak [s]) of a probe reading or series."""
+        """(peak temperature [K], time of the peak [s]) of a probe reading or series.
+
+        Parameters
+        ----------
+        name : str
+            Probe or series name.
+
+        Returns
+        -------
+        peak : float
+            Highest recorded value [K].
+        time : float
+            Its time [s] (the first, if it repeats).
+
+        Raises
+        ------
+        InputError
+            If there is no such probe or series.
+        """
         values = self.history(name)
         k = int(np.argmax(values))
         return float(values[k]), float(self.times[k])
 
     def snapshot(self, time: float) -> np.ndarray:
-        """The stored field snapshot nearest to ``time`` [s]."""
+        """The stored field snapshot nearest to ``time``.
+
+        Parameters
+        ----------
+        time : float
+            Time [s].
+
+        Returns
+        -------
+        ndarray, shape (nz, nr)
+            Temperature field [K], NaN in void cells.
+
+        Raises
+        ------
+        InputError
+            If the result holds no snapshots.
+        """
         if self.snapshot_times.size == 0:
             raise InputError("this result holds no field snapshots")
         return self.snapshots[int(np.argmin(np.abs(self.snapshot_times - time)))]
@@ -197,6 +247,11 @@ class Result:
         after its instrument lag), ``"local"`` (the local temperature at a probe) or
         ``"series"``; ``frame.attrs["units"]`` names each column's unit. Needs pandas
         (``pip install "heatstack[data]"``).
+
+        Returns
+        -------
+        pandas.DataFrame
+            The histories in long form.
 
         Raises
         ------
@@ -212,6 +267,11 @@ class Result:
         ``xarray.open_dataset(path, engine="h5netcdf")``: ``reading`` and ``local`` over
         (time, probe) [K], the series, ``temperature`` over (snapshot_time, z, r) [K].
         Needs xarray (``pip install "heatstack[data]"``).
+
+        Returns
+        -------
+        xarray.Dataset
+            Histories and snapshots with named coordinates.
 
         Raises
         ------

@@ -92,7 +92,18 @@ class SeriesPlace:
 
 
 def series_place(name: str) -> SeriesPlace:
-    """Where the series ``name`` is stored: its own variable, a surface column or another column."""
+    """Where the series ``name`` is stored: its own variable, a surface column or another column.
+
+    Parameters
+    ----------
+    name : str
+        Series name.
+
+    Returns
+    -------
+    SeriesPlace
+        The kind of place and the variable or column name.
+    """
     if name.startswith(SURFACE_PREFIX) and len(name) > len(SURFACE_PREFIX):
         return SeriesPlace(SURFACE_SERIES, name[len(SURFACE_PREFIX) :])
     if _IDENTIFIER.fullmatch(name) and name not in ROOT_VARIABLES:

@@ -78,7 +78,18 @@ class HistoryColumn:
 
 
 def history_columns(result: Any) -> tuple[HistoryColumn, ...]:
-    """Every temperature history of ``result``: probe readings, local probe values, then the series."""
+    """Every temperature history of ``result``: probe readings, local probe values, then the series.
+
+    Parameters
+    ----------
+    result : Result
+        The run.
+
+    Returns
+    -------
+    tuple of HistoryColumn
+        Name, kind and values [K] of each history.
+    """
     return (
         *(HistoryColumn(name, READING, np.asarray(v, dtype=float)) for name, v in result.readings.items()),
         *(HistoryColumn(name, LOCAL, np.asarray(v, dtype=float)) for name, v in result.probes.items()),
@@ -216,7 +227,17 @@ def result_dataset(result: Any) -> Any:
 def history_rows(result: Any, temperature: Any = None) -> Iterator[list[float]]:
     """Rows of the wide history table: the record time [s], then every history of :func:`history_columns`.
 
-    ``temperature``, if given, converts an array of kelvin to the output unit.
+    Parameters
+    ----------
+    result : Result
+        The run.
+    temperature : callable, optional
+        Converts an array of kelvin to the output unit; kelvin are kept by default.
+
+    Yields
+    ------
+    list of float
+        One row per record time.
     """
     columns = history_columns(result)
     convert = temperature or (lambda values: values)
@@ -226,7 +247,18 @@ def history_rows(result: Any, temperature: Any = None) -> Iterator[list[float]]:
 
 
 def ledger_rows(result: Any) -> Iterator[list[float]]:
-    """Rows of the ledger table: time [s], each cumulative account [J] and the closure error [J]."""
+    """Rows of the ledger table: time [s], each cumulative account [J] and the closure error [J].
+
+    Parameters
+    ----------
+    result : Result
+        The run.
+
+    Yields
+    ------
+    list of float
+        One row per record time.
+    """
     ledger = result.ledger
     table = np.column_stack(
         [np.asarray(result.times, float), *(getattr(ledger, a) for a in LEDGER_ACCOUNTS), ledger.closure_error]

@@ -90,7 +90,13 @@ _UNIT_TOKEN = re.compile(
 
 @functools.lru_cache(maxsize=1)
 def registry() -> pint.UnitRegistry:
-    """Return heatstack's shared pint unit registry (created once)."""
+    """Return heatstack's shared pint unit registry (created once).
+
+    Returns
+    -------
+    pint.UnitRegistry
+        The registry (offset units converted to base units, ``kt`` defined as the knot).
+    """
     reg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
     reg.define("kt = knot")
     return reg
@@ -202,6 +208,11 @@ def unit(text: Any, field: str) -> pint.Unit:
     field : str
         Name of the input field, used in error messages.
 
+    Returns
+    -------
+    pint.Unit
+        The unit.
+
     Raises
     ------
     UnitError
@@ -230,6 +241,20 @@ def _parse_unit(text: str) -> pint.Unit:
 
 def parse_quantity(text: str, field: str, allow_nonfinite: bool = False) -> pint.Quantity:
     """Read a quantity string (``"20 mm"``) into a pint Quantity, through our own tokeniser.
+
+    Parameters
+    ----------
+    text : str
+        One number followed by a unit expression.
+    field : str
+        Name of the input field, used in error messages.
+    allow_nonfinite : bool, optional
+        Accept ``nan`` and ``inf`` as the number.
+
+    Returns
+    -------
+    pint.Quantity
+        The quantity in the unit as written.
 
     Raises
     ------
@@ -367,7 +392,9 @@ def quantity(
     unit : str, optional
         Unit of a bare number (e.g. ``"kt"``); checked like any unit string.
     minimum, maximum : float, optional
-        Bounds in SI; ``minimum`` is exclusive when ``exclusive_minimum``.
+        Bounds in SI.
+    exclusive_minimum : bool
+        Whether ``minimum`` itself is refused.
     allow_nonfinite : bool
         Accept ``nan`` and ``inf`` (bounds then apply to the finite values only).
     error : type of InputError
@@ -383,7 +410,7 @@ def quantity(
     UnitError
         If the text cannot be read, the unit is unknown or has the wrong dimension.
     InputError
-        (or ``error``) if the value is not a number, not finite or out of range.
+        (or ``error``) if the value is not a number, not one value, not finite or out of range.
     """
     values = _convert(value, unit, dimension, field, allow_nonfinite)
     if values.ndim != 0:
@@ -404,13 +431,41 @@ def quantity_array(
     allow_nonfinite: bool = False,
     error: type[InputError] = InputError,
 ) -> np.ndarray:
-    """Array form of :func:`quantity`: a numeric array, an array Quantity, or a sequence
-    whose items are numbers, strings or Quantities (each read alone; ``field[i]`` in errors).
+    """Array form of :func:`quantity`.
+
+    Accepts a numeric array, an array Quantity, or a sequence whose items are numbers,
+    strings or Quantities (each read alone; ``field[i]`` in errors).
+
+    Parameters
+    ----------
+    values : array_like, pint.Quantity or sequence
+        The values.
+    dimension : str
+        A key of :data:`SI_UNITS`.
+    field : str
+        Name or key path of the input field.
+    unit : str, optional
+        Unit of bare numbers.
+    minimum, maximum : float, optional
+        Bounds in SI, applied to every value.
+    exclusive_minimum : bool
+        Whether ``minimum`` itself is refused.
+    allow_nonfinite : bool
+        Accept ``nan`` and ``inf``.
+    error : type of InputError
+        Class raised for a value out of range or not finite.
 
     Returns
     -------
     numpy.ndarray
         Float array in the SI unit of ``dimension``.
+
+    Raises
+    ------
+    UnitError
+        If a value cannot be read or has the wrong dimension.
+    InputError
+        (or ``error``) if a value is not finite or out of range.
     """
     if isinstance(values, list | tuple) and any(isinstance(v, str | pint.Quantity) for v in values):
         out = np.array(
@@ -427,12 +482,55 @@ def to_si(value: Any, unit: str | None, dimension: str, field: str) -> float:
     """Convert a value to an SI float with no range check (see :func:`quantity`).
 
     Non-finite numbers pass; text is read by the same safe tokeniser.
+
+    Parameters
+    ----------
+    value : float or str or pint.Quantity
+        The value.
+    unit : str or None
+        Unit of a bare number (None: SI).
+    dimension : str
+        A key of :data:`SI_UNITS`.
+    field : str
+        Name of the input field, used in error messages.
+
+    Returns
+    -------
+    float
+        The value in SI.
+
+    Raises
+    ------
+    UnitError
+        If the value cannot be read or has the wrong dimension.
     """
     return quantity(value, dimension, field, unit=unit, allow_nonfinite=True)
 
 
 def to_si_array(value: Any, unit: str | None, dimension: str, field: str) -> np.ndarray:
-    """Array version of :func:`to_si`."""
+    """Array version of :func:`to_si`.
+
+    Parameters
+    ----------
+    value : array_like, pint.Quantity or sequence
+        The values.
+    unit : str or None
+        Unit of bare numbers (None: SI).
+    dimension : str
+        A key of :data:`SI_UNITS`.
+    field : str
+        Name of the input field, used in error messages.
+
+    Returns
+    -------
+    numpy.ndarray
+        The values in SI.
+
+    Raises
+    ------
+    UnitError
+        If a value cannot be read or has the wrong dimension.
+    """
     return quantity_array(value, dimension, field, unit=unit, allow_nonfinite=True)
 
 
@@ -456,6 +554,26 @@ def declared(
     :func:`convert_declared` (called from ``__post_init__``) then turns whatever the
     user gave (SI number, unit string, pint Quantity) into the SI float; the case
     reader and the study paths look the dimension up with :func:`declared_dimension`.
+
+    Parameters
+    ----------
+    dimension : str
+        A key of :data:`SI_UNITS`.
+    default : object, optional
+        The field's default (SI number, unit string or Quantity); none by default.
+    positive : bool
+        Refuse zero and negative values.
+    minimum, maximum : float, optional
+        Bounds in SI.
+    exclusive_minimum : bool
+        Whether ``minimum`` itself is refused.
+    **options
+        Further :func:`dataclasses.field` arguments.
+
+    Returns
+    -------
+    dataclasses.Field
+        The field, its dimension and bounds in ``metadata``.
     """
     if positive:
         minimum, exclusive_minimum = 0.0, True
@@ -469,7 +587,20 @@ def declared(
 
 
 def declared_dimension(cls: Any, name: str) -> str | None:
-    """The dimension field ``name`` of dataclass ``cls`` declares, or None."""
+    """The dimension field ``name`` of dataclass ``cls`` declares, or None.
+
+    Parameters
+    ----------
+    cls : type or dataclass instance
+        The dataclass.
+    name : str
+        Field name.
+
+    Returns
+    -------
+    str or None
+        The declared dimension; None for an undeclared or unknown field.
+    """
     for f in dataclasses.fields(cls):
         if f.name == name:
             return f.metadata.get("dimension")
@@ -477,7 +608,18 @@ def declared_dimension(cls: Any, name: str) -> str | None:
 
 
 def declared_dimensions(cls: Any) -> Mapping[str, str]:
-    """Every declared field of dataclass ``cls`` and its dimension."""
+    """Every declared field of dataclass ``cls`` and its dimension.
+
+    Parameters
+    ----------
+    cls : type or dataclass instance
+        The dataclass.
+
+    Returns
+    -------
+    mapping of str to str
+        Field name to dimension.
+    """
     return {f.name: f.metadata["dimension"] for f in dataclasses.fields(cls) if "dimension" in f.metadata}
 
 
@@ -486,6 +628,22 @@ def convert_declared(instance: Any, where: str, error: type[InputError] = InputE
 
     ``None`` stays ``None``; a sequence field holds a tuple of SI floats. Messages read
     ``"<where>: <field>: ..."``.
+
+    Parameters
+    ----------
+    instance : dataclass instance
+        The instance (frozen or not) whose declared fields are converted.
+    where : str
+        Prefix of error messages ("" for none).
+    error : type of InputError, optional
+        Class raised for a value out of range or not finite.
+
+    Raises
+    ------
+    UnitError
+        If a value cannot be read or has the wrong dimension.
+    InputError
+        (or ``error``) if a value is out of its declared bounds.
     """
     prefix = f"{where}: " if where else ""
     for f in dataclasses.fields(instance):
@@ -507,7 +665,27 @@ def convert_declared(instance: Any, where: str, error: type[InputError] = InputE
 
 
 def from_si(value: Any, dimension: str, unit_text: str) -> np.ndarray | float:
-    """Convert an SI value (or array) of ``dimension`` to ``unit_text`` for display."""
+    """Convert an SI value (or array) of ``dimension`` to ``unit_text`` for display.
+
+    Parameters
+    ----------
+    value : float or array_like
+        The value in the SI unit of ``dimension``.
+    dimension : str
+        A key of :data:`SI_UNITS`.
+    unit_text : str
+        The output unit, e.g. ``"degC"``.
+
+    Returns
+    -------
+    float or ndarray
+        The value in ``unit_text``.
+
+    Raises
+    ------
+    UnitError
+        If the unit is unknown or not of ``dimension``.
+    """
     reg = registry()
     value_si = reg.Quantity(np.asarray(value, dtype=float), SI_UNITS[dimension] or "dimensionless")
     try:
@@ -525,6 +703,20 @@ class Declaration:
     """The physical dimension and bounds declared for one function argument.
 
     ``positive`` is short for ``minimum=0.0, exclusive_minimum=True``.
+
+    Attributes
+    ----------
+    dimension : str
+        A key of :data:`SI_UNITS`.
+    minimum, maximum : float or None
+        Bounds in SI.
+    exclusive_minimum : bool
+        Whether ``minimum`` itself is refused.
+
+    Raises
+    ------
+    UnitError
+        If ``dimension`` is unknown.
     """
 
     dimension: str
@@ -547,6 +739,16 @@ def declares(**declarations: Declaration) -> Callable[[Callable[..., Any]], Call
     Before the call, each named argument that is not ``None`` is converted to SI by
     :func:`quantity` (so the body sees SI floats); the declarations stay readable as
     ``function.dimensions`` (argument name -> dimension) for the case reader and studies.
+
+    Parameters
+    ----------
+    **declarations : Declaration
+        The declaration of each argument, by argument name.
+
+    Returns
+    -------
+    callable
+        The decorator; the wrapped function has a ``dimensions`` attribute.
     """
 
     def wrap(function: Callable[..., Any]) -> Callable[..., Any]:

@@ -208,14 +208,41 @@ class CoolingTime:
 
 
 def frozen_copy(values: np.ndarray) -> np.ndarray:
-    """A read-only float copy of ``values`` (answers are values, not views of a Result)."""
+    """A read-only float copy of ``values`` (answers are values, not views of a Result).
+
+    Parameters
+    ----------
+    values : ndarray
+        Any values (the unit is kept).
+
+    Returns
+    -------
+    ndarray
+        A float copy that cannot be written.
+    """
     out = np.array(values, dtype=float, copy=True)
     out.setflags(write=False)
     return out
 
 
 def record_times(result: Result) -> np.ndarray:
-    """The record times, checked: at least two, finite, strictly increasing."""
+    """The record times, checked: at least two, finite, strictly increasing.
+
+    Parameters
+    ----------
+    result : Result
+        The run.
+
+    Returns
+    -------
+    ndarray
+        Record times [s].
+
+    Raises
+    ------
+    InputError
+        If there are fewer than two, or they are not finite and strictly increasing.
+    """
     times = np.asarray(result.times, dtype=float)
     if times.ndim != 1 or times.size < 2:
         raise InputError(f"result: too few record points ({times.size}); at least 2 are needed")
@@ -225,7 +252,27 @@ def record_times(result: Result) -> np.ndarray:
 
 
 def checked_history(result: Result, name: str, values: np.ndarray) -> np.ndarray:
-    """``values`` [K] of the history ``name``, checked: one finite value per record time."""
+    """``values`` of the history ``name``, checked: one finite value per record time.
+
+    Parameters
+    ----------
+    result : Result
+        The run the history belongs to.
+    name : str
+        History name, for the message.
+    values : ndarray
+        The history [K].
+
+    Returns
+    -------
+    ndarray
+        The values as floats [K].
+
+    Raises
+    ------
+    InputError
+        If the count differs from the record times or a value is not finite.
+    """
     values = np.asarray(values, dtype=float)
     if values.shape != np.shape(result.times):
         raise InputError(f"{name!r}: {values.size} values for {np.size(result.times)} record times")
@@ -249,7 +296,27 @@ def _history(result: Result, name: str) -> np.ndarray:
 
 
 def local_temperature(result: Result, name: str, field: str = "probe") -> np.ndarray:
-    """The local temperature at a probe point, by name."""
+    """The local temperature at a probe point, by name.
+
+    Parameters
+    ----------
+    result : Result
+        The run.
+    name : str
+        Probe name.
+    field : str, optional
+        Field name used in error messages.
+
+    Returns
+    -------
+    ndarray
+        The probe's temperature at every record time [K].
+
+    Raises
+    ------
+    InputError
+        If there is no such probe, or the records are too few or not finite.
+    """
     record_times(result)
     if name not in result.probes:
         raise InputError(f"{field}: no probe named {name!r}; known probes: {sorted(result.probes)}")
@@ -263,8 +330,22 @@ def _peak_of(name: str, times: np.ndarray, values: np.ndarray, end_of_braking: f
 
 
 def level_crossings(times: np.ndarray, values: np.ndarray, level: float) -> list[tuple[float, str]]:
-    """Times [s] where a piecewise-linear history reaches (>=) or leaves ``level``, with
-    the direction ``"up"`` or ``"down"``; ``times`` [s], ``values`` and ``level`` in one unit."""
+    """Times where a piecewise-linear history reaches (>=) or leaves ``level``, with the direction.
+
+    Parameters
+    ----------
+    times : ndarray
+        Record times [s].
+    values : ndarray
+        The history, in any unit.
+    level : float
+        The level, in the unit of ``values``.
+
+    Returns
+    -------
+    list of (float, str)
+        Each crossing's time [s] (linear interpolation) and ``"up"`` or ``"down"``.
+    """
     above = values >= level
     out = []
     for k in np.flatnonzero(above[1:] != above[:-1]):
@@ -275,7 +356,22 @@ def level_crossings(times: np.ndarray, values: np.ndarray, level: float) -> list
 
 
 def first_reach(times: np.ndarray, values: np.ndarray, level: float) -> float | None:
-    """First time a piecewise-linear history is at or above ``level`` [s]; None if never."""
+    """First time a piecewise-linear history is at or above ``level``; None if never.
+
+    Parameters
+    ----------
+    times : ndarray
+        Record times [s].
+    values : ndarray
+        The history, in any unit.
+    level : float
+        The level, in the unit of ``values``.
+
+    Returns
+    -------
+    float or None
+        The time [s].
+    """
     if values[0] >= level:
         return float(times[0])
     ups = [t for t, direction in level_crossings(times, values, level) if direction == "up"]
@@ -515,7 +611,25 @@ def cooling_time_in_result(result: Result, name: str, below: Any, after: Any = N
 
 
 def name_tuple(names: Sequence[str], field: str) -> tuple[str, ...]:
-    """One name or several as a non-empty tuple; InputError naming ``field`` if empty."""
+    """One name or several as a non-empty tuple; InputError naming ``field`` if empty.
+
+    Parameters
+    ----------
+    names : str or sequence of str
+        One name, or several.
+    field : str
+        Field name used in the error message.
+
+    Returns
+    -------
+    tuple of str
+        The names.
+
+    Raises
+    ------
+    InputError
+        If no name is given.
+    """
     if isinstance(names, str):
         return (names,)
     out = tuple(names)

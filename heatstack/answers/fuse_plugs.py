@@ -111,8 +111,20 @@ class FusePlug:
 
     @classmethod
     def from_spec(cls, spec: FusePlugSpec, time_constant: Any = None) -> FusePlug:
-        """The plug of a built wheel (:class:`~heatstack.builders.FusePlugSpec`); its own
-        time constant [s] unless ``time_constant`` is given."""
+        """The plug of a built wheel; its own time constant unless ``time_constant`` is given.
+
+        Parameters
+        ----------
+        spec : FusePlugSpec
+            The builder's plug: name, release temperature [K], tolerance [K], time constant [s].
+        time_constant : float or str, optional
+            Time constant used instead of the spec's [s].
+
+        Returns
+        -------
+        FusePlug
+            The plug.
+        """
         tau = spec.time_constant if time_constant is None else time_constant
         return cls(spec.name, spec.release_temperature, spec.tolerance, tau)
 
@@ -158,8 +170,25 @@ class PlugAnswer:
 
 
 def as_fuse_plug(item: FusePlug | FusePlugSpec) -> FusePlug:
-    """A :class:`FusePlug` from a plug or a builder's :class:`~heatstack.builders.FusePlugSpec`
-    (with the spec's own time constant); InputError for anything else."""
+    """A :class:`FusePlug` from a plug or a builder's :class:`~heatstack.builders.FusePlugSpec`.
+
+    A spec keeps its own time constant.
+
+    Parameters
+    ----------
+    item : FusePlug or FusePlugSpec
+        The plug.
+
+    Returns
+    -------
+    FusePlug
+        ``item`` itself, or the plug of the spec.
+
+    Raises
+    ------
+    InputError
+        If ``item`` is neither.
+    """
     if isinstance(item, FusePlugSpec):
         return FusePlug.from_spec(item)
     if isinstance(item, FusePlug):
@@ -173,6 +202,18 @@ def plug_temperature(result: Result, plug: FusePlug | FusePlugSpec) -> np.ndarra
     peak and margin are judged on). A plug starts from the result's
     ``initial_plug_temperatures`` (a run chained from a state that carried them), else in
     equilibrium with the rim.
+
+    Parameters
+    ----------
+    result : Result
+        The run.
+    plug : FusePlug or FusePlugSpec
+        The plug.
+
+    Returns
+    -------
+    ndarray
+        The plug's temperature at every record time [K].
 
     Raises
     ------

@@ -413,6 +413,11 @@ def plug_releases_before_limit(
     -------
     PlugVersusPressure
         ``releases_first`` is the yes/no answer; both times are given.
+
+    Raises
+    ------
+    InputError
+        If no plug answer is given, or the limit is not a valid pressure.
     """
     if not plug_answers:
         raise InputError("plug_answers: give at least one plug answer")

@@ -70,7 +70,7 @@ class FaceExchange:
     radiation_temperature : ndarray
         Temperature [K] the linearised radiation loses heat towards.
     half_cell_resistance : ndarray
-        Resistance [K m^2/W] from the cell centre to the face.
+        Resistance [K/W] from the cell centre to the face.
     ambient : ndarray
         Ambient temperature [K] of the convection.
     """
@@ -103,7 +103,15 @@ class GapExchange:
 
 @dataclass(frozen=True, eq=False)
 class SurfaceTemperatures:
-    """Surface temperatures [K] of the exposed faces and of both sides of every gap pair."""
+    """Surface temperatures of the exposed faces and of both sides of every gap pair.
+
+    Attributes
+    ----------
+    face : ndarray, shape (f,)
+        Temperature of each exposed face [K].
+    gap_a, gap_b : ndarray, shape (q,)
+        Temperatures of the side-a and side-b faces of each gap pair [K].
+    """
 
     face: np.ndarray
     gap_a: np.ndarray
@@ -111,11 +119,37 @@ class SurfaceTemperatures:
 
     @classmethod
     def of_cells(cls, network: Network, T: np.ndarray) -> SurfaceTemperatures:
-        """Every surface at the temperature of its cell."""
+        """Every surface at the temperature of its cell.
+
+        Parameters
+        ----------
+        network : Network
+            The meshed assembly.
+        T : ndarray, shape (n,)
+            Cell temperatures [K].
+
+        Returns
+        -------
+        SurfaceTemperatures
+            Copies of the cell temperatures at every exposed face and gap side [K].
+        """
         return cls(face=T[network.face_cell].copy(), gap_a=T[network.gap_a].copy(), gap_b=T[network.gap_b].copy())
 
     def moved(self, network: Network, shift: np.ndarray) -> SurfaceTemperatures:
-        """Every surface moved by its cell's temperature change ``shift`` [K]."""
+        """Every surface moved by its cell's temperature change ``shift``.
+
+        Parameters
+        ----------
+        network : Network
+            The meshed assembly.
+        shift : ndarray, shape (n,)
+            Temperature change of each cell [K].
+
+        Returns
+        -------
+        SurfaceTemperatures
+            The shifted surface temperatures [K].
+        """
         return SurfaceTemperatures(
             face=self.face + shift[network.face_cell],
             gap_a=self.gap_a + shift[network.gap_a],
@@ -129,6 +163,7 @@ class Boundaries:
     Parameters
     ----------
     network : Network
+        The meshed assembly.
     """
 
     def __init__(self, network: Network):
@@ -147,7 +182,19 @@ class Boundaries:
         self._evaluators: dict[int, tuple] = {}
 
     def surroundings(self, phase: Phase) -> PhaseSurroundings:
-        """The boundary laws of ``phase`` per face (kept for the phase last asked for)."""
+        """The boundary laws of ``phase`` per face (kept for the phase last asked for).
+
+        Parameters
+        ----------
+        phase : Phase
+            The schedule phase in force.
+
+        Returns
+        -------
+        PhaseSurroundings
+            Convection coefficient callables per group, ambient and surroundings temperatures [K]
+            and the radiating flag of every face.
+        """
         cached_phase, cached = self._phase_cache
         if cached_phase is phase:
             return cached
@@ -176,7 +223,20 @@ class Boundaries:
         return self._evaluators[key][1]
 
     def emissivity(self, blocks: list[np.ndarray], surface_t: np.ndarray) -> np.ndarray:
-        """Emissivity of each surface of the material blocks ``blocks`` at ``surface_t`` [K]."""
+        """Emissivity of each surface of the material blocks ``blocks`` at ``surface_t``.
+
+        Parameters
+        ----------
+        blocks : list of ndarray of int
+            For each material block, the positions in ``surface_t`` of the surfaces of that material.
+        surface_t : ndarray
+            Surface temperatures [K].
+
+        Returns
+        -------
+        ndarray
+            Emissivity of each surface [-].
+        """
         eps = np.empty(surface_t.size)
         for (material, _), faces in zip(self.net.material_blocks, blocks, strict=True):
             if faces.size:
@@ -184,7 +244,29 @@ class Boundaries:
         return eps
 
     def faces(self, phase: Phase, time: float, surface_t: np.ndarray, conductivity: np.ndarray) -> FaceExchange:
-        """Convection and linearised radiation of every exposed face at ``surface_t`` [K]."""
+        """Convection and linearised radiation of every exposed face at ``surface_t``.
+
+        Parameters
+        ----------
+        phase : Phase
+            The schedule phase in force (its cooling laws).
+        time : float
+            Time at which the convection laws are evaluated [s].
+        surface_t : ndarray, shape (f,)
+            Exposed-face temperatures of the iterate [K].
+        conductivity : ndarray, shape (2 n,)
+            Cell conductivities [W/(m K)], radial for all cells then axial.
+
+        Returns
+        -------
+        FaceExchange
+            Transfer coefficients [W/K], equivalent temperatures [K] and their parts.
+
+        Notes
+        -----
+        Grey radiation is linearised on its tangent at the iterate's surface temperature:
+        ``q = eps sigma (Ts^4 - Tsur^4) ~ h_rad (T - t_rad)`` with ``h_rad = 4 eps sigma Ts^3``.
+        """
         net = self.net
         env = self.surroundings(phase)
         h_conv = np.empty(surface_t.size)
@@ -212,7 +294,20 @@ class Boundaries:
         )
 
     def gaps(self, ts_a: np.ndarray, ts_b: np.ndarray, conductivity: np.ndarray) -> GapExchange:
-        """Grey radiation across every gap pair with surface temperatures ``ts_a``, ``ts_b`` [K]."""
+        """Grey radiation across every gap pair with surface temperatures ``ts_a``, ``ts_b``.
+
+        Parameters
+        ----------
+        ts_a, ts_b : ndarray, shape (q,)
+            Temperatures of the side-a and side-b faces [K].
+        conductivity : ndarray, shape (2 n,)
+            Cell conductivities [W/(m K)], radial for all cells then axial.
+
+        Returns
+        -------
+        GapExchange
+            Conductance of each pair [W/K] and the half-cell resistances of its sides [K/W].
+        """
         net = self.net
         eps_a = self.emissivity(self.gap_blocks_a, ts_a)
         eps_b = self.emissivity(self.gap_blocks_b, ts_b)
@@ -224,8 +319,22 @@ class Boundaries:
         return GapExchange(conductance=G, resistance_a=r_a, resistance_b=r_b)
 
     def surface_temperatures(self, T: np.ndarray, faces: FaceExchange, gaps: GapExchange) -> SurfaceTemperatures:
-        """Surface temperatures [K] from the cell temperatures ``T`` and the fluxes through
-        the half-cell resistances."""
+        """Surface temperatures from the cell temperatures and the fluxes through the half-cell resistances.
+
+        Parameters
+        ----------
+        T : ndarray, shape (n,)
+            Cell temperatures [K].
+        faces : FaceExchange
+            The exposed faces' linearised exchange.
+        gaps : GapExchange
+            The gap pairs' linearised exchange.
+
+        Returns
+        -------
+        SurfaceTemperatures
+            Exposed-face and gap-side temperatures [K].
+        """
         net = self.net
         q_face = faces.transfer * (T[net.face_cell] - faces.equivalent_temperature)
         q_gap = gaps.conductance * (T[net.gap_a] - T[net.gap_b])

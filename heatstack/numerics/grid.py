@@ -65,19 +65,42 @@ class Grid:
         return 0.5 * (self.z_edges[1:] + self.z_edges[:-1])
 
     def cell_volumes(self) -> np.ndarray:
-        """Volume of each active cell over the full circumference [m^3]."""
+        """Volume of each active cell over the full circumference.
+
+        Returns
+        -------
+        ndarray, shape (n,)
+            Cell volumes [m^3], in unknown order.
+        """
         ring = np.pi * (self.r_edges[1:] ** 2 - self.r_edges[:-1] ** 2)
         dz = np.diff(self.z_edges)
         j, i = self.cell_ij[:, 0], self.cell_ij[:, 1]
         return ring[i] * dz[j]
 
     def cell_part(self) -> np.ndarray:
-        """Part index of each active cell."""
+        """Part index of each active cell.
+
+        Returns
+        -------
+        ndarray of int, shape (n,)
+            Index into the assembly's parts of the part owning each active cell.
+        """
         j, i = self.cell_ij[:, 0], self.cell_ij[:, 1]
         return self.part_map[j, i]
 
     def to_field(self, values: np.ndarray) -> np.ndarray:
-        """Scatter per-cell values into an (nz, nr) array with NaN in void cells."""
+        """Scatter per-cell values into an (nz, nr) array with NaN in void cells.
+
+        Parameters
+        ----------
+        values : ndarray, shape (n,)
+            One value per active cell, in unknown order (any unit; the field keeps it).
+
+        Returns
+        -------
+        ndarray, shape (nz, nr)
+            The values on the tensor grid, NaN where no part lies.
+        """
         out = np.full(self.shape, np.nan)
         out[self.cell_ij[:, 0], self.cell_ij[:, 1]] = values
         return out
@@ -129,6 +152,11 @@ def build_grid(
     Returns
     -------
     Grid
+
+    Raises
+    ------
+    GeometryError
+        If a cell size is not positive or ``min_cells`` is below 1.
     """
     dr, dz = (cell_size, cell_size) if np.isscalar(cell_size) else cell_size
     if not (dr > 0 and dz > 0):

@@ -38,27 +38,58 @@ _TWO_PI = 2.0 * np.pi
 class Network:
     """Precomputed arrays of a meshed assembly. All indices refer to active cells.
 
-    Attributes (all SI)
-    -------------------
-    volume : (n,) cell volumes [m^3]
-    material_blocks : tuple of (Material, slice) — contiguous cells of one material
-    link_a, link_b : (m,) cells joined by each conduction link
-    link_dir : (m,) RADIAL or AXIAL: which conductivity each half-cell uses
-    link_ga, link_gb : (m,) half-cell geometric factors [1/m]
-    link_contact_clamped, link_contact_released : (m,) interface resistances [K/W]
-    gap_a, gap_b : (q,) cells exchanging radiation across a void
-    gap_dir_a, gap_dir_b, gap_ga, gap_gb : half-cell data of each gap face
-    gap_area_a : (q,) area of the face of cell a [m^2]
-    gap_area_ratio : (q,) A_a / A_b
-    face_cell, face_dir, face_g, face_area, face_group : every exposed face
-    face_radiates : (f,) whether the face radiates to the surroundings (False for a face
-        in a gap pair, which radiates to its partner instead)
-    groups : tuple of str, the exposed-surface group names (face_group indexes it)
-    friction_a, friction_b : (s,) cells on either side of each rubbing face
-    friction_weight : (s,) share of the total friction power of each rubbing face (sums to 1)
-    friction_labels : tuple of str, friction_interface : (s,) interface index per face
-    cell_group_masks : tuple of (n,) bool, the cells of each of ``assembly.cell_groups``
-    probe_names, probe_cells (p, 4), probe_weights (p, 4), probe_time_constants (p,)
+    Attributes
+    ----------
+    grid : Grid
+        The tensor r-z grid the network was built on.
+    assembly : Assembly
+        The assembly that was meshed.
+    volume : ndarray, shape (n,)
+        Cell volumes [m^3].
+    material_blocks : tuple of (Material, slice)
+        Contiguous cells of one material.
+    cell_material : ndarray of int, shape (n,)
+        Index into ``materials`` of each cell's material.
+    link_a, link_b : ndarray of int, shape (m,)
+        Cells joined by each conduction link.
+    link_dir : ndarray, shape (m,)
+        RADIAL or AXIAL: which conductivity each half-cell uses.
+    link_ga, link_gb : ndarray, shape (m,)
+        Half-cell geometric factors [1/m].
+    link_contact_clamped, link_contact_released : ndarray, shape (m,)
+        Interface resistances with the stack clamped and released [K/W].
+    gap_a, gap_b : ndarray of int, shape (q,)
+        Cells exchanging radiation across a void.
+    gap_dir_a, gap_dir_b, gap_ga, gap_gb : ndarray, shape (q,)
+        Direction and half-cell geometric factor [1/m] of each gap face.
+    gap_area_a : ndarray, shape (q,)
+        Area of the face of cell a [m^2].
+    gap_area_ratio : ndarray, shape (q,)
+        Area ratio A_a / A_b [-].
+    face_cell, face_dir, face_g, face_area, face_group : ndarray, shape (f,)
+        Every exposed face: its cell, direction, half-cell geometric factor [1/m], area [m^2] and
+        index into ``groups``.
+    face_radiates : ndarray of bool, shape (f,)
+        Whether the face radiates to the surroundings (False for a face in a gap pair, which
+        radiates to its partner instead).
+    groups : tuple of str
+        The exposed-surface group names (``face_group`` indexes it).
+    friction_a, friction_b : ndarray of int, shape (s,)
+        Cells on either side of each rubbing face.
+    friction_weight : ndarray, shape (s,)
+        Share of the total friction power of each rubbing face [-] (sums to 1).
+    friction_interface : ndarray of int, shape (s,)
+        Index into ``friction_labels`` of each rubbing face's interface.
+    friction_labels : tuple of str
+        The rubbing interfaces' names.
+    cell_group_masks : tuple of ndarray of bool, shape (n,)
+        The cells of each of ``assembly.cell_groups``.
+    probe_names : tuple of str
+        Probe names.
+    probe_cells, probe_weights : ndarray, shape (p, 4)
+        The four cells each probe interpolates between and their weights [-].
+    probe_time_constants : ndarray, shape (p,)
+        Each probe's sensor time constant [s] (0 for none).
     """
 
     grid: Grid
@@ -110,7 +141,13 @@ class Network:
         return tuple(m for m, _ in self.material_blocks)
 
     def mass(self) -> np.ndarray:
-        """Mass of each cell [kg] (reference density times cell volume)."""
+        """Mass of each cell (reference density times cell volume).
+
+        Returns
+        -------
+        ndarray, shape (n,)
+            Cell masses [kg].
+        """
         density = np.empty(self.n_cells)
         for material, block in self.material_blocks:
             density[block] = material.density

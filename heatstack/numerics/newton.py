@@ -170,7 +170,23 @@ class NewtonStep:
         self.lu = None
 
     def frame(self, t0: float, dt: float, H_n: np.ndarray) -> StepFrame:
-        """The fixed data of the step from ``t0`` over ``dt`` [s] starting at enthalpy ``H_n``."""
+        """The fixed data of the step from ``t0`` over ``dt`` starting at enthalpy ``H_n``.
+
+        Parameters
+        ----------
+        t0 : float
+            Time at the start of the step [s].
+        dt : float
+            Step length [s].
+        H_n : ndarray, shape (n,)
+            Cell volumetric enthalpies at ``t0`` [J/m^3].
+
+        Returns
+        -------
+        StepFrame
+            The phase at the step's midpoint, the end time [s], the mean friction power over the
+            step [W], the contact resistances in force [K/W] and the volumetric sources [W].
+        """
         net = self.net
         phase = self.schedule.phase_at(t0 + 0.5 * dt)
         t1 = t0 + dt
@@ -188,10 +204,33 @@ class NewtonStep:
     def step(
         self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, guess: np.ndarray, surfaces: SurfaceTemperatures
     ) -> StepOutcome:
-        """Advance one step from ``T_n`` [K], ``H_n`` [J/m^3] at ``t0`` [s]; raises StepFailed.
+        """Advance one step from ``T_n``, ``H_n`` at ``t0``.
 
-        ``guess`` [K] is the initial iterate; ``surfaces`` are the last step's surface
-        temperatures, moved with their cells to the guess.
+        Parameters
+        ----------
+        t0 : float
+            Time at the start of the step [s].
+        dt : float
+            Step length [s].
+        T_n : ndarray, shape (n,)
+            Cell temperatures at ``t0`` [K].
+        H_n : ndarray, shape (n,)
+            Cell volumetric enthalpies at ``t0`` [J/m^3].
+        guess : ndarray, shape (n,)
+            Initial iterate [K].
+        surfaces : SurfaceTemperatures
+            The last step's surface temperatures, moved here with their cells to the guess.
+
+        Returns
+        -------
+        StepOutcome
+            Temperatures [K], enthalpies [J/m^3], surface temperatures and accounts of the step.
+
+        Raises
+        ------
+        StepFailed
+            If an iterate is not finite, leaves a property table, or Newton does not converge in
+            ``max_iterations``.
         """
         frame = self.frame(t0, dt, H_n)
         T = guess.copy()
@@ -248,7 +287,30 @@ class NewtonStep:
     def linearise(
         self, frame: StepFrame, T: np.ndarray, surfaces: SurfaceTemperatures, iteration: int
     ) -> Linearisation:
-        """Coefficients and sources at the iterate ``T`` [K], assembled into the step matrix."""
+        """Coefficients and sources at the iterate ``T``, assembled into the step matrix.
+
+        Parameters
+        ----------
+        frame : StepFrame
+            The step's fixed data.
+        T : ndarray, shape (n,)
+            The iterate's cell temperatures [K].
+        surfaces : SurfaceTemperatures
+            The iterate's surface temperatures.
+        iteration : int
+            Iteration number (0 for the first, whose failure is blamed on the guess).
+
+        Returns
+        -------
+        Linearisation
+            Enthalpy [J/m^3], capacity term [W/K], source [W], face and gap exchange and the
+            friction heat on either side of each rubbing face [W].
+
+        Raises
+        ------
+        StepFailed
+            If a temperature falls outside a property table.
+        """
         net, n = self.net, self.net.n_cells
         try:
             properties = cell_properties(net, T)
@@ -277,17 +339,37 @@ class NewtonStep:
         )
 
     def factorise(self, frame: StepFrame) -> None:
-        """Factorise the step matrix as it stands, for this step's size and phase."""
+        """Factorise the step matrix as it stands, for this step's size and phase.
+
+        Parameters
+        ----------
+        frame : StepFrame
+            The step whose size [s] and phase the factors are kept for.
+        """
         self.lu = self.system.factorise()
         self.lu_dt = frame.dt
         self.lu_phase = frame.phase
         self.stats["factorisations"] += 1
 
     def converged(self, largest: float, previous: float | None) -> bool:
-        """Whether the estimated remaining error ``rate / (1 - rate) * |last correction|`` is
-        below the tolerance; the contraction rate is measured from the last two
-        corrections, or on a step's first iteration taken (doubled, for safety) from the
-        previous step. The conservative end-of-step check still guards the result."""
+        """Whether the estimated remaining error ``rate / (1 - rate) * |last correction|`` is below the tolerance.
+
+        The contraction rate is measured from the last two corrections, or on a step's first
+        iteration taken (doubled, for safety) from the previous step. The conservative
+        end-of-step check still guards the result.
+
+        Parameters
+        ----------
+        largest : float
+            Largest absolute correction of this iteration [K].
+        previous : float or None
+            Largest absolute correction of the previous iteration [K] (None on the first).
+
+        Returns
+        -------
+        bool
+            True when the iteration has converged.
+        """
         tol = self.tolerance
         if largest <= tol:
             return True
@@ -307,6 +389,27 @@ class NewtonStep:
         step's coefficients and the fluxes at the last Newton iterate, so energy is
         conserved to round-off; the step is accepted only when ``T_new - T_star`` is of
         the order of the Newton tolerance.
+
+        Parameters
+        ----------
+        T_star : ndarray, shape (n,)
+            The last Newton iterate [K].
+        frame : StepFrame
+            The step's fixed data.
+        system : Linearisation
+            The step's coefficients and sources.
+
+        Returns
+        -------
+        T_new : ndarray, shape (n,)
+            Cell temperatures from the new enthalpy [K].
+        H_new : ndarray, shape (n,)
+            New cell volumetric enthalpies [J/m^3].
+
+        Raises
+        ------
+        StepFailed
+            If the new enthalpy lies outside a property table.
         """
         outflow = self.system.matrix @ T_star - system.capacity * T_star
         H_new = frame.enthalpy + (system.source - outflow) / frame.volume_rate
@@ -324,7 +427,29 @@ class NewtonStep:
         H_new: np.ndarray,
         iteration: int,
     ) -> StepOutcome:
-        """Accounts of an accepted step and the surface temperatures for the next one."""
+        """Accounts of an accepted step and the surface temperatures for the next one.
+
+        Parameters
+        ----------
+        frame : StepFrame
+            The step's fixed data.
+        system : Linearisation
+            The step's coefficients and sources.
+        T_star : ndarray, shape (n,)
+            The last Newton iterate [K], at which the surface temperatures are taken.
+        T_new : ndarray, shape (n,)
+            Accepted cell temperatures [K].
+        H_new : ndarray, shape (n,)
+            Accepted cell volumetric enthalpies [J/m^3].
+        iteration : int
+            Index of the last iteration (the count is one more).
+
+        Returns
+        -------
+        StepOutcome
+            The accepted state and its accounts (heat in, convected, radiated, stored, friction
+            on either side) [J].
+        """
         net, dt, faces = self.net, frame.dt, system.faces
         surfaces = self.boundaries.surface_temperatures(T_star, faces, system.gaps)
         volume_heat = dt * float(np.sum(frame.volume_source)) if frame.volume_source is not None else 0.0
@@ -345,7 +470,22 @@ class NewtonStep:
 def accelerate(history: list, T: np.ndarray, correction: np.ndarray, depth: int = 2) -> np.ndarray:
     """Anderson-accelerated next iterate of the fixed point ``T -> T + correction(T)``.
 
-    ``history`` holds the last ``depth + 1`` pairs (iterate, correction) and is updated.
+    Parameters
+    ----------
+    history : list of (ndarray, ndarray)
+        The last ``depth + 1`` pairs (iterate [K], correction [K]); updated in place, and
+        cleared when the least-squares problem is singular.
+    T : ndarray, shape (n,)
+        Current iterate [K].
+    correction : ndarray, shape (n,)
+        Newton correction at ``T`` [K].
+    depth : int, optional
+        Number of past differences used.
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Next iterate [K] (plain ``T + correction`` with fewer than two pairs).
 
     References
     ----------

@@ -23,7 +23,12 @@ class Extrapolator:
     Parameters
     ----------
     order : int
-        Highest polynomial degree used (0 constant, 1 straight line, 2 quadratic).
+        Highest polynomial degree used (0 constant, 1 straight line, 2 quadratic, 3 cubic).
+
+    Raises
+    ------
+    ValueError
+        If ``order`` is not 0, 1, 2 or 3.
     """
 
     def __init__(self, order: int = 3):
@@ -35,7 +40,15 @@ class Extrapolator:
         self._since_kink = 0
 
     def accept(self, time: float, state: np.ndarray) -> None:
-        """Record an accepted state at ``time`` [s]."""
+        """Record an accepted state.
+
+        Parameters
+        ----------
+        time : float
+            Time of the state [s].
+        state : ndarray, shape (n,)
+            Accepted cell temperatures [K].
+        """
         self._times.append(float(time))
         self._states.append(state)
         self._since_kink += 1
@@ -53,7 +66,22 @@ class Extrapolator:
         self._since_kink = 0
 
     def guess(self, time: float) -> np.ndarray:
-        """Extrapolated state at ``time`` [s] (a copy of the last state if only one is known).
+        """Extrapolated state at ``time`` (a copy of the last state if only one is known).
+
+        Parameters
+        ----------
+        time : float
+            Time to extrapolate to [s].
+
+        Returns
+        -------
+        ndarray, shape (n,)
+            Guessed cell temperatures [K].
+
+        Raises
+        ------
+        ValueError
+            If no state has been accepted yet.
 
         References
         ----------

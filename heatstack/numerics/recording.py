@@ -19,7 +19,15 @@ __all__ = ["Recorder"]
 
 
 class Recorder:
-    """Collects the histories of a run and builds the Result."""
+    """Collects the histories of a run and builds the Result.
+
+    Parameters
+    ----------
+    net : Network
+        The meshed assembly being run.
+    mass : ndarray, shape (n,)
+        Cell masses [kg], the weights of the mass-mean cell-group series.
+    """
 
     def __init__(self, net: Network, mass: np.ndarray):
         self.net, self.mass = net, mass
@@ -40,8 +48,19 @@ class Recorder:
         self.snaps: list[np.ndarray] = []
 
     def record(self, t: float, T: np.ndarray, accounts: StepAccounts | None, face_ts: np.ndarray) -> None:
-        """Record the state ``T`` [K] at ``t`` [s], the step's ``accounts`` (None at the start)
-        and the exposed-face temperatures ``face_ts`` [K]."""
+        """Record one accepted state: probes, cell-group and surface series, and the ledger.
+
+        Parameters
+        ----------
+        t : float
+            Time of the state [s].
+        T : ndarray, shape (n,)
+            Cell temperatures [K].
+        accounts : StepAccounts or None
+            The step's energy accounts [J], added to the ledger totals (None at the start).
+        face_ts : ndarray, shape (f,)
+            Exposed-face temperatures [K], area-averaged per surface group.
+        """
         net = self.net
         self.times.append(t)
         self.probe_values.append(np.sum(T[net.probe_cells] * net.probe_weights, axis=1))
@@ -64,13 +83,40 @@ class Recorder:
                 self.friction[:, 1] += np.bincount(net.friction_interface, weights=accounts.friction_b, minlength=n_if)
 
     def snapshot(self, t: float, T: np.ndarray) -> None:
+        """Keep the field at ``t`` as a snapshot (once: a second call at the same time is ignored).
+
+        Parameters
+        ----------
+        t : float
+            Time of the snapshot [s].
+        T : ndarray, shape (n,)
+            Cell temperatures [K].
+        """
         if self.snap_times and abs(self.snap_times[-1] - t) < 1e-12:
             return
         self.snap_times.append(t)
         self.snaps.append(self.net.grid.to_field(T))
 
     def result(self, schedule: Schedule, final: State, stats: dict, start_readings: dict | None = None) -> Result:
-        """The Result; ``start_readings`` [K] are the instrument readings at the first record."""
+        """The Result of the run recorded so far.
+
+        Parameters
+        ----------
+        schedule : Schedule
+            The run's schedule (phases, end of heating and of braking).
+        final : State
+            The state at the end of the run; its sensor readings are filled in here.
+        stats : dict
+            Solver statistics, stored under ``metadata["solver"]``.
+        start_readings : dict of str to float, optional
+            Instrument readings at the first record [K], the start of each lagging sensor's
+            reading (its probe temperature when absent).
+
+        Returns
+        -------
+        Result
+            Times, probe temperatures and sensor readings, series, energy ledger and snapshots.
+        """
         net = self.net
         start_readings = start_readings or {}
         times = np.asarray(self.times)

@@ -143,11 +143,28 @@ class PowerHistory:
 
     @classmethod
     def none(cls) -> PowerHistory:
-        """A history with no heat input."""
+        """A history with no heat input.
+
+        Returns
+        -------
+        PowerHistory
+            Zero power [W] over the table 0 to 1 s (and zero outside it).
+        """
         return cls(np.array([0.0, 1.0]), np.array([0.0, 0.0]))
 
     def power(self, time: float | np.ndarray) -> np.ndarray:
-        """Power [W] at ``time`` [s]; zero outside the table."""
+        """Power at ``time``; zero outside the table.
+
+        Parameters
+        ----------
+        time : float or ndarray
+            Time [s].
+
+        Returns
+        -------
+        ndarray
+            Power [W], linearly interpolated in the table.
+        """
         return np.interp(time, self.times, self.powers, left=0.0, right=0.0)
 
     def energy(self, start: float, end: float) -> float:
@@ -214,7 +231,23 @@ class Phase:
                 raise ScheduleError(f"phase {self.name!r}: law for group {group!r} is not a boundary law")
 
     def law(self, group: str) -> BoundaryLaw:
-        """Cooling law of ``group`` in this phase."""
+        """Cooling law of ``group`` in this phase.
+
+        Parameters
+        ----------
+        group : str
+            Surface group name.
+
+        Returns
+        -------
+        BoundaryLaw
+            The group's own law, else the phase's default law ``"*"``.
+
+        Raises
+        ------
+        ScheduleError
+            If the phase has neither a law for ``group`` nor a default.
+        """
         try:
             return self.laws[group] if group in self.laws else self.laws["*"]
         except KeyError:
@@ -275,7 +308,14 @@ class Schedule:
         return self.phases[-1].end
 
     def breakpoints(self) -> np.ndarray:
-        """Sorted unique times in ``[start, end]`` the solver must land on [s]."""
+        """Sorted unique times in ``[start, end]`` the solver must land on.
+
+        Returns
+        -------
+        ndarray
+            Start, end and phase ends, the power table's times when there is any power, and the
+            extra breakpoints [s].
+        """
         times = [self.start, self.end, *(p.end for p in self.phases)]
         if np.any(self.power.powers > 0):
             times.extend(self.power.times)
@@ -284,7 +324,18 @@ class Schedule:
         return t[(t >= self.start) & (t <= self.end)]
 
     def phase_at(self, time: float) -> Phase:
-        """The phase containing ``time`` (a step is attributed by its midpoint)."""
+        """The phase containing ``time`` (a step is attributed by its midpoint).
+
+        Parameters
+        ----------
+        time : float
+            Time [s].
+
+        Returns
+        -------
+        Phase
+            The first phase ending after ``time``; the last phase for a time past every end.
+        """
         for phase in self.phases:
             if time < phase.end:
                 return phase

@@ -119,11 +119,24 @@ class Integrator:
         start_readings: dict[str, float] | None = None,
         first_step: float | None = None,
     ) -> Result:
-        """Integrate from the field ``T0`` [K] at ``t_start`` [s] to the end of the schedule.
+        """Integrate from the field ``T0`` at ``t_start`` to the end of the schedule.
 
-        ``start_readings`` [K] are the instrument readings at ``t_start``; ``first_step`` [s], the step a
-        run that made the starting state would have taken next (a chained run then steps as the run in one
-        piece would, unless heating starts at once).
+        Parameters
+        ----------
+        T0 : ndarray, shape (n,)
+            Starting cell temperatures [K].
+        t_start : float
+            Starting time [s].
+        start_readings : dict of str to float, optional
+            Instrument readings at ``t_start`` [K].
+        first_step : float, optional
+            The step a run that made the starting state would have taken next [s] (a chained
+            run then steps as the run in one piece would, unless heating starts at once).
+
+        Returns
+        -------
+        Result
+            The recorded histories, snapshots, ledger and final state of the run.
         """
         net, opt, schedule, control = self.net, self.opt, self.schedule, self.control
         breakpoints = np.unique(np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float))))
@@ -171,7 +184,27 @@ class Integrator:
 
 
 def initial_field(network: Network, initial: float | Mapping[str, float] | State | np.ndarray) -> np.ndarray:
-    """Per-cell initial temperature [K] from a uniform value, per-part values or a saved state."""
+    """Per-cell initial temperature from a uniform value, per-part values or a saved state.
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    initial : float, mapping of str to float, State or ndarray
+        Uniform temperature [K]; per-part temperatures [K] by part name, ``"*"`` the default;
+        a saved State; or one temperature per cell [K].
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Cell temperatures [K].
+
+    Raises
+    ------
+    InputError
+        If a part has no value and there is no default, a part name is unknown, the cell count
+        does not match, or a temperature is not finite and positive.
+    """
     n = network.n_cells
     if isinstance(initial, State):
         initial = initial.temperature

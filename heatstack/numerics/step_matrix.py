@@ -52,7 +52,26 @@ class CellProperties:
 
 
 def cell_properties(network: Network, T: np.ndarray) -> CellProperties:
-    """Conductivity, heat capacity and enthalpy of every cell at temperatures ``T`` [K]."""
+    """Conductivity, heat capacity and enthalpy of every cell at temperatures ``T``.
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    T : ndarray, shape (n,)
+        Cell temperatures [K].
+
+    Returns
+    -------
+    CellProperties
+        Conductivities [W/(m K)] (radial for all cells, then axial), volumetric heat
+        capacities and volumetric enthalpies [J/m^3].
+
+    Raises
+    ------
+    PropertyRangeError
+        If a temperature lies outside a property table that allows no extrapolation.
+    """
     n = network.n_cells
     conductivity, c, H = np.empty(2 * n), np.empty(n), np.empty(n)
     for material, block in network.material_blocks:
@@ -63,7 +82,20 @@ def cell_properties(network: Network, T: np.ndarray) -> CellProperties:
 
 
 def cell_enthalpy(network: Network, T: np.ndarray) -> np.ndarray:
-    """Volumetric enthalpy [J/m^3] of every cell at temperatures ``T`` [K]."""
+    """Volumetric enthalpy of every cell at temperatures ``T``.
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    T : ndarray, shape (n,)
+        Cell temperatures [K].
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Volumetric enthalpies [J/m^3].
+    """
     H = np.empty(network.n_cells)
     for material, block in network.material_blocks:
         H[block] = material.enthalpy(T[block])
@@ -71,7 +103,20 @@ def cell_enthalpy(network: Network, T: np.ndarray) -> np.ndarray:
 
 
 def cell_temperature(network: Network, H: np.ndarray) -> np.ndarray:
-    """Temperature [K] of every cell from its volumetric enthalpy ``H`` [J/m^3] (exact inverse)."""
+    """Temperature of every cell from its volumetric enthalpy ``H`` (exact inverse).
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    H : ndarray, shape (n,)
+        Cell volumetric enthalpies [J/m^3].
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Cell temperatures [K].
+    """
     T = np.empty(network.n_cells)
     for material, block in network.material_blocks:
         T[block] = material.temperature_from_enthalpy(H[block])
@@ -79,7 +124,20 @@ def cell_temperature(network: Network, H: np.ndarray) -> np.ndarray:
 
 
 def out_of_range_cell(network: Network, T: np.ndarray) -> int | None:
-    """The cell lying furthest outside its material's common table range."""
+    """The cell lying furthest outside its material's common table range.
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    T : ndarray, shape (n,)
+        Cell temperatures [K].
+
+    Returns
+    -------
+    int or None
+        Index of the cell (a non-finite temperature counts as furthest), None for no cells.
+    """
     n = network.n_cells
     excess = np.zeros(n)
     for material, block in network.material_blocks:
@@ -96,7 +154,22 @@ def out_of_range_cell(network: Network, T: np.ndarray) -> int | None:
 
 
 def csc_pattern(n: int, rows: np.ndarray, cols: np.ndarray) -> tuple[sp.csc_matrix, np.ndarray]:
-    """A CSC matrix with the union pattern of (rows, cols) and each entry's data position."""
+    """A CSC matrix with the union pattern of (rows, cols) and each entry's data position.
+
+    Parameters
+    ----------
+    n : int
+        Matrix size.
+    rows, cols : ndarray of int
+        Row and column of every entry (duplicates allowed).
+
+    Returns
+    -------
+    matrix : scipy.sparse.csc_matrix, shape (n, n)
+        Zero-valued matrix with the pattern.
+    position : ndarray of int
+        Position in ``matrix.data`` of each (row, col) entry.
+    """
     key = cols.astype(np.int64) * n + rows
     unique, position = np.unique(key, return_inverse=True)
     indices = (unique % n).astype(np.int32)
@@ -136,7 +209,20 @@ class StepMatrix:
         )
 
     def link_conductances(self, conductivity: np.ndarray, contact: np.ndarray) -> np.ndarray:
-        """Conductance [W/K] of every link: two half-cell resistances and the contact resistance."""
+        """Conductance of every link: two half-cell resistances and the contact resistance.
+
+        Parameters
+        ----------
+        conductivity : ndarray, shape (2 n,)
+            Cell conductivities [W/(m K)], radial for all cells then axial.
+        contact : ndarray, shape (m,)
+            Contact resistance of each link in force [K/W].
+
+        Returns
+        -------
+        ndarray, shape (m,)
+            Link conductances [W/K].
+        """
         net = self.net
         return 1.0 / (
             net.link_ga / conductivity[self.link_a_conductivity]
@@ -145,7 +231,17 @@ class StepMatrix:
         )
 
     def assemble(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
-        """Write the step matrix in place: ``diagonal`` plus the conductances of every link."""
+        """Write the step matrix in place: ``diagonal`` plus the conductances of every link.
+
+        Parameters
+        ----------
+        diagonal : ndarray, shape (n,)
+            Each cell's own term (capacity over step plus face transfer) [W/K].
+        G : ndarray, shape (m,)
+            Conductance of each conduction link [W/K].
+        G_gap : ndarray, shape (q,)
+            Conductance of each radiating gap pair [W/K].
+        """
         data = self.matrix.data
         diagonal = diagonal + self.incidence @ (np.concatenate((G, G_gap)) if G_gap.size else G)
         if self.unique_positions:
@@ -161,7 +257,13 @@ class StepMatrix:
             data[:] = np.bincount(self.position, weights=values, minlength=data.size)
 
     def factorise(self) -> spla.SuperLU:
-        """Sparse LU factors of the matrix as it stands (symmetric mode, fill-reducing order)."""
+        """Sparse LU factors of the matrix as it stands (symmetric mode, fill-reducing order).
+
+        Returns
+        -------
+        scipy.sparse.linalg.SuperLU
+            The factors, with a ``solve`` method.
+        """
         return spla.splu(
             self.matrix.copy(),
             permc_spec="MMD_AT_PLUS_A",
@@ -185,7 +287,23 @@ class HeatSources:
         self.cell_r, self.cell_z = network.grid.r_centres[i], network.grid.z_centres[j]
 
     def volumetric(self, time: float) -> np.ndarray | None:
-        """Heat [W] from the schedule's volumetric source into each cell at ``time`` [s]."""
+        """Heat from the schedule's volumetric source into each cell at ``time``.
+
+        Parameters
+        ----------
+        time : float
+            Time [s].
+
+        Returns
+        -------
+        ndarray, shape (n,) or None
+            Heat into each cell [W] (source density times cell volume), None without a source.
+
+        Raises
+        ------
+        InputError
+            If the source does not give one finite value per cell.
+        """
         source = self.schedule.volumetric_source
         if source is None:
             return None
@@ -195,7 +313,7 @@ class HeatSources:
         return density * self.net.volume
 
     def friction(self, power: float, properties: CellProperties) -> tuple[np.ndarray, np.ndarray]:
-        """Heat [W] into the cell on each side of every rubbing face (effusivity partition).
+        """Heat into the cell on each side of every rubbing face (effusivity partition).
 
         Parameters
         ----------
@@ -203,6 +321,11 @@ class HeatSources:
             Friction power of the whole model [W].
         properties : CellProperties
             Properties of the current iterate (axial conductivity and heat capacity).
+
+        Returns
+        -------
+        heat_a, heat_b : ndarray, shape (s,)
+            Heat into the side-a and side-b cell of each rubbing face [W].
 
         References
         ----------

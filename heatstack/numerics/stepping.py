@@ -49,7 +49,23 @@ class StepControl:
         self.newton, self.stats = newton, stats
 
     def land(self, t: float, dt: float, target: float) -> float:
-        """The step [s] to take from ``t`` towards the breakpoint ``target`` [s]."""
+        """The step to take from ``t`` towards the breakpoint ``target``.
+
+        Parameters
+        ----------
+        t : float
+            Current time [s].
+        dt : float
+            Proposed step [s].
+        target : float
+            Next breakpoint [s].
+
+        Returns
+        -------
+        float
+            The step [s]: the remaining time when ``dt`` reaches it, half of it when ``dt`` would
+            leave a sliver (adaptive stepping only), else ``dt``.
+        """
         remaining = target - t
         if dt >= remaining:
             return remaining
@@ -60,7 +76,35 @@ class StepControl:
     def advance(
         self, t: float, dt: float, T: np.ndarray, H: np.ndarray, guess: np.ndarray, surfaces: SurfaceTemperatures
     ) -> tuple[StepOutcome, float]:
-        """One accepted step from ``t`` [s] and its length [s], cutting ``dt`` as needed."""
+        """One accepted step from ``t`` and its length, cutting ``dt`` as needed.
+
+        Parameters
+        ----------
+        t : float
+            Time at the start of the step [s].
+        dt : float
+            Proposed step [s].
+        T : ndarray, shape (n,)
+            Cell temperatures at ``t`` [K].
+        H : ndarray, shape (n,)
+            Cell volumetric enthalpies at ``t`` [J/m^3].
+        guess : ndarray, shape (n,)
+            Starting guess of the temperatures at the end of the step [K].
+        surfaces : SurfaceTemperatures
+            Surface temperatures at ``t``, the start of the boundary linearisation.
+
+        Returns
+        -------
+        outcome : StepOutcome
+            The accepted step's temperatures, enthalpies, surfaces and accounts.
+        taken : float
+            The length of the accepted step [s].
+
+        Raises
+        ------
+        SolverError
+            If the step fails after the allowed number of cuts or below the minimum step.
+        """
         opt = self.opt
         cut = 0
         while cut <= opt.max_step_cuts:
@@ -101,7 +145,21 @@ class StepControl:
         ) from None
 
     def next_step(self, dt: float, change: np.ndarray) -> float:
-        """The next step [s] after a step of ``dt`` [s] that changed the cells by ``change`` [K]."""
+        """The next step after a step of ``dt`` that changed the cells by ``change``.
+
+        Parameters
+        ----------
+        dt : float
+            The step just taken [s].
+        change : ndarray, shape (n,)
+            Change of each cell's temperature over that step [K].
+
+        Returns
+        -------
+        float
+            Next step [s]: the fixed step if one is set, else ``dt`` scaled towards the target
+            change and clipped to the step bounds.
+        """
         opt = self.opt
         if opt.fixed_step is not None:
             return opt.fixed_step
@@ -112,7 +170,18 @@ class StepControl:
         return float(np.clip(dt * factor, opt.min_step, opt.max_step))
 
     def heating_starts(self, time: float) -> bool:
-        """Whether the friction power switches on at ``time`` [s]."""
+        """Whether the friction power switches on at ``time``.
+
+        Parameters
+        ----------
+        time : float
+            Time [s].
+
+        Returns
+        -------
+        bool
+            True when the power is zero just before ``time`` and positive just after.
+        """
         power = self.schedule.power
         eps = 1e-9 * max(1.0, abs(time))
         return float(power.power(time - eps)) <= 0.0 < float(power.power(time + eps))

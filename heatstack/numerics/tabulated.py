@@ -56,7 +56,19 @@ class TabulatedLaw:
 
 
 def evaluator(law: BoundaryLaw):
-    """A fast callable ``(surface_temperature, time) -> h`` for ``law``."""
+    """A fast callable ``(surface_temperature, time) -> h`` for ``law``.
+
+    Parameters
+    ----------
+    law : BoundaryLaw
+        A cooling law; one that declares ``time_dependent = False`` is tabulated.
+
+    Returns
+    -------
+    callable
+        ``law.convection_coefficient`` itself for a time-dependent law, else a
+        :class:`TabulatedLaw` interpolating it; both give h [W/(m^2 K)].
+    """
     if getattr(law, "time_dependent", True):
         return law.convection_coefficient
     return TabulatedLaw(law)

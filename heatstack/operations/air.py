@@ -76,6 +76,11 @@ def check_temperature(temperature: float | np.ndarray, field: str = "air tempera
     field : str
         Name used in the error message.
 
+    Returns
+    -------
+    ndarray
+        The temperatures as a float array [K].
+
     Raises
     ------
     InputError
@@ -192,6 +197,11 @@ def density(temperature: float | np.ndarray, pressure: float | np.ndarray = 1013
     -------
     ndarray
         Density [kg/m^3].
+
+    Raises
+    ------
+    InputError
+        If the pressure is not finite and positive, or a temperature is outside the fits' range.
     """
     p = np.asarray(pressure, dtype=float)
     if np.any(~(p > 0)) or np.any(~np.isfinite(p)):

@@ -142,6 +142,11 @@ def air_temperature_at(
     temperature_offset : float, optional
         ISA deviation [K]; ISA itself if neither is given.
 
+    Returns
+    -------
+    float
+        Outside air temperature [K].
+
     Raises
     ------
     InputError
@@ -176,9 +181,19 @@ def speed_of_sound(temperature: float | np.ndarray) -> np.ndarray:
 
 
 def impact_pressure(calibrated_airspeed: float | np.ndarray) -> np.ndarray:
-    """Pitot impact pressure ``qc`` [Pa] of a calibrated airspeed [m/s] (subsonic).
+    """Pitot impact pressure ``qc`` of a calibrated airspeed (subsonic).
 
     ``qc = p0 [(1 + (gamma-1)/2 (V_c/a0)^2)^(gamma/(gamma-1)) - 1]``.
+
+    Parameters
+    ----------
+    calibrated_airspeed : float or ndarray
+        Calibrated airspeed [m/s].
+
+    Returns
+    -------
+    ndarray
+        Impact pressure [Pa].
 
     Raises
     ------
@@ -193,9 +208,21 @@ def impact_pressure(calibrated_airspeed: float | np.ndarray) -> np.ndarray:
 
 
 def mach_from_calibrated(calibrated_airspeed: float | np.ndarray, pressure_altitude: float) -> np.ndarray:
-    """Mach number [-] of a calibrated airspeed [m/s] at ``pressure_altitude`` [m].
+    """Mach number of a calibrated airspeed at ``pressure_altitude``.
 
     ``M = sqrt(2/(gamma-1) [(qc/p + 1)^((gamma-1)/gamma) - 1])``.
+
+    Parameters
+    ----------
+    calibrated_airspeed : float or ndarray
+        Calibrated airspeed [m/s].
+    pressure_altitude : float
+        Pressure altitude [m].
+
+    Returns
+    -------
+    ndarray
+        Mach number [-].
 
     Raises
     ------
@@ -247,5 +274,10 @@ def ground_speed(true_airspeed: float | np.ndarray, headwind: float = 0.0) -> np
         True airspeed [m/s].
     headwind : float
         Headwind component [m/s]; a tailwind is negative.
+
+    Returns
+    -------
+    ndarray
+        Ground speed [m/s].
     """
     return np.asarray(true_airspeed, dtype=float) - headwind

@@ -75,6 +75,12 @@ class Environment:
             vertical face) and orientation of each surface group.
         rolling_radius : float
             Tyre rolling radius [m], to turn ground speed into wheel angular speed.
+
+        Returns
+        -------
+        dict of str to BoundaryLaw
+            The cooling law of each group: an override for the group, else the ``"*"`` override,
+            else the law this environment builds for the group's orientation and length.
         """
         laws = {}
         for surface in _surface_records(surfaces):
@@ -185,11 +191,34 @@ class DutyCycle:
         return float(sum(p.duration for p in self.phases))
 
     def phase_starts(self, start: float = 0.0) -> np.ndarray:
-        """Start time of each phase [s] for a cycle beginning at ``start``."""
+        """Start time of each phase for a cycle beginning at ``start``.
+
+        Parameters
+        ----------
+        start : float, optional
+            Start of the cycle [s].
+
+        Returns
+        -------
+        ndarray
+            Start time of each phase [s].
+        """
         return start + np.concatenate(([0.0], np.cumsum([p.duration for p in self.phases])[:-1]))
 
     def power(self, start: float = 0.0) -> PowerHistory:
-        """Friction power of one brake over the whole cycle [W]."""
+        """Friction power of one brake over the whole cycle.
+
+        Parameters
+        ----------
+        start : float, optional
+            Start of the cycle [s].
+
+        Returns
+        -------
+        PowerHistory
+            The events' power histories shifted to their phases and combined [W]; zero power
+            when the cycle has no braking event.
+        """
         shifted = []
         for phase, t0 in zip(self.phases, self.phase_starts(start), strict=True):
             for event in phase.events:
@@ -240,7 +269,14 @@ class DutyCycle:
         return max(ends, key=lambda row: row[1])[2]
 
     def energy_summary(self) -> list[dict[str, Any]]:
-        """One row per braking event: phase, event, energy per brake [J], kinetic energy [J], share."""
+        """One row per braking event: phase, event, energy per brake [J], kinetic energy [J], share.
+
+        Returns
+        -------
+        list of dict
+            Keys ``phase``, ``event``, ``energy_per_brake`` [J], ``kinetic_energy`` [J] and
+            ``brake_share`` [-], one dict per event.
+        """
         return [
             {
                 "phase": phase.name,
@@ -305,6 +341,12 @@ class DutyCycle:
             More times [s] to land on.
         reference_event : str, optional
             The braking event whose end is the end of braking (see :meth:`end_of_braking`).
+
+        Returns
+        -------
+        Schedule
+            Power history, phases with their cooling laws and clamping, extra breakpoints and
+            end of braking.
         """
         phases = []
         for phase, t0 in zip(self.phases, self.phase_starts(start), strict=True):

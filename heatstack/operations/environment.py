@@ -307,6 +307,15 @@ class MixedConvection:
     exponent : float
         Blending exponent n [-], 3 for assisting or transverse flow.
 
+    Attributes
+    ----------
+    ambient_temperature : float
+        Ambient air temperature [K], the natural law's.
+    surroundings_temperature : float
+        Radiation surroundings temperature [K], the natural law's.
+    radiation : bool
+        Whether the surfaces radiate, as in the natural law.
+
     Notes
     -----
     The rule is applied on ``h``, which equals the rule on ``Nu`` when both laws use

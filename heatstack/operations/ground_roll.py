@@ -66,6 +66,25 @@ class EnergyAccounts:
     ``extra_propulsion`` is zero for an integrated roll; for a recorded speed trace it is
     the work the trace needs beyond the modelled forces where it slows less than they
     alone would slow it (see :func:`ground_roll_from_speed_trace`).
+
+    Attributes
+    ----------
+    kinetic_energy_removed : float
+        Kinetic energy removed from the aircraft [J].
+    brakes : float
+        Work of the brakes [J].
+    reverse_thrust : float
+        Work of the reverse thrust [J].
+    drag : float
+        Work of the aerodynamic drag [J].
+    rolling_resistance : float
+        Work of the rolling resistance [J].
+    potential_energy : float
+        Work against the runway slope (gain of potential energy) [J].
+    forward_thrust : float
+        Work of the forward (idle or take-off) thrust [J].
+    extra_propulsion : float
+        Work a recorded trace needs beyond the modelled forces [J].
     """
 
     kinetic_energy_removed: float
@@ -401,14 +420,31 @@ class AccelerationRun:
 
 
 def accelerate(aircraft: Aircraft, runway: Runway, conditions: Conditions, to_speed: float) -> AccelerationRun:
-    """Integrate the take-off run on ``aircraft.takeoff_thrust`` from rest to ``to_speed`` [m/s].
+    """Integrate the take-off run on ``aircraft.takeoff_thrust`` from rest to ``to_speed``.
 
     No braking and no reverse thrust; the lift area before lift dumping.
+
+    Parameters
+    ----------
+    aircraft : Aircraft
+        The aircraft (mass, thrust, aerodynamics).
+    runway : Runway
+        The runway (slope, rolling resistance).
+    conditions : Conditions
+        Wind and air.
+    to_speed : float or str
+        Ground speed to reach [m/s].
+
+    Returns
+    -------
+    AccelerationRun
+        Time [s], distance [m] and speed [m/s] of the run.
 
     Raises
     ------
     InputError
-        If the take-off thrust cannot reach the speed (the speed where it stalls is named).
+        If the speed is not positive, or the take-off thrust cannot reach the speed (the speed
+        where it stalls is named).
     """
     v1 = non_negative(to_speed, "speed", "reject_speed", positive=True)
     forces = _Forces(aircraft, runway, conditions, "none", aircraft.takeoff_thrust)
@@ -462,6 +498,11 @@ def ground_roll_from_speed_trace(
     aircraft, runway, conditions : Aircraft, Runway, Conditions
     path_or_rows : str or os.PathLike or text stream or rows
         The trace, read by :func:`heatstack.operations.speed_trace.read_speed_trace`.
+
+    Returns
+    -------
+    StopResult
+        Samples at the trace's knots, energy accounts and the brakes' power histories.
     """
     t_trace, v_trace = read_speed_trace(path_or_rows)
     t_trace = t_trace - t_trace[0]

@@ -33,7 +33,31 @@ BRAKING_LEVELS: dict[str, float] = {"gentle": 1.5, "medium": 2.0, "firm": 3.0, "
 
 
 def non_negative(value: Any, dimension: str, field: str, positive: bool = False) -> float:
-    """An SI float >= 0 (> 0 if ``positive``) from a number or a quantity, through :func:`heatstack.units.quantity`."""
+    """An SI float >= 0 (> 0 if ``positive``) from a number or a quantity, through :func:`heatstack.units.quantity`.
+
+    Parameters
+    ----------
+    value : float, str or pint.Quantity
+        The value; a plain number is taken as SI.
+    dimension : str
+        The physical dimension expected, e.g. ``"speed"``.
+    field : str
+        Name of the field in error messages.
+    positive : bool, optional
+        Whether zero is refused too.
+
+    Returns
+    -------
+    float
+        The value in SI units.
+
+    Raises
+    ------
+    UnitError
+        If the unit is unknown or of the wrong dimension.
+    InputError
+        If the value is negative (or zero when ``positive``) or not finite.
+    """
     return quantity(value, dimension, field, minimum=0.0, exclusive_minimum=positive)
 
 
@@ -172,7 +196,18 @@ class Runway:
         convert_declared(self, "runway")
 
     def friction(self, ground_speed: np.ndarray) -> np.ndarray:
-        """Braking friction coefficient [-] at ground speed [m/s]."""
+        """Braking friction coefficient at ground speed.
+
+        Parameters
+        ----------
+        ground_speed : ndarray
+            Ground speed [m/s].
+
+        Returns
+        -------
+        ndarray
+            Friction coefficient [-], interpolated in ``braking_friction``.
+        """
         speeds, values = self.braking_friction
         return np.interp(ground_speed, speeds, values)
 
@@ -214,11 +249,33 @@ class Conditions:
 
 
 def brake_on_ground_speed(speed: Any, speed_kind: str, conditions: Conditions, field: str = "brake_on_speed") -> float:
-    """Ground speed [m/s] from a speed of kind ``"ground"``, ``"true"`` or ``"calibrated"`` (airspeeds).
+    """Ground speed from a speed of kind ``"ground"``, ``"true"`` or ``"calibrated"`` (airspeeds).
 
     Airspeeds become ground speed through the headwind; a calibrated airspeed becomes a
     true airspeed through the ISO 2533 atmosphere at the conditions' pressure altitude
     and temperature.
+
+    Parameters
+    ----------
+    speed : float, str or pint.Quantity
+        The speed [m/s].
+    speed_kind : {"ground", "true", "calibrated"}
+        What the speed is.
+    conditions : Conditions
+        Headwind [m/s], pressure altitude [m] and air temperature [K].
+    field : str, optional
+        Name of the field in error messages.
+
+    Returns
+    -------
+    float
+        Ground speed [m/s].
+
+    Raises
+    ------
+    InputError
+        If the speed is not positive, the kind is unknown, or the headwind leaves no positive
+        ground speed.
     """
     value = non_negative(speed, "speed", field, positive=True)
     if speed_kind == "ground":
@@ -236,7 +293,23 @@ def brake_on_ground_speed(speed: Any, speed_kind: str, conditions: Conditions, f
 
 
 def deceleration_target(braking: Any) -> float | None | str:
-    """A target deceleration [m/s^2] from a level name or a quantity, or ``"maximum"`` / ``"none"``."""
+    """A target deceleration from a level name or a quantity, or ``"maximum"`` / ``"none"``.
+
+    Parameters
+    ----------
+    braking : str, float or pint.Quantity
+        ``"maximum"``, ``"none"``, a level name of ``BRAKING_LEVELS`` or a deceleration [m/s^2].
+
+    Returns
+    -------
+    float or str
+        The deceleration [m/s^2], or ``"maximum"`` / ``"none"`` unchanged.
+
+    Raises
+    ------
+    InputError
+        If a name is not a known level, or the deceleration is not positive.
+    """
     if isinstance(braking, str) and braking in ("maximum", "none"):
         return braking
     if isinstance(braking, str) and braking in BRAKING_LEVELS:

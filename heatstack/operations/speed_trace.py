@@ -37,6 +37,13 @@ def read_speed_trace(path_or_rows: Any) -> tuple[np.ndarray, np.ndarray]:
         :mod:`heatstack.traces`), an open text stream of it, or rows of
         (time [s], ground speed [m/s]).
 
+    Returns
+    -------
+    times : ndarray
+        Sample times [s].
+    speeds : ndarray
+        Ground speeds [m/s].
+
     Raises
     ------
     InputError

@@ -30,13 +30,26 @@ def event_from_ground_roll(
     Parameters
     ----------
     roll : StopResult
+        The integrated ground roll.
     name : str
+        Label of the event.
     start : float
         Time of brake-on in the phase [s].
     modelled_brake : int
         Which braked wheel the thermal model represents, 1 .. number of braked wheels.
     notes : str
         Added to the roll's notes.
+
+    Returns
+    -------
+    BrakingEvent
+        The modelled brake's power history shifted to ``start`` [W], its energy [J], the
+        kinetic energy removed [J] and the brakes' share of it [-], with ``roll`` attached.
+
+    Raises
+    ------
+    InputError
+        If ``modelled_brake`` is not a brake number.
     """
     count = len(roll.brake_powers)
     if isinstance(modelled_brake, bool) or not isinstance(modelled_brake, int) or not 1 <= modelled_brake <= count:
@@ -181,12 +194,34 @@ def taxi_stop(
 
     Parameters
     ----------
+    aircraft : Aircraft
+        The aircraft; its reversers are not used.
+    runway : Runway
+        The runway.
     taxi_speed : float or str
         Ground speed at brake-on [m/s].
+    conditions : Conditions, optional
+        Wind and air; still ISA sea-level air by default.
+    braking : str or float
+        Braking level, ``"maximum"`` (friction limit) or a target deceleration [m/s^2].
     end_speed : float or str
         Ground speed at brake release [m/s], below ``taxi_speed``; 0 for a stop.
+    modelled_brake : int
+        Which braked wheel the thermal model represents (1-based).
+    start : float or str
+        Start of the event in its phase [s].
+    name : str
+        Label of the event.
 
-    Other parameters are those of :func:`rejected_takeoff`.
+    Returns
+    -------
+    BrakingEvent
+        With the integrated roll in ``ground_roll``.
+
+    Raises
+    ------
+    InputError
+        If ``end_speed`` is not in ``[0, taxi_speed)`` or another input is out of range.
     """
     conditions = conditions or Conditions()
     v0 = brake_on_ground_speed(taxi_speed, "ground", conditions, "taxi_speed")
@@ -213,11 +248,31 @@ def speed_trace_roll(
 
     Parameters
     ----------
+    aircraft : Aircraft
+        The aircraft.
+    runway : Runway
+        The runway.
     path_or_rows : str or os.PathLike or text stream or rows
         The trace (see :func:`heatstack.operations.speed_trace.read_speed_trace`); its
         first sample is brake-on, moved to ``start``.
+    conditions : Conditions, optional
+        Wind and air; still ISA sea-level air by default.
+    modelled_brake : int
+        Which braked wheel the thermal model represents (1-based).
+    start : float or str
+        Start of the event in its phase [s].
+    name : str
+        Label of the event.
 
-    Other parameters are those of :func:`rejected_takeoff`.
+    Returns
+    -------
+    BrakingEvent
+        With the brakes' share of the trace in ``ground_roll``.
+
+    Raises
+    ------
+    InputError
+        If the trace is malformed or ``modelled_brake`` is not a brake number.
     """
     roll = ground_roll_from_speed_trace(aircraft, runway, conditions or Conditions(), path_or_rows)
     return event_from_ground_roll(roll, name, _start(start), modelled_brake)

@@ -103,7 +103,21 @@ SERIES_STYLES = {
 
 
 def series_kind(name: str, sensor: str = "sensor") -> str:
-    """The :data:`SERIES_STYLES` kind of a probe or series name (``"fuse plug 2"`` -> ``"fuse_plug"``)."""
+    """The :data:`SERIES_STYLES` kind of a probe or series name (``"fuse plug 2"`` -> ``"fuse_plug"``).
+
+    Parameters
+    ----------
+    name : str
+        Probe or series name.
+    sensor : str, optional
+        Name of the probe whose reading is the sensor's.
+
+    Returns
+    -------
+    str
+        The kind: a heat-sink or wheel series name itself, ``"sensor_reading"``,
+        ``"surface"``, ``"fuse_plug"``, ``"bead_seat"`` or ``"probe"``.
+    """
     if name in ("heat_sink_mean", "heat_sink_max", "wheel_max"):
         return name
     if name == sensor:
@@ -124,6 +138,24 @@ def style_for(name: str, sensor: str = "sensor", variant: int | None = None) -> 
     Series of one kind share the colour and differ by line style: the variant is the number at the
     end of the name (``"fuse plug 2"`` -> the second style), ``"outboard"`` names take the second
     style, else the first; ``variant`` overrides.
+
+    Parameters
+    ----------
+    name : str
+        Probe or series name.
+    sensor : str, optional
+        Name of the probe whose reading is the sensor's.
+    variant : int, optional
+        Line-style index, overriding the one read from the name.
+
+    Returns
+    -------
+    colour : str
+        Matplotlib colour.
+    dashes : tuple
+        Matplotlib line style.
+    width : float
+        Line width [points].
     """
     style = SERIES_STYLES[series_kind(name, sensor)]
     if variant is None:
@@ -165,24 +197,86 @@ _PNG_DPI = 150
 
 # --------------------------------------------------------------------------- units, names, files
 def check_unit(unit: str) -> str:
-    """The axis label of a temperature unit (``"degC"``, ``"degF"`` or ``"K"``); InputError for any other."""
+    """The axis label of a temperature unit (``"degC"``, ``"degF"`` or ``"K"``).
+
+    Parameters
+    ----------
+    unit : str
+        The unit.
+
+    Returns
+    -------
+    str
+        Its axis label.
+
+    Raises
+    ------
+    InputError
+        For any other unit.
+    """
     if unit not in _UNIT_LABELS:
         raise InputError(f"temperature unit {unit!r} is not one of {sorted(_UNIT_LABELS)}")
     return _UNIT_LABELS[unit]
 
 
 def to_temperature_unit(values: np.ndarray, unit: str) -> np.ndarray:
-    """Temperatures [K] converted to ``unit`` for plotting."""
+    """Temperatures converted to ``unit`` for plotting.
+
+    Parameters
+    ----------
+    values : ndarray
+        Temperatures [K].
+    unit : str
+        ``"degC"``, ``"degF"`` or ``"K"``.
+
+    Returns
+    -------
+    ndarray
+        Temperatures in ``unit``.
+    """
     return np.asarray(from_si(values, "temperature", unit), dtype=float)
 
 
 def to_difference_unit(values: np.ndarray, unit: str) -> np.ndarray:
-    """Temperature differences [K] converted to the difference unit matching ``unit``."""
+    """Temperature differences converted to the difference unit matching ``unit``.
+
+    Parameters
+    ----------
+    values : ndarray
+        Temperature differences [K].
+    unit : str
+        ``"degC"``, ``"degF"`` or ``"K"``.
+
+    Returns
+    -------
+    ndarray
+        Differences in the matching difference unit (delta_degC, delta_degF or K).
+    """
     return np.asarray(from_si(values, "temperature_difference", _DELTA_UNITS[unit]), dtype=float)
 
 
 def figure_target(path: str | os.PathLike) -> tuple[Path, str]:
-    """Check the output path before any drawing: known suffix, existing folder."""
+    """Check the output path before any drawing: known suffix, existing folder.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        Figure file, ``.png`` or ``.svg``.
+
+    Returns
+    -------
+    target : Path
+        The file.
+    fmt : str
+        ``"png"`` or ``"svg"``.
+
+    Raises
+    ------
+    InputError
+        If the suffix is not ``.png`` or ``.svg``.
+    ResultFileError
+        If the folder does not exist.
+    """
     target = Path(path)
     fmt = _FORMATS.get(target.suffix.lower())
     if fmt is None:
@@ -194,7 +288,27 @@ def figure_target(path: str | os.PathLike) -> tuple[Path, str]:
 
 
 def save_figure(fig: Figure, target: Path, fmt: str) -> Path:
-    """Write ``fig`` to a temporary file beside ``target``, then move it into place."""
+    """Write ``fig`` to a temporary file beside ``target``, then move it into place.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The figure.
+    target : Path
+        The file (checked by :func:`figure_target`).
+    fmt : str
+        ``"png"`` or ``"svg"`` (an SVG without a date, for reproducible files).
+
+    Returns
+    -------
+    Path
+        The file written.
+
+    Raises
+    ------
+    ResultFileError
+        If the file cannot be written.
+    """
 
     def write(temp: Path) -> None:
         if fmt == "svg":
@@ -206,13 +320,35 @@ def save_figure(fig: Figure, target: Path, fmt: str) -> Path:
 
 
 def check_result(result: Result) -> None:
-    """Raise InputError unless ``result`` is a heatstack :class:`~heatstack.result.Result`."""
+    """Raise InputError unless ``result`` is a heatstack :class:`~heatstack.result.Result`.
+
+    Parameters
+    ----------
+    result : object
+        What was passed as a result.
+
+    Raises
+    ------
+    InputError
+        If it is not a Result.
+    """
     if not isinstance(result, Result):
         raise InputError(f"expected a heatstack Result, got {type(result).__name__}")
 
 
 def minutes_text(seconds: float) -> str:
-    """A time [s] as minutes, with fewer decimals the longer it is (``"2.5 min"``)."""
+    """A time as minutes, with fewer decimals the longer it is (``"2.5 min"``).
+
+    Parameters
+    ----------
+    seconds : float
+        The time [s].
+
+    Returns
+    -------
+    str
+        The text, e.g. ``"0.50 min"``, ``"2.5 min"`` or ``"120 min"``.
+    """
     minutes = seconds / 60.0
     if abs(minutes) < 1.0:
         return f"{minutes:.2f} min"
@@ -227,7 +363,18 @@ _LEGEND_ROW = 0.2  # [in] height of one legend row under the axes
 
 
 def new_figure(width: float, height: float) -> Figure:
-    """A constrained-layout figure on an Agg canvas with the caption strip at its foot."""
+    """A constrained-layout figure on an Agg canvas with the caption strip at its foot.
+
+    Parameters
+    ----------
+    width, height : float
+        Figure size [inches].
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        The figure, with the caption drawn.
+    """
     fig = Figure(figsize=(width, height), dpi=100, layout="constrained")
     FigureCanvasAgg(fig)
     strip = _CAPTION_STRIP / height  # [figure fraction]
@@ -237,7 +384,19 @@ def new_figure(width: float, height: float) -> Figure:
 
 
 def add_foot_legend(fig: Figure, handles: list, labels: list[str], columns: int = 4) -> None:
-    """A legend in rows under the axes, above the caption, the layout shrunk to leave it room."""
+    """A legend in rows under the axes, above the caption, the layout shrunk to leave it room.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The figure.
+    handles : list
+        Legend handles (nothing is drawn for none).
+    labels : list of str
+        Their labels.
+    columns : int, optional
+        Most entries per row.
+    """
     if not handles:
         return
     columns = min(columns, len(handles))

@@ -57,6 +57,13 @@ def plot_day(day: DayAnswer, path: str | os.PathLike, unit: str = "degC") -> Pat
     -------
     Path
         The file written.
+
+    Raises
+    ------
+    InputError
+        If ``day`` is not a DayAnswer, or the unit or file suffix is not known.
+    ResultFileError
+        If the folder does not exist or the file cannot be written.
     """
     if not isinstance(day, DayAnswer):
         raise InputError(f"day: expected a DayAnswer, got {type(day).__name__}")
@@ -100,6 +107,13 @@ def plot_wait_margin(answer: WaitAnswer, path: str | os.PathLike) -> Path:
     Returns
     -------
     Path
+
+    Raises
+    ------
+    InputError
+        If ``answer`` is not a WaitAnswer, or the file suffix is not known.
+    ResultFileError
+        If the folder does not exist or the file cannot be written.
     """
     if not isinstance(answer, WaitAnswer):
         raise InputError(f"answer: expected a WaitAnswer, got {type(answer).__name__}")

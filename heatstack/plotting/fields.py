@@ -61,6 +61,18 @@ def _text_colour(fill: str) -> str:
 def snapshot_index(result: Result, time: float) -> int:
     """Index of the stored snapshot nearest ``time`` [s], the one :func:`plot_field` draws.
 
+    Parameters
+    ----------
+    result : Result
+        The run.
+    time : float
+        Time [s].
+
+    Returns
+    -------
+    int
+        Index into ``result.snapshot_times``.
+
     Raises
     ------
     InputError

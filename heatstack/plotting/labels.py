@@ -41,7 +41,20 @@ _CANDIDATES = _candidates()
 
 
 def densify(xy: np.ndarray, step: float = 3.0) -> np.ndarray:
-    """Points every ``step`` pixels along a polyline given in pixels."""
+    """Points every ``step`` pixels along a polyline given in pixels.
+
+    Parameters
+    ----------
+    xy : ndarray, shape (n, 2)
+        Polyline vertices [pixels]; non-finite vertices are dropped.
+    step : float, optional
+        Spacing [pixels] (at most 50 000 points).
+
+    Returns
+    -------
+    ndarray, shape (m, 2)
+        The points [pixels] (the finite vertices when fewer than two).
+    """
     xy = xy[np.all(np.isfinite(xy), axis=1)]
     if len(xy) < 2:
         return xy
@@ -58,6 +71,17 @@ class LabelPlacer:
     placed before, no marked anchor, and covers the fewest points of the drawn curves.
     The figure layout is computed once here; labels are kept out of the layout so it
     does not change afterwards.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The figure (drawn once here).
+    ax : matplotlib.axes.Axes
+        The axes the labels go in.
+    obstacle_axes : sequence of Axes, optional
+        More axes whose curves labels avoid.
+    avoid_lines : bool, optional
+        Whether labels avoid the drawn curves.
     """
 
     def __init__(self, fig: Figure, ax, obstacle_axes: Sequence = (), avoid_lines: bool = True):
@@ -80,25 +104,60 @@ class LabelPlacer:
         self.anchors = np.zeros((0, 2))
 
     def add_soft_segments(self, segments: np.ndarray) -> None:
-        """Edges [data] labels should rather not cover (weaker than curves), e.g. part outlines."""
+        """Edges labels should rather not cover (weaker than curves), e.g. part outlines.
+
+        Parameters
+        ----------
+        segments : ndarray
+            Polylines in data coordinates.
+        """
         pixels = [densify(self.ax.transData.transform(seg), step=4.0) for seg in segments]
         if pixels:
             self.soft_points = np.concatenate([self.soft_points, *pixels])
 
     def block_points(self, xy_data: np.ndarray, half: float = 4.0) -> None:
-        """Keep labels off these anchors [data], ``half`` pixels around each."""
+        """Keep labels off these anchors, ``half`` pixels around each.
+
+        Parameters
+        ----------
+        xy_data : ndarray
+            Anchor points in data coordinates.
+        half : float, optional
+            Half-size of the blocked box [pixels].
+        """
         pixels = self.ax.transData.transform(np.atleast_2d(xy_data))
         self.anchors = np.concatenate((self.anchors, pixels))
         for x, y in pixels:
             self.boxes.append(np.array([x - half, y - half, x + half, y + half]))
 
     def block_artist(self, artist) -> None:
-        """Keep labels off an artist already drawn (e.g. a label placed by hand)."""
+        """Keep labels off an artist already drawn (e.g. a label placed by hand).
+
+        Parameters
+        ----------
+        artist : matplotlib.artist.Artist
+            The artist.
+        """
         bb = artist.get_window_extent(self.renderer)
         self.boxes.append(np.array([bb.x0, bb.y0, bb.x1, bb.y1]))
 
     def text_size(self, text: str, fontsize: float, rotation: float = 0.0) -> tuple[float, float]:
-        """Width and height [pixels] of ``text`` drawn at ``fontsize`` [points] and ``rotation`` [degrees]."""
+        """Width and height of ``text`` drawn at ``fontsize`` and ``rotation``.
+
+        Parameters
+        ----------
+        text : str
+            The text.
+        fontsize : float
+            Font size [points].
+        rotation : float, optional
+            Rotation [degrees].
+
+        Returns
+        -------
+        width, height : float
+            Size [pixels].
+        """
         probe = self.ax.text(0, 0, text, fontsize=fontsize, rotation=rotation)
         bb = probe.get_window_extent(self.renderer)
         probe.remove()
@@ -115,9 +174,29 @@ class LabelPlacer:
         near_only: bool = False,
         candidates: Sequence[tuple[float, float, str, str, bool]] | None = None,
     ):
-        """Add the label ``text`` for the anchor ``xy`` [data] where it reads best.
+        """Add the label ``text`` for the anchor ``xy`` where it reads best.
 
-        ``candidates`` replaces the default offsets: (dx, dy [points], ha, va, leader).
+        Parameters
+        ----------
+        xy : (float, float)
+            Anchor in data coordinates.
+        text : str
+            The label.
+        colour : str, optional
+            Text colour.
+        fontsize : float, optional
+            Font size [points].
+        boxed : bool, optional
+            Put a white box behind the text.
+        near_only : bool, optional
+            Try only the offsets without a leader line.
+        candidates : sequence of (float, float, str, str, bool), optional
+            Replaces the default offsets: (dx, dy [points], ha, va, leader).
+
+        Returns
+        -------
+        matplotlib.text.Annotation
+            The label, kept out of the layout.
         """
         anchor = self.ax.transData.transform(np.asarray(xy, dtype=float))
         w, h = self.text_size(text, fontsize)
@@ -181,7 +260,18 @@ def _count_inside(points: np.ndarray, box: np.ndarray) -> int:
 
 
 def box_overlap(a: np.ndarray, b: np.ndarray) -> float:
-    """Overlap area [px^2] of two boxes given as (x0, y0, x1, y1) in display pixels."""
+    """Overlap area of two boxes given as (x0, y0, x1, y1) in display pixels.
+
+    Parameters
+    ----------
+    a, b : ndarray, shape (4,)
+        The boxes [pixels].
+
+    Returns
+    -------
+    float
+        Overlap area [px^2], 0 when they do not overlap.
+    """
     dx = min(a[2], b[2]) - max(a[0], b[0])
     dy = min(a[3], b[3]) - max(a[1], b[1])
     return float(dx * dy) if dx > 0 and dy > 0 else 0.0

@@ -27,7 +27,25 @@ _EXPANDED_MIN, _EXPANDED_FACTOR = 120.0, 3.0
 
 @dataclass(frozen=True)
 class Curve:
-    """One drawn curve: legend label, values [display unit], look, and the text before its peak label."""
+    """One drawn curve: legend label, values [display unit], look, and the text before its peak label.
+
+    Attributes
+    ----------
+    label : str
+        Legend label.
+    values : ndarray
+        Values at the record times [display unit].
+    colour : str
+        Matplotlib colour.
+    dashes : tuple
+        Matplotlib line style.
+    width : float
+        Line width [points].
+    peak_prefix : str
+        Text before the peak label.
+    mark_peak : bool
+        Whether the peak is marked and labelled.
+    """
 
     label: str
     values: np.ndarray
@@ -40,7 +58,15 @@ class Curve:
 
 @dataclass(frozen=True)
 class Panel:
-    """One time panel of a row: its axes and the time span [s] it shows."""
+    """One time panel of a row: its axes and the time span [s] it shows.
+
+    Attributes
+    ----------
+    ax : matplotlib.axes.Axes
+        The axes.
+    start, end : float
+        Time span shown [s].
+    """
 
     ax: object
     start: float
@@ -52,6 +78,16 @@ def time_spans(result: Result) -> list[tuple[float, float]]:
 
     The axis is split when braking ends within the first few per cent of the record, so the
     braking minute gets a panel of its own instead of a sliver at the left edge.
+
+    Parameters
+    ----------
+    result : Result
+        The run (record times and end of heating [s]).
+
+    Returns
+    -------
+    list of (float, float)
+        One or two spans (start, end) [s].
     """
     t0, t1 = float(result.times[0]), float(result.times[-1])
     t_end = float(result.end_of_heating)
@@ -62,7 +98,22 @@ def time_spans(result: Result) -> list[tuple[float, float]]:
 
 
 def time_panels(fig: Figure, result: Result, height_ratios: Sequence[float] = (1.0,)) -> list[list[Panel]]:
-    """Rows of time panels sharing the temperature axis per row and the time axis per column."""
+    """Rows of time panels sharing the temperature axis per row and the time axis per column.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The figure to draw the axes in.
+    result : Result
+        The run, for the time spans (:func:`time_spans`).
+    height_ratios : sequence of float, optional
+        Relative height of each row.
+
+    Returns
+    -------
+    list of list of Panel
+        One list of panels per row, the time axes in minutes.
+    """
     spans = time_spans(result)
     axes = fig.subplots(
         len(height_ratios),
@@ -95,7 +146,20 @@ def time_panels(fig: Figure, result: Result, height_ratios: Sequence[float] = (1
 
 
 def panel_at(panels: Sequence[Panel], t: float) -> Panel:
-    """The panel whose span holds time ``t`` [s]."""
+    """The panel whose span holds time ``t``.
+
+    Parameters
+    ----------
+    panels : sequence of Panel
+        One row of panels, in time order.
+    t : float
+        Time [s].
+
+    Returns
+    -------
+    Panel
+        The first panel ending at or after ``t``, else the last.
+    """
     for panel in panels:
         if t <= panel.end:
             return panel
@@ -103,6 +167,19 @@ def panel_at(panels: Sequence[Panel], t: float) -> Panel:
 
 
 def draw_curves(panels: Sequence[Panel], minutes: np.ndarray, curves: Sequence[Curve], legend: bool = True) -> None:
+    """Draw every curve in every panel of a row (legend labels from the first panel only).
+
+    Parameters
+    ----------
+    panels : sequence of Panel
+        One row of panels.
+    minutes : ndarray
+        Record times [min].
+    curves : sequence of Curve
+        The curves.
+    legend : bool, optional
+        Whether the curves get legend labels.
+    """
     for panel in panels:
         for curve in curves:
             panel.ax.plot(
@@ -121,6 +198,20 @@ def shade_phases(fig: Figure, panels: Sequence[Panel], phases: Sequence[tuple[st
 
     A name wider than its band is replaced by its number, and the numbered names are returned as
     a key line (``"phases: 1 rejected take-off stop; ..."``) for the title; names never stack.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+        The figure.
+    panels : sequence of Panel
+        One row of panels.
+    phases : sequence of (str, float, float)
+        Name, start [s] and end [s] of each phase.
+
+    Returns
+    -------
+    str
+        The key line of the numbered names, ``""`` when every name fits.
     """
     labels = []
     for k, (name, start, end) in enumerate(phases):

@@ -70,6 +70,12 @@ def calibrate(calibration: Calibration, executor: StudyExecutor | None = None) -
     executor : StudyExecutor, optional
         By default the one the file's ``[fit]`` names, closed afterwards.
 
+    Returns
+    -------
+    CalibrationRun
+        The calibration, its fit, identifiability, predicted answers (None without
+        prediction samples) and profile (None unless one is asked for).
+
     Raises
     ------
     InputError
@@ -100,6 +106,18 @@ def calibrate(calibration: Calibration, executor: StudyExecutor | None = None) -
 def write_calibration_outputs(run: CalibrationRun, folder: str | os.PathLike) -> tuple[Path, ...]:
     """Write ``calibrated-case.toml``, ``calibration-report.txt``, ``.md`` and ``calibration-traces.png``.
 
+    Parameters
+    ----------
+    run : CalibrationRun
+        A finished calibration.
+    folder : str or os.PathLike
+        Folder to write into; created if missing.
+
+    Returns
+    -------
+    tuple of Path
+        The files written, in the order above.
+
     Raises
     ------
     InputError
@@ -124,7 +142,20 @@ def write_calibration_outputs(run: CalibrationRun, folder: str | os.PathLike) ->
 
 
 def fit_summary(fit: CalibrationFit, ident: Identifiability) -> str:
-    """One line per parameter: value, interval, determined."""
+    """One line per parameter: value, interval, determined.
+
+    Parameters
+    ----------
+    fit : CalibrationFit
+        The fit.
+    ident : Identifiability
+        Which parameters the traces determine.
+
+    Returns
+    -------
+    str
+        The lines joined by newlines, values in SI.
+    """
     lines = []
     for k, p in enumerate(fit.parameters):
         state = "" if ident.determined[k] else "  NOT DETERMINED by the traces"
@@ -144,11 +175,29 @@ def sampled_answers(
     Per-run parameters stay at their base-case values. Directions the data do not
     determine (infinite variance) are drawn uniformly within the bounds.
 
+    Parameters
+    ----------
+    calibration : Calibration
+        The calibration (base case and parameters).
+    fit : CalibrationFit
+        The fit whose values and covariance are sampled.
+    executor : StudyExecutor
+        Runs the cases.
+    samples : int
+        Number of parameter draws.
+    seed : int, optional
+        Seed of the random generator.
+
     Returns
     -------
     (names, at_fit, draws)
         Answer names, their values at the fit [SI], and one row per draw (NaN where a
         draw lacks an answer).
+
+    Raises
+    ------
+    CalibrationFitError
+        If the base case at the fitted values fails.
     """
     params = calibration.parameters
     shared = [j for j, p in enumerate(params) if p.run is None]

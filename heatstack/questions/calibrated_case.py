@@ -83,7 +83,18 @@ def _table(mapping: Mapping, prefix: str, lines: list[str]) -> None:
 
 
 def toml_text(mapping: Mapping) -> str:
-    """TOML text of a mapping as :mod:`tomllib` reads it (tables, arrays of tables, scalars)."""
+    """TOML text of a mapping as :mod:`tomllib` reads it (tables, arrays of tables, scalars).
+
+    Parameters
+    ----------
+    mapping : mapping
+        Nested tables of scalars, lists and tables.
+
+    Returns
+    -------
+    str
+        The TOML text, ending in a newline.
+    """
     lines: list[str] = []
     _table(mapping, "", lines)
     return "\n".join(lines).lstrip("\n") + "\n"
@@ -96,7 +107,22 @@ def _interval_text(value: float, low: float, high: float, unit: str) -> str:
 
 
 def calibrated_case_text(calibration: Calibration, fit: CalibrationFit, ident: Identifiability) -> str:
-    """The calibrated case file's text (see the module docstring)."""
+    """The calibrated case file's text (see the module docstring).
+
+    Parameters
+    ----------
+    calibration : Calibration
+        The calibration (base case, file names, title).
+    fit : CalibrationFit
+        The fit whose shared values are written into the case.
+    ident : Identifiability
+        Which parameters the traces determine, recorded in the machine-readable block.
+
+    Returns
+    -------
+    str
+        Comment header, machine-readable block and the base case's TOML with the fitted values.
+    """
     shared = [p.run is None for p in fit.parameters]
     mapping = parameter_mapping(calibration.base_mapping, fit.parameters, list(fit.values), None)
     title = mapping.setdefault("case", {}).get("title", "untitled case")
@@ -130,13 +156,45 @@ def calibrated_case_text(calibration: Calibration, fit: CalibrationFit, ident: I
 def write_calibrated_case(
     path: str | Path, calibration: Calibration, fit: CalibrationFit, ident: Identifiability
 ) -> Path:
-    """Write the calibrated case atomically (the whole file or nothing)."""
+    """Write the calibrated case atomically (the whole file or nothing).
+
+    Parameters
+    ----------
+    path : str or Path
+        File to write.
+    calibration : Calibration
+        The calibration.
+    fit : CalibrationFit
+        The fit.
+    ident : Identifiability
+        Which parameters the traces determine.
+
+    Returns
+    -------
+    Path
+        The file written.
+
+    Raises
+    ------
+    ResultFileError
+        If the file cannot be written.
+    """
     text = calibrated_case_text(calibration, fit, ident)
     return write_file_atomically(path, lambda temp: Path(temp).write_text(text, encoding="utf-8"), "calibrated case")
 
 
 def read_calibration_block(text: str) -> dict:
     """The machine-readable block of a calibrated case's text.
+
+    Parameters
+    ----------
+    text : str
+        The calibrated case file's text.
+
+    Returns
+    -------
+    dict
+        The decoded JSON block (parameters, internal covariance, convergence).
 
     Raises
     ------
@@ -150,5 +208,16 @@ def read_calibration_block(text: str) -> dict:
 
 
 def values_by_name(block: Mapping) -> dict[str, float]:
-    """Fitted values [SI] by parameter name, from a machine-readable block."""
+    """Fitted values by parameter name, from a machine-readable block.
+
+    Parameters
+    ----------
+    block : mapping
+        A block from :func:`read_calibration_block`.
+
+    Returns
+    -------
+    dict of str to float
+        Fitted value of each parameter [SI].
+    """
     return {p["name"]: float(p["value"]) for p in block["parameters"]}

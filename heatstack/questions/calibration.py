@@ -147,7 +147,19 @@ def _model(case: Any, mapping: Mapping) -> Any:
 
 
 def run_calibration_job(job: CalibrationJob) -> CalibrationOutcome:
-    """Build and run one case; read its probes at the trace times (never raises for a failed run)."""
+    """Build and run one case; read its probes at the trace times (never raises for a failed run).
+
+    Parameters
+    ----------
+    job : CalibrationJob
+        The case mapping, probes and trace times.
+
+    Returns
+    -------
+    CalibrationOutcome
+        Readings [K] and, with ``job.summary``, the run's answers [SI]; for a run that
+        raised a heatstack error, no readings and the error text.
+    """
     from ..answers.analysis import cooling_time_in_result
 
     try:
@@ -170,7 +182,27 @@ def run_calibration_job(job: CalibrationJob) -> CalibrationOutcome:
 
 
 def make_executor(name: str, workers: int | None = None, timeout: float = 10.0) -> StudyExecutor:
-    """``"serial"``, ``"local"`` (a process pool of ``workers``) or a Dask scheduler address."""
+    """``"serial"``, ``"local"`` (a process pool of ``workers``) or a Dask scheduler address.
+
+    Parameters
+    ----------
+    name : str
+        ``"serial"``, ``"local"`` or a scheduler address (``host:port`` or a URL).
+    workers : int, optional
+        Process count of the local pool.
+    timeout : float, optional
+        Time allowed to reach a Dask scheduler [s].
+
+    Returns
+    -------
+    StudyExecutor
+        The executor, not yet started.
+
+    Raises
+    ------
+    InputError
+        If ``name`` is none of these.
+    """
     if name == "serial":
         return SerialExecutor()
     if name == "local":
@@ -184,17 +216,60 @@ def make_executor(name: str, workers: int | None = None, timeout: float = 10.0) 
 
 
 def to_internal(parameter: FitParameter, value: float) -> float:
-    """The fitted coordinate ``u`` of a value [SI]: ``ln(value)`` or ``value / (upper - lower)``."""
+    """The fitted coordinate ``u`` of a value: ``ln(value)`` or ``value / (upper - lower)``.
+
+    Parameters
+    ----------
+    parameter : FitParameter
+        The parameter (log or linear, bounds [SI]).
+    value : float
+        Its value [SI].
+
+    Returns
+    -------
+    float
+        The coordinate ``u`` [-].
+    """
     return float(np.log(value)) if parameter.log else value / (parameter.upper - parameter.lower)
 
 
 def from_internal(parameter: FitParameter, u: float) -> float:
-    """The value [SI] of a fitted coordinate ``u`` (inverse of :func:`to_internal`)."""
+    """The value of a fitted coordinate ``u`` (inverse of :func:`to_internal`).
+
+    Parameters
+    ----------
+    parameter : FitParameter
+        The parameter (log or linear, bounds [SI]).
+    u : float
+        The coordinate [-].
+
+    Returns
+    -------
+    float
+        The value [SI].
+    """
     return float(np.exp(u)) if parameter.log else u * (parameter.upper - parameter.lower)
 
 
 def parameter_mapping(base: Mapping, parameters: Sequence[FitParameter], values: Sequence[float], run: str | None):
-    """A deep copy of ``base`` with each parameter that applies to ``run`` set (None: shared ones only)."""
+    """A deep copy of ``base`` with each parameter that applies to ``run`` set (None: shared ones only).
+
+    Parameters
+    ----------
+    base : mapping
+        Case mapping (JSON-compatible).
+    parameters : sequence of FitParameter
+        The fitted parameters and their key paths.
+    values : sequence of float
+        One value per parameter [SI].
+    run : str or None
+        Name of the test run; a parameter of another run is left out.
+
+    Returns
+    -------
+    dict
+        The new mapping.
+    """
     data = json.loads(json.dumps(base))
     for parameter, value in zip(parameters, values, strict=True):
         if parameter.run is None or parameter.run == run:
@@ -254,7 +329,13 @@ class CalibrationFit:
     message: str
 
     def standard_errors(self) -> np.ndarray:
-        """Standard deviation of each fitted coordinate ``u`` [-]."""
+        """Standard deviation of each fitted coordinate ``u`` [-].
+
+        Returns
+        -------
+        ndarray
+            Square roots of the covariance diagonal (negative entries clipped to 0).
+        """
         return np.sqrt(np.clip(np.diag(self.covariance), 0.0, np.inf))
 
 
@@ -262,7 +343,15 @@ class CalibrationFit:
 
 
 class Evaluator:
-    """Runs of every test run at parameter vectors in ``u``, through an executor."""
+    """Runs of every test run at parameter vectors in ``u``, through an executor.
+
+    Parameters
+    ----------
+    calibration : Calibration
+        The calibration: runs, traces and their uncertainties [K], parameters.
+    executor : StudyExecutor
+        Runs the jobs.
+    """
 
     def __init__(self, calibration: Calibration, executor: StudyExecutor):
         self.calibration, self.executor = calibration, executor
@@ -274,6 +363,20 @@ class Evaluator:
         self.measured = np.concatenate([t.temperatures for run in calibration.runs for t in run.traces])
 
     def job(self, run: TestRun, u: np.ndarray) -> CalibrationJob:
+        """The job that runs ``run`` at the parameter vector ``u``.
+
+        Parameters
+        ----------
+        run : TestRun
+            The test run (its overrides and traces).
+        u : ndarray
+            Fitted coordinates of every parameter [-].
+
+        Returns
+        -------
+        CalibrationJob
+            The run's mapping with the parameter values written in, probes and trace times [s].
+        """
         values = [from_internal(p, x) for p, x in zip(self.parameters, u, strict=True)]
         c = self.calibration
         return CalibrationJob(
@@ -286,7 +389,18 @@ class Evaluator:
         )
 
     def run_jobs(self, jobs: list[CalibrationJob]) -> list[CalibrationOutcome]:
-        """Run the jobs on the executor; results in job order."""
+        """Run the jobs on the executor; results in job order.
+
+        Parameters
+        ----------
+        jobs : list of CalibrationJob
+            The runs.
+
+        Returns
+        -------
+        list of CalibrationOutcome
+            One outcome per job, in job order.
+        """
         self.executor.start()
         futures = [self.executor.submit(run_calibration_job, job) for job in jobs]
         index = {id(f): k for k, f in enumerate(futures)}
@@ -300,7 +414,26 @@ class Evaluator:
         return out  # type: ignore[return-value]
 
     def readings(self, points: list[np.ndarray], runs_of: list[tuple[int, ...]]) -> list[list[np.ndarray]]:
-        """Model readings per run at several parameter vectors, each re-running only its runs."""
+        """Model readings per run at several parameter vectors, each re-running only its runs.
+
+        Parameters
+        ----------
+        points : list of ndarray
+            Parameter vectors in ``u`` [-].
+        runs_of : list of tuple of int
+            For each point, the indices of the runs to re-run.
+
+        Returns
+        -------
+        list of list
+            ``table[k][r]``: the readings [K] of run ``r`` at point ``k`` (a list of arrays, one
+            per trace), None for a run not re-run.
+
+        Raises
+        ------
+        CalibrationFitError
+            If a run fails (the parameter values are named).
+        """
         runs = self.calibration.runs
         jobs, where = [], []
         for k, (u, which) in enumerate(zip(points, runs_of, strict=True)):
@@ -319,10 +452,35 @@ class Evaluator:
         return table
 
     def stack(self, per_run: list[Any]) -> np.ndarray:
+        """Concatenate per-run readings (lists of per-trace arrays) into one vector.
+
+        Parameters
+        ----------
+        per_run : list of list of ndarray
+            Readings of every run, one array per trace [K].
+
+        Returns
+        -------
+        ndarray
+            All readings in run and trace order [K].
+        """
         return np.concatenate([np.concatenate(readings) for readings in per_run])
 
     def prior_rows(self, u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Prior residuals and their Jacobian rows in ``u``."""
+        """Prior residuals and their Jacobian rows in ``u``.
+
+        Parameters
+        ----------
+        u : ndarray
+            Fitted coordinates of every parameter [-].
+
+        Returns
+        -------
+        rows : ndarray
+            One residual per parameter with a prior, in prior spreads [-].
+        jacobian : ndarray, shape (len(rows), len(u))
+            Their derivatives in ``u``.
+        """
         rows, jac = [], []
         for j, (p, x) in enumerate(zip(self.parameters, u, strict=True)):
             if p.prior is None:
@@ -338,6 +496,18 @@ class Evaluator:
         return np.array(rows), np.array(jac).reshape(len(rows), len(u))
 
     def runs_using(self, j: int) -> tuple[int, ...]:
+        """The indices of the runs parameter ``j`` applies to (every run for a shared parameter).
+
+        Parameters
+        ----------
+        j : int
+            Parameter index.
+
+        Returns
+        -------
+        tuple of int
+            Run indices.
+        """
         run = self.parameters[j].run
         return tuple(k for k, r in enumerate(self.calibration.runs) if run is None or r.name == run)
 

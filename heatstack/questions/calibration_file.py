@@ -193,7 +193,27 @@ class TestRun:
 
 @dataclass(frozen=True)
 class FitSettings:
-    """How the fit runs (see the module docstring for the keys)."""
+    """How the fit runs (see the module docstring for the keys).
+
+    Attributes
+    ----------
+    loss : str
+        ``"linear"`` or a robust loss (``"soft_l1"``, ``"huber"``, ``"cauchy"``).
+    loss_scale : float
+        Residual where a robust loss bends, in measurement sigmas [-].
+    max_evaluations : int
+        Model evaluations allowed (each runs every test run once).
+    executor : str
+        ``"serial"``, ``"local"`` or a Dask scheduler address.
+    workers : int or None
+        Process count of a local executor.
+    timeout : float
+        Time allowed to reach a Dask scheduler [s].
+    prediction_samples : int
+        Parameter draws for the answers' intervals.
+    profile : str or None
+        A parameter to profile.
+    """
 
     loss: str = "linear"
     loss_scale: float = 3.0
@@ -264,7 +284,20 @@ def _required(data: Mapping, key: str, where: str) -> Any:
 
 
 def closest_path_hint(mapping: Mapping, path: str) -> str:
-    """``"; did you mean 'x'?"`` for the nearest key path of ``mapping``, or ``""``."""
+    """``"; did you mean 'x'?"`` for the nearest key path of ``mapping``, or ``""``.
+
+    Parameters
+    ----------
+    mapping : mapping
+        Nested tables to search.
+    path : str
+        The key path that was not found, dotted.
+
+    Returns
+    -------
+    str
+        The hint, or an empty string when no path is close.
+    """
     candidates = [format_path(p) for p in every_path(mapping)]
     close = difflib.get_close_matches(path, candidates, n=1, cutoff=0.5)
     return f"; did you mean {close[0]!r}?" if close else ""
@@ -487,6 +520,11 @@ def parse_calibration(text: str, origin: str = "<string>", folder: str | Path = 
     folder : str or Path
         Folder against which the base case and trace files are found.
 
+    Returns
+    -------
+    Calibration
+        The validated calibration with its base case and traces read.
+
     Raises
     ------
     InputError
@@ -548,6 +586,16 @@ def _calibration(data: Mapping, origin: str, folder: Path) -> Calibration:
 
 def load_calibration(path: str | Path) -> Calibration:
     """Read and validate a calibration file (see :func:`parse_calibration`).
+
+    Parameters
+    ----------
+    path : str or Path
+        The calibration file (TOML); relative paths in it are found from its folder.
+
+    Returns
+    -------
+    Calibration
+        The validated calibration.
 
     Raises
     ------

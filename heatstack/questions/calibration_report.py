@@ -79,7 +79,19 @@ class RunsTest:
 
 
 def runs_test(residuals: np.ndarray) -> RunsTest:
-    """The Wald–Wolfowitz runs test of the signs of ``residuals`` (zeros dropped)."""
+    """The Wald–Wolfowitz runs test of the signs of ``residuals`` (zeros dropped).
+
+    Parameters
+    ----------
+    residuals : ndarray
+        Residuals [K]; only their signs count.
+
+    Returns
+    -------
+    RunsTest
+        Runs counted, runs expected of white noise, z and two-sided p-value (for residuals
+        of one sign: z is minus infinity and p 0).
+    """
     signs = np.sign(np.asarray(residuals, dtype=float))
     signs = signs[signs != 0]
     positive, negative = int(np.sum(signs > 0)), int(np.sum(signs < 0))
@@ -94,7 +106,23 @@ def runs_test(residuals: np.ndarray) -> RunsTest:
 
 
 def answer_intervals(names: tuple[str, ...], at_fit: np.ndarray, draws: np.ndarray) -> CalibrationAnswers:
-    """The engineer's answers (peaks, delays, plug peaks and margins, cooling time) with percentile intervals."""
+    """The engineer's answers (peaks, delays, plug peaks and margins, cooling time) with percentile intervals.
+
+    Parameters
+    ----------
+    names : tuple of str
+        Answer names of the runs.
+    at_fit : ndarray
+        Answer values at the fit [SI].
+    draws : ndarray, shape (samples, len(names))
+        Answer values of every parameter draw [SI] (NaN where missing).
+
+    Returns
+    -------
+    CalibrationAnswers
+        The kept answers (heat-sink peaks last), their values at the fit, 2.5 and 97.5
+        percentiles of the complete draws [SI] (NaN with fewer than two) and the draw count.
+    """
     keep = [k for k, n in enumerate(names) if n.startswith(_ANSWER_PREFIXES) and not n.startswith("peak:heat_sink")]
     keep += [k for k, n in enumerate(names) if n.startswith("peak:heat_sink")]
     rows = draws[:, keep] if draws.size else np.zeros((0, len(keep)))
@@ -165,7 +193,28 @@ def format_calibration_report(
     profile: Profile | None = None,
     markdown: bool = False,
 ) -> str:
-    """The calibration report as plain text or markdown."""
+    """The calibration report as plain text or markdown.
+
+    Parameters
+    ----------
+    calibration : Calibration
+        The calibration.
+    fit : CalibrationFit
+        Its fit.
+    ident : Identifiability
+        What the traces determine.
+    answers : CalibrationAnswers, optional
+        Predicted answers with intervals.
+    profile : Profile, optional
+        A parameter's profile.
+    markdown : bool, optional
+        Markdown headings and tables instead of plain text.
+
+    Returns
+    -------
+    str
+        The report (temperatures in degC, residuals in K).
+    """
     head = (lambda s: f"## {s}") if markdown else (lambda s: f"{s}\n{'-' * len(s)}")
     lines = [f"# {calibration.title}" if markdown else calibration.title, ""]
     lines += [f"Base case {calibration.base_origin}; {len(calibration.runs)} runs, "
@@ -196,7 +245,27 @@ def format_calibration_report(
 
 
 def plot_calibration(calibration: Calibration, fit: CalibrationFit, path: str | Path) -> Path:
-    """Every trace measured and predicted (top) and its residuals over time (bottom), as one figure."""
+    """Every trace measured and predicted (top) and its residuals over time (bottom), as one figure.
+
+    Parameters
+    ----------
+    calibration : Calibration
+        The calibration and its traces.
+    fit : CalibrationFit
+        The fit's predictions and residuals.
+    path : str or Path
+        PNG file to write.
+
+    Returns
+    -------
+    Path
+        The file written.
+
+    Raises
+    ------
+    ResultFileError
+        If the file cannot be written.
+    """
     import matplotlib
 
     matplotlib.use("Agg")

@@ -145,6 +145,18 @@ def check_start_fits(model: Model, start: ChainStart) -> None:
     """Raise :class:`~heatstack.errors.InputError` unless ``start`` belongs to ``model``'s grid and design.
 
     The message lists what differs: part names, active cell count, grid lines.
+
+    Parameters
+    ----------
+    model : Model
+        The model to run.
+    start : ChainStart
+        The saved starting point and the grid and design it came from.
+
+    Raises
+    ------
+    InputError
+        If the part names, the active cell count or the grid lines differ.
     """
     net = model.network
     ours = tuple(p.name for p in net.assembly.parts)
@@ -172,7 +184,25 @@ def check_start_fits(model: Model, start: ChainStart) -> None:
 
 
 def state_for_model(model: Model, start: ChainStart) -> State:
-    """The :class:`~heatstack.result.State` a chained run of ``model`` starts from (checked)."""
+    """The :class:`~heatstack.result.State` a chained run of ``model`` starts from (checked).
+
+    Parameters
+    ----------
+    model : Model
+        The model to run.
+    start : ChainStart
+        The saved starting point: a state, or a snapshot field and its time [s].
+
+    Returns
+    -------
+    State
+        The saved state, or one made from the snapshot's active cells [K].
+
+    Raises
+    ------
+    InputError
+        If ``start`` does not fit the model, or the snapshot lacks a value in an active cell.
+    """
     check_start_fits(model, start)
     if start.state is not None:
         return start.state

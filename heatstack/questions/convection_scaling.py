@@ -53,7 +53,20 @@ class ScaledConvection:
         return self.law.radiation
 
     def convection_coefficient(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
-        """``multiplier`` times the wrapped law's coefficient [W/(m^2 K)]."""
+        """``multiplier`` times the wrapped law's coefficient.
+
+        Parameters
+        ----------
+        surface_temperature : ndarray
+            Surface temperatures [K].
+        time : float
+            Time [s].
+
+        Returns
+        -------
+        ndarray
+            Convection coefficients [W/(m^2 K)].
+        """
         return self.multiplier * np.asarray(self.law.convection_coefficient(surface_temperature, time))
 
 
@@ -65,6 +78,11 @@ def scale_convection(schedule: Schedule, multiplier: float) -> Schedule:
     schedule : Schedule
     multiplier : float
         Factor on every ``h`` [-]; 1 returns ``schedule`` itself.
+
+    Returns
+    -------
+    Schedule
+        The schedule with every phase's laws wrapped in :class:`ScaledConvection`.
     """
     if multiplier == 1.0:
         return schedule

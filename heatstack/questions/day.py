@@ -84,7 +84,33 @@ COLUMNS = {
 
 @dataclass(frozen=True)
 class Flight:
-    """One turnaround of the day (SI: s, kg, m/s, m, K); see :data:`COLUMNS`."""
+    """One turnaround of the day (SI: s, kg, m/s, m, K); see :data:`COLUMNS`.
+
+    Attributes
+    ----------
+    number : int
+        Flight number.
+    arrival_time : float
+        Touchdown time from the start of the day [s].
+    arrival_mass : float
+        Landing mass [kg].
+    arrival_speed : float
+        Brake-on ground speed [m/s].
+    taxi_in : float
+        Taxi-in duration [s].
+    turnaround : float
+        Parked time [s].
+    departure_mass : float
+        Take-off mass [kg].
+    taxi_out : float
+        Taxi-out duration [s].
+    elevation : float
+        Airfield elevation [m].
+    temperature : float
+        Airfield air temperature [K].
+    wind : float
+        Wind [m/s].
+    """
 
     number: int
     arrival_time: float
@@ -106,7 +132,41 @@ class Flight:
 
 @dataclass(frozen=True)
 class Aircraft:
-    """The aircraft's constants for the expansion (SI). Defaults are INVENTED, for the demo."""
+    """The aircraft's constants for the expansion (SI). Defaults are INVENTED, for the demo.
+
+    Attributes
+    ----------
+    braked_wheels : int
+        Number of braked wheels.
+    brake_share : float
+        Share of the kinetic energy taken by the brakes [-].
+    landing_stop_time : float
+        Duration of the landing stop [s].
+    taxi_speed_high, taxi_speed_low : float
+        Taxi speed before and after a snub [m/s].
+    snub_duration : float
+        Duration of one taxi snub [s].
+    snub_interval : float
+        Time between taxi snubs [s].
+    take_off_roll : float
+        Duration of the take-off roll [s].
+    lift_off_speed : float
+        Ground speed at lift-off [m/s], from which the wheels spin down.
+    rejected_take_off_speed : float
+        Brake-on speed of a rejected take-off [m/s].
+    rejected_take_off_stop_time : float
+        Duration of the rejected take-off stop [s].
+    wheel_inertia : float
+        Moment of inertia of one wheel [kg m^2].
+    tyre_rolling_radius : float
+        Tyre rolling radius [m].
+    spin_down_time : float
+        Duration of the spin-down braking at gear retraction [s].
+    wheel_well_temperature : float
+        Air and wall temperature of the wheel well in flight [K].
+    after_last_departure : float
+        Time run after the last departure's gear retraction [s].
+    """
 
     braked_wheels: int = 4
     brake_share: float = 0.9
@@ -178,7 +238,33 @@ class EventBuilders:
 
 @dataclass(frozen=True, eq=False)
 class DayPlan:
-    """A validated day: model inputs, flights, aircraft, event builders, optional limits."""
+    """A validated day: model inputs, flights, aircraft, event builders, optional limits.
+
+    Attributes
+    ----------
+    model : Model
+        The built wheel-and-brake model.
+    surfaces : tuple of SurfaceGroup
+        The exposed-surface groups, for the cooling laws.
+    plugs : tuple of FusePlugSpec
+        Fuse plugs lagging on through the chain.
+    initial_temperature : float
+        Uniform temperature at the first arrival [K].
+    flights : tuple of Flight
+        The day's flights, in time order.
+    aircraft : Aircraft
+        The aircraft's constants.
+    events : EventBuilders
+        The functions that make each braking event.
+    limits : DispatchLimits or None
+        Limits for each departure's governing margin.
+    options : SolverOptions or None
+        Solver options.
+    tyre : object
+        The tyre model for the tyre pressure peak, or None.
+    title : str
+        Title of the day.
+    """
 
     model: Model
     surfaces: tuple[SurfaceGroup, ...]
@@ -206,7 +292,20 @@ def _phase(name: str, duration: float, env: Environment, event: BrakingEvent | N
 
 
 def arrival_phases(plan: DayPlan, flight: Flight) -> list[DutyPhase]:
-    """Landing, taxi-in, turnaround and taxi-out of one flight (up to the take-off roll)."""
+    """Landing, taxi-in, turnaround and taxi-out of one flight (up to the take-off roll).
+
+    Parameters
+    ----------
+    plan : DayPlan
+        The day.
+    flight : Flight
+        The flight.
+
+    Returns
+    -------
+    list of DutyPhase
+        The four phases, each with the flight's airfield air.
+    """
     a, ev, n = plan.aircraft, plan.events, flight.number
     landing = ev.landing(flight, a)
     phases = [_phase(f"flight {n} landing", landing.end + 5.0, _air(flight, 0.5 * flight.arrival_speed), landing)]
@@ -220,7 +319,21 @@ def arrival_phases(plan: DayPlan, flight: Flight) -> list[DutyPhase]:
 
 
 def departure_phases(plan: DayPlan, k: int) -> list[DutyPhase]:
-    """Take-off roll, gear retraction and gear up until the next arrival (or the day's end)."""
+    """Take-off roll, gear retraction and gear up until the next arrival (or the day's end).
+
+    Parameters
+    ----------
+    plan : DayPlan
+        The day.
+    k : int
+        Index of the flight in ``plan.flights``.
+
+    Returns
+    -------
+    list of DutyPhase
+        The three phases; gear up lasts until the next flight's arrival, or
+        ``aircraft.after_last_departure`` after the last flight.
+    """
     flight, a = plan.flights[k], plan.aircraft
     roll = _phase(f"flight {flight.number} take-off roll", a.take_off_roll, _air(flight, 0.5 * a.lift_off_speed), None)
     gear = plan.events.gear_retraction(flight, a)
@@ -240,7 +353,18 @@ def _arrival_length(plan: DayPlan, flight: Flight) -> float:
 
 
 def day_duty(plan: DayPlan) -> DutyCycle:
-    """The whole day as one duty (starting at the first arrival): the chain's reference."""
+    """The whole day as one duty (starting at the first arrival): the chain's reference.
+
+    Parameters
+    ----------
+    plan : DayPlan
+        The day.
+
+    Returns
+    -------
+    DutyCycle
+        Every flight's arrival and departure phases in order.
+    """
     phases = []
     for k, flight in enumerate(plan.flights):
         phases += arrival_phases(plan, flight) + departure_phases(plan, k)
@@ -248,7 +372,18 @@ def day_duty(plan: DayPlan) -> DutyCycle:
 
 
 def check_timing(plan: DayPlan) -> None:
-    """Raise :class:`~heatstack.errors.InputError` if a flight arrives before the last one has left."""
+    """Raise :class:`~heatstack.errors.InputError` if a flight arrives before the last one has left.
+
+    Parameters
+    ----------
+    plan : DayPlan
+        The day.
+
+    Raises
+    ------
+    InputError
+        Naming the flights-table row of the arrival that comes too early.
+    """
     for k in range(len(plan.flights) - 1):
         flight = plan.flights[k]
         gear = plan.events.gear_retraction(flight, plan.aircraft)
@@ -292,13 +427,27 @@ class FlightAnswer:
 
 @dataclass(frozen=True, eq=False)
 class DayAnswer:
-    """The day, flight by flight."""
+    """The day, flight by flight.
+
+    Attributes
+    ----------
+    title : str
+        Title of the day.
+    flights : tuple of FlightAnswer
+        The answers of each flight.
+    """
 
     title: str
     flights: tuple[FlightAnswer, ...]
 
     def summary_lines(self) -> list[str]:
-        """The per-flight peaks and departures in words [degC, bar]."""
+        """The per-flight peaks and departures in words [degC, bar].
+
+        Returns
+        -------
+        list of str
+            The title, then per flight its arrival, peaks, departure sensor reading and margin.
+        """
         lines = [self.title]
         for answer in self.flights:
             f = answer.flight
@@ -352,7 +501,24 @@ def _departure_margin(plan: DayPlan, k: int, state: State) -> WaitSample | None:
 
 
 def run_day(plan: DayPlan) -> DayAnswer:
-    """Run the day as a chain of legs, each from the last one's state; the per-flight answers."""
+    """Run the day as a chain of legs, each from the last one's state; the per-flight answers.
+
+    Parameters
+    ----------
+    plan : DayPlan
+        The day.
+
+    Returns
+    -------
+    DayAnswer
+        Per flight: peaks [K] and their times [s], the state at departure, the departure
+        margin (with limits) and the two legs' results.
+
+    Raises
+    ------
+    InputError
+        If a flight arrives before the previous one is airborne.
+    """
     check_timing(plan)
     state: float | State = plan.initial_temperature
     start = plan.flights[0].arrival_time

@@ -74,7 +74,29 @@ class HonestEnergy:
 def case_with_inputs(
     case: Case, sensor: str, time_constant_shift: float = 0.0, conductance_factor: float = 1.0
 ) -> Case:
-    """The case with the sensor's time constant shifted [s] and every contact conductance scaled [-]."""
+    """The case with the sensor's time constant shifted and every contact conductance scaled.
+
+    Parameters
+    ----------
+    case : Case
+        The case.
+    sensor : str
+        Name of the probe whose time constant is shifted.
+    time_constant_shift : float, optional
+        Added to the sensor's time constant [s].
+    conductance_factor : float, optional
+        Factor on every contact conductance and the default one [-].
+
+    Returns
+    -------
+    Case
+        A new case; ``case`` is unchanged.
+
+    Raises
+    ------
+    InputError
+        If the shifted time constant is negative, or the sensor is not a probe of the case.
+    """
     probes, found = [], False
     for probe in case.assembly.probes:
         if probe.name == sensor:

@@ -95,7 +95,19 @@ def _combination(vector: np.ndarray, names: tuple[str, ...], logs: tuple[bool, .
 
 
 def identifiability(fit: CalibrationFit) -> Identifiability:
-    """Singular values, correlations and the plain statement for a fit (see the module docstring)."""
+    """Singular values, correlations and the plain statement for a fit (see the module docstring).
+
+    Parameters
+    ----------
+    fit : CalibrationFit
+        The fit (its Jacobian and covariance).
+
+    Returns
+    -------
+    Identifiability
+        Names, scaled singular values and vectors, correlation matrix, 95 % half-widths in
+        ``u``, which parameters are determined, and the statement in words.
+    """
     names = tuple(p.name for p in fit.parameters)
     logs = tuple(p.log for p in fit.parameters)
     jac = fit.jacobian
@@ -156,6 +168,25 @@ def profile_parameter(
     The values span ``u +/- 3 sd`` (within the bounds; the whole bound range when the
     parameter is not determined). The cost is rescaled by the fit's reduced chi-square
     when that exceeds one, as the covariance is.
+
+    Parameters
+    ----------
+    calibration : Calibration
+        The calibration.
+    fit : CalibrationFit
+        The fit whose values start each refit.
+    name : str
+        The parameter profiled.
+    executor : StudyExecutor
+        Runs the refits.
+    points : int, optional
+        Number of values of the profiled parameter.
+
+    Returns
+    -------
+    Profile
+        The values [SI], the rescaled chi-square at each, and the likelihood-ratio 95 %
+        interval [SI].
     """
     names = [p.name for p in fit.parameters]
     j = names.index(name)

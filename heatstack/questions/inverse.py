@@ -97,6 +97,13 @@ class FitError(HeatstackError, RuntimeError):
 
     ``estimate`` holds the best estimate so far (an :class:`EnergyEstimate` with
     ``converged`` False) when there is one, else None.
+
+    Parameters
+    ----------
+    message : str
+        What went wrong.
+    estimate : EnergyEstimate, optional
+        The best estimate so far.
     """
 
     def __init__(self, message: str, estimate: EnergyEstimate | None = None):

@@ -151,7 +151,25 @@ class Departure:
 
 @dataclass(frozen=True, eq=False)
 class WaitProblem:
-    """Everything one run of the wait question needs (sent to executor workers)."""
+    """Everything one run of the wait question needs (sent to executor workers).
+
+    Attributes
+    ----------
+    model : Model
+        The built model.
+    state : State
+        The state the wait starts from.
+    departure : Departure
+        The departure the wait is for.
+    limits : DispatchLimits
+        What "safe" means.
+    surfaces : tuple of SurfaceGroup
+        The exposed-surface groups, for the cooling laws.
+    sensor : str
+        Probe whose reading at departure is reported.
+    options : SolverOptions or None
+        Solver options.
+    """
 
     model: Model
     state: State
@@ -261,6 +279,23 @@ def evaluate_wait(
     equilibrium with the rim surface under it (a cautious choice: the gas lags below the
     rim while both cool). With ``base`` (a sample of a shorter wait) the wait continues
     from that sample's departure state instead of starting over.
+
+    Parameters
+    ----------
+    problem : WaitProblem
+        The state, departure and limits.
+    wait : float
+        Time parked before the departure [s].
+    keep_result : bool, optional
+        Keep the departure run's Result in the sample.
+    base : WaitSample, optional
+        A sample of a shorter wait to continue from.
+
+    Returns
+    -------
+    WaitSample
+        The margins, the governing one, peaks, the sensor reading at departure [K] and the
+        departure state.
     """
     departure = _departure_state(problem, wait, base)
     schedule = _departure_duty(problem).schedule(problem.surfaces, start=float(departure.time))
@@ -327,7 +362,18 @@ def _run_all(problem: WaitProblem, waits: Sequence[float], executor: Any) -> lis
 def check_monotone(samples: Sequence[WaitSample], slack: float = 0.05) -> None:
     """Raise :class:`~heatstack.errors.HeatstackError` unless the margin never falls with the wait.
 
-    ``slack`` [K on the common footing] absorbs the solver's tolerance.
+    Parameters
+    ----------
+    samples : sequence of WaitSample
+        Samples at several waits (any order).
+    slack : float, optional
+        Fall allowed between neighbours, absorbing the solver's tolerance [K on the common
+        footing].
+
+    Raises
+    ------
+    HeatstackError
+        If the governing margin falls by more than ``slack`` between two waits.
     """
     ordered = sorted(samples, key=lambda s: s.wait)
     for a, b in zip(ordered, ordered[1:], strict=False):

@@ -64,7 +64,22 @@ def history_names(model: Model) -> tuple[str, ...]:
 
 
 def check_history_name(model: Model, name: str, what: str = "series") -> None:
-    """Raise :class:`~heatstack.errors.InputError` unless a run of ``model`` records ``name``."""
+    """Raise :class:`~heatstack.errors.InputError` unless a run of ``model`` records ``name``.
+
+    Parameters
+    ----------
+    model : Model
+        The model.
+    name : str
+        A probe or series name.
+    what : str, optional
+        What the name is, for the message.
+
+    Raises
+    ------
+    InputError
+        If ``name`` is not among :func:`history_names` of ``model``.
+    """
     known = history_names(model)
     if name not in known:
         raise InputError(f"{what}: no probe or series named {name!r}; this model records {list(known)}")
@@ -283,7 +298,25 @@ class WhatIfAnswer:
     result: Result
 
     def peak(self, name: str) -> tuple[float, float]:
-        """(peak [K], time after the state [s]) of one probe reading or series."""
+        """(peak [K], time after the state [s]) of one probe reading or series.
+
+        Parameters
+        ----------
+        name : str
+            Probe or series name.
+
+        Returns
+        -------
+        peak : float
+            Peak value [K].
+        time : float
+            Its time after the state [s].
+
+        Raises
+        ------
+        InputError
+            If no peak was recorded for ``name``.
+        """
         if name not in self.peaks:
             raise InputError(f"no peak recorded for {name!r}; recorded: {sorted(self.peaks)}")
         return self.peaks[name]

@@ -67,7 +67,18 @@ _UNITS = {
 
 
 def column_unit(name: str) -> str:
-    """SI unit of an output column, from its name."""
+    """SI unit of an output column, from its name.
+
+    Parameters
+    ----------
+    name : str
+        Output column name, e.g. ``"peak:sensor"``.
+
+    Returns
+    -------
+    str
+        The unit (``"K"``, ``"s"``, ``"J"``), or ``""`` for a dimensionless or unknown column.
+    """
     for prefix, unit in _UNITS.items():
         if name.startswith(prefix):
             return unit
@@ -127,18 +138,40 @@ class StudyTable:
         return self.columns["status"] == "ok"
 
     def counts(self) -> dict[str, int]:
-        """Number of cases per status."""
+        """Number of cases per status.
+
+        Returns
+        -------
+        dict of str to int
+            Counts of ``"ok"``, ``"failed"`` and ``"pending"`` cases.
+        """
         status = self.columns["status"]
         return {s: int(np.count_nonzero(status == s)) for s in ("ok", "failed", "pending")}
 
     def as_dict(self) -> dict[str, np.ndarray]:
-        """The columns (a shallow copy of the mapping)."""
+        """The columns (a shallow copy of the mapping).
+
+        Returns
+        -------
+        dict of str to ndarray
+            Column name to values (SI, units in ``units``).
+        """
         return dict(self.columns)
 
     def same_results(self, other: StudyTable) -> bool:
         """Whether two tables hold the same cases and values (diagnostic columns ignored).
 
         Values are compared exactly (NaN equal to NaN).
+
+        Parameters
+        ----------
+        other : StudyTable
+            The table to compare with.
+
+        Returns
+        -------
+        bool
+            True when the non-diagnostic columns have the same names, shapes and values.
         """
         mine = [n for n in self.columns if n not in DIAGNOSTIC_COLUMNS]
         theirs = [n for n in other.columns if n not in DIAGNOSTIC_COLUMNS]
@@ -157,6 +190,11 @@ class StudyTable:
 
     def to_dataframe(self):
         """The table as a :class:`pandas.DataFrame` (pandas is optional).
+
+        Returns
+        -------
+        pandas.DataFrame
+            The columns indexed by ``case``, with ``attrs["units"]`` and ``attrs["title"]``.
 
         Raises
         ------
@@ -231,6 +269,11 @@ def binomial_intervals(
     -------
     wilson, clopper_pearson : (float, float)
 
+    Raises
+    ------
+    InputError
+        If the counts are not whole numbers with ``0 <= events <= trials`` and ``trials >= 1``.
+
     Notes
     -----
     Wilson's interval is that of :meth:`scipy.stats.binomtest` (``method="wilson"``).
@@ -261,6 +304,12 @@ def release_probability(table: StudyTable, plug: str | None = None, confidence: 
     plug : str, optional
         Plug name (e.g. ``"fuse plug 1"``); ``None`` for "any plug".
     confidence : float
+
+    Returns
+    -------
+    ProbabilityEstimate
+        Releases ``k`` of ``n`` finished cases, the fraction, and its Wilson and
+        Clopper-Pearson intervals at ``confidence``.
 
     Raises
     ------
@@ -295,6 +344,16 @@ def margin_percentiles(
         Output column, e.g. ``"plug_margin_min"`` or ``"limit_margin:inboard bead seat"`` [K].
     q : sequence of float
         Percentiles in [0, 100].
+
+    Returns
+    -------
+    dict of float to float
+        Each percentile to its value, in the column's unit.
+
+    Raises
+    ------
+    InputError
+        If no finished case has a value of ``column``, or a percentile is outside [0, 100].
     """
     values = table[column][table.ok]
     values = values[np.isfinite(values)]
@@ -446,6 +505,11 @@ def study_report(
         Unit of the peak temperatures listed (margins are always in K).
     max_failures : int
         Failed cases listed.
+
+    Returns
+    -------
+    str
+        The Markdown section, ending in a newline.
     """
     confidence = _check_confidence(confidence)
     counts = table.counts()

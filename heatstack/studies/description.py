@@ -84,7 +84,13 @@ class Sampling:
     seed: int | None = None
 
     def to_dict(self) -> dict[str, Any]:
-        """The sampling as given."""
+        """The sampling as given.
+
+        Returns
+        -------
+        dict
+            Keys ``method``, ``cases`` and ``seed``.
+        """
         return {"method": self.method, "cases": self.cases, "seed": self.seed}
 
 
@@ -119,7 +125,13 @@ class Study:
     title: str = "untitled study"
 
     def plan(self) -> StudyPlan:
-        """Resolve against the base case: see :func:`plan_study`."""
+        """Resolve against the base case: see :func:`plan_study`.
+
+        Returns
+        -------
+        StudyPlan
+            The resolved parameters and the sample table.
+        """
         return plan_study(self)
 
 
@@ -176,7 +188,18 @@ class StudyPlan:
         return tuple(p.name for p in self.parameters)
 
     def case_mapping(self, index: int) -> dict:
-        """The case mapping of case ``index``: overrides applied, then the parameters."""
+        """The case mapping of case ``index``: overrides applied, then the parameters.
+
+        Parameters
+        ----------
+        index : int
+            Case number (row of ``samples``).
+
+        Returns
+        -------
+        dict
+            The case mapping.
+        """
         return apply_values(self.base_mapping, self.parameters, self.samples[index], self.cell_size, self.target_change)
 
 
@@ -187,7 +210,26 @@ def apply_values(
     cell_size: float | None = None,
     target_change: float | None = None,
 ) -> dict:
-    """A deep copy of ``base`` with the speed overrides and one row of parameter values written in."""
+    """A deep copy of ``base`` with the speed overrides and one row of parameter values written in.
+
+    Parameters
+    ----------
+    base : mapping
+        Base case mapping.
+    parameters : sequence of ResolvedParameter
+        The study's parameters and their key paths.
+    row : sequence of float
+        One value per parameter [SI].
+    cell_size : float, optional
+        Cell size written over the assembly's cell sizes [m].
+    target_change : float, optional
+        Solver target temperature change per step [K].
+
+    Returns
+    -------
+    dict
+        The new case mapping.
+    """
     data = copy.deepcopy(dict(base))
     if cell_size is not None:
         assembly = data.setdefault("assembly", {})

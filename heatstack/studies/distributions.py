@@ -43,7 +43,28 @@ class Distribution:
     _positive: ClassVar[tuple[str, ...]] = ()
 
     def values_si(self, dimension: str | None, where: str) -> dict[str, float]:
-        """The distribution's parameters in SI, validated; keys are the field names."""
+        """The distribution's parameters in SI, validated; keys are the field names.
+
+        Parameters
+        ----------
+        dimension : str or None
+            Dimension of the sampled quantity (None: dimensionless); a spread of a temperature
+            is a temperature difference.
+        where : str
+            Key path used in error messages.
+
+        Returns
+        -------
+        dict of str to float
+            Each parameter in SI.
+
+        Raises
+        ------
+        UnitError
+            If a parameter has the wrong unit.
+        InputError
+            If a parameter is out of range or the parameters are inconsistent (e.g. low > high).
+        """
         out = {}
         spread = "temperature_difference" if dimension == "temperature" else dimension
         for f in fields(self):
@@ -64,15 +85,40 @@ class Distribution:
         raise NotImplementedError
 
     def frozen(self, dimension: str | None, where: str = "distribution") -> Any:
-        """A frozen :mod:`scipy.stats` distribution in SI units."""
+        """A frozen :mod:`scipy.stats` distribution in SI units.
+
+        Parameters
+        ----------
+        dimension : str or None
+            Dimension of the sampled quantity (None: dimensionless).
+        where : str, optional
+            Key path used in error messages.
+
+        Returns
+        -------
+        scipy.stats.rv_frozen
+            The distribution.
+        """
         return self._scipy(self.values_si(dimension, where))
 
     def to_dict(self) -> dict[str, Any]:
-        """The distribution as given, for the store's manifest."""
+        """The distribution as given, for the store's manifest.
+
+        Returns
+        -------
+        dict
+            ``distribution`` (the kind) and every parameter as given.
+        """
         return {"distribution": self.kind, **{f.name: getattr(self, f.name) for f in fields(self)}}
 
     def strings(self) -> list[str]:
-        """Parameters given as strings (they carry units)."""
+        """Parameters given as strings (they carry units).
+
+        Returns
+        -------
+        list of str
+            The string-valued parameters.
+        """
         return [v for f in fields(self) if isinstance(v := getattr(self, f.name), str)]
 
 
@@ -83,7 +129,13 @@ def _ordered(v: dict[str, float], low: str, high: str, where: str, given: Any) -
 
 @dataclass(frozen=True)
 class Uniform(Distribution):
-    """Uniform between ``low`` and ``high`` (``scipy.stats.uniform``)."""
+    """Uniform between ``low`` and ``high`` (``scipy.stats.uniform``).
+
+    Attributes
+    ----------
+    low, high : float or str
+        Bounds, SI numbers or quantities with units.
+    """
 
     low: Any
     high: Any
@@ -98,7 +150,15 @@ class Uniform(Distribution):
 
 @dataclass(frozen=True)
 class Normal(Distribution):
-    """Normal of ``mean`` and standard deviation ``std`` (``scipy.stats.norm``)."""
+    """Normal of ``mean`` and standard deviation ``std`` (``scipy.stats.norm``).
+
+    Attributes
+    ----------
+    mean : float or str
+        Mean, SI number or quantity.
+    std : float or str
+        Standard deviation (> 0), SI number or quantity.
+    """
 
     mean: Any
     std: Any
@@ -112,7 +172,17 @@ class Normal(Distribution):
 
 @dataclass(frozen=True)
 class TruncatedNormal(Distribution):
-    """Normal of ``mean`` and ``std`` cut to [``low``, ``high``] (``scipy.stats.truncnorm``)."""
+    """Normal of ``mean`` and ``std`` cut to [``low``, ``high``] (``scipy.stats.truncnorm``).
+
+    Attributes
+    ----------
+    mean : float or str
+        Mean of the untruncated normal.
+    std : float or str
+        Its standard deviation (> 0).
+    low, high : float or str
+        Truncation bounds.
+    """
 
     mean: Any
     std: Any
@@ -132,7 +202,13 @@ class TruncatedNormal(Distribution):
 
 @dataclass(frozen=True)
 class Triangular(Distribution):
-    """Triangular from ``low`` through ``mode`` to ``high`` (``scipy.stats.triang``)."""
+    """Triangular from ``low`` through ``mode`` to ``high`` (``scipy.stats.triang``).
+
+    Attributes
+    ----------
+    low, mode, high : float or str
+        Lower bound, mode and upper bound.
+    """
 
     low: Any
     mode: Any
@@ -154,6 +230,13 @@ class LogNormal(Distribution):
     """Log-normal of ``median`` and log standard deviation ``log_std`` [-] (``scipy.stats.lognorm``).
 
     ``ln X`` is normal with mean ``ln(median)`` and standard deviation ``log_std``.
+
+    Attributes
+    ----------
+    median : float or str
+        Median (> 0), SI number or quantity.
+    log_std : float
+        Standard deviation of ``ln X`` (> 0) [-].
     """
 
     median: Any

@@ -45,31 +45,90 @@ class StudyExecutor:
     workers: int = 1
 
     def start(self) -> StudyExecutor:
-        """Acquire the workers (idempotent); returns ``self``."""
+        """Acquire the workers (idempotent).
+
+        Returns
+        -------
+        StudyExecutor
+            ``self``.
+        """
         return self
 
     def close(self) -> None:
         """Release the workers; calls not yet started are cancelled."""
 
     def submit(self, fn: Callable[[Any], Any], arg: Any) -> Any:
-        """Schedule ``fn(arg)``; return a future."""
+        """Schedule ``fn(arg)``.
+
+        Parameters
+        ----------
+        fn : callable
+            A picklable function of one argument.
+        arg : object
+            Its argument.
+
+        Returns
+        -------
+        future
+            A future of the call.
+        """
         raise NotImplementedError
 
     def as_completed(self, futures: list[Any]) -> Iterator[Any]:
-        """Yield ``futures`` as they finish."""
+        """Yield ``futures`` as they finish.
+
+        Parameters
+        ----------
+        futures : list of future
+            Futures from :meth:`submit`.
+
+        Yields
+        ------
+        future
+            Each finished future.
+        """
         raise NotImplementedError
 
     def result(self, future: Any) -> Any:
-        """The value of a finished future (re-raising the call's exception)."""
+        """The value of a finished future (re-raising the call's exception).
+
+        Parameters
+        ----------
+        future : future
+            A future from :meth:`submit`.
+
+        Returns
+        -------
+        object
+            The call's return value.
+        """
         return future.result()
 
     def cancel(self, futures: list[Any]) -> None:
-        """Cancel futures that have not finished."""
+        """Cancel futures that have not finished.
+
+        Parameters
+        ----------
+        futures : list of future
+            Futures from :meth:`submit`.
+        """
         for future in futures:
             future.cancel()
 
     def map_unordered(self, fn: Callable[[Any], Any], args: Iterable[Any]) -> Iterator[Any]:
         """Run ``fn`` on every argument; yield the results as they complete.
+
+        Parameters
+        ----------
+        fn : callable
+            A picklable function of one argument.
+        args : iterable
+            The arguments.
+
+        Yields
+        ------
+        object
+            Each call's return value, in completion order.
 
         Raises
         ------
@@ -91,7 +150,13 @@ class StudyExecutor:
         self.close()
 
     def describe(self) -> str:
-        """A short text naming the executor and its workers."""
+        """A short text naming the executor and its workers.
+
+        Returns
+        -------
+        str
+            E.g. ``"LocalExecutor(workers=2)"``.
+        """
         return f"{type(self).__name__}(workers={self.workers})"
 
 
@@ -115,9 +180,35 @@ class SerialExecutor(StudyExecutor):
     workers = 1
 
     def submit(self, fn: Callable[[Any], Any], arg: Any) -> _Deferred:
+        """Defer ``fn(arg)``: the call runs when its result is asked for.
+
+        Parameters
+        ----------
+        fn : callable
+            A function of one argument.
+        arg : object
+            Its argument.
+
+        Returns
+        -------
+        future
+            The deferred call.
+        """
         return _Deferred(fn, arg)
 
     def as_completed(self, futures: list[_Deferred]) -> Iterator[_Deferred]:
+        """Yield the futures not cancelled, in submission order.
+
+        Parameters
+        ----------
+        futures : list of future
+            Deferred calls from :meth:`submit`.
+
+        Yields
+        ------
+        future
+            Each deferred call not cancelled.
+        """
         for future in futures:
             if not future.cancelled:
                 yield future
@@ -183,6 +274,13 @@ class LocalExecutor(StudyExecutor):
         self._pool: cf.ProcessPoolExecutor | None = None
 
     def start(self) -> LocalExecutor:
+        """Start the process pool if it is not running (idempotent).
+
+        Returns
+        -------
+        LocalExecutor
+            ``self``.
+        """
         if self._pool is None:
             context = (
                 _default_context() if self.start_method is None else multiprocessing.get_context(self.start_method)
@@ -197,19 +295,63 @@ class LocalExecutor(StudyExecutor):
         return self
 
     def close(self) -> None:
+        """Shut the pool down, cancelling calls not yet started, and wait for it."""
         if self._pool is not None:
             self._pool.shutdown(wait=True, cancel_futures=True)
             self._pool = None
 
     def submit(self, fn: Callable[[Any], Any], arg: Any) -> cf.Future:
+        """Schedule ``fn(arg)`` on the pool, starting it if needed.
+
+        Parameters
+        ----------
+        fn : callable
+            A picklable function of one argument.
+        arg : object
+            Its (picklable) argument.
+
+        Returns
+        -------
+        concurrent.futures.Future
+            The future of the call.
+        """
         if self._pool is None:
             self.start()
         return self._pool.submit(fn, arg)
 
     def as_completed(self, futures: list[cf.Future]) -> Iterator[cf.Future]:
+        """Iterate over ``futures`` as they finish (:func:`concurrent.futures.as_completed`).
+
+        Parameters
+        ----------
+        futures : list of concurrent.futures.Future
+            Futures from :meth:`submit`.
+
+        Returns
+        -------
+        iterator of concurrent.futures.Future
+            The futures in completion order.
+        """
         return cf.as_completed(futures)
 
     def result(self, future: cf.Future) -> Any:
+        """The value of a finished future (re-raising the call's exception).
+
+        Parameters
+        ----------
+        future : concurrent.futures.Future
+            A future from :meth:`submit`.
+
+        Returns
+        -------
+        object
+            The call's return value.
+
+        Raises
+        ------
+        ExecutorError
+            If a worker process died.
+        """
         try:
             return future.result()
         except cf.process.BrokenProcessPool as exc:
@@ -247,6 +389,19 @@ class DaskExecutor(StudyExecutor):
         self._owned = False
 
     def start(self) -> DaskExecutor:
+        """Connect to the Dask scheduler (or adopt the given client); idempotent.
+
+        Returns
+        -------
+        DaskExecutor
+            ``self``, with ``workers`` the cluster's thread count.
+
+        Raises
+        ------
+        InputError
+            If dask.distributed is not installed, or the scheduler cannot be reached, is not a
+            scheduler address, or cannot be connected to as configured.
+        """
         if self._client is not None:
             return self
         try:
@@ -288,22 +443,66 @@ class DaskExecutor(StudyExecutor):
         return self._client
 
     def close(self) -> None:
+        """Close the client if this executor opened it (an adopted client stays open)."""
         if self._client is not None and self._owned:
             self._client.close()
         self._client = None
 
     def submit(self, fn: Callable[[Any], Any], arg: Any) -> Any:
+        """Schedule ``fn(arg)`` on the cluster (impure; keyed by ``arg.key`` when it has one).
+
+        Parameters
+        ----------
+        fn : callable
+            A picklable function of one argument.
+        arg : object
+            Its (picklable) argument.
+
+        Returns
+        -------
+        distributed.Future
+            The future of the call.
+        """
         if self._client is None:
             self.start()
         key = getattr(arg, "key", None)
         return self._client.submit(fn, arg, pure=False, key=key)
 
     def as_completed(self, futures: list[Any]) -> Iterator[Any]:
+        """Iterate over ``futures`` as they finish (:func:`distributed.as_completed`).
+
+        Parameters
+        ----------
+        futures : list of distributed.Future
+            Futures from :meth:`submit`.
+
+        Returns
+        -------
+        iterator of distributed.Future
+            The futures in completion order.
+        """
         import distributed
 
         return iter(distributed.as_completed(futures, loop=self._client.loop))
 
     def result(self, future: Any) -> Any:
+        """The value of a finished future (re-raising the call's exception).
+
+        Parameters
+        ----------
+        future : distributed.Future
+            A future from :meth:`submit`.
+
+        Returns
+        -------
+        object
+            The call's return value.
+
+        Raises
+        ------
+        ExecutorError
+            If the cluster fails (a heatstack error of the call is re-raised as it is).
+        """
         try:
             return future.result()
         except HeatstackError:
@@ -312,6 +511,13 @@ class DaskExecutor(StudyExecutor):
             raise ExecutorError(f"the Dask cluster failed ({type(exc).__name__}: {exc}); run again to resume") from None
 
     def cancel(self, futures: list[Any]) -> None:
+        """Cancel the futures not yet done.
+
+        Parameters
+        ----------
+        futures : list of distributed.Future
+            Futures from :meth:`submit`.
+        """
         if self._client is not None and futures:
             pending = [f for f in futures if not f.done()]
             if pending:

@@ -51,5 +51,16 @@ def output_label(name: str, plugs: Sequence[str] = ()) -> str:
 
 
 def plug_names(output_names: Sequence[str]) -> tuple[str, ...]:
-    """The fuse plugs a study table with these output columns has outputs for."""
+    """The fuse plugs a study table with these output columns has outputs for.
+
+    Parameters
+    ----------
+    output_names : sequence of str
+        Output column names.
+
+    Returns
+    -------
+    tuple of str
+        The plug names of the ``plug_peak:<name>`` columns, in column order.
+    """
     return tuple(n.split(":", 1)[1] for n in output_names if n.startswith("plug_peak:"))

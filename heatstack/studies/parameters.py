@@ -59,7 +59,13 @@ class Parameter:
         return self.name or self.paths[0]
 
     def to_dict(self) -> dict[str, Any]:
-        """The parameter as given, for the store's manifest."""
+        """The parameter as given, for the store's manifest.
+
+        Returns
+        -------
+        dict
+            Paths, name, dimension, and the distribution's fields or the values.
+        """
         out: dict[str, Any] = {"paths": list(self.paths), "name": self.label, "dimension": self.dimension}
         if self.distribution is not None:
             out.update(self.distribution.to_dict())
@@ -101,20 +107,49 @@ class ResolvedParameter:
     unit: str
 
     def from_uniform(self, u: np.ndarray) -> np.ndarray:
-        """Map uniform numbers in [0, 1) through the inverse CDF."""
+        """Map uniform numbers in [0, 1) through the inverse CDF.
+
+        Parameters
+        ----------
+        u : ndarray
+            Uniform numbers in [0, 1).
+
+        Returns
+        -------
+        ndarray
+            Parameter values [SI]: the distribution's quantiles, or grid values picked by
+            equal shares of [0, 1).
+        """
         if self.distribution is not None:
             return np.asarray(self.distribution.ppf(u), dtype=float)
         index = np.minimum((u * self.values.size).astype(int), self.values.size - 1)
         return self.values[index]
 
     def representative(self) -> float:
-        """The median of the distribution, or the first grid value [SI]."""
+        """The median of the distribution, or the first grid value.
+
+        Returns
+        -------
+        float
+            The value [SI].
+        """
         if self.distribution is not None:
             return float(self.distribution.ppf(0.5))
         return float(self.values[0])
 
     def cast(self, value: float) -> Any:
-        """The value as written into the case mapping."""
+        """The value as written into the case mapping.
+
+        Parameters
+        ----------
+        value : float
+            A sampled value [SI].
+
+        Returns
+        -------
+        bool, int or float
+            The value as the base case's kind (an int rounded).
+        """
         if self.kind == "bool":
             return bool(value)
         if self.kind == "int":
@@ -123,6 +158,22 @@ class ResolvedParameter:
 
 
 def closest_path(mapping: Mapping, path: str, extra: Sequence[str] = ()) -> str:
+    """``"; did you mean 'x'?"`` for the nearest key path, else a list of paths under the same top key.
+
+    Parameters
+    ----------
+    mapping : mapping
+        The base case mapping.
+    path : str
+        The key path that was not found.
+    extra : sequence of str, optional
+        More candidate paths (e.g. optional design keys).
+
+    Returns
+    -------
+    str
+        The hint, or ``""`` when nothing is close.
+    """
     candidates = [format_path(p) for p in every_path(mapping)] + list(extra)
     close = difflib.get_close_matches(path, candidates, n=1, cutoff=0.6)
     if close:
@@ -133,7 +184,18 @@ def closest_path(mapping: Mapping, path: str, extra: Sequence[str] = ()) -> str:
 
 
 def design_fields(mapping: Mapping) -> list[str]:
-    """Optional design keys of the wheel-and-brake builder (for suggestions)."""
+    """Optional design keys of the wheel-and-brake builder (for suggestions).
+
+    Parameters
+    ----------
+    mapping : mapping
+        The base case mapping.
+
+    Returns
+    -------
+    list of str
+        ``assembly.design.<field>`` paths; empty when the case uses another builder.
+    """
     assembly = mapping.get("assembly", {})
     if not isinstance(assembly, Mapping) or assembly.get("builder", "wheel-brake") != "wheel-brake":
         return []
@@ -141,7 +203,32 @@ def design_fields(mapping: Mapping) -> list[str]:
 
 
 def resolve_parameter(k: int, parameter: Parameter, mapping: dict, grid: bool) -> ResolvedParameter:
-    """Check one study parameter against the base case and convert its values or distribution to SI."""
+    """Check one study parameter against the base case and convert its values or distribution to SI.
+
+    Parameters
+    ----------
+    k : int
+        Index of the parameter in the study, for error messages.
+    parameter : Parameter
+        The parameter as given.
+    mapping : dict
+        The base case mapping.
+    grid : bool
+        Whether the study samples a grid (values needed) rather than distributions.
+
+    Returns
+    -------
+    ResolvedParameter
+        The parameter with its paths, dimension, kind, base values, frozen distribution or
+        SI values, and unit.
+
+    Raises
+    ------
+    InputError
+        If a path is not in the base case, no value is given, or the dimension cannot be told.
+    UnitError
+        If a value has the wrong unit.
+    """
     where = f"study.parameters[{k}]"
     _check_parameter(where, parameter, grid)
     paths, bases, absent = _base_values(where, parameter, mapping)

@@ -45,6 +45,11 @@ def parse_path(path: str, where: str = "path") -> tuple[Token, ...]:
     where : str
         Field name used in error messages.
 
+    Returns
+    -------
+    tuple of str and int
+        The keys and list indices in order.
+
     Raises
     ------
     InputError
@@ -71,7 +76,18 @@ def parse_path(path: str, where: str = "path") -> tuple[Token, ...]:
 
 
 def format_path(tokens: Sequence[Token]) -> str:
-    """The canonical text of a token path (inverse of :func:`parse_path`)."""
+    """The canonical text of a token path (inverse of :func:`parse_path`).
+
+    Parameters
+    ----------
+    tokens : sequence of str and int
+        Keys and list indices.
+
+    Returns
+    -------
+    str
+        The path, keys that are not bare words quoted.
+    """
     out = ""
     for token in tokens:
         if isinstance(token, int):
@@ -83,7 +99,20 @@ def format_path(tokens: Sequence[Token]) -> str:
 
 
 def every_path(data: Any, prefix: tuple[Token, ...] = ()) -> Iterator[tuple[Token, ...]]:
-    """Every path of the mapping, tables and values alike (depth first)."""
+    """Every path of the mapping, tables and values alike (depth first).
+
+    Parameters
+    ----------
+    data : object
+        Nested mappings and lists.
+    prefix : tuple of str and int, optional
+        Path of ``data`` itself.
+
+    Yields
+    ------
+    tuple of str and int
+        Each path below ``prefix``.
+    """
     if isinstance(data, Mapping):
         for key, value in data.items():
             yield (*prefix, key)
@@ -99,7 +128,20 @@ MISSING = object()
 
 
 def value_at(data: Any, tokens: Sequence[Token]) -> Any:
-    """The value at a token path of nested mappings and lists, or :data:`MISSING`."""
+    """The value at a token path of nested mappings and lists, or :data:`MISSING`.
+
+    Parameters
+    ----------
+    data : object
+        Nested mappings and lists.
+    tokens : sequence of str and int
+        The path.
+
+    Returns
+    -------
+    object
+        The value, or ``MISSING`` when the path does not exist.
+    """
     node = data
     for token in tokens:
         if isinstance(token, int):
@@ -114,6 +156,16 @@ def value_at(data: Any, tokens: Sequence[Token]) -> Any:
 
 
 def set_value_at(data: Any, tokens: Sequence[Token], value: Any) -> None:
-    """Write ``value`` at a token path whose parent exists (in place)."""
+    """Write ``value`` at a token path whose parent exists (in place).
+
+    Parameters
+    ----------
+    data : object
+        Nested mappings and lists.
+    tokens : sequence of str and int
+        The path.
+    value : object
+        The value to write.
+    """
     parent = value_at(data, tokens[:-1])
     parent[tokens[-1]] = value

@@ -67,6 +67,11 @@ def plot_margin_histogram(
     -------
     Path
         The file written.
+
+    Raises
+    ------
+    InputError
+        If ``bins`` is not a whole number >= 1, or no finished case has a value of ``column``.
     """
     target, fmt = figure_target(path)
     if isinstance(bins, bool) or not isinstance(bins, int) or bins < 1:
@@ -135,6 +140,11 @@ def plot_tornado(
     Returns
     -------
     Path
+
+    Raises
+    ------
+    InputError
+        If ``measure`` is not ``"spearman"`` or ``"src"``, or ``result`` holds no parameter.
     """
     target, fmt = figure_target(path)
     if measure not in ("spearman", "src"):

@@ -173,6 +173,11 @@ def summarise(case: Any, result: Any, outputs: Sequence[str] | None = None) -> l
     outputs : sequence of str, optional
         Probes or series to collect peaks of; every probe and every global series
         (not the per-surface-group means) by default.
+
+    Returns
+    -------
+    list of (str, float)
+        The outputs in the order above, values in SI.
     """
     names = (
         list(outputs)
@@ -214,6 +219,17 @@ def run_one_case(job: CaseJob) -> CaseOutcome:
 
     A case that fails (bad sampled value, solver failure, anything) comes back with
     ``status = "failed"`` and its error text.
+
+    Parameters
+    ----------
+    job : CaseJob
+        The case mapping and what to collect.
+
+    Returns
+    -------
+    CaseOutcome
+        Status, output names and SI values, error and warning texts, wall time [s], worker
+        and whether a cached model was reused.
     """
     start = time.perf_counter()
     worker = f"{socket.gethostname()}:{os.getpid()}"

@@ -93,18 +93,53 @@ def _text(value: Any) -> str:
 
 
 class StoreSession:
-    """An open store, locked, with its manifest checked: write case files."""
+    """An open store, locked, with its manifest checked: write case files.
+
+    Parameters
+    ----------
+    store : StudyStore
+        The store.
+    n_cases : int
+        Number of cases of the study.
+    """
 
     def __init__(self, store: StudyStore, n_cases: int):
         self.store, self.n_cases = store, n_cases
 
     def todo(self, retry_failed: bool = False) -> list[int]:
-        """Case numbers not yet in the store (and the failed ones, if ``retry_failed``)."""
+        """Case numbers not yet in the store (and the failed ones, if ``retry_failed``).
+
+        Parameters
+        ----------
+        retry_failed : bool, optional
+            Also return the cases that failed.
+
+        Returns
+        -------
+        list of int
+            Case numbers in increasing order.
+        """
         done = self.store.finished()
         return [k for k in range(self.n_cases) if k not in done or (retry_failed and done[k] != "ok")]
 
     def write_case(self, outcome: Any) -> Path:
-        """Write one case's summary atomically; return its path."""
+        """Write one case's summary atomically; return its path.
+
+        Parameters
+        ----------
+        outcome : CaseOutcome
+            The case's outcome (index, status, outputs, texts, wall time [s], worker).
+
+        Returns
+        -------
+        Path
+            The case file written.
+
+        Raises
+        ------
+        ResultFileError
+            If the case file cannot be written.
+        """
         path = self.store.case_path(outcome.index)
 
         def fill(f: h5py.File) -> None:
@@ -150,11 +185,28 @@ class StudyStore:
         return self.root / CASES
 
     def case_path(self, index: int) -> Path:
-        """File of case ``index``."""
+        """File of case ``index``.
+
+        Parameters
+        ----------
+        index : int
+            Case number.
+
+        Returns
+        -------
+        Path
+            ``cases/case-NNNNNN.h5`` under the store.
+        """
         return self.cases_dir / f"case-{int(index):06d}.h5"
 
     def exists(self) -> bool:
-        """Whether the folder holds a manifest."""
+        """Whether the folder holds a manifest.
+
+        Returns
+        -------
+        bool
+            True when the manifest file exists.
+        """
         return self.manifest_path.is_file()
 
     # ---------------------------------------------------------------- checks
@@ -207,6 +259,16 @@ class StudyStore:
     @contextlib.contextmanager
     def session(self, plan: Any) -> Iterator[StoreSession]:
         """Open the store for writing ``plan``: create it, or check its manifest matches.
+
+        Parameters
+        ----------
+        plan : StudyPlan
+            The study to write.
+
+        Yields
+        ------
+        StoreSession
+            The locked, checked store; the lock is released on leaving.
 
         Raises
         ------
@@ -303,6 +365,12 @@ class StudyStore:
     def read_manifest(self) -> dict[str, Any]:
         """The manifest's attributes and sample table.
 
+        Returns
+        -------
+        dict
+            The manifest's attributes (description, parameters and outputs decoded from JSON,
+            ``n_cases`` an int) and ``samples``, the sample table.
+
         Raises
         ------
         ResultFileError
@@ -347,7 +415,13 @@ class StudyStore:
                 yield int(record["index"]), record
 
     def finished(self) -> dict[int, str]:
-        """Status (``ok`` or ``failed``) of every case in the store, by case number."""
+        """Status (``ok`` or ``failed``) of every case in the store, by case number.
+
+        Returns
+        -------
+        dict of int to str
+            Status by case number; unreadable case files are left out (logged) to be run again.
+        """
         out = {}
         if not self.cases_dir.is_dir():
             return out
@@ -360,7 +434,18 @@ class StudyStore:
         return out
 
     def table(self) -> StudyTable:
-        """The results table in case order (pending cases have status ``pending`` and NaN outputs)."""
+        """The results table in case order (pending cases have status ``pending`` and NaN outputs).
+
+        Returns
+        -------
+        StudyTable
+            One row per case: parameters, status, error, outputs [SI], warnings and diagnostics.
+
+        Raises
+        ------
+        ResultFileError
+            If the folder holds no readable manifest.
+        """
         manifest = self.read_manifest()
         n = manifest["n_cases"]
         samples = manifest["samples"]
@@ -424,10 +509,20 @@ def _path_text(tokens: Any) -> str:
 def load_table(root: str | os.PathLike) -> StudyTable:
     """The results table of a store folder (finished or not).
 
+    Parameters
+    ----------
+    root : str or os.PathLike
+        The store folder.
+
+    Returns
+    -------
+    StudyTable
+        The results table in case order.
+
     Raises
     ------
     ResultFileError
-        If the folder is not a study store.
+        If the folder does not exist or is not a study store.
     """
     store = StudyStore(root)
     if not store.root.is_dir():

@@ -156,6 +156,16 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
 def load_study(path: str | Path) -> Study:
     """Read a study file: a TOML ``[study]`` section whose ``base_case`` is relative to the file.
 
+    Parameters
+    ----------
+    path : str or Path
+        The study file.
+
+    Returns
+    -------
+    Study
+        The validated study.
+
     Raises
     ------
     InputError

@@ -1,8 +1,9 @@
 """The house rules of heatstack's source, checked from the source itself.
 
 No import circle between modules, no private name imported across modules, no module over 600 lines and no
-function over 80 lines of code. The allow-lists are empty on purpose: a new exception is a design decision that
-must be argued for in review, not slipped into a list.
+function over 80 lines of code (docstrings not counted in either: documentation does not make code large). The
+allow-lists are empty on purpose: a new exception is a design decision that must be argued for in review, not
+slipped into a list.
 """
 
 from __future__ import annotations
@@ -128,11 +129,27 @@ def test_no_private_name_imported_across_modules() -> None:
     assert offenders == []
 
 
+def _module_lines(path: Path) -> int:
+    """Lines of ``path`` outside docstrings: documentation does not make a module large (as for functions)."""
+    source = path.read_text()
+    documentation: set[int] = set()
+    for node in ast.walk(ast.parse(source)):
+        if isinstance(node, ast.Module | ast.ClassDef | ast.FunctionDef | ast.AsyncFunctionDef) and node.body:
+            first = node.body[0]
+            if (
+                isinstance(first, ast.Expr)
+                and isinstance(first.value, ast.Constant)
+                and isinstance(first.value.value, str)
+            ):
+                documentation.update(range(first.lineno, first.end_lineno + 1))
+    return len(source.splitlines()) - len(documentation)
+
+
 def test_no_module_over_600_lines() -> None:
     large = {
         str(path.relative_to(PACKAGE.parent)): n
         for path in MODULES.values()
-        if (n := len(path.read_text().splitlines())) > MAX_MODULE_LINES
+        if (n := _module_lines(path)) > MAX_MODULE_LINES
     }
     assert {k: v for k, v in large.items() if k not in ALLOWED_LARGE_MODULES} == {}
 
