@@ -81,16 +81,17 @@ def _figure_thresholds(settings) -> list:
     return lines
 
 
-def _write_plots(result, folder: Path, unit: str, name: str, thresholds: Sequence = ()) -> list[Path]:
-    """Every figure of a run into ``folder``, each file name starting with ``name`` (the case's)."""
+def _write_plots(result, folder: Path, name: str, settings) -> list[Path]:
+    """Every figure of a run into ``folder``, each file name starting with ``name`` (the case's); the
+    report ``settings`` give the unit, the limit lines and the fuse plugs (drawn as their own temperature)."""
     from .plotting import plot_field, plot_histories, plot_sensor_offset, plot_why_the_gauge_lags
 
-    written = [plot_histories(result, folder / f"{name}-histories.png", unit=unit, thresholds=thresholds)]
+    unit, lines, plugs = settings.unit, _figure_thresholds(settings), settings.fuse_plugs
+    written = [plot_histories(result, folder / f"{name}-histories.png", unit=unit, thresholds=lines, plugs=plugs)]
     if "sensor" in result.readings and HEAT_SINK_MEAN in result.series:
         written.append(plot_sensor_offset(result, folder / f"{name}-sensor-offset.png", unit=unit))
-        written.append(
-            plot_why_the_gauge_lags(result, folder / f"{name}-why-the-gauge-lags.png", unit=unit, thresholds=thresholds)
-        )
+        target = folder / f"{name}-why-the-gauge-lags.png"
+        written.append(plot_why_the_gauge_lags(result, target, unit=unit, thresholds=lines, plugs=plugs))
     for t in result.snapshot_times[1:-1]:
         written.append(plot_field(result, folder / f"{name}-field-{t / 60.0:06.1f}min.png", float(t), unit=unit))
     return written
@@ -134,7 +135,7 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
     )
     written = []
     if plots and case.output.plots:
-        written = _write_plots(result, out, settings.unit, case_path.stem, _figure_thresholds(settings))
+        written = _write_plots(result, out, case_path.stem, settings)
     report = build_report(result, settings)
     html_path, md_path = write_report_files(report, out, written, case.text)
     print(format_report(report, "text"))
@@ -258,7 +259,7 @@ def _cmd_plot(args: argparse.Namespace) -> int:
         raise ResultFileError(f"plot folder {str(out)!r} does not exist")
     settings = _settings_from_file(path, args.unit)
     fields = _plot_field_times(result, out, path.stem, settings.unit, args.time or ())
-    written = _write_plots(result, out, settings.unit, path.stem, _figure_thresholds(settings)) + fields
+    written = _write_plots(result, out, path.stem, settings) + fields
     for p in written:
         print(p)
     return 0
