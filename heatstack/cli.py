@@ -27,6 +27,7 @@ from pathlib import Path
 from . import __version__
 from .atomic import write_file_atomically
 from .cli_fitting import cmd_calibrate, cmd_fit
+from .cli_runplan import PlannedRun, planned_runs
 from .cli_turnaround import add_turnaround_verbs
 from .errors import HeatstackError, InputError, ResultFileError
 from .geometry import HEAT_SINK_MEAN
@@ -108,14 +109,14 @@ def _make_folder(folder: Path, what: str) -> Path:
     return folder
 
 
-def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, quiet: bool) -> int:
-    from .case import load_case, run_case
+def _run_case_file(plan: PlannedRun, plots: bool, unit: str | None, quiet: bool, report_name: str = "report") -> int:
+    """Run one planned case: results file, figures, ``report_name``.html and .md, the report printed."""
+    from .case import run_case
     from .report import build_report, format_report
     from .report_html import write_report_files
-    from .resultfile import check_writable, write_result
+    from .resultfile import write_result
 
-    case = load_case(case_path)
-    target = check_writable(out / case.output.file)
+    case_path, case, target, out = plan.case_path, plan.case, plan.target, plan.folder
     model = case.build_model()
     if not quiet:
         print(f"heatstack: {case.title}: {model.n_cells} cells, {len(case.duty.phases)} phases", file=sys.stderr)
@@ -131,13 +132,13 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
         result,
         target,
         case_text=case.text,
-        resolved_inputs={"case": case.resolved(), "report": settings.to_mapping()},
+        resolved_inputs={"case": case.resolved(), "report": settings.to_mapping(), "case_file": case_path.name},
     )
     written = []
     if plots and case.output.plots:
         written = _write_plots(result, out, case_path.stem, settings)
     report = build_report(result, settings)
-    html_path, md_path = write_report_files(report, out, written, case.text)
+    html_path, md_path = write_report_files(report, out, written, case.text, report_name)
     print(format_report(report, "text"))
     print(f"results: {target}")
     print(f"report:  {html_path}")
@@ -148,9 +149,14 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
-    case = Path(args.case)
-    out = _make_folder(Path(args.out), "--out folder") if args.out else case.resolve().parent
-    return _run_case_file(case, out, not args.no_plots, args.unit, args.quiet)
+    out = _make_folder(Path(args.out), "--out folder") if args.out else None
+    planned = planned_runs([Path(c) for c in args.case], out)
+    folders = [plan.folder.resolve() for plan in planned]
+    for plan in planned:
+        shared = folders.count(plan.folder.resolve()) > 1  # several cases in one folder: reports carry their names
+        report_name = f"{plan.case_path.stem}-report" if shared else "report"
+        _run_case_file(plan, not args.no_plots, args.unit, args.quiet, report_name)
+    return 0
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
@@ -159,7 +165,8 @@ def _cmd_demo(args: argparse.Namespace) -> int:
         "heatstack demo: an INVENTED rejected take-off on an invented wheel and brake, then parked cooling.",
         file=sys.stderr,
     )
-    return _run_case_file(demo_case_path(), out, True, args.unit, args.quiet)
+    (plan,) = planned_runs([demo_case_path()], out)
+    return _run_case_file(plan, True, args.unit, args.quiet)
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
@@ -447,8 +454,12 @@ def _parser() -> argparse.ArgumentParser:
 
 def _add_run_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units: tuple[str, ...]) -> None:
     """The verbs that run or check a case: run, demo, check."""
-    run = verb("run", "run a case file, write the results file and plots, print the report")
-    run.add_argument("case", help="case file (TOML)")
+    run = verb("run", "run case files, write their results files and plots, print the reports")
+    run.add_argument(
+        "case",
+        nargs="+",
+        help="case file(s) (TOML); several cases into one folder name their reports CASE-report.html",
+    )
     run.add_argument("--out", help="folder for results and plots (default: the case file's folder)")
     run.add_argument("--no-plots", action="store_true", help="write no plots")
     run.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
