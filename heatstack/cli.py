@@ -54,6 +54,7 @@ EXAMPLES = {
     "demo": ("demo_rto.toml",),
     "study": ("demo_study.toml", "demo_rto.toml"),
     "api": ("turnaround.py",),
+    "day": ("operations.toml", "flights.csv", "demo_rto.toml"),
 }
 
 
@@ -414,7 +415,7 @@ _EXAMPLES_HELP = {
     "fit": "example: heatstack fit my_case.toml recorded_trace.csv --sensor sensor",
     "study": "example: heatstack study demo_study.toml --workers 2 --report study.md",
     "materials": "example: heatstack materials carbon-carbon",
-    "example": "example: heatstack example study my-study/   (names: demo, study, api)",
+    "example": "example: heatstack example study my-study/   (names: demo, study, api, day)",
     "export": "example: heatstack export results/results.h5 --csv results/csv",
     "calibrate": "example: heatstack calibrate dyno_campaign.toml --out calibrated/",
 }

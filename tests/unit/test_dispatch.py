@@ -333,7 +333,53 @@ def test_cli_bad_input_is_a_heatstack_error_with_exit_2(arrival_file, tmp_path, 
     assert err.count("heatstack: error:") == 4 and "Traceback" not in err
 
 
-@pytest.mark.parametrize("verb", ["cool", "what-if", "wait", "day"])
+def _gauge_csv(arrival_file, times):
+    """Sensor readings of the stored run at ``times`` [s], as a ramp readings CSV beside it."""
+    from heatstack.resultread import read_result
+
+    stored = read_result(arrival_file)
+    values = np.interp(times, stored.times, stored.readings["sensor"])
+    path = arrival_file.parent / "gauge.csv"
+    path.write_text("time_s,temperature_K\n" + "".join(f"{t:g},{v:.4f}\n" for t, v in zip(times, values, strict=True)))
+    return path
+
+
+def test_cli_ramp_finds_the_wait_from_gauge_readings_after_a_known_duty(arrival_file, capsys):
+    # the readings are the stored run's own (a self-consistency check, no source): the fit finds its energy
+    from heatstack.case import load_case
+    from heatstack.cli import main
+
+    case = arrival_file.parent / "case.toml"
+    gauge = _gauge_csv(arrival_file, np.array([180.0, 300.0, 480.0, 590.0]))
+    argv = ["ramp", str(case), str(gauge), "--departure", "50 t, 110 kt", "--heat-sink-limit", "1500degC"]
+    argv += ["--standard-errors", "0", "--max-wait", "1 h", "--tolerance", "300 s", "--after", "10 min"]
+    assert main([*argv, "--workers", "1"]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("CAUTION") and ("limit governs" in out or "safe now" in out)
+    energy = sum(e.energy_per_brake for p in load_case(case).duty.phases for e in p.events)
+    fitted = float(out.split("energy per brake ", 1)[1].split(" MJ", 1)[0]) * 1e6
+    assert fitted == pytest.approx(energy, rel=0.01)
+    assert "sensor reading expected at departure" in out and "heat_sink" not in out
+
+
+def test_cli_ramp_bad_input_is_a_heatstack_error_with_exit_2(arrival_file, tmp_path, capsys):
+    from heatstack.cli import main
+
+    case = arrival_file.parent / "case.toml"
+    gauge = _gauge_csv(arrival_file, np.array([180.0, 300.0]))
+    late = tmp_path / "late.csv"
+    late.write_text("time_min,temperature_degC\n5,200\n900,100\n")
+    departure = ["--departure", "50 t, 110 kt"]
+    assert main(["ramp", str(case), str(tmp_path / "missing.csv"), *departure]) == 2
+    assert main(["ramp", str(case), str(gauge), *departure, "--standard-errors", "-1"]) == 2
+    assert main(["ramp", str(case), str(late), *departure]) == 2
+    assert main(["ramp", str(case), str(gauge), "--departure", "50 t"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("heatstack: error:") == 4 and "Traceback" not in err
+    assert "--standard-errors" in err and "after the end of the case's duty" in err
+
+
+@pytest.mark.parametrize("verb", ["cool", "what-if", "wait", "ramp", "day"])
 def test_cli_help_gives_one_example(verb, capsys):
     from heatstack.cli import main
 
