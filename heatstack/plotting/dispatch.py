@@ -96,6 +96,7 @@ def plot_day(day: DayAnswer, path: str | os.PathLike, unit: str = "degC") -> Pat
             where = "bottom" if m.margin >= 0 else "top"
             low.annotate(series_label(m.governing), (xi, m.margin), fontsize=7, ha="center", va=where)
         low.axhline(0.0, color="k", lw=0.8)
+        low.margins(y=0.25)  # room for the names under (or over) the bars
         low.set_ylabel("margin if rejected [K]")
         low.grid(alpha=0.3)
         axes[-1, 0].set_xlabel("time of day [h]")
