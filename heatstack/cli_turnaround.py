@@ -58,7 +58,7 @@ def _stop(text: str, args: argparse.Namespace, name: str):
 def _print_peaks(peaks, now=None) -> None:
     for name, (value, when) in peaks.items():
         start = f"  (now {now[name] - 273.15:6.1f} degC)" if now else ""
-        print(f"  {name:20s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min{start}")
+        print(f"  {series_label(name):24s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min{start}")
 
 
 def _cmd_cool(args: argparse.Namespace) -> int:
@@ -69,7 +69,19 @@ def _cmd_cool(args: argparse.Namespace) -> int:
     answer = cooling_time_from_state(
         model, state, _environment(args), case.assembly.surfaces, args.series, below=args.below, horizon=args.horizon
     )
-    print(answer.message)
+    name, below = series_label(answer.series), f"{answer.threshold - 273.15:.0f} degC"
+    if not answer.reached:
+        print(
+            f"the {name} is still {answer.final_value - 273.15:.0f} degC after {answer.horizon / 60.0:.0f} min, "
+            f"above {below}: not reached; extend --horizon or improve the cooling (--fan)"
+        )
+    elif answer.time_needed == 0.0:
+        print(f"the {name} stays below {below} throughout (now {answer.start_value - 273.15:.0f} degC)")
+    else:
+        print(
+            f"the {name} falls below {below} after {answer.time_needed / 60.0:.1f} min "
+            f"(now {answer.start_value - 273.15:.0f} degC, peak {answer.peak_value - 273.15:.0f} degC)"
+        )
     return 0
 
 

@@ -319,7 +319,7 @@ def test_cli_cool_prints_the_caution_and_the_answer(arrival_file, capsys):
 
     assert main(["cool", str(arrival_file), "--below", "150degC", "--fan", "5m/s", "--horizon", "3 h"]) == 0
     out = capsys.readouterr().out
-    assert "not certified data" in out and "heat_sink_mean falls below" in out
+    assert "not certified data" in out and "the heat-sink mean falls below 150 degC after" in out
 
 
 def test_cli_bad_input_is_a_heatstack_error_with_exit_2(arrival_file, tmp_path, capsys):
