@@ -55,10 +55,13 @@ def _stop(text: str, args: argparse.Namespace, name: str):
     )
 
 
-def _print_peaks(peaks, now=None) -> None:
+def _print_peaks(peaks, now=None, plugs=()) -> None:
+    """Peaks [K] and their times [s]; a fuse plug's probe is the rim at its seat, and is named so."""
+    seats = {plug.name for plug in plugs}
     for name, (value, when) in peaks.items():
         start = f"  (now {now[name] - 273.15:6.1f} degC)" if now else ""
-        print(f"  {series_label(name):24s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min{start}")
+        label = f"rim at the seat of {name}" if name in seats else series_label(name)
+        print(f"  {label:30s} peak {value - 273.15:7.1f} degC at {when / 60.0:6.1f} min{start}")
 
 
 def _cmd_cool(args: argparse.Namespace) -> int:
@@ -101,7 +104,20 @@ def _cmd_what_if(args: argparse.Namespace) -> int:
         braking_environment=_environment(args, "60 kt"),
     )
     print(f"if a stop of {answer.energy / 1e6:.2f} MJ per brake started now ({state.time / 60.0:.1f} min):")
-    _print_peaks(answer.peaks, answer.now)
+    _print_peaks(answer.peaks, answer.now, case.fuse_plugs)
+    if case.fuse_plugs:  # each plug's own lagged temperature, from where the state left it
+        from dataclasses import replace
+
+        from .answers.fuse_plugs import assess_fuse_plugs
+
+        run = replace(answer.result, initial_plug_temperatures=dict(state.plug_temperatures))
+        for plug in assess_fuse_plugs(run, case.fuse_plugs):
+            released = "releases" if plug.releases else "does not release"
+            print(
+                f"  {plug.name + ' itself':30s} peak {plug.peak - 273.15:7.1f} degC at "
+                f"{(plug.time_of_peak - state.time) / 60.0:6.1f} min; {released} "
+                f"(release {plug.release_temperature - 273.15:.0f} degC, margin {plug.margin:.1f} K)"
+            )
     return 0
 
 
