@@ -33,7 +33,7 @@ from .answers.analysis import (
     threshold_crossings,
 )
 from .answers.fuse_plugs import PlugAnswer, assess_fuse_plugs, plug_temperature
-from .answers.tyre import TyreGas, plug_releases_before_limit, tyre_gas, tyre_pressure_margin
+from .answers.tyre import TyreGas, plug_releases_before_limit, tyre_gas, tyre_pressure_margin, with_tyre_gas_state
 from .builders import FusePlugSpec
 from .errors import InputError
 from .geometry import GLOBAL_SERIES, HEAT_SINK_MEAN
@@ -56,6 +56,7 @@ __all__ = [
     "ReportSettings",
     "build_report",
     "tyre_gas_for",
+    "with_tyre_gas_carried",
     "format_report",
     "CAUTION",
     "PLUG_NOTE",
@@ -396,6 +397,13 @@ def tyre_gas_for(result: Result, settings: ReportSettings) -> TyreGas | None:
         tyre.outer_conductance,
         ambient_pressure=tyre.ambient_pressure,
     )
+
+
+def with_tyre_gas_carried(result: Result, settings: ReportSettings) -> Result:
+    """``result`` whose final state carries the tyre gas temperature (from :func:`tyre_gas_for`) on to a
+    chained run; ``result`` itself without tyre settings or tyre-cavity series."""
+    gas = tyre_gas_for(result, settings)
+    return result if gas is None else with_tyre_gas_state(result, gas)
 
 
 def _tyre_section(result: Result, settings: ReportSettings, plugs: list) -> dict[str, Any] | None:
