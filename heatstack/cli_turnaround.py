@@ -219,9 +219,16 @@ def _answer_wait(args: argparse.Namespace, problem) -> int:
         answer = shortest_safe_wait(problem, args.max_wait, args.tolerance, executor)
     print(answer.message)
     at = answer.at_wait
+    print("if the take-off after that wait is rejected:")
     for name, margin, unit in at.margins:
+        peak = at.peaks.get(name)
+        if peak is None:
+            top = ""
+        else:
+            top = f"peak {peak / 1e5:6.2f} bar gauge, " if unit == "Pa" else f"peak {peak - 273.15:6.1f} degC, "
         shown = f"{margin / 1e5:7.2f} bar" if unit == "Pa" else f"{margin:7.1f} K"
-        print(f"  {series_label(name):24s} margin {shown}" + ("   <- governs" if name == answer.governing else ""))
+        governs = "   <- governs" if name == answer.governing else ""
+        print(f"  {series_label(name):24s} {top}margin {shown}{governs}")
     if at.sensor_at_departure is not None:
         print(f"sensor reading expected at departure: {at.sensor_at_departure - 273.15:.0f} degC")
     if args.plot:
