@@ -5,8 +5,8 @@ results file, ``plot`` a results file, ``export`` a results file as CSV, ``fit``
 energy to a recorded sensor trace, ``calibrate`` a case to measured test traces, run or
 resume a ``study``, list ``materials``, run the ``demo``; from a results
 file's final state: ``cool`` (time to cool below a temperature), ``what-if`` (peaks if a
-stop started now), ``wait`` (the shortest safe wait before a departure); ``day`` runs a
-day of operations.
+stop started now), ``wait`` (the shortest safe wait before a departure); ``ramp`` finds
+that wait from gauge readings after a known duty; ``day`` runs a day of operations.
 
 Exit codes: 0 success, 2 bad input (a heatstack input error), 1 internal error. User
 errors print one clear line, never a traceback.
