@@ -33,7 +33,7 @@ from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.events import BrakingEvent
 from .property_table import forget_warnings
 from .questions.chaining import read_start, run_from_state, state_for_model
-from .report import ReportSettings, TyreSettings
+from .report import ReportSettings, TyreSettings, with_tyre_gas_carried
 from .result import Result, State
 from .units import declared_dimensions
 
@@ -650,6 +650,7 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
             reference_event=case.output.reference_event,
         )
         result = run_from_state(model, schedule, initial, case.fuse_plugs, case.solver, progress)
+        result = with_tyre_gas_carried(result, case.report_settings())  # on to a chained run
     for item in caught:  # shown as before, and kept with the result for its report
         warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
     messages = list(dict.fromkeys(str(item.message) for item in caught))

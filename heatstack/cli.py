@@ -5,8 +5,8 @@ results file, ``plot`` a results file, ``export`` a results file as CSV, ``fit``
 energy to a recorded sensor trace, ``calibrate`` a case to measured test traces, run or
 resume a ``study``, list ``materials``, run the ``demo``; from a results
 file's final state: ``cool`` (time to cool below a temperature), ``what-if`` (peaks if a
-stop started now), ``wait`` (the shortest safe wait before a departure); ``day`` runs a
-day of operations.
+stop started now), ``wait`` (the shortest safe wait before a departure); ``ramp`` finds
+that wait from gauge readings after a known duty; ``day`` runs a day of operations.
 
 Exit codes: 0 success, 2 bad input (a heatstack input error), 1 internal error. User
 errors print one clear line, never a traceback.
@@ -27,6 +27,7 @@ from pathlib import Path
 from . import __version__
 from .atomic import write_file_atomically
 from .cli_fitting import cmd_calibrate, cmd_fit
+from .cli_runplan import PlannedRun, planned_runs
 from .cli_turnaround import add_turnaround_verbs
 from .errors import HeatstackError, InputError, ResultFileError
 from .geometry import HEAT_SINK_MEAN
@@ -59,6 +60,7 @@ EXAMPLES = {
     "demo": ("demo_rto.toml",),
     "study": ("demo_study.toml", "demo_rto.toml"),
     "api": ("turnaround.py",),
+    "day": ("operations.toml", "flights.csv", "demo_rto.toml"),
 }
 
 
@@ -87,16 +89,17 @@ def _figure_thresholds(settings) -> list:
     return lines
 
 
-def _write_plots(result, folder: Path, unit: str, name: str, thresholds: Sequence = ()) -> list[Path]:
-    """Every figure of a run into ``folder``, each file name starting with ``name`` (the case's)."""
+def _write_plots(result, folder: Path, name: str, settings) -> list[Path]:
+    """Every figure of a run into ``folder``, each file name starting with ``name`` (the case's); the
+    report ``settings`` give the unit, the limit lines and the fuse plugs (drawn as their own temperature)."""
     from .plotting import plot_field, plot_histories, plot_sensor_offset, plot_why_the_gauge_lags
 
-    written = [plot_histories(result, folder / f"{name}-histories.png", unit=unit, thresholds=thresholds)]
+    unit, lines, plugs = settings.unit, _figure_thresholds(settings), settings.fuse_plugs
+    written = [plot_histories(result, folder / f"{name}-histories.png", unit=unit, thresholds=lines, plugs=plugs)]
     if "sensor" in result.readings and HEAT_SINK_MEAN in result.series:
         written.append(plot_sensor_offset(result, folder / f"{name}-sensor-offset.png", unit=unit))
-        written.append(
-            plot_why_the_gauge_lags(result, folder / f"{name}-why-the-gauge-lags.png", unit=unit, thresholds=thresholds)
-        )
+        target = folder / f"{name}-why-the-gauge-lags.png"
+        written.append(plot_why_the_gauge_lags(result, target, unit=unit, thresholds=lines, plugs=plugs))
     for t in result.snapshot_times[1:-1]:
         written.append(plot_field(result, folder / f"{name}-field-{t / 60.0:06.1f}min.png", float(t), unit=unit))
     return written
@@ -113,14 +116,14 @@ def _make_folder(folder: Path, what: str) -> Path:
     return folder
 
 
-def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, quiet: bool) -> int:
-    from .case import load_case, run_case
+def _run_case_file(plan: PlannedRun, plots: bool, unit: str | None, quiet: bool, report_name: str = "report") -> int:
+    """Run one planned case: results file, figures, ``report_name``.html and .md, the report printed."""
+    from .case import run_case
     from .report import build_report, format_report
     from .report_html import write_report_files
-    from .resultfile import check_writable, write_result
+    from .resultfile import write_result
 
-    case = load_case(case_path)
-    target = check_writable(out / case.output.file)
+    case_path, case, target, out = plan.case_path, plan.case, plan.target, plan.folder
     model = case.build_model()
     if not quiet:
         print(f"heatstack: {case.title}: {model.n_cells} cells, {len(case.duty.phases)} phases", file=sys.stderr)
@@ -136,13 +139,13 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
         result,
         target,
         case_text=case.text,
-        resolved_inputs={"case": case.resolved(), "report": settings.to_mapping()},
+        resolved_inputs={"case": case.resolved(), "report": settings.to_mapping(), "case_file": case_path.name},
     )
     written = []
     if plots and case.output.plots:
-        written = _write_plots(result, out, settings.unit, case_path.stem, _figure_thresholds(settings))
+        written = _write_plots(result, out, case_path.stem, settings)
     report = build_report(result, settings)
-    html_path, md_path = write_report_files(report, out, written, case.text)
+    html_path, md_path = write_report_files(report, out, written, case.text, report_name)
     print(format_report(report, "text"))
     print(f"results: {target}")
     print(f"report:  {html_path}")
@@ -153,9 +156,14 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
-    case = Path(args.case)
-    out = _make_folder(Path(args.out), "--out folder") if args.out else case.resolve().parent
-    return _run_case_file(case, out, not args.no_plots, args.unit, args.quiet)
+    out = _make_folder(Path(args.out), "--out folder") if args.out else None
+    planned = planned_runs([Path(c) for c in args.case], out)
+    folders = [plan.folder.resolve() for plan in planned]
+    for plan in planned:
+        shared = folders.count(plan.folder.resolve()) > 1  # several cases in one folder: reports carry their names
+        report_name = f"{plan.case_path.stem}-report" if shared else "report"
+        _run_case_file(plan, not args.no_plots, args.unit, args.quiet, report_name)
+    return 0
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
@@ -164,7 +172,8 @@ def _cmd_demo(args: argparse.Namespace) -> int:
         "heatstack demo: an INVENTED rejected take-off on an invented wheel and brake, then parked cooling.",
         file=sys.stderr,
     )
-    return _run_case_file(demo_case_path(), out, True, args.unit, args.quiet)
+    (plan,) = planned_runs([demo_case_path()], out)
+    return _run_case_file(plan, True, args.unit, args.quiet)
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
@@ -264,7 +273,7 @@ def _cmd_plot(args: argparse.Namespace) -> int:
         raise ResultFileError(f"plot folder {str(out)!r} does not exist")
     settings = _settings_from_file(path, args.unit)
     fields = _plot_field_times(result, out, path.stem, settings.unit, args.time or ())
-    written = _write_plots(result, out, settings.unit, path.stem, _figure_thresholds(settings)) + fields
+    written = _write_plots(result, out, path.stem, settings) + fields
     for p in written:
         print(p)
     return 0
@@ -412,7 +421,7 @@ _EXAMPLES_HELP = {
     "fit": "example: heatstack fit my_case.toml recorded_trace.csv --sensor sensor",
     "study": "example: heatstack study demo_study.toml --workers 2 --report study.md",
     "materials": "example: heatstack materials carbon-carbon",
-    "example": "example: heatstack example study my-study/   (names: demo, study, api)",
+    "example": "example: heatstack example study my-study/   (names: demo, study, api, day)",
     "export": "example: heatstack export results/results.h5 --csv results/csv",
     "calibrate": "example: heatstack calibrate dyno_campaign.toml --out calibrated/",
 }
@@ -452,8 +461,12 @@ def _parser() -> argparse.ArgumentParser:
 
 def _add_run_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units: tuple[str, ...]) -> None:
     """The verbs that run or check a case: run, demo, check."""
-    run = verb("run", "run a case file, write the results file and plots, print the report")
-    run.add_argument("case", help="case file (TOML)")
+    run = verb("run", "run case files, write their results files and plots, print the reports")
+    run.add_argument(
+        "case",
+        nargs="+",
+        help="case file(s) (TOML); several cases into one folder name their reports CASE-report.html",
+    )
     run.add_argument("--out", help="folder for results and plots (default: the case file's folder)")
     run.add_argument("--no-plots", action="store_true", help="write no plots")
     run.add_argument("--unit", choices=units, help="temperature unit of the report and plots")

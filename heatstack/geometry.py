@@ -35,6 +35,7 @@ __all__ = [
     "WHEEL_MAX",
     "GLOBAL_SERIES",
     "series_name",
+    "series_label",
     "Part",
     "Contact",
     "Probe",
@@ -97,6 +98,19 @@ HEAT_SINK_MEAN = series_name(HEAT_SINK, "mean")
 HEAT_SINK_MAX = series_name(HEAT_SINK, "max")
 WHEEL_MAX = series_name(WHEEL, "max")
 GLOBAL_SERIES = (HEAT_SINK_MEAN, HEAT_SINK_MAX, WHEEL_MAX)
+_GLOBAL_SERIES_LABELS = {
+    HEAT_SINK_MEAN: "heat-sink mean",
+    HEAT_SINK_MAX: "heat sink, hottest cell",
+    WHEEL_MAX: "wheel, hottest cell",
+}
+
+
+def series_label(name: str) -> str:
+    """How a person reads a recorded name: ``"heat_sink_mean"`` -> ``"heat-sink mean"``,
+    ``"surface:rim bore"`` -> ``"rim bore surface"``; probe names are shown as they are."""
+    if name.startswith("surface:"):
+        return f"{name[len('surface:') :]} surface"
+    return _GLOBAL_SERIES_LABELS.get(name, name)
 
 
 @dataclass(frozen=True)

@@ -33,7 +33,7 @@ from .answers.analysis import (
     threshold_crossings,
 )
 from .answers.fuse_plugs import PlugAnswer, assess_fuse_plugs, plug_temperature
-from .answers.tyre import plug_releases_before_limit, tyre_gas, tyre_pressure_margin
+from .answers.tyre import TyreGas, plug_releases_before_limit, tyre_gas, tyre_pressure_margin, with_tyre_gas_state
 from .builders import FusePlugSpec
 from .errors import InputError
 from .geometry import GLOBAL_SERIES, HEAT_SINK_MEAN
@@ -55,6 +55,8 @@ __all__ = [
     "TyreSettings",
     "ReportSettings",
     "build_report",
+    "tyre_gas_for",
+    "with_tyre_gas_carried",
     "format_report",
     "CAUTION",
     "PLUG_NOTE",
@@ -384,12 +386,25 @@ def _energy_section(result: Result) -> dict[str, Any]:
     }
 
 
-def _tyre_section(result: Result, settings: ReportSettings, plugs: list) -> dict[str, Any] | None:
-    """Tyre gas: peak pressure, the first time the limit is reached and when it falls back."""
+def tyre_gas_for(result: Result, settings: ReportSettings) -> TyreGas | None:
+    """The tyre gas of a run under the report's tyre settings.
+
+    Parameters
+    ----------
+    result : Result
+    settings : ReportSettings
+        Its ``tyre`` and ``cold_temperature`` [K] (the gas starts from the state a chained
+        run carried, else cold).
+
+    Returns
+    -------
+    TyreGas or None
+        None without tyre settings or without the tyre-cavity series.
+    """
     tyre = settings.tyre
     if tyre is None or "surface:tyre cavity" not in result.series:
         return None
-    gas = tyre_gas(
+    return tyre_gas(
         result,
         tyre.cold_pressure,
         tyre.gas_volume,
@@ -399,6 +414,21 @@ def _tyre_section(result: Result, settings: ReportSettings, plugs: list) -> dict
         tyre.outer_conductance,
         ambient_pressure=tyre.ambient_pressure,
     )
+
+
+def with_tyre_gas_carried(result: Result, settings: ReportSettings) -> Result:
+    """``result`` whose final state carries the tyre gas temperature (from :func:`tyre_gas_for`) on to a
+    chained run; ``result`` itself without tyre settings or tyre-cavity series."""
+    gas = tyre_gas_for(result, settings)
+    return result if gas is None else with_tyre_gas_state(result, gas)
+
+
+def _tyre_section(result: Result, settings: ReportSettings, plugs: list) -> dict[str, Any] | None:
+    """Tyre gas: peak pressure, the first time the limit is reached and when it falls back."""
+    gas = tyre_gas_for(result, settings)
+    if gas is None:
+        return None
+    tyre = settings.tyre
     section: dict[str, Any] = {
         "ambient_pressure_Pa": gas.ambient_pressure,
         "cold_pressure_Pa_gauge": gas.cold_pressure - gas.ambient_pressure,

@@ -267,9 +267,13 @@ def _markdown(report: Mapping[str, Any], figures: Sequence[Path], folder: Path) 
 
 
 def write_report_files(
-    report: Mapping[str, Any], folder: str | Path, figures: Sequence[Path] = (), case_text: str = ""
+    report: Mapping[str, Any],
+    folder: str | Path,
+    figures: Sequence[Path] = (),
+    case_text: str = "",
+    name: str = "report",
 ) -> tuple[Path, Path]:
-    """Write ``report.html`` (self-contained) and ``report.md`` (linking the figures) into ``folder``.
+    """Write ``NAME.html`` (self-contained) and ``NAME.md`` (linking the figures) into ``folder``.
 
     Parameters
     ----------
@@ -281,6 +285,8 @@ def write_report_files(
         The figure files of the run.
     case_text : str
         The case file's text.
+    name : str
+        The files' name without suffix (``report``; ``CASE-report`` when several cases share a folder).
 
     Returns
     -------
@@ -296,9 +302,9 @@ def write_report_files(
     page = html_report(report, figures, case_text)
     markdown = _markdown(report, figures, folder)
     html_path = write_file_atomically(
-        folder / "report.html", lambda temp: temp.write_text(page, encoding="utf-8"), "report file"
+        folder / f"{name}.html", lambda temp: temp.write_text(page, encoding="utf-8"), "report file"
     )
     md_path = write_file_atomically(
-        folder / "report.md", lambda temp: temp.write_text(markdown, encoding="utf-8"), "report file"
+        folder / f"{name}.md", lambda temp: temp.write_text(markdown, encoding="utf-8"), "report file"
     )
     return html_path, md_path

@@ -212,11 +212,16 @@ def sensor_sentences(report: Mapping[str, Any]) -> list[str]:
         f"{shown_minutes(s['delay_after_braking_s'])} min after the end of braking "
         f"({shown_minutes(s['conduction_delay_s'])} min of conduction to the sensor location, "
         f"{shown_minutes(s['instrument_delay_s'])} min of instrument lag, time constant {s['time_constant_s']:g} s).",
-        f"At its peak it reads {shown_difference(s['offset_to_heat_sink_mean_at_peak_K'], unit)} {du} against the "
-        f"heat-sink mass-mean and {shown_difference(s['offset_to_hottest_cell_at_peak_K'], unit)} {du} against the "
-        f"hottest heat-sink cell; the largest under-reading is {shown_difference(s['largest_under_reading_K'], unit)} "
-        f"{du}. It first comes within {shown_difference(s['band_K'], unit)} {du} of the mean at {within}.",
+        f"At its peak it reads {_off(s['offset_to_heat_sink_mean_at_peak_K'], unit, du)} the "
+        f"heat-sink mass-mean and {_off(s['offset_to_hottest_cell_at_peak_K'], unit, du)} the "
+        f"hottest heat-sink cell; at worst it reads {_off(s['largest_under_reading_K'], unit, du)} the mean. "
+        f"It first comes within {shown_difference(s['band_K'], unit)} {du} of the mean at {within}.",
     ]
+
+
+def _off(offset: float, unit: str, du: str) -> str:
+    """``reading - reference`` [K] in words: "99.7 K below" or "3.1 K above"."""
+    return f"{shown_difference(abs(offset), unit)} {du} {'below' if offset < 0 else 'above'}"
 
 
 def tyre_sentences(report: Mapping[str, Any]) -> list[str]:

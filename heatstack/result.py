@@ -39,6 +39,9 @@ class State:
         Temperature [K] of each fuse plug (the rim temperature at its probe through the
         plug's own lag) at ``time``; a chained run's fuse-plug answer starts each named
         plug from it instead of in equilibrium with the rim.
+    tyre_gas_temperature : float or None
+        Temperature [K] of the tyre gas at ``time``; a chained run's tyre answer starts the
+        gas from it (so its pressure carries on). None: not known (no tyre settings).
     """
 
     time: float
@@ -46,6 +49,7 @@ class State:
     readings: dict[str, float] = field(default_factory=dict)
     plug_temperatures: dict[str, float] = field(default_factory=dict)
     step: float | None = None
+    tyre_gas_temperature: float | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -142,6 +146,9 @@ class Result:
     initial_plug_temperatures : dict of str to float
         Fuse-plug temperatures [K] at the first record, for a run chained from a state
         that carried them (empty: every plug starts in equilibrium with the rim).
+    initial_tyre_gas_temperature : float or None
+        Tyre gas temperature [K] at the first record, for a run chained from a state that
+        carried it (None: the tyre answer starts the gas at its cold temperature).
     """
 
     times: np.ndarray
@@ -164,6 +171,7 @@ class Result:
     probe_time_constants: dict[str, float] = field(default_factory=dict)
     metadata: dict = field(default_factory=dict)
     initial_plug_temperatures: dict[str, float] = field(default_factory=dict)
+    initial_tyre_gas_temperature: float | None = None
 
     def __post_init__(self) -> None:
         if self.end_of_braking is None:

@@ -53,8 +53,10 @@ variable is named for what it is and carries ``units`` (UDUNITS spelling: "K", "
       lagged_probe(lagged_probe)  probes whose instrument lags (text); reading(lagged_probe) [K]
       plug(plug)              fuse plugs (text); plug_temperature(plug) [K] through each plug's own lag
       step                    scalar [s], optional: the next time step, for a chained run
+      tyre_gas_temperature    scalar [K], optional: the tyre gas, for a chained run's tyre answer
     /initial_plugs
       plug(plug), plug_temperature(plug)  the same at the first record (a run chained from a state)
+      tyre_gas_temperature    scalar [K], optional: the tyre gas at the first record
     /case
       text                    the case file as written by the user (text)
       resolved_inputs         JSON object of the inputs after defaults and unit conversion
@@ -279,6 +281,14 @@ def _write_plug_temperatures(group: h5py.Group, values: Mapping[str, float], whe
     )
 
 
+def _write_tyre_gas(group: h5py.Group, value: float | None, when: str) -> None:
+    """The tyre gas temperature [K] ``when``, if known (a scalar ``tyre_gas_temperature``)."""
+    if value is None:
+        return
+    stored = group.create_dataset("tyre_gas_temperature", data=np.float64(value))
+    stored.attrs.update(units="K", long_name=f"tyre gas temperature {when}")
+
+
 def _coordinate(
     group: h5py.Group, name: str, data: np.ndarray | list[str], units: str | None, long_name: str
 ) -> h5py.Dataset:
@@ -493,6 +503,8 @@ def _write_content(
         step = final.create_dataset("step", data=np.float64(result.final_state.step))
         step.attrs.update(units="s", long_name="next time step, for a run chained from this state")
     _write_plug_temperatures(h5.create_group("initial_plugs"), result.initial_plug_temperatures, "at the first record")
+    _write_tyre_gas(final, result.final_state.tyre_gas_temperature, "at the final time")
+    _write_tyre_gas(h5["initial_plugs"], result.initial_tyre_gas_temperature, "at the first record")
 
     case = h5.create_group("case")
     _text_variable(case, "text", case_text, "the case file as written")

@@ -434,6 +434,7 @@ def _final_state_version_2(rd: _Reader) -> State:
         readings={name: float(v) for name, v in zip(lagged, values, strict=True)},
         plug_temperatures=_plug_temperatures(rd, final),
         step=rd.scalar("step", "s", final) if "step" in final else None,
+        tyre_gas_temperature=_tyre_gas(rd, final),
     )
 
 
@@ -463,6 +464,7 @@ def _read_version_2(rd: _Reader) -> Result:
 
     final_state = _final_state_version_2(rd)
     initial_plugs = _plug_temperatures(rd, rd.h5["initial_plugs"]) if "initial_plugs" in rd.h5 else {}
+    initial_gas = _tyre_gas(rd, rd.h5["initial_plugs"]) if "initial_plugs" in rd.h5 else None
 
     ph = rd.group("phases")
     phase_names = rd.texts("phase", ph)
@@ -494,7 +496,13 @@ def _read_version_2(rd: _Reader) -> Result:
         probe_time_constants=time_constants,
         metadata=rd.json("run_metadata", case),
         initial_plug_temperatures=initial_plugs,
+        initial_tyre_gas_temperature=initial_gas,
     )
+
+
+def _tyre_gas(rd: _Reader, group: h5py.Group) -> float | None:
+    """The tyre gas temperature [K] stored in ``group``; None where absent (no tyre, or files before it was kept)."""
+    return rd.scalar("tyre_gas_temperature", "K", group) if "tyre_gas_temperature" in group else None
 
 
 def _plug_temperatures(rd: _Reader, group: h5py.Group) -> dict[str, float]:

@@ -26,7 +26,14 @@ from .analysis import (
     threshold_crossings,
 )
 from .fuse_plugs import FusePlug, PlugAnswer, assess_fuse_plugs
-from .tyre import TyreGas, bead_seat_margin, plug_releases_before_limit, tyre_gas, tyre_pressure_margin
+from .tyre import (
+    TyreGas,
+    bead_seat_margin,
+    plug_releases_before_limit,
+    tyre_gas,
+    tyre_pressure_margin,
+    with_tyre_gas_state,
+)
 
 __all__ = [
     "CoolingTime",
@@ -46,4 +53,5 @@ __all__ = [
     "threshold_crossings",
     "tyre_gas",
     "tyre_pressure_margin",
+    "with_tyre_gas_state",
 ]

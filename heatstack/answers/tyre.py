@@ -19,7 +19,7 @@ per kilogram of nitrogen, against tens of kJ/K in a wheel and more in a heat sin
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -41,6 +41,7 @@ from .analysis import (
 from .fuse_plugs import PlugAnswer
 
 __all__ = [
+    "with_tyre_gas_state",
     "NITROGEN_GAS_CONSTANT",
     "NITROGEN_CV",
     "TyreGas",
@@ -277,7 +278,8 @@ def tyre_gas(
     ambient_pressure : float or str
         [Pa]; 101325 Pa by default.
     initial_temperature : float or str, optional
-        Gas temperature at the first record [K].
+        Gas temperature at the first record [K]; by default the one a chained run's state
+        carried (``result.initial_tyre_gas_temperature``), else ``cold_temperature``.
     gas_constant, cv : float
         Specific gas constant and specific heat at constant volume [J/(kg K)]; nitrogen by
         default (296.8 and 743, from memory).
@@ -320,7 +322,8 @@ def tyre_gas(
     t_cold = quantity(cold_temperature, "temperature", "cold_temperature", **positive)
     t_amb = t_cold if ambient is None else quantity(ambient, "temperature", "ambient", **positive)
     if initial_temperature is None:
-        t_init = t_cold
+        carried = result.initial_tyre_gas_temperature
+        t_init = t_cold if carried is None else float(carried)
     else:
         t_init = quantity(initial_temperature, "temperature", "initial_temperature", **positive)
     quantity(gas_constant, "specific_heat", "gas_constant", **positive)
@@ -352,6 +355,33 @@ def tyre_gas(
         heat_absorbed=float(mass * cv * (np.max(gas) - gas[0])),
         outer_conductance=g_out,
     )
+
+
+def with_tyre_gas_state(result: Result, gas: TyreGas) -> Result:
+    """``result`` whose final state carries the gas temperature at its end, for a chained run.
+
+    Parameters
+    ----------
+    result : Result
+        The run ``gas`` was computed from.
+    gas : TyreGas
+        From :func:`tyre_gas` on ``result``.
+
+    Returns
+    -------
+    Result
+        A copy whose ``final_state.tyre_gas_temperature`` is the gas temperature [K] at the
+        last record; a run chained from that state starts its gas there.
+
+    Raises
+    ------
+    InputError
+        If ``gas`` does not end at the result's final time.
+    """
+    if not isinstance(gas, TyreGas) or abs(float(gas.times[-1]) - float(result.final_state.time)) > 1e-6:
+        raise InputError("with_tyre_gas_state: the tyre gas must be computed from this result")
+    state = replace(result.final_state, tyre_gas_temperature=float(gas.temperature[-1]))
+    return replace(result, final_state=state)
 
 
 def tyre_pressure_margin(gas: TyreGas, limit: Any, gauge: bool = True) -> PressureMargin:

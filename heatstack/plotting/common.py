@@ -386,6 +386,8 @@ def new_figure(width: float, height: float) -> Figure:
 def add_foot_legend(fig: Figure, handles: list, labels: list[str], columns: int = 4) -> None:
     """A legend in rows under the axes, above the caption, the layout shrunk to leave it room.
 
+At most ``columns`` columns, fewer when the longest label would not fit the figure's width.
+
     Parameters
     ----------
     fig : matplotlib.figure.Figure
@@ -399,7 +401,8 @@ def add_foot_legend(fig: Figure, handles: list, labels: list[str], columns: int 
     """
     if not handles:
         return
-    columns = min(columns, len(handles))
+    column_width = 40.0 + 4.4 * max(len(label) for label in labels)  # [points] at font size 8
+    columns = max(1, min(columns, len(handles), int(fig.get_figwidth() * 72.0 // column_width)))
     rows = -(-len(handles) // columns)
     height = fig.get_figheight()
     strip = _CAPTION_STRIP / height

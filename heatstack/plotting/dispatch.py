@@ -14,26 +14,42 @@ from pathlib import Path
 
 import numpy as np
 
+from ..answers.fuse_plugs import as_fuse_plug, plug_temperature
 from ..errors import InputError
-from ..geometry import HEAT_SINK_MEAN
+from ..geometry import HEAT_SINK_MEAN, WHEEL_MAX, series_label
 from ..questions.day import DayAnswer
 from ..questions.safe_wait import WaitAnswer
-from .common import check_unit, figure_target, new_figure, save_figure, to_temperature_unit
+from .common import check_unit, figure_target, new_figure, save_figure, series_kind, style_for, to_temperature_unit
 
 __all__ = ["plot_day", "plot_wait_margin"]
 
-_SHOWN = ("sensor", HEAT_SINK_MEAN, "wheel_max")
+_SHOWN = ("sensor", HEAT_SINK_MEAN, WHEEL_MAX)
+
+
+def _leg_curves(leg, plugs) -> list[tuple[str, str, np.ndarray]]:
+    """(style name, legend label, temperature [K]) of each curve of one leg: the sensor reading, the
+    heat-sink mean, the hottest wheel cell, then each fuse plug as its own lagged temperature (or,
+    without its plug record, its probe: the rim at the seat)."""
+    curves = [(n, "sensor reading" if n == "sensor" else series_label(n), leg.history(n)) for n in _SHOWN
+              if n in leg.readings or n in leg.series]  # fmt: skip
+    by_name = {as_fuse_plug(p).name: as_fuse_plug(p) for p in plugs}
+    for name in (n for n in leg.readings if n in by_name or series_kind(n) == "fuse_plug"):
+        plug = by_name.get(name)
+        if plug is None:
+            curves.append((name, f"rim at the seat of {name}", leg.readings[name]))
+        else:
+            curves.append((name, f"{name} itself (lag {plug.time_constant:.0f} s)", plug_temperature(leg, plug)))
+    return curves
 
 
 def _day_lines(ax, day: DayAnswer, unit: str) -> None:
     for k, flight in enumerate(day.flights):
         for leg in (flight.arrival, flight.departure):
             hours = leg.times / 3600.0
-            names = [n for n in _SHOWN if n in leg.readings or n in leg.series]
-            names += [p for p in leg.probes if p.startswith("fuse plug")]
-            for i, name in enumerate(names):
-                label = name if k == 0 and leg is flight.arrival else None
-                ax.plot(hours, to_temperature_unit(leg.history(name), unit), color=f"C{i}", lw=1.2, label=label)
+            for name, text, values in _leg_curves(leg, day.plugs):
+                colour, dashes, width = style_for(name)
+                label = text if k == 0 and leg is flight.arrival else None
+                ax.plot(hours, to_temperature_unit(values, unit), color=colour, ls=dashes, lw=width, label=label)
         ax.axvline(flight.departure_state.time / 3600.0, color="0.4", ls="--", lw=0.8)
         ax.text(
             flight.departure_state.time / 3600.0, 1.0, f" dep. {flight.flight.number}",
@@ -84,8 +100,10 @@ def plot_day(day: DayAnswer, path: str | os.PathLike, unit: str = "degC") -> Pat
         y = [m[1].margin for m in margins]
         low.bar(x, y, width=0.08, color=["C2" if v >= 0 else "C3" for v in y])
         for xi, (_, m) in zip(x, margins, strict=True):
-            low.annotate(m.governing, (xi, m.margin), fontsize=7, ha="center", va="bottom" if m.margin >= 0 else "top")
+            where = "bottom" if m.margin >= 0 else "top"
+            low.annotate(series_label(m.governing), (xi, m.margin), fontsize=7, ha="center", va=where)
         low.axhline(0.0, color="k", lw=0.8)
+        low.margins(y=0.25)  # room for the names under (or over) the bars
         low.set_ylabel("margin if rejected [K]")
         low.grid(alpha=0.3)
         axes[-1, 0].set_xlabel("time of day [h]")
@@ -127,7 +145,7 @@ def plot_wait_margin(answer: WaitAnswer, path: str | os.PathLike) -> Path:
     ax.axvline(answer.wait / 60.0, color="C3", ls="--", label=f"shortest safe wait {answer.wait / 60.0:.1f} min")
     ax.set_xlabel("wait before departure [min]")
     ax.set_ylabel("margin if the take-off is rejected")
-    ax.set_title(f"governed by {answer.governing}", fontsize=10)
+    ax.set_title(f"governed by the {series_label(answer.governing)} limit", fontsize=10)
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3)
     return save_figure(fig, target, fmt)

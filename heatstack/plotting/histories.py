@@ -9,10 +9,12 @@ from __future__ import annotations
 import os
 from collections.abc import Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 from matplotlib.figure import Figure
 
+from ..answers.fuse_plugs import FusePlug, as_fuse_plug, plug_temperature
 from ..errors import InputError
 from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX
 from ..result import Result
@@ -26,12 +28,16 @@ from .common import (
     minutes_text,
     new_figure,
     save_figure,
+    series_kind,
     style_for,
     to_difference_unit,
     to_temperature_unit,
 )
 from .labels import LabelPlacer
 from .timeaxis import PHASE_FILLS, Curve, Panel, draw_curves, panel_at, shade_phases, time_panels
+
+if TYPE_CHECKING:
+    from ..builders import FusePlugSpec
 
 __all__ = ["plot_histories", "plot_sensor_offset", "plot_why_the_gauge_lags"]
 
@@ -43,8 +49,10 @@ _SERIES_LABELS = {
 
 
 # --------------------------------------------------------------------------- shared pieces
-def _history_label(result: Result, name: str) -> str:
+def _history_label(result: Result, name: str, sensor: str = "sensor") -> str:
     if name in result.readings:
+        if series_kind(name, sensor) == "fuse_plug":  # a plug's probe reads the rim at the plug's seat
+            return f"rim at the seat of {name}"
         tau = result.probe_time_constants.get(name, 0.0)
         return f"{name} (reading, lag {tau:.0f} s)" if tau > 0 else name
     if name.startswith("surface:"):
@@ -52,9 +60,45 @@ def _history_label(result: Result, name: str) -> str:
     return _SERIES_LABELS.get(name, name)
 
 
-def _history_curve(result: Result, name: str, unit: str, sensor: str = "sensor") -> Curve:
+def _plug_label(plug: FusePlug) -> str:
+    if plug.time_constant > 0:
+        return f"{plug.name} itself (lag {plug.time_constant:.0f} s)"
+    return f"{plug.name} itself (follows the rim)"
+
+
+def _history_curve(
+    result: Result, name: str, unit: str, sensor: str = "sensor", plugs: dict[str, FusePlug] | None = None
+) -> Curve:
+    """The curve of a probe reading or series; a fuse plug's probe draws the plug's own lagged temperature."""
     colour, dashes, width = style_for(name, sensor)
-    return Curve(_history_label(result, name), to_temperature_unit(result.history(name), unit), colour, dashes, width)
+    plug = (plugs or {}).get(name)
+    if plug is not None:
+        values = to_temperature_unit(plug_temperature(result, plug), unit)
+        return Curve(_plug_label(plug), values, colour, dashes, width, "plug ")
+    return Curve(
+        _history_label(result, name, sensor), to_temperature_unit(result.history(name), unit), colour, dashes, width
+    )
+
+
+def _rim_at_seat_curve(result: Result, plug: FusePlug, unit: str, sensor: str) -> Curve:
+    """The rim temperature at a plug's seat: thin, dotted, in the plug's colour, its peak not marked."""
+    colour = style_for(plug.name, sensor)[0]
+    values = to_temperature_unit(result.probes[plug.name], unit)
+    return Curve(f"rim at the seat of {plug.name}", values, colour, (0, (1, 1.5)), 0.9, mark_peak=False)
+
+
+def _check_plugs(result: Result, plugs) -> dict[str, FusePlug]:
+    """The fuse plugs by probe name; InputError for a wrong record or a plug whose probe the result lacks."""
+    if plugs is None:
+        return {}
+    out = {}
+    for item in [plugs] if not isinstance(plugs, list | tuple) else plugs:
+        plug = as_fuse_plug(item)
+        if plug.name not in result.readings:
+            known = sorted(result.readings)
+            raise InputError(f"plugs: no probe named {plug.name!r} for the fuse plug; known probes: {known}")
+        out[plug.name] = plug
+    return out
 
 
 def _title(fig: Figure, text: str, key: str) -> None:
@@ -201,6 +245,7 @@ def plot_histories(
     names: Sequence[str] | None = None,
     unit: str = "degC",
     thresholds: Sequence[Threshold] | None = None,
+    plugs: Sequence[FusePlug | FusePlugSpec] | None = None,
 ) -> Path:
     """Plot probe readings and global series against time, duty phases shaded, peaks marked.
 
@@ -221,6 +266,10 @@ def plot_histories(
         Temperature unit of the axis.
     thresholds : sequence of Threshold, optional
         Release temperatures and limits [K]; those of drawn series are drawn as lines.
+    plugs : sequence of FusePlug or FusePlugSpec, optional
+        The design's fuse plugs: each plug's probe is drawn as the plug's own lagged
+        temperature (the one its release and peak are judged on, as in the report).
+        Without them, a fuse plug's probe is drawn as what it reads, the rim at the seat.
 
     Returns
     -------
@@ -230,7 +279,7 @@ def plot_histories(
     Raises
     ------
     InputError
-        Unknown name, unit or file suffix.
+        Unknown name, unit, file suffix, or a plug whose probe the result lacks.
     ResultFileError
         The folder does not exist or the file cannot be written.
     """
@@ -238,6 +287,7 @@ def plot_histories(
     check_result(result)
     symbol = check_unit(unit)
     thresholds = _check_thresholds(thresholds)
+    by_name = _check_plugs(result, plugs)
     if names is None:
         names = [*result.readings, *(n for n in (HEAT_SINK_MEAN, HEAT_SINK_MAX) if n in result.series)]
     elif isinstance(names, str):
@@ -245,7 +295,7 @@ def plot_histories(
     names = list(dict.fromkeys(names))
     if not names:
         raise InputError("plot_histories: no probe or series names to plot")
-    curves = [_history_curve(result, name, unit) for name in names]
+    curves = [_history_curve(result, name, unit, plugs=by_name) for name in names]
 
     fig = new_figure(10.0, 5.6)
     panels = time_panels(fig, result)[0]
@@ -366,6 +416,7 @@ def plot_why_the_gauge_lags(
     sensor: str = "sensor",
     unit: str = "degC",
     thresholds: Sequence[Threshold] | None = None,
+    plugs: Sequence[FusePlug | FusePlugSpec] | None = None,
 ) -> Path:
     """Show on one time axis how heat soaks from the heat sink to the sensor and the wheel.
 
@@ -390,6 +441,10 @@ def plot_why_the_gauge_lags(
         Temperature unit of the axis.
     thresholds : sequence of Threshold, optional
         Release temperatures and limits [K]; those of drawn series are drawn as lines.
+    plugs : sequence of FusePlug or FusePlugSpec, optional
+        The design's fuse plugs: each drawn plug is the plug's own lagged temperature, with
+        the rim at its seat as a thin dotted line of the same colour (its peak not marked).
+        Without them, a fuse plug's probe is drawn as what it reads, the rim at the seat.
 
     Returns
     -------
@@ -399,7 +454,8 @@ def plot_why_the_gauge_lags(
     Raises
     ------
     InputError
-        Unknown sensor or name, missing series, unknown unit or suffix.
+        Unknown sensor or name, missing series, unknown unit or suffix, or a plug whose
+        probe the result lacks.
     ResultFileError
         The folder does not exist or the file cannot be written.
     """
@@ -408,7 +464,7 @@ def plot_why_the_gauge_lags(
     symbol = check_unit(unit)
     thresholds = _check_thresholds(thresholds)
     wheel_default = names is None
-    curves, extra = _gauge_lag_curves(result, names, sensor, unit)
+    curves, extra = _gauge_lag_curves(result, names, sensor, unit, _check_plugs(result, plugs))
 
     fig = new_figure(10.0, 5.8)
     panels = time_panels(fig, result)[0]
@@ -440,18 +496,19 @@ def plot_why_the_gauge_lags(
 
 
 def _gauge_lag_curves(
-    result: Result, names: Sequence[str] | str | None, sensor: str, unit: str
+    result: Result, names: Sequence[str] | str | None, sensor: str, unit: str, plugs: dict[str, FusePlug]
 ) -> tuple[list[Curve], list[str]]:
     """Curves of the gauge-lag figure, and the names of the further histories among them.
 
     First the heat-sink mean, the local temperature at the sensor and its reading; then ``names`` (by
-    default the hottest wheel cell and the fuse plugs), leaving out the sensor and the heat-sink mean.
+    default the hottest wheel cell and the fuse plugs), leaving out the sensor and the heat-sink mean;
+    each of ``plugs`` drawn is its own temperature, followed by the rim at its seat.
     """
     reading = _probe_reading(result, sensor)
     mean = _series(result, HEAT_SINK_MEAN)
     if names is None:
         names = [n for n in (WHEEL_MAX,) if n in result.series]
-        names += [n for n in result.readings if n.startswith("fuse plug")]
+        names += [n for n in result.readings if n in plugs or series_kind(n, sensor) == "fuse_plug"]
     elif isinstance(names, str):
         names = [names]
     extra = [n for n in dict.fromkeys(names) if n not in (sensor, HEAT_SINK_MEAN)]
@@ -468,7 +525,10 @@ def _gauge_lag_curves(
         ),
         Curve(f"{sensor} reading", to_temperature_unit(reading, unit), *style_for(sensor, sensor), "reading "),
     ]
-    curves += [_history_curve(result, name, unit, sensor) for name in extra]
+    for name in extra:
+        curves.append(_history_curve(result, name, unit, sensor, plugs))
+        if name in plugs:
+            curves.append(_rim_at_seat_curve(result, plugs[name], unit, sensor))
     return curves, extra
 
 

@@ -248,5 +248,9 @@ def run_from_state(
     """
     result = model.run(schedule, initial, options, progress)
     if isinstance(initial, State):
-        result = replace(result, initial_plug_temperatures=dict(initial.plug_temperatures))
+        result = replace(
+            result,
+            initial_plug_temperatures=dict(initial.plug_temperatures),
+            initial_tyre_gas_temperature=initial.tyre_gas_temperature,
+        )
     return replace(result, final_state=state_with_plugs(result, plugs))

@@ -36,13 +36,14 @@ as one duty, for checking the chain against a run in one piece.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 from ..answers.fuse_plugs import assess_fuse_plugs
+from ..answers.tyre import TyreGas, tyre_gas, with_tyre_gas_state
 from ..builders import FusePlugSpec
 from ..errors import InputError
-from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, SurfaceGroup
+from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX, SurfaceGroup, series_label
 from ..model import Model
 from ..numerics.solver import SolverOptions
 from ..operations.atmosphere import isa_pressure
@@ -427,7 +428,7 @@ class FlightAnswer:
 
 @dataclass(frozen=True, eq=False)
 class DayAnswer:
-    """The day, flight by flight.
+    """The day, flight by flight, and the fuse plugs of its design (their own temperatures are its plugs' answers).
 
     Attributes
     ----------
@@ -435,13 +436,16 @@ class DayAnswer:
         Title of the day.
     flights : tuple of FlightAnswer
         The answers of each flight.
+    plugs : tuple of FusePlugSpec
+        The fuse plugs of the design, whose own (lagged) temperatures the answers report.
     """
 
     title: str
     flights: tuple[FlightAnswer, ...]
+    plugs: tuple[FusePlugSpec, ...] = ()
 
     def summary_lines(self) -> list[str]:
-        """The per-flight peaks and departures in words [degC, bar].
+        """The per-flight peaks and departures in words [degC, bar]; each fuse plug once, its own temperature.
 
         Returns
         -------
@@ -453,38 +457,50 @@ class DayAnswer:
             f = answer.flight
             lines.append(f"flight {f.number}: arrival at {f.arrival_time / 3600.0:.2f} h, {f.arrival_mass / 1e3:.0f} t")
             for name, (value, when) in answer.peaks.items():
-                shown = f"{value / 1e5:7.2f} bar" if name == "tyre pressure" else f"{value - 273.15:7.1f} degC"
-                lines.append(f"  {name:20s} peak {shown} at {when / 3600.0:6.2f} h")
+                shown = f"{value / 1e5:7.2f} bar gauge" if name == "tyre pressure" else f"{value - 273.15:7.1f} degC"
+                lines.append(f"  {series_label(name):24s} peak {shown} at {when / 3600.0:6.2f} h")
             sensor = answer.departure_state.readings.get("sensor")
             if sensor is not None:
                 lines.append(f"  departure: sensor reads {sensor - 273.15:.0f} degC")
             m = answer.departure_margin
             if m is not None:
-                lines.append(f"  if this take-off were rejected: {m.governing} governs, margin {m.margin:.1f}")
+                unit = dict((name, unit) for name, _, unit in m.margins).get(m.governing, "K")
+                shown = f"{m.margin / 10.0:.2f} bar" if unit == "Pa" else f"{m.margin:.1f} K"
+                governs = f"the {series_label(m.governing)} limit governs"
+                lines.append(f"  if this take-off were rejected: {governs}, margin {shown}")
         return lines
 
 
 def _leg_peaks(result: Result, plan: DayPlan, peaks: dict[str, tuple[float, float]]) -> None:
-    names = [*result.readings, *(s for s in (HEAT_SINK_MEAN, HEAT_SINK_MAX, "wheel_max") if s in result.series)]
+    """The leg's peaks into ``peaks``: each fuse plug once, as its own lagged temperature (its
+    probe reads the rim at its seat, which ``wheel_max`` covers), then the other readings and series."""
+    plugs = assess_fuse_plugs(result, plan.plugs) if plan.plugs else []
+    found = {plug.name: (plug.peak, plug.time_of_peak) for plug in plugs}
+    names = [*result.readings, *(s for s in (HEAT_SINK_MEAN, HEAT_SINK_MAX, WHEEL_MAX) if s in result.series)]
     for name in names:
-        value, when = result.peak(name)
+        if name not in found:
+            found[name] = result.peak(name)
+    for name, (value, when) in found.items():
         if name not in peaks or value > peaks[name][0]:
             peaks[name] = (value, when)
-    for plug in assess_fuse_plugs(result, plan.plugs) if plan.plugs else []:
-        key = f"{plug.name} (plug)"
-        if key not in peaks or plug.peak > peaks[key][0]:
-            peaks[key] = (plug.peak, plug.time_of_peak)
 
 
-def _tyre_peak(plan: DayPlan, legs: list[Result], peaks: dict[str, tuple[float, float]]) -> None:
-    from ..answers.tyre import tyre_gas
+def _with_tyre_gas(plan: DayPlan, leg: Result) -> tuple[Result, TyreGas | None]:
+    """The leg with its final state carrying the tyre gas on, and the gas; (leg, None) without a tyre.
 
+    The gas starts from the state the leg was chained from (the one-piece day's gas carries on)."""
     t = plan.tyre
-    for leg in legs:
-        gas = tyre_gas(
-            leg, t.cold_pressure, t.gas_volume, t.cavity_area, t.h_cavity, plan.initial_temperature,
-            t.outer_conductance, initial_temperature=float(leg.series["surface:tyre cavity"][0]),
-        )  # fmt: skip
+    if t is None or "surface:tyre cavity" not in leg.series:
+        return leg, None
+    gas = tyre_gas(
+        leg, t.cold_pressure, t.gas_volume, t.cavity_area, t.h_cavity, plan.initial_temperature,
+        t.outer_conductance, ambient_pressure=t.ambient_pressure,
+    )  # fmt: skip
+    return with_tyre_gas_state(leg, gas), gas
+
+
+def _tyre_peak(gases: list[TyreGas], peaks: dict[str, tuple[float, float]]) -> None:
+    for gas in gases:
         peak = gas.peak_pressure - gas.ambient_pressure
         if "tyre pressure" not in peaks or peak > peaks["tyre pressure"][0]:
             peaks["tyre pressure"] = (peak, gas.time_of_peak)
@@ -522,23 +538,26 @@ def run_day(plan: DayPlan) -> DayAnswer:
     check_timing(plan)
     state: float | State = plan.initial_temperature
     start = plan.flights[0].arrival_time
-    # every leg lands on the one-piece day's breakpoints (event ends meeting the next phase
-    # add close pairs there), so the chain steps exactly as the day run in one piece
-    reference = day_duty(plan).schedule(plan.surfaces, start=start).breakpoints()
+    # every leg reads the one-piece day's power: the sum of the events smooths each inner step of
+    # power over a short ramp whose width depends on every knot of the day, and a leg summing its
+    # own events alone would step at its first event instead (another input, and a solver that
+    # restarts its step there). With the day's power the leg lands on the day's breakpoints and
+    # steps exactly as the day run in one piece.
+    day_power = day_duty(plan).schedule(plan.surfaces, start=start).power
     answers = []
     for k, flight in enumerate(plan.flights):
-        legs = []
+        legs: list[Result] = []
+        gases: list[TyreGas] = []
         for phases in (arrival_phases(plan, flight), departure_phases(plan, k)):
-            end = start + sum(p.duration for p in phases)
-            inside = reference[(reference > start) & (reference < end)]
-            schedule = DutyCycle(phases).schedule(plan.surfaces, start=start, extra_breakpoints=inside)
-            legs.append(run_from_state(plan.model, schedule, state, plan.plugs, plan.options))
+            schedule = replace(DutyCycle(phases).schedule(plan.surfaces, start=start), power=day_power)
+            leg, gas = _with_tyre_gas(plan, run_from_state(plan.model, schedule, state, plan.plugs, plan.options))
+            legs.append(leg)
+            gases += [gas] if gas is not None else []
             state, start = legs[-1].final_state, legs[-1].final_state.time
         peaks: dict[str, tuple[float, float]] = {}
         for leg in legs:
             _leg_peaks(leg, plan, peaks)
-        if plan.tyre is not None and "surface:tyre cavity" in legs[0].series:
-            _tyre_peak(plan, legs, peaks)
+        _tyre_peak(gases, peaks)
         departure_state = legs[0].final_state
         answers.append(FlightAnswer(flight, peaks, departure_state, _departure_margin(plan, k, departure_state), *legs))
-    return DayAnswer(plan.title, tuple(answers))
+    return DayAnswer(plan.title, tuple(answers), tuple(plan.plugs))

@@ -32,10 +32,10 @@ import numpy as np
 from scipy.optimize import brentq
 
 from ..answers.fuse_plugs import FusePlug, assess_fuse_plugs
-from ..answers.tyre import tyre_gas
+from ..answers.tyre import TyreGas, tyre_gas, with_tyre_gas_state
 from ..builders import FusePlugSpec
 from ..errors import HeatstackError, InputError
-from ..geometry import HEAT_SINK_MAX, SurfaceGroup
+from ..geometry import HEAT_SINK_MAX, SurfaceGroup, series_label
 from ..model import Model
 from ..numerics.solver import SolverOptions
 from ..operations.duty import DutyCycle, DutyPhase, Environment
@@ -60,6 +60,12 @@ __all__ = [
 _SCALE = {"K": 1.0, "Pa": 1.0e4}
 #: Waits sampled to bracket the root, as fractions of ``max_wait`` (0 first).
 _LADDER = (0.0, 1 / 24, 1 / 12, 1 / 6, 1 / 3, 2 / 3, 1.0)
+
+
+def _gas_start(result: Result) -> float:
+    """Tyre gas temperature [K] at the departure's start: the one its state carried, else the rim inside the tyre."""
+    carried = result.initial_tyre_gas_temperature
+    return float(result.series["surface:tyre cavity"][0]) if carried is None else float(carried)
 
 
 class NoSafeWaitError(InputError):
@@ -225,7 +231,24 @@ def _departure_state(problem: WaitProblem, wait: float, base: WaitSample | None)
     dep = problem.departure
     duty = DutyCycle([DutyPhase("wait", wait - waited, dep.environment, clamped=dep.clamped_while_waiting)])
     schedule = duty.schedule(problem.surfaces, start=float(start.time))
-    return run_from_state(problem.model, schedule, start, problem.limits.plugs, problem.options).final_state
+    waited_run = run_from_state(problem.model, schedule, start, problem.limits.plugs, problem.options)
+    if problem.limits.tyre is not None and "surface:tyre cavity" in waited_run.series:  # the gas carries on
+        waited_run = with_tyre_gas_state(waited_run, _tyre_gas(problem.limits.tyre, waited_run))
+    return waited_run.final_state
+
+
+def _tyre_gas(tyre: TyreCheck, result: Result) -> TyreGas:
+    """The tyre gas over ``result``, from the gas temperature its state carried (else the rim inside the tyre)."""
+    return tyre_gas(
+        result,
+        tyre.cold_pressure,
+        tyre.gas_volume,
+        tyre.cavity_area,
+        tyre.h_cavity,
+        tyre.cold_temperature,
+        tyre.outer_conductance,
+        initial_temperature=_gas_start(result),
+    )
 
 
 def _departure_duty(problem: WaitProblem) -> DutyCycle:
@@ -251,20 +274,10 @@ def _margins(problem: WaitProblem, result: Result) -> tuple[list[tuple[str, floa
         peaks[limits.heat_sink_series] = peak
         margins.append((limits.heat_sink_series, limits.heat_sink_limit - peak, "K"))
     if limits.tyre is not None:
-        tyre = limits.tyre
-        gas = tyre_gas(
-            result,
-            tyre.cold_pressure,
-            tyre.gas_volume,
-            tyre.cavity_area,
-            tyre.h_cavity,
-            tyre.cold_temperature,
-            tyre.outer_conductance,
-            initial_temperature=float(result.series["surface:tyre cavity"][0]),
-        )
+        gas = _tyre_gas(limits.tyre, result)
         peak = gas.peak_pressure - gas.ambient_pressure
         peaks["tyre pressure"] = peak
-        margins.append(("tyre pressure", tyre.pressure_limit - peak, "Pa"))
+        margins.append(("tyre pressure", limits.tyre.pressure_limit - peak, "Pa"))
     return margins, peaks
 
 
@@ -395,11 +408,11 @@ def _no_wait(problem: WaitProblem, last: WaitSample, max_wait: float) -> NoSafeW
     if cold.margin < 0:
         return NoSafeWaitError(
             f"no wait is long enough: even from ambient ({problem.departure.environment.ambient_temperature:.2f} K) "
-            f"the rejected take-off breaks the {cold.governing} limit (margin {cold.margin:.2f}); "
+            f"the rejected take-off breaks the {series_label(cold.governing)} limit (margin {cold.margin:.2f}); "
             "the limit is exceeded even from a cold wheel"
         )
     return NoSafeWaitError(
-        f"no safe wait within max_wait {max_wait:g} s: after it the {last.governing} margin is still "
+        f"no safe wait within max_wait {max_wait:g} s: after it the {series_label(last.governing)} margin is still "
         f"{last.margin:.2f} (from ambient it would be {cold.margin:.2f}); give a longer max_wait"
     )
 
@@ -483,9 +496,9 @@ def shortest_safe_wait(
 
 def _answer(problem: WaitProblem, best: WaitSample, samples: list[WaitSample], step: float) -> WaitAnswer:
     at = best if best.result is not None else evaluate_wait(problem, best.wait, keep_result=True)
-    wait = at.wait
+    wait, governing = at.wait, series_label(at.governing)
     if wait == 0.0:
-        message = f"safe now: the rejected take-off keeps every limit (least margin: {at.governing}, {at.margin:.1f})"
+        message = f"safe now: the rejected take-off keeps every limit (least margin: {governing}, {at.margin:.1f})"
     else:
-        message = f"wait at least {wait / 60.0:.1f} min (to within {step:g} s): the {at.governing} limit governs"
+        message = f"wait at least {wait / 60.0:.1f} min (to within {step:g} s): the {governing} limit governs"
     return WaitAnswer(wait, at.governing, at, tuple(samples), step, message)

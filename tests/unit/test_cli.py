@@ -41,6 +41,39 @@ def test_plot_writes_into_an_existing_folder(small_run, capsys):
     assert "histories.png" in capsys.readouterr().out
 
 
+def test_two_cases_of_one_run_writing_one_results_file_is_an_error_naming_both(tmp_path, capsys):
+    first, second = tmp_path / "first.toml", tmp_path / "second.toml"
+    first.write_text(SMALL)
+    second.write_text(SMALL)
+    assert main(["run", str(first), str(second), "--quiet", "--no-plots"]) == 2
+    err = capsys.readouterr().err
+    assert "first.toml" in err and "second.toml" in err and "results.h5" in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["first.toml", "second.toml"]  # nothing written
+
+
+def test_a_case_never_overwrites_the_results_file_another_case_wrote(tmp_path, capsys):
+    first, second = tmp_path / "first.toml", tmp_path / "second.toml"
+    first.write_text(SMALL)
+    second.write_text(SMALL)
+    assert main(["run", str(first), "--quiet", "--no-plots"]) == 0
+    before = (tmp_path / "results.h5").read_bytes()
+    assert main(["run", str(second), "--quiet", "--no-plots"]) == 2
+    err = capsys.readouterr().err
+    assert "first.toml" in err and "second.toml" in err
+    assert (tmp_path / "results.h5").read_bytes() == before
+    assert main(["run", str(first), "--quiet", "--no-plots"]) == 0  # the same case may run again
+
+
+def test_several_cases_of_distinct_results_files_run_into_one_folder_with_their_own_reports(tmp_path, capsys):
+    first, second = tmp_path / "first.toml", tmp_path / "second.toml"
+    first.write_text(SMALL)
+    second.write_text(SMALL.replace("[case]", '[output]\nfile = "second.h5"\n\n[case]', 1))
+    out = tmp_path / "out"
+    assert main(["run", str(first), str(second), "--out", str(out), "--quiet", "--no-plots"]) == 0
+    names = sorted(p.name for p in out.iterdir())
+    assert names == ["first-report.html", "first-report.md", "results.h5", "second-report.html", "second-report.md", "second.h5"]
+
+
 def test_check_prints_cells_and_draws_the_layout(tmp_path, capsys):
     case = tmp_path / "small.toml"
     case.write_text(SMALL)

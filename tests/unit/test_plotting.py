@@ -9,6 +9,7 @@ import matplotlib
 import pytest
 
 from heatstack import FixedConvection, Model, Phase, PowerHistory, Schedule, SolverOptions
+from heatstack.answers.fuse_plugs import FusePlug, plug_temperature
 from heatstack.builders import build_wheel_brake
 from heatstack.errors import InputError, ResultFileError
 from heatstack.plotting import (
@@ -85,6 +86,32 @@ def test_histories_default_names_skip_surface_series(run, tmp_path):
     with matplotlib.rc_context({"svg.fonttype": "none"}):
         text = plot_histories(run[2], tmp_path / "h.svg").read_text(encoding="utf-8")
     assert "fuse plug 1" in text and "heat-sink mean" in text and "rim bore surface" not in text
+
+
+def test_a_fuse_plug_is_drawn_as_its_own_lagged_temperature_with_its_own_peak(run, tmp_path):
+    result = run[2]
+    plug = FusePlug("fuse plug 1", 450.15, 5.0, 900.0)  # a slow plug, invented
+    own = plug_temperature(result, plug)
+    assert own.max() < result.readings[plug.name].max() - 2.0  # the lag shows: the rim's peak is another number
+    for draw in (plot_histories, plot_why_the_gauge_lags):
+        with matplotlib.rc_context({"svg.fonttype": "none"}):
+            text = draw(result, tmp_path / "h.svg", plugs=[plug]).read_text(encoding="utf-8")
+        assert f"{plug.name} itself (lag {plug.time_constant:.0f} s)" in text
+        assert f"plug {own.max() - 273.15:.0f} °C at" in text
+        assert ">fuse plug 1<" not in text  # never a bare plug name on a rim curve
+
+
+def test_a_fuse_plug_probe_without_its_plug_is_labelled_the_rim_at_its_seat(run, tmp_path):
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        text = plot_histories(run[2], tmp_path / "h.svg").read_text(encoding="utf-8")
+    assert "rim at the seat of fuse plug 1" in text and "itself" not in text
+
+
+def test_a_plug_whose_probe_the_result_lacks_is_an_input_error(run, tmp_path):
+    stray = FusePlug("fuse plug 9", 450.0, 5.0)
+    with pytest.raises(InputError, match="fuse plug 9"):
+        plot_histories(run[2], tmp_path / "h.png", plugs=[stray])
+    assert list(tmp_path.iterdir()) == []
 
 
 def test_an_existing_figure_is_replaced(run, tmp_path):
