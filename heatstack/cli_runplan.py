@@ -45,7 +45,19 @@ def writer_of(results: Path) -> str | None:
 
 @dataclass(frozen=True)
 class PlannedRun:
-    """One case of a ``run``: its file, the loaded case, its results file and its output folder."""
+    """One case of a ``run``: its file, the loaded case, its results file and its output folder.
+
+    Attributes
+    ----------
+    case_path : pathlib.Path
+        The case file.
+    case : Case
+        The case as read and checked.
+    target : pathlib.Path
+        The results file it will write.
+    folder : pathlib.Path
+        The output folder for its results, figures and reports.
+    """
 
     case_path: Path
     case: Case

@@ -107,7 +107,18 @@ _GLOBAL_SERIES_LABELS = {
 
 def series_label(name: str) -> str:
     """How a person reads a recorded name: ``"heat_sink_mean"`` -> ``"heat-sink mean"``,
-    ``"surface:rim bore"`` -> ``"rim bore surface"``; probe names are shown as they are."""
+    ``"surface:rim bore"`` -> ``"rim bore surface"``; probe names are shown as they are.
+
+    Parameters
+    ----------
+    name : str
+        A recorded series name (a global series, ``surface:GROUP`` or a probe name).
+
+    Returns
+    -------
+    str
+        The label shown in reports, figures and verb output.
+    """
     if name.startswith("surface:"):
         return f"{name[len('surface:') :]} surface"
     return _GLOBAL_SERIES_LABELS.get(name, name)

@@ -418,7 +418,20 @@ def tyre_gas_for(result: Result, settings: ReportSettings) -> TyreGas | None:
 
 def with_tyre_gas_carried(result: Result, settings: ReportSettings) -> Result:
     """``result`` whose final state carries the tyre gas temperature (from :func:`tyre_gas_for`) on to a
-    chained run; ``result`` itself without tyre settings or tyre-cavity series."""
+    chained run; ``result`` itself without tyre settings or tyre-cavity series.
+
+    Parameters
+    ----------
+    result : Result
+        A finished run.
+    settings : ReportSettings
+        The report settings holding the tyre inputs (cold pressure, gas volume, conductances).
+
+    Returns
+    -------
+    Result
+        ``result`` with the tyre gas temperature [K] in its final state, or ``result`` unchanged.
+    """
     gas = tyre_gas_for(result, settings)
     return result if gas is None else with_tyre_gas_state(result, gas)
 

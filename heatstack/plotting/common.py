@@ -386,7 +386,7 @@ def new_figure(width: float, height: float) -> Figure:
 def add_foot_legend(fig: Figure, handles: list, labels: list[str], columns: int = 4) -> None:
     """A legend in rows under the axes, above the caption, the layout shrunk to leave it room.
 
-At most ``columns`` columns, fewer when the longest label would not fit the figure's width.
+    At most ``columns`` columns, fewer when the longest label would not fit the figure's width.
 
     Parameters
     ----------
