@@ -375,6 +375,22 @@ def _solver(t: CaseTable) -> SolverOptions:
         raise InputError(f"{t.path}: {exc}") from exc
 
 
+def _plain_file_name(t: CaseTable, key: str, default: str) -> str:
+    """A file name inside the output folder: no folder part, no ``..``, no absolute path, no NUL."""
+    name = t.text(key, default)
+    shown = name if len(name) <= 80 else name[:77] + "..."
+    if "\0" in name:
+        raise InputError(f"{t.where(key)}: {shown!r} holds a null byte; give a plain file name such as 'results.h5'")
+    if not name.strip() or name in (".", "..") or "/" in name or "\\" in name or Path(name).is_absolute():
+        raise InputError(
+            f"{t.where(key)}: {shown!r} is not a plain file name; the file is written inside the output "
+            "folder (--out), so give a name such as 'results.h5' without a folder, '..' or drive"
+        )
+    if name.startswith(".") and name.endswith(".tmp"):
+        raise InputError(f"{t.where(key)}: {shown!r} looks like one of heatstack's temporary files; choose another")
+    return name
+
+
 def _output(t: CaseTable) -> OutputSettings:
     unit = t.text("temperature_unit", "degC")
     if unit not in ("degC", "degF", "K"):
@@ -382,7 +398,7 @@ def _output(t: CaseTable) -> OutputSettings:
     limits_table = t.table("limits", {})
     limits = {k: limits_table.quantity(k) for k in limits_table.data}
     out = OutputSettings(
-        t.text("file", "results.h5"),
+        _plain_file_name(t, "file", "results.h5"),
         t.boolean("plots", True),
         unit,
         limits,

@@ -107,7 +107,26 @@ def _make_folder(folder: Path, what: str) -> Path:
     return folder
 
 
-def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, quiet: bool) -> int:
+def _check_outputs(case, case_path: Path, out: Path, target: Path, plots: bool) -> None:
+    """Before the run: refuse now, not after the solve, to replace a file heatstack did not write."""
+    from .own_files import check_replaceable
+
+    check_replaceable(target, "results file")
+    for name in ("report.html", "report.md"):
+        check_replaceable(out / name, "report file")
+    if plots and case.output.plots:
+        for suffix in ("histories", "sensor-offset", "why-the-gauge-lags"):
+            check_replaceable(out / f"{case_path.stem}-{suffix}.png", "figure file")
+
+
+def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, quiet: bool, force: bool = False) -> int:
+    from .own_files import replacing_own_files_only
+
+    with replacing_own_files_only(force):
+        return _run_and_write(case_path, out, plots, unit, quiet, force)
+
+
+def _run_and_write(case_path: Path, out: Path, plots: bool, unit: str | None, quiet: bool, force: bool) -> int:
     from .case import load_case, run_case
     from .report import build_report, format_report
     from .report_html import write_report_files
@@ -115,6 +134,13 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
 
     case = load_case(case_path)
     target = check_writable(out / case.output.file)
+    if target.parent != out.absolute() and Path(os.path.realpath(target.parent)) != Path(os.path.realpath(out)):
+        raise InputError(
+            f"output.file: {case.output.file!r} is a link to a file outside the output folder {str(out)!r}; "
+            "heatstack writes only inside it"
+        )
+    if not force:
+        _check_outputs(case, case_path, out, target, plots)
     model = case.build_model()
     if not quiet:
         print(f"heatstack: {case.title}: {model.n_cells} cells, {len(case.duty.phases)} phases", file=sys.stderr)
@@ -149,7 +175,7 @@ def _run_case_file(case_path: Path, out: Path, plots: bool, unit: str | None, qu
 def _cmd_run(args: argparse.Namespace) -> int:
     case = Path(args.case)
     out = _make_folder(Path(args.out), "--out folder") if args.out else case.resolve().parent
-    return _run_case_file(case, out, not args.no_plots, args.unit, args.quiet)
+    return _run_case_file(case, out, not args.no_plots, args.unit, args.quiet, args.force)
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
@@ -158,14 +184,22 @@ def _cmd_demo(args: argparse.Namespace) -> int:
         "heatstack demo: an INVENTED rejected take-off on an invented wheel and brake, then parked cooling.",
         file=sys.stderr,
     )
-    return _run_case_file(demo_case_path(), out, True, args.unit, args.quiet)
+    return _run_case_file(demo_case_path(), out, True, args.unit, args.quiet, args.force)
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
     from .case import load_case
+    from .own_files import check_replaceable, replacing_own_files_only
     from .plotting import plot_layout
 
     case = load_case(args.case)
+    if args.layout:
+        layout = Path(args.layout)
+    else:
+        folder = _make_folder(Path(args.out), "--out folder") if args.out else Path(args.case).resolve().parent
+        layout = folder / Path(args.case).with_suffix(".layout.png").name
+    if not args.force:
+        check_replaceable(layout, "layout figure")
     model = case.build_model()
     print(f"{case.title}")
     print(CAUTION)
@@ -198,8 +232,8 @@ def _cmd_check(args: argparse.Namespace) -> int:
                 _print_ground_roll(event.ground_roll)
     if model.heat_sink_mass is not None:
         print(f"heat-sink mass: {model.heat_sink_mass:.2f} kg")
-    layout = Path(args.layout) if args.layout else Path(args.case).with_suffix(".layout.png")
-    print(f"layout: {plot_layout(case.assembly, layout, model.grid)}")
+    with replacing_own_files_only(args.force):
+        print(f"layout: {plot_layout(case.assembly, layout, model.grid)}")
     return 0
 
 
@@ -249,6 +283,7 @@ def _cmd_report(args: argparse.Namespace) -> int:
 
 
 def _cmd_plot(args: argparse.Namespace) -> int:
+    from .own_files import replacing_own_files_only
     from .resultread import read_result
 
     path = Path(args.results)
@@ -257,8 +292,9 @@ def _cmd_plot(args: argparse.Namespace) -> int:
     if not out.is_dir():
         raise ResultFileError(f"plot folder {str(out)!r} does not exist")
     settings = _settings_from_file(path, args.unit)
-    fields = _plot_field_times(result, out, path.stem, settings.unit, args.time or ())
-    written = _write_plots(result, out, settings.unit, path.stem, _figure_thresholds(settings)) + fields
+    with replacing_own_files_only(args.force):
+        fields = _plot_field_times(result, out, path.stem, settings.unit, args.time or ())
+        written = _write_plots(result, out, settings.unit, path.stem, _figure_thresholds(settings)) + fields
     for p in written:
         print(p)
     return 0
@@ -285,11 +321,13 @@ def _plot_field_times(result, out: Path, name: str, unit: str, minutes: Sequence
 
 
 def _cmd_study(args: argparse.Namespace) -> int:
-    from .studies import LocalExecutor, load_study, run_study, sensitivity, study_report
-    from .studies.plots import plot_margin_histogram, plot_tornado
+    from .own_files import check_replaceable, replacing_own_files_only
+    from .studies import LocalExecutor, load_study, run_study, study_report
 
     study = load_study(args.study)
     store = Path(args.store) if args.store else Path(args.study).with_suffix(".store")
+    if args.report and not args.force:
+        check_replaceable(Path(args.report), "report file")  # before the study, not after it
     executor = args.scheduler or LocalExecutor(workers=args.workers)
     try:
         run = run_study(
@@ -309,6 +347,16 @@ def _cmd_study(args: argparse.Namespace) -> int:
     )
     report = study_report(run.table, temperature_unit=args.unit)
     print(report)
+    with replacing_own_files_only(args.force):
+        _write_study_outputs(args, run, report, store)
+    return 0
+
+
+def _write_study_outputs(args: argparse.Namespace, run, report: str, store: Path) -> None:
+    """The study's Markdown report (``--report``) and its margin histogram and tornado."""
+    from .studies import sensitivity
+    from .studies.plots import plot_margin_histogram, plot_tornado
+
     if args.report:
         text = report
         write_file_atomically(args.report, lambda temp: temp.write_text(text, encoding="utf-8"), "report file")
@@ -321,7 +369,6 @@ def _cmd_study(args: argparse.Namespace) -> int:
             print(f"no sensitivity tornado: {exc}")
         else:
             print(f"plot: {plot_tornado(ranking, plots / 'sensitivity-tornado.png')}")
-    return 0
 
 
 def _cmd_export(args: argparse.Namespace) -> int:
@@ -397,6 +444,8 @@ def _cmd_example(args: argparse.Namespace) -> int:
     return 0
 
 
+_FORCE_HELP = "replace existing files that heatstack did not write (by default they are left alone)"
+
 _EXAMPLES_HELP = {
     "run": "example: heatstack run my_case.toml --out results/",
     "demo": "example: heatstack demo --out heatstack-demo",
@@ -451,16 +500,20 @@ def _add_run_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units: t
     run.add_argument("--out", help="folder for results and plots (default: the case file's folder)")
     run.add_argument("--no-plots", action="store_true", help="write no plots")
     run.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
+    run.add_argument("--force", action="store_true", help=_FORCE_HELP)
     run.set_defaults(func=_cmd_run)
 
     demo = verb("demo", "run the invented demonstration case")
     demo.add_argument("--out", default="heatstack-demo", help="folder for results and plots (default: %(default)s)")
     demo.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
+    demo.add_argument("--force", action="store_true", help=_FORCE_HELP)
     demo.set_defaults(func=_cmd_demo)
 
     check = verb("check", "validate a case, list its parts and cells, draw its layout")
     check.add_argument("case")
-    check.add_argument("--layout", help="PNG or SVG file for the r-z layout (default: CASE.layout.png)")
+    check.add_argument("--layout", help="PNG or SVG file for the r-z layout (default: CASE.layout.png in --out)")
+    check.add_argument("--out", help="folder for the layout figure (default: the case file's folder)")
+    check.add_argument("--force", action="store_true", help=_FORCE_HELP)
     check.set_defaults(func=_cmd_check)
 
 
@@ -482,6 +535,7 @@ def _add_result_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units
         help="map the field at the stored snapshot nearest this time [min]; the file is named by that snapshot",
     )
     plot.add_argument("--unit", choices=units)
+    plot.add_argument("--force", action="store_true", help=_FORCE_HELP)
     plot.set_defaults(func=_cmd_plot)
 
     export = verb("export", "write the histories and the energy ledger of a results file as CSV (units in the header)")
@@ -523,6 +577,7 @@ def _add_study_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units:
     study.add_argument("--report", help="also write the study report (Markdown) to this file")
     study.add_argument("--plots", help="folder for the margin histogram and tornado (default: the store)")
     study.add_argument("--unit", choices=units, default="degC")
+    study.add_argument("--force", action="store_true", help=_FORCE_HELP)
     study.set_defaults(func=_cmd_study)
 
 
