@@ -22,7 +22,7 @@ import numpy as np
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
 from .case_keys import EVENT_KINDS, ROLL_RECORDS
-from .case_table import CaseTable
+from .case_table import ABOVE_ZERO, CaseTable
 from .errors import HeatstackError, InputError, ScheduleError
 from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .material_files import material_from_mapping
@@ -396,13 +396,13 @@ def _output(t: CaseTable) -> OutputSettings:
     if unit not in ("degC", "degF", "K"):
         raise InputError(f"{t.where('temperature_unit')}: expected 'degC', 'degF' or 'K', got {unit!r}")
     limits_table = t.table("limits", {})
-    limits = {k: limits_table.quantity(k) for k in limits_table.data}
+    limits = {k: limits_table.quantity(k, **ABOVE_ZERO) for k in limits_table.data}
     out = OutputSettings(
         _plain_file_name(t, "file", "results.h5"),
         t.boolean("plots", True),
         unit,
         limits,
-        t.quantity("cooling_below", None),
+        t.quantity("cooling_below", None, **ABOVE_ZERO),
         t.text("cooling_series", HEAT_SINK_MEAN),
         t.text("reference_event", None),
     )
@@ -431,7 +431,9 @@ def _tyre(t: CaseTable, built: BuiltWheelBrake | None, duty: DutyCycle) -> TyreS
     try:
         return TyreSettings(**values)
     except InputError as exc:
-        raise InputError(f"{t.path}: {exc}") from exc
+        message = str(exc)
+        own = "tyre: "
+        raise InputError(f"tyre.{message[len(own) :]}" if message.startswith(own) else f"{t.path}: {message}") from exc
 
 
 def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> Case:
@@ -472,9 +474,9 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     root = CaseTable(data, "", ())
     head = root.table("case", {})
     title = head.text("title", "untitled case")
-    initial = head.quantity("initial_temperature", 288.15)
+    initial = head.quantity("initial_temperature", 288.15, **ABOVE_ZERO)
     initial_state = head.text("initial_state", None)
-    initial_state_time = head.quantity("initial_state_time", None)
+    initial_state_time = head.quantity("initial_state_time", None, minimum=0.0)
     if initial_state is not None:
         initial_state = str(base / initial_state)
     elif initial_state_time is not None:
@@ -510,7 +512,8 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
             close = difflib.get_close_matches(name, sorted(known), n=1)
             hint = f"; did you mean {close[0]!r}?" if close else ""
             raise InputError(f"output.limits.{name}: no probe or series of that name{hint}")
-    return Case(
+    _check_cooling_series(output, known | {f"surface:{s.name}" for s in assembly.surfaces})
+    case = Case(
         title,
         assembly,
         built,
@@ -528,6 +531,21 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
         initial_state,
         initial_state_time,
     )
+    case.report_settings()  # everything the report will use is checked now, before any solve
+    return case
+
+
+def _check_cooling_series(output: OutputSettings, known: set[str]) -> None:
+    """The cooling-time series must be one the run will record (probe, cell group or surface)."""
+    if output.cooling_below is None:
+        return
+    name = output.cooling_series
+    if name in known:
+        return
+    close = difflib.get_close_matches(name, sorted(known), n=1)
+    names = sorted(known)
+    hint = f"; did you mean {close[0]!r}?" if close else f"; known: {', '.join(names[:8])}{' ...' * (len(names) > 8)}"
+    raise InputError(f"output.cooling_series: no probe or series named {name[:80]!r}{hint}")
 
 
 def load_case(path: str | Path) -> Case:

@@ -20,6 +20,14 @@ from .units import declared_dimensions, quantity
 __all__ = ["CaseTable"]
 
 _REQUIRED = object()
+#: An absolute temperature: above 0 K.
+ABOVE_ZERO = {"minimum": 0.0, "exclusive_minimum": True}
+
+
+def _shown(value: Any) -> str:
+    """``value`` for a message: its repr, cut to about 80 characters."""
+    text = repr(value)
+    return text if len(text) <= 80 else text[:77] + "..."
 
 
 class CaseTable:
@@ -47,13 +55,13 @@ class CaseTable:
     def text(self, key: str, default: Any = _REQUIRED) -> str:
         value = self.raw(key, default)
         if value is not default and not isinstance(value, str):
-            raise InputError(f"{self.where(key)}: expected a string, got {value!r}")
+            raise InputError(f"{self.where(key)}: expected a string, got {_shown(value)}")
         return value
 
     def boolean(self, key: str, default: Any = _REQUIRED) -> bool:
         value = self.raw(key, default)
         if value is not default and not isinstance(value, bool):
-            raise InputError(f"{self.where(key)}: expected true or false, got {value!r}")
+            raise InputError(f"{self.where(key)}: expected true or false, got {_shown(value)}")
         return value
 
     def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0) -> int:
@@ -61,23 +69,26 @@ class CaseTable:
         if value is default:
             return value
         if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
-            raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {value!r}")
+            raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {_shown(value)}")
         return value
 
-    def quantity(self, key: str, default: Any = _REQUIRED) -> float:
-        """The value at ``key`` in SI, in the dimension declared for it (:func:`key_dimension`)."""
+    def quantity(self, key: str, default: Any = _REQUIRED, **bounds: Any) -> float:
+        """The value at ``key`` in SI, in the dimension declared for it (:func:`key_dimension`).
+
+        ``bounds`` (``minimum``, ``exclusive_minimum``, ``maximum``) are checked in SI.
+        """
         value = self.raw(key, default)
         if value is default:
             return value
-        return self.convert(value, (*self.tokens, key), self.where(key))
+        return self.convert(value, (*self.tokens, key), self.where(key), **bounds)
 
-    def convert(self, value: Any, tokens: tuple[str | int, ...], where: str) -> float:
+    def convert(self, value: Any, tokens: tuple[str | int, ...], where: str, **bounds: Any) -> float:
         dimension = key_dimension(tokens)
         if dimension is None:
             raise InputError(f"{where}: no physical dimension is declared for this key")
         if isinstance(value, bool) or not isinstance(value, int | float | str):
-            raise InputError(f"{where}: expected a number or a quantity such as '20 mm', got {value!r}")
-        return quantity(value, dimension, where)
+            raise InputError(f"{where}: expected a number or a quantity such as '20 mm', got {_shown(value)}")
+        return quantity(value, dimension, where, **bounds)
 
     def declared(self, cls: type, names: tuple[str, ...] | None = None) -> dict[str, float]:
         """The keys of this table that are declared fields of ``cls`` (or ``names`` of them), in SI.

@@ -205,7 +205,36 @@ def _to_json(value: Mapping | None, what: str) -> str:
         return "{}"
     if not isinstance(value, Mapping):
         raise ResultFileError(f"{what} must be a mapping, got {type(value).__name__}")
-    return json.dumps(_plain(value, what), ensure_ascii=False, sort_keys=False)
+    plain = _plain(value, what)
+    try:
+        return json.dumps(plain, ensure_ascii=False, sort_keys=False, allow_nan=False)
+    except ValueError:
+        raise ResultFileError(f"{what}: holds a NaN or an infinity, which a results file never stores") from None
+
+
+def _first_non_finite(result: Result) -> str | None:
+    """The name of the first computed history or state of ``result`` that holds NaN or infinity.
+
+    Void cells of the field snapshots are NaN by design and not counted.
+    """
+    arrays: list[tuple[str, Any]] = [("times", result.times), ("snapshot_times", result.snapshot_times)]
+    arrays += [(f"probe {name!r}", values) for name, values in result.probes.items()]
+    arrays += [(f"reading {name!r}", values) for name, values in result.readings.items()]
+    arrays += [(f"series {name!r}", values) for name, values in result.series.items()]
+    arrays += [(f"ledger {name}", getattr(result.ledger, name, ())) for name in LEDGER_ACCOUNTS]
+    arrays += [("final state", result.final_state.temperature)]
+    arrays += [(f"final reading {name!r}", v) for name, v in result.final_state.readings.items()]
+    arrays += [(f"final plug temperature {name!r}", v) for name, v in result.final_state.plug_temperatures.items()]
+    for name, values in arrays:
+        values = np.asarray(values)
+        if values.dtype.kind in "fc" and not np.all(np.isfinite(values)):
+            return name
+    snapshots = np.asarray(result.snapshots)
+    part_map = np.asarray(result.part_map)
+    if snapshots.ndim == 3 and snapshots.shape[1:] == part_map.shape and snapshots.dtype.kind == "f":
+        if not np.all(np.isfinite(snapshots[:, part_map >= 0])):
+            return "field snapshots"
+    return None
 
 
 # --------------------------------------------------------------------------- writing
@@ -556,6 +585,9 @@ def write_result(
         raise ResultFileError(f"compression must be one of {list(_COMPRESSIONS)}, got {compression!r}")
     if not isinstance(case_text, str):
         raise ResultFileError(f"case_text must be a str, got {type(case_text).__name__}")
+    bad = _first_non_finite(result)
+    if bad is not None:
+        raise ResultFileError(f"results file {str(path)[:80]!r} not written: the {bad} holds a NaN or an infinity")
     inputs_json = _to_json(resolved_inputs, "resolved_inputs")
     metadata_json = _to_json(result.metadata, "result.metadata")
     target = check_writable(path)
