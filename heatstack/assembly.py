@@ -257,7 +257,14 @@ class Assembly:
         raise GeometryError(f"no part named {name!r}")
 
     def owner_of(self, probe: Probe) -> Part:
-        """The part that contains ``probe`` (its declared part if given)."""
+        """The part that contains ``probe`` (its declared part if given).
+
+        Raises
+        ------
+        GeometryError
+            If the probe lies outside its declared part, outside every part, or (with no
+            part declared) on the boundary of two or more parts, naming them.
+        """
         if probe.part is not None:
             part = self.part(probe.part)
             if not part.contains(probe.r, probe.z):
@@ -268,6 +275,12 @@ class Assembly:
         owners = [p for p in self.parts if p.contains(probe.r, probe.z)]
         if not owners:
             raise GeometryError(f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m lies outside every part")
+        if len(owners) > 1:  # on a boundary: the parts may be at very different temperatures
+            names = " and ".join(repr(p.name) for p in owners)
+            raise GeometryError(
+                f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m lies on the boundary of parts {names}; "
+                "say which it reads with part = one of them"
+            )
         return owners[0]
 
     def surface_group(self, part: Part, side: str) -> str:

@@ -349,7 +349,26 @@ def _cmd_study(args: argparse.Namespace) -> int:
     print(report)
     with replacing_own_files_only(args.force):
         _write_study_outputs(args, run, report, store)
+    _fail_if_nothing_finished(run.table)
     return 0
+
+
+def _fail_if_nothing_finished(table, shown: int = 3) -> None:
+    """StudyError (exit 1) when cases failed and none finished, with the first reasons."""
+    from .errors import StudyError
+
+    counts = table.counts()
+    if not counts["failed"] or counts["ok"]:
+        return
+    failed = [k for k, status in enumerate(table["status"]) if status == "failed"]
+    reasons = []
+    for index in failed[:shown]:
+        text = str(table["error"][index] or "no error text").strip().splitlines() or ["no error text"]
+        first = text[0] if len(text[0]) <= 160 else text[0][:157] + "..."
+        reasons.append(f"case {index}: {first}")
+    raise StudyError(
+        f"all {counts['failed']} cases of the study failed, none finished; the first: " + "; ".join(reasons)
+    )
 
 
 def _write_study_outputs(args: argparse.Namespace, run, report: str, store: Path) -> None:
