@@ -107,9 +107,11 @@ def as_path(path: Any) -> Path:
     """``path`` as a :class:`Path`, or a ResultFileError for anything that is not a path."""
     if isinstance(path, str | os.PathLike):
         text = os.fspath(path)
-        if isinstance(text, str) and text:
+        if isinstance(text, str) and text and "\0" not in text:
             return Path(text)
-    raise ResultFileError(f"a results file path must be a non-empty str or Path, got {path!r}")
+    shown = repr(path)
+    shown = shown if len(shown) <= 80 else shown[:77] + "..."
+    raise ResultFileError(f"a results file path must be a non-empty str or Path without null bytes, got {shown}")
 
 
 def write_target(path: Path) -> Path:

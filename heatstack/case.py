@@ -457,12 +457,20 @@ def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> C
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{origin}: not valid TOML: {exc}") from None
+    except RecursionError:
+        raise InputError(f"{origin}: tables or arrays are nested too deeply to read") from None
     try:
         return case_from_mapping(data, text, origin, Path(base))
     except InputError as exc:
         raise type(exc)(f"{origin}: {exc}") from None
     except HeatstackError as exc:
         raise InputError(f"{origin}: {exc}") from None
+    except RecursionError:
+        raise InputError(f"{origin}: tables or arrays are nested too deeply to read") from None
+    except (TypeError, OverflowError, KeyError, IndexError, AttributeError) as exc:
+        # a value of a type no reader above expected (a list where a name belongs ...)
+        detail = str(exc) if len(str(exc)) <= 80 else str(exc)[:77] + "..."
+        raise InputError(f"{origin}: a value has the wrong type or size ({type(exc).__name__}: {detail})") from None
 
 
 def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
@@ -478,6 +486,8 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     initial_state = head.text("initial_state", None)
     initial_state_time = head.quantity("initial_state_time", None, minimum=0.0)
     if initial_state is not None:
+        if "\0" in initial_state or not initial_state.strip():
+            raise InputError("case.initial_state: not a file name (empty, or holds a null byte)")
         initial_state = str(base / initial_state)
     elif initial_state_time is not None:
         raise InputError("case.initial_state_time: needs case.initial_state (the earlier results file)")
@@ -574,8 +584,8 @@ def load_case(path: str | Path) -> Case:
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError:
         raise InputError(f"case file {str(path)!r} does not exist") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"case file {str(path)!r} cannot be read: {exc}") from None
+    except (OSError, UnicodeDecodeError, ValueError) as exc:  # ValueError: a null byte in the path
+        raise InputError(f"case file {str(path)[:80]!r} cannot be read: {str(exc)[:80]}") from None
     return parse_case(text, path.name, path.parent)
 
 

@@ -628,25 +628,122 @@ def _set_logging(verbose: bool, quiet: bool) -> None:
         logger.addHandler(handler)
 
 
+#: The longest error message printed [characters]: a message quoting a huge input is cut.
+_MESSAGE_LIMIT = 600
+
+
+def _one_line(exc: BaseException) -> str:
+    """The message of ``exc``, cut to :data:`_MESSAGE_LIMIT` characters."""
+    text = str(exc) or type(exc).__name__
+    if len(text) > _MESSAGE_LIMIT:
+        text = f"{text[: _MESSAGE_LIMIT - 60]} ... ({len(text) - _MESSAGE_LIMIT + 60} characters not shown)"
+    return text
+
+
+def _save_traceback(exc: BaseException) -> Path | None:
+    """Write the traceback of an unexpected error to a new file in the temporary folder; its path."""
+    import tempfile
+    import time
+    import traceback
+
+    text = f"heatstack {__version__}, {time.strftime('%Y-%m-%dT%H:%M:%SZ', time.gmtime())}\n"
+    text += f"command: heatstack {' '.join(sys.argv[1:])[:2000]}\n\n"
+    text += "".join(traceback.format_exception(type(exc), exc, exc.__traceback__))
+    try:
+        handle, name = tempfile.mkstemp(prefix="heatstack-traceback-", suffix=".txt")
+        with os.fdopen(handle, "w", encoding="utf-8") as out:
+            out.write(text)
+    except OSError:
+        return None
+    return Path(name)
+
+
+def _catch_termination() -> Callable[[], None]:
+    """Make SIGTERM and SIGHUP exits Python sees (SystemExit), so temporary files are removed.
+
+    Returns the function that puts the previous handlers back. A process forked from this
+    one (a local study worker) keeps the default: it dies at once, as before.
+    """
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return lambda: None
+    owner = os.getpid()
+
+    def on_terminate(signum, frame) -> None:
+        if os.getpid() != owner:
+            signal.signal(signum, signal.SIG_DFL)
+            os.kill(os.getpid(), signum)
+            return
+        raise SystemExit(128 + signum)
+
+    previous = {}
+    for name in ("SIGTERM", "SIGHUP"):
+        number = getattr(signal, name, None)
+        if number is not None and signal.getsignal(number) in (signal.SIG_DFL, None):
+            previous[number] = signal.signal(number, on_terminate)
+
+    def restore() -> None:
+        for number, handler in previous.items():
+            signal.signal(number, handler)
+
+    return restore
+
+
+def _exit_code(exc: BaseException) -> tuple[int, str]:
+    """The exit code and the one line printed for an exception that reached the command line."""
+    if isinstance(exc, InputError | ResultFileError):
+        return 2, f"heatstack: error: {_one_line(exc)}"
+    if isinstance(exc, HeatstackError):
+        return 1, f"heatstack: failed: {_one_line(exc)}"
+    if isinstance(exc, RecursionError):
+        return 2, "heatstack: error: an input is nested too deeply to read"
+    if isinstance(exc, MemoryError):
+        return 1, "heatstack: failed: out of memory; an input size (cells, cases, snapshots) is too large"
+    if isinstance(exc, OverflowError):
+        return 2, f"heatstack: error: a number in the input is too large ({_one_line(exc)[:80]})"
+    if isinstance(exc, SystemError) and "gstrf" in str(exc):
+        return 1, "heatstack: failed: the sparse linear solver refused the matrix (the grid is too fine or too large)"
+    if isinstance(exc, UnicodeError):
+        return 2, f"heatstack: error: a file or name is not valid text ({_one_line(exc)[:80]})"
+    if isinstance(exc, ValueError) and "null byte" in str(exc):
+        return 2, "heatstack: error: a path holds a null byte"
+    if isinstance(exc, OSError):
+        where = f" {str(exc.filename)[:80]!r}" if getattr(exc, "filename", None) else ""
+        return 2, f"heatstack: error: cannot use{where}: {exc.strerror or _one_line(exc)[:80]}"
+    saved = _save_traceback(exc)
+    where = f"; the traceback is saved in {saved}" if saved else ""
+    return 1, (f"heatstack: internal error: {type(exc).__name__}: {_one_line(exc)[:120]} - please report it{where}")
+
+
 def main(argv: Sequence[str] | None = None) -> int:
-    """Run the command line; return the exit code."""
+    """Run the command line; return the exit code.
+
+    Every exception ends as one line on stderr and an exit code: 2 for bad input (a
+    heatstack input error, a file that cannot be used, an input nested too deeply or a
+    number too large), 1 for a failed computation (a heatstack error, memory, the linear
+    solver) and for an unexpected internal error, whose traceback is saved to a file
+    named in the line; 130 when interrupted.
+    """
     args = _parser().parse_args(argv)
     _set_logging(args.verbose, args.quiet)
     warnings.showwarning = _show_warning
+    restore_signals = _catch_termination()
     try:
         return int(args.func(args))
-    except (InputError, ResultFileError) as exc:
-        print(f"heatstack: error: {exc}", file=sys.stderr)
-        return 2
-    except HeatstackError as exc:
-        print(f"heatstack: failed: {exc}", file=sys.stderr)
-        return 1
     except KeyboardInterrupt:
         print("heatstack: interrupted", file=sys.stderr)
         return 130
     except BrokenPipeError:  # output piped into a reader that stopped (e.g. head)
         sys.stdout = open(os.devnull, "w")  # noqa: SIM115 - keep Python's exit flush quiet
         return 0
+    except Exception as exc:  # noqa: BLE001 - the one place every failure becomes a line and a code
+        code, line = _exit_code(exc)
+        print(line, file=sys.stderr)
+        return code
+    finally:
+        restore_signals()
 
 
 if __name__ == "__main__":
