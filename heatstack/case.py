@@ -157,6 +157,49 @@ class Case:
 # ------------------------------------------------------------------------ sections
 
 
+#: The largest count a design key takes (rotors ...): far above any wheel, far below a memory exhaustion.
+_MAX_DESIGN_COUNT = 1000
+#: Default limit on the number of grid cells of a case (``[assembly] max_cells`` sets another).
+DEFAULT_MAX_CELLS = 2_000_000
+
+
+def estimated_cells(assembly: Assembly, cell_size: tuple[float, float], min_cells: int) -> int:
+    """The number of grid cells (active and void) meshing ``assembly`` gives, without building the grid.
+
+    Each interval between part boundaries gets ``ceil(length / cell size)`` cells, or more so that
+    every part has ``min_cells`` across it, as the grid builder does.
+    """
+
+    def axis(spans: list[tuple[float, float]], target: float) -> int:
+        lines = sorted({x for span in spans for x in span})
+        total = 0
+        for low, high in zip(lines[:-1], lines[1:], strict=True):
+            length, middle = high - low, 0.5 * (low + high)
+            need = max(
+                [1, int(np.ceil(length / target - 1e-9))]
+                + [int(np.ceil(min_cells * length / (b - a) - 1e-9)) for a, b in spans if a < middle < b]
+            )
+            total += need
+        return total
+
+    radial = axis([(p.r_inner, p.r_outer) for p in assembly.parts], cell_size[0])
+    axial = axis([(p.z_min, p.z_max) for p in assembly.parts], cell_size[1])
+    return radial * axial
+
+
+def _check_cell_count(assembly: Assembly, cell_size: tuple[float, float], min_cells: int, limit: int) -> None:
+    """InputError before any allocation when the grid would pass ``limit`` cells."""
+    if not assembly.parts:
+        return
+    estimate = estimated_cells(assembly, cell_size, min_cells)
+    if estimate > limit:
+        raise InputError(
+            f"assembly: the grid would have about {estimate:.3g} cells ({cell_size[0] * 1e3:.3g} x "
+            f"{cell_size[1] * 1e3:.3g} mm cells, min_cells = {min_cells}), more than the limit of {limit:.3g}; "
+            "use larger cells, or raise assembly.max_cells"
+        )
+
+
 def _design(table: CaseTable) -> WheelBrakeDesign:
     defaults = WheelBrakeDesign()
     changes: dict[str, Any] = {}
@@ -168,7 +211,7 @@ def _design(table: CaseTable) -> WheelBrakeDesign:
         if isinstance(current, bool):
             changes[key] = table.boolean(key)
         elif isinstance(current, int):
-            changes[key] = table.integer(key, minimum=1)
+            changes[key] = table.integer(key, minimum=1, maximum=_MAX_DESIGN_COUNT)
         elif isinstance(current, str):
             changes[key] = table.text(key)
         else:
@@ -503,10 +546,12 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     cell = assembly_table.quantity("cell_size", 0.004)
     cell_r = assembly_table.quantity("cell_size_radial", cell)
     cell_z = assembly_table.quantity("cell_size_axial", cell)
-    min_cells = assembly_table.integer("min_cells", 3, minimum=1)
+    min_cells = assembly_table.integer("min_cells", 3, minimum=1, maximum=100_000)
+    max_cells = assembly_table.integer("max_cells", DEFAULT_MAX_CELLS, minimum=1)
     if not (cell_r > 0 and cell_z > 0):
         raise InputError("assembly.cell_size: must be > 0")
     assembly, built, plugs = _assembly(assembly_table)
+    _check_cell_count(assembly, (cell_r, cell_z), min_cells, max_cells)
     duty = _duty(root.table("duty"), base)
     solver = _solver(root.table("solver", {}))
     output = _output(root.table("output", {}))

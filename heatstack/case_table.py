@@ -64,12 +64,14 @@ class CaseTable:
             raise InputError(f"{self.where(key)}: expected true or false, got {_shown(value)}")
         return value
 
-    def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0) -> int:
+    def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0, maximum: int | None = None) -> int:
         value = self.raw(key, default)
         if value is default:
             return value
         if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
             raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {_shown(value)}")
+        if maximum is not None and value > maximum:
+            raise InputError(f"{self.where(key)}: expected a whole number <= {maximum}, got {_shown(value)}")
         return value
 
     def quantity(self, key: str, default: Any = _REQUIRED, **bounds: Any) -> float:

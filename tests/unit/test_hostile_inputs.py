@@ -130,3 +130,37 @@ def test_a_damaged_study_manifest_is_a_clear_error(tmp_path):
         h5["samples"] = np.zeros((1, 0))
     with pytest.raises(ResultFileError, match="damaged"):
         store.read_manifest()
+
+
+def test_the_cell_count_is_checked_before_any_grid_is_built(tmp_path, capsys):
+    from heatstack.cli import demo_case_path
+
+    demo = demo_case_path().read_text()
+    code, err = _check(tmp_path, demo.replace('cell_size = "4 mm"', 'cell_size = "1e-9 m"'), capsys)
+    assert code == 2 and "about 6.4" in err and "assembly.max_cells" in err
+    code, err = _check(tmp_path, demo.replace("rotors = 4", "rotors = 1000000000000"), capsys)
+    assert code == 2 and "assembly.design.rotors" in err
+    tight = demo.replace('cell_size = "4 mm"', 'cell_size = "4 mm"\nmax_cells = 1000')
+    code, err = _check(tmp_path, tight, capsys)
+    assert code == 2 and "about 4.98e+03 cells" in err
+
+
+def test_the_cell_estimate_is_the_grid_the_builder_makes():
+    from heatstack import Model
+    from heatstack.case import estimated_cells, parse_case
+
+    case = parse_case(SMALL)
+    for cell_size, min_cells in (((0.005, 0.005), 3), ((0.004, 0.0015), 7)):
+        grid = Model.build(case.assembly, cell_size, min_cells, case.materials).grid
+        assert estimated_cells(case.assembly, cell_size, min_cells) == grid.shape[0] * grid.shape[1]
+
+
+def test_a_run_removes_the_temporary_file_a_killed_earlier_write_left(tmp_path):
+    import os
+
+    (tmp_path / "case.toml").write_text(SMALL)
+    left = tmp_path / ".results.h5.0123456789ab.tmp"  # what a run killed during its write leaves
+    left.write_bytes(b"\x89HDF half a file")
+    os.utime(left, (1e9, 1e9))
+    assert main(["run", str(tmp_path / "case.toml"), "--quiet", "--no-plots"]) == 0
+    assert list(tmp_path.glob(".*.tmp")) == []
