@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import difflib
 import inspect
+import time
 import tomllib
 import warnings
 from collections.abc import Callable, Mapping
@@ -23,7 +24,7 @@ from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
 from .case_keys import EVENT_KINDS, ROLL_RECORDS
 from .case_table import ABOVE_ZERO, CaseTable
-from .errors import HeatstackError, InputError, ScheduleError
+from .errors import HeatstackError, InputError, ScheduleError, SolverError
 from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .material_files import material_from_mapping
 from .materials import Material
@@ -38,8 +39,10 @@ from .result import Result, State
 from .units import declared_dimensions
 
 __all__ = [
+    "BudgetExceeded",
     "Case",
     "OutputSettings",
+    "RunBudget",
     "load_case",
     "parse_case",
     "case_from_mapping",
@@ -62,6 +65,21 @@ class OutputSettings:
     cooling_below: float | None = None
     cooling_series: str = HEAT_SINK_MEAN
     reference_event: str | None = None
+
+
+@dataclass(frozen=True)
+class RunBudget:
+    """The most a run may spend: accepted time steps, and wall time [s] (None: no limit).
+
+    The defaults are generous: the demo takes a few hundred steps and seconds.
+    """
+
+    max_steps: int = 1_000_000
+    max_wall_time: float | None = 6.0 * 3600.0
+
+
+class BudgetExceeded(SolverError):
+    """A run stopped at its step or wall-time budget; the message says how far it got."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -96,6 +114,9 @@ class Case:
         starts from, instead of ``initial_temperature`` (``[case] initial_state``).
     initial_state_time : float or None
         A time of that run [s] (``[case] initial_state_time``); None for its final state.
+    budget : RunBudget
+        The most time steps and wall time a run may take (``[solver] max_steps`` and
+        ``max_wall_time``).
     """
 
     title: str
@@ -114,6 +135,7 @@ class Case:
     origin: str
     initial_state: str | None = None
     initial_state_time: float | None = None
+    budget: RunBudget = field(default_factory=lambda: RunBudget())
 
     def report_settings(self) -> ReportSettings:
         """What the report assesses for this case."""
@@ -411,11 +433,19 @@ def _solver(t: CaseTable) -> SolverOptions:
         for k, v in enumerate(snapshots)
     )
     values = t.declared(SolverOptions, ("target_change", "initial_step", "max_step", "tolerance"))
-    t.finish()
+    t.finish(tuple(sorted(t.used | {"max_steps", "max_wall_time"})))
     try:
         return SolverOptions(**values, snapshot_times=times)
     except InputError as exc:
         raise InputError(f"{t.path}: {exc}") from exc
+
+
+def _budget(t: CaseTable) -> RunBudget:
+    """``[solver] max_steps`` and ``max_wall_time``: what a run may spend."""
+    default = RunBudget()
+    steps = t.integer("max_steps", default.max_steps, minimum=1)
+    wall = t.quantity("max_wall_time", default.max_wall_time, minimum=0.0, exclusive_minimum=True)
+    return RunBudget(steps, wall)
 
 
 def _plain_file_name(t: CaseTable, key: str, default: str) -> str:
@@ -554,6 +584,7 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     _check_cell_count(assembly, (cell_r, cell_z), min_cells, max_cells)
     duty = _duty(root.table("duty"), base)
     solver = _solver(root.table("solver", {}))
+    budget = _budget(root.table("solver", {}))
     output = _output(root.table("output", {}))
     tyre = _tyre(root.table("tyre", {}), built, duty)
     root.finish(("case", "materials", "assembly", "duty", "solver", "output", "tyre"))
@@ -585,6 +616,7 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
         origin,
         initial_state,
         initial_state_time,
+        budget,
     )
     case.report_settings()  # everything the report will use is checked now, before any solve
     return case
@@ -634,6 +666,33 @@ def load_case(path: str | Path) -> Case:
     return parse_case(text, path.name, path.parent)
 
 
+def _watch_budget(
+    budget: RunBudget, start: float, end: float, progress: Callable[[float], None] | None
+) -> Callable[[float], None]:
+    """A progress callback that stops the run (BudgetExceeded) past its step or wall-time budget."""
+    began = time.monotonic()
+    steps = 0
+
+    def watch(t: float) -> None:
+        nonlocal steps
+        steps += 1
+        if progress is not None:
+            progress(t)
+        spent = time.monotonic() - began
+        over_steps = steps >= budget.max_steps
+        over_time = budget.max_wall_time is not None and spent > budget.max_wall_time
+        if over_steps or over_time:
+            what = f"{budget.max_steps} steps" if over_steps else f"{budget.max_wall_time:g} s of wall time"
+            done = 100.0 * (t - start) / (end - start) if end > start else 100.0
+            raise BudgetExceeded(
+                f"the run reached its budget of {what} at t = {t:g} s of {end:g} s ({done:.1f} % of the duty) "
+                f"after {steps} steps and {spent:.0f} s; no results file was written. Loosen "
+                "solver.target_change or solver.tolerance, or raise solver.max_steps / solver.max_wall_time"
+            )
+
+    return watch
+
+
 def run_case(case: Case, model: Model | None = None, progress: Callable[[float], None] | None = None) -> Result:
     """Mesh (unless ``model`` is given) and run a case.
 
@@ -676,7 +735,8 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
             start=initial.time if isinstance(initial, State) else 0.0,
             reference_event=case.output.reference_event,
         )
-        result = run_from_state(model, schedule, initial, case.fuse_plugs, case.solver, progress)
+        watched = _watch_budget(case.budget, schedule.start, schedule.end, progress)
+        result = run_from_state(model, schedule, initial, case.fuse_plugs, case.solver, watched)
     for item in caught:  # shown as before, and kept with the result for its report
         warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
     messages = list(dict.fromkeys(str(item.message) for item in caught))

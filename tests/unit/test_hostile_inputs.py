@@ -164,3 +164,14 @@ def test_a_run_removes_the_temporary_file_a_killed_earlier_write_left(tmp_path):
     os.utime(left, (1e9, 1e9))
     assert main(["run", str(tmp_path / "case.toml"), "--quiet", "--no-plots"]) == 0
     assert list(tmp_path.glob(".*.tmp")) == []
+
+
+@pytest.mark.parametrize(
+    ("setting", "words"), [("max_steps = 5", "budget of 5 steps"), ('max_wall_time = "1 ms"', "wall time")]
+)
+def test_a_run_past_its_budget_stops_saying_how_far_it_got(tmp_path, capsys, setting, words):
+    (tmp_path / "case.toml").write_text(SMALL + f"\n[solver]\n{setting}\n")
+    assert main(["run", str(tmp_path / "case.toml"), "--quiet", "--no-plots"]) == 1
+    err = capsys.readouterr().err
+    assert words in err and "% of the duty" in err and "no results file was written" in err
+    assert not (tmp_path / "results.h5").exists()
