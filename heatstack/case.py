@@ -9,8 +9,6 @@ and, for an unknown key, the closest valid key. :func:`run_case` runs it.
 from __future__ import annotations
 
 import difflib
-import inspect
-import time
 import tomllib
 import warnings
 from collections.abc import Callable, Mapping
@@ -22,16 +20,23 @@ import numpy as np
 
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
-from .case_keys import EVENT_KINDS, ROLL_RECORDS
+from .case_events import braking_event
+from .case_guards import (
+    DEFAULT_MAX_CELLS,
+    RunBudget,
+    check_cell_count,
+    check_cooling_series,
+    plain_file_name,
+    watch_budget,
+)
 from .case_table import ABOVE_ZERO, CaseTable
-from .errors import HeatstackError, InputError, ScheduleError, SolverError
+from .errors import HeatstackError, InputError, ScheduleError
 from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .material_files import material_from_mapping
 from .materials import Material
 from .model import Model
 from .numerics.options import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
-from .operations.events import BrakingEvent
 from .property_table import forget_warnings
 from .questions.chaining import read_start, run_from_state, state_for_model
 from .report import ReportSettings, TyreSettings
@@ -39,10 +44,8 @@ from .result import Result, State
 from .units import declared_dimensions
 
 __all__ = [
-    "BudgetExceeded",
     "Case",
     "OutputSettings",
-    "RunBudget",
     "load_case",
     "parse_case",
     "case_from_mapping",
@@ -65,21 +68,6 @@ class OutputSettings:
     cooling_below: float | None = None
     cooling_series: str = HEAT_SINK_MEAN
     reference_event: str | None = None
-
-
-@dataclass(frozen=True)
-class RunBudget:
-    """The most a run may spend: accepted time steps, and wall time [s] (None: no limit).
-
-    The defaults are generous: the demo takes a few hundred steps and seconds.
-    """
-
-    max_steps: int = 1_000_000
-    max_wall_time: float | None = 6.0 * 3600.0
-
-
-class BudgetExceeded(SolverError):
-    """A run stopped at its step or wall-time budget; the message says how far it got."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -181,45 +169,6 @@ class Case:
 
 #: The largest count a design key takes (rotors ...): far above any wheel, far below a memory exhaustion.
 _MAX_DESIGN_COUNT = 1000
-#: Default limit on the number of grid cells of a case (``[assembly] max_cells`` sets another).
-DEFAULT_MAX_CELLS = 2_000_000
-
-
-def estimated_cells(assembly: Assembly, cell_size: tuple[float, float], min_cells: int) -> int:
-    """The number of grid cells (active and void) meshing ``assembly`` gives, without building the grid.
-
-    Each interval between part boundaries gets ``ceil(length / cell size)`` cells, or more so that
-    every part has ``min_cells`` across it, as the grid builder does.
-    """
-
-    def axis(spans: list[tuple[float, float]], target: float) -> int:
-        lines = sorted({x for span in spans for x in span})
-        total = 0
-        for low, high in zip(lines[:-1], lines[1:], strict=True):
-            length, middle = high - low, 0.5 * (low + high)
-            need = max(
-                [1, int(np.ceil(length / target - 1e-9))]
-                + [int(np.ceil(min_cells * length / (b - a) - 1e-9)) for a, b in spans if a < middle < b]
-            )
-            total += need
-        return total
-
-    radial = axis([(p.r_inner, p.r_outer) for p in assembly.parts], cell_size[0])
-    axial = axis([(p.z_min, p.z_max) for p in assembly.parts], cell_size[1])
-    return radial * axial
-
-
-def _check_cell_count(assembly: Assembly, cell_size: tuple[float, float], min_cells: int, limit: int) -> None:
-    """InputError before any allocation when the grid would pass ``limit`` cells."""
-    if not assembly.parts:
-        return
-    estimate = estimated_cells(assembly, cell_size, min_cells)
-    if estimate > limit:
-        raise InputError(
-            f"assembly: the grid would have about {estimate:.3g} cells ({cell_size[0] * 1e3:.3g} x "
-            f"{cell_size[1] * 1e3:.3g} mm cells, min_cells = {min_cells}), more than the limit of {limit:.3g}; "
-            "use larger cells, or raise assembly.max_cells"
-        )
 
 
 def _design(table: CaseTable) -> WheelBrakeDesign:
@@ -359,57 +308,12 @@ def _environment(t: CaseTable) -> Environment:
         raise InputError(f"{t.path}: {exc}") from exc
 
 
-def _event(t: CaseTable, base: Path) -> BrakingEvent:
-    kind = t.text("kind")
-    if kind not in EVENT_KINDS:
-        close = difflib.get_close_matches(kind, EVENT_KINDS, n=1)
-        hint = f"; did you mean {close[0]!r}?" if close else ""
-        raise InputError(f"{t.where('kind')}: unknown event kind {kind!r}{hint} (kinds: {', '.join(EVENT_KINDS)})")
-    function = EVENT_KINDS[kind]
-    allowed = tuple(inspect.signature(function).parameters)
-    t.finish(("kind", *allowed))
-    kwargs = {key: value for key, value in t.data.items() if key != "kind"}
-    for key, record in ROLL_RECORDS.items():
-        if key in kwargs and key in allowed:
-            kwargs[key] = _record(record, t.table(key))
-    if isinstance(kwargs.get("path_or_rows"), str):
-        kwargs["path_or_rows"] = str(base / kwargs["path_or_rows"])
-    try:
-        return function(**kwargs)
-    except TypeError as exc:
-        missing = [
-            p.name
-            for p in inspect.signature(function).parameters.values()
-            if p.default is inspect.Parameter.empty and p.name not in kwargs
-        ]
-        raise InputError(f"{t.path}: {kind} needs {', '.join(missing) or 'other keys'} ({exc})") from None
-    except HeatstackError as exc:
-        raise InputError(f"{t.path}: {exc}") from exc
-
-
-def _record(record: type, table: CaseTable) -> Any:
-    """A ground-roll input record from its sub-table; unknown keys and bad values name the key path."""
-    names = tuple(f.name for f in fields(record))
-    table.finish(names)
-    try:
-        return record(**table.data)
-    except TypeError:
-        missing = [f.name for f in fields(record) if f.name not in table.data]
-        raise InputError(f"{table.path}: missing {', '.join(missing)}") from None
-    except HeatstackError as exc:
-        message, own = str(exc), f"{table.path.rsplit('.', 1)[-1]}: "
-        if message.startswith(own):  # "aircraft: mass: ..." -> "<path>.aircraft.mass: ..."
-            head, _, rest = message[len(own) :].partition(": ")
-            raise InputError(f"{table.path}.{head}: {rest}") from exc
-        raise InputError(f"{table.path}: {message}") from exc
-
-
 def _duty(table: CaseTable, base: Path) -> DutyCycle:
     phases = []
     for t in table.tables("phases"):
         name = t.text("name")
         env = _environment(t.table("environment", {}))
-        events = [_event(e, base) for e in t.tables("events")]
+        events = [braking_event(e, base) for e in t.tables("events")]
         clamped = t.boolean("clamped", None)
         duration = t.quantity("duration")
         t.finish()
@@ -448,22 +352,6 @@ def _budget(t: CaseTable) -> RunBudget:
     return RunBudget(steps, wall)
 
 
-def _plain_file_name(t: CaseTable, key: str, default: str) -> str:
-    """A file name inside the output folder: no folder part, no ``..``, no absolute path, no NUL."""
-    name = t.text(key, default)
-    shown = name if len(name) <= 80 else name[:77] + "..."
-    if "\0" in name:
-        raise InputError(f"{t.where(key)}: {shown!r} holds a null byte; give a plain file name such as 'results.h5'")
-    if not name.strip() or name in (".", "..") or "/" in name or "\\" in name or Path(name).is_absolute():
-        raise InputError(
-            f"{t.where(key)}: {shown!r} is not a plain file name; the file is written inside the output "
-            "folder (--out), so give a name such as 'results.h5' without a folder, '..' or drive"
-        )
-    if name.startswith(".") and name.endswith(".tmp"):
-        raise InputError(f"{t.where(key)}: {shown!r} looks like one of heatstack's temporary files; choose another")
-    return name
-
-
 def _output(t: CaseTable) -> OutputSettings:
     unit = t.text("temperature_unit", "degC")
     if unit not in ("degC", "degF", "K"):
@@ -471,7 +359,7 @@ def _output(t: CaseTable) -> OutputSettings:
     limits_table = t.table("limits", {})
     limits = {k: limits_table.quantity(k, **ABOVE_ZERO) for k in limits_table.data}
     out = OutputSettings(
-        _plain_file_name(t, "file", "results.h5"),
+        plain_file_name(t.text("file", "results.h5"), t.where("file")),
         t.boolean("plots", True),
         unit,
         limits,
@@ -581,7 +469,7 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     if not (cell_r > 0 and cell_z > 0):
         raise InputError("assembly.cell_size: must be > 0")
     assembly, built, plugs = _assembly(assembly_table)
-    _check_cell_count(assembly, (cell_r, cell_z), min_cells, max_cells)
+    check_cell_count(assembly, (cell_r, cell_z), min_cells, max_cells)
     duty = _duty(root.table("duty"), base)
     solver = _solver(root.table("solver", {}))
     budget = _budget(root.table("solver", {}))
@@ -598,7 +486,8 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
             close = difflib.get_close_matches(name, sorted(known), n=1)
             hint = f"; did you mean {close[0]!r}?" if close else ""
             raise InputError(f"output.limits.{name}: no probe or series of that name{hint}")
-    _check_cooling_series(output, known | {f"surface:{s.name}" for s in assembly.surfaces})
+    if output.cooling_below is not None:
+        check_cooling_series(output.cooling_series, known | {f"surface:{s.name}" for s in assembly.surfaces})
     case = Case(
         title,
         assembly,
@@ -620,19 +509,6 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     )
     case.report_settings()  # everything the report will use is checked now, before any solve
     return case
-
-
-def _check_cooling_series(output: OutputSettings, known: set[str]) -> None:
-    """The cooling-time series must be one the run will record (probe, cell group or surface)."""
-    if output.cooling_below is None:
-        return
-    name = output.cooling_series
-    if name in known:
-        return
-    close = difflib.get_close_matches(name, sorted(known), n=1)
-    names = sorted(known)
-    hint = f"; did you mean {close[0]!r}?" if close else f"; known: {', '.join(names[:8])}{' ...' * (len(names) > 8)}"
-    raise InputError(f"output.cooling_series: no probe or series named {name[:80]!r}{hint}")
 
 
 def load_case(path: str | Path) -> Case:
@@ -664,33 +540,6 @@ def load_case(path: str | Path) -> Case:
     except (OSError, UnicodeDecodeError, ValueError) as exc:  # ValueError: a null byte in the path
         raise InputError(f"case file {str(path)[:80]!r} cannot be read: {str(exc)[:80]}") from None
     return parse_case(text, path.name, path.parent)
-
-
-def _watch_budget(
-    budget: RunBudget, start: float, end: float, progress: Callable[[float], None] | None
-) -> Callable[[float], None]:
-    """A progress callback that stops the run (BudgetExceeded) past its step or wall-time budget."""
-    began = time.monotonic()
-    steps = 0
-
-    def watch(t: float) -> None:
-        nonlocal steps
-        steps += 1
-        if progress is not None:
-            progress(t)
-        spent = time.monotonic() - began
-        over_steps = steps >= budget.max_steps
-        over_time = budget.max_wall_time is not None and spent > budget.max_wall_time
-        if over_steps or over_time:
-            what = f"{budget.max_steps} steps" if over_steps else f"{budget.max_wall_time:g} s of wall time"
-            done = 100.0 * (t - start) / (end - start) if end > start else 100.0
-            raise BudgetExceeded(
-                f"the run reached its budget of {what} at t = {t:g} s of {end:g} s ({done:.1f} % of the duty) "
-                f"after {steps} steps and {spent:.0f} s; no results file was written. Loosen "
-                "solver.target_change or solver.tolerance, or raise solver.max_steps / solver.max_wall_time"
-            )
-
-    return watch
 
 
 def run_case(case: Case, model: Model | None = None, progress: Callable[[float], None] | None = None) -> Result:
@@ -735,7 +584,7 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
             start=initial.time if isinstance(initial, State) else 0.0,
             reference_event=case.output.reference_event,
         )
-        watched = _watch_budget(case.budget, schedule.start, schedule.end, progress)
+        watched = watch_budget(case.budget, schedule.start, schedule.end, progress)
         result = run_from_state(model, schedule, initial, case.fuse_plugs, case.solver, watched)
     for item in caught:  # shown as before, and kept with the result for its report
         warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)

@@ -25,10 +25,11 @@ from importlib import resources
 from pathlib import Path
 
 from . import __version__
-from .atomic import write_file_atomically
+from .cli_errors import catch_termination, exit_code_and_line
 from .cli_fitting import cmd_calibrate, cmd_fit
+from .cli_study import cmd_study
 from .cli_turnaround import add_turnaround_verbs
-from .errors import HeatstackError, InputError, ResultFileError
+from .errors import InputError, ResultFileError
 from .geometry import HEAT_SINK_MEAN
 from .report import CAUTION
 
@@ -320,76 +321,6 @@ def _plot_field_times(result, out: Path, name: str, unit: str, minutes: Sequence
     return written
 
 
-def _cmd_study(args: argparse.Namespace) -> int:
-    from .own_files import check_replaceable, replacing_own_files_only
-    from .studies import LocalExecutor, load_study, run_study, study_report
-
-    study = load_study(args.study)
-    store = Path(args.store) if args.store else Path(args.study).with_suffix(".store")
-    if args.report and not args.force:
-        check_replaceable(Path(args.report), "report file")  # before the study, not after it
-    executor = args.scheduler or LocalExecutor(workers=args.workers)
-    try:
-        run = run_study(
-            study,
-            store,
-            executor,
-            progress=None if not args.quiet else False,
-            retry_failed=args.retry_failed,
-            timeout=args.timeout,
-        )
-    finally:
-        if not isinstance(executor, str):
-            executor.close()
-    print(
-        f"study: {run.cases_run} cases run, {run.cases_skipped} already in the store, "
-        f"{run.cases_failed} failed, {run.seconds:.1f} s"
-    )
-    report = study_report(run.table, temperature_unit=args.unit)
-    print(report)
-    with replacing_own_files_only(args.force):
-        _write_study_outputs(args, run, report, store)
-    _fail_if_nothing_finished(run.table)
-    return 0
-
-
-def _fail_if_nothing_finished(table, shown: int = 3) -> None:
-    """StudyError (exit 1) when cases failed and none finished, with the first reasons."""
-    from .errors import StudyError
-
-    counts = table.counts()
-    if not counts["failed"] or counts["ok"]:
-        return
-    failed = [k for k, status in enumerate(table["status"]) if status == "failed"]
-    reasons = []
-    for index in failed[:shown]:
-        text = str(table["error"][index] or "no error text").strip().splitlines() or ["no error text"]
-        first = text[0] if len(text[0]) <= 160 else text[0][:157] + "..."
-        reasons.append(f"case {index}: {first}")
-    raise StudyError(
-        f"all {counts['failed']} cases of the study failed, none finished; the first: " + "; ".join(reasons)
-    )
-
-
-def _write_study_outputs(args: argparse.Namespace, run, report: str, store: Path) -> None:
-    """The study's Markdown report (``--report``) and its margin histogram and tornado."""
-    from .studies import sensitivity
-    from .studies.plots import plot_margin_histogram, plot_tornado
-
-    if args.report:
-        text = report
-        write_file_atomically(args.report, lambda temp: temp.write_text(text, encoding="utf-8"), "report file")
-    plots = Path(args.plots) if args.plots else store
-    if "plug_margin_min" in run.table.columns:
-        print(f"plot: {plot_margin_histogram(run.table, plots / 'margin-histogram.png')}")
-        try:
-            ranking = sensitivity(run.table)
-        except InputError as exc:  # too few finished cases for a ranking: say so, keep the rest
-            print(f"no sensitivity tornado: {exc}")
-        else:
-            print(f"plot: {plot_tornado(ranking, plots / 'sensitivity-tornado.png')}")
-
-
 def _cmd_export(args: argparse.Namespace) -> int:
     from .report import CAUTION
     from .resultexport import export_csv
@@ -597,7 +528,7 @@ def _add_study_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units:
     study.add_argument("--plots", help="folder for the margin histogram and tornado (default: the store)")
     study.add_argument("--unit", choices=units, default="degC")
     study.add_argument("--force", action="store_true", help=_FORCE_HELP)
-    study.set_defaults(func=_cmd_study)
+    study.set_defaults(func=cmd_study)
 
 
 def _add_shipped_verbs(verb: Callable[[str, str], argparse.ArgumentParser]) -> None:
@@ -628,95 +559,6 @@ def _set_logging(verbose: bool, quiet: bool) -> None:
         logger.addHandler(handler)
 
 
-#: The longest error message printed [characters]: a message quoting a huge input is cut.
-_MESSAGE_LIMIT = 600
-
-
-def _one_line(exc: BaseException) -> str:
-    """The message of ``exc``, cut to :data:`_MESSAGE_LIMIT` characters."""
-    text = str(exc) or type(exc).__name__
-    if len(text) > _MESSAGE_LIMIT:
-        text = f"{text[: _MESSAGE_LIMIT - 60]} ... ({len(text) - _MESSAGE_LIMIT + 60} characters not shown)"
-    return text
-
-
-def _save_traceback(exc: BaseException) -> Path | None:
-    """Write the traceback of an unexpected error to a new file in the temporary folder; its path."""
-    import tempfile
-    import time
-    import traceback
-
-    text = f"heatstack {__version__}, {time.strftime('%Y-%m-%dT%H:%M:%SZ', time.gmtime())}\n"
-    text += f"command: heatstack {' '.join(sys.argv[1:])[:2000]}\n\n"
-    text += "".join(traceback.format_exception(type(exc), exc, exc.__traceback__))
-    try:
-        handle, name = tempfile.mkstemp(prefix="heatstack-traceback-", suffix=".txt")
-        with os.fdopen(handle, "w", encoding="utf-8") as out:
-            out.write(text)
-    except OSError:
-        return None
-    return Path(name)
-
-
-def _catch_termination() -> Callable[[], None]:
-    """Make SIGTERM and SIGHUP exits Python sees (SystemExit), so temporary files are removed.
-
-    Returns the function that puts the previous handlers back. A process forked from this
-    one (a local study worker) keeps the default: it dies at once, as before.
-    """
-    import signal
-    import threading
-
-    if threading.current_thread() is not threading.main_thread():
-        return lambda: None
-    owner = os.getpid()
-
-    def on_terminate(signum, frame) -> None:
-        if os.getpid() != owner:
-            signal.signal(signum, signal.SIG_DFL)
-            os.kill(os.getpid(), signum)
-            return
-        raise SystemExit(128 + signum)
-
-    previous = {}
-    for name in ("SIGTERM", "SIGHUP"):
-        number = getattr(signal, name, None)
-        if number is not None and signal.getsignal(number) in (signal.SIG_DFL, None):
-            previous[number] = signal.signal(number, on_terminate)
-
-    def restore() -> None:
-        for number, handler in previous.items():
-            signal.signal(number, handler)
-
-    return restore
-
-
-def _exit_code(exc: BaseException) -> tuple[int, str]:
-    """The exit code and the one line printed for an exception that reached the command line."""
-    if isinstance(exc, InputError | ResultFileError):
-        return 2, f"heatstack: error: {_one_line(exc)}"
-    if isinstance(exc, HeatstackError):
-        return 1, f"heatstack: failed: {_one_line(exc)}"
-    if isinstance(exc, RecursionError):
-        return 2, "heatstack: error: an input is nested too deeply to read"
-    if isinstance(exc, MemoryError):
-        return 1, "heatstack: failed: out of memory; an input size (cells, cases, snapshots) is too large"
-    if isinstance(exc, OverflowError):
-        return 2, f"heatstack: error: a number in the input is too large ({_one_line(exc)[:80]})"
-    if isinstance(exc, SystemError) and "gstrf" in str(exc):
-        return 1, "heatstack: failed: the sparse linear solver refused the matrix (the grid is too fine or too large)"
-    if isinstance(exc, UnicodeError):
-        return 2, f"heatstack: error: a file or name is not valid text ({_one_line(exc)[:80]})"
-    if isinstance(exc, ValueError) and "null byte" in str(exc):
-        return 2, "heatstack: error: a path holds a null byte"
-    if isinstance(exc, OSError):
-        where = f" {str(exc.filename)[:80]!r}" if getattr(exc, "filename", None) else ""
-        return 2, f"heatstack: error: cannot use{where}: {exc.strerror or _one_line(exc)[:80]}"
-    saved = _save_traceback(exc)
-    where = f"; the traceback is saved in {saved}" if saved else ""
-    return 1, (f"heatstack: internal error: {type(exc).__name__}: {_one_line(exc)[:120]} - please report it{where}")
-
-
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit code.
 
@@ -729,7 +571,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     _set_logging(args.verbose, args.quiet)
     warnings.showwarning = _show_warning
-    restore_signals = _catch_termination()
+    restore_signals = catch_termination()
     try:
         return int(args.func(args))
     except KeyboardInterrupt:
@@ -739,7 +581,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         sys.stdout = open(os.devnull, "w")  # noqa: SIM115 - keep Python's exit flush quiet
         return 0
     except Exception as exc:  # noqa: BLE001 - the one place every failure becomes a line and a code
-        code, line = _exit_code(exc)
+        code, line = exit_code_and_line(exc)
         print(line, file=sys.stderr)
         return code
     finally:

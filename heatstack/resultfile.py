@@ -89,7 +89,7 @@ import numpy as np
 from . import atomic
 from .atomic import as_path, os_reason, write_file_atomically, write_target
 from .errors import ResultFileError
-from .result import Result
+from .result import Result, first_non_finite
 from .resultformat import (
     CONVENTIONS,
     FORMAT_NAME,
@@ -210,31 +210,6 @@ def _to_json(value: Mapping | None, what: str) -> str:
         return json.dumps(plain, ensure_ascii=False, sort_keys=False, allow_nan=False)
     except ValueError:
         raise ResultFileError(f"{what}: holds a NaN or an infinity, which a results file never stores") from None
-
-
-def _first_non_finite(result: Result) -> str | None:
-    """The name of the first computed history or state of ``result`` that holds NaN or infinity.
-
-    Void cells of the field snapshots are NaN by design and not counted.
-    """
-    arrays: list[tuple[str, Any]] = [("times", result.times), ("snapshot_times", result.snapshot_times)]
-    arrays += [(f"probe {name!r}", values) for name, values in result.probes.items()]
-    arrays += [(f"reading {name!r}", values) for name, values in result.readings.items()]
-    arrays += [(f"series {name!r}", values) for name, values in result.series.items()]
-    arrays += [(f"ledger {name}", getattr(result.ledger, name, ())) for name in LEDGER_ACCOUNTS]
-    arrays += [("final state", result.final_state.temperature)]
-    arrays += [(f"final reading {name!r}", v) for name, v in result.final_state.readings.items()]
-    arrays += [(f"final plug temperature {name!r}", v) for name, v in result.final_state.plug_temperatures.items()]
-    for name, values in arrays:
-        values = np.asarray(values)
-        if values.dtype.kind in "fc" and not np.all(np.isfinite(values)):
-            return name
-    snapshots = np.asarray(result.snapshots)
-    part_map = np.asarray(result.part_map)
-    if snapshots.ndim == 3 and snapshots.shape[1:] == part_map.shape and snapshots.dtype.kind == "f":
-        if not np.all(np.isfinite(snapshots[:, part_map >= 0])):
-            return "field snapshots"
-    return None
 
 
 # --------------------------------------------------------------------------- writing
@@ -585,7 +560,7 @@ def write_result(
         raise ResultFileError(f"compression must be one of {list(_COMPRESSIONS)}, got {compression!r}")
     if not isinstance(case_text, str):
         raise ResultFileError(f"case_text must be a str, got {type(case_text).__name__}")
-    bad = _first_non_finite(result)
+    bad = first_non_finite(result)
     if bad is not None:
         raise ResultFileError(f"results file {str(path)[:80]!r} not written: the {bad} holds a NaN or an infinity")
     inputs_json = _to_json(resolved_inputs, "resolved_inputs")

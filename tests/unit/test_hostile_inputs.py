@@ -147,7 +147,8 @@ def test_the_cell_count_is_checked_before_any_grid_is_built(tmp_path, capsys):
 
 def test_the_cell_estimate_is_the_grid_the_builder_makes():
     from heatstack import Model
-    from heatstack.case import estimated_cells, parse_case
+    from heatstack.case import parse_case
+    from heatstack.case_guards import estimated_cells
 
     case = parse_case(SMALL)
     for cell_size, min_cells in (((0.005, 0.005), 3), ((0.004, 0.0015), 7)):
