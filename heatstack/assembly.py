@@ -283,12 +283,13 @@ class Assembly:
         Returns
         -------
         Part
-            Its declared part, else the first part containing it.
+            Its declared part, else the one part containing it.
 
         Raises
         ------
         GeometryError
-            If the probe is not inside its declared part, or lies outside every part.
+            If the probe lies outside its declared part, outside every part, or (with no
+            part declared) on the boundary of two or more parts, naming them.
         """
         if probe.part is not None:
             part = self.part(probe.part)
@@ -300,6 +301,12 @@ class Assembly:
         owners = [p for p in self.parts if p.contains(probe.r, probe.z)]
         if not owners:
             raise GeometryError(f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m lies outside every part")
+        if len(owners) > 1:  # on a boundary: the parts may be at very different temperatures
+            names = " and ".join(repr(p.name) for p in owners)
+            raise GeometryError(
+                f"probe {probe.name!r} at r={probe.r} m, z={probe.z} m lies on the boundary of parts {names}; "
+                "say which it reads with part = one of them"
+            )
         return owners[0]
 
     def surface_group(self, part: Part, side: str) -> str:

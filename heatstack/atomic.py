@@ -10,15 +10,25 @@ platform allows it.
 :func:`write_file_atomically` takes these steps for every writer (results files, figures,
 reports, the study store's files). :func:`as_path` and :func:`os_reason` serve the results
 file readers as well.
+
+A temporary file left behind by a process that was killed during its write (its name is
+``.NAME.<12 hex digits>.tmp``) is removed by the next write into the same folder, if it is
+older than the current process (:func:`remove_stale_temp_files`). Inside
+:func:`refuse_replacing` every write first asks a check whether the file already at the
+target may be replaced (the command line uses it to leave alone files heatstack did not
+write, :mod:`heatstack.own_files`).
 """
 
 from __future__ import annotations
 
 import contextlib
+import contextvars
 import os
+import re
 import secrets
 import stat
-from collections.abc import Callable
+import time
+from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
 
@@ -30,9 +40,67 @@ __all__ = [
     "move_into_place",
     "new_temp_file",
     "os_reason",
+    "refuse_replacing",
+    "remove_stale_temp_files",
     "write_file_atomically",
     "write_target",
 ]
+
+
+#: When this process started [s since the epoch]: temporary files older than this are stale.
+_STARTED = time.time()
+_TEMP_NAME = re.compile(r"\..+\.[0-9a-f]{12}\.tmp")
+_REPLACE_CHECK: contextvars.ContextVar[Callable[[Path, str], None] | None] = contextvars.ContextVar(
+    "heatstack_replace_check", default=None
+)
+
+
+@contextlib.contextmanager
+def refuse_replacing(check: Callable[[Path, str], None]) -> Iterator[None]:
+    """Within this block, :func:`write_file_atomically` calls ``check(target, what)`` first.
+
+    ``check`` raises (a ResultFileError) if the file already at ``target`` must not be
+    replaced; the write then leaves everything as it was.
+    """
+    token = _REPLACE_CHECK.set(check)
+    try:
+        yield
+    finally:
+        _REPLACE_CHECK.reset(token)
+
+
+def remove_stale_temp_files(folder: Path, older_than: float | None = None) -> list[Path]:
+    """Remove the temporary files of heatstack's naming pattern in ``folder`` older than ``older_than``.
+
+    Parameters
+    ----------
+    folder : Path
+        The folder to tidy (not its sub-folders).
+    older_than : float, optional
+        Modification time [s since the epoch]; by default the start of this process, so
+        a write still in progress in another, later process is never touched.
+
+    Returns
+    -------
+    list of Path
+        The files removed (best effort: a file that cannot be removed is skipped).
+    """
+    limit = _STARTED if older_than is None else older_than
+    removed = []
+    try:
+        entries = list(os.scandir(folder))
+    except OSError:
+        return removed
+    for entry in entries:
+        if not _TEMP_NAME.fullmatch(entry.name):
+            continue
+        try:
+            if entry.is_file(follow_symlinks=False) and entry.stat(follow_symlinks=False).st_mtime < limit:
+                os.unlink(entry.path)
+                removed.append(Path(entry.path))
+        except OSError:
+            continue
+    return removed
 
 
 def as_path(path: Any) -> Path:
@@ -55,9 +123,11 @@ def as_path(path: Any) -> Path:
     """
     if isinstance(path, str | os.PathLike):
         text = os.fspath(path)
-        if isinstance(text, str) and text:
+        if isinstance(text, str) and text and "\0" not in text:
             return Path(text)
-    raise ResultFileError(f"a results file path must be a non-empty str or Path, got {path!r}")
+    shown = repr(path)
+    shown = shown if len(shown) <= 80 else shown[:77] + "..."
+    raise ResultFileError(f"a results file path must be a non-empty str or Path without null bytes, got {shown}")
 
 
 def write_target(path: Path) -> Path:
@@ -211,6 +281,9 @@ def write_file_atomically(path: str | os.PathLike, write: Callable[[Path], None]
     """
     given = Path(os.fspath(path))
     target = write_target(given)
+    check = _REPLACE_CHECK.get()
+    if check is not None:
+        check(target, what)
     try:
         temp, fd = new_temp_file(target.parent, target.name)
         os.close(fd)
@@ -228,4 +301,5 @@ def write_file_atomically(path: str | os.PathLike, write: Callable[[Path], None]
             ) from None
         raise
     fsync_folder(target.parent)
+    remove_stale_temp_files(target.parent)
     return given

@@ -9,7 +9,6 @@ and, for an unknown key, the closest valid key. :func:`run_case` runs it.
 from __future__ import annotations
 
 import difflib
-import inspect
 import tomllib
 import warnings
 from collections.abc import Callable, Mapping
@@ -21,8 +20,16 @@ import numpy as np
 
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
-from .case_keys import EVENT_KINDS, ROLL_RECORDS
-from .case_table import CaseTable
+from .case_events import braking_event
+from .case_guards import (
+    DEFAULT_MAX_CELLS,
+    RunBudget,
+    check_cell_count,
+    check_cooling_series,
+    plain_file_name,
+    watch_budget,
+)
+from .case_table import ABOVE_ZERO, CaseTable
 from .errors import HeatstackError, InputError, ScheduleError
 from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .material_files import material_from_mapping
@@ -30,7 +37,6 @@ from .materials import Material
 from .model import Model
 from .numerics.options import SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
-from .operations.events import BrakingEvent
 from .property_table import forget_warnings
 from .questions.chaining import read_start, run_from_state, state_for_model
 from .report import ReportSettings, TyreSettings, with_tyre_gas_carried
@@ -114,6 +120,9 @@ class Case:
         starts from, instead of ``initial_temperature`` (``[case] initial_state``).
     initial_state_time : float or None
         A time of that run [s] (``[case] initial_state_time``); None for its final state.
+    budget : RunBudget
+        The most time steps and wall time a run may take (``[solver] max_steps`` and
+        ``max_wall_time``).
     """
 
     title: str
@@ -132,6 +141,7 @@ class Case:
     origin: str
     initial_state: str | None = None
     initial_state_time: float | None = None
+    budget: RunBudget = field(default_factory=lambda: RunBudget())
 
     def report_settings(self) -> ReportSettings:
         """What the report assesses for this case.
@@ -194,6 +204,10 @@ class Case:
 # ------------------------------------------------------------------------ sections
 
 
+#: The largest count a design key takes (rotors ...): far above any wheel, far below a memory exhaustion.
+_MAX_DESIGN_COUNT = 1000
+
+
 def _design(table: CaseTable) -> WheelBrakeDesign:
     defaults = WheelBrakeDesign()
     changes: dict[str, Any] = {}
@@ -205,7 +219,7 @@ def _design(table: CaseTable) -> WheelBrakeDesign:
         if isinstance(current, bool):
             changes[key] = table.boolean(key)
         elif isinstance(current, int):
-            changes[key] = table.integer(key, minimum=1)
+            changes[key] = table.integer(key, minimum=1, maximum=_MAX_DESIGN_COUNT)
         elif isinstance(current, str):
             changes[key] = table.text(key)
         else:
@@ -331,57 +345,12 @@ def _environment(t: CaseTable) -> Environment:
         raise InputError(f"{t.path}: {exc}") from exc
 
 
-def _event(t: CaseTable, base: Path) -> BrakingEvent:
-    kind = t.text("kind")
-    if kind not in EVENT_KINDS:
-        close = difflib.get_close_matches(kind, EVENT_KINDS, n=1)
-        hint = f"; did you mean {close[0]!r}?" if close else ""
-        raise InputError(f"{t.where('kind')}: unknown event kind {kind!r}{hint} (kinds: {', '.join(EVENT_KINDS)})")
-    function = EVENT_KINDS[kind]
-    allowed = tuple(inspect.signature(function).parameters)
-    t.finish(("kind", *allowed))
-    kwargs = {key: value for key, value in t.data.items() if key != "kind"}
-    for key, record in ROLL_RECORDS.items():
-        if key in kwargs and key in allowed:
-            kwargs[key] = _record(record, t.table(key))
-    if isinstance(kwargs.get("path_or_rows"), str):
-        kwargs["path_or_rows"] = str(base / kwargs["path_or_rows"])
-    try:
-        return function(**kwargs)
-    except TypeError as exc:
-        missing = [
-            p.name
-            for p in inspect.signature(function).parameters.values()
-            if p.default is inspect.Parameter.empty and p.name not in kwargs
-        ]
-        raise InputError(f"{t.path}: {kind} needs {', '.join(missing) or 'other keys'} ({exc})") from None
-    except HeatstackError as exc:
-        raise InputError(f"{t.path}: {exc}") from exc
-
-
-def _record(record: type, table: CaseTable) -> Any:
-    """A ground-roll input record from its sub-table; unknown keys and bad values name the key path."""
-    names = tuple(f.name for f in fields(record))
-    table.finish(names)
-    try:
-        return record(**table.data)
-    except TypeError:
-        missing = [f.name for f in fields(record) if f.name not in table.data]
-        raise InputError(f"{table.path}: missing {', '.join(missing)}") from None
-    except HeatstackError as exc:
-        message, own = str(exc), f"{table.path.rsplit('.', 1)[-1]}: "
-        if message.startswith(own):  # "aircraft: mass: ..." -> "<path>.aircraft.mass: ..."
-            head, _, rest = message[len(own) :].partition(": ")
-            raise InputError(f"{table.path}.{head}: {rest}") from exc
-        raise InputError(f"{table.path}: {message}") from exc
-
-
 def _duty(table: CaseTable, base: Path) -> DutyCycle:
     phases = []
     for t in table.tables("phases"):
         name = t.text("name")
         env = _environment(t.table("environment", {}))
-        events = [_event(e, base) for e in t.tables("events")]
+        events = [braking_event(e, base) for e in t.tables("events")]
         clamped = t.boolean("clamped", None)
         duration = t.quantity("duration")
         t.finish()
@@ -405,11 +374,19 @@ def _solver(t: CaseTable) -> SolverOptions:
         for k, v in enumerate(snapshots)
     )
     values = t.declared(SolverOptions, ("target_change", "initial_step", "max_step", "tolerance"))
-    t.finish()
+    t.finish(tuple(sorted(t.used | {"max_steps", "max_wall_time"})))
     try:
         return SolverOptions(**values, snapshot_times=times)
     except InputError as exc:
         raise InputError(f"{t.path}: {exc}") from exc
+
+
+def _budget(t: CaseTable) -> RunBudget:
+    """``[solver] max_steps`` and ``max_wall_time``: what a run may spend."""
+    default = RunBudget()
+    steps = t.integer("max_steps", default.max_steps, minimum=1)
+    wall = t.quantity("max_wall_time", default.max_wall_time, minimum=0.0, exclusive_minimum=True)
+    return RunBudget(steps, wall)
 
 
 def _output(t: CaseTable) -> OutputSettings:
@@ -417,13 +394,13 @@ def _output(t: CaseTable) -> OutputSettings:
     if unit not in ("degC", "degF", "K"):
         raise InputError(f"{t.where('temperature_unit')}: expected 'degC', 'degF' or 'K', got {unit!r}")
     limits_table = t.table("limits", {})
-    limits = {k: limits_table.quantity(k) for k in limits_table.data}
+    limits = {k: limits_table.quantity(k, **ABOVE_ZERO) for k in limits_table.data}
     out = OutputSettings(
-        t.text("file", "results.h5"),
+        plain_file_name(t.text("file", "results.h5"), t.where("file")),
         t.boolean("plots", True),
         unit,
         limits,
-        t.quantity("cooling_below", None),
+        t.quantity("cooling_below", None, **ABOVE_ZERO),
         t.text("cooling_series", HEAT_SINK_MEAN),
         t.text("reference_event", None),
     )
@@ -452,7 +429,9 @@ def _tyre(t: CaseTable, built: BuiltWheelBrake | None, duty: DutyCycle) -> TyreS
     try:
         return TyreSettings(**values)
     except InputError as exc:
-        raise InputError(f"{t.path}: {exc}") from exc
+        message = str(exc)
+        own = "tyre: "
+        raise InputError(f"tyre.{message[len(own) :]}" if message.startswith(own) else f"{t.path}: {message}") from exc
 
 
 def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> Case:
@@ -481,12 +460,20 @@ def parse_case(text: str, origin: str = "<string>", base: str | Path = ".") -> C
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{origin}: not valid TOML: {exc}") from None
+    except RecursionError:
+        raise InputError(f"{origin}: tables or arrays are nested too deeply to read") from None
     try:
         return case_from_mapping(data, text, origin, Path(base))
     except InputError as exc:
         raise type(exc)(f"{origin}: {exc}") from None
     except HeatstackError as exc:
         raise InputError(f"{origin}: {exc}") from None
+    except RecursionError:
+        raise InputError(f"{origin}: tables or arrays are nested too deeply to read") from None
+    except (TypeError, OverflowError, KeyError, IndexError, AttributeError) as exc:
+        # a value of a type no reader above expected (a list where a name belongs ...)
+        detail = str(exc) if len(str(exc)) <= 80 else str(exc)[:77] + "..."
+        raise InputError(f"{origin}: a value has the wrong type or size ({type(exc).__name__}: {detail})") from None
 
 
 def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
@@ -518,10 +505,12 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     root = CaseTable(data, "", ())
     head = root.table("case", {})
     title = head.text("title", "untitled case")
-    initial = head.quantity("initial_temperature", 288.15)
+    initial = head.quantity("initial_temperature", 288.15, **ABOVE_ZERO)
     initial_state = head.text("initial_state", None)
-    initial_state_time = head.quantity("initial_state_time", None)
+    initial_state_time = head.quantity("initial_state_time", None, minimum=0.0)
     if initial_state is not None:
+        if "\0" in initial_state or not initial_state.strip():
+            raise InputError("case.initial_state: not a file name (empty, or holds a null byte)")
         initial_state = str(base / initial_state)
     elif initial_state_time is not None:
         raise InputError("case.initial_state_time: needs case.initial_state (the earlier results file)")
@@ -537,12 +526,15 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     cell = assembly_table.quantity("cell_size", 0.004)
     cell_r = assembly_table.quantity("cell_size_radial", cell)
     cell_z = assembly_table.quantity("cell_size_axial", cell)
-    min_cells = assembly_table.integer("min_cells", 3, minimum=1)
+    min_cells = assembly_table.integer("min_cells", 3, minimum=1, maximum=100_000)
+    max_cells = assembly_table.integer("max_cells", DEFAULT_MAX_CELLS, minimum=1)
     if not (cell_r > 0 and cell_z > 0):
         raise InputError("assembly.cell_size: must be > 0")
     assembly, built, plugs = _assembly(assembly_table)
+    check_cell_count(assembly, (cell_r, cell_z), min_cells, max_cells)
     duty = _duty(root.table("duty"), base)
     solver = _solver(root.table("solver", {}))
+    budget = _budget(root.table("solver", {}))
     output = _output(root.table("output", {}))
     tyre = _tyre(root.table("tyre", {}), built, duty)
     root.finish(("case", "materials", "assembly", "duty", "solver", "output", "tyre"))
@@ -556,7 +548,9 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
             close = difflib.get_close_matches(name, sorted(known), n=1)
             hint = f"; did you mean {close[0]!r}?" if close else ""
             raise InputError(f"output.limits.{name}: no probe or series of that name{hint}")
-    return Case(
+    if output.cooling_below is not None:
+        check_cooling_series(output.cooling_series, known | {f"surface:{s.name}" for s in assembly.surfaces})
+    case = Case(
         title,
         assembly,
         built,
@@ -573,7 +567,10 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
         origin,
         initial_state,
         initial_state_time,
+        budget,
     )
+    case.report_settings()  # everything the report will use is checked now, before any solve
+    return case
 
 
 def load_case(path: str | Path) -> Case:
@@ -602,8 +599,8 @@ def load_case(path: str | Path) -> Case:
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError:
         raise InputError(f"case file {str(path)!r} does not exist") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"case file {str(path)!r} cannot be read: {exc}") from None
+    except (OSError, UnicodeDecodeError, ValueError) as exc:  # ValueError: a null byte in the path
+        raise InputError(f"case file {str(path)[:80]!r} cannot be read: {str(exc)[:80]}") from None
     return parse_case(text, path.name, path.parent)
 
 
@@ -649,7 +646,8 @@ def run_case(case: Case, model: Model | None = None, progress: Callable[[float],
             start=initial.time if isinstance(initial, State) else 0.0,
             reference_event=case.output.reference_event,
         )
-        result = run_from_state(model, schedule, initial, case.fuse_plugs, case.solver, progress)
+        watched = watch_budget(case.budget, schedule.start, schedule.end, progress)
+        result = run_from_state(model, schedule, initial, case.fuse_plugs, case.solver, watched)
         result = with_tyre_gas_carried(result, case.report_settings())  # on to a chained run
     for item in caught:  # shown as before, and kept with the result for its report
         warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)

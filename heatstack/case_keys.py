@@ -71,6 +71,7 @@ _CASE_KEYS: dict[tuple[Any, ...], str] = {
     ("duty", "phases", int, "environment", "wheel_well_air_temperature"): "temperature",
     ("duty", "phases", int, "environment", "wheel_well_wall_temperature"): "temperature",
     ("solver", "snapshot_times", int): "time",
+    ("solver", "max_wall_time"): "time",
     ("output", "limits", str): "temperature",
     ("output", "cooling_below"): "temperature",
 }

@@ -20,6 +20,14 @@ from .units import declared_dimensions, quantity
 __all__ = ["CaseTable"]
 
 _REQUIRED = object()
+#: An absolute temperature: above 0 K.
+ABOVE_ZERO = {"minimum": 0.0, "exclusive_minimum": True}
+
+
+def _shown(value: Any) -> str:
+    """``value`` for a message: its repr, cut to about 80 characters."""
+    text = repr(value)
+    return text if len(text) <= 80 else text[:77] + "..."
 
 
 class CaseTable:
@@ -124,7 +132,7 @@ class CaseTable:
         """
         value = self.raw(key, default)
         if value is not default and not isinstance(value, str):
-            raise InputError(f"{self.where(key)}: expected a string, got {value!r}")
+            raise InputError(f"{self.where(key)}: expected a string, got {_shown(value)}")
         return value
 
     def boolean(self, key: str, default: Any = _REQUIRED) -> bool:
@@ -149,11 +157,11 @@ class CaseTable:
         """
         value = self.raw(key, default)
         if value is not default and not isinstance(value, bool):
-            raise InputError(f"{self.where(key)}: expected true or false, got {value!r}")
+            raise InputError(f"{self.where(key)}: expected true or false, got {_shown(value)}")
         return value
 
-    def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0) -> int:
-        """The whole number at ``key``, at least ``minimum``.
+    def integer(self, key: str, default: Any = _REQUIRED, minimum: int = 0, maximum: int | None = None) -> int:
+        """The whole number at ``key``, at least ``minimum`` and at most ``maximum``.
 
         Parameters
         ----------
@@ -163,6 +171,8 @@ class CaseTable:
             Returned when the key is absent; without it the key is required.
         minimum : int, optional
             Smallest value allowed.
+        maximum : int, optional
+            Largest value allowed; None for no upper bound.
 
         Returns
         -------
@@ -172,17 +182,21 @@ class CaseTable:
         Raises
         ------
         InputError
-            If the key is missing (and required) or its value is not a whole number >= ``minimum``.
+            If the key is missing (and required) or its value is not a whole number in range.
         """
         value = self.raw(key, default)
         if value is default:
             return value
         if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
-            raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {value!r}")
+            raise InputError(f"{self.where(key)}: expected a whole number >= {minimum}, got {_shown(value)}")
+        if maximum is not None and value > maximum:
+            raise InputError(f"{self.where(key)}: expected a whole number <= {maximum}, got {_shown(value)}")
         return value
 
-    def quantity(self, key: str, default: Any = _REQUIRED) -> float:
+    def quantity(self, key: str, default: Any = _REQUIRED, **bounds: Any) -> float:
         """The value at ``key`` in SI, in the dimension declared for it (:func:`key_dimension`).
+
+        ``bounds`` (``minimum``, ``exclusive_minimum``, ``maximum``) are checked in SI.
 
         Parameters
         ----------
@@ -190,6 +204,8 @@ class CaseTable:
             The key.
         default : object, optional
             Returned as given when the key is absent; without it the key is required.
+        **bounds : float
+            ``minimum``, ``exclusive_minimum`` and ``maximum`` in SI, checked on the value.
 
         Returns
         -------
@@ -207,9 +223,9 @@ class CaseTable:
         value = self.raw(key, default)
         if value is default:
             return value
-        return self.convert(value, (*self.tokens, key), self.where(key))
+        return self.convert(value, (*self.tokens, key), self.where(key), **bounds)
 
-    def convert(self, value: Any, tokens: tuple[str | int, ...], where: str) -> float:
+    def convert(self, value: Any, tokens: tuple[str | int, ...], where: str, **bounds: Any) -> float:
         """A value found at ``tokens`` in SI, in the dimension declared for that key path.
 
         Parameters
@@ -220,6 +236,8 @@ class CaseTable:
             Key path of the value, to look its dimension up.
         where : str
             Key path used in error messages.
+        **bounds : float
+            ``minimum``, ``exclusive_minimum`` and ``maximum`` in SI, checked on the value.
 
         Returns
         -------
@@ -229,7 +247,7 @@ class CaseTable:
         Raises
         ------
         InputError
-            If no dimension is declared for the key, or the value is not a number or quantity.
+            If no dimension is declared for the key, or the value is not a number or quantity in range.
         UnitError
             If the unit is unknown or of the wrong dimension.
         """
@@ -237,8 +255,8 @@ class CaseTable:
         if dimension is None:
             raise InputError(f"{where}: no physical dimension is declared for this key")
         if isinstance(value, bool) or not isinstance(value, int | float | str):
-            raise InputError(f"{where}: expected a number or a quantity such as '20 mm', got {value!r}")
-        return quantity(value, dimension, where)
+            raise InputError(f"{where}: expected a number or a quantity such as '20 mm', got {_shown(value)}")
+        return quantity(value, dimension, where, **bounds)
 
     def declared(self, cls: type, names: tuple[str, ...] | None = None) -> dict[str, float]:
         """The keys of this table that are declared fields of ``cls`` (or ``names`` of them), in SI.

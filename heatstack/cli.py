@@ -25,11 +25,12 @@ from importlib import resources
 from pathlib import Path
 
 from . import __version__
-from .atomic import write_file_atomically
+from .cli_errors import catch_termination, exit_code_and_line
 from .cli_fitting import cmd_calibrate, cmd_fit
 from .cli_runplan import PlannedRun, planned_runs
+from .cli_study import cmd_study
 from .cli_turnaround import add_turnaround_verbs
-from .errors import HeatstackError, InputError, ResultFileError
+from .errors import InputError, ResultFileError
 from .geometry import HEAT_SINK_MEAN
 from .report import CAUTION
 
@@ -116,8 +117,38 @@ def _make_folder(folder: Path, what: str) -> Path:
     return folder
 
 
-def _run_case_file(plan: PlannedRun, plots: bool, unit: str | None, quiet: bool, report_name: str = "report") -> int:
+def _refuse_foreign_outputs(plan: PlannedRun, plots: bool, report_name: str, force: bool) -> None:
+    """Before any run: refuse now, not after the solve, a results file reached through a link out of the
+    output folder, and (without ``force``) replacing a results file, report or figure heatstack did not write."""
+    from .own_files import check_replaceable
+
+    case_path, case, target, out = plan.case_path, plan.case, plan.target, plan.folder
+    if target.parent != out.absolute() and Path(os.path.realpath(target.parent)) != Path(os.path.realpath(out)):
+        raise InputError(
+            f"output.file: {case.output.file!r} is a link to a file outside the output folder {str(out)!r}; "
+            "heatstack writes only inside it"
+        )
+    if force:
+        return
+    check_replaceable(target, "results file")
+    for name in (f"{report_name}.html", f"{report_name}.md"):
+        check_replaceable(out / name, "report file")
+    if plots and case.output.plots:
+        for suffix in ("histories", "sensor-offset", "why-the-gauge-lags"):
+            check_replaceable(out / f"{case_path.stem}-{suffix}.png", "figure file")
+
+
+def _run_case_file(
+    plan: PlannedRun, plots: bool, unit: str | None, quiet: bool, report_name: str = "report", force: bool = False
+) -> int:
     """Run one planned case: results file, figures, ``report_name``.html and .md, the report printed."""
+    from .own_files import replacing_own_files_only
+
+    with replacing_own_files_only(force):
+        return _run_and_write(plan, plots, unit, quiet, report_name)
+
+
+def _run_and_write(plan: PlannedRun, plots: bool, unit: str | None, quiet: bool, report_name: str) -> int:
     from .case import run_case
     from .report import build_report, format_report
     from .report_html import write_report_files
@@ -159,10 +190,12 @@ def _cmd_run(args: argparse.Namespace) -> int:
     out = _make_folder(Path(args.out), "--out folder") if args.out else None
     planned = planned_runs([Path(c) for c in args.case], out)
     folders = [plan.folder.resolve() for plan in planned]
-    for plan in planned:
-        shared = folders.count(plan.folder.resolve()) > 1  # several cases in one folder: reports carry their names
-        report_name = f"{plan.case_path.stem}-report" if shared else "report"
-        _run_case_file(plan, not args.no_plots, args.unit, args.quiet, report_name)
+    names = [f"{p.case_path.stem}-report" if folders.count(p.folder.resolve()) > 1 else "report" for p in planned]
+    plots = not args.no_plots
+    for plan, report_name in zip(planned, names, strict=True):  # several cases in one folder: reports named
+        _refuse_foreign_outputs(plan, plots, report_name, args.force)
+    for plan, report_name in zip(planned, names, strict=True):
+        _run_case_file(plan, plots, args.unit, args.quiet, report_name, args.force)
     return 0
 
 
@@ -173,14 +206,23 @@ def _cmd_demo(args: argparse.Namespace) -> int:
         file=sys.stderr,
     )
     (plan,) = planned_runs([demo_case_path()], out)
-    return _run_case_file(plan, True, args.unit, args.quiet)
+    _refuse_foreign_outputs(plan, True, "report", args.force)
+    return _run_case_file(plan, True, args.unit, args.quiet, "report", args.force)
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
     from .case import load_case
+    from .own_files import check_replaceable, replacing_own_files_only
     from .plotting import plot_layout
 
     case = load_case(args.case)
+    if args.layout:
+        layout = Path(args.layout)
+    else:
+        folder = _make_folder(Path(args.out), "--out folder") if args.out else Path(args.case).resolve().parent
+        layout = folder / Path(args.case).with_suffix(".layout.png").name
+    if not args.force:
+        check_replaceable(layout, "layout figure")
     model = case.build_model()
     print(f"{case.title}")
     print(CAUTION)
@@ -213,8 +255,8 @@ def _cmd_check(args: argparse.Namespace) -> int:
                 _print_ground_roll(event.ground_roll)
     if model.heat_sink_mass is not None:
         print(f"heat-sink mass: {model.heat_sink_mass:.2f} kg")
-    layout = Path(args.layout) if args.layout else Path(args.case).with_suffix(".layout.png")
-    print(f"layout: {plot_layout(case.assembly, layout, model.grid)}")
+    with replacing_own_files_only(args.force):
+        print(f"layout: {plot_layout(case.assembly, layout, model.grid)}")
     return 0
 
 
@@ -264,6 +306,7 @@ def _cmd_report(args: argparse.Namespace) -> int:
 
 
 def _cmd_plot(args: argparse.Namespace) -> int:
+    from .own_files import replacing_own_files_only
     from .resultread import read_result
 
     path = Path(args.results)
@@ -272,8 +315,9 @@ def _cmd_plot(args: argparse.Namespace) -> int:
     if not out.is_dir():
         raise ResultFileError(f"plot folder {str(out)!r} does not exist")
     settings = _settings_from_file(path, args.unit)
-    fields = _plot_field_times(result, out, path.stem, settings.unit, args.time or ())
-    written = _write_plots(result, out, path.stem, settings) + fields
+    with replacing_own_files_only(args.force):
+        fields = _plot_field_times(result, out, path.stem, settings.unit, args.time or ())
+        written = _write_plots(result, out, path.stem, settings) + fields
     for p in written:
         print(p)
     return 0
@@ -297,46 +341,6 @@ def _plot_field_times(result, out: Path, name: str, unit: str, minutes: Sequence
             )
         written.append(plot_field(result, target, requested * 60.0, unit=unit))
     return written
-
-
-def _cmd_study(args: argparse.Namespace) -> int:
-    from .studies import LocalExecutor, load_study, run_study, sensitivity, study_report
-    from .studies.plots import plot_margin_histogram, plot_tornado
-
-    study = load_study(args.study)
-    store = Path(args.store) if args.store else Path(args.study).with_suffix(".store")
-    executor = args.scheduler or LocalExecutor(workers=args.workers)
-    try:
-        run = run_study(
-            study,
-            store,
-            executor,
-            progress=None if not args.quiet else False,
-            retry_failed=args.retry_failed,
-            timeout=args.timeout,
-        )
-    finally:
-        if not isinstance(executor, str):
-            executor.close()
-    print(
-        f"study: {run.cases_run} cases run, {run.cases_skipped} already in the store, "
-        f"{run.cases_failed} failed, {run.seconds:.1f} s"
-    )
-    report = study_report(run.table, temperature_unit=args.unit)
-    print(report)
-    if args.report:
-        text = report
-        write_file_atomically(args.report, lambda temp: temp.write_text(text, encoding="utf-8"), "report file")
-    plots = Path(args.plots) if args.plots else store
-    if "plug_margin_min" in run.table.columns:
-        print(f"plot: {plot_margin_histogram(run.table, plots / 'margin-histogram.png')}")
-        try:
-            ranking = sensitivity(run.table)
-        except InputError as exc:  # too few finished cases for a ranking: say so, keep the rest
-            print(f"no sensitivity tornado: {exc}")
-        else:
-            print(f"plot: {plot_tornado(ranking, plots / 'sensitivity-tornado.png')}")
-    return 0
 
 
 def _cmd_export(args: argparse.Namespace) -> int:
@@ -412,6 +416,8 @@ def _cmd_example(args: argparse.Namespace) -> int:
     return 0
 
 
+_FORCE_HELP = "replace existing files that heatstack did not write (by default they are left alone)"
+
 _EXAMPLES_HELP = {
     "run": "example: heatstack run my_case.toml --out results/",
     "demo": "example: heatstack demo --out heatstack-demo",
@@ -470,16 +476,20 @@ def _add_run_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units: t
     run.add_argument("--out", help="folder for results and plots (default: the case file's folder)")
     run.add_argument("--no-plots", action="store_true", help="write no plots")
     run.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
+    run.add_argument("--force", action="store_true", help=_FORCE_HELP)
     run.set_defaults(func=_cmd_run)
 
     demo = verb("demo", "run the invented demonstration case")
     demo.add_argument("--out", default="heatstack-demo", help="folder for results and plots (default: %(default)s)")
     demo.add_argument("--unit", choices=units, help="temperature unit of the report and plots")
+    demo.add_argument("--force", action="store_true", help=_FORCE_HELP)
     demo.set_defaults(func=_cmd_demo)
 
     check = verb("check", "validate a case, list its parts and cells, draw its layout")
     check.add_argument("case")
-    check.add_argument("--layout", help="PNG or SVG file for the r-z layout (default: CASE.layout.png)")
+    check.add_argument("--layout", help="PNG or SVG file for the r-z layout (default: CASE.layout.png in --out)")
+    check.add_argument("--out", help="folder for the layout figure (default: the case file's folder)")
+    check.add_argument("--force", action="store_true", help=_FORCE_HELP)
     check.set_defaults(func=_cmd_check)
 
 
@@ -501,6 +511,7 @@ def _add_result_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units
         help="map the field at the stored snapshot nearest this time [min]; the file is named by that snapshot",
     )
     plot.add_argument("--unit", choices=units)
+    plot.add_argument("--force", action="store_true", help=_FORCE_HELP)
     plot.set_defaults(func=_cmd_plot)
 
     export = verb("export", "write the histories and the energy ledger of a results file as CSV (units in the header)")
@@ -542,7 +553,8 @@ def _add_study_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units:
     study.add_argument("--report", help="also write the study report (Markdown) to this file")
     study.add_argument("--plots", help="folder for the margin histogram and tornado (default: the store)")
     study.add_argument("--unit", choices=units, default="degC")
-    study.set_defaults(func=_cmd_study)
+    study.add_argument("--force", action="store_true", help=_FORCE_HELP)
+    study.set_defaults(func=cmd_study)
 
 
 def _add_shipped_verbs(verb: Callable[[str, str], argparse.ArgumentParser]) -> None:
@@ -576,6 +588,12 @@ def _set_logging(verbose: bool, quiet: bool) -> None:
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit code.
 
+    Every exception ends as one line on stderr and an exit code: 2 for bad input (a
+    heatstack input error, a file that cannot be used, an input nested too deeply or a
+    number too large), 1 for a failed computation (a heatstack error, memory, the linear
+    solver) and for an unexpected internal error, whose traceback is saved to a file
+    named in the line; 130 when interrupted.
+
     Parameters
     ----------
     argv : sequence of str, optional
@@ -584,26 +602,27 @@ def main(argv: Sequence[str] | None = None) -> int:
     Returns
     -------
     int
-        The verb's exit code; 2 for bad input or a results-file problem, 1 for another
-        heatstack failure, 130 when interrupted, 0 when the output pipe closed.
+        The verb's exit code: 0 on success (and when the output pipe closed), 2 for bad input,
+        1 for a failed computation or an internal error, 130 when interrupted.
     """
     args = _parser().parse_args(argv)
     _set_logging(args.verbose, args.quiet)
     warnings.showwarning = _show_warning
+    restore_signals = catch_termination()
     try:
         return int(args.func(args))
-    except (InputError, ResultFileError) as exc:
-        print(f"heatstack: error: {exc}", file=sys.stderr)
-        return 2
-    except HeatstackError as exc:
-        print(f"heatstack: failed: {exc}", file=sys.stderr)
-        return 1
     except KeyboardInterrupt:
         print("heatstack: interrupted", file=sys.stderr)
         return 130
     except BrokenPipeError:  # output piped into a reader that stopped (e.g. head)
         sys.stdout = open(os.devnull, "w")  # noqa: SIM115 - keep Python's exit flush quiet
         return 0
+    except Exception as exc:  # noqa: BLE001 - the one place every failure becomes a line and a code
+        code, line = exit_code_and_line(exc)
+        print(line, file=sys.stderr)
+        return code
+    finally:
+        restore_signals()
 
 
 if __name__ == "__main__":

@@ -58,5 +58,9 @@ class ExecutorError(HeatstackError, RuntimeError):
     """A study executor failed (a worker process died, the cluster went away)."""
 
 
+class StudyError(HeatstackError, RuntimeError):
+    """A study ended without one finished case; the message says why the first cases failed."""
+
+
 class HeatstackWarning(UserWarning):
     """Soft problems: a property table clamped, a tolerance loosened, and so on."""

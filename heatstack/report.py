@@ -17,7 +17,7 @@ from __future__ import annotations
 import json
 import warnings
 from collections.abc import Mapping, Sequence
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, fields
 from typing import Any
 
 import numpy as np
@@ -98,15 +98,22 @@ class TyreSettings:
         Pressure limit [Pa gauge] to assess against, or None for no limit.
     ambient_pressure : float
         Air pressure [Pa] the gauge pressures are read against (the case's own ambient).
+
+    Notes
+    -----
+    The bounds keep the gas node's arithmetic finite while leaving every real tyre inside:
+    a gas volume of 1 cm^3 to 100 m^3, a rim-to-gas coefficient up to 10^4 W/(m^2 K) (gas
+    convection stays far below it), a carcass conductance up to 10^6 W/K, a gauge cold
+    pressure >= 0 and a gauge limit > 0 (common practice, no source).
     """
 
-    cold_pressure: float = declared("pressure")
-    gas_volume: float = declared("volume", positive=True)
-    cavity_area: float = declared("area", positive=True)
-    h_cavity: float = declared("heat_transfer_coefficient", 15.0, minimum=0.0)
-    outer_conductance: float | None = declared("thermal_conductance", None, minimum=0.0)
-    pressure_limit: float | None = declared("pressure", None)
-    ambient_pressure: float = declared("pressure", 101325.0, positive=True)
+    cold_pressure: float = declared("pressure", minimum=0.0)
+    gas_volume: float = declared("volume", minimum=1e-6, maximum=100.0)
+    cavity_area: float = declared("area", minimum=1e-6, maximum=100.0)
+    h_cavity: float = declared("heat_transfer_coefficient", 15.0, minimum=0.0, maximum=1e4)
+    outer_conductance: float | None = declared("thermal_conductance", None, minimum=0.0, maximum=1e6)
+    pressure_limit: float | None = declared("pressure", None, positive=True)
+    ambient_pressure: float = declared("pressure", 101325.0, minimum=1.0, maximum=1e7)
 
     def __post_init__(self) -> None:
         convert_declared(self, "tyre")
@@ -152,6 +159,17 @@ class ReportSettings:
     sensor: str = "sensor"
     title: str = ""
 
+    def __post_init__(self) -> None:
+        if self.unit not in ("degC", "degF", "K"):
+            raise InputError(f"report unit must be 'degC', 'degF' or 'K', got {str(self.unit)[:80]!r}")
+        for name, value in dict(self.limits).items():
+            _check_temperature(value, f"limits[{str(name)[:80]!r}]")
+        _check_temperature(self.cold_temperature, "cold_temperature")
+        if self.cooling_below is not None:
+            _check_temperature(self.cooling_below, "cooling_below")
+        if not (isinstance(self.band, int | float) and np.isfinite(self.band) and self.band >= 0.0):
+            raise InputError(f"band: must be a finite temperature difference >= 0 K, got {self.band!r}")
+
     def to_mapping(self) -> dict[str, Any]:
         """Plain JSON-able form (for the results file).
 
@@ -175,12 +193,73 @@ class ReportSettings:
         -------
         ReportSettings
             The settings, fuse plugs and tyre rebuilt as records.
+
+        Raises
+        ------
+        InputError
+            If ``data`` is not a mapping of known settings (a newer writer's, or damaged),
+            naming the unknown or bad setting.
         """
+        if not isinstance(data, Mapping):
+            raise InputError(f"report settings: expected a mapping, got {type(data).__name__}")
         data = dict(data)
-        data["fuse_plugs"] = tuple(FusePlugSpec(**p) for p in data.get("fuse_plugs", ()))
+        _known_keys(data, cls, "report settings")
+        plugs = data.get("fuse_plugs", ())
+        if not isinstance(plugs, list | tuple) or not all(isinstance(p, Mapping) for p in plugs):
+            raise InputError("report settings: fuse_plugs must be a list of mappings")
+        for p in plugs:
+            _known_keys(p, FusePlugSpec, "report settings: fuse plug")
         tyre = data.get("tyre")
-        data["tyre"] = TyreSettings(**tyre) if tyre else None
-        return cls(**data)
+        if tyre is not None and not isinstance(tyre, Mapping):
+            raise InputError("report settings: tyre must be a mapping or null")
+        if tyre:
+            _known_keys(tyre, TyreSettings, "report settings: tyre")
+        limits = data.get("limits", {})
+        if not isinstance(limits, Mapping):
+            raise InputError("report settings: limits must be a mapping of names to temperatures [K]")
+        try:
+            data["fuse_plugs"] = tuple(FusePlugSpec(**p) for p in plugs)
+            data["tyre"] = TyreSettings(**tyre) if tyre else None
+            return cls(**data)
+        except (TypeError, ValueError) as exc:
+            if isinstance(exc, InputError):
+                raise InputError(f"report settings: {exc}") from None
+            raise InputError(f"report settings: {type(exc).__name__}: {str(exc)[:80]}") from None
+
+
+def _known_keys(data: Mapping[str, Any], cls: type, what: str) -> None:
+    """InputError naming the keys of ``data`` that are not fields of dataclass ``cls``."""
+    names = {f.name for f in fields(cls)}
+    unknown = sorted(str(k)[:40] for k in data if k not in names)
+    if unknown:
+        raise InputError(
+            f"{what}: unknown setting(s) {', '.join(unknown[:5])} (written by a newer heatstack, or damaged)"
+        )
+
+
+def _check_temperature(value: Any, where: str) -> None:
+    """InputError unless ``value`` is a finite absolute temperature > 0 K."""
+    if isinstance(value, bool) or not isinstance(value, int | float | np.floating | np.integer):
+        raise InputError(f"{where}: expected a temperature [K], got {type(value).__name__}")
+    if not (np.isfinite(value) and value > 0.0):
+        raise InputError(f"{where}: must be a finite absolute temperature > 0 K, got {float(value)!r} K")
+
+
+def _non_finite(value: Any, path: str) -> str | None:
+    """The key path of the first non-finite number in the report data ``value``, or None."""
+    if isinstance(value, float | np.floating) and not np.isfinite(value):
+        return path
+    if isinstance(value, Mapping):
+        items = value.items()
+    elif isinstance(value, list | tuple):
+        items = enumerate(value)
+    else:
+        return None
+    for key, item in items:
+        found = _non_finite(item, f"{path}.{key}" if isinstance(key, str) else f"{path}[{key}]")
+        if found:
+            return found
+    return None
 
 
 def _float(value: float | None) -> float | None:
@@ -227,6 +306,9 @@ def build_report(
         warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
     seen = [*result.metadata.get("warnings", ()), *warnings_seen, *(str(w.message) for w in caught)]
     report["warnings"] = list(dict.fromkeys(str(w) for w in seen))
+    bad = _non_finite(report, "report")
+    if bad:  # never print a NaN or an infinity as an answer
+        raise InputError(f"{bad}: the answer is not a finite number; check the inputs it is computed from")
     return report
 
 

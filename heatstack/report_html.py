@@ -23,6 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from .atomic import write_file_atomically
+from .own_files import HTML_GENERATOR
 from .report import format_report
 from .report_text import (
     cooling_sentences,
@@ -244,6 +245,7 @@ def html_report(report: Mapping[str, Any], figures: Sequence[Path] = (), case_te
     title = _esc(report["title"] or "heatstack report")
     return (
         '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
+        f"{HTML_GENERATOR}"
         '<meta name="viewport" content="width=device-width, initial-scale=1">'
         f"<title>{title}</title><style>{_STYLE}</style></head>"
         f"<body><h1>{title}</h1><p class='note'>heatstack {_esc(report['heatstack_version'])}</p>"

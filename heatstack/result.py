@@ -7,13 +7,15 @@ state. The answers layer reads it and never re-runs the solver.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
 from .errors import InputError
+from .numerics.accounts import LEDGER_ACCOUNTS
 from .resulttables import history_frame, result_dataset
 
-__all__ = ["Result", "EnergyLedger", "State"]
+__all__ = ["Result", "EnergyLedger", "State", "first_non_finite"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -287,3 +289,29 @@ class Result:
             If xarray is not installed.
         """
         return result_dataset(self)
+
+
+def first_non_finite(result: Result) -> str | None:
+    """The name of the first computed history or state of ``result`` that holds NaN or infinity.
+
+    Void cells of the field snapshots are NaN by design and not counted.
+    """
+
+    arrays: list[tuple[str, Any]] = [("times", result.times), ("snapshot_times", result.snapshot_times)]
+    arrays += [(f"probe {name!r}", values) for name, values in result.probes.items()]
+    arrays += [(f"reading {name!r}", values) for name, values in result.readings.items()]
+    arrays += [(f"series {name!r}", values) for name, values in result.series.items()]
+    arrays += [(f"ledger {name}", getattr(result.ledger, name, ())) for name in LEDGER_ACCOUNTS]
+    arrays += [("final state", result.final_state.temperature)]
+    arrays += [(f"final reading {name!r}", v) for name, v in result.final_state.readings.items()]
+    arrays += [(f"final plug temperature {name!r}", v) for name, v in result.final_state.plug_temperatures.items()]
+    for name, values in arrays:
+        values = np.asarray(values)
+        if values.dtype.kind in "fc" and not np.all(np.isfinite(values)):
+            return name
+    snapshots = np.asarray(result.snapshots)
+    part_map = np.asarray(result.part_map)
+    if snapshots.ndim == 3 and snapshots.shape[1:] == part_map.shape and snapshots.dtype.kind == "f":
+        if not np.all(np.isfinite(snapshots[:, part_map >= 0])):
+            return "field snapshots"
+    return None

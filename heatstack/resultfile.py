@@ -91,7 +91,7 @@ import numpy as np
 from . import atomic
 from .atomic import as_path, os_reason, write_file_atomically, write_target
 from .errors import ResultFileError
-from .result import Result
+from .result import Result, first_non_finite
 from .resultformat import (
     CONVENTIONS,
     FORMAT_NAME,
@@ -207,7 +207,11 @@ def _to_json(value: Mapping | None, what: str) -> str:
         return "{}"
     if not isinstance(value, Mapping):
         raise ResultFileError(f"{what} must be a mapping, got {type(value).__name__}")
-    return json.dumps(_plain(value, what), ensure_ascii=False, sort_keys=False)
+    plain = _plain(value, what)
+    try:
+        return json.dumps(plain, ensure_ascii=False, sort_keys=False, allow_nan=False)
+    except ValueError:
+        raise ResultFileError(f"{what}: holds a NaN or an infinity, which a results file never stores") from None
 
 
 # --------------------------------------------------------------------------- writing
@@ -568,6 +572,9 @@ def write_result(
         raise ResultFileError(f"compression must be one of {list(_COMPRESSIONS)}, got {compression!r}")
     if not isinstance(case_text, str):
         raise ResultFileError(f"case_text must be a str, got {type(case_text).__name__}")
+    bad = first_non_finite(result)
+    if bad is not None:
+        raise ResultFileError(f"results file {str(path)[:80]!r} not written: the {bad} holds a NaN or an infinity")
     inputs_json = _to_json(resolved_inputs, "resolved_inputs")
     metadata_json = _to_json(result.metadata, "result.metadata")
     target = check_writable(path)

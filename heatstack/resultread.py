@@ -41,6 +41,18 @@ __all__ = [
 ]
 
 
+#: The most elements one dataset of a results file may declare: far above any run heatstack
+#: writes (a 2-million-cell grid with 200 snapshots is 4e8), far below what would exhaust memory
+#: by reading a damaged size.
+_MAX_ELEMENTS = 500_000_000
+
+
+def _cut(text: Any, limit: int = 80) -> str:
+    """``repr(text)`` cut to about ``limit`` characters, for a message."""
+    shown = repr(text)
+    return shown if len(shown) <= limit else shown[: limit - 3] + "..."
+
+
 class _Reader:
     """Checked access to the parts of an open results file; every failure names the file."""
 
@@ -67,6 +79,11 @@ class _Reader:
         full = f"{parent.name.rstrip('/')}/{name}"
         if not isinstance(item, h5py.Dataset):
             raise self.fail(f"lacks required dataset {full!r}")
+        if item.size is not None and item.size > _MAX_ELEMENTS:
+            raise self.fail(
+                f"dataset {full!r} declares {item.size:.3g} elements, more than a results file holds "
+                f"({_MAX_ELEMENTS:.0e}); the file is damaged"
+            )
         return item
 
     def array(
@@ -75,7 +92,7 @@ class _Reader:
         dataset = self.dataset(name, parent)
         stored = _attr_text(dataset.attrs.get(self.unit_key))
         if stored != unit:
-            raise self.fail(f"dataset {dataset.name!r} has unit {stored!r}, expected {unit!r}")
+            raise self.fail(f"dataset {dataset.name!r} has unit {_cut(stored)}, expected {unit!r}")
         if dataset.dtype.kind not in kind:
             raise self.fail(f"dataset {dataset.name!r} has type {dataset.dtype}, expected numbers")
         data = np.asarray(dataset[()])
@@ -104,7 +121,7 @@ class _Reader:
         try:
             value = json.loads(raw)
         except ValueError as exc:
-            raise self.fail(f"dataset {full!r} is not valid JSON ({exc})") from None
+            raise self.fail(f"dataset {full!r} is not valid JSON ({_cut(str(exc), 120)})") from None
         if not isinstance(value, dict):
             raise self.fail(f"dataset {full!r} does not hold a JSON object")
         return value
@@ -165,10 +182,12 @@ def _open(path: str | Path) -> Iterator[_Reader]:
             yield reader
     except ResultFileError:
         raise
-    except (OSError, KeyError, ValueError, TypeError, RuntimeError) as exc:
+    except (OSError, KeyError, ValueError, TypeError, RuntimeError, OverflowError, IndexError) as exc:
         raise ResultFileError(
-            f"results file {str(given)!r} is damaged or incomplete ({type(exc).__name__}: {exc})"
+            f"results file {str(given)!r} is damaged or incomplete ({type(exc).__name__}: {_cut(str(exc), 160)})"
         ) from None
+    except MemoryError:
+        raise ResultFileError(f"results file {str(given)!r} is damaged: a part of it is too large to read") from None
 
 
 def _check_format(reader: _Reader) -> int:
@@ -178,14 +197,14 @@ def _check_format(reader: _Reader) -> int:
         raise reader.fail(f"not a heatstack results file (no 'format' attribute; expected {FORMAT_NAME!r})")
     name = _attr_text(attrs["format"])
     if name != FORMAT_NAME:
-        raise reader.fail(f"holds format {name!r}, not a heatstack results file ({FORMAT_NAME!r})")
+        raise reader.fail(f"holds format {_cut(name)}, not a heatstack results file ({FORMAT_NAME!r})")
     raw = attrs.get("format_version")
     try:
         version = int(raw)
         if version != raw:
             raise ValueError
     except (TypeError, ValueError):
-        raise reader.fail(f"format_version {raw!r} is not a whole number") from None
+        raise reader.fail(f"format_version {_cut(raw)} is not a whole number") from None
     if version > FORMAT_VERSION:
         raise reader.fail(
             f"format_version {version} is newer than this heatstack reads ({FORMAT_VERSION}); "

@@ -17,6 +17,7 @@ from matplotlib.figure import Figure
 
 from ..atomic import write_file_atomically
 from ..errors import InputError, ResultFileError
+from ..own_files import FIGURE_SOFTWARE
 from ..result import Result
 from ..units import from_si
 
@@ -312,9 +313,9 @@ def save_figure(fig: Figure, target: Path, fmt: str) -> Path:
 
     def write(temp: Path) -> None:
         if fmt == "svg":
-            fig.savefig(temp, format="svg", metadata={"Date": None})
+            fig.savefig(temp, format="svg", metadata={"Date": None, "Creator": FIGURE_SOFTWARE})
         else:
-            fig.savefig(temp, format="png", dpi=_PNG_DPI)
+            fig.savefig(temp, format="png", dpi=_PNG_DPI, metadata={"Software": FIGURE_SOFTWARE})
 
     return write_file_atomically(target, write, "figure file")
 

@@ -385,13 +385,19 @@ class StudyStore:
                     raise ResultFileError(f"{where}: {MANIFEST} is not a heatstack study manifest")
                 attrs = {k: f.attrs[k] for k in f.attrs}
                 samples = f["samples"][()]
-        except OSError as exc:
-            raise ResultFileError(f"{where}: {MANIFEST} cannot be read ({exc})") from None
+        except (OSError, KeyError, TypeError, ValueError) as exc:
+            raise ResultFileError(f"{where}: {MANIFEST} cannot be read ({str(exc)[:80]})") from None
         out = {k: (_text(v) if isinstance(v, bytes | str) else v) for k, v in attrs.items()}
-        out["description"] = json.loads(out["description"])
-        out["parameters"] = json.loads(out["parameters"])
-        out["outputs"] = json.loads(out["outputs"])
-        out["n_cases"] = int(out["n_cases"])
+        try:
+            out["description"] = json.loads(out["description"])
+            out["parameters"] = json.loads(out["parameters"])
+            out["outputs"] = json.loads(out["outputs"])
+            out["n_cases"] = int(out["n_cases"])
+        except (KeyError, TypeError, ValueError, OverflowError) as exc:
+            raise ResultFileError(
+                f"{where}: {MANIFEST} is damaged ({type(exc).__name__}: {str(exc)[:80]}); "
+                "start the study in a new store folder"
+            ) from None
         out["samples"] = samples
         return out
 
@@ -401,7 +407,7 @@ class StudyStore:
                 record = {k: f.attrs[k] for k in f.attrs}
                 record["names"] = [_text(n) for n in f["names"][()]]
                 record["values"] = f["values"][()]
-        except (OSError, KeyError) as exc:
+        except (OSError, KeyError, TypeError, ValueError) as exc:
             log.warning("store %s: case file %s cannot be read (%s); it counts as not run", self.root, path.name, exc)
             return None
         return {k: (_text(v) if isinstance(v, bytes | str) else v) for k, v in record.items()}
@@ -429,7 +435,7 @@ class StudyStore:
             try:
                 with h5py.File(path, "r") as f:
                     out[int(f.attrs["index"])] = _text(f.attrs["status"])
-            except (OSError, KeyError):
+            except (OSError, KeyError, TypeError, ValueError):
                 log.warning("store %s: case file %s cannot be read; it will be run again", self.root, path.name)
         return out
 

@@ -1,0 +1,70 @@
+"""Braking events of a case file: one ``[[duty.phases.events]]`` table to a BrakingEvent.
+
+The event's ``kind`` picks its function (:data:`heatstack.case_keys.EVENT_KINDS`); the
+ground-roll sub-tables (aircraft, runway, conditions) fill their records; every error names
+the key path.
+"""
+
+from __future__ import annotations
+
+import difflib
+import inspect
+from dataclasses import fields
+from pathlib import Path
+from typing import Any
+
+from .case_keys import EVENT_KINDS, ROLL_RECORDS
+from .case_table import CaseTable
+from .errors import HeatstackError, InputError
+from .operations.events import BrakingEvent
+
+__all__ = ["braking_event"]
+
+
+def braking_event(t: CaseTable, base: Path) -> BrakingEvent:
+    """The braking event of one ``[[duty.phases.events]]`` table; errors name its key path.
+
+    Relative speed-trace paths are resolved against ``base``.
+    """
+    kind = t.text("kind")
+    if kind not in EVENT_KINDS:
+        close = difflib.get_close_matches(kind, EVENT_KINDS, n=1)
+        hint = f"; did you mean {close[0]!r}?" if close else ""
+        raise InputError(f"{t.where('kind')}: unknown event kind {kind!r}{hint} (kinds: {', '.join(EVENT_KINDS)})")
+    function = EVENT_KINDS[kind]
+    allowed = tuple(inspect.signature(function).parameters)
+    t.finish(("kind", *allowed))
+    kwargs = {key: value for key, value in t.data.items() if key != "kind"}
+    for key, record in ROLL_RECORDS.items():
+        if key in kwargs and key in allowed:
+            kwargs[key] = _record(record, t.table(key))
+    if isinstance(kwargs.get("path_or_rows"), str):
+        kwargs["path_or_rows"] = str(base / kwargs["path_or_rows"])
+    try:
+        return function(**kwargs)
+    except TypeError as exc:
+        missing = [
+            p.name
+            for p in inspect.signature(function).parameters.values()
+            if p.default is inspect.Parameter.empty and p.name not in kwargs
+        ]
+        raise InputError(f"{t.path}: {kind} needs {', '.join(missing) or 'other keys'} ({exc})") from None
+    except HeatstackError as exc:
+        raise InputError(f"{t.path}: {exc}") from exc
+
+
+def _record(record: type, table: CaseTable) -> Any:
+    """A ground-roll input record from its sub-table; unknown keys and bad values name the key path."""
+    names = tuple(f.name for f in fields(record))
+    table.finish(names)
+    try:
+        return record(**table.data)
+    except TypeError:
+        missing = [f.name for f in fields(record) if f.name not in table.data]
+        raise InputError(f"{table.path}: missing {', '.join(missing)}") from None
+    except HeatstackError as exc:
+        message, own = str(exc), f"{table.path.rsplit('.', 1)[-1]}: "
+        if message.startswith(own):  # "aircraft: mass: ..." -> "<path>.aircraft.mass: ..."
+            head, _, rest = message[len(own) :].partition(": ")
+            raise InputError(f"{table.path}.{head}: {rest}") from exc
+        raise InputError(f"{table.path}: {message}") from exc

@@ -1,0 +1,108 @@
+"""How the command line ends on an error: one line, an exit code, never a traceback.
+
+:func:`exit_code_and_line` maps every exception to its exit code (2 bad input, 1 failed
+computation or internal error) and the line printed; an unexpected error's traceback is saved
+to a file (:func:`save_traceback`) named in that line. :func:`catch_termination` turns SIGTERM
+and SIGHUP into exits Python sees, so temporary files are removed on the way out.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from collections.abc import Callable
+from pathlib import Path
+
+from . import __version__
+from .errors import HeatstackError, InputError, ResultFileError
+
+__all__ = ["MESSAGE_LIMIT", "catch_termination", "exit_code_and_line", "one_line", "save_traceback"]
+
+
+#: The longest error message printed [characters]: a message quoting a huge input is cut.
+MESSAGE_LIMIT = 600
+
+
+def one_line(exc: BaseException) -> str:
+    """The message of ``exc``, cut to :data:`MESSAGE_LIMIT` characters."""
+    text = str(exc) or type(exc).__name__
+    if len(text) > MESSAGE_LIMIT:
+        text = f"{text[: MESSAGE_LIMIT - 60]} ... ({len(text) - MESSAGE_LIMIT + 60} characters not shown)"
+    return text
+
+
+def save_traceback(exc: BaseException) -> Path | None:
+    """Write the traceback of an unexpected error to a new file in the temporary folder; its path."""
+    import tempfile
+    import time
+    import traceback
+
+    text = f"heatstack {__version__}, {time.strftime('%Y-%m-%dT%H:%M:%SZ', time.gmtime())}\n"
+    text += f"command: heatstack {' '.join(sys.argv[1:])[:2000]}\n\n"
+    text += "".join(traceback.format_exception(type(exc), exc, exc.__traceback__))
+    try:
+        handle, name = tempfile.mkstemp(prefix="heatstack-traceback-", suffix=".txt")
+        with os.fdopen(handle, "w", encoding="utf-8") as out:
+            out.write(text)
+    except OSError:
+        return None
+    return Path(name)
+
+
+def catch_termination() -> Callable[[], None]:
+    """Make SIGTERM and SIGHUP exits Python sees (SystemExit), so temporary files are removed.
+
+    Returns the function that puts the previous handlers back. A process forked from this
+    one (a local study worker) keeps the default: it dies at once, as before.
+    """
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return lambda: None
+    owner = os.getpid()
+
+    def on_terminate(signum, frame) -> None:
+        if os.getpid() != owner:
+            signal.signal(signum, signal.SIG_DFL)
+            os.kill(os.getpid(), signum)
+            return
+        raise SystemExit(128 + signum)
+
+    previous = {}
+    for name in ("SIGTERM", "SIGHUP"):
+        number = getattr(signal, name, None)
+        if number is not None and signal.getsignal(number) in (signal.SIG_DFL, None):
+            previous[number] = signal.signal(number, on_terminate)
+
+    def restore() -> None:
+        for number, handler in previous.items():
+            signal.signal(number, handler)
+
+    return restore
+
+
+def exit_code_and_line(exc: BaseException) -> tuple[int, str]:
+    """The exit code and the one line printed for an exception that reached the command line."""
+    if isinstance(exc, InputError | ResultFileError):
+        return 2, f"heatstack: error: {one_line(exc)}"
+    if isinstance(exc, HeatstackError):
+        return 1, f"heatstack: failed: {one_line(exc)}"
+    if isinstance(exc, RecursionError):
+        return 2, "heatstack: error: an input is nested too deeply to read"
+    if isinstance(exc, MemoryError):
+        return 1, "heatstack: failed: out of memory; an input size (cells, cases, snapshots) is too large"
+    if isinstance(exc, OverflowError):
+        return 2, f"heatstack: error: a number in the input is too large ({one_line(exc)[:80]})"
+    if isinstance(exc, SystemError) and "gstrf" in str(exc):
+        return 1, "heatstack: failed: the sparse linear solver refused the matrix (the grid is too fine or too large)"
+    if isinstance(exc, UnicodeError):
+        return 2, f"heatstack: error: a file or name is not valid text ({one_line(exc)[:80]})"
+    if isinstance(exc, ValueError) and "null byte" in str(exc):
+        return 2, "heatstack: error: a path holds a null byte"
+    if isinstance(exc, OSError):
+        where = f" {str(exc.filename)[:80]!r}" if getattr(exc, "filename", None) else ""
+        return 2, f"heatstack: error: cannot use{where}: {exc.strerror or one_line(exc)[:80]}"
+    saved = save_traceback(exc)
+    where = f"; the traceback is saved in {saved}" if saved else ""
+    return 1, (f"heatstack: internal error: {type(exc).__name__}: {one_line(exc)[:120]} - please report it{where}")

@@ -1,0 +1,82 @@
+"""The ``heatstack study`` verb: run or resume a study, report it, and fail when no case finished."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from .atomic import write_file_atomically
+from .errors import InputError
+
+__all__ = ["cmd_study", "fail_if_nothing_finished", "write_study_outputs"]
+
+
+def cmd_study(args: argparse.Namespace) -> int:
+    """Run or resume the study of ``args.study``, print and write its report; the exit code."""
+    from .own_files import check_replaceable, replacing_own_files_only
+    from .studies import LocalExecutor, load_study, run_study, study_report
+
+    study = load_study(args.study)
+    store = Path(args.store) if args.store else Path(args.study).with_suffix(".store")
+    if args.report and not args.force:
+        check_replaceable(Path(args.report), "report file")  # before the study, not after it
+    executor = args.scheduler or LocalExecutor(workers=args.workers)
+    try:
+        run = run_study(
+            study,
+            store,
+            executor,
+            progress=None if not args.quiet else False,
+            retry_failed=args.retry_failed,
+            timeout=args.timeout,
+        )
+    finally:
+        if not isinstance(executor, str):
+            executor.close()
+    print(
+        f"study: {run.cases_run} cases run, {run.cases_skipped} already in the store, "
+        f"{run.cases_failed} failed, {run.seconds:.1f} s"
+    )
+    report = study_report(run.table, temperature_unit=args.unit)
+    print(report)
+    with replacing_own_files_only(args.force):
+        write_study_outputs(args, run, report, store)
+    fail_if_nothing_finished(run.table)
+    return 0
+
+
+def fail_if_nothing_finished(table, shown: int = 3) -> None:
+    """StudyError (exit 1) when cases failed and none finished, with the first reasons."""
+    from .errors import StudyError
+
+    counts = table.counts()
+    if not counts["failed"] or counts["ok"]:
+        return
+    failed = [k for k, status in enumerate(table["status"]) if status == "failed"]
+    reasons = []
+    for index in failed[:shown]:
+        text = str(table["error"][index] or "no error text").strip().splitlines() or ["no error text"]
+        first = text[0] if len(text[0]) <= 160 else text[0][:157] + "..."
+        reasons.append(f"case {index}: {first}")
+    raise StudyError(
+        f"all {counts['failed']} cases of the study failed, none finished; the first: " + "; ".join(reasons)
+    )
+
+
+def write_study_outputs(args: argparse.Namespace, run, report: str, store: Path) -> None:
+    """The study's Markdown report (``--report``) and its margin histogram and tornado."""
+    from .studies import sensitivity
+    from .studies.plots import plot_margin_histogram, plot_tornado
+
+    if args.report:
+        text = report
+        write_file_atomically(args.report, lambda temp: temp.write_text(text, encoding="utf-8"), "report file")
+    plots = Path(args.plots) if args.plots else store
+    if "plug_margin_min" in run.table.columns:
+        print(f"plot: {plot_margin_histogram(run.table, plots / 'margin-histogram.png')}")
+        try:
+            ranking = sensitivity(run.table)
+        except InputError as exc:  # too few finished cases for a ranking: say so, keep the rest
+            print(f"no sensitivity tornado: {exc}")
+        else:
+            print(f"plot: {plot_tornado(ranking, plots / 'sensitivity-tornado.png')}")
