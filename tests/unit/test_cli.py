@@ -71,7 +71,14 @@ def test_several_cases_of_distinct_results_files_run_into_one_folder_with_their_
     out = tmp_path / "out"
     assert main(["run", str(first), str(second), "--out", str(out), "--quiet", "--no-plots"]) == 0
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["first-report.html", "first-report.md", "results.h5", "second-report.html", "second-report.md", "second.h5"]
+    assert names == [
+        "first-report.html",
+        "first-report.md",
+        "results.h5",
+        "second-report.html",
+        "second-report.md",
+        "second.h5",
+    ]
 
 
 def test_check_prints_cells_and_draws_the_layout(tmp_path, capsys):

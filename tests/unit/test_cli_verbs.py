@@ -22,7 +22,9 @@ def two_cases(tmp_path_factory):
     folder = tmp_path_factory.mktemp("cases")
     out = folder / "new" / "nested"
     (folder / "first.toml").write_text(SMALL)
-    second = SMALL.replace('energy = "1 MJ"', 'energy = "2 MJ"').replace("[case]", '[output]\nfile = "second.h5"\n\n[case]', 1)
+    second = SMALL.replace('energy = "1 MJ"', 'energy = "2 MJ"').replace(
+        "[case]", '[output]\nfile = "second.h5"\n\n[case]', 1
+    )
     (folder / "second.toml").write_text(second)
     assert main(["run", str(folder / "first.toml"), "--out", str(out), "--quiet"]) == 0
     first = (out / "first-histories.png").read_bytes()
