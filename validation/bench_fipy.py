@@ -343,10 +343,10 @@ def profile() -> None:
 
     step = cumulative("step")
     parts = {
-        "material properties (k_r, k_z, c, H per iteration)": cumulative("cell_properties", "assembly.py"),
+        "material properties (k_r, k_z, c, H per iteration)": cumulative("cell_properties", "step_matrix.py"),
         "boundary coefficients (per-group laws, radiation, U)": cumulative("faces", "boundaries.py"),
         "gap radiation conductances": cumulative("gaps", "boundaries.py"),
-        "friction partition": cumulative("friction", "assembly.py"),
+        "friction partition": cumulative("friction", "step_matrix.py"),
         "triangular solves (SuperLU.solve)": own("'solve' of 'SuperLU'"),
         "factorisations (splu)": cumulative("factorise"),
         "conservative update (mat-vec + exact T(H))": cumulative("conservative_update"),

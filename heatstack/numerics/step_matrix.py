@@ -26,7 +26,9 @@ __all__ = [
     "StepMatrix",
     "cell_enthalpy",
     "cell_properties",
+    "cell_properties_by_material",
     "cell_temperature",
+    "cell_temperature_by_material",
     "csc_pattern",
     "out_of_range_cell",
 ]
@@ -52,7 +54,20 @@ class CellProperties:
 
 
 def cell_properties(network: Network, T: np.ndarray) -> CellProperties:
-    """Conductivity, heat capacity and enthalpy of every cell at temperatures ``T`` [K]."""
+    """Conductivity, heat capacity and enthalpy of every cell at temperatures ``T`` [K].
+
+    One pass over the network's merged tables; a field with a cell outside its
+    material's tables goes material by material, which applies each table's range
+    policy (raise, or clamp and warn).
+    """
+    merged = network.tables.thermal_properties(T)
+    if merged is not None:
+        return CellProperties(conductivity=merged[0], heat_capacity=merged[1], enthalpy=merged[2])
+    return cell_properties_by_material(network, T)
+
+
+def cell_properties_by_material(network: Network, T: np.ndarray) -> CellProperties:
+    """:func:`cell_properties` evaluated material by material (each table's range policy applies)."""
     n = network.n_cells
     conductivity, c, H = np.empty(2 * n), np.empty(n), np.empty(n)
     for material, block in network.material_blocks:
@@ -71,7 +86,17 @@ def cell_enthalpy(network: Network, T: np.ndarray) -> np.ndarray:
 
 
 def cell_temperature(network: Network, H: np.ndarray) -> np.ndarray:
-    """Temperature [K] of every cell from its volumetric enthalpy ``H`` [J/m^3] (exact inverse)."""
+    """Temperature [K] of every cell from its volumetric enthalpy ``H`` [J/m^3] (exact inverse).
+
+    One pass over the merged tables, or material by material when a cell lies outside
+    its specific-heat table (so the table's range policy applies).
+    """
+    merged = network.tables.temperature(H)
+    return merged if merged is not None else cell_temperature_by_material(network, H)
+
+
+def cell_temperature_by_material(network: Network, H: np.ndarray) -> np.ndarray:
+    """:func:`cell_temperature` evaluated material by material."""
     T = np.empty(network.n_cells)
     for material, block in network.material_blocks:
         T[block] = material.temperature_from_enthalpy(H[block])
