@@ -3,7 +3,12 @@
 The matrix of one backward-Euler step has a fixed sparsity pattern (every cell, every
 conduction link and every gap-radiation pair), built once per run by
 :func:`csc_pattern`; :class:`StepMatrix` writes the capacities, boundary coefficients
-and conductances of the current iterate into it in place and factorises it. The cell
+and conductances of the current iterate into it in place and factorises it. The matrix
+is symmetric positive definite, so it is factorised as ``P A P^T = L D L^T`` by QDLDL
+(the optional ``qdldl`` package, ``pip install heatstack[fast]``) with the fill-reducing
+order and the elimination tree of the first factorisation reused by every later one
+(``validation/bench_fipy.py`` measures it against the alternatives); without that
+package, by SuperLU (``scipy.sparse.linalg.splu``) in its symmetric mode. The cell
 material properties (:func:`cell_properties`) and the friction and volumetric heat
 (:class:`HeatSources`) are what the assembly reads.
 """
@@ -17,6 +22,11 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from ..errors import InputError
+
+try:  # the optional [fast] extra: a lean LDL^T factorisation with reusable symbolic analysis
+    import qdldl
+except ImportError:  # pragma: no cover - depends on the environment
+    qdldl = None
 from .network import Network
 from .schedule import Schedule
 
@@ -159,6 +169,19 @@ class StepMatrix:
             (np.ones(2 * (m + q)), (link_ends, np.concatenate((ends[:m], ends[:m], ends[m:], ends[m:])))),
             shape=(n, m + q),
         )
+        # the upper triangle (diagonal included) of the fixed pattern, as LDL^T reads it
+        column = np.repeat(np.arange(n), np.diff(self.matrix.indptr))
+        self.upper_positions = np.flatnonzero(self.matrix.indices <= column)
+        upper_counts = np.bincount(column[self.upper_positions], minlength=n)
+        self.upper = sp.csc_matrix(
+            (
+                np.zeros(self.upper_positions.size),
+                self.matrix.indices[self.upper_positions],
+                np.concatenate(([0], np.cumsum(upper_counts))).astype(np.int32),
+            ),
+            shape=(n, n),
+        )
+        self.ldl = None
 
     def link_conductances(self, conductivity: np.ndarray, contact: np.ndarray) -> np.ndarray:
         """Conductance [W/K] of every link: two half-cell resistances and the contact resistance."""
@@ -185,7 +208,34 @@ class StepMatrix:
             values = np.concatenate((diagonal, -G, -G, -G_gap, -G_gap))
             data[:] = np.bincount(self.position, weights=values, minlength=data.size)
 
-    def factorise(self) -> spla.SuperLU:
+    def factorise(self):
+        """Factors of the matrix as it stands, with a ``solve(rhs)`` method.
+
+        With ``qdldl`` installed: its LDL^T solver, whose fill-reducing order (AMD) and
+        symbolic factorisation are made by the first call and reused by every later one,
+        which only refactorises numerically, in place (so the factors of an earlier call
+        are those of the latest matrix). Without it, or if it fails: SuperLU factors
+        (symmetric mode, fill-reducing order).
+
+        References
+        ----------
+        .. [1] Stellato, B., Banjac, G., Goulart, P., Bemporad, A., Boyd, S., 2020, OSQP: an
+           operator splitting solver for quadratic programs, Math. Prog. Comp. 12, 637-672
+           (QDLDL, the LDL^T factorisation it uses).
+        """
+        if qdldl is not None:
+            self.upper.data[:] = self.matrix.data[self.upper_positions]
+            try:
+                if self.ldl is None:
+                    self.ldl = qdldl.Solver(self.upper, upper=True)
+                else:
+                    self.ldl.update(self.upper, upper=True)
+                return self.ldl
+            except (ValueError, RuntimeError):  # e.g. a zero pivot: fall back to LU with pivoting
+                self.ldl = None
+        return self.factorise_lu()
+
+    def factorise_lu(self) -> spla.SuperLU:
         """Sparse LU factors of the matrix as it stands (symmetric mode, fill-reducing order)."""
         return spla.splu(
             self.matrix.copy(),
