@@ -159,15 +159,47 @@ class StepMatrix:
         rows = np.concatenate((diag, net.link_a, net.link_b, net.gap_a, net.gap_b))
         cols = np.concatenate((diag, net.link_b, net.link_a, net.gap_b, net.gap_a))
         self.matrix, self.position = csc_pattern(n, rows, cols)
-        self.unique_positions = np.unique(self.position).size == self.position.size
         cuts = np.cumsum([n, m, m, q])
         self.pos_diag, self.pos_ab, self.pos_ba, self.pos_gap_ab, self.pos_gap_ba = np.split(self.position, cuts)
-        link_ends = np.concatenate((net.link_a, net.link_b, net.gap_a, net.gap_b))
-        # each cell's sum of the conductances of its links and gap pairs, as one mat-vec
-        ends = np.arange(m + q)
-        self.incidence = sp.csr_matrix(
-            (np.ones(2 * (m + q)), (link_ends, np.concatenate((ends[:m], ends[:m], ends[m:], ends[m:])))),
-            shape=(n, m + q),
+        # the matrix data from (diagonal, link conductances, gap conductances) as one mat-vec:
+        # each diagonal entry gathers its cell's diagonal and the conductances of its links
+        # and gap pairs, each off-diagonal entry minus its link's (duplicates summed)
+        values = np.arange(n + m + q)
+        link_values = values[n : n + m]
+        gap_values = values[n + m :]
+        self.assembly = sp.csr_matrix(
+            (
+                np.concatenate((np.ones(n + 2 * (m + q)), -np.ones(2 * (m + q)))),
+                (
+                    np.concatenate(
+                        (
+                            self.pos_diag,
+                            self.pos_diag[net.link_a],
+                            self.pos_diag[net.link_b],
+                            self.pos_diag[net.gap_a],
+                            self.pos_diag[net.gap_b],
+                            self.pos_ab,
+                            self.pos_ba,
+                            self.pos_gap_ab,
+                            self.pos_gap_ba,
+                        )
+                    ),
+                    np.concatenate(
+                        (
+                            values[:n],
+                            link_values,
+                            link_values,
+                            gap_values,
+                            gap_values,
+                            link_values,
+                            link_values,
+                            gap_values,
+                            gap_values,
+                        )
+                    ),
+                ),
+            ),
+            shape=(self.matrix.data.size, n + m + q),
         )
         # the upper triangle (diagonal included) of the fixed pattern, as LDL^T reads it
         column = np.repeat(np.arange(n), np.diff(self.matrix.indptr))
@@ -194,19 +226,7 @@ class StepMatrix:
 
     def assemble(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
         """Write the step matrix in place: ``diagonal`` plus the conductances of every link."""
-        data = self.matrix.data
-        diagonal = diagonal + self.incidence @ (np.concatenate((G, G_gap)) if G_gap.size else G)
-        if self.unique_positions:
-            data[self.pos_diag] = diagonal
-            negative = -G
-            data[self.pos_ab] = negative
-            data[self.pos_ba] = negative
-            if G_gap.size:
-                data[self.pos_gap_ab] = -G_gap
-                data[self.pos_gap_ba] = -G_gap
-        else:  # a link and a gap pair share cells: sum the duplicates
-            values = np.concatenate((diagonal, -G, -G, -G_gap, -G_gap))
-            data[:] = np.bincount(self.position, weights=values, minlength=data.size)
+        self.matrix.data[:] = self.assembly @ np.concatenate((diagonal, G, G_gap))
 
     def factorise(self):
         """Factors of the matrix as it stands, with a ``solve(rhs)`` method.

@@ -21,6 +21,7 @@ phase at once and calls the time-dependent laws on their own faces.
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -139,16 +140,34 @@ class PieceLookup:
     low: np.ndarray
     high: np.ndarray
 
+    @functools.cached_property
+    def _common(self) -> tuple[float, float, bool]:
+        """The range inside every item's range, and whether all items read one table."""
+        if self.low.size == 0:
+            return -np.inf, np.inf, True
+        one_table = bool(np.all(self.first == self.first[0]))
+        return float(self.low.max()), float(self.high.min()), one_table
+
     def inside(self, x: np.ndarray) -> bool:
         """Whether every item's abscissa lies in its table's range (false for NaN)."""
+        if x.size == 0:
+            return True
+        low, high, _ = self._common
+        if x.min() >= low and x.max() <= high:  # the usual case, in two reductions
+            return True
         return bool(np.all((x >= self.low) & (x <= self.high)))
 
     def locate(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """The coefficients (r, n) of each item's piece at ``x`` and the offset ``x - knot``."""
         pieces = self.pieces
-        k = np.searchsorted(pieces.shifted, x + self.shift, side="right") - 1
-        np.clip(k, self.first, self.last, out=k)
-        return pieces.coefficients[:, k], x - pieces.knots[k]
+        if self._common[2] and x.size:  # one table: no shift, scalar bounds
+            shift = self.shift[0]
+            k = np.searchsorted(pieces.shifted, x + shift if shift else x, side="right") - 1
+            np.clip(k, self.first[0], self.last[0], out=k)
+        else:
+            k = np.searchsorted(pieces.shifted, x + self.shift, side="right") - 1
+            np.clip(k, self.first, self.last, out=k)
+        return np.take(pieces.coefficients, k, axis=1), x - np.take(pieces.knots, k)
 
 
 @dataclass(frozen=True, eq=False)
