@@ -259,6 +259,51 @@ class Material:
             self.enthalpy(knots)[:-1],
         )
 
+    def property_pieces(self) -> tuple[np.ndarray, np.ndarray]:
+        """The thermal properties as polynomial pieces over the union of the table knots.
+
+        On each interval ``[knots[k], knots[k + 1]]`` of the common range of the
+        specific-heat and conductivity tables, with ``x = T - knots[k]`` [K]:
+        ``k_r = a[0] + a[3] x``, ``k_z = a[1] + a[4] x``, ``rho cp = a[2] + a[5] x`` and
+        ``H = a[6] + x (a[2] + a[5] x / 2)``, ``a = coefficients[:, k]`` — the same
+        expressions as :meth:`thermal_properties`, for the solver's merged tables.
+
+        Returns
+        -------
+        knots : ndarray
+            (K,) knot temperatures [K].
+        coefficients : ndarray
+            (7, K - 1): k_r [W/(m K)], k_z, rho cp [J/(m^3 K)] at each interval's start,
+            their slopes per kelvin, and H [J/m^3] at the start.
+        """
+        knots = self._fused_knots[0]
+        (kr0, kr1), (kz0, kz1), (c0, c1), h0 = self._fused_values
+        return knots, np.array([kr0, kz0, c0, kr1, kz1, c1, h0])
+
+    def enthalpy_pieces(self) -> tuple[np.ndarray, np.ndarray]:
+        """The specific heat table as it enters the exact inverse of the enthalpy.
+
+        Returns
+        -------
+        knot_energy : ndarray
+            (K,) specific energy [J/kg] at each specific-heat knot, counted from the first.
+        coefficients : ndarray
+            (3, K - 1): cp [J/(kg K)] and its slope [J/(kg K^2)] at each interval's
+            start, and the knot temperature [K], as used by :meth:`temperature_from_enthalpy`.
+        """
+        cp = self.specific_heat
+        return self._knot_energy, np.array([cp.value[:-1], cp._slope, cp.temperature[:-1]])
+
+    @property
+    def reference_energy(self) -> float:
+        """Specific energy [J/kg] from the first specific-heat knot to 293.15 K."""
+        return self._reference_energy
+
+    @property
+    def enthalpy_range(self) -> tuple[float, float]:
+        """Volumetric enthalpy [J/m^3] at the first and last specific-heat knots."""
+        return self._enthalpy_range
+
     def enthalpy(self, temperature: ArrayLike) -> np.ndarray:
         """Volumetric enthalpy ``density * integral of cp from 293.15 K to T`` [J/m^3].
 

@@ -3,39 +3,50 @@
 Not a test (``validation/`` is outside the pytest ``testpaths``). Run from the
 repository root::
 
-    PYTHONPATH=. python validation/bench_fipy.py               # everything below, about 2-3 min
-    PYTHONPATH=. python validation/bench_fipy.py --no-memory   # skip the memory run
-    PYTHONPATH=. python validation/bench_fipy.py --profile     # also: where heatstack's step time goes
+    PYTHONPATH=. python validation/bench_fipy.py                   # everything below, a few minutes
+    PYTHONPATH=. python validation/bench_fipy.py --no-memory       # skip the memory run
+    PYTHONPATH=. python validation/bench_fipy.py --profile         # also: where heatstack's step time goes
+    PYTHONPATH=. python validation/bench_fipy.py --factorisations  # also: factorisations of the step matrix
 
 Printed: the largest probe and field differences, each solver's time per step,
-heatstack's time per step over one triangular solve of its own step matrix, the
-heatstack solver statistics, time per step at about 3k, 12k and 50k cells, and the
+heatstack's time per step over one triangular solve of its own step matrix (for
+information), the heatstack solver statistics, FiPy's conjugate-gradient solver
+checked against its LU solver, time per step at about 3k, 12k and 50k cells, and the
 peak resident memory (``resource.getrusage(RUSAGE_SELF).ru_maxrss`` of a separate
-process) of a 50k-cell run over three simulated hours with adaptive steps (about
-20-30 s; ``--no-memory`` skips it).
+process) of a 50k-cell run over three simulated hours with adaptive steps
+(``--no-memory`` skips it).
 
 The reference is FiPy 4.0.3 (https://pages.nist.gov/fipy/), through the twin model of
-``validation/fipy_reference.py`` in its enthalpy form. The problem: a five-part
-carbon-like stack (pressure plate, rotor, stator, rotor, end plate; annulus
+``validation/fipy_reference.py`` in its enthalpy form, with FiPy's fastest solver for
+this symmetric positive definite problem: its conjugate-gradient solver
+(``LinearPCGSolver``, SciPy suite, relative residual 1e-10), which gives the answers of
+its LU solver to well inside the sweep tolerance (printed) in less time. The problem: a
+five-part carbon-like stack (pressure plate, rotor, stator, rotor, end plate; annulus
 r = 0.12..0.22 m, 5 x 30 mm) of one material whose specific heat doubles between 300 K
 and 1000 K and whose conductivity falls with temperature (anisotropic); a 20 s braking
 pulse of 1.0 MW peak at the four rubbing faces; convection h = 30 W/(m^2 K) to 300 K on
 every surface; 100 fixed steps of 0.5 s. About 12,000 cells for the comparison; 3k and
 50k more for the scaling (50k heatstack only).
 
-Timing rule: each solver's time per step is the best of ``REPEATS`` complete runs of
-the 100 steps, measured in this one process (wall clock, ``time.perf_counter``); the
-model / mesh build is excluded for both, everything inside the run is included. The
-last printed line is ``speedup_vs_fipy: X`` with X = FiPy time per step / heatstack
-time per step (12k case).
+Timing rule: on a shared machine, runs timed one after the other swing with the load,
+so the two solvers are timed interleaved (heatstack, FiPy, heatstack, FiPy, ...; wall
+clock, ``time.perf_counter``, in this one process), ``PAIRS`` complete runs of the 100
+steps each; the model / mesh build is excluded for both, everything inside the run is
+included. The speed-up is the median of the pairwise ratios FiPy / heatstack. BLAS runs
+single-threaded for both (``OPENBLAS_NUM_THREADS=1`` unless set): on two loaded cores
+OpenBLAS's threads on the solvers' small vector products cost far more than they save.
+The last printed line is ``speedup_vs_fipy: X`` (12k case).
 """
 
 from __future__ import annotations
 
+import os
+
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")  # before numpy loads OpenBLAS; see the timing rule
+
 import argparse
 import cProfile
 import json
-import os
 import pstats
 import resource
 import subprocess
@@ -44,6 +55,7 @@ import time
 from pathlib import Path
 
 import numpy as np
+import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from heatstack import (
@@ -58,6 +70,7 @@ from heatstack import (
     SolverOptions,
     simple_material,
 )
+from heatstack.numerics import step_matrix
 from heatstack.numerics.solver import Integrator, initial_field
 
 HERE = Path(__file__).resolve().parent
@@ -79,7 +92,9 @@ POWER_TIMES, POWER = (0.0, 0.5, 20.0), (0.0, 1.0e6, 0.0)
 H_CONV, T_AIR, T0 = 30.0, 300.0, 300.0
 DT, STEPS = 0.5, 100
 TOLERANCE = 1e-6  # heatstack Newton tolerance and FiPy sweep tolerance [K]
-REPEATS = 2
+PAIRS = 3  # interleaved heatstack / FiPy runs of the 12k case
+REPEATS = 2  # runs of each other timing (median)
+FIPY_SOLVER, CG_TOLERANCE = "cg", 1e-10
 SIZES = {"3k": (0.002, 0.0025), "12k": (0.001, 0.00125), "50k": (0.0005, 0.000625)}
 PROBE_TARGETS = {
     "pressure plate at rubbing face": (0.20, 0.0299),
@@ -111,49 +126,64 @@ def options(**extra) -> SolverOptions:
     return SolverOptions(fixed_step=DT, tolerance=TOLERANCE, **extra)
 
 
+def run_heatstack(model: Model, solver_options: SolverOptions | None = None):
+    """Wall time [s] of one ``model.run`` of the 100 steps and its result."""
+    start = time.perf_counter()
+    result = model.run(schedule(), T0, solver_options or options())
+    return time.perf_counter() - start, result
+
+
 def time_heatstack(model: Model, solver_options: SolverOptions | None = None, repeats: int = REPEATS):
-    """Best-of-``repeats`` wall time per step of ``model.run`` and the last result."""
-    best, result = np.inf, None
-    for _ in range(repeats):
-        start = time.perf_counter()
-        result = model.run(schedule(), T0, solver_options or options())
-        best = min(best, time.perf_counter() - start)
-    return best / result.metadata["solver"]["steps"], result
+    """Median wall time per step of ``repeats`` runs and the last result."""
+    runs = [run_heatstack(model, solver_options) for _ in range(repeats)]
+    result = runs[-1][1]
+    return float(np.median([t for t, _ in runs])) / result.metadata["solver"]["steps"], result
 
 
-def time_fipy(model: Model, times: np.ndarray, probes: dict, snapshot_times, repeats: int = REPEATS):
+def fipy_twin(model: Model, solver: str = FIPY_SOLVER):
     sys.path.insert(0, str(HERE))
     from fipy_reference import FipyTwin
 
     convection = {side: (H_CONV, T_AIR) for side in ("bottom", "top", "inner", "outer")}
-    best, run = np.inf, None
-    for _ in range(repeats):
-        twin = FipyTwin(
-            model.grid.r_edges,
-            model.grid.z_edges,
-            PARTS,
-            MATERIALS,
-            POWER_TIMES,
-            POWER,
-            convection,
-            form="enthalpy",
-        )
-        run = twin.run(times, T0, probes=probes, snapshot_times=snapshot_times, sweep_tolerance=TOLERANCE)
-        best = min(best, run.wall_time)
-    return best / run.steps, run
+    return FipyTwin(
+        model.grid.r_edges,
+        model.grid.z_edges,
+        PARTS,
+        MATERIALS,
+        POWER_TIMES,
+        POWER,
+        convection,
+        form="enthalpy",
+        solver=solver,
+        cg_tolerance=CG_TOLERANCE,
+    )
+
+
+def run_fipy(model: Model, times: np.ndarray, probes: dict, snapshot_times, solver: str = FIPY_SOLVER):
+    """One FiPy run (its wall time excludes building the twin) with ``solver``."""
+    return fipy_twin(model, solver).run(
+        times, T0, probes=probes, snapshot_times=snapshot_times, sweep_tolerance=TOLERANCE
+    )
+
+
+def factorisation_name() -> str:
+    return "QDLDL LDL^T, symbolic analysis reused" if step_matrix.qdldl is not None else "SuperLU (splu)"
+
+
+def last_step_matrix(model: Model):
+    """The step matrix (``StepMatrix``) of the last step of heatstack's 100-step run."""
+    integrator = Integrator(model.network, schedule(), options())
+    integrator.run(initial_field(model.network, T0), 0.0)
+    return integrator.newton.system
 
 
 def triangular_solve_time(model: Model, repeats: int = 300) -> tuple[float, float]:
-    """Factorise heatstack's last step matrix as ``StepMatrix.factorise`` does; time ``lu.solve``."""
-    integrator = Integrator(model.network, schedule(), options())
-    integrator.run(initial_field(model.network, T0), 0.0)
+    """Factorise heatstack's last step matrix as the solver does (``StepMatrix.factorise``,
+    a refactorisation with the kept analysis when QDLDL is used); time one ``solve``."""
+    system = last_step_matrix(model)
+    system.factorise()
     start = time.perf_counter()
-    lu = spla.splu(
-        integrator.newton.system.matrix.copy(),
-        permc_spec="MMD_AT_PLUS_A",
-        diag_pivot_thresh=0.0,
-        options={"SymmetricMode": True},
-    )
+    lu = system.factorise()
     factor_time = time.perf_counter() - start
     rhs = np.random.default_rng(1).standard_normal(model.n_cells)
     lu.solve(rhs)
@@ -199,9 +229,12 @@ def header() -> None:
         "  * converged nonlinear iterations: FiPy in enthalpy form, TransientTerm(var=H) ==\n"
         "    DiffusionTerm(k_f / c_f, var=H) + sources, c_f the chord (H_b - H_a)/(T_b - T_a), T from\n"
         "    the material's exact inverse temperature_from_enthalpy(H) after every sweep, sweeping until\n"
-        f"    max |T change| <= {TOLERANCE:g} K (LinearLUSolver, FiPy's default SciPy direct solver);\n"
-        f"    heatstack Newton tolerance {TOLERANCE:g} K. Single material: H is continuous.\n"
-        f"  * timing: best of {REPEATS} complete runs each, in this process; model / mesh build excluded."
+        f"    max |T change| <= {TOLERANCE:g} K; heatstack Newton tolerance {TOLERANCE:g} K. Single material.\n"
+        f"  * FiPy's fastest solver here: LinearPCGSolver (conjugate gradients, SciPy suite, relative\n"
+        f"    residual {CG_TOLERANCE:g}); checked against its LinearLUSolver at 3k cells below.\n"
+        f"  * heatstack's factorisation: {factorisation_name()}.\n"
+        f"  * timing: {PAIRS} interleaved pairs (heatstack, FiPy, ...) in this process, median of the pairwise\n"
+        f"    ratios; model / mesh build excluded; OPENBLAS_NUM_THREADS={os.environ.get('OPENBLAS_NUM_THREADS')}."
     )
 
 
@@ -209,8 +242,15 @@ def compare() -> tuple[float, float, float]:
     model, probes = build("12k")
     print(f"[12k case] {model.n_cells} active cells, grid {model.grid.shape[1]} (r) x {model.grid.shape[0]} (z)")
     snaps = (5.0, 10.0, 20.0, 30.0)
-    hs_step, result = time_heatstack(model, options(snapshot_times=snaps))
-    fp_step, run = time_fipy(model, result.times, probes, tuple(result.snapshot_times))
+    run_heatstack(model, options(snapshot_times=snaps))  # warm-up (imports, first tables)
+    pairs, result, run = [], None, None
+    for _ in range(PAIRS):
+        hs_time, result = run_heatstack(model, options(snapshot_times=snaps))
+        run = run_fipy(model, result.times, probes, tuple(result.snapshot_times))
+        pairs.append((hs_time / result.metadata["solver"]["steps"], run.wall_time / run.steps))
+    hs_steps = np.array([h for h, _ in pairs])
+    fp_steps = np.array([f for _, f in pairs])
+    ratios = fp_steps / hs_steps
     field = max(
         float(np.max(np.abs(result.snapshots[k] - run.snapshots[float(t)])))
         for k, t in enumerate(result.snapshot_times)
@@ -231,23 +271,45 @@ def compare() -> tuple[float, float, float]:
         + ", ".join(f"{k} {v:.3g}" if isinstance(v, float) else f"{k} {v}" for k, v in stats.items())
         + f"  ({stats['iterations'] / stats['steps']:.2f} Newton iterations per step)"
     )
-    print(f"  time per step: heatstack {1e3 * hs_step:.2f} ms, FiPy {1e3 * fp_step:.1f} ms")
+    for k, (h, f) in enumerate(pairs):
+        print(f"  pair {k + 1}: heatstack {1e3 * h:.2f} ms per step, FiPy {1e3 * f:.1f} ms per step, ratio {f / h:.1f}")
+    hs_step, fp_step = float(np.median(hs_steps)), float(np.median(fp_steps))
+    print(
+        f"  time per step (medians): heatstack {1e3 * hs_step:.2f} ms, FiPy {1e3 * fp_step:.1f} ms; "
+        f"median of the pairwise ratios {np.median(ratios):.1f} (range {ratios.min():.1f}-{ratios.max():.1f})"
+    )
     solve, factor = triangular_solve_time(model)
     print(
-        f"  heatstack step matrix: factorisation (splu, MMD_AT_PLUS_A) {1e3 * factor:.2f} ms, "
+        f"  heatstack step matrix ({factorisation_name()}): factorisation {1e3 * factor:.2f} ms, "
         f"one triangular solve {1e3 * solve:.3f} ms (median of 300)"
     )
-    print(f"  heatstack time per step / one triangular solve: {hs_step / solve:.1f}  (target <= 3)")
+    print(f"  for information, heatstack time per step / one triangular solve: {hs_step / solve:.1f}")
     print(f"    {floor_text(stats, factor, solve)}")
     lax_step, lax = time_heatstack(model, SolverOptions(fixed_step=DT))
     lax_stats = lax.metadata["solver"]
     lax_its = lax_stats["iterations"] / lax_stats["steps"]
     print(
-        f"  for context, heatstack at its default Newton tolerance (1e-3 K): {1e3 * lax_step:.2f} ms per "
-        f"step, {lax_its:.2f} iterations per step, ratio to one solve {lax_step / solve:.1f}"
+        f"  for context, heatstack at its default Newton tolerance: {1e3 * lax_step:.2f} ms per "
+        f"step, {lax_its:.2f} iterations per step"
     )
-    print(f"    {floor_text(lax_stats, factor, solve)}")
-    return fp_step / hs_step, hs_step, fp_step
+    return float(np.median(ratios)), hs_step, fp_step
+
+
+def check_fipy_solvers(model: Model, times: np.ndarray, probes: dict) -> tuple[float, float]:
+    """FiPy's conjugate-gradient solver against its LU solver (3k case), interleaved."""
+    snaps = (10.0, 30.0)
+    cg_runs, lu_runs = [], []
+    for _ in range(REPEATS):
+        cg_runs.append(run_fipy(model, times, probes, snaps, "cg"))
+        lu_runs.append(run_fipy(model, times, probes, snaps, "lu"))
+    diff = max(float(np.max(np.abs(cg_runs[-1].snapshots[t] - lu_runs[-1].snapshots[t]))) for t in snaps)
+    cg = float(np.median([r.wall_time for r in cg_runs])) / cg_runs[-1].steps
+    lu = float(np.median([r.wall_time for r in lu_runs])) / lu_runs[-1].steps
+    print(
+        f"  FiPy solvers at {model.n_cells} cells: conjugate gradients {1e3 * cg:.1f} ms per step, LU "
+        f"{1e3 * lu:.1f} ms per step; largest field difference CG - LU {diff:.2e} K (sweep tolerance {TOLERANCE:g} K)"
+    )
+    return cg, lu
 
 
 def scaling(hs_12k: float, fp_12k: float) -> None:
@@ -261,10 +323,10 @@ def scaling(hs_12k: float, fp_12k: float) -> None:
             hs, result = time_heatstack(model)
             fp_ = None
             if size == "3k":
-                fp_, _ = time_fipy(model, result.times, probes, ())
+                fp_, _ = check_fipy_solvers(model, result.times, probes)
         rows.append((model.n_cells, hs, fp_))
         fipy_text = f"{1e3 * fp_:8.1f} ms" if fp_ is not None else "       (not run)"
-        print(f"  {model.n_cells:7d} cells: heatstack {1e3 * hs:7.2f} ms   FiPy {fipy_text}")
+        print(f"  {model.n_cells:7d} cells: heatstack {1e3 * hs:7.2f} ms   FiPy (CG) {fipy_text}")
     n = np.array([r[0] for r in rows], float)
     t = np.array([r[1] for r in rows])
     slopes = np.diff(np.log(t)) / np.diff(np.log(n))
@@ -272,6 +334,64 @@ def scaling(hs_12k: float, fp_12k: float) -> None:
         "  heatstack growth exponent d ln(time) / d ln(cells): "
         + ", ".join(f"{int(n[k])}->{int(n[k + 1])}: {slopes[k]:.2f}" for k in range(slopes.size))
     )
+
+
+def factorisation_cases(qdldl, A, upper, kept) -> dict:
+    """The factorisations compared, as callables on the step matrix ``A`` (``upper``: its upper triangle)."""
+    return {
+        "splu(MMD)": lambda: spla.splu(
+            A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True}
+        ),
+        "splu(COLAMD)": lambda: spla.splu(A),
+        "factorized": lambda: spla.factorized(A),
+        "qdldl-new": lambda: qdldl.Solver(upper, upper=True),
+        "qdldl-refactor": lambda: kept.update(upper, upper=True),
+    }
+
+
+def factorisations(repeats: int = 7) -> None:
+    """Factorisations of heatstack's real step matrices (last step of the run) at 3k, 12k, 50k cells.
+
+    Medians of ``repeats`` interleaved rounds: SuperLU as the solver used it before
+    (symmetric mode, MMD on A^T + A), SuperLU's defaults (COLAMD), ``factorized``, and
+    QDLDL new (AMD order and symbolic analysis each time) and refactorised with the kept
+    analysis (what the solver does); one triangular solve of each.
+    """
+    try:
+        import qdldl
+    except ImportError:
+        print("\n[factorisations] qdldl is not installed (pip install heatstack[fast]); skipped")
+        return
+    print(f"\n[factorisations] heatstack's step matrix at the end of the run, medians of {repeats} rounds [ms]")
+    print("    cells      nnz   splu(MMD) splu(COLAMD) factorized qdldl-new qdldl-refactor | solve splu qdldl")
+    rng = np.random.default_rng(0)
+    for size in ("3k", "12k", "50k"):
+        model, _ = build(size)
+        system = last_step_matrix(model)
+        A = system.matrix.copy()
+        upper = sp.triu(A, format="csc")
+        kept = qdldl.Solver(upper, upper=True)
+        rhs = rng.standard_normal(A.shape[0])
+        cases = factorisation_cases(qdldl, A, upper, kept)
+        times = {name: [] for name in (*cases, "solve splu", "solve qdldl")}
+        for _ in range(repeats):
+            for name, make in cases.items():
+                start = time.perf_counter()
+                made = make()
+                times[name].append(time.perf_counter() - start)
+                if name == "splu(MMD)":
+                    lu = made
+            for name, factors in (("solve splu", lu), ("solve qdldl", kept)):
+                start = time.perf_counter()
+                factors.solve(rhs)
+                times[name].append(time.perf_counter() - start)
+        difference = np.max(np.abs(lu.solve(rhs) - kept.solve(rhs))) / np.max(np.abs(lu.solve(rhs)))
+        ms = {name: 1e3 * float(np.median(v)) for name, v in times.items()}
+        print(
+            f"  {A.shape[0]:7d} {A.nnz:8d} "
+            + " ".join(f"{ms[name]:10.2f}" for name in cases)
+            + f" | {ms['solve splu']:6.3f} {ms['solve qdldl']:6.3f}  (solutions agree to {difference:.1e})"
+        )
 
 
 def memory_child() -> None:
@@ -312,7 +432,7 @@ def memory() -> None:
     data = json.loads(out.stdout.strip().splitlines()[-1])
     print(
         f"  {data['cells']} cells, {data['steps']} steps in {data['seconds']:.1f} s; "
-        f"peak resident memory (ru_maxrss) {data['peak_rss_mib']:.0f} MiB (target < 1024 MiB)"
+        f"peak resident memory (ru_maxrss) {data['peak_rss_mib']:.0f} MiB (target < 500 MiB)"
     )
 
 
@@ -343,12 +463,12 @@ def profile() -> None:
 
     step = cumulative("step")
     parts = {
-        "material properties (k_r, k_z, c, H per iteration)": cumulative("cell_properties", "assembly.py"),
+        "material properties (k_r, k_z, c, H per iteration)": cumulative("cell_properties", "step_matrix.py"),
         "boundary coefficients (per-group laws, radiation, U)": cumulative("faces", "boundaries.py"),
         "gap radiation conductances": cumulative("gaps", "boundaries.py"),
-        "friction partition": cumulative("friction", "assembly.py"),
-        "triangular solves (SuperLU.solve)": own("'solve' of 'SuperLU'"),
-        "factorisations (splu)": cumulative("factorise"),
+        "friction partition": cumulative("friction", "step_matrix.py"),
+        "triangular solves (SuperLU or QDLDL solve)": own("'solve' of 'SuperLU'") + own("qdldl.solve"),
+        "factorisations": cumulative("factorise"),
         "conservative update (mat-vec + exact T(H))": cumulative("conservative_update"),
         "accounts of the accepted step (finish)": cumulative("finish"),
     }
@@ -381,6 +501,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--no-memory", action="store_true", help="skip the peak memory of a 50k-cell, 3 h run")
     parser.add_argument("--profile", action="store_true", help="also profile heatstack's step (12k case)")
+    parser.add_argument("--factorisations", action="store_true", help="also time factorisations at 3k, 12k, 50k cells")
     parser.add_argument("--memory-child", action="store_true", help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.memory_child:
@@ -393,6 +514,8 @@ def main() -> None:
         memory()
     if args.profile:
         profile()
+    if args.factorisations:
+        factorisations()
     print(f"speedup_vs_fipy: {speedup:.1f}")
 
 

@@ -151,6 +151,12 @@ class FipyTwin:
         ``"bottom"``, ``"top"``, ``"inner"``, ``"outer"`` of the domain.
     form : {"temperature", "enthalpy"}
         See the module docstring.
+    solver : {"lu", "cg"}
+        FiPy's SciPy direct solver (``LinearLUSolver``), or its conjugate-gradient solver
+        (``LinearPCGSolver``, unpreconditioned) to the relative residual ``cg_tolerance``
+        (the matrix is symmetric positive definite).
+    cg_tolerance : float
+        Relative residual of the conjugate-gradient solves.
     """
 
     def __init__(
@@ -163,9 +169,13 @@ class FipyTwin:
         power_powers: Sequence[float],
         convection: Mapping[str, tuple[float, float]],
         form: str = "temperature",
+        solver: str = "lu",
+        cg_tolerance: float = 1e-10,
     ):
         if form not in ("temperature", "enthalpy"):
             raise ValueError(f"form must be 'temperature' or 'enthalpy', got {form!r}")
+        if solver not in ("lu", "cg"):
+            raise ValueError(f"solver must be 'lu' or 'cg', got {solver!r}")
         self.form = form
         self.r_edges, self.z_edges = np.asarray(r_edges, float), np.asarray(z_edges, float)
         self.nr, self.nz = self.r_edges.size - 1, self.z_edges.size - 1
@@ -272,7 +282,10 @@ class FipyTwin:
             + self.source
             - fp.ImplicitSourceTerm(coeff=self.sink, var=self.var)
         )
-        self.solver = fp.LinearLUSolver(tolerance=1e-12, iterations=10)
+        if solver == "lu":
+            self.solver = fp.LinearLUSolver(tolerance=1e-12, iterations=10)
+        else:
+            self.solver = fp.LinearPCGSolver(tolerance=cg_tolerance, iterations=10000)
         self.rc, self.zc = rc, zc
 
     # ------------------------------------------------------------------ properties

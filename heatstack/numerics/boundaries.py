@@ -11,14 +11,13 @@ cell temperatures and the fluxes through the half-cell resistances
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
 from .network import Network
 from .schedule import Phase
-from .tabulated import evaluator
+from .tabulated import MergedConvection, PieceLookup, evaluator
 
 __all__ = [
     "STEFAN_BOLTZMANN",
@@ -39,8 +38,8 @@ class PhaseSurroundings:
 
     Attributes
     ----------
-    coefficients : tuple of callable
-        Convection coefficient [W/(m^2 K)] of each face group, as ``f(surface_t, time)``.
+    convection : MergedConvection
+        Convection coefficient [W/(m^2 K)] of every face, as ``f(surface_t, time)``.
     ambient : ndarray
         Ambient temperature [K] of every face.
     surroundings : ndarray
@@ -49,7 +48,7 @@ class PhaseSurroundings:
         1 where the face radiates in this phase, else 0.
     """
 
-    coefficients: tuple[Callable, ...]
+    convection: MergedConvection
     ambient: np.ndarray
     surroundings: np.ndarray
     radiates: np.ndarray
@@ -207,7 +206,7 @@ class Boundaries:
             radiates[faces] = 1.0 if law.radiation else 0.0
         radiates *= self.net.face_radiates
         arrays = PhaseSurroundings(
-            coefficients=tuple(self._evaluator(law) for law in laws),
+            convection=MergedConvection([self._evaluator(law) for law in laws], self.net.face_group),
             ambient=ambient,
             surroundings=surroundings,
             radiates=radiates,
@@ -222,21 +221,13 @@ class Boundaries:
             self._evaluators[key] = (law, evaluator(law))
         return self._evaluators[key][1]
 
-    def emissivity(self, blocks: list[np.ndarray], surface_t: np.ndarray) -> np.ndarray:
-        """Emissivity of each surface of the material blocks ``blocks`` at ``surface_t``.
-
-        Parameters
-        ----------
-        blocks : list of ndarray of int
-            For each material block, the positions in ``surface_t`` of the surfaces of that material.
-        surface_t : ndarray
-            Surface temperatures [K].
-
-        Returns
-        -------
-        ndarray
-            Emissivity of each surface [-].
-        """
+    def emissivity(self, lookup: PieceLookup, blocks: list[np.ndarray], surface_t: np.ndarray) -> np.ndarray:
+        """Emissivity of the surfaces of ``lookup`` at ``surface_t`` [K]: one pass over the
+        merged tables, or material by material (``blocks``: the surfaces of each) when a
+        surface lies outside its table, so the table's range policy applies."""
+        eps = self.net.tables.emissivity(lookup, surface_t)
+        if eps is not None:
+            return eps
         eps = np.empty(surface_t.size)
         for (material, _), faces in zip(self.net.material_blocks, blocks, strict=True):
             if faces.size:
@@ -269,12 +260,10 @@ class Boundaries:
         """
         net = self.net
         env = self.surroundings(phase)
-        h_conv = np.empty(surface_t.size)
-        for coefficient, faces in zip(env.coefficients, self.group_faces, strict=True):
-            h_conv[faces] = coefficient(surface_t[faces], time)
+        h_conv = env.convection(surface_t, time)
         # grey radiation linearised on its tangent at the iterate's surface temperature:
         # q = eps sigma (Ts^4 - Tsur^4) ~ h_rad (T - t_rad) with h_rad = 4 eps sigma Ts^3
-        eps = env.radiates * self.emissivity(self.face_blocks, surface_t)
+        eps = env.radiates * self.emissivity(net.tables.emissivity_faces, self.face_blocks, surface_t)
         h_rad = 4.0 * eps * STEFAN_BOLTZMANN * surface_t**3
         q_rad = eps * STEFAN_BOLTZMANN * (surface_t**4 - env.surroundings**4)
         t_rad = surface_t - q_rad / np.where(h_rad > 0, h_rad, 1.0)
@@ -309,8 +298,8 @@ class Boundaries:
             Conductance of each pair [W/K] and the half-cell resistances of its sides [K/W].
         """
         net = self.net
-        eps_a = self.emissivity(self.gap_blocks_a, ts_a)
-        eps_b = self.emissivity(self.gap_blocks_b, ts_b)
+        eps_a = self.emissivity(net.tables.emissivity_gap_a, self.gap_blocks_a, ts_a)
+        eps_b = self.emissivity(net.tables.emissivity_gap_b, self.gap_blocks_b, ts_b)
         exchange = 1.0 / (1.0 / eps_a + net.gap_area_ratio * (1.0 / eps_b - 1.0))
         hA = STEFAN_BOLTZMANN * net.gap_area_a * exchange * (ts_a**2 + ts_b**2) * (ts_a + ts_b)
         r_a = net.gap_ga / conductivity[self.gap_a_conductivity]

@@ -27,6 +27,7 @@ from ..geometry import Part
 from ..material_files import load_material
 from ..materials import Material
 from .grid import Grid
+from .tabulated import CellTables
 
 __all__ = ["Network", "build_network", "RADIAL", "AXIAL"]
 
@@ -90,6 +91,9 @@ class Network:
         The four cells each probe interpolates between and their weights [-].
     probe_time_constants : ndarray, shape (p,)
         Each probe's sensor time constant [s] (0 for none).
+    tables : CellTables
+        Every material's tables merged, as read by each cell, face and gap side (one
+        vectorised pass per Newton iteration).
     """
 
     grid: Grid
@@ -129,6 +133,7 @@ class Network:
     probe_cells: np.ndarray
     probe_weights: np.ndarray
     probe_time_constants: np.ndarray
+    tables: CellTables
 
     @property
     def n_cells(self) -> int:
@@ -515,6 +520,8 @@ def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Materi
 
     fa = [p[0] for p in pairs]
     fb = [p[1] for p in pairs]
+    face_cell = column(open_faces, "cell", int)
+    gap_a, gap_b = column(fa, "cell", int), column(fb, "cell", int)
     return Network(
         grid=grid,
         assembly=assembly,
@@ -528,15 +535,15 @@ def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Materi
         link_gb=np.concatenate((links["link_gb"], extra["gb"])),
         link_contact_clamped=np.concatenate((links["link_contact_clamped"], extra["r"])),
         link_contact_released=np.concatenate((links["link_contact_released"], extra["r"])),
-        gap_a=column(fa, "cell", int),
-        gap_b=column(fb, "cell", int),
+        gap_a=gap_a,
+        gap_b=gap_b,
         gap_dir_a=column(fa, "dir", int),
         gap_dir_b=column(fb, "dir", int),
         gap_ga=column(fa, "g"),
         gap_gb=column(fb, "g"),
         gap_area_a=column(fa, "area"),
         gap_area_ratio=column(fa, "area") / np.maximum(column(fb, "area"), 1e-300) if pairs else np.zeros(0),
-        face_cell=column(open_faces, "cell", int),
+        face_cell=face_cell,
         face_dir=column(open_faces, "dir", int),
         face_g=column(open_faces, "g"),
         face_area=column(open_faces, "area"),
@@ -546,6 +553,7 @@ def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Materi
         **builder.friction(links),
         cell_group_masks=cell_group_masks,
         **builder.probes(),
+        tables=CellTables.of(tuple(m for m, _ in blocks), cell_material, face_cell, gap_a, gap_b),
     )
 
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Protocol, runtime_checkable
+from typing import ClassVar, Protocol, runtime_checkable
 
 import numpy as np
 
@@ -82,6 +82,7 @@ class FixedConvection:
     ambient_temperature: float = declared("temperature", positive=True)
     surroundings_temperature: float | None = declared("temperature", None, positive=True)
     radiation: bool = True
+    time_dependent: ClassVar[bool] = False  # lets the solver tabulate the (constant) h
 
     def __post_init__(self) -> None:
         convert_declared(self, "convection", ScheduleError)

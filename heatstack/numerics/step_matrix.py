@@ -3,7 +3,12 @@
 The matrix of one backward-Euler step has a fixed sparsity pattern (every cell, every
 conduction link and every gap-radiation pair), built once per run by
 :func:`csc_pattern`; :class:`StepMatrix` writes the capacities, boundary coefficients
-and conductances of the current iterate into it in place and factorises it. The cell
+and conductances of the current iterate into it in place and factorises it. The matrix
+is symmetric positive definite, so it is factorised as ``P A P^T = L D L^T`` by QDLDL
+(the optional ``qdldl`` package, ``pip install heatstack[fast]``) with the fill-reducing
+order and the elimination tree of the first factorisation reused by every later one
+(``validation/bench_fipy.py`` measures it against the alternatives); without that
+package, by SuperLU (``scipy.sparse.linalg.splu``) in its symmetric mode. The cell
 material properties (:func:`cell_properties`) and the friction and volumetric heat
 (:class:`HeatSources`) are what the assembly reads.
 """
@@ -17,6 +22,11 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from ..errors import InputError
+
+try:  # the optional [fast] extra: a lean LDL^T factorisation with reusable symbolic analysis
+    import qdldl
+except ImportError:  # pragma: no cover - depends on the environment
+    qdldl = None
 from .network import Network
 from .schedule import Schedule
 
@@ -26,7 +36,9 @@ __all__ = [
     "StepMatrix",
     "cell_enthalpy",
     "cell_properties",
+    "cell_properties_by_material",
     "cell_temperature",
+    "cell_temperature_by_material",
     "csc_pattern",
     "out_of_range_cell",
 ]
@@ -52,26 +64,20 @@ class CellProperties:
 
 
 def cell_properties(network: Network, T: np.ndarray) -> CellProperties:
-    """Conductivity, heat capacity and enthalpy of every cell at temperatures ``T``.
+    """Conductivity, heat capacity and enthalpy of every cell at temperatures ``T`` [K].
 
-    Parameters
-    ----------
-    network : Network
-        The meshed assembly.
-    T : ndarray, shape (n,)
-        Cell temperatures [K].
-
-    Returns
-    -------
-    CellProperties
-        Conductivities [W/(m K)] (radial for all cells, then axial), volumetric heat
-        capacities and volumetric enthalpies [J/m^3].
-
-    Raises
-    ------
-    PropertyRangeError
-        If a temperature lies outside a property table that allows no extrapolation.
+    One pass over the network's merged tables; a field with a cell outside its
+    material's tables goes material by material, which applies each table's range
+    policy (raise, or clamp and warn).
     """
+    merged = network.tables.thermal_properties(T)
+    if merged is not None:
+        return CellProperties(conductivity=merged[0], heat_capacity=merged[1], enthalpy=merged[2])
+    return cell_properties_by_material(network, T)
+
+
+def cell_properties_by_material(network: Network, T: np.ndarray) -> CellProperties:
+    """:func:`cell_properties` evaluated material by material (each table's range policy applies)."""
     n = network.n_cells
     conductivity, c, H = np.empty(2 * n), np.empty(n), np.empty(n)
     for material, block in network.material_blocks:
@@ -103,20 +109,17 @@ def cell_enthalpy(network: Network, T: np.ndarray) -> np.ndarray:
 
 
 def cell_temperature(network: Network, H: np.ndarray) -> np.ndarray:
-    """Temperature of every cell from its volumetric enthalpy ``H`` (exact inverse).
+    """Temperature [K] of every cell from its volumetric enthalpy ``H`` [J/m^3] (exact inverse).
 
-    Parameters
-    ----------
-    network : Network
-        The meshed assembly.
-    H : ndarray, shape (n,)
-        Cell volumetric enthalpies [J/m^3].
-
-    Returns
-    -------
-    ndarray, shape (n,)
-        Cell temperatures [K].
+    One pass over the merged tables, or material by material when a cell lies outside
+    its specific-heat table (so the table's range policy applies).
     """
+    merged = network.tables.temperature(H)
+    return merged if merged is not None else cell_temperature_by_material(network, H)
+
+
+def cell_temperature_by_material(network: Network, H: np.ndarray) -> np.ndarray:
+    """:func:`cell_temperature` evaluated material by material."""
     T = np.empty(network.n_cells)
     for material, block in network.material_blocks:
         T[block] = material.temperature_from_enthalpy(H[block])
@@ -197,16 +200,61 @@ class StepMatrix:
         rows = np.concatenate((diag, net.link_a, net.link_b, net.gap_a, net.gap_b))
         cols = np.concatenate((diag, net.link_b, net.link_a, net.gap_b, net.gap_a))
         self.matrix, self.position = csc_pattern(n, rows, cols)
-        self.unique_positions = np.unique(self.position).size == self.position.size
         cuts = np.cumsum([n, m, m, q])
         self.pos_diag, self.pos_ab, self.pos_ba, self.pos_gap_ab, self.pos_gap_ba = np.split(self.position, cuts)
-        link_ends = np.concatenate((net.link_a, net.link_b, net.gap_a, net.gap_b))
-        # each cell's sum of the conductances of its links and gap pairs, as one mat-vec
-        ends = np.arange(m + q)
-        self.incidence = sp.csr_matrix(
-            (np.ones(2 * (m + q)), (link_ends, np.concatenate((ends[:m], ends[:m], ends[m:], ends[m:])))),
-            shape=(n, m + q),
+        # the matrix data from (diagonal, link conductances, gap conductances) as one mat-vec:
+        # each diagonal entry gathers its cell's diagonal and the conductances of its links
+        # and gap pairs, each off-diagonal entry minus its link's (duplicates summed)
+        values = np.arange(n + m + q)
+        link_values = values[n : n + m]
+        gap_values = values[n + m :]
+        self.assembly = sp.csr_matrix(
+            (
+                np.concatenate((np.ones(n + 2 * (m + q)), -np.ones(2 * (m + q)))),
+                (
+                    np.concatenate(
+                        (
+                            self.pos_diag,
+                            self.pos_diag[net.link_a],
+                            self.pos_diag[net.link_b],
+                            self.pos_diag[net.gap_a],
+                            self.pos_diag[net.gap_b],
+                            self.pos_ab,
+                            self.pos_ba,
+                            self.pos_gap_ab,
+                            self.pos_gap_ba,
+                        )
+                    ),
+                    np.concatenate(
+                        (
+                            values[:n],
+                            link_values,
+                            link_values,
+                            gap_values,
+                            gap_values,
+                            link_values,
+                            link_values,
+                            gap_values,
+                            gap_values,
+                        )
+                    ),
+                ),
+            ),
+            shape=(self.matrix.data.size, n + m + q),
         )
+        # the upper triangle (diagonal included) of the fixed pattern, as LDL^T reads it
+        column = np.repeat(np.arange(n), np.diff(self.matrix.indptr))
+        self.upper_positions = np.flatnonzero(self.matrix.indices <= column)
+        upper_counts = np.bincount(column[self.upper_positions], minlength=n)
+        self.upper = sp.csc_matrix(
+            (
+                np.zeros(self.upper_positions.size),
+                self.matrix.indices[self.upper_positions],
+                np.concatenate(([0], np.cumsum(upper_counts))).astype(np.int32),
+            ),
+            shape=(n, n),
+        )
+        self.ldl = None
 
     def link_conductances(self, conductivity: np.ndarray, contact: np.ndarray) -> np.ndarray:
         """Conductance of every link: two half-cell resistances and the contact resistance.
@@ -231,39 +279,38 @@ class StepMatrix:
         )
 
     def assemble(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
-        """Write the step matrix in place: ``diagonal`` plus the conductances of every link.
+        """Write the step matrix in place: ``diagonal`` plus the conductances of every link."""
+        self.matrix.data[:] = self.assembly @ np.concatenate((diagonal, G, G_gap))
 
-        Parameters
+    def factorise(self):
+        """Factors of the matrix as it stands, with a ``solve(rhs)`` method.
+
+        With ``qdldl`` installed: its LDL^T solver, whose fill-reducing order (AMD) and
+        symbolic factorisation are made by the first call and reused by every later one,
+        which only refactorises numerically, in place (so the factors of an earlier call
+        are those of the latest matrix). Without it, or if it fails: SuperLU factors
+        (symmetric mode, fill-reducing order).
+
+        References
         ----------
-        diagonal : ndarray, shape (n,)
-            Each cell's own term (capacity over step plus face transfer) [W/K].
-        G : ndarray, shape (m,)
-            Conductance of each conduction link [W/K].
-        G_gap : ndarray, shape (q,)
-            Conductance of each radiating gap pair [W/K].
+        .. [1] Stellato, B., Banjac, G., Goulart, P., Bemporad, A., Boyd, S., 2020, OSQP: an
+           operator splitting solver for quadratic programs, Math. Prog. Comp. 12, 637-672
+           (QDLDL, the LDL^T factorisation it uses).
         """
-        data = self.matrix.data
-        diagonal = diagonal + self.incidence @ (np.concatenate((G, G_gap)) if G_gap.size else G)
-        if self.unique_positions:
-            data[self.pos_diag] = diagonal
-            negative = -G
-            data[self.pos_ab] = negative
-            data[self.pos_ba] = negative
-            if G_gap.size:
-                data[self.pos_gap_ab] = -G_gap
-                data[self.pos_gap_ba] = -G_gap
-        else:  # a link and a gap pair share cells: sum the duplicates
-            values = np.concatenate((diagonal, -G, -G, -G_gap, -G_gap))
-            data[:] = np.bincount(self.position, weights=values, minlength=data.size)
+        if qdldl is not None:
+            self.upper.data[:] = self.matrix.data[self.upper_positions]
+            try:
+                if self.ldl is None:
+                    self.ldl = qdldl.Solver(self.upper, upper=True)
+                else:
+                    self.ldl.update(self.upper, upper=True)
+                return self.ldl
+            except (ValueError, RuntimeError):  # e.g. a zero pivot: fall back to LU with pivoting
+                self.ldl = None
+        return self.factorise_lu()
 
-    def factorise(self) -> spla.SuperLU:
-        """Sparse LU factors of the matrix as it stands (symmetric mode, fill-reducing order).
-
-        Returns
-        -------
-        scipy.sparse.linalg.SuperLU
-            The factors, with a ``solve`` method.
-        """
+    def factorise_lu(self) -> spla.SuperLU:
+        """Sparse LU factors of the matrix as it stands (symmetric mode, fill-reducing order)."""
         return spla.splu(
             self.matrix.copy(),
             permc_spec="MMD_AT_PLUS_A",

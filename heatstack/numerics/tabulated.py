@@ -1,22 +1,284 @@
-"""Tabulated convection coefficients for the solver's hot loop.
+"""Merged tables for the solver's hot loop: one interpolation per quantity per iteration.
+
+Every piecewise-polynomial table the Newton iteration reads — each material's
+conductivities, heat capacity and enthalpy, the inverse of its enthalpy, its
+emissivity, and each surface group's tabulated convection coefficient — is laid end
+to end with the others of its kind on one shifted axis (:class:`MergedPieces`), and
+every cell or face knows its table's shift and pieces (:class:`PieceLookup`). One
+interval search over the merged knots then evaluates all materials or all groups in
+a single pass, with no Python loop over materials or groups; the values are those of
+the per-table evaluation to round-off (the same expressions on the same data).
+Values outside a table's range are left to the per-table methods, which apply the
+table's range policy (:class:`CellTables` returns None for them).
 
 A cooling law that does not depend on time (``time_dependent = False``) is evaluated on
-a uniform grid of surface temperatures once and interpolated linearly afterwards. The
-table covers only the temperatures met so far and grows (by whole blocks) when a
-surface leaves it, so a correlation is never evaluated far outside the range a run uses.
+a uniform grid of surface temperatures once and interpolated linearly afterwards
+(:class:`TabulatedLaw`). The table covers only the temperatures met so far and grows (by
+whole blocks) when a surface leaves it, so a correlation is never evaluated far outside
+the range a run uses. :class:`MergedConvection` interpolates every tabulated group of a
+phase at once and calls the time-dependent laws on their own faces.
 """
 
 from __future__ import annotations
 
+import functools
+from collections.abc import Sequence
+from dataclasses import dataclass
+
 import numpy as np
 
+from ..materials import Material
 from .schedule import BoundaryLaw
 
-__all__ = ["TabulatedLaw", "SPACING"]
+__all__ = [
+    "SPACING",
+    "CellTables",
+    "MergedConvection",
+    "MergedPieces",
+    "PieceLookup",
+    "TabulatedLaw",
+    "evaluator",
+    "merge_pieces",
+]
 
 #: Spacing of the surface-temperature grid [K].
 SPACING = 2.0
 _BLOCK = 50.0  # the table grows in blocks of this width [K]
+
+
+@dataclass(frozen=True, eq=False)
+class MergedPieces:
+    """Piecewise polynomials of several tables laid end to end on one shifted axis.
+
+    Attributes
+    ----------
+    knots : ndarray
+        (K,) the knots of every table, in table order, unshifted.
+    shifted : ndarray
+        (K,) each knot plus its table's shift: strictly increasing over all tables.
+    coefficients : ndarray
+        (r, K) coefficients of the piece that starts at each knot (zero at a table's
+        last knot, where no piece starts).
+    first, last : ndarray
+        (t,) index of each table's first and last piece.
+    shift : ndarray
+        (t,) shift added to an abscissa of each table.
+    """
+
+    knots: np.ndarray
+    shifted: np.ndarray
+    coefficients: np.ndarray
+    first: np.ndarray
+    last: np.ndarray
+    shift: np.ndarray
+
+    def lookup(self, table: np.ndarray, low: np.ndarray, high: np.ndarray) -> PieceLookup:
+        """A lookup for items that read the tables ``table`` (one index per item) within
+        the ranges ``low``..``high`` (one per table)."""
+        table = np.asarray(table, dtype=np.intp)
+        return PieceLookup(
+            pieces=self,
+            shift=self.shift[table],
+            first=self.first[table],
+            last=self.last[table],
+            low=np.asarray(low, dtype=float)[table],
+            high=np.asarray(high, dtype=float)[table],
+        )
+
+
+def merge_pieces(knots: Sequence[np.ndarray], coefficients: Sequence[np.ndarray]) -> MergedPieces:
+    """Lay the tables ``(knots[t], coefficients[t])`` end to end.
+
+    Parameters
+    ----------
+    knots : sequence of ndarray
+        Strictly increasing knots of each table, at least two.
+    coefficients : sequence of ndarray
+        (r, K_t - 1) coefficients of each table's pieces; r the same for all.
+
+    Returns
+    -------
+    MergedPieces
+    """
+    rows = coefficients[0].shape[0]
+    span = sum(float(k[-1] - k[0]) for k in knots)
+    gap = 1.0 + span  # any positive gap works: a rounded shifted abscissa is clipped to its table
+    shifts, start = [], 0.0
+    for k in knots:
+        shifts.append(start - float(k[0]))
+        start += float(k[-1] - k[0]) + gap
+    sizes = np.array([k.size for k in knots])
+    first = np.concatenate(([0], np.cumsum(sizes)[:-1]))
+    padded = [np.concatenate((c, np.zeros((rows, 1))), axis=1) for c in coefficients]
+    return MergedPieces(
+        knots=np.concatenate(knots),
+        shifted=np.concatenate([k + s for k, s in zip(knots, shifts, strict=True)]),
+        coefficients=np.ascontiguousarray(np.concatenate(padded, axis=1)),
+        first=first,
+        last=first + sizes - 2,
+        shift=np.array(shifts),
+    )
+
+
+@dataclass(frozen=True, eq=False)
+class PieceLookup:
+    """The merged tables as read by a set of items (cells or faces), one table each.
+
+    Attributes
+    ----------
+    pieces : MergedPieces
+    shift, first, last : ndarray
+        Each item's table shift and first and last piece index.
+    low, high : ndarray
+        Each item's valid abscissa range.
+    """
+
+    pieces: MergedPieces
+    shift: np.ndarray
+    first: np.ndarray
+    last: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+
+    @functools.cached_property
+    def _common(self) -> tuple[float, float, bool]:
+        """The range inside every item's range, and whether all items read one table."""
+        if self.low.size == 0:
+            return -np.inf, np.inf, True
+        one_table = bool(np.all(self.first == self.first[0]))
+        return float(self.low.max()), float(self.high.min()), one_table
+
+    def inside(self, x: np.ndarray) -> bool:
+        """Whether every item's abscissa lies in its table's range (false for NaN)."""
+        if x.size == 0:
+            return True
+        low, high, _ = self._common
+        if x.min() >= low and x.max() <= high:  # the usual case, in two reductions
+            return True
+        return bool(np.all((x >= self.low) & (x <= self.high)))
+
+    def locate(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """The coefficients (r, n) of each item's piece at ``x`` and the offset ``x - knot``."""
+        pieces = self.pieces
+        if self._common[2] and x.size:  # one table: no shift, scalar bounds
+            shift = self.shift[0]
+            k = np.searchsorted(pieces.shifted, x + shift if shift else x, side="right") - 1
+            np.clip(k, self.first[0], self.last[0], out=k)
+        else:
+            k = np.searchsorted(pieces.shifted, x + self.shift, side="right") - 1
+            np.clip(k, self.first, self.last, out=k)
+        return np.take(pieces.coefficients, k, axis=1), x - np.take(pieces.knots, k)
+
+
+@dataclass(frozen=True, eq=False)
+class CellTables:
+    """All materials' tables merged, as read by every cell and every radiating surface.
+
+    Build with :meth:`of`. Each method returns None when a value lies outside its
+    table, so that the caller falls back to the per-material methods (which raise or
+    clamp by the table's policy).
+
+    Attributes
+    ----------
+    properties : PieceLookup
+        Conductivities, heat capacity and enthalpy per cell (:meth:`Material.property_pieces`).
+    inverse : PieceLookup
+        The specific-heat pieces on the specific-energy axis, per cell.
+    density, reference_energy : ndarray
+        Per cell [kg/m^3], [J/kg].
+    enthalpy_low, enthalpy_high : ndarray
+        Per cell, the volumetric enthalpy range of its specific-heat table [J/m^3].
+    temperature_low, temperature_high : ndarray
+        Per cell, the temperature range of its specific-heat table [K].
+    emissivity_faces, emissivity_gap_a, emissivity_gap_b : PieceLookup
+        Emissivity (value and slope) per exposed face and per gap side.
+    """
+
+    properties: PieceLookup
+    inverse: PieceLookup
+    density: np.ndarray
+    reference_energy: np.ndarray
+    enthalpy_low: np.ndarray
+    enthalpy_high: np.ndarray
+    temperature_low: np.ndarray
+    temperature_high: np.ndarray
+    emissivity_faces: PieceLookup
+    emissivity_gap_a: PieceLookup
+    emissivity_gap_b: PieceLookup
+
+    @classmethod
+    def of(
+        cls,
+        materials: Sequence[Material],
+        cell_material: np.ndarray,
+        face_cell: np.ndarray,
+        gap_a: np.ndarray,
+        gap_b: np.ndarray,
+    ) -> CellTables:
+        """Merge the tables of ``materials``; ``cell_material`` indexes them per cell."""
+        props = [m.property_pieces() for m in materials]
+        merged = merge_pieces([k for k, _ in props], [c for _, c in props])
+        properties = merged.lookup(cell_material, [k[0] for k, _ in props], [k[-1] for k, _ in props])
+        inverse_pieces = [m.enthalpy_pieces() for m in materials]
+        energy = merge_pieces([e for e, _ in inverse_pieces], [c for _, c in inverse_pieces])
+        inverse = energy.lookup(cell_material, [0.0] * len(materials), [e[-1] for e, _ in inverse_pieces])
+        tables = [m.emissivity for m in materials]
+        emissivity = merge_pieces(
+            [t.temperature for t in tables],
+            [np.array([t.value[:-1], np.diff(t.value) / np.diff(t.temperature)]) for t in tables],
+        )
+        low = [t.temperature[0] for t in tables]
+        high = [t.temperature[-1] for t in tables]
+
+        def per_cell(values) -> np.ndarray:
+            return np.asarray(values, dtype=float)[cell_material]
+
+        return cls(
+            properties=properties,
+            inverse=inverse,
+            density=per_cell([m.density for m in materials]),
+            reference_energy=per_cell([m.reference_energy for m in materials]),
+            enthalpy_low=per_cell([m.enthalpy_range[0] for m in materials]),
+            enthalpy_high=per_cell([m.enthalpy_range[1] for m in materials]),
+            temperature_low=per_cell([m.specific_heat.temperature[0] for m in materials]),
+            temperature_high=per_cell([m.specific_heat.temperature[-1] for m in materials]),
+            emissivity_faces=emissivity.lookup(cell_material[face_cell], low, high),
+            emissivity_gap_a=emissivity.lookup(cell_material[gap_a], low, high),
+            emissivity_gap_b=emissivity.lookup(cell_material[gap_b], low, high),
+        )
+
+    def thermal_properties(self, T: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
+        """Conductivity (radial then axial, (2 n,)) [W/(m K)], volumetric heat capacity
+        [J/(m^3 K)] and enthalpy [J/m^3] of every cell at ``T`` [K], or None if a cell
+        lies outside its material's tables."""
+        lookup = self.properties
+        if not lookup.inside(T):
+            return None
+        a, x = lookup.locate(T)
+        linear = a[:3] + a[3:6] * x  # k_r, k_z, rho cp
+        enthalpy = a[6] + x * (a[2] + 0.5 * a[5] * x)
+        return linear[:2].reshape(-1), linear[2], enthalpy
+
+    def temperature(self, H: np.ndarray) -> np.ndarray | None:
+        """Temperature [K] of every cell from its volumetric enthalpy ``H`` [J/m^3] (the
+        exact inverse, as :meth:`Material.temperature_from_enthalpy`), or None if a cell
+        lies outside its specific-heat table."""
+        if not np.all((H >= self.enthalpy_low) & (H <= self.enthalpy_high)):
+            return None
+        lookup = self.inverse
+        energy = np.clip(H / self.density + self.reference_energy, lookup.low, lookup.high)
+        a, r = lookup.locate(energy)
+        b = a[0]
+        root = np.sqrt(np.maximum(b * b + 2.0 * a[1] * r, 0.0))
+        return np.clip(a[2] + 2.0 * r / (b + root), self.temperature_low, self.temperature_high)
+
+    def emissivity(self, lookup: PieceLookup, surface_t: np.ndarray) -> np.ndarray | None:
+        """Emissivity [-] of each surface of ``lookup`` at ``surface_t`` [K], or None if a
+        surface lies outside its material's emissivity table."""
+        if not lookup.inside(surface_t):
+            return None
+        a, x = lookup.locate(surface_t)
+        return a[0] + a[1] * x
 
 
 class TabulatedLaw:
@@ -35,10 +297,14 @@ class TabulatedLaw:
         self.temperature = np.zeros(0)
         self.h = np.zeros(0)
 
-    def _extend(self, low: float, high: float, time: float) -> None:
+    def cover(self, low: float, high: float, time: float) -> None:
+        """Grow the table (by whole blocks) to cover ``low``..``high`` [K]."""
+        if low >= self.low and high <= self.high:
+            return
         low = min(self.low, np.floor(low / _BLOCK) * _BLOCK)
         high = max(self.high, np.ceil(high / _BLOCK) * _BLOCK)
         low = max(low, SPACING)
+        high = max(high, low + _BLOCK)
         grid = np.arange(low, high + 0.5 * SPACING, SPACING)
         self.h = np.asarray(self.law.convection_coefficient(grid, time), dtype=float)
         self.temperature, self.low, self.high = grid, low, grid[-1]
@@ -48,10 +314,9 @@ class TabulatedLaw:
         if surface_temperature.size == 0:
             return np.zeros(0)
         t_min, t_max = float(surface_temperature.min()), float(surface_temperature.max())
-        if t_min < self.low or t_max > self.high or not np.isfinite(t_min + t_max):
-            if not np.isfinite(t_min + t_max):
-                return self.law.convection_coefficient(surface_temperature, time)
-            self._extend(t_min, t_max, time)
+        if not np.isfinite(t_min + t_max):
+            return self.law.convection_coefficient(surface_temperature, time)
+        self.cover(t_min, t_max, time)
         return np.interp(surface_temperature, self.temperature, self.h)
 
 
@@ -72,3 +337,76 @@ def evaluator(law: BoundaryLaw):
     if getattr(law, "time_dependent", True):
         return law.convection_coefficient
     return TabulatedLaw(law)
+
+
+class MergedConvection:
+    """The convection coefficient of every exposed face of one phase, in one pass.
+
+    The tables of the tabulated laws are merged and interpolated together (linear, as
+    :class:`TabulatedLaw`); a law that depends on time is called on its own faces.
+
+    Parameters
+    ----------
+    evaluators : sequence
+        One evaluator per surface group (:func:`evaluator`): a :class:`TabulatedLaw` or
+        a callable ``(surface_temperature, time) -> h``.
+    face_group : ndarray
+        The group of every face.
+    """
+
+    def __init__(self, evaluators: Sequence, face_group: np.ndarray):
+        tabulated = [g for g, e in enumerate(evaluators) if isinstance(e, TabulatedLaw)]
+        self.tables = [evaluators[g] for g in tabulated]
+        self.direct = [
+            (np.flatnonzero(face_group == g), e) for g, e in enumerate(evaluators) if not isinstance(e, TabulatedLaw)
+        ]
+        is_tabulated = np.isin(face_group, tabulated)
+        self.all_tabulated = bool(is_tabulated.all())
+        self.tabulated_faces = np.flatnonzero(is_tabulated)
+        table_of_group = np.full(len(evaluators), -1)
+        table_of_group[tabulated] = np.arange(len(tabulated))
+        self.face_table = table_of_group[face_group[self.tabulated_faces]]
+        self.lookup: PieceLookup | None = None
+
+    def _merge(self) -> None:
+        knots = [t.temperature for t in self.tables]
+        merged = merge_pieces(knots, [np.array([t.h[:-1], np.diff(t.h) / np.diff(t.temperature)]) for t in self.tables])
+        self.lookup = merged.lookup(self.face_table, [k[0] for k in knots], [k[-1] for k in knots])
+
+    def _cover(self, surface_t: np.ndarray, time: float) -> None:
+        """Grow the tables to the surface temperatures of their faces and merge them again."""
+        for index, table in enumerate(self.tables):
+            faces = surface_t[self.face_table == index]
+            if faces.size:
+                table.cover(float(faces.min()), float(faces.max()), time)
+        self._merge()
+
+    def __call__(self, surface_t: np.ndarray, time: float) -> np.ndarray:
+        """Coefficient [W/(m^2 K)] of every face at its surface temperature [K]."""
+        if self.all_tabulated:
+            h = self._tabulated(surface_t, time)
+        else:
+            h = np.empty(surface_t.size)
+            if self.tables:
+                h[self.tabulated_faces] = self._tabulated(surface_t[self.tabulated_faces], time)
+            for faces, law in self.direct:
+                h[faces] = law(surface_t[faces], time)
+        return h
+
+    def _tabulated(self, surface_t: np.ndarray, time: float) -> np.ndarray:
+        if surface_t.size == 0:
+            return np.zeros(0)
+        if self.lookup is None or not self.lookup.inside(surface_t):
+            if not np.all(np.isfinite(surface_t)):
+                return self._per_table(surface_t, time)
+            self._cover(surface_t, time)
+        a, x = self.lookup.locate(surface_t)
+        return a[0] + a[1] * x
+
+    def _per_table(self, surface_t: np.ndarray, time: float) -> np.ndarray:
+        """Each table's law called directly (for temperatures that are not finite)."""
+        h = np.empty(surface_t.size)
+        for index, table in enumerate(self.tables):
+            faces = self.face_table == index
+            h[faces] = table.law.convection_coefficient(surface_t[faces], time)
+        return h
