@@ -60,7 +60,26 @@ def refuse_replacing(check: Callable[[Path, str], None]) -> Iterator[None]:
     """Within this block, :func:`write_file_atomically` calls ``check(target, what)`` first.
 
     ``check`` raises (a ResultFileError) if the file already at ``target`` must not be
-    replaced; the write then leaves everything as it was.
+    replaced; the write then leaves everything as it was. The check holds for the current
+    context only and the one in force before is put back when the block ends, also on an error.
+
+    Parameters
+    ----------
+    check : callable
+        ``check(target, what)``, called before every atomic write with the file about to be
+        replaced (a symbolic link already followed to its target) and what it is ("report
+        file"); it returns nothing and raises to refuse the write.
+
+    Yields
+    ------
+    None
+        The block runs with ``check`` in force.
+
+    Raises
+    ------
+    ResultFileError
+        From a write inside the block whose ``check`` refuses the file already at its target
+        (raised by ``check`` itself, not by this function).
     """
     token = _REPLACE_CHECK.set(check)
     try:

@@ -24,7 +24,29 @@ __all__ = ["braking_event"]
 def braking_event(t: CaseTable, base: Path) -> BrakingEvent:
     """The braking event of one ``[[duty.phases.events]]`` table; errors name its key path.
 
+    The table's ``kind`` picks the function that makes the event
+    (:data:`heatstack.case_keys.EVENT_KINDS`); its other keys are that function's arguments,
+    and its ground-roll sub-tables (aircraft, runway, conditions) become their records.
     Relative speed-trace paths are resolved against ``base``.
+
+    Parameters
+    ----------
+    t : CaseTable
+        The event's table, with its key path (``duty.phases[0].events[1]``).
+    base : Path
+        The folder that a relative ``path_or_rows`` (speed trace file) is relative to: the
+        case file's folder.
+
+    Returns
+    -------
+    BrakingEvent
+        The event, as its kind's function makes it.
+
+    Raises
+    ------
+    InputError
+        Naming the key path, if ``kind`` is unknown (with the closest kind), a key is unknown
+        or missing, a sub-table is wrong, or the kind's function rejects a value.
     """
     kind = t.text("kind")
     if kind not in EVENT_KINDS:

@@ -36,6 +36,14 @@ class RunBudget:
     """The most a run may spend: accepted time steps, and wall time [s] (None: no limit).
 
     The defaults are generous: the demo takes a few hundred steps and seconds.
+
+    Attributes
+    ----------
+    max_steps : int
+        The most accepted time steps [-]; the run stops at the step that reaches it.
+    max_wall_time : float or None
+        The most wall-clock time the run may take [s], counted from just before its time
+        stepping starts; None for no limit.
     """
 
     max_steps: int = 1_000_000
@@ -55,6 +63,20 @@ def estimated_cells(assembly: Assembly, cell_size: tuple[float, float], min_cell
 
     Each interval between part boundaries gets ``ceil(length / cell size)`` cells, or more so that
     every part has ``min_cells`` across it, as the grid builder does.
+
+    Parameters
+    ----------
+    assembly : Assembly
+        The parts to mesh (their radial and axial extents are used).
+    cell_size : tuple of float
+        Target cell size (radial, axial) [m].
+    min_cells : int
+        The fewest cells across every part, in each direction [-].
+
+    Returns
+    -------
+    int
+        The number of cells of the whole tensor grid [-]: radial count times axial count.
     """
 
     def axis(spans: list[tuple[float, float]], target: float) -> int:
@@ -75,7 +97,27 @@ def estimated_cells(assembly: Assembly, cell_size: tuple[float, float], min_cell
 
 
 def check_cell_count(assembly: Assembly, cell_size: tuple[float, float], min_cells: int, limit: int) -> None:
-    """InputError before any allocation when the grid would pass ``limit`` cells."""
+    """InputError before any allocation when the grid would pass ``limit`` cells.
+
+    An assembly without parts passes (there is nothing to count).
+
+    Parameters
+    ----------
+    assembly : Assembly
+        The parts to mesh.
+    cell_size : tuple of float
+        Target cell size (radial, axial) [m].
+    min_cells : int
+        The fewest cells across every part, in each direction [-].
+    limit : int
+        The most cells allowed [-] (``[assembly] max_cells``).
+
+    Raises
+    ------
+    InputError
+        Naming ``assembly``, if :func:`estimated_cells` exceeds ``limit``; the message gives
+        the estimate, the cell sizes and the ways out (larger cells, a higher ``max_cells``).
+    """
     if not assembly.parts:
         return
     estimate = estimated_cells(assembly, cell_size, min_cells)
@@ -91,6 +133,24 @@ def plain_file_name(name: str, where: str) -> str:
     """``name`` if it is a plain file name inside the output folder, else an InputError naming ``where``.
 
     No folder part, no ``..``, no absolute path or drive, no null byte, not heatstack's temporary pattern.
+
+    Parameters
+    ----------
+    name : str
+        The file name given in the case.
+    where : str
+        The key path of the name, for the message (``output.file``).
+
+    Returns
+    -------
+    str
+        ``name``, unchanged.
+
+    Raises
+    ------
+    InputError
+        Naming ``where``, if ``name`` holds a null byte, is blank, ``.`` or ``..``, holds a
+        ``/`` or ``\\``, is absolute, or looks like a heatstack temporary file (``.NAME.tmp``).
     """
     shown = name if len(name) <= 80 else name[:77] + "..."
     if "\0" in name:
@@ -106,7 +166,21 @@ def plain_file_name(name: str, where: str) -> str:
 
 
 def check_cooling_series(name: str, known: set[str]) -> None:
-    """InputError naming ``output.cooling_series`` unless ``name`` is a series the run records."""
+    """InputError naming ``output.cooling_series`` unless ``name`` is a series the run records.
+
+    Parameters
+    ----------
+    name : str
+        The series named by ``output.cooling_series``.
+    known : set of str
+        The names of the probes and series the run records.
+
+    Raises
+    ------
+    InputError
+        Naming ``output.cooling_series``, if ``name`` is not in ``known``, with the closest
+        known name or the first known names.
+    """
     if name in known:
         return
     close = difflib.get_close_matches(name, sorted(known), n=1)
@@ -118,7 +192,30 @@ def check_cooling_series(name: str, known: set[str]) -> None:
 def watch_budget(
     budget: RunBudget, start: float, end: float, progress: Callable[[float], None] | None
 ) -> Callable[[float], None]:
-    """A progress callback that stops the run (BudgetExceeded) past its step or wall-time budget."""
+    """A progress callback that stops the run (BudgetExceeded) past its step or wall-time budget.
+
+    The wall time is counted from this call; every call of the callback counts one accepted step.
+
+    Parameters
+    ----------
+    budget : RunBudget
+        The steps and wall time the run may take.
+    start : float
+        Simulated time at which the run starts [s].
+    end : float
+        Simulated time at which the run ends [s]; with ``start``, for the share of the duty
+        done that the message gives.
+    progress : callable or None
+        The caller's own progress callback, called first with the simulated time [s] of every
+        accepted step; None for none.
+
+    Returns
+    -------
+    callable
+        ``watch(t)``, to be called with the simulated time [s] after every accepted step; it
+        raises :class:`BudgetExceeded` at the step that reaches ``budget.max_steps`` or once
+        the wall time passes ``budget.max_wall_time``, saying how far the run got.
+    """
     began = time.monotonic()
     steps = 0
 

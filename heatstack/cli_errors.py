@@ -24,7 +24,19 @@ MESSAGE_LIMIT = 600
 
 
 def one_line(exc: BaseException) -> str:
-    """The message of ``exc``, cut to :data:`MESSAGE_LIMIT` characters."""
+    """The message of ``exc``, cut to :data:`MESSAGE_LIMIT` characters.
+
+    Parameters
+    ----------
+    exc : BaseException
+        The error.
+
+    Returns
+    -------
+    str
+        Its text (its class name if the text is empty); a longer text is cut and ends by
+        saying how many characters are not shown.
+    """
     text = str(exc) or type(exc).__name__
     if len(text) > MESSAGE_LIMIT:
         text = f"{text[: MESSAGE_LIMIT - 60]} ... ({len(text) - MESSAGE_LIMIT + 60} characters not shown)"
@@ -32,7 +44,21 @@ def one_line(exc: BaseException) -> str:
 
 
 def save_traceback(exc: BaseException) -> Path | None:
-    """Write the traceback of an unexpected error to a new file in the temporary folder; its path."""
+    """Write the traceback of an unexpected error to a new file in the temporary folder; its path.
+
+    The file (``heatstack-traceback-*.txt``) starts with the heatstack version, the UTC time
+    and the command line.
+
+    Parameters
+    ----------
+    exc : BaseException
+        The error, with its traceback.
+
+    Returns
+    -------
+    Path or None
+        The file written, or None if it could not be written.
+    """
     import tempfile
     import time
     import traceback
@@ -52,8 +78,15 @@ def save_traceback(exc: BaseException) -> Path | None:
 def catch_termination() -> Callable[[], None]:
     """Make SIGTERM and SIGHUP exits Python sees (SystemExit), so temporary files are removed.
 
-    Returns the function that puts the previous handlers back. A process forked from this
-    one (a local study worker) keeps the default: it dies at once, as before.
+    Only a signal still at its default handler is taken over; the exit status is then 128
+    plus the signal number. Called outside the main thread, this changes nothing. A
+    process forked from this one (a local study worker) keeps the default: it dies at once,
+    as before.
+
+    Returns
+    -------
+    callable
+        ``restore()``, taking no arguments, which puts the previous handlers back.
     """
     import signal
     import threading
@@ -83,7 +116,27 @@ def catch_termination() -> Callable[[], None]:
 
 
 def exit_code_and_line(exc: BaseException) -> tuple[int, str]:
-    """The exit code and the one line printed for an exception that reached the command line."""
+    """The exit code and the one line printed for an exception that reached the command line.
+
+    Bad input (InputError, ResultFileError, an input nested too deeply, a number too large,
+    text that is not valid, a null byte in a path, an operating-system error) gives 2; a
+    failed computation (any other heatstack error, out of memory, a matrix the sparse solver
+    refuses) gives 1. Any other exception is an internal error (1): its traceback is saved
+    with :func:`save_traceback` and the line names the file.
+
+    Parameters
+    ----------
+    exc : BaseException
+        The exception.
+
+    Returns
+    -------
+    code : int
+        The exit code, 1 or 2.
+    line : str
+        The line to print, starting ``heatstack: error:``, ``heatstack: failed:`` or
+        ``heatstack: internal error:``.
+    """
     if isinstance(exc, InputError | ResultFileError):
         return 2, f"heatstack: error: {one_line(exc)}"
     if isinstance(exc, HeatstackError):

@@ -12,7 +12,33 @@ __all__ = ["cmd_study", "fail_if_nothing_finished", "write_study_outputs"]
 
 
 def cmd_study(args: argparse.Namespace) -> int:
-    """Run or resume the study of ``args.study``, print and write its report; the exit code."""
+    """Run or resume the study of ``args.study``, print and write its report; the exit code.
+
+    A ``--report`` file heatstack did not write is refused before the study runs, unless
+    ``--force``; the outputs are then written with :func:`write_study_outputs`.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        The parsed ``heatstack study`` command line: ``study``, ``store``, ``workers``,
+        ``scheduler``, ``timeout`` [s], ``retry_failed``, ``report``, ``plots``, ``unit``,
+        ``force`` and ``quiet``.
+
+    Returns
+    -------
+    int
+        The exit code: 0 (a study without one finished case raises instead).
+
+    Raises
+    ------
+    InputError
+        If the study file cannot be read or is wrong (from :func:`heatstack.studies.load_study`).
+    ResultFileError
+        If the ``--report`` file is already there and heatstack did not write it (without
+        ``--force``), or an output cannot be written.
+    StudyError
+        If cases failed and none finished (:func:`fail_if_nothing_finished`).
+    """
     from .own_files import check_replaceable, replacing_own_files_only
     from .studies import LocalExecutor, load_study, run_study, study_report
 
@@ -46,7 +72,20 @@ def cmd_study(args: argparse.Namespace) -> int:
 
 
 def fail_if_nothing_finished(table, shown: int = 3) -> None:
-    """StudyError (exit 1) when cases failed and none finished, with the first reasons."""
+    """StudyError (exit 1) when cases failed and none finished, with the first reasons.
+
+    Parameters
+    ----------
+    table : StudyTable
+        The study's results, one row per case, with its ``status`` and ``error`` columns.
+    shown : int, optional
+        The number of failed cases whose first error line the message quotes [-].
+
+    Raises
+    ------
+    StudyError
+        If at least one case failed and no case finished.
+    """
     from .errors import StudyError
 
     counts = table.counts()
@@ -64,7 +103,30 @@ def fail_if_nothing_finished(table, shown: int = 3) -> None:
 
 
 def write_study_outputs(args: argparse.Namespace, run, report: str, store: Path) -> None:
-    """The study's Markdown report (``--report``) and its margin histogram and tornado."""
+    """The study's Markdown report (``--report``) and its margin histogram and tornado.
+
+    The report is written only when ``--report`` is given; the plots go to ``--plots`` (by
+    default the store folder) when the table has a ``plug_margin_min`` column, and the
+    tornado is left out, with a printed reason, when too few cases finished for a ranking.
+    Each plot's path is printed.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        The parsed ``heatstack study`` command line (``report`` and ``plots`` are used).
+    run : StudyRun
+        What the study run did (its ``table`` is used).
+    report : str
+        The study report, Markdown.
+    store : Path
+        The study's store folder.
+
+    Raises
+    ------
+    ResultFileError
+        If a file cannot be written, or (inside :func:`heatstack.own_files.replacing_own_files_only`)
+        a file heatstack did not write is already at its place.
+    """
     from .studies import sensitivity
     from .studies.plots import plot_margin_histogram, plot_tornado
 

@@ -57,6 +57,17 @@ def is_own_file(path: str | Path) -> bool:
     """Whether the file at ``path`` is one heatstack wrote (results file, figure or report).
 
     A missing or unreadable file, a folder, or anything else is not.
+
+    Parameters
+    ----------
+    path : str or Path
+        The file to look at (only its first 64 KiB are read, and for an HDF5 file its root
+        ``format`` attribute).
+
+    Returns
+    -------
+    bool
+        True if its content marks it as heatstack's.
     """
     path = Path(path)
     try:
@@ -106,6 +117,23 @@ def replacing_own_files_only(force: bool = False) -> Iterator[None]:
     """Within this block, atomic writes refuse to replace a file heatstack did not write.
 
     With ``force`` the block changes nothing: any file may be replaced.
+
+    Parameters
+    ----------
+    force : bool, optional
+        Allow every file to be replaced (``--force``).
+
+    Yields
+    ------
+    None
+        The block runs with the check (:func:`check_replaceable`) in force, or without it if
+        ``force``.
+
+    Raises
+    ------
+    ResultFileError
+        From an atomic write inside the block whose target is a file heatstack did not write
+        (raised by :func:`check_replaceable`).
     """
     if force:
         yield

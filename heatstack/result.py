@@ -295,6 +295,18 @@ def first_non_finite(result: Result) -> str | None:
     """The name of the first computed history or state of ``result`` that holds NaN or infinity.
 
     Void cells of the field snapshots are NaN by design and not counted.
+
+    Parameters
+    ----------
+    result : Result
+        The result to look through: times, probes, readings, series, ledger accounts, the
+        final state and its readings and plug temperatures, then the field snapshots.
+
+    Returns
+    -------
+    str or None
+        The name of the first array that is not finite (``"probe 'rotor_mid'"``,
+        ``"final state"``, ``"field snapshots"``), or None if all are finite.
     """
 
     arrays: list[tuple[str, Any]] = [("times", result.times), ("snapshot_times", result.snapshot_times)]
