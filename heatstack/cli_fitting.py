@@ -81,6 +81,7 @@ def _fit_with_inputs(args: argparse.Namespace, case, t, T) -> int:
     honest = energy_with_input_uncertainty(case, t, T, args.sensor, tau_sd, args.contact_conductance_sd)
     estimate = honest.estimate
     state = "converged" if estimate.converged else "NOT converged"
+    print(CAUTION)
     print(
         f"energy per brake: {estimate.energy / 1e6:.3f} MJ +/- {honest.standard_deviation / 1e6:.3f} MJ "
         f"(1 standard deviation, trace scatter and uncertain inputs; {state})"
@@ -115,6 +116,7 @@ def cmd_calibrate(args: argparse.Namespace) -> int:
     """
     from .questions.calibrate import calibrate, fit_summary, write_calibration_outputs
     from .questions.calibration_file import load_calibration
+    from .questions.calibration_report import CALIBRATION_NOTE
 
     calibration = load_calibration(args.calibration)
     out = Path(args.out) if args.out else Path(args.calibration).with_suffix(".calibrated")
@@ -127,6 +129,8 @@ def cmd_calibrate(args: argparse.Namespace) -> int:
             file=sys.stderr,
         )
     run = calibrate(calibration)
+    print(CAUTION)
+    print(CALIBRATION_NOTE)
     print(run.fit.message)
     print(fit_summary(run.fit, run.identifiability))
     print(run.identifiability.statement)

@@ -35,7 +35,16 @@ from .report_text import (
     unit_symbols,
 )
 
-__all__ = ["SECTIONS", "html_report", "write_report_files", "library_versions"]
+__all__ = [
+    "SECTIONS",
+    "html_report",
+    "html_page",
+    "html_table",
+    "html_paragraphs",
+    "html_figure",
+    "write_report_files",
+    "library_versions",
+]
 
 #: Section ids of the HTML report, in page order (those of absent answers are left out).
 SECTIONS = (
@@ -136,8 +145,8 @@ def _is_number(text: str) -> bool:
     return True
 
 
-def _table(head: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
-    """A table; a column holding any number is right-aligned, the first column never wraps."""
+def html_table(head: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
+    """A table of text cells (escaped here); a column holding any number is right-aligned, the first never wraps."""
     numeric = [any(_is_number(row[k]) for row in rows) for k in range(len(head))]
     heads = "".join(
         f'<th class="{"number" if n else "text"}">{_esc(h)}</th>' for h, n in zip(head, numeric, strict=True)
@@ -151,12 +160,13 @@ def _table(head: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
     return f"<table><thead><tr>{heads}</tr></thead><tbody>{body}</tbody></table>"
 
 
-def _paragraphs(lines: Sequence[str], css: str = "") -> str:
+def html_paragraphs(lines: Sequence[str], css: str = "") -> str:
+    """One paragraph per line of text (escaped here), with an optional CSS class."""
     attribute = f' class="{css}"' if css else ""
     return "".join(f"<p{attribute}>{_esc(line)}</p>" for line in lines)
 
 
-def _figure(path: Path) -> str:
+def html_figure(path: Path) -> str:
     """One figure file as an embedded image with its file name as caption."""
     kind = "image/svg+xml" if path.suffix.lower() == ".svg" else "image/png"
     data = base64.b64encode(path.read_bytes()).decode("ascii")
@@ -178,13 +188,13 @@ def _energy_html(energy: Mapping[str, Any]) -> str:
         )
     ]
     closure = f"Closure error {energy['relative_closure_error']:.1e} of the input (stored - in + convected + radiated)."
-    text = _table(["account", "energy [MJ]"], rows) + _paragraphs([closure], "note")
+    text = html_table(["account", "energy [MJ]"], rows) + html_paragraphs([closure], "note")
     if energy["interfaces"]:
         split = [
             [i["interface"], f"{i['first_side_J'] / 1e6:.3f}", f"{i['second_side_J'] / 1e6:.3f}"]
             for i in energy["interfaces"]
         ]
-        text += _table(["rubbing interface", "first side [MJ]", "second side [MJ]"], split)
+        text += html_table(["rubbing interface", "first side [MJ]", "second side [MJ]"], split)
     return text
 
 
@@ -195,26 +205,26 @@ def _section_bodies(report: Mapping[str, Any], figures: Sequence[Path], case_tex
     if report["warnings"]:
         items = "".join(f"<li>{_esc(w)}</li>" for w in report["warnings"])
         bodies["warnings"] = f'<ul class="warnings">{items}</ul>'
-    bodies["peaks"] = _paragraphs([end_of_braking_sentence(report)]) + _table(*tables["peaks"])
+    bodies["peaks"] = html_paragraphs([end_of_braking_sentence(report)]) + html_table(*tables["peaks"])
     if report.get("sensor"):
-        bodies["sensor"] = _paragraphs(sensor_sentences(report))
+        bodies["sensor"] = html_paragraphs(sensor_sentences(report))
     if report["fuse_plugs"]:
-        bodies["fuse-plugs"] = _table(*tables["fuse_plugs"]) + _paragraphs([report["fuse_plug_note"]], "note")
+        bodies["fuse-plugs"] = html_table(*tables["fuse_plugs"]) + html_paragraphs([report["fuse_plug_note"]], "note")
     if report["limits"]:
-        bodies["limits"] = _table(*tables["limits"])
+        bodies["limits"] = html_table(*tables["limits"])
     if report.get("tyre"):
-        bodies["tyre"] = _paragraphs(tyre_sentences(report))
+        bodies["tyre"] = html_paragraphs(tyre_sentences(report))
     if report.get("cooling"):
-        bodies["cooling"] = _paragraphs(cooling_sentences(report))
+        bodies["cooling"] = html_paragraphs(cooling_sentences(report))
     if report.get("stops"):
-        bodies["stops"] = _paragraphs([t for t in stop_sentences(report) if t])
+        bodies["stops"] = html_paragraphs([t for t in stop_sentences(report) if t])
     bodies["energy"] = _energy_html(report["energy"])
     if figures:
-        bodies["figures"] = "".join(_figure(Path(f)) for f in figures)
+        bodies["figures"] = "".join(html_figure(Path(f)) for f in figures)
     if case_text:
         bodies["case"] = f"<pre>{_esc(case_text)}</pre>"
     versions = library_versions()
-    bodies["versions"] = _table(["software", "version"], [[k, v] for k, v in versions.items()])
+    bodies["versions"] = html_table(["software", "version"], [[k, v] for k, v in versions.items()])
     return bodies
 
 
@@ -239,17 +249,41 @@ def html_report(report: Mapping[str, Any], figures: Sequence[Path] = (), case_te
     present = [key for key in SECTIONS if key in bodies]
     unit = unit_symbols(report["temperature_unit"])[0]
     titles = {**_TITLES, "peaks": f"Peak temperatures [{unit}]"}
-    nav = "".join(f'<a href="#{key}">{_esc(titles[key])}</a>' for key in present if key != "caution")
-    heads = {key: "" if key == "caution" else f"<h2>{_esc(titles[key])}</h2>" for key in present}
-    sections = "".join(f'<section id="{key}">{heads[key]}{bodies[key]}</section>' for key in present)
-    title = _esc(report["title"] or "heatstack report")
+    sections = [(key, "" if key == "caution" else titles[key], bodies[key]) for key in present]
+    return html_page(report["title"] or "heatstack report", report["heatstack_version"], sections)
+
+
+def html_page(title: str, version: str, sections: Sequence[tuple[str, str, str]]) -> str:
+    """One self-contained HTML page: title, navigation, the sections, the figure-decoding check.
+
+    Parameters
+    ----------
+    title : str
+        Page title (escaped here).
+    version : str
+        heatstack version shown under the title.
+    sections : sequence of (str, str, str)
+        Section id, heading (escaped here; "" for none and no navigation link) and body
+        (HTML, already escaped), in page order.
+
+    Returns
+    -------
+    str
+        The page (UTF-8 text); it refers to no other file.
+    """
+    nav = "".join(f'<a href="#{key}">{_esc(head)}</a>' for key, head, _ in sections if head)
+    parts = "".join(
+        f'<section id="{key}">{f"<h2>{_esc(head)}</h2>" if head else ""}{body}</section>'
+        for key, head, body in sections
+    )
+    title = _esc(title)
     return (
         '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
         f"{HTML_GENERATOR}"
         '<meta name="viewport" content="width=device-width, initial-scale=1">'
         f"<title>{title}</title><style>{_STYLE}</style></head>"
-        f"<body><h1>{title}</h1><p class='note'>heatstack {_esc(report['heatstack_version'])}</p>"
-        f"<nav>{nav}</nav>{sections}<script>{_SCRIPT}</script></body></html>\n"
+        f"<body><h1>{title}</h1><p class='note'>heatstack {_esc(version)}</p>"
+        f"<nav>{nav}</nav>{parts}<script>{_SCRIPT}</script></body></html>\n"
     )
 
 

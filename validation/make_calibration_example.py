@@ -36,10 +36,20 @@ RUNS = (
     ("stop 2", {"duty.phases[0].events[0].energy": 1.5e6, "duty.phases[2].environment.wind_speed": 2.0}),
     ("stop 3", {"duty.phases[0].events[0].energy": 2.0e6, "duty.phases[2].environment.wind_speed": 4.0}),
 )
-#: Thermocouple declared in the calibration file (r, z, part) as well as the sensor.
-THERMOCOUPLE = {"name": "tc stator", "r": 0.15, "z": 0.035, "part": "stator"}
+#: Thermocouples declared in the calibration file (r, z, part) as well as the sensor: one in
+#: each ring, so the rotor-stator temperature difference that the contact sets is measured.
+THERMOCOUPLES = (
+    {"name": "tc stator", "r": 0.15, "z": 0.035, "part": "stator"},
+    {"name": "tc rotor", "r": 0.15, "z": 0.005, "part": "rotor"},
+)
+#: Probes read and the file name part of each.
+PROBES = (("sensor", "sensor"), ("tc stator", "tc_stator"), ("tc rotor", "tc_rotor"))
 NOISE = 1.0  # standard deviation of the invented measurement noise [K]
-SAMPLE_TIMES = np.arange(0.0, 900.0 + 1e-9, 10.0)  # [s]
+#: The "measured" runs' grid and step control: half the example's cell size (1.25 mm) and half its
+#: target change per step (0.5 K), so the fit's own discretisation error is part of what it meets.
+FINE_CELL_SIZE, FINE_TARGET_CHANGE = 0.000625, 0.25  # [m], [K]
+SAMPLE_TIMES = np.arange(0.0, 900.0 + 1e-9, 5.0)  # [s]
+SEED = 20261202  # the noise generator's seed, fixed so the example is reproducible
 
 
 def synthetic_readings(
@@ -74,12 +84,13 @@ def write_trace(path: Path, times: np.ndarray, temperatures: np.ndarray, note: s
 
 def main() -> int:
     base_text = (FOLDER / "dyno_brake.toml").read_text(encoding="utf-8")
-    rng = np.random.default_rng(20261202)
+    rng = np.random.default_rng(SEED)
     for k, (name, overrides) in enumerate(RUNS, start=1):
         readings = synthetic_readings(
-            base_text, TRUTH, overrides, ("sensor", "tc stator"), SAMPLE_TIMES, extra_probes=(THERMOCOUPLE,)
-        )
-        for probe, clean in zip(("sensor", "tc_stator"), readings, strict=True):
+            base_text, TRUTH, overrides, [p for p, _ in PROBES], SAMPLE_TIMES, extra_probes=THERMOCOUPLES,
+            cell_size=FINE_CELL_SIZE, target_change=FINE_TARGET_CHANGE,
+        )  # fmt: skip
+        for (_, probe), clean in zip(PROBES, readings, strict=True):
             noisy = clean + rng.normal(0.0, NOISE, clean.size)
             note = f"INVENTED dynamometer {name}, {probe}: made by heatstack with known parameters plus noise"
             write_trace(FOLDER / f"stop{k}_{probe}.csv", SAMPLE_TIMES, noisy, note)

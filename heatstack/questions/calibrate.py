@@ -29,11 +29,13 @@ from .calibration import (
     to_internal,
 )
 from .calibration_file import Calibration
+from .calibration_html import calibration_html
 from .calibration_report import (
     CalibrationAnswers,
     answer_intervals,
     format_calibration_report,
     plot_calibration,
+    plot_run,
 )
 from .identifiability import Identifiability, Profile, identifiability, profile_parameter
 
@@ -104,7 +106,11 @@ def calibrate(calibration: Calibration, executor: StudyExecutor | None = None) -
 
 
 def write_calibration_outputs(run: CalibrationRun, folder: str | os.PathLike) -> tuple[Path, ...]:
-    """Write ``calibrated-case.toml``, ``calibration-report.txt``, ``.md`` and ``calibration-traces.png``.
+    """Write ``calibrated-case.toml``, ``calibration-report.txt``, ``.md``, ``report.html`` and the figures.
+
+    The figures are ``calibration-traces.png`` (every trace) and ``calibration-run-<k>.png``
+    (test run ``k``: its traces measured and fitted, and their residuals); ``report.html``
+    embeds them and stands alone.
 
     Parameters
     ----------
@@ -138,11 +144,16 @@ def write_calibration_outputs(run: CalibrationRun, folder: str | os.PathLike) ->
         written.append(write_file_atomically(folder / name, lambda t, b=body: Path(t).write_text(b, encoding="utf-8"),
                                              "report file"))  # fmt: skip
     written.append(plot_calibration(c, fit, folder / "calibration-traces.png"))
+    figures = [plot_run(c, fit, k, folder / f"calibration-run-{k + 1}.png") for k in range(len(c.runs))]
+    written += figures
+    page = calibration_html(c, fit, ident, run.answers, run.profile, figures)
+    written.append(write_file_atomically(folder / "report.html", lambda t: Path(t).write_text(page, encoding="utf-8"),
+                                         "report file"))  # fmt: skip
     return tuple(written)
 
 
 def fit_summary(fit: CalibrationFit, ident: Identifiability) -> str:
-    """One line per parameter: value, interval, determined.
+    """One line per parameter: value, interval, relative standard deviation from the traces, verdict.
 
     Parameters
     ----------
@@ -158,8 +169,12 @@ def fit_summary(fit: CalibrationFit, ident: Identifiability) -> str:
     """
     lines = []
     for k, p in enumerate(fit.parameters):
-        state = "" if ident.determined[k] else "  NOT DETERMINED by the traces"
-        lines.append(f"{p.name}: {fit.values[k]:.5g} (95 %: {fit.lower_95[k]:.4g} to {fit.upper_95[k]:.4g}){state}")
+        spread = ident.relative_sd[k]
+        spread_text = f"{spread:.1%}" if np.isfinite(spread) else "inf"
+        lines.append(
+            f"{p.name}: {fit.values[k]:.5g} (95 %: {fit.lower_95[k]:.4g} to {fit.upper_95[k]:.4g}; "
+            f"relative sd from the traces {spread_text}): {ident.verdicts[k].upper()}"
+        )
     return "\n".join(lines)
 
 

@@ -21,6 +21,7 @@ from typing import Any
 
 from ..atomic import write_file_atomically
 from ..errors import InputError
+from ..report import CAUTION
 from ..studies.paths import format_path
 from ..units import SI_UNITS
 from .calibration import CalibrationFit, parameter_mapping
@@ -100,10 +101,10 @@ def toml_text(mapping: Mapping) -> str:
     return "\n".join(lines).lstrip("\n") + "\n"
 
 
-def _interval_text(value: float, low: float, high: float, unit: str) -> str:
+def _interval_text(value: float, low: float, high: float, unit: str, verdict: str) -> str:
     if not (math.isfinite(low) and math.isfinite(high)):
         return f"{value:.5g} {unit} (not determined by the traces)"
-    return f"{value:.5g} {unit} (95 % interval {low:.4g} to {high:.4g})"
+    return f"{value:.5g} {unit} (95 % interval {low:.4g} to {high:.4g}; {verdict} by the traces)"
 
 
 def calibrated_case_text(calibration: Calibration, fit: CalibrationFit, ident: Identifiability) -> str:
@@ -130,22 +131,22 @@ def calibrated_case_text(calibration: Calibration, fit: CalibrationFit, ident: I
     lines = [
         f"# heatstack calibrated case: {calibration.base_origin} fitted to {calibration.origin}",
         f"# fit: {fit.message}; reduced chi-square {fit.reduced_chi_square:.3g}",
-        "# Not certified data; defer to the manufacturer's maintenance data, local regulations and licensed practice.",
+        f"# {CAUTION}",
     ]
     records = []
     for k, p in enumerate(fit.parameters):
         unit = SI_UNITS.get(p.dimension, "")
         where = ", ".join(format_path(path) for path in p.paths)
         note = "" if shared[k] else f" (run {p.run!r} only; not written below)"
-        lines.append(
-            f"#   {p.name} [{where}] = {_interval_text(fit.values[k], fit.lower_95[k], fit.upper_95[k], unit)}{note}"
-        )
+        value = _interval_text(fit.values[k], fit.lower_95[k], fit.upper_95[k], unit, ident.verdicts[k])
+        lines.append(f"#   {p.name} [{where}] = {value}{note}")
         records.append({
             "name": p.name, "paths": [format_path(path) for path in p.paths], "unit": unit, "run": p.run,
             "value": float(fit.values[k]),
             "lower_95": float(fit.lower_95[k]) if math.isfinite(fit.lower_95[k]) else None,
             "upper_95": float(fit.upper_95[k]) if math.isfinite(fit.upper_95[k]) else None,
-            "log": p.log, "determined": bool(ident.determined[k]),
+            "log": p.log, "determined": bool(ident.determined[k]), "verdict": ident.verdicts[k],
+            "relative_sd_traces": float(ident.relative_sd[k]) if math.isfinite(ident.relative_sd[k]) else None,
         })  # fmt: skip
     covariance = [[float(x) if math.isfinite(x) else None for x in row] for row in fit.covariance]
     block = {"parameters": records, "covariance_internal": covariance, "converged": fit.converged}

@@ -123,7 +123,7 @@ class CalibrationOutcome:
         The model's reading of each probe at its trace times [K].
     names : tuple of str
         Answer names (with ``summary``); ``cooling_time`` [s] among them when the case
-        asks for one and it is reached.
+        asks for one (inf when the run ends before it is reached).
     values : ndarray
         Answer values [SI].
     error : str
@@ -174,8 +174,7 @@ def run_calibration_job(job: CalibrationJob) -> CalibrationOutcome:
             pairs = summarise(case, result)
             if case.output.cooling_below is not None:
                 cooling = cooling_time_in_result(result, case.output.cooling_series, case.output.cooling_below)
-                if cooling.reached:
-                    pairs.append(("cooling_time", float(cooling.duration)))
+                pairs.append(("cooling_time", float(cooling.duration) if cooling.reached else np.inf))
     except HeatstackError as exc:
         return CalibrationOutcome((), error=f"{type(exc).__name__}: {exc}")
     return CalibrationOutcome(readings, tuple(n for n, _ in pairs), np.array([v for _, v in pairs], dtype=float))

@@ -242,6 +242,8 @@ class Calibration:
     settings : FitSettings
     origin : str
         The calibration file's name.
+    text : str
+        The calibration file's text.
     """
 
     title: str
@@ -253,6 +255,7 @@ class Calibration:
     parameters: tuple[FitParameter, ...]
     settings: FitSettings
     origin: str
+    text: str = ""
 
     @property
     def n_points(self) -> int:
@@ -419,10 +422,13 @@ def _trace(data: Any, where: str, run: str, folder: Path, probes: set[str], dura
     path = folder / str(_required(data, "file", where))
     if not path.is_file():
         raise InputError(f"{where}.file: {str(path)!r} does not exist")
-    times, temperatures = read_sensor_trace(path)
-    if times.size < _MIN_POINTS:
-        raise InputError(f"{where}.file: {path.name} has {times.size} points; a trace needs at least {_MIN_POINTS}")
-    check_trace(times, temperatures, 1)
+    try:
+        times, temperatures = read_sensor_trace(path)
+        if times.size < _MIN_POINTS:
+            raise InputError(f"{path.name} has {times.size} points; a trace needs at least {_MIN_POINTS}")
+        check_trace(times, temperatures, 1)
+    except InputError as exc:
+        raise InputError(f"{where}.file: {exc}") from None
     if times[0] < 0 or times[-1] > duration:
         raise InputError(
             f"{where}.file: {path.name} runs from {times[0]:g} s to {times[-1]:g} s, outside run {run!r} "
@@ -538,12 +544,12 @@ def parse_calibration(text: str, origin: str = "<string>", folder: str | Path = 
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{origin}: not valid TOML: {exc}") from None
     try:
-        return _calibration(data, origin, folder)
+        return _calibration(data, origin, folder, text)
     except InputError as exc:
         raise type(exc)(f"{origin}: {exc}") from None
 
 
-def _calibration(data: Mapping, origin: str, folder: Path) -> Calibration:
+def _calibration(data: Mapping, origin: str, folder: Path, text: str) -> Calibration:
     _check_keys(data, ("calibration", "fit", "parameters", "runs"), "")
     head = _table(data.get("calibration", {}), "calibration")
     _check_keys(head, ("title", "base_case"), "calibration")
@@ -580,7 +586,7 @@ def _calibration(data: Mapping, origin: str, folder: Path) -> Calibration:
         raise InputError(f"fit.profile: no parameter named {profile!r}")
     return Calibration(
         calibration.title, base_text, base_mapping, base_path.name, base_path.parent, runs, parameters,
-        calibration.settings, origin,
+        calibration.settings, origin, text,
     )  # fmt: skip
 
 

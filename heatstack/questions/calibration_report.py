@@ -21,18 +21,20 @@ from pathlib import Path
 import numpy as np
 
 from ..atomic import write_file_atomically
+from ..report import CAUTION
 from ..units import SI_UNITS
 from .calibration import CalibrationFit
-from .calibration_file import Calibration
+from .calibration_file import Calibration, FitParameter
 from .identifiability import Identifiability, Profile
 
 __all__ = ["CalibrationAnswers", "RunsTest", "runs_test", "answer_intervals", "format_calibration_report",
-           "plot_calibration", "CAUTION"]  # fmt: skip
+           "plot_calibration", "plot_run", "parameter_table", "trace_table", "answer_table", "correlation_table",
+           "CALIBRATION_NOTE", "WHITE_LEVEL"]  # fmt: skip
 
-CAUTION = (
-    "Caution: a model calibrated to test traces is not certified data; defer to the manufacturer's "
-    "maintenance data, local regulations and licensed practice."
-)
+#: What a calibration adds to the house caution (:data:`heatstack.report.CAUTION`).
+CALIBRATION_NOTE = "A model calibrated to test traces is still not certified data."
+#: Two-sided significance level of the runs test below which a trace's residuals are called not white [-].
+WHITE_LEVEL = 0.01
 _ANSWER_PREFIXES = ("peak:", "peak_delay:", "plug_peak:", "plug_margin:", "limit_margin:", "cooling_time")
 
 
@@ -126,9 +128,9 @@ def answer_intervals(names: tuple[str, ...], at_fit: np.ndarray, draws: np.ndarr
     keep = [k for k, n in enumerate(names) if n.startswith(_ANSWER_PREFIXES) and not n.startswith("peak:heat_sink")]
     keep += [k for k, n in enumerate(names) if n.startswith("peak:heat_sink")]
     rows = draws[:, keep] if draws.size else np.zeros((0, len(keep)))
-    good = rows[np.all(np.isfinite(rows), axis=1)] if rows.size else rows
-    if good.shape[0] >= 2:
-        low, high = np.percentile(good, 2.5, axis=0), np.percentile(good, 97.5, axis=0)
+    good = rows[np.all(~np.isnan(rows), axis=1)] if rows.size else rows  # inf: a cooling time not reached
+    if good.shape[0] >= 2:  # empirical quantiles (no interpolation across a value not reached)
+        low, high = np.percentile(good, [2.5, 97.5], axis=0, method="inverted_cdf")
     else:
         low = high = np.full(len(keep), np.nan)
     return CalibrationAnswers(tuple(names[k] for k in keep), at_fit[keep], low, high, int(good.shape[0]))
@@ -152,18 +154,35 @@ def _table(header: Sequence[str], rows: list[Sequence[str]], markdown: bool) -> 
     return [fmt.format(*header), *(fmt.format(*row) for row in rows)]
 
 
-def _parameter_rows(fit: CalibrationFit, ident: Identifiability) -> list[list[str]]:
+def _prior_text(parameter: FitParameter, unit: str) -> str:
+    prior = parameter.prior
+    if prior is None:
+        return "none"
+    if prior.kind == "lognormal":
+        return f"lognormal, median {prior.center:.4g} {unit}, sigma(ln) {prior.spread:.3g}"
+    return f"normal, mean {prior.center:.4g} {unit}, sd {prior.spread:.4g} {unit}"
+
+
+def parameter_table(fit: CalibrationFit, ident: Identifiability) -> tuple[list[str], list[list[str]]]:
+    """Header and rows of the parameter table: bounds, prior, estimate, interval, uncertainty, verdict."""
+    header = ["parameter", "unit", "start", "lower", "upper", "prior", "fitted", "95 % interval",
+              "rel. sd (traces)", "verdict", "runs"]  # fmt: skip
     rows = []
     for k, p in enumerate(fit.parameters):
         unit = SI_UNITS.get(p.dimension, "")
         low, high = fit.lower_95[k], fit.upper_95[k]
         interval = f"{low:.4g} to {high:.4g}" if math.isfinite(low) and math.isfinite(high) else "not determined"
-        rows.append([p.name, f"{p.start:.4g}", f"{fit.values[k]:.4g}", interval, unit,
-                     "yes" if ident.determined[k] else "NO", p.run or "all"])  # fmt: skip
-    return rows
+        spread = ident.relative_sd[k]
+        rows.append([p.name, unit, f"{p.start:.4g}", f"{p.lower:.4g}", f"{p.upper:.4g}", _prior_text(p, unit),
+                     f"{fit.values[k]:.4g}", interval, f"{spread:.1%}" if math.isfinite(spread) else "inf",
+                     ident.verdicts[k], p.run or "all"])  # fmt: skip
+    return header, rows
 
 
-def _trace_rows(calibration: Calibration, fit: CalibrationFit) -> list[list[str]]:
+def trace_table(calibration: Calibration, fit: CalibrationFit) -> tuple[list[str], list[list[str]]]:
+    """Header and rows of the trace table: points, peaks, rms residual, sigma and the runs test."""
+    header = ["trace", "points", "measured peak degC", "predicted peak degC", "rms residual K", "sigma K",
+              "runs-test z", "runs-test p", "white at 1 %"]  # fmt: skip
     traces = [t for run in calibration.runs for t in run.traces]
     rows = []
     for trace, predicted, residual in zip(traces, fit.predicted, fit.residuals, strict=True):
@@ -171,18 +190,33 @@ def _trace_rows(calibration: Calibration, fit: CalibrationFit) -> list[list[str]
         rows.append([
             trace.name, str(trace.times.size), f"{np.max(trace.temperatures) - 273.15:.2f}",
             f"{np.max(predicted) - 273.15:.2f}", f"{float(np.sqrt(np.mean(residual**2))):.3g}",
-            f"{trace.uncertainty:.3g}", f"{white.z:+.2f}",
+            f"{trace.uncertainty:.3g}", f"{white.z:+.2f}", f"{white.p_value:.3f}",
+            "yes" if white.p_value > WHITE_LEVEL else "NO",
         ])  # fmt: skip
-    return rows
+    return header, rows
 
 
-def _answer_rows(answers: CalibrationAnswers) -> list[list[str]]:
+def _answer_value(value: float, scale: float, offset: float) -> str:
+    return "not reached in the run" if value == np.inf else f"{value * scale + offset:.4g}"
+
+
+def answer_table(answers: CalibrationAnswers) -> tuple[list[str], list[list[str]]]:
+    """Header and rows of the predicted answers with their 95 % intervals."""
     rows = []
     for name, value, low, high in zip(answers.names, answers.at_fit, answers.lower_95, answers.upper_95, strict=True):
         unit, scale, offset = _answer_unit(name)
-        interval = "-" if not np.isfinite(low) else f"{low * scale + offset:.4g} to {high * scale + offset:.4g}"
-        rows.append([name, f"{value * scale + offset:.4g}", interval, unit])
-    return rows
+        interval = "-"
+        if not np.isnan(low):
+            interval = f"{_answer_value(low, scale, offset)} to {_answer_value(high, scale, offset)}"
+        rows.append([name, _answer_value(value, scale, offset), interval, unit])
+    return ["answer", "at fit", "95 % interval", "unit"], rows
+
+
+def correlation_table(ident: Identifiability) -> tuple[list[str], list[list[str]]]:
+    """The parameter correlation matrix as a table (``nan`` where a variance is infinite)."""
+    rows = [[name, *(f"{x:+.2f}" if np.isfinite(x) else "nan" for x in row)]
+            for name, row in zip(ident.names, ident.correlation, strict=True)]  # fmt: skip
+    return ["", *ident.names], rows
 
 
 def format_calibration_report(
@@ -216,31 +250,29 @@ def format_calibration_report(
         The report (temperatures in degC, residuals in K).
     """
     head = (lambda s: f"## {s}") if markdown else (lambda s: f"{s}\n{'-' * len(s)}")
-    lines = [f"# {calibration.title}" if markdown else calibration.title, ""]
+    lines = [f"# {calibration.title}" if markdown else calibration.title, "", CAUTION, CALIBRATION_NOTE, ""]
     lines += [f"Base case {calibration.base_origin}; {len(calibration.runs)} runs, "
               f"{calibration.n_points} readings; {fit.message}.",
               f"Reduced chi-square {fit.reduced_chi_square:.3g}; {fit.model_runs} model runs.", ""]  # fmt: skip
     if not fit.converged:
         lines += ["WARNING: the fit did not converge; the values below are its best estimate.", ""]
     lines += [head("Measured and predicted"), ""]
-    lines += _table(["trace", "points", "measured peak degC", "predicted peak degC", "rms residual K",
-                     "sigma K", "runs-test z"], _trace_rows(calibration, fit), markdown)  # fmt: skip
-    lines += ["", head("Parameters (95 % linearised intervals)"), ""]
-    lines += _table(["parameter", "start", "fitted", "95 % interval", "unit", "determined", "runs"],
-                    _parameter_rows(fit, ident), markdown)  # fmt: skip
-    lines += ["", head("What the traces determine"), "", ident.statement, ""]
+    lines += _table(*trace_table(calibration, fit), markdown)
+    lines += ["", f"Runs test: Wald-Wolfowitz, two-sided; a trace is white when p > {WHITE_LEVEL:g}.", ""]
+    lines += [head("Parameters (95 % linearised intervals)"), ""]
+    lines += _table(*parameter_table(fit, ident), markdown)
+    lines += ["", head("What the traces determine"), "", *ident.statement.splitlines(), ""]
     lines.append("Scaled singular values: " + ", ".join(f"{s:.3g}" for s in ident.singular_values))
-    lines.append("Correlation matrix:")
-    for name, row in zip(ident.names, ident.correlation, strict=True):
-        lines.append(f"  {name:>28}: " + " ".join(f"{x:+.2f}" if np.isfinite(x) else "  nan" for x in row))
+    lines += ["", "Correlation matrix:", ""]
+    lines += _table(*correlation_table(ident), markdown)
     if profile is not None:
         lines += ["", head(f"Profile of {profile.name}"), ""]
         lines += [f"  {v:.5g}: chi-square {c:.4g}" for v, c in zip(profile.values, profile.chi_square, strict=True)]
         lines.append(f"  likelihood-ratio 95 % interval: {profile.lower_95:.4g} to {profile.upper_95:.4g}")
     if answers is not None:
         lines += ["", head(f"Predicted answers for the base case ({answers.samples} parameter draws)"), ""]
-        lines += _table(["answer", "at fit", "95 % interval", "unit"], _answer_rows(answers), markdown)
-    lines += ["", CAUTION, ""]
+        lines += _table(*answer_table(answers), markdown)
+    lines.append("")
     return "\n".join(lines)
 
 
@@ -286,5 +318,36 @@ def plot_calibration(calibration: Calibration, fit: CalibrationFit, path: str | 
     figure.tight_layout()
     try:
         return write_file_atomically(path, lambda temp: figure.savefig(temp, format="png", dpi=110), "figure file")
+    finally:
+        plt.close(figure)
+
+
+def plot_run(calibration: Calibration, fit: CalibrationFit, run: int, path: str | Path) -> Path:
+    """One test run's traces measured and fitted (top) and their residuals with the +/- 2 sigma band (bottom)."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    first = sum(len(r.traces) for r in calibration.runs[:run])
+    test = calibration.runs[run]
+    figure, (top, bottom) = plt.subplots(2, 1, figsize=(8, 6), sharex=True, height_ratios=(2, 1))
+    for k, trace in enumerate(test.traces):
+        predicted, residual = fit.predicted[first + k], fit.residuals[first + k]
+        minutes = trace.times / 60.0
+        line = top.plot(minutes, trace.temperatures - 273.15, ".", ms=3, label=f"{trace.probe} measured")
+        colour = line[0].get_color()
+        top.plot(minutes, predicted - 273.15, "-", color=colour, lw=1, label=f"{trace.probe} fitted")
+        bottom.plot(minutes, residual, ".-", ms=3, lw=0.5, color=colour, label=trace.probe)
+        bottom.axhspan(-2 * trace.uncertainty, 2 * trace.uncertainty, color=colour, alpha=0.08)
+    top.set_ylabel("temperature [degC]")
+    top.legend(fontsize=7)
+    top.set_title(f"{calibration.title}: {test.name}\nmeasured (dots), calibrated model (lines)", fontsize=9)
+    bottom.axhline(0.0, color="k", lw=0.5)
+    bottom.set_ylabel("fitted - measured [K]\n(band: +/- 2 sigma)", fontsize=8)
+    bottom.set_xlabel("time [min]")
+    figure.tight_layout()
+    try:
+        return write_file_atomically(path, lambda temp: figure.savefig(temp, format="png", dpi=100), "figure file")
     finally:
         plt.close(figure)

@@ -3,11 +3,28 @@
 The Jacobian is that of the weighted trace residuals in the fitted coordinates ``u``
 (``ln`` of positive parameters, else the value over its bound range), so its columns are
 comparable: a singular value ``s_k`` means a unit change of ``u`` along the singular
-vector ``v_k`` moves the residual by ``s_k`` measurement sigmas. A parameter is *not
-determined* by the traces when its data-only 95 % half-width in ``u`` exceeds
-:data:`UNDETERMINED_HALF_WIDTH` (a factor of about 2 on a log parameter, half its bound
-range on another) or the data do not see it at all; a combination is poorly determined
-when its singular value is below :data:`WEAK_RATIO` of the largest.
+vector ``v_k`` moves the residual by ``s_k`` measurement sigmas.
+
+Each parameter gets one of three verdicts, from two measurable criteria:
+
+- its *relative standard deviation from the traces alone* (the linearised covariance of
+  the data rows, no priors, scaled by the reduced chi-square when that exceeds one): the
+  standard deviation of ``ln(value)`` for a positive parameter, i.e. the fractional
+  uncertainty; of the value over its bound range otherwise;
+- its *weak share*: the part of the parameter's unit direction lying in combinations
+  whose singular value is below :data:`WEAK_RATIO` of the largest (the traces barely see
+  those combinations).
+
+*determined*: relative standard deviation at most :data:`DETERMINED_RELATIVE_SD` (5 %)
+and weak share at most :data:`WEAK_SHARE`. The 5 % is the standard the calibration's own
+validation asks of an identifiable parameter (recovered within 5 % of the truth): with a
+larger standard deviation the estimate misses the truth by more than 5 % in more than a
+third of repeated campaigns, so calling it determined would promise what the data do not
+give. *poorly determined*: not determined, but a relative standard deviation at most
+:data:`UNDETERMINED_RELATIVE_SD` (35 %: the 95 % interval within a factor of about 2
+either way); the value is usable only with its interval. *not determined*: anything
+wider, or a parameter the traces do not respond to; its value comes from its start or
+prior.
 
 References
 ----------
@@ -32,14 +49,23 @@ __all__ = [
     "Profile",
     "identifiability",
     "profile_parameter",
-    "UNDETERMINED_HALF_WIDTH",
+    "DETERMINED_RELATIVE_SD",
+    "UNDETERMINED_RELATIVE_SD",
     "WEAK_RATIO",
+    "WEAK_SHARE",
+    "VERDICTS",
 ]
 
-#: Data-only 95 % half-width in ``u`` above which a parameter is reported as not determined [-].
-UNDETERMINED_HALF_WIDTH = 0.7
+#: Largest relative standard deviation (traces alone) of a parameter called determined [-].
+DETERMINED_RELATIVE_SD = 0.05
+#: Relative standard deviation (traces alone) above which a parameter is not determined at all [-].
+UNDETERMINED_RELATIVE_SD = 0.35
 #: Singular value ratio below which a combination is reported as poorly determined [-].
 WEAK_RATIO = 0.01
+#: Largest share of a determined parameter's unit direction in poorly determined combinations [-].
+WEAK_SHARE = 0.1
+#: The three verdicts, best first.
+VERDICTS = ("determined", "poorly determined", "not determined")
 
 
 @dataclass(frozen=True, eq=False)
@@ -55,9 +81,13 @@ class Identifiability:
         Rows: the right singular vectors, in the order of ``singular_values``.
     correlation : ndarray
         Parameter correlation matrix (NaN where a variance is infinite).
-    data_half_width : ndarray
-        95 % half-width in ``u`` from the traces alone (no priors) [-].
-    determined : tuple of bool
+    relative_sd : ndarray
+        Standard deviation of ``u`` from the traces alone (no priors): the relative
+        standard deviation of a positive parameter [-] (inf where the traces do not see it).
+    weak_share : ndarray
+        Share of each parameter's unit direction in poorly determined combinations [-].
+    verdicts : tuple of str
+        One of :data:`VERDICTS` per parameter.
     statement : str
         Which parameters or combinations the traces do not determine, in words.
     """
@@ -66,12 +96,19 @@ class Identifiability:
     singular_values: np.ndarray
     singular_vectors: np.ndarray
     correlation: np.ndarray
-    data_half_width: np.ndarray
-    determined: tuple[bool, ...]
+    relative_sd: np.ndarray
+    weak_share: np.ndarray
+    verdicts: tuple[str, ...]
     statement: str
 
+    @property
+    def determined(self) -> tuple[bool, ...]:
+        """Whether each parameter is determined by the traces (see the module docstring)."""
+        return tuple(v == VERDICTS[0] for v in self.verdicts)
 
-def _data_half_width(jacobian: np.ndarray, scale: float) -> np.ndarray:
+
+def _data_standard_deviation(jacobian: np.ndarray, scale: float) -> np.ndarray:
+    """Standard deviation of each ``u`` from the data rows alone [-]; inf where they do not see it."""
     _, singular, vt = np.linalg.svd(jacobian, full_matrices=False)
     m = jacobian.shape[1]
     if singular.size == 0 or singular[0] <= 0:
@@ -80,7 +117,37 @@ def _data_half_width(jacobian: np.ndarray, scale: float) -> np.ndarray:
     variance = np.sum((vt[keep] / singular[keep, None]) ** 2, axis=0) * scale
     blind = np.sum(vt[~keep] ** 2, axis=0) > 1e-6 if np.any(~keep) else np.zeros(m, dtype=bool)
     variance[blind] = np.inf
-    return Z95 * np.sqrt(variance)
+    return np.sqrt(variance)
+
+
+def _weak_share(singular: np.ndarray, vt: np.ndarray) -> np.ndarray:
+    """Share of each parameter's unit direction in combinations below :data:`WEAK_RATIO` of the largest."""
+    if singular.size == 0 or singular[0] <= 0:
+        return np.ones(vt.shape[1] if vt.ndim == 2 else 0)
+    weak = singular < WEAK_RATIO * singular[0]
+    return np.sum(vt[weak] ** 2, axis=0)
+
+
+def _verdict(relative_sd: float, weak_share: float) -> str:
+    if relative_sd <= DETERMINED_RELATIVE_SD and weak_share <= WEAK_SHARE:
+        return VERDICTS[0]
+    if relative_sd <= UNDETERMINED_RELATIVE_SD:
+        return VERDICTS[1]
+    return VERDICTS[2]
+
+
+def _sentence(name: str, verdict: str, relative_sd: float, weak_share: float, log: bool) -> str:
+    what = "relative standard deviation" if log else "standard deviation over its bound range"
+    if not np.isfinite(relative_sd):
+        return (f"The traces do not determine {name} at all (they do not respond to it); "
+                "its value comes from its start or prior.")
+    spread = f"{what} {relative_sd:.0%} from the traces alone"
+    if weak_share > WEAK_SHARE:
+        spread += f", {weak_share:.0%} of it in poorly determined combinations"
+    if verdict == VERDICTS[1]:
+        return (f"{name} is poorly determined ({spread}; determined needs at most {DETERMINED_RELATIVE_SD:.0%}): "
+                "use it only with its interval.")
+    return f"The traces do not determine {name} ({spread}); its value comes from its start or prior."
 
 
 def _combination(vector: np.ndarray, names: tuple[str, ...], logs: tuple[bool, ...]) -> str:
@@ -118,13 +185,14 @@ def identifiability(fit: CalibrationFit) -> Identifiability:
         correlation = fit.covariance / np.outer(sd, sd)
     correlation[~np.isfinite(correlation)] = np.nan
     np.fill_diagonal(correlation, np.where(np.isfinite(sd) & (sd > 0), 1.0, np.nan))
-    half = _data_half_width(jac, max(1.0, fit.reduced_chi_square))
-    determined = tuple(bool(h <= UNDETERMINED_HALF_WIDTH) for h in half)
-    lines = []
-    for name, ok, h in zip(names, determined, half, strict=True):
-        if not ok:
-            how = f"(95 % half-width {h:.2g} in u)" if np.isfinite(h) else "at all (the traces do not respond to it)"
-            lines.append(f"The traces do not determine {name} {how}; its value comes from its start or prior.")
+    relative = _data_standard_deviation(jac, max(1.0, fit.reduced_chi_square))
+    weak = _weak_share(singular, vt)
+    verdicts = tuple(_verdict(r, w) for r, w in zip(relative, weak, strict=True))
+    lines = [
+        _sentence(name, verdict, r, w, log)
+        for name, verdict, r, w, log in zip(names, verdicts, relative, weak, logs, strict=True)
+        if verdict != VERDICTS[0]
+    ]
     top = singular[0] if singular.size and singular[0] > 0 else 1.0
     for s, vector in zip(singular, vt, strict=True):
         if s < WEAK_RATIO * top and np.count_nonzero(np.abs(vector) >= 0.2) > 1:
@@ -132,9 +200,14 @@ def identifiability(fit: CalibrationFit) -> Identifiability:
                 f"The combination {_combination(vector, names, logs)} is poorly determined "
                 f"(singular value {s / top:.2g} of the largest)."
             )
-    if not lines:
-        lines.append("The traces determine every fitted parameter.")
-    return Identifiability(names, singular, vt, correlation, half, determined, "\n".join(lines))
+    good = [name for name, verdict in zip(names, verdicts, strict=True) if verdict == VERDICTS[0]]
+    if len(good) == len(names):
+        lines.insert(0, "The traces determine every fitted parameter "
+                     f"(each to a relative standard deviation of at most {DETERMINED_RELATIVE_SD:.0%}).")
+    elif good:
+        lines.insert(0, f"The traces determine {', '.join(good)} "
+                     f"(each to a relative standard deviation of at most {DETERMINED_RELATIVE_SD:.0%}).")
+    return Identifiability(names, singular, vt, correlation, relative, weak, verdicts, "\n".join(lines))
 
 
 @dataclass(frozen=True, eq=False)
