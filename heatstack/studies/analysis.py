@@ -10,6 +10,16 @@ conservative; for a grid the "probability" is only the fraction of grid points.
 Sensitivities rank the parameters by Spearman's rank correlation with an output
 (monotone effects) and by standardised regression coefficients (linear effects; their
 squares sum to the R^2 of the linear fit when the parameters are uncorrelated) [3]_.
+Each rank correlation carries a confidence interval by Fisher's z transform with the
+variance 1.06 / (n - 3) of Fieller, Hartley and Pearson [4]_; a coefficient whose interval
+holds zero is not told apart from chance. A sample with fewer than
+:data:`CASES_PER_PARAMETER` finished cases per varied parameter is flagged as too thin to
+support the ranking or R^2 (common practice, no source: ten observations per predictor
+for a regression), and the report and the tornado chart say so.
+
+Reading a ranking of ``plug_margin_min``: the smallest margin is one plug's margin in each
+case; a parameter of another plug cannot move it, and any correlation it shows is chance.
+:func:`governing_plugs` counts which plug gave the smallest margin, and the report lists it.
 
 References
 ----------
@@ -19,6 +29,8 @@ References
    illustrated in the case of the binomial, Biometrika 26, 404-413.
 .. [3] Saltelli, A. et al., 2008, Global Sensitivity Analysis: The Primer, Wiley,
    section 1.2 (standardised regression coefficients).
+.. [4] Fieller, E.C., Hartley, H.O., Pearson, E.S., 1957, Tests for rank correlation
+   coefficients. I, Biometrika 44, 470-481 (variance of Fisher's z of Spearman's rho).
 """
 
 from __future__ import annotations
@@ -48,8 +60,14 @@ __all__ = [
     "sensitivity",
     "study_report",
     "column_unit",
+    "governing_plugs",
+    "CASES_PER_PARAMETER",
     "DIAGNOSTIC_COLUMNS",
 ]
+
+#: Finished cases per varied parameter below which a sensitivity ranking and its R^2 are
+#: flagged as too thin (common practice, no source: ten observations per predictor).
+CASES_PER_PARAMETER = 10
 
 #: Columns that describe how a case ran, not what it computed (they differ between runs).
 DIAGNOSTIC_COLUMNS = ("wall_time", "worker", "model_reused", "warnings")
@@ -382,12 +400,21 @@ class Sensitivity:
     src : float
         Standardised regression coefficient [-]: change of the output, in standard
         deviations, per standard deviation of the parameter, the others fixed.
+    spearman_interval : tuple of float
+        95 % confidence interval of ``spearman`` (Fisher's z, variance 1.06 / (n - 3) [4]_).
     """
 
     parameter: str
     spearman: float
     p_value: float
     src: float
+    spearman_interval: tuple[float, float] = (math.nan, math.nan)
+
+    @property
+    def distinguishable(self) -> bool:
+        """Whether the rank correlation's 95 % interval excludes zero."""
+        low, high = self.spearman_interval
+        return bool(low > 0.0 or high < 0.0)
 
 
 @dataclass(frozen=True)
@@ -411,6 +438,32 @@ class SensitivityResult:
     r_squared: float
     cases: int
     skipped: tuple[str, ...] = ()
+
+    @property
+    def cases_per_parameter(self) -> float:
+        """Finished cases per varied parameter."""
+        return self.cases / max(1, len(self.entries))
+
+    @property
+    def thin(self) -> bool:
+        """Whether there are fewer than :data:`CASES_PER_PARAMETER` cases per parameter."""
+        return self.cases_per_parameter < CASES_PER_PARAMETER
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """What a reader must know before trusting the ranking (empty when nothing)."""
+        out = []
+        if self.thin:
+            need = CASES_PER_PARAMETER * len(self.entries)
+            out.append(
+                f"{self.cases} cases for {len(self.entries)} parameters ({self.cases_per_parameter:.1f} per parameter, "
+                f"fewer than {CASES_PER_PARAMETER}): too few to support the ranking or R^2 "
+                f"(an R^2 near 1 may only be over-fitting); run at least {need} cases"
+            )
+        chance = [e.parameter for e in self.entries if not e.distinguishable]
+        if chance:
+            out.append("rank correlation not told apart from zero (95 % interval holds 0): " + ", ".join(chance))
+        return tuple(out)
 
 
 def _default_output(table: StudyTable) -> str:
@@ -470,9 +523,46 @@ def sensitivity(
     entries = []
     for j, name in enumerate(used):
         rho = stats.spearmanr(x[:, j], y)
-        entries.append(Sensitivity(name, float(rho.statistic), float(rho.pvalue), float(coefficients[j + 1])))
+        entries.append(
+            Sensitivity(
+                name,
+                float(rho.statistic),
+                float(rho.pvalue),
+                float(coefficients[j + 1]),
+                _spearman_interval(float(rho.statistic), n),
+            )
+        )
     entries.sort(key=lambda e: -abs(e.spearman) if math.isfinite(e.spearman) else 0.0)
     return SensitivityResult(output, tuple(entries), r2, n, skipped)
+
+
+def _spearman_interval(rho: float, n: int, confidence: float = 0.95) -> tuple[float, float]:
+    """Confidence interval of Spearman's rho by Fisher's z, variance 1.06 / (n - 3) [4]_."""
+    if not math.isfinite(rho) or n <= 3:
+        return (math.nan, math.nan)
+    z = math.atanh(min(max(rho, -0.999999), 0.999999))
+    half = float(stats.norm.ppf(0.5 + confidence / 2)) * math.sqrt(1.06 / (n - 3))
+    return (math.tanh(z - half), math.tanh(z + half))
+
+
+def governing_plugs(table: StudyTable) -> dict[str, int]:
+    """How many finished cases each fuse plug gave ``plug_margin_min`` (the smallest margin).
+
+    Returns
+    -------
+    dict
+        Plug name -> number of cases, largest first; empty without plugs.
+    """
+    names = plug_names(table.output_names)
+    if not names:
+        return {}
+    margins = np.column_stack([table[f"plug_margin:{n}"] for n in names])
+    keep = table.ok & np.all(np.isfinite(margins), axis=1)
+    if not np.any(keep):
+        return {}
+    counts = np.bincount(np.argmin(margins[keep], axis=1), minlength=len(names))
+    order = np.argsort(-counts, kind="stable")
+    return {names[k]: int(counts[k]) for k in order if counts[k]}
 
 
 # ---------------------------------------------------------------------------- report
@@ -617,13 +707,30 @@ def _sensitivity_lines(table: StudyTable, output: str | None) -> list[str]:
     lines = [
         "",
         f"### Sensitivity of {output_label(result.output, plug_names(table.output_names))} "
-        f"({result.cases} cases, linear R^2 = {result.r_squared:.2f})",
+        f"({result.cases} cases, R^2 of the linear fit = {result.r_squared:.2f})",
         "",
-        "| parameter | Spearman rho | p-value | SRC |",
-        "|---|---|---|---|",
+    ]
+    lines += [f"**Warning:** {w}." for w in result.warnings]
+    if result.output == "plug_margin_min":
+        governing = governing_plugs(table)
+        if governing:
+            shares = ", ".join(f"{name} in {count}" for name, count in governing.items())
+            lines.append(
+                f"The smallest margin is that of {shares} of {sum(governing.values())} cases; a parameter of another "
+                "plug cannot move it."
+            )
+    if len(lines) > 3:
+        lines.append("")
+    lines += [
+        "| parameter | Spearman rank correlation | its 95 % interval | p-value | standardised regression coefficient |",
+        "|---|---|---|---|---|",
     ]
     for e in result.entries:
-        lines.append(f"| {e.parameter} | {e.spearman:+.3f} | {e.p_value:.2g} | {e.src:+.3f} |")
+        low, high = e.spearman_interval
+        mark = "" if e.distinguishable else " (holds 0)"
+        lines.append(
+            f"| {e.parameter} | {e.spearman:+.3f} | {low:+.2f} to {high:+.2f}{mark} | {e.p_value:.2g} | {e.src:+.3f} |"
+        )
     if result.skipped:
         lines.append(f"Constant over the cases (left out): {', '.join(result.skipped)}.")
     return lines

@@ -11,14 +11,23 @@ by hand with ``dimension=``.
 
 :func:`plan_study` resolves a :class:`Study` against its base case into a
 :class:`StudyPlan`: paths checked (an unknown path names the closest existing one), units
-converted to SI, and the sample table drawn (full grid, random, or Latin hypercube). The
-same seed always gives the same table.
+converted to SI, and the sample table drawn (full grid, random, scrambled Sobol' or Latin
+hypercube). The same seed always gives the same table.
+
+Studies that grow: with ``random`` sampling case ``i``'s inputs depend only on the seed and
+``i`` (its own generator stream, seeded with ``(seed, i)``), and with ``sobol`` sampling the
+first ``n`` points of a seeded scrambled Sobol' sequence are the same whatever the length
+drawn; either way a study with the same seed and more cases contains the smaller study's
+cases exactly, and raising ``cases`` extends a finished store (:attr:`StudyPlan.growth_key`).
+A Latin hypercube's strata depend on the number of cases, so it cannot grow.
 
 References
 ----------
 .. [1] McKay, M.D., Beckman, R.J., Conover, W.J., 1979, A comparison of three methods
    for selecting values of input variables in the analysis of output from a computer
    code, Technometrics 21, 239-245 (Latin hypercube sampling).
+.. [2] Owen, A.B., 1998, Scrambling Sobol' and Niederreiter-Xing points, Journal of
+   Complexity 14, 466-489 (scrambled Sobol' sequences, scipy.stats.qmc.Sobol).
 """
 
 from __future__ import annotations
@@ -30,6 +39,7 @@ import itertools
 import json
 import math
 import tomllib
+import warnings
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -55,7 +65,10 @@ __all__ = [
 ]
 
 #: Sampling methods of a study.
-SAMPLING_METHODS = ("grid", "random", "latin_hypercube")
+SAMPLING_METHODS = ("grid", "random", "latin_hypercube", "sobol")
+
+#: Sampling methods whose first ``n`` cases do not depend on the number of cases drawn.
+GROWING_METHODS = ("random", "sobol")
 
 
 # ---------------------------------------------------------------------------- description
@@ -67,11 +80,14 @@ class Sampling:
 
     Parameters
     ----------
-    method : {"grid", "random", "latin_hypercube"}
+    method : {"grid", "random", "latin_hypercube", "sobol"}
         ``grid``: every combination of the parameters' values (first parameter slowest).
         ``random``: independent uniform draws mapped through each distribution's inverse
-        CDF. ``latin_hypercube``: one draw in each of ``cases`` equal-probability strata
-        of every parameter (scipy.stats.qmc.LatinHypercube [1]_).
+        CDF, case ``i`` from a generator seeded with ``(seed, i)``. ``latin_hypercube``:
+        one draw in each of ``cases`` equal-probability strata of every parameter
+        (scipy.stats.qmc.LatinHypercube [1]_). ``sobol``: the first ``cases`` points of a
+        scrambled Sobol' sequence (scipy.stats.qmc.Sobol [2]_), space filling and, like
+        ``random``, a prefix of any longer study with the same seed.
     cases : int, optional
         Number of cases (random and Latin hypercube; for a grid it must match or be omitted).
     seed : int, optional
@@ -79,7 +95,7 @@ class Sampling:
         the same seed gives the same samples).
     """
 
-    method: Literal["grid", "random", "latin_hypercube"] = "latin_hypercube"
+    method: Literal["grid", "random", "latin_hypercube", "sobol"] = "latin_hypercube"
     cases: int | None = None
     seed: int | None = None
 
@@ -162,6 +178,10 @@ class StudyPlan:
         JSON-ready description (as given, plus the base case's SHA-256).
     fingerprint : str
         SHA-256 of the canonical description.
+    growth_key : str
+        SHA-256 of the canonical description without the number of cases, for sampling
+        methods whose cases do not depend on that number (``random``, ``sobol``); ``""``
+        otherwise. Two plans with the same growth key share their first cases exactly.
     """
 
     study: Study
@@ -176,6 +196,7 @@ class StudyPlan:
     outputs: tuple[str, ...] | None
     description: dict
     fingerprint: str
+    growth_key: str = ""
 
     @property
     def n_cases(self) -> int:
@@ -264,11 +285,25 @@ def _draw(parameters: Sequence[ResolvedParameter], sampling: Sampling) -> np.nda
         return np.asarray(rows, dtype=float).reshape(len(rows), d)
     n, seed = sampling.cases, sampling.seed
     if sampling.method == "random":
-        u = np.random.default_rng(seed).random((n, d))
+        u = np.array([np.random.default_rng([seed, i]).random(d) for i in range(n)]).reshape(n, d)
+    elif sampling.method == "sobol":
+        u = sobol_points(d, n, seed)
     else:
         u = qmc.LatinHypercube(d=d, rng=np.random.default_rng(seed)).random(n)
     columns = [p.from_uniform(u[:, j]) for j, p in enumerate(parameters)]
     return np.column_stack(columns) if columns else np.zeros((n, 0))
+
+
+def sobol_points(d: int, n: int, seed: int) -> np.ndarray:
+    """The first ``n`` points of a seeded scrambled Sobol' sequence in ``[0, 1)^d`` [2]_.
+
+    The first ``n`` points are the same for any longer draw with the same seed. (Sobol'
+    points balance best in powers of two; scipy's warning about other counts is silenced:
+    a study that grows cannot keep to powers of two.)
+    """
+    with warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message=".*balance properties.*")
+        return qmc.Sobol(d=d, scramble=True, rng=np.random.default_rng(seed)).random(n)
 
 
 def _check_sampling(sampling: Sampling, n_grid: int) -> None:
@@ -377,6 +412,10 @@ def plan_study(study: Study) -> StudyPlan:
     compared = {k: v for k, v in description.items() if k != "title"}
     compared["base_case"] = {"sha256": description["base_case"]["sha256"]}
     fingerprint = hashlib.sha256(_canonical(compared).encode("utf-8")).hexdigest()
+    growth_key = ""
+    if study.sampling.method in GROWING_METHODS:
+        grown = {**compared, "sampling": {**compared["sampling"], "cases": None}}
+        growth_key = hashlib.sha256(_canonical(grown).encode("utf-8")).hexdigest()
     return StudyPlan(
         study=study,
         base_text=text,
@@ -390,6 +429,7 @@ def plan_study(study: Study) -> StudyPlan:
         outputs=outputs,
         description=json.loads(_canonical(description)),
         fingerprint=fingerprint,
+        growth_key=growth_key,
     )
 
 

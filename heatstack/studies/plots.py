@@ -18,7 +18,7 @@ from matplotlib.ticker import MaxNLocator
 
 from ..errors import InputError
 from ..plotting.common import OKABE_ITO, SERIES_STYLES, figure_target, new_figure, save_figure
-from .analysis import SensitivityResult, StudyTable, margin_percentiles
+from .analysis import CASES_PER_PARAMETER, SensitivityResult, StudyTable, margin_percentiles
 from .labels import output_label
 
 __all__ = ["plot_margin_histogram", "plot_tornado"]
@@ -85,7 +85,8 @@ def plot_margin_histogram(
     fig = new_figure(_WIDTH, _HEIGHT)
     ax = fig.add_subplot()
     ax.hist(values, bins=bins, color=SERIES_STYLES["study"].colour, edgecolor="white", linewidth=0.5)
-    ax.yaxis.set_major_locator(MaxNLocator(integer=True))
+    ax.yaxis.set_major_locator(MaxNLocator(integer=True))  # counts of cases: no fractions on the axis
+    ax.set_ylim(bottom=0)
     is_margin = "margin" in column
     release = SERIES_STYLES["release"].colour
     if is_margin:
@@ -153,7 +154,7 @@ def plot_tornado(
         raise InputError("plot_tornado: expected a SensitivityResult with at least one parameter")
     entries = sorted(result.entries, key=lambda e: abs(getattr(e, measure)))
     values = np.array([getattr(e, measure) for e in entries])
-    labels = [e.parameter for e in entries]
+    labels = [e.parameter if e.distinguishable else f"{e.parameter} (chance?)" for e in entries]
     fig = new_figure(_WIDTH, max(_HEIGHT, 1.6 + 0.45 * len(entries)))
     ax = fig.add_subplot()
     bars = ax.barh(
@@ -163,12 +164,29 @@ def plot_tornado(
         height=0.6,
         edgecolor="white",
     )
-    for bar, v in zip(bars, values, strict=True):
+    for bar, v, e in zip(bars, values, entries, strict=True):
         if v < 0:
             bar.set_hatch("///")  # a grey print still tells lowering from raising
+        if not e.distinguishable:
+            bar.set_alpha(0.35)  # its rank correlation's interval holds zero
+    if measure == "spearman":
+        low = np.array([e.spearman_interval[0] for e in entries])
+        high = np.array([e.spearman_interval[1] for e in entries])
+        shown = np.isfinite(low) & np.isfinite(high)
+        ax.errorbar(
+            values[shown],
+            np.arange(len(entries))[shown],
+            xerr=np.vstack([values[shown] - low[shown], high[shown] - values[shown]]),
+            fmt="none",
+            ecolor=_INK,
+            elinewidth=0.8,
+            capsize=3,
+        )
     ax.set_yticks(np.arange(len(entries)), labels, fontsize=9)
     ax.axvline(0.0, color=_INK, linewidth=0.8)
     limit = max(1e-12, float(np.max(np.abs(values))))
+    if measure == "spearman":
+        limit = 1.0 / 1.35  # the intervals of a rank correlation lie in [-1, 1]
     ax.set_xlim(-1.35 * limit, 1.35 * limit)
     for k, v in enumerate(values):
         ax.annotate(
@@ -184,10 +202,13 @@ def plot_tornado(
     name = "Spearman rank correlation" if measure == "spearman" else "standardised regression coefficient"
     output = output_label(result.output)
     ax.set_xlabel(f"{name} [-]", fontsize=10)
+    note = "hatched: raising the parameter lowers the output"
+    if measure == "spearman":
+        note += "; whiskers: 95 % interval; pale: interval holds 0 (chance?)"
     ax.text(
         0.99,
         0.01,
-        "hatched: raising the parameter lowers the output",
+        note,
         transform=ax.transAxes,
         ha="right",
         va="bottom",
@@ -195,6 +216,12 @@ def plot_tornado(
         color=_INK,
     )
     heading = title or f"Sensitivity of: {output}"
-    _title(fig, f"{heading}\n{result.cases} cases, R² = {result.r_squared:.2f}")
+    stated = f"{heading}\n{result.cases} cases, R² of the linear fit = {result.r_squared:.2f}"
+    if result.thin:
+        stated += (
+            f"\nWARNING: {result.cases_per_parameter:.1f} cases per parameter (fewer than "
+            f"{CASES_PER_PARAMETER}): too few to support this ranking or R²"
+        )
+    _title(fig, stated)
     _plain(ax)
     return save_figure(fig, target, fmt)

@@ -14,12 +14,16 @@ Layout (our own)::
 Every file is written to a temporary name in the same folder and moved into place with
 :func:`os.replace`, so a study killed at any moment leaves only whole files (and perhaps
 a ``.tmp`` file, removed on the next run). Running the same study again skips the cases
-already stored; a store whose manifest describes a different study is refused.
+already stored; a store whose manifest describes a different study is refused. A study
+that only raises (or lowers) ``cases`` of a ``random`` or ``sobol`` sampling has the same
+growth key as the stored one and the same first cases: the manifest is rewritten for the
+new number of cases and every finished case is reused (case files beyond a lowered count
+stay on disk, ignored, for when the count is raised again).
 
 The files are plain HDF5 (h5py): ``manifest.h5`` has attributes ``format``,
 ``format_version``, ``fingerprint``, ``description`` (JSON), ``base_case_text``,
 ``n_cases``, ``seed``, ``method``, ``cell_size_m``, ``target_change_K``,
-``parameters`` (JSON: name, paths, dimension, unit), ``heatstack_version``,
+``parameters`` (JSON: name, paths, dimension, unit), ``growth_key``, ``heatstack_version``,
 ``created_utc`` and a dataset ``samples`` (cases x parameters, SI). A case file has
 attributes ``index``, ``status`` (``ok`` or ``failed``), ``error``, ``warnings``,
 ``wall_time_s``, ``worker``, ``model_reused`` and datasets ``names`` and ``values`` (SI).
@@ -329,6 +333,7 @@ class StudyStore:
             f.attrs["format"] = FORMAT
             f.attrs["format_version"] = FORMAT_VERSION
             f.attrs["fingerprint"] = plan.fingerprint
+            f.attrs["growth_key"] = plan.growth_key
             f.attrs["title"] = plan.study.title
             f.attrs["description"] = json.dumps(plan.description, sort_keys=True)
             f.attrs["base_case_text"] = plan.base_text
@@ -349,13 +354,38 @@ class StudyStore:
     def _check(self, plan: Any) -> None:
         manifest = self.read_manifest()
         where = f"store {str(self.root)!r}"
+        grows = False
         if manifest["fingerprint"] != plan.fingerprint:
-            diff = _differences(manifest["description"], plan.description)
-            raise InputError(
-                f"{where}: holds a different study ({diff or 'the description differs'}); "
-                "use another store folder, or delete this one to start again"
-            )
-        if manifest["samples"].shape != plan.samples.shape or not np.array_equal(manifest["samples"], plan.samples):
+            grows = bool(plan.growth_key) and manifest.get("growth_key", "") == plan.growth_key
+            if not grows:
+                diff = _differences(manifest["description"], plan.description)
+                if plan.growth_key:  # the number of cases is not the difference: name what is
+                    diff = _differences(_without_cases(manifest["description"]), _without_cases(plan.description))
+                hint = ""
+                if _differences(_without_cases(manifest["description"]), _without_cases(plan.description)) == "":
+                    hint = (
+                        f" ({plan.study.sampling.method} samples depend on the number of cases, so the study "
+                        "cannot grow; sample with method = 'random' or 'sobol' for a study that grows)"
+                    )
+                raise InputError(
+                    f"{where}: holds a different study ({diff or 'the description differs'}){hint}; "
+                    "use another store folder, or delete this one to start again"
+                )
+        stored, drawn = manifest["samples"], plan.samples
+        if grows:
+            common = min(stored.shape[0], drawn.shape[0])
+            if stored.shape[1] != drawn.shape[1] or not np.array_equal(stored[:common], drawn[:common]):
+                raise InputError(
+                    f"{where}: the samples drawn now differ from those stored (another scipy or numpy version?); "
+                    "use another store folder"
+                )
+            log.info("store %s: the study grows from %d to %d cases", self.root, stored.shape[0], drawn.shape[0])
+            try:
+                self._write_manifest(plan)
+            except OSError as exc:
+                raise InputError(f"{where}: cannot be written ({exc})") from None
+            return
+        if stored.shape != drawn.shape or not np.array_equal(stored, drawn):
             raise InputError(
                 f"{where}: the samples drawn now differ from those stored (another scipy or numpy version?); "
                 "use another store folder"
@@ -506,6 +536,11 @@ class StudyStore:
             title=_text(manifest.get("title", "")),
             method=_text(manifest.get("method", "")),
         )
+
+
+def _without_cases(description: Mapping) -> dict:
+    sampling = description.get("sampling", {})
+    return {**description, "sampling": {**sampling, "cases": None} if isinstance(sampling, Mapping) else sampling}
 
 
 def _path_text(tokens: Any) -> str:

@@ -95,7 +95,7 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
 
             [study]
             title = "mass and ambient scatter"     # optional
-            method = "latin_hypercube"             # grid | random | latin_hypercube
+            method = "latin_hypercube"             # grid | random | latin_hypercube | sobol (random, sobol: can grow)
             cases = 200
             seed = 7
             cell_size = "8 mm"                     # optional speed overrides
