@@ -146,7 +146,20 @@ def _is_number(text: str) -> bool:
 
 
 def html_table(head: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
-    """A table of text cells (escaped here); a column holding any number is right-aligned, the first never wraps."""
+    """A table of text cells (escaped here); a column holding any number is right-aligned, the first never wraps.
+
+    Parameters
+    ----------
+    head : sequence of str
+        Column titles.
+    rows : sequence of sequence of str
+        The cells, row by row.
+
+    Returns
+    -------
+    str
+        The HTML ``<table>`` element.
+    """
     numeric = [any(_is_number(row[k]) for row in rows) for k in range(len(head))]
     heads = "".join(
         f'<th class="{"number" if n else "text"}">{_esc(h)}</th>' for h, n in zip(head, numeric, strict=True)
@@ -161,13 +174,37 @@ def html_table(head: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
 
 
 def html_paragraphs(lines: Sequence[str], css: str = "") -> str:
-    """One paragraph per line of text (escaped here), with an optional CSS class."""
+    """One paragraph per line of text (escaped here), with an optional CSS class.
+
+    Parameters
+    ----------
+    lines : sequence of str
+        The lines of text.
+    css : str, optional
+        CSS class of every paragraph; none when empty.
+
+    Returns
+    -------
+    str
+        The HTML paragraphs.
+    """
     attribute = f' class="{css}"' if css else ""
     return "".join(f"<p{attribute}>{_esc(line)}</p>" for line in lines)
 
 
 def html_figure(path: Path) -> str:
-    """One figure file as an embedded image with its file name as caption."""
+    """One figure file as an embedded image with its file name as caption.
+
+    Parameters
+    ----------
+    path : Path
+        A PNG or SVG figure file.
+
+    Returns
+    -------
+    str
+        The HTML ``<figure>`` element, the image as a data URI.
+    """
     kind = "image/svg+xml" if path.suffix.lower() == ".svg" else "image/png"
     data = base64.b64encode(path.read_bytes()).decode("ascii")
     name = _esc(path.name)

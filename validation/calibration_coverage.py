@@ -35,8 +35,9 @@ def main(trials: int = 100) -> int:
     low, high = chi2.ppf([0.005, 0.995], 2 * trials)
     total = float(np.sum(result.mahalanobis))
     ok &= bool(low < total < high)
-    print(f"sum of Mahalanobis distances: {total:.1f} "
-          f"(chi-square({2 * trials}) two-sided 1 %: {low:.1f} to {high:.1f})")
+    print(
+        f"sum of Mahalanobis distances: {total:.1f} (chi-square({2 * trials}) two-sided 1 %: {low:.1f} to {high:.1f})"
+    )
     print(f"coverage_ok: {ok}")
     return 0 if ok else 1
 

@@ -224,7 +224,22 @@ class Boundaries:
     def emissivity(self, lookup: PieceLookup, blocks: list[np.ndarray], surface_t: np.ndarray) -> np.ndarray:
         """Emissivity of the surfaces of ``lookup`` at ``surface_t`` [K]: one pass over the
         merged tables, or material by material (``blocks``: the surfaces of each) when a
-        surface lies outside its table, so the table's range policy applies."""
+        surface lies outside its table, so the table's range policy applies.
+
+        Parameters
+        ----------
+        lookup : PieceLookup
+            The merged emissivity tables as read by these surfaces.
+        blocks : list of ndarray of int
+            For each material block, the positions in ``surface_t`` of the surfaces of that material.
+        surface_t : ndarray
+            Surface temperatures [K].
+
+        Returns
+        -------
+        ndarray
+            Emissivity of each surface [-].
+        """
         eps = self.net.tables.emissivity(lookup, surface_t)
         if eps is not None:
             return eps

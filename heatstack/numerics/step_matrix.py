@@ -69,6 +69,24 @@ def cell_properties(network: Network, T: np.ndarray) -> CellProperties:
     One pass over the network's merged tables; a field with a cell outside its
     material's tables goes material by material, which applies each table's range
     policy (raise, or clamp and warn).
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    T : ndarray, shape (n,)
+        Cell temperatures [K].
+
+    Returns
+    -------
+    CellProperties
+        Conductivities [W/(m K)] (radial for all cells, then axial), volumetric heat
+        capacities [J/(m^3 K)] and volumetric enthalpies [J/m^3].
+
+    Raises
+    ------
+    PropertyRangeError
+        If a temperature lies outside a property table that allows no extrapolation.
     """
     merged = network.tables.thermal_properties(T)
     if merged is not None:
@@ -77,7 +95,26 @@ def cell_properties(network: Network, T: np.ndarray) -> CellProperties:
 
 
 def cell_properties_by_material(network: Network, T: np.ndarray) -> CellProperties:
-    """:func:`cell_properties` evaluated material by material (each table's range policy applies)."""
+    """:func:`cell_properties` evaluated material by material (each table's range policy applies).
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    T : ndarray, shape (n,)
+        Cell temperatures [K].
+
+    Returns
+    -------
+    CellProperties
+        Conductivities [W/(m K)] (radial for all cells, then axial), volumetric heat
+        capacities [J/(m^3 K)] and volumetric enthalpies [J/m^3].
+
+    Raises
+    ------
+    PropertyRangeError
+        If a temperature lies outside a property table that allows no extrapolation.
+    """
     n = network.n_cells
     conductivity, c, H = np.empty(2 * n), np.empty(n), np.empty(n)
     for material, block in network.material_blocks:
@@ -113,13 +150,38 @@ def cell_temperature(network: Network, H: np.ndarray) -> np.ndarray:
 
     One pass over the merged tables, or material by material when a cell lies outside
     its specific-heat table (so the table's range policy applies).
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    H : ndarray, shape (n,)
+        Cell volumetric enthalpies [J/m^3].
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Cell temperatures [K].
     """
     merged = network.tables.temperature(H)
     return merged if merged is not None else cell_temperature_by_material(network, H)
 
 
 def cell_temperature_by_material(network: Network, H: np.ndarray) -> np.ndarray:
-    """:func:`cell_temperature` evaluated material by material."""
+    """:func:`cell_temperature` evaluated material by material.
+
+    Parameters
+    ----------
+    network : Network
+        The meshed assembly.
+    H : ndarray, shape (n,)
+        Cell volumetric enthalpies [J/m^3].
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Cell temperatures [K].
+    """
     T = np.empty(network.n_cells)
     for material, block in network.material_blocks:
         T[block] = material.temperature_from_enthalpy(H[block])
@@ -279,7 +341,17 @@ class StepMatrix:
         )
 
     def assemble(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
-        """Write the step matrix in place: ``diagonal`` plus the conductances of every link."""
+        """Write the step matrix in place: ``diagonal`` plus the conductances of every link.
+
+        Parameters
+        ----------
+        diagonal : ndarray, shape (n,)
+            Each cell's own term (capacity over step plus face transfer) [W/K].
+        G : ndarray, shape (m,)
+            Conductance of each conduction link [W/K].
+        G_gap : ndarray, shape (q,)
+            Conductance of each radiating gap pair [W/K].
+        """
         self.matrix.data[:] = self.assembly @ np.concatenate((diagonal, G, G_gap))
 
     def factorise(self):
@@ -296,6 +368,11 @@ class StepMatrix:
         .. [1] Stellato, B., Banjac, G., Goulart, P., Bemporad, A., Boyd, S., 2020, OSQP: an
            operator splitting solver for quadratic programs, Math. Prog. Comp. 12, 637-672
            (QDLDL, the LDL^T factorisation it uses).
+
+        Returns
+        -------
+        qdldl.Solver or scipy.sparse.linalg.SuperLU
+            The factors, with a ``solve(rhs)`` method.
         """
         if qdldl is not None:
             self.upper.data[:] = self.matrix.data[self.upper_positions]
@@ -310,7 +387,13 @@ class StepMatrix:
         return self.factorise_lu()
 
     def factorise_lu(self) -> spla.SuperLU:
-        """Sparse LU factors of the matrix as it stands (symmetric mode, fill-reducing order)."""
+        """Sparse LU factors of the matrix as it stands (symmetric mode, fill-reducing order).
+
+        Returns
+        -------
+        scipy.sparse.linalg.SuperLU
+            The factors, with a ``solve`` method.
+        """
         return spla.splu(
             self.matrix.copy(),
             permc_spec="MMD_AT_PLUS_A",

@@ -74,7 +74,20 @@ class MergedPieces:
 
     def lookup(self, table: np.ndarray, low: np.ndarray, high: np.ndarray) -> PieceLookup:
         """A lookup for items that read the tables ``table`` (one index per item) within
-        the ranges ``low``..``high`` (one per table)."""
+        the ranges ``low``..``high`` (one per table).
+
+        Parameters
+        ----------
+        table : ndarray of int
+            The merged table each item reads.
+        low, high : array_like
+            The abscissa range of each table (e.g. [K]).
+
+        Returns
+        -------
+        PieceLookup
+            Each item's shift, piece range and abscissa range.
+        """
         table = np.asarray(table, dtype=np.intp)
         return PieceLookup(
             pieces=self,
@@ -149,7 +162,18 @@ class PieceLookup:
         return float(self.low.max()), float(self.high.min()), one_table
 
     def inside(self, x: np.ndarray) -> bool:
-        """Whether every item's abscissa lies in its table's range (false for NaN)."""
+        """Whether every item's abscissa lies in its table's range (false for NaN).
+
+        Parameters
+        ----------
+        x : ndarray
+            One abscissa per item (e.g. a temperature [K]).
+
+        Returns
+        -------
+        bool
+            True when every item is inside its table.
+        """
         if x.size == 0:
             return True
         low, high, _ = self._common
@@ -158,7 +182,20 @@ class PieceLookup:
         return bool(np.all((x >= self.low) & (x <= self.high)))
 
     def locate(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """The coefficients (r, n) of each item's piece at ``x`` and the offset ``x - knot``."""
+        """The coefficients (r, n) of each item's piece at ``x`` and the offset ``x - knot``.
+
+        Parameters
+        ----------
+        x : ndarray, shape (n,)
+            One abscissa per item (e.g. a temperature [K]).
+
+        Returns
+        -------
+        coefficients : ndarray, shape (r, n)
+            The polynomial coefficients of each item's piece.
+        offset : ndarray, shape (n,)
+            ``x`` minus the piece's left knot.
+        """
         pieces = self.pieces
         if self._common[2] and x.size:  # one table: no shift, scalar bounds
             shift = self.shift[0]
@@ -215,7 +252,24 @@ class CellTables:
         gap_a: np.ndarray,
         gap_b: np.ndarray,
     ) -> CellTables:
-        """Merge the tables of ``materials``; ``cell_material`` indexes them per cell."""
+        """Merge the tables of ``materials``; ``cell_material`` indexes them per cell.
+
+        Parameters
+        ----------
+        materials : sequence of Material
+            The materials of the network.
+        cell_material : ndarray of int, shape (n,)
+            Index into ``materials`` of each cell.
+        face_cell : ndarray of int, shape (f,)
+            The cell of each exposed face (for its emissivity).
+        gap_a, gap_b : ndarray of int, shape (q,)
+            The cells on either side of each radiating gap pair.
+
+        Returns
+        -------
+        CellTables
+            The merged lookups for cells, faces and gap sides.
+        """
         props = [m.property_pieces() for m in materials]
         merged = merge_pieces([k for k, _ in props], [c for _, c in props])
         properties = merged.lookup(cell_material, [k[0] for k, _ in props], [k[-1] for k, _ in props])
@@ -250,7 +304,19 @@ class CellTables:
     def thermal_properties(self, T: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
         """Conductivity (radial then axial, (2 n,)) [W/(m K)], volumetric heat capacity
         [J/(m^3 K)] and enthalpy [J/m^3] of every cell at ``T`` [K], or None if a cell
-        lies outside its material's tables."""
+        lies outside its material's tables.
+
+        Parameters
+        ----------
+        T : ndarray, shape (n,)
+            Cell temperatures [K].
+
+        Returns
+        -------
+        tuple of ndarray or None
+            Conductivity (2 n,) [W/(m K)], heat capacity (n,) [J/(m^3 K)] and enthalpy (n,) [J/m^3];
+            None when a cell is outside its tables.
+        """
         lookup = self.properties
         if not lookup.inside(T):
             return None
@@ -262,7 +328,18 @@ class CellTables:
     def temperature(self, H: np.ndarray) -> np.ndarray | None:
         """Temperature [K] of every cell from its volumetric enthalpy ``H`` [J/m^3] (the
         exact inverse, as :meth:`Material.temperature_from_enthalpy`), or None if a cell
-        lies outside its specific-heat table."""
+        lies outside its specific-heat table.
+
+        Parameters
+        ----------
+        H : ndarray, shape (n,)
+            Cell volumetric enthalpies [J/m^3].
+
+        Returns
+        -------
+        ndarray or None
+            Cell temperatures [K], or None when a cell is outside its table.
+        """
         if not np.all((H >= self.enthalpy_low) & (H <= self.enthalpy_high)):
             return None
         lookup = self.inverse
@@ -274,7 +351,20 @@ class CellTables:
 
     def emissivity(self, lookup: PieceLookup, surface_t: np.ndarray) -> np.ndarray | None:
         """Emissivity [-] of each surface of ``lookup`` at ``surface_t`` [K], or None if a
-        surface lies outside its material's emissivity table."""
+        surface lies outside its material's emissivity table.
+
+        Parameters
+        ----------
+        lookup : PieceLookup
+            The merged emissivity tables as read by these surfaces.
+        surface_t : ndarray
+            Surface temperatures [K].
+
+        Returns
+        -------
+        ndarray or None
+            Emissivity of each surface [-], or None when one is outside its table.
+        """
         if not lookup.inside(surface_t):
             return None
         a, x = lookup.locate(surface_t)
@@ -298,7 +388,15 @@ class TabulatedLaw:
         self.h = np.zeros(0)
 
     def cover(self, low: float, high: float, time: float) -> None:
-        """Grow the table (by whole blocks) to cover ``low``..``high`` [K]."""
+        """Grow the table (by whole blocks) to cover ``low``..``high`` [K].
+
+        Parameters
+        ----------
+        low, high : float
+            The surface temperatures to cover [K].
+        time : float
+            Time at which the law is evaluated [s].
+        """
         if low >= self.low and high <= self.high:
             return
         low = min(self.low, np.floor(low / _BLOCK) * _BLOCK)

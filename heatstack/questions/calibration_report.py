@@ -164,7 +164,22 @@ def _prior_text(parameter: FitParameter, unit: str) -> str:
 
 
 def parameter_table(fit: CalibrationFit, ident: Identifiability) -> tuple[list[str], list[list[str]]]:
-    """Header and rows of the parameter table: bounds, prior, estimate, interval, uncertainty, verdict."""
+    """Header and rows of the parameter table: bounds, prior, estimate, interval, uncertainty, verdict.
+
+    Parameters
+    ----------
+    fit : CalibrationFit
+        The fit.
+    ident : Identifiability
+        What the traces determine (relative standard deviations and verdicts).
+
+    Returns
+    -------
+    header : list of str
+        Column titles.
+    rows : list of list of str
+        One row of text cells per fitted parameter.
+    """
     header = ["parameter", "unit", "start", "lower", "upper", "prior", "fitted", "95 % interval",
               "rel. sd (traces)", "verdict", "runs"]  # fmt: skip
     rows = []
@@ -180,7 +195,22 @@ def parameter_table(fit: CalibrationFit, ident: Identifiability) -> tuple[list[s
 
 
 def trace_table(calibration: Calibration, fit: CalibrationFit) -> tuple[list[str], list[list[str]]]:
-    """Header and rows of the trace table: points, peaks, rms residual, sigma and the runs test."""
+    """Header and rows of the trace table: points, peaks, rms residual, sigma and the runs test.
+
+    Parameters
+    ----------
+    calibration : Calibration
+        The calibration, whose runs hold the measured traces.
+    fit : CalibrationFit
+        The fit, with each trace's prediction and residuals [K].
+
+    Returns
+    -------
+    header : list of str
+        Column titles.
+    rows : list of list of str
+        One row of text cells per measured trace.
+    """
     header = ["trace", "points", "measured peak degC", "predicted peak degC", "rms residual K", "sigma K",
               "runs-test z", "runs-test p", "white at 1 %"]  # fmt: skip
     traces = [t for run in calibration.runs for t in run.traces]
@@ -201,7 +231,20 @@ def _answer_value(value: float, scale: float, offset: float) -> str:
 
 
 def answer_table(answers: CalibrationAnswers) -> tuple[list[str], list[list[str]]]:
-    """Header and rows of the predicted answers with their 95 % intervals."""
+    """Header and rows of the predicted answers with their 95 % intervals.
+
+    Parameters
+    ----------
+    answers : CalibrationAnswers
+        The answers at the fit and their 95 % bounds (SI).
+
+    Returns
+    -------
+    header : list of str
+        Column titles.
+    rows : list of list of str
+        One row of text cells per answer.
+    """
     rows = []
     for name, value, low, high in zip(answers.names, answers.at_fit, answers.lower_95, answers.upper_95, strict=True):
         unit, scale, offset = _answer_unit(name)
@@ -213,7 +256,20 @@ def answer_table(answers: CalibrationAnswers) -> tuple[list[str], list[list[str]
 
 
 def correlation_table(ident: Identifiability) -> tuple[list[str], list[list[str]]]:
-    """The parameter correlation matrix as a table (``nan`` where a variance is infinite)."""
+    """The parameter correlation matrix as a table (``nan`` where a variance is infinite).
+
+    Parameters
+    ----------
+    ident : Identifiability
+        Holds the parameter names and their correlation matrix [-].
+
+    Returns
+    -------
+    header : list of str
+        Column titles.
+    rows : list of list of str
+        One row of text cells per parameter.
+    """
     rows = [[name, *(f"{x:+.2f}" if np.isfinite(x) else "nan" for x in row)]
             for name, row in zip(ident.names, ident.correlation, strict=True)]  # fmt: skip
     return ["", *ident.names], rows
@@ -323,7 +379,24 @@ def plot_calibration(calibration: Calibration, fit: CalibrationFit, path: str | 
 
 
 def plot_run(calibration: Calibration, fit: CalibrationFit, run: int, path: str | Path) -> Path:
-    """One test run's traces measured and fitted (top) and their residuals with the +/- 2 sigma band (bottom)."""
+    """One test run's traces measured and fitted (top) and their residuals with the +/- 2 sigma band (bottom).
+
+    Parameters
+    ----------
+    calibration : Calibration
+        The calibration holding the run's measured traces.
+    fit : CalibrationFit
+        The fit, with each trace's prediction and residuals [K].
+    run : int
+        Index of the test run in ``calibration.runs``.
+    path : str or Path
+        The figure file to write (PNG or SVG).
+
+    Returns
+    -------
+    Path
+        The file written.
+    """
     import matplotlib
 
     matplotlib.use("Agg")

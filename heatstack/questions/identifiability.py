@@ -139,14 +139,18 @@ def _verdict(relative_sd: float, weak_share: float) -> str:
 def _sentence(name: str, verdict: str, relative_sd: float, weak_share: float, log: bool) -> str:
     what = "relative standard deviation" if log else "standard deviation over its bound range"
     if not np.isfinite(relative_sd):
-        return (f"The traces do not determine {name} at all (they do not respond to it); "
-                "its value comes from its start or prior.")
+        return (
+            f"The traces do not determine {name} at all (they do not respond to it); "
+            "its value comes from its start or prior."
+        )
     spread = f"{what} {relative_sd:.0%} from the traces alone"
     if weak_share > WEAK_SHARE:
         spread += f", {weak_share:.0%} of it in poorly determined combinations"
     if verdict == VERDICTS[1]:
-        return (f"{name} is poorly determined ({spread}; determined needs at most {DETERMINED_RELATIVE_SD:.0%}): "
-                "use it only with its interval.")
+        return (
+            f"{name} is poorly determined ({spread}; determined needs at most {DETERMINED_RELATIVE_SD:.0%}): "
+            "use it only with its interval."
+        )
     return f"The traces do not determine {name} ({spread}); its value comes from its start or prior."
 
 
@@ -202,11 +206,17 @@ def identifiability(fit: CalibrationFit) -> Identifiability:
             )
     good = [name for name, verdict in zip(names, verdicts, strict=True) if verdict == VERDICTS[0]]
     if len(good) == len(names):
-        lines.insert(0, "The traces determine every fitted parameter "
-                     f"(each to a relative standard deviation of at most {DETERMINED_RELATIVE_SD:.0%}).")
+        lines.insert(
+            0,
+            "The traces determine every fitted parameter "
+            f"(each to a relative standard deviation of at most {DETERMINED_RELATIVE_SD:.0%}).",
+        )
     elif good:
-        lines.insert(0, f"The traces determine {', '.join(good)} "
-                     f"(each to a relative standard deviation of at most {DETERMINED_RELATIVE_SD:.0%}).")
+        lines.insert(
+            0,
+            f"The traces determine {', '.join(good)} "
+            f"(each to a relative standard deviation of at most {DETERMINED_RELATIVE_SD:.0%}).",
+        )
     return Identifiability(names, singular, vt, correlation, relative, weak, verdicts, "\n".join(lines))
 
 

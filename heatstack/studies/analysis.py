@@ -548,6 +548,11 @@ def _spearman_interval(rho: float, n: int, confidence: float = 0.95) -> tuple[fl
 def governing_plugs(table: StudyTable) -> dict[str, int]:
     """How many finished cases each fuse plug gave ``plug_margin_min`` (the smallest margin).
 
+    Parameters
+    ----------
+    table : StudyTable
+        The study's table of finished and failed cases.
+
     Returns
     -------
     dict

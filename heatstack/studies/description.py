@@ -300,6 +300,20 @@ def sobol_points(d: int, n: int, seed: int) -> np.ndarray:
     The first ``n`` points are the same for any longer draw with the same seed. (Sobol'
     points balance best in powers of two; scipy's warning about other counts is silenced:
     a study that grows cannot keep to powers of two.)
+
+    Parameters
+    ----------
+    d : int
+        Number of dimensions (sampled parameters).
+    n : int
+        Number of points.
+    seed : int
+        Seed of the scrambling.
+
+    Returns
+    -------
+    ndarray, shape (n, d)
+        The points in ``[0, 1)^d``.
     """
     with warnings.catch_warnings():
         warnings.filterwarnings("ignore", message=".*balance properties.*")

@@ -112,7 +112,7 @@ def test_html_report_is_self_contained_with_the_key_numbers(recovered, tmp_path)
         assert f'<section id="{section}">' in page, section
     assert "Correlation matrix" in page and "peak:sensor" in page
     for name, at_fit, interval, _ in answer_table(run.answers)[1]:
-        assert f"<td class=\"text\">{name}</td><td class=\"number\">{at_fit}</td>" in page
+        assert f'<td class="text">{name}</td><td class="number">{at_fit}</td>' in page
         assert interval in page
 
 
@@ -214,14 +214,25 @@ def _bad_csv_column(campaign: Path) -> None:
 @pytest.mark.parametrize(
     ("edit", "expected"),
     [
-        (lambda c: (c.parent / "s2_sensor.csv").unlink(), r"runs\[1\]\.traces\[0\]\.file: .*s2_sensor\.csv.* does not exist"),
+        (
+            lambda c: (c.parent / "s2_sensor.csv").unlink(),
+            r"runs\[1\]\.traces\[0\]\.file: .*s2_sensor\.csv.* does not exist",
+        ),
         (_bad_csv_column, r"runs\[0\]\.traces\[1\]\.file: .*s1_tc\.csv, line 3: cannot read '6,twenty' as numbers"),
-        (lambda c: _edit(c, 'probe = "tc rotor"', 'probe = "tc rotr"'),
-         r"runs\[0\]\.traces\[1\]\.probe: no probe named 'tc rotr' .*did you mean 'tc rotor'"),
-        (lambda c: _edit(c, 'lower = "1 s"\nupper = "200 s"', 'lower = "200 s"\nupper = "1 s"'),
-         r"parameters\[1\]: lower bound '200 s' is not below upper bound '1 s'"),
-        (lambda c: _edit(c, 'upper = "200 s"\n', 'upper = "200 s"\nprior = {kind = "normal", mean = "15 K", sd = "5 s"}\n'),
-         r"parameters\[1\]\.prior\.mean"),
+        (
+            lambda c: _edit(c, 'probe = "tc rotor"', 'probe = "tc rotr"'),
+            r"runs\[0\]\.traces\[1\]\.probe: no probe named 'tc rotr' .*did you mean 'tc rotor'",
+        ),
+        (
+            lambda c: _edit(c, 'lower = "1 s"\nupper = "200 s"', 'lower = "200 s"\nupper = "1 s"'),
+            r"parameters\[1\]: lower bound '200 s' is not below upper bound '1 s'",
+        ),
+        (
+            lambda c: _edit(
+                c, 'upper = "200 s"\n', 'upper = "200 s"\nprior = {kind = "normal", mean = "15 K", sd = "5 s"}\n'
+            ),
+            r"parameters\[1\]\.prior\.mean",
+        ),
     ],
     ids=["missing csv", "bad column", "probe not found", "bounds inverted", "prior in wrong units"],
 )
@@ -248,7 +259,10 @@ def test_cli_calibrate_prints_the_caution_and_writes_every_report(recovered, tmp
     assert printed.startswith(CAUTION)
     assert "wrote: " + str(out / "report.html") in printed
     assert (out / "report.html").is_file() and (out / "calibration-report.txt").is_file()
-    assert CAUTION in (out / "calibration-report.txt").read_text() and CAUTION in (out / "calibrated-case.toml").read_text()
+    assert (
+        CAUTION in (out / "calibration-report.txt").read_text()
+        and CAUTION in (out / "calibrated-case.toml").read_text()
+    )
 
 
 def test_energy_interval_grows_when_sensor_lag_and_contacts_are_uncertain(tmp_path):
