@@ -542,7 +542,8 @@ def _spearman_interval(rho: float, n: int, confidence: float = 0.95) -> tuple[fl
         return (math.nan, math.nan)
     z = math.atanh(min(max(rho, -0.999999), 0.999999))
     half = float(stats.norm.ppf(0.5 + confidence / 2)) * math.sqrt(1.06 / (n - 3))
-    return (math.tanh(z - half), math.tanh(z + half))
+    # a rank correlation of exactly +-1 is clipped before atanh; the interval still holds it
+    return (min(math.tanh(z - half), rho), max(math.tanh(z + half), rho))
 
 
 def governing_plugs(table: StudyTable) -> dict[str, int]:

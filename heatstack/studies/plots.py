@@ -176,7 +176,7 @@ def plot_tornado(
         ax.errorbar(
             values[shown],
             np.arange(len(entries))[shown],
-            xerr=np.vstack([values[shown] - low[shown], high[shown] - values[shown]]),
+            xerr=np.clip(np.vstack([values[shown] - low[shown], high[shown] - values[shown]]), 0.0, None),
             fmt="none",
             ecolor=_INK,
             elinewidth=0.8,

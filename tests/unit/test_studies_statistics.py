@@ -269,6 +269,21 @@ def test_a_large_sample_is_not_flagged_and_chance_correlations_are():
     assert result.warnings == ("rank correlation not told apart from zero (95 % interval holds 0): b",)
 
 
+def test_a_perfect_rank_correlation_lies_inside_its_interval_and_plots(tmp_path):
+    # an output that rises with the input in every case has Spearman's rho = +1 exactly
+    # (Spearman's definition; from memory): its interval must hold it and the tornado
+    # must draw without negative error-bar lengths
+    x = np.linspace(0.0, 1.0, 20)
+    table = make_table({"a": x, "b": x[::-1] ** 2, "out": 3.0 * x}, parameters=("a", "b"))
+    result = sensitivity(table, "out")
+    for entry in result.entries:
+        low, high = entry.spearman_interval
+        assert abs(entry.spearman) == pytest.approx(1.0)
+        assert low <= entry.spearman <= high
+    matplotlib.use("Agg")
+    assert plot_tornado(result, tmp_path / "t.svg").stat().st_size > 0
+
+
 def test_spearman_interval_covers_at_its_nominal_rate():
     # Fieller, Hartley & Pearson 1957: Fisher's z of Spearman's rho has variance ~ 1.06/(n-3).
     # For independent inputs rho = 0; 400 trials of 30 cases, 95 % nominal; binomial noise
