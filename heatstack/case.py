@@ -20,7 +20,7 @@ import numpy as np
 
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
-from .case_events import braking_event
+from .case_events import braking_event, stated_air_pressure
 from .case_guards import (
     DEFAULT_MAX_CELLS,
     RunBudget,
@@ -408,7 +408,7 @@ def _output(t: CaseTable) -> OutputSettings:
     return out
 
 
-def _tyre(t: CaseTable, built: BuiltWheelBrake | None, duty: DutyCycle) -> TyreSettings | None:
+def _tyre(t: CaseTable, built: BuiltWheelBrake | None, duty: DutyCycle, duty_data: Any) -> TyreSettings | None:
     if not t.data:
         return None
     area = t.quantity("cavity_area", None)
@@ -423,8 +423,10 @@ def _tyre(t: CaseTable, built: BuiltWheelBrake | None, duty: DutyCycle) -> TyreS
     for key in ("cold_pressure", "gas_volume"):
         t.raw(key)  # required: raises naming the key path
     values["cavity_area"] = area
-    # gauge pressures are read against the air where the duty starts, unless given
-    values.setdefault("ambient_pressure", duty.phases[0].environment.ambient_pressure)
+    # gauge pressures are read against the air where the duty starts, unless given: the first
+    # phase's ambient pressure, or the airfield's (ISO 2533 at the first stop's pressure altitude)
+    stated = stated_air_pressure(duty_data)
+    values.setdefault("ambient_pressure", stated[0] if stated else duty.phases[0].environment.ambient_pressure)
     t.finish()
     try:
         return TyreSettings(**values)
@@ -536,7 +538,7 @@ def case_from_mapping(data: dict, text: str, origin: str, base: Path) -> Case:
     solver = _solver(root.table("solver", {}))
     budget = _budget(root.table("solver", {}))
     output = _output(root.table("output", {}))
-    tyre = _tyre(root.table("tyre", {}), built, duty)
+    tyre = _tyre(root.table("tyre", {}), built, duty, root.data.get("duty"))
     root.finish(("case", "materials", "assembly", "duty", "solver", "output", "tyre"))
     try:
         duty.end_of_braking(output.reference_event)

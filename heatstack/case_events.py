@@ -16,9 +16,11 @@ from typing import Any
 from .case_keys import EVENT_KINDS, ROLL_RECORDS
 from .case_table import CaseTable
 from .errors import HeatstackError, InputError
+from .operations import atmosphere
 from .operations.events import BrakingEvent
+from .operations.roll_inputs import Conditions
 
-__all__ = ["braking_event"]
+__all__ = ["braking_event", "stated_air_pressure"]
 
 
 def braking_event(t: CaseTable, base: Path) -> BrakingEvent:
@@ -90,3 +92,42 @@ def _record(record: type, table: CaseTable) -> Any:
             head, _, rest = message[len(own) :].partition(": ")
             raise InputError(f"{table.path}.{head}: {rest}") from exc
         raise InputError(f"{table.path}: {message}") from exc
+
+
+def stated_air_pressure(duty: Any) -> tuple[float, str] | None:
+    """The air pressure the duty itself states where it starts, for gauge pressures.
+
+    The first phase's ``environment.ambient_pressure`` when given; else the ISO 2533
+    static pressure at the ``pressure_altitude`` of the first stop's ``conditions`` in the
+    first phase that has one (a tyre inflated on that airfield reads its gauge against
+    that air); else None.
+
+    Parameters
+    ----------
+    duty : mapping
+        The case file's raw ``[duty]`` table (already validated by the case reader).
+
+    Returns
+    -------
+    tuple of (float, str) or None
+        Pressure [Pa] and where it came from, in words; None if the duty states neither.
+
+    References
+    ----------
+    ISO 2533:1975, Standard Atmosphere (the troposphere's static pressure), as
+    :func:`heatstack.operations.atmosphere.isa_pressure` implements it.
+    """
+    phases = duty.get("phases") if isinstance(duty, dict) else None
+    if not isinstance(phases, list) or not phases or not isinstance(phases[0], dict):
+        return None
+    environment = phases[0].get("environment", {})
+    if isinstance(environment, dict) and "ambient_pressure" in environment:
+        return None  # the environment's own value is already the phase's ambient pressure
+    for phase in phases:
+        for event in phase.get("events", []) if isinstance(phase, dict) else []:
+            conditions = event.get("conditions") if isinstance(event, dict) else None
+            if isinstance(conditions, dict) and "pressure_altitude" in conditions:
+                altitude = Conditions(pressure_altitude=conditions["pressure_altitude"]).pressure_altitude
+                pressure = float(atmosphere.isa_pressure(altitude))
+                return pressure, f"ISO 2533 at the stop's pressure altitude {altitude:.0f} m"
+    return None

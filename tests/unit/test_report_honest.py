@@ -266,3 +266,16 @@ def test_the_report_gives_each_stops_energy_accounts(demo_run, demo_report):
     text = format_report(demo_report, "text")
     assert "where the kinetic energy went" in text and "reverse thrust" in text
     assert json.loads(format_report(demo_report, "json"))["stops"][0]["brakes_J"] == stop["brakes_J"]
+
+
+def test_gauge_pressures_default_to_the_airfield_air_of_the_stop():
+    # the demo stop states pressure_altitude = 1500 ft (457.2 m) and no ambient_pressure:
+    # ISO 2533 troposphere p = 101325 (1 - 2.25577e-5 h)^5.25588 Pa (from memory) = 95 952 Pa
+    case = parse_case(DEMO, "demo")
+    assert case.tyre.ambient_pressure == pytest.approx(95952.0, abs=20.0)
+    # a tyre-level value wins over the airfield's
+    given = DEMO.replace('cold_pressure = "13.5 bar"', 'ambient_pressure = "1000 hPa"\ncold_pressure = "13.5 bar"', 1)
+    assert parse_case(given, "demo, tyre ambient").tyre.ambient_pressure == pytest.approx(1.0e5)
+    # with no stated altitude the standard sea-level pressure is kept
+    level = DEMO.replace('pressure_altitude = "1500 ft"\n', "", 1)
+    assert parse_case(level, "demo at sea level").tyre.ambient_pressure == pytest.approx(101325.0)
