@@ -19,7 +19,16 @@ from ..errors import InputError
 from ..geometry import HEAT_SINK_MEAN, WHEEL_MAX, series_label
 from ..questions.day import DayAnswer
 from ..questions.safe_wait import WaitAnswer
-from .common import check_unit, figure_target, new_figure, save_figure, series_kind, style_for, to_temperature_unit
+from .common import (
+    OKABE_ITO,
+    check_unit,
+    figure_target,
+    new_figure,
+    save_figure,
+    series_kind,
+    style_for,
+    to_temperature_unit,
+)
 
 __all__ = ["plot_day", "plot_wait_margin"]
 
@@ -57,6 +66,21 @@ def _day_lines(ax, day: DayAnswer, unit: str) -> None:
         )  # fmt: skip
 
 
+def _release_lines(ax, day: DayAnswer, unit: str) -> None:
+    """Each fuse plug's release temperature as a thin line in the plug's colour, one label per value."""
+    values: dict[float, list[str]] = {}
+    for plug in day.plugs:
+        values.setdefault(round(float(plug.release_temperature), 6), []).append(plug.name)
+    for value, names in values.items():
+        colour, _, _ = style_for(names[0])
+        shown = float(to_temperature_unit(np.array([value]), unit)[0])
+        ax.axhline(shown, color=colour, lw=0.9, ls=(0, (8, 3, 2, 3)), alpha=0.9, zorder=2)
+        ax.annotate(
+            f"{', '.join(names)} release {shown:.0f} {unit}", xy=(0.0, shown), xycoords=("axes fraction", "data"),
+            xytext=(4, 2), textcoords="offset points", fontsize=7, color=colour, va="bottom",
+        )  # fmt: skip
+
+
 def plot_day(day: DayAnswer, path: str | os.PathLike, unit: str = "degC") -> Path:
     """The day's histories per flight on one time axis, and each departure's governing margin.
 
@@ -90,6 +114,7 @@ def plot_day(day: DayAnswer, path: str | os.PathLike, unit: str = "degC") -> Pat
     axes = fig.subplots(2 if margins else 1, 1, sharex=True, squeeze=False, height_ratios=[3, 1] if margins else None)
     ax = axes[0, 0]
     _day_lines(ax, day, unit)
+    _release_lines(ax, day, unit)
     ax.set_ylabel(f"temperature [{unit}]")
     ax.set_title(day.title, fontsize=10)
     ax.legend(fontsize=7, loc="upper right")
@@ -98,7 +123,7 @@ def plot_day(day: DayAnswer, path: str | os.PathLike, unit: str = "degC") -> Pat
         low = axes[1, 0]
         x = [m[0] for m in margins]
         y = [m[1].margin for m in margins]
-        low.bar(x, y, width=0.08, color=["C2" if v >= 0 else "C3" for v in y])
+        low.bar(x, y, width=0.08, color=[OKABE_ITO["bluish green"] if v >= 0 else OKABE_ITO["vermillion"] for v in y])
         for xi, (_, m) in zip(x, margins, strict=True):
             where = "bottom" if m.margin >= 0 else "top"
             low.annotate(series_label(m.governing), (xi, m.margin), fontsize=7, ha="center", va=where)

@@ -456,9 +456,13 @@ class DayAnswer:
         for answer in self.flights:
             f = answer.flight
             lines.append(f"flight {f.number}: arrival at {f.arrival_time / 3600.0:.2f} h, {f.arrival_mass / 1e3:.0f} t")
+            release = {plug.name: plug.release_temperature for plug in self.plugs}
             for name, (value, when) in answer.peaks.items():
                 shown = f"{value / 1e5:7.2f} bar gauge" if name == "tyre pressure" else f"{value - 273.15:7.1f} degC"
-                lines.append(f"  {series_label(name):24s} peak {shown} at {when / 3600.0:6.2f} h")
+                line = f"  {series_label(name):24s} peak {shown} at {when / 3600.0:6.2f} h"
+                if name in release and value >= release[name]:
+                    line += f"  RELEASES (release {release[name] - 273.15:.1f} degC)"
+                lines.append(line)
             sensor = answer.departure_state.readings.get("sensor")
             if sensor is not None:
                 lines.append(f"  departure: sensor reads {sensor - 273.15:.0f} degC")

@@ -459,3 +459,22 @@ def test_the_results_file_keeps_the_tyre_gas_for_a_chained_run(arrival_file, tmp
     copy = tmp_path / "chained.h5"
     write_result(chained, copy)
     assert read_result(copy).initial_tyre_gas_temperature == pytest.approx(start.state.tyre_gas_temperature)
+
+
+def test_a_day_summary_flags_a_plug_peak_above_its_release_temperature():
+    from types import SimpleNamespace
+
+    from heatstack.builders import FusePlugSpec
+    from heatstack.questions.day import DayAnswer
+
+    plugs = (FusePlugSpec("fuse plug 1", 0.3, release_temperature="177 degC"),)
+    flight = SimpleNamespace(number=1, arrival_time=7 * 3600.0, arrival_mass=62e3)
+    hot = SimpleNamespace(
+        flight=flight,
+        peaks={"fuse plug 1": (273.15 + 191.6, 7.5 * 3600.0), "sensor": (273.15 + 350.0, 7.2 * 3600.0)},
+        departure_state=SimpleNamespace(readings={}),
+        departure_margin=None,
+    )
+    cool = SimpleNamespace(**{**vars(hot), "peaks": {"fuse plug 1": (273.15 + 150.0, 7.5 * 3600.0)}})
+    assert "RELEASES (release 177.0 degC)" in "\n".join(DayAnswer("d", (hot,), plugs).summary_lines())
+    assert "RELEASES" not in "\n".join(DayAnswer("d", (cool,), plugs).summary_lines())
