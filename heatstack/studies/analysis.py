@@ -37,6 +37,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
@@ -630,18 +631,40 @@ def study_report(
     return "\n".join(lines) + "\n"
 
 
+_TABLE_EDGE = re.compile(r"temperature (-?\d+(?:\.\d+)?) K is outside")
+
+
 def _warning_lines(table: StudyTable) -> list[str]:
-    """Each distinct warning raised in the cases, with how many cases raised it; empty if none."""
+    """Each distinct warning raised in the cases, with how many cases raised it; empty if none.
+
+    Warnings that differ only in the temperature that left a material table are one line,
+    with the range of those temperatures.
+    """
     if "warnings" not in table.columns:
         return []
     counts: dict[str, int] = {}
+    values: dict[str, list[float]] = {}
     for text in table["warnings"]:
         for line in dict.fromkeys(str(text).splitlines()):
-            if line.strip():
-                counts[line] = counts.get(line, 0) + 1
+            if not line.strip():
+                continue
+            found = _TABLE_EDGE.search(line)
+            escaped = line.replace("{", "{{").replace("}", "}}")
+            key = _TABLE_EDGE.sub("temperature {} K is outside", escaped) if found else escaped
+            counts[key] = counts.get(key, 0) + 1
+            if found:
+                values.setdefault(key, []).append(float(found.group(1)))
     if not counts:
         return []
-    return ["", "### Warnings raised in the cases", ""] + [f"- {w} ({n} cases)" for w, n in counts.items()]
+    lines = ["", "### Warnings raised in the cases", ""]
+    for key, n in counts.items():
+        seen = values.get(key)
+        if seen:
+            key = key.format(f"{seen[0]:.1f}" if min(seen) == max(seen) else f"{min(seen):.1f} to {max(seen):.1f}")
+        else:
+            key = key.format()
+        lines.append(f"- {key} ({n} {'case' if n == 1 else 'cases'})")
+    return lines
 
 
 def _release_lines(table: StudyTable, confidence: float) -> list[str]:

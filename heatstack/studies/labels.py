@@ -8,15 +8,15 @@ from collections.abc import Sequence
 __all__ = ["output_label", "plug_names"]
 
 _LABELS = {
-    "plug_margin_min": "smallest fuse-plug margin (plug temperature)",
+    "plug_margin_min": "smallest fuse-plug margin to release (plug temperature)",
     "any_plug_released": "any fuse plug released",
     "energy_in": "braking energy in",
 }
 _PREFIX_LABELS = {
-    "plug_margin:": "{} margin (plug temperature)",
+    "plug_margin:": "{} margin to its release temperature (plug temperature)",
     "plug_peak:": "{} peak (plug temperature)",
     "plug_released:": "{} released",
-    "limit_margin:": "{}: margin to its limit",
+    "limit_margin:": "{}: margin to its output.limits value",
     "peak:": "{} peak",
     "peak_time:": "{} time of peak",
     "peak_delay:": "{} peak after braking",

@@ -189,13 +189,13 @@ def plot_tornado(
         limit = 1.0 / 1.35  # the intervals of a rank correlation lie in [-1, 1]
     ax.set_xlim(-1.35 * limit, 1.35 * limit)
     for k, v in enumerate(values):
-        ax.annotate(
+        ax.annotate(  # above the bar's end, clear of its whisker
             f"{v:+.2f}",
-            (v, k),
-            xytext=(4 if v >= 0 else -4, 0),
+            (v, k + 0.3),
+            xytext=(0, 1),
             textcoords="offset points",
-            ha="left" if v >= 0 else "right",
-            va="center",
+            ha="center",
+            va="bottom",
             fontsize=8,
             color=_INK,
         )

@@ -440,7 +440,9 @@ def test_plots_are_written_whole_with_the_caption(folder, tmp_path):
     with matplotlib.rc_context({"svg.fonttype": "none"}):  # text kept as text to search it
         histogram = plot_margin_histogram(table, tmp_path / "m.svg", column="limit_margin:heat_sink_mean")
     words = histogram.read_text()
-    assert "heat sink mean: margin to its limit" in words and "limit_margin:" not in words  # no internal names
+    assert (
+        "heat sink mean: margin to its output.limits value" in words and "limit_margin:" not in words
+    )  # no internal names
     result = sensitivity(table, "limit_margin:heat_sink_mean")
     assert result.entries[0].parameter == "energy" and result.entries[0].spearman == pytest.approx(-1.0)
     svg = plot_tornado(result, tmp_path / "tornado.svg").read_text()

@@ -325,3 +325,16 @@ def test_the_smallest_plug_margin_names_the_plug_that_gives_it():
     assert "The smallest margin is that of fuse plug 2 in 12 of 12 cases" in study_report(table)
     own = {e.parameter: e for e in sensitivity(table, "plug_margin:fuse plug 1").entries}
     assert own["plug 1 release"].src > 0  # margin = release - peak: a higher release raises it
+
+
+def test_table_edge_warnings_of_many_cases_are_one_line_with_their_range():
+    edge = (
+        "HeatstackWarning: material 'tyre-rubber', property 'specific_heat': temperature {} K is outside "
+        "the table (the table covers 200 K to 500 K); clamping to the end value"
+    )
+    warnings = np.array([edge.format(500.486), edge.format(501.375), "", "another warning {x}"])
+    table = make_table({"a": np.arange(4.0), "out": np.arange(4.0), "warnings": warnings}, parameters=("a",))
+    text = study_report(table, output="out")
+    lines = [line for line in text.splitlines() if "tyre-rubber" in line]
+    assert lines == [f"- {edge.format('500.5 to 501.4')} (2 cases)"]
+    assert "- another warning {x} (1 case)" in text
