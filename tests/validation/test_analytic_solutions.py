@@ -546,6 +546,29 @@ def test_lumped_cooling_by_radiation_to_cold_space(setting):
     assert exact < 0.5 * t_i
 
 
+TAIL_TARGETS = (350.0, 310.0, 303.0, 301.0)  # K, with surroundings at 300 K
+
+
+@at_both_settings(defaults_miss="13 % of T - Tsur at 301 K against 0.5 %")
+def test_slow_radiative_tail_to_near_the_surroundings(setting):
+    # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 5.18 (from memory): a lumped
+    # body radiating alone from 800 K to surroundings at 300 K, checked where it has come to 50,
+    # 10, 3 and 1 K above them (the times from the closed form t(T)). The tail's time constant
+    # rho V c / (4 eps A sigma Tsur^3) is 2340 s, and the last check is at 11,100 s.
+    # Tolerance 0.5 % of T - Tsur; fixed step 2 s.
+    model, volume, area, capacity = _pellet_model()
+    t_i, t_sur, eps = 800.0, 300.0, PELLET["emissivity"]
+    times = tuple(float(lumped_radiation_time(x, t_i, t_sur, eps, area, capacity)) for x in TAIL_TARGETS)
+    law = FixedConvection(0.0, 300.0, surroundings_temperature=t_sur, radiation=True)
+    schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, times[-1], {"*": law})])
+    result = model.run(schedule, t_i, solver_options(setting, 2.0, snapshot_times=times))
+    relative_miss = {
+        exact: abs(_mean_temperature(result, result.snapshot(t)) - exact) / (exact - t_sur)
+        for t, exact in zip(times, TAIL_TARGETS, strict=True)
+    }
+    assert max(relative_miss.values()) <= 0.005, relative_miss
+
+
 # --------------------------------------------------------------------------- 6. contact conductance
 
 JOINT = {
