@@ -696,7 +696,7 @@ def test_contact_uses_clamped_conductance_when_brake_is_on(setting):
 def test_probe_reads_only_its_own_part():
     # A probe in a thin 2-cell part next to a part 700 K hotter must read its own part's
     # temperature (interpolation between the owning part's cell centres only, held flat
-    # at the part's edges), not a blend across the boundary. The parts are joined by a
+    # up to a face in contact with another part), not a blend across the boundary. The parts are joined by a
     # contact of 1e-6 W/(m^2 K) so they keep their initial temperatures over the 1 s run.
     material = simple_material("plain", density=7800.0, specific_heat=500.0, conductivity=50.0)
     assembly = Assembly(

@@ -202,7 +202,7 @@ def _side_area(part: Part, side: str) -> float:
 def _faces_a_gap(part: Part, side: str) -> bool:
     """The stack's outer sides and the shield's inner side face each other across the 5 mm
     void: they radiate to each other (internal), not to the surroundings."""
-    return (side == "outer") != (part.name == "shield")
+    return side == ("inner" if part.name == "shield" else "outer")
 
 
 @pytest.fixture(scope="module")
