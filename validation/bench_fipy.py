@@ -228,7 +228,7 @@ def header() -> None:
         "    (recomputed by the FiPy side from the assembly).\n"
         "  * converged nonlinear iterations: FiPy in enthalpy form, TransientTerm(var=H) ==\n"
         "    DiffusionTerm(k_f / c_f, var=H) + sources, c_f the chord (H_b - H_a)/(T_b - T_a), T from\n"
-        "    the material's exact inverse temperature_from_enthalpy(H) after every sweep, sweeping until\n"
+        "    the twin's own exact inverse of the tabulated enthalpy after every sweep, sweeping until\n"
         f"    max |T change| <= {TOLERANCE:g} K; heatstack Newton tolerance {TOLERANCE:g} K. Single material.\n"
         f"  * FiPy's fastest solver here: LinearPCGSolver (conjugate gradients, SciPy suite, relative\n"
         f"    residual {CG_TOLERANCE:g}); checked against its LinearLUSolver at 3k cells below.\n"

@@ -45,14 +45,26 @@ Two forms of the equation are offered:
     multi-material reference.
 ``form="enthalpy"``
     ``TransientTerm(var=H) == DiffusionTerm(coeff=k_f / c_f, var=H) + sources`` with
-    ``H`` the volumetric enthalpy, ``T`` recovered after every sweep by the material's
-    exact inverse ``temperature_from_enthalpy(H)``, sweeping until the largest change
-    of T between sweeps is below the sweep tolerance. The face capacity ``c_f`` is the
-    chord ``(H_b - H_a) / (T_b - T_a)`` between the two cells (``rho c_p`` at the mean
-    temperature when they are within 1e-9 K), so that at convergence the face flux
-    ``(k_f / c_f)(H_b - H_a)`` is exactly ``k_f (T_b - T_a)``: conservative in H and the
-    same flux law as a temperature-form scheme. Valid in a single-material domain
-    (H is continuous only there).
+    ``H`` the volumetric enthalpy, ``T`` recovered after every sweep by the exact inverse of each
+    material's enthalpy (:class:`TableEnthalpy`), sweeping until the largest change
+    of T between sweeps is below the sweep tolerance. Inside one material the face
+    capacity ``c_f`` is the chord ``(H_b - H_a) / (T_b - T_a)`` between the two cells
+    (``rho c_p`` at the mean temperature when they are within 1e-9 K), so that at
+    convergence the face flux ``(k_f / c_f)(H_b - H_a)`` is exactly ``k_f (T_b - T_a)``:
+    conservative in H and the same flux law as a temperature-form scheme.
+    Between two materials H jumps at equal temperatures, so no chord can stand for the
+    flux there: the face takes ``c_f`` = the mean of the two cells' ``rho c_p`` and an
+    explicit deferred correction, the divergence of the face vector
+    ``[k_f (T_b - T_a) - (k_f / c_f)(H_b - H_a)] / d n`` at the current sweep, is added to
+    the sources (FiPy's own ``FaceVariable.divergence`` over its ``faceNormals``); at
+    convergence the face flux is again exactly ``k_f (T_b - T_a)`` (deferred correction:
+    Ferziger & Peric, Computational Methods for Fluid Dynamics, 3rd ed., sec. 5.6, from
+    memory). With one material the correction is zero and is not formed.
+
+Material properties are read by the twin itself from the rows of each material's tables
+(the input data, ``PropertyTable.temperature`` / ``.value``): linear interpolation with
+``numpy.interp``, and the volumetric enthalpy integrated and inverted here in closed form
+(:class:`TableEnthalpy`), not through heatstack's property or enthalpy code.
 
 Only fully active rectangular grids are supported (no void cells); contacts must be
 perfect. Surfaces not listed in ``convection`` are adiabatic.
@@ -71,6 +83,7 @@ __all__ = [
     "FIPY_VERSION",
     "FipyRun",
     "FipyTwin",
+    "TableEnthalpy",
     "radial_metric_difference",
     "rubbing_interfaces",
     "step_power",
@@ -115,6 +128,49 @@ def radial_metric_difference(r_edges: np.ndarray) -> float:
     rc = 0.5 * (r_edges[1:] + r_edges[:-1])
     ra, rb, rf = rc[:-1], rc[1:], r_edges[1:-1]
     return float(np.max(np.abs(rf * np.log(rb / ra) / (rb - ra) - 1.0))) if rf.size else 0.0
+
+
+class TableEnthalpy:
+    """Volumetric enthalpy of a piecewise-linear specific-heat table, and its inverse.
+
+    ``H(T) = rho * integral of cp dT`` from the first row, a quadratic on each piece
+    between two rows; the inverse solves that quadratic, ``x = 2 dh / (b + sqrt(b^2 + 4 a dh))``
+    (the form without cancellation as the slope ``a`` goes to zero). Beyond the table's ends
+    the end pieces are continued (the checks stay inside the tables).
+
+    Parameters
+    ----------
+    material : heatstack Material
+        Its ``density`` [kg/m^3] and the rows of its ``specific_heat`` table [K], [J/(kg K)].
+    """
+
+    def __init__(self, material):
+        self.rho = float(material.density)
+        self.t = np.asarray(material.specific_heat.temperature, float)
+        self.cp = np.asarray(material.specific_heat.value, float)
+        self.slope = np.diff(self.cp) / np.diff(self.t)
+        pieces = self.rho * 0.5 * (self.cp[1:] + self.cp[:-1]) * np.diff(self.t)
+        self.h = np.concatenate(([0.0], np.cumsum(pieces)))
+
+    def enthalpy(self, T: np.ndarray) -> np.ndarray:
+        """H [J/m^3] at ``T`` [K]."""
+        T = np.asarray(T, float)
+        k = np.clip(np.searchsorted(self.t, T, side="right") - 1, 0, self.t.size - 2)
+        x = T - self.t[k]
+        return self.h[k] + self.rho * (self.cp[k] * x + 0.5 * self.slope[k] * x * x)
+
+    def temperature(self, H: np.ndarray) -> np.ndarray:
+        """T [K] at ``H`` [J/m^3]."""
+        H = np.asarray(H, float)
+        k = np.clip(np.searchsorted(self.h, H, side="right") - 1, 0, self.t.size - 2)
+        dh = (H - self.h[k]) / self.rho
+        b = self.cp[k]
+        return self.t[k] + 2.0 * dh / (b + np.sqrt(b * b + 2.0 * self.slope[k] * dh))
+
+
+def _table(table, T: np.ndarray) -> np.ndarray:
+    """Linear interpolation in the rows of a property table (clamped at its ends)."""
+    return np.interp(T, np.asarray(table.temperature, float), np.asarray(table.value, float))
 
 
 @dataclass
@@ -208,8 +264,10 @@ class FipyTwin:
             )
             for name in names
         ]
-        if form == "enthalpy" and len(self.blocks) != 1:
-            raise ValueError("the enthalpy form is valid in a single-material domain only")
+        self.enthalpies = [TableEnthalpy(material) for material, _ in self.blocks]
+        self.cell_block = np.empty(self.n, dtype=int)
+        for k, (_, cells) in enumerate(self.blocks):
+            self.cell_block[cells] = k
 
         # ---- face geometry
         ids = np.asarray(mesh.faceCellIDs.filled(-1))
@@ -221,6 +279,9 @@ class FipyTwin:
         fr, fz = (np.asarray(v) for v in mesh.faceCenters.value)
         # centre-to-centre distance; on exterior faces, cell centre to face (unit scale: metres)
         self.face_distance = np.asarray(mesh.scaledCellDistances)
+        self.material_face = self.interior & (self.cell_block[self.id1] != self.cell_block[self.id2])
+        self.correction = fp.FaceVariable(mesh=mesh, value=0.0)
+        self.correction_source = (self.correction * mesh.faceNormals).divergence  # [W/m^3]
 
         # ---- convection: exterior faces per side, as FiPy face masks
         sides = {
@@ -291,16 +352,16 @@ class FipyTwin:
     # ------------------------------------------------------------------ properties
     def _cell(self, what: str, T: np.ndarray) -> np.ndarray:
         out = np.empty(self.n)
-        for material, cells in self.blocks:
+        for (material, cells), enthalpy in zip(self.blocks, self.enthalpies, strict=True):
             t = T[cells]
             if what == "kr":
-                out[cells] = material.conductivity_radial(t)
+                out[cells] = _table(material.conductivity_in_plane, t)
             elif what == "kz":
-                out[cells] = material.conductivity_axial(t)
+                out[cells] = _table(material.conductivity_through_thickness, t)
             elif what == "c":
-                out[cells] = material.volumetric_heat_capacity(t)
+                out[cells] = material.density * _table(material.specific_heat, t)
             else:  # enthalpy
-                out[cells] = material.enthalpy(t)
+                out[cells] = enthalpy.enthalpy(t)
         return out
 
     def _update(self, T: np.ndarray, power: float) -> None:
@@ -335,21 +396,37 @@ class FipyTwin:
             chord = np.abs(dT) > 1e-9
             c_face = self._cell_mean_capacity(Ta, Tb)
             c_face[chord] = (H[self.id2][chord] - H[self.id1][chord]) / dT[chord]
+            correction = 0.0
+            if len(self.blocks) > 1:
+                jump = self.material_face
+                c_face[jump] = 0.5 * (c[self.id1][jump] + c[self.id2][jump])
+                flux = np.zeros_like(self.h)
+                dH = H[self.id2][jump] - H[self.id1][jump]
+                flux[jump] = (k_face[jump] * dT[jump] - k_face[jump] / c_face[jump] * dH) / self.face_distance[jump]
+                self.correction.setValue(flux)
+                correction = np.asarray(self.correction_source)
             self.coeff.setValue(k_face / c_face)
             # -h_eff A (T - T_inf) linearised in H at the iterate: T ~ T* + (H - H*) / c
             self.sink.setValue(robin / c)
-            self.source.setValue(friction + robin_t - robin * T + robin * H / c)
+            self.source.setValue(friction + robin_t - robin * T + robin * H / c + correction)
 
     def _cell_mean_capacity(self, Ta: np.ndarray, Tb: np.ndarray) -> np.ndarray:
-        material = self.blocks[0][0]
-        return np.asarray(material.volumetric_heat_capacity(0.5 * (Ta + Tb)), float)
+        """rho c_p at the mean temperature of each face's two cells, with the material of cell a."""
+        out = np.empty(Ta.size)
+        mean = 0.5 * (Ta + Tb)
+        for k, (material, _) in enumerate(self.blocks):
+            faces = self.cell_block[self.id1] == k
+            out[faces] = material.density * _table(material.specific_heat, mean[faces])
+        return out
 
     def _temperature(self) -> np.ndarray:
         value = np.asarray(self.var.value, float)
         if self.form == "temperature":
             return value.copy()
-        material = self.blocks[0][0]
-        return np.asarray(material.temperature_from_enthalpy(value), float)
+        out = np.empty(self.n)
+        for (_, cells), enthalpy in zip(self.blocks, self.enthalpies, strict=True):
+            out[cells] = enthalpy.temperature(value[cells])
+        return out
 
     # ------------------------------------------------------------------ output
     def field(self, T: np.ndarray) -> np.ndarray:

@@ -27,6 +27,7 @@ from ..geometry import Part
 from ..material_files import load_material
 from ..materials import Material
 from .grid import Grid
+from .probe_stencil import ProbeStencils, SideFaces, probe_stencils
 from .tabulated import CellTables
 
 __all__ = ["Network", "build_network", "RADIAL", "AXIAL"]
@@ -87,8 +88,8 @@ class Network:
         The cells of each of ``assembly.cell_groups``.
     probe_names : tuple of str
         Probe names.
-    probe_cells, probe_weights : ndarray, shape (p, 4)
-        The four cells each probe interpolates between and their weights [-].
+    probe_stencils : ProbeStencils
+        The weights each probe reads cell and exposed-face temperatures with.
     probe_time_constants : ndarray, shape (p,)
         Each probe's sensor time constant [s] (0 for none).
     tables : CellTables
@@ -130,8 +131,7 @@ class Network:
     friction_labels: tuple[str, ...]
     cell_group_masks: tuple[np.ndarray, ...]
     probe_names: tuple[str, ...]
-    probe_cells: np.ndarray
-    probe_weights: np.ndarray
+    probe_stencils: ProbeStencils
     probe_time_constants: np.ndarray
     tables: CellTables
 
@@ -433,44 +433,25 @@ class _Builder:
             "friction_labels": (),
         }
 
-    def probes(self) -> dict:
-        cells, weights = [], []
+    def probes(self, faces: list[dict], in_gap: set[int]) -> dict:
+        """Probe names, stencils and time constants; ``faces`` are the exposed faces in order,
+        ``in_gap`` the ids of those that radiate across a void (read as held flat)."""
         names = {p.name: k for k, p in enumerate(self.assembly.parts)}
-        for probe in self.assembly.probes:
-            owner = names[self.assembly.owner_of(probe).name]
-            c, w = self._probe_stencil(owner, probe.r, probe.z)
-            cells.append(c)
-            weights.append(w)
-        n = len(cells)
+        sides = SideFaces(
+            cell_index=self.ci,
+            part_map=self.pm,
+            r_centres=self.rc,
+            z_centres=self.zc,
+            r_edges=self.re,
+            z_edges=self.ze,
+            face_of={(f["cell"], f["side"]): k for k, f in enumerate(faces) if id(f) not in in_gap},
+        )
+        located = [(names[self.assembly.owner_of(p).name], p.r, p.z) for p in self.assembly.probes]
         return {
             "probe_names": tuple(p.name for p in self.assembly.probes),
-            "probe_cells": np.array(cells, dtype=int).reshape(n, 4),
-            "probe_weights": np.array(weights, dtype=float).reshape(n, 4),
+            "probe_stencils": probe_stencils(sides, located),
             "probe_time_constants": np.array([p.time_constant for p in self.assembly.probes]),
         }
-
-    def _probe_stencil(self, part: int, r: float, z: float) -> tuple[list[int], list[float]]:
-        """Bilinear weights between the centres of the owning part's cells (held flat at its edges)."""
-        cols = np.flatnonzero(np.any(self.pm == part, axis=0))
-        rows = np.flatnonzero(np.any(self.pm == part, axis=1))
-        ia, ib, wr = _bracket(self.rc[cols], r)
-        ja, jb, wz = _bracket(self.zc[rows], z)
-        ia, ib, ja, jb = cols[ia], cols[ib], rows[ja], rows[jb]
-        ci = self.ci
-        cells = [ci[ja, ia], ci[ja, ib], ci[jb, ia], ci[jb, ib]]
-        weights = [(1 - wr) * (1 - wz), wr * (1 - wz), (1 - wr) * wz, wr * wz]
-        return [int(c) for c in cells], weights
-
-
-def _bracket(centres: np.ndarray, x: float) -> tuple[int, int, float]:
-    """Indices of the centres around ``x`` and the linear weight of the upper one."""
-    if x <= centres[0]:
-        return 0, 0, 0.0
-    if x >= centres[-1]:
-        last = centres.size - 1
-        return last, last, 0.0
-    k = int(np.searchsorted(centres, x)) - 1
-    return k, k + 1, float((x - centres[k]) / (centres[k + 1] - centres[k]))
 
 
 def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Material] | None = None) -> Network:
@@ -552,7 +533,7 @@ def build_network(assembly: Assembly, grid: Grid, materials: Mapping[str, Materi
         groups=groups,
         **builder.friction(links),
         cell_group_masks=cell_group_masks,
-        **builder.probes(),
+        **builder.probes(open_faces, in_gap),
         tables=CellTables.of(tuple(m for m, _ in blocks), cell_material, face_cell, gap_a, gap_b),
     )
 

@@ -59,11 +59,12 @@ class Recorder:
         accounts : StepAccounts or None
             The step's energy accounts [J], added to the ledger totals (None at the start).
         face_ts : ndarray, shape (f,)
-            Exposed-face temperatures [K], area-averaged per surface group.
+            Exposed-face temperatures [K], area-averaged per surface group and read by
+            the probes next to a face.
         """
         net = self.net
         self.times.append(t)
-        self.probe_values.append(np.sum(T[net.probe_cells] * net.probe_weights, axis=1))
+        self.probe_values.append(net.probe_stencils.evaluate(T, face_ts))
         for group, cells, group_mass in self.cell_groups:
             for statistic, name in zip(group.statistics, group.series_names, strict=True):
                 if statistic == "mean":

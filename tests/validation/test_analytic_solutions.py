@@ -5,8 +5,9 @@ error functions, Bessel functions and eigenvalues found with scipy), never from 
 output. The source of each check is named beside it; equation numbers marked "from
 memory" were quoted without the book at hand.
 
-Time integration is backward Euler (first order), so each transient test uses a fixed
-step small against the time scale of the check; the step is stated in the test.
+Every transient check runs twice with the same tolerance (tests/validation/settings.py): at
+a fixed step small against the time scale of the check (stated in the test), and at the
+default solver settings a user gets (``-k defaults`` selects those).
 Cell-centre values are compared with the solution at the cell centre; where a surface
 temperature is needed it is reconstructed from the outermost cell with the standard
 finite-volume half-cell resistance (stated where used).
@@ -31,6 +32,7 @@ from analytic import (
     series_wall_heat_rate,
 )
 from scipy.special import j0, j1
+from settings import at_both_settings, solver_options
 
 from heatstack import (
     Assembly,
@@ -93,7 +95,7 @@ SEMI = {
 
 
 @pytest.fixture(scope="module")
-def semi_infinite_run():
+def semi_infinite_run(setting):
     """Two identical thick steel slabs rubbing at z = 0 under constant power, adiabatic elsewhere.
 
     One radial cell and adiabatic radial faces make the problem 1-D; uniform-wear
@@ -122,10 +124,11 @@ def semi_infinite_run():
         phases=[Phase("brake", 0.0, end, {"*": ADIABATIC}, clamped=True)],
         extra_breakpoints=p["times"],
     )
-    result = model.run(schedule, initial_temperature=300.0, options=SolverOptions(fixed_step=p["dt"]))
+    result = model.run(schedule, initial_temperature=300.0, options=solver_options(setting, p["dt"]))
     return model, result, power
 
 
+@at_both_settings()
 def test_semi_infinite_surface_rise_under_constant_flux(semi_infinite_run):
     # Carslaw & Jaeger, Conduction of Heat in Solids, 2nd ed., sec. 2.9 (from memory);
     # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 5.59 at x = 0 (from memory):
@@ -142,6 +145,7 @@ def test_semi_infinite_surface_rise_under_constant_flux(semi_infinite_run):
         assert rise == pytest.approx(exact, rel=0.01)
 
 
+@at_both_settings()
 def test_semi_infinite_temperature_below_surface(semi_infinite_run):
     # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 5.59 (from memory);
     # Carslaw & Jaeger, 2nd ed., sec. 2.9 (from memory): the full depth profile at t = 20 s,
@@ -161,6 +165,7 @@ def test_semi_infinite_temperature_below_surface(semi_infinite_run):
     assert np.max(np.abs(numeric[keep] - exact[keep])) <= 0.01 * surface
 
 
+@at_both_settings()
 def test_semi_infinite_far_face_stays_at_initial_temperature(semi_infinite_run):
     # The premise of the semi-infinite model (Incropera, 6th ed., sec. 5.7, from memory):
     # the far face, 0.1 m deep, must not have warmed by more than 0.1 % of the surface rise.
@@ -170,6 +175,7 @@ def test_semi_infinite_far_face_stays_at_initial_temperature(semi_infinite_run):
     assert np.max(result.probes["far face"]) - 300.0 < 1e-3 * surface
 
 
+@at_both_settings()
 def test_identical_slabs_split_friction_heat_in_half(semi_infinite_run):
     # Carslaw & Jaeger, Conduction of Heat in Solids, 2nd ed., sec. 2.9 (from memory): the flux
     # into two semi-infinite solids divides in the ratio of their effusivities sqrt(k rho c);
@@ -186,7 +192,7 @@ DISSIMILAR_DZ = 0.5e-3
 
 
 @pytest.fixture(scope="module")
-def dissimilar_run():
+def dissimilar_run(setting):
     """As ``semi_infinite_run`` with a bronze-like stator (k = 100, rho = 8800, c = 400) on the steel rotor.
 
     dz = 0.5 mm: the surface reconstruction from the first cell of each side is the
@@ -219,11 +225,12 @@ def dissimilar_run():
         power=PowerHistory(np.array([0.0, end]), np.array([power, power])),
         phases=[Phase("brake", 0.0, end, {"*": ADIABATIC}, clamped=True)],
     )
-    result = model.run(schedule, initial_temperature=300.0, options=SolverOptions(fixed_step=p["dt"]))
+    result = model.run(schedule, initial_temperature=300.0, options=solver_options(setting, p["dt"]))
     effusivity = {"rotor": np.sqrt(50.0 * 7800.0 * 500.0), "stator": np.sqrt(100.0 * 8800.0 * 400.0)}
     return result, power, effusivity
 
 
+@at_both_settings()
 def test_dissimilar_slabs_split_friction_heat_by_effusivity(dissimilar_run):
     # Carslaw & Jaeger, Conduction of Heat in Solids, 2nd ed., sec. 2.9 (from memory): two
     # semi-infinite solids heated at their plane of contact take the flux in the ratio of
@@ -235,6 +242,7 @@ def test_dissimilar_slabs_split_friction_heat_by_effusivity(dissimilar_run):
     assert split[0] / total == pytest.approx(e["rotor"] / (e["rotor"] + e["stator"]), rel=1e-9)
 
 
+@at_both_settings()
 def test_dissimilar_slabs_share_the_interface_temperature(dissimilar_run):
     # Carslaw & Jaeger, 2nd ed., sec. 2.9 (from memory): both solids then have the same surface
     # rise 2 q_total sqrt(t) / (sqrt(pi) (e1 + e2)). Each side's surface temperature from its
@@ -269,14 +277,14 @@ WALL = {
 
 
 @pytest.fixture(scope="module")
-def plane_wall_run():
+def plane_wall_run(setting):
     p = WALL
     material = simple_material("wall", density=p["rho"], specific_heat=p["cp"], conductivity=p["k"])
     assembly = Assembly(parts=[Part("slab", "wall", 0.50, 0.51, 0.0, p["L"])])
     model = Model.build(assembly, cell_size=(0.01, p["L"] / p["cells"]), min_cells=1, materials={"wall": material})
     laws = {"*": ADIABATIC, "slab:top": FixedConvection(p["h"], p["T_inf"], radiation=False)}
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, p["times"][-1], laws)])
-    options = SolverOptions(fixed_step=p["dt"], snapshot_times=p["times"])
+    options = solver_options(setting, p["dt"], snapshot_times=p["times"])
     result = model.run(schedule, initial_temperature=p["Ti"], options=options)
     return model, result
 
@@ -288,16 +296,17 @@ def _wall_exact(x_star, t):
     return p["T_inf"] + (p["Ti"] - p["T_inf"]) * plane_wall_theta(x_star, alpha * t / p["L"] ** 2, biot)
 
 
+@at_both_settings(defaults_miss="1.21 K at t = 160 s against 0.5 K")
 def test_plane_wall_centre_temperature_matches_series(plane_wall_run):
     # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eqs. 5.39a-c (from memory);
     # Carslaw & Jaeger, 2nd ed., sec. 3.11 (from memory). Bi = 1, Fo = 0.1 ... 2;
     # tolerance 0.5 K. The centre is read from the cell next to the symmetry plane.
     _, result = plane_wall_run
-    for t in WALL["times"]:
-        centre = result.snapshot(t)[0, 0]
-        assert abs(centre - _wall_exact(0.0, t)[0]) <= 0.5, t
+    miss = {t: abs(result.snapshot(t)[0, 0] - _wall_exact(0.0, t)[0]) for t in WALL["times"]}
+    assert max(miss.values()) <= 0.5, miss
 
 
+@at_both_settings(defaults_miss="0.79 K at t = 160 s against 0.5 K")
 def test_plane_wall_surface_temperature_matches_series(plane_wall_run):
     # Incropera, 6th ed., eqs. 5.39a-c at x* = 1 (from memory). Tolerance 0.5 K.
     # Surface temperature from the top cell and the half-cell resistance dz / (2 k) in
@@ -305,19 +314,21 @@ def test_plane_wall_surface_temperature_matches_series(plane_wall_run):
     model, result = plane_wall_run
     p = WALL
     dz = np.diff(model.grid.z_edges)[-1]
+    miss = {}
     for t in p["times"]:
         top = result.snapshot(t)[-1, 0]
         surface = (top * 2.0 * p["k"] / dz + p["h"] * p["T_inf"]) / (2.0 * p["k"] / dz + p["h"])
-        assert abs(surface - _wall_exact(1.0, t)[0]) <= 0.5, t
+        miss[t] = abs(surface - _wall_exact(1.0, t)[0])
+    assert max(miss.values()) <= 0.5, miss
 
 
+@at_both_settings(defaults_miss="1.21 K at t = 160 s against 0.5 K")
 def test_plane_wall_profile_matches_series(plane_wall_run):
     # Incropera, 6th ed., eq. 5.39a at every cell centre (from memory). Tolerance 0.5 K.
     model, result = plane_wall_run
     x_star = model.grid.z_centres / WALL["L"]
-    for t in WALL["times"]:
-        column = result.snapshot(t)[:, 0]
-        assert np.max(np.abs(column - _wall_exact(x_star, t))) <= 0.5, t
+    miss = {t: np.max(np.abs(result.snapshot(t)[:, 0] - _wall_exact(x_star, t))) for t in WALL["times"]}
+    assert max(miss.values()) <= 0.5, miss
 
 
 # --------------------------------------------------------------------------- 3. long solid cylinder
@@ -337,7 +348,7 @@ ROD = {
 
 
 @pytest.fixture(scope="module")
-def cylinder_run():
+def cylinder_run(setting):
     """A solid cylinder from the axis (r_inner = 0), adiabatic ends: a long cylinder."""
     p = ROD
     material = simple_material("rod", density=p["rho"], specific_heat=p["cp"], conductivity=p["k"])
@@ -345,7 +356,7 @@ def cylinder_run():
     model = Model.build(assembly, cell_size=(p["ro"] / p["cells"], 0.01), min_cells=1, materials={"rod": material})
     laws = {"*": ADIABATIC, "rod:outer": FixedConvection(p["h"], p["T_inf"], radiation=False)}
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, p["times"][-1], laws)])
-    options = SolverOptions(fixed_step=p["dt"], snapshot_times=p["times"])
+    options = solver_options(setting, p["dt"], snapshot_times=p["times"])
     result = model.run(schedule, initial_temperature=p["Ti"], options=options)
     return model, result
 
@@ -357,16 +368,17 @@ def _rod_exact(r_star, t):
     return p["T_inf"] + (p["Ti"] - p["T_inf"]) * cylinder_theta(r_star, alpha * t / p["ro"] ** 2, biot)
 
 
+@at_both_settings(defaults_miss="1.37 K at t = 160 s against 0.5 K")
 def test_cylinder_axis_temperature_matches_bessel_series(cylinder_run):
     # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eqs. 5.49a-c (from memory);
     # Carslaw & Jaeger, 2nd ed., sec. 7.7 (from memory). Bi = 1; tolerance 0.5 K.
     # The axis value is read from the cell touching the axis.
     _, result = cylinder_run
-    for t in ROD["times"]:
-        axis = result.snapshot(t)[0, 0]
-        assert abs(axis - _rod_exact(0.0, t)[0]) <= 0.5, t
+    miss = {t: abs(result.snapshot(t)[0, 0] - _rod_exact(0.0, t)[0]) for t in ROD["times"]}
+    assert max(miss.values()) <= 0.5, miss
 
 
+@at_both_settings(defaults_miss="0.88 K at t = 160 s against 0.5 K")
 def test_cylinder_surface_temperature_matches_bessel_series(cylinder_run):
     # Incropera, 6th ed., eqs. 5.49a-c at r* = 1 (from memory). Tolerance 0.5 K.
     # Surface temperature from the outer cell and its radial half-cell resistance
@@ -376,19 +388,21 @@ def test_cylinder_surface_temperature_matches_bessel_series(cylinder_run):
     r_n = model.grid.r_centres[-1]
     r_half = np.log(p["ro"] / r_n) / (2.0 * np.pi * p["k"])
     r_film = 1.0 / (2.0 * np.pi * p["ro"] * p["h"])
+    miss = {}
     for t in p["times"]:
         outer = result.snapshot(t)[0, -1]
         surface = (outer / r_half + p["T_inf"] / r_film) / (1.0 / r_half + 1.0 / r_film)
-        assert abs(surface - _rod_exact(1.0, t)[0]) <= 0.5, t
+        miss[t] = abs(surface - _rod_exact(1.0, t)[0])
+    assert max(miss.values()) <= 0.5, miss
 
 
+@at_both_settings(defaults_miss="1.37 K at t = 160 s against 0.5 K")
 def test_cylinder_radial_profile_matches_bessel_series(cylinder_run):
     # Incropera, 6th ed., eq. 5.49a at every cell centre (from memory). Tolerance 0.5 K.
     model, result = cylinder_run
     r_star = model.grid.r_centres / ROD["ro"]
-    for t in ROD["times"]:
-        row = result.snapshot(t)[0, :]
-        assert np.max(np.abs(row - _rod_exact(r_star, t))) <= 0.5, t
+    miss = {t: np.max(np.abs(result.snapshot(t)[0, :] - _rod_exact(r_star, t))) for t in ROD["times"]}
+    assert max(miss.values()) <= 0.5, miss
 
 
 # --------------------------------------------------------------------------- 4. steady annulus
@@ -397,7 +411,7 @@ ANNULUS = {"k": 50.0, "r1": 0.05, "r2": 0.15, "H": 0.02, "T1": 500.0, "T2": 300.
 
 
 @pytest.fixture(scope="module")
-def annulus_run():
+def annulus_run(setting):
     """Inner and outer faces held near T1 and T2 by h = 1e7 W/(m^2 K); ends adiabatic.
 
     Run to steady state with fixed 500 s steps over 2e4 s (the slowest time constant is
@@ -418,10 +432,11 @@ def annulus_run():
         "ring:outer": FixedConvection(p["h"], p["T2"], radiation=False),
     }
     schedule = Schedule(PowerHistory.none(), [Phase("hold", 0.0, 2e4, laws)])
-    result = model.run(schedule, initial_temperature=400.0, options=SolverOptions(fixed_step=500.0))
+    result = model.run(schedule, initial_temperature=400.0, options=solver_options(setting, 500.0))
     return model, result
 
 
+@at_both_settings()
 def test_annulus_steady_heat_rate_matches_log_resistance(annulus_run):
     # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eqs. 3.27-3.28 (from memory):
     # q = (T1 - T2) / (ln(r2 / r1) / (2 pi k L)). Tolerance 0.5 %.
@@ -437,6 +452,7 @@ def test_annulus_steady_heat_rate_matches_log_resistance(annulus_run):
     assert np.max(np.abs(q / exact - 1.0)) <= 0.005
 
 
+@at_both_settings()
 def test_annulus_steady_profile_is_logarithmic(annulus_run):
     # Incropera, 6th ed., eq. 3.26 (from memory): T(r) = T1 + (T2 - T1) ln(r / r1) / ln(r2 / r1)
     # at the cell centres. Tolerance 0.05 K (0.025 % of T1 - T2); the films of h = 1e7 alone
@@ -471,7 +487,8 @@ def _mean_temperature(result, snapshot):
     return float(np.nansum(volumes * snapshot) / np.sum(volumes[~np.isnan(snapshot)]))
 
 
-def test_lumped_cooling_by_convection_is_exponential():
+@at_both_settings(defaults_miss="9.6 % of T - T_inf at 3 time constants against 0.5 %")
+def test_lumped_cooling_by_convection_is_exponential(setting):
     # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 5.6 (from memory):
     # (T - T_inf) / (Ti - T_inf) = exp(-h A t / (rho V c)). Bi ~ 2e-4. Checked at 1, 2 and 3
     # time constants; tolerance 0.5 % of T - T_inf; dt = tau / 1000 (first-order time error
@@ -484,13 +501,16 @@ def test_lumped_cooling_by_convection_is_exponential():
         PowerHistory.none(),
         [Phase("cool", 0.0, times[-1], {"*": FixedConvection(h, t_inf, radiation=False)})],
     )
-    result = model.run(schedule, t_i, SolverOptions(fixed_step=tau / 1000.0, snapshot_times=times))
+    result = model.run(schedule, t_i, solver_options(setting, tau / 1000.0, snapshot_times=times))
+    relative_miss = {}
     for t in times:
         theta = (_mean_temperature(result, result.snapshot(t)) - t_inf) / (t_i - t_inf)
-        assert theta == pytest.approx(lumped_convection_theta(t, h, area, capacity), rel=0.005), t
+        relative_miss[t] = abs(theta / lumped_convection_theta(t, h, area, capacity) - 1.0)
+    assert max(relative_miss.values()) <= 0.005, relative_miss
 
 
-def test_lumped_cooling_by_radiation_to_surroundings():
+@at_both_settings(defaults_miss="1.6 % of T - Tsur at t = 1500 s against 0.5 %")
+def test_lumped_cooling_by_radiation_to_surroundings(setting):
     # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 5.18 (from memory):
     # closed form t(T) for radiation alone to surroundings at Tsur = 300 K, inverted with brentq.
     # 1000 K down to about 400 K over 1500 s; tolerance 0.5 % of T - Tsur; dt = 0.5 s.
@@ -499,14 +519,16 @@ def test_lumped_cooling_by_radiation_to_surroundings():
     times = (250.0, 750.0, 1500.0)
     law = FixedConvection(0.0, 300.0, surroundings_temperature=t_sur, radiation=True)
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, times[-1], {"*": law})])
-    result = model.run(schedule, t_i, SolverOptions(fixed_step=0.5, snapshot_times=times))
+    result = model.run(schedule, t_i, solver_options(setting, 0.5, snapshot_times=times))
+    relative_miss = {}
     for t in times:
         exact = invert_time(lambda x: lumped_radiation_time(x, t_i, t_sur, eps, area, capacity), t, t_sur + 1e-6, t_i)
-        numeric = _mean_temperature(result, result.snapshot(t))
-        assert abs(numeric - exact) <= 0.005 * (exact - t_sur), t
+        relative_miss[t] = abs(_mean_temperature(result, result.snapshot(t)) - exact) / (exact - t_sur)
+    assert max(relative_miss.values()) <= 0.005, relative_miss
 
 
-def test_lumped_cooling_by_radiation_to_cold_space():
+@at_both_settings()
+def test_lumped_cooling_by_radiation_to_cold_space(setting):
     # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 5.19 (from memory):
     # Tsur = 0: t = rho V c / (3 eps A sigma) (1/T^3 - 1/Ti^3). The engine needs Tsur > 0; at
     # Tsur = 1e-3 K the Tsur^4 term is 1e-24 of T^4. Tolerance 0.5 % of T; dt = 0.5 s.
@@ -515,13 +537,36 @@ def test_lumped_cooling_by_radiation_to_cold_space():
     times = (250.0, 750.0, 1500.0)
     law = FixedConvection(0.0, 300.0, surroundings_temperature=1e-3, radiation=True)
     schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, times[-1], {"*": law})])
-    result = model.run(schedule, t_i, SolverOptions(fixed_step=0.5, snapshot_times=times))
+    result = model.run(schedule, t_i, solver_options(setting, 0.5, snapshot_times=times))
     for t in times:
         exact = invert_time(lambda x: lumped_radiation_time_to_zero_kelvin(x, t_i, eps, area, capacity), t, 1.0, t_i)
         numeric = _mean_temperature(result, result.snapshot(t))
         assert abs(numeric - exact) <= 0.005 * exact, t
     # the body must have cooled substantially for the check to mean something
     assert exact < 0.5 * t_i
+
+
+TAIL_TARGETS = (350.0, 310.0, 303.0, 301.0)  # K, with surroundings at 300 K
+
+
+@at_both_settings(defaults_miss="13 % of T - Tsur at 301 K against 0.5 %")
+def test_slow_radiative_tail_to_near_the_surroundings(setting):
+    # Incropera, Fundamentals of Heat and Mass Transfer, 6th ed., eq. 5.18 (from memory): a lumped
+    # body radiating alone from 800 K to surroundings at 300 K, checked where it has come to 50,
+    # 10, 3 and 1 K above them (the times from the closed form t(T)). The tail's time constant
+    # rho V c / (4 eps A sigma Tsur^3) is 2340 s, and the last check is at 11,100 s.
+    # Tolerance 0.5 % of T - Tsur; fixed step 2 s.
+    model, volume, area, capacity = _pellet_model()
+    t_i, t_sur, eps = 800.0, 300.0, PELLET["emissivity"]
+    times = tuple(float(lumped_radiation_time(x, t_i, t_sur, eps, area, capacity)) for x in TAIL_TARGETS)
+    law = FixedConvection(0.0, 300.0, surroundings_temperature=t_sur, radiation=True)
+    schedule = Schedule(PowerHistory.none(), [Phase("cool", 0.0, times[-1], {"*": law})])
+    result = model.run(schedule, t_i, solver_options(setting, 2.0, snapshot_times=times))
+    relative_miss = {
+        exact: abs(_mean_temperature(result, result.snapshot(t)) - exact) / (exact - t_sur)
+        for t, exact in zip(times, TAIL_TARGETS, strict=True)
+    }
+    assert max(relative_miss.values()) <= 0.005, relative_miss
 
 
 # --------------------------------------------------------------------------- 6. contact conductance
@@ -541,7 +586,7 @@ JOINT = {
 }
 
 
-def _joint_run(clamped: float, released: float | None, brake_applied: bool):
+def _joint_run(clamped: float, released: float | None, brake_applied: bool, setting: str):
     """Two slabs in series through a contact, convection on the outer ends; steady state.
 
     Fixed 100 s steps over 1e4 s; the slowest time constant is below 100 s.
@@ -565,7 +610,7 @@ def _joint_run(clamped: float, released: float | None, brake_applied: bool):
         "cold:top": FixedConvection(p["h_cold"], p["T_cold"], radiation=False),
     }
     schedule = Schedule(PowerHistory.none(), [Phase("hold", 0.0, 1e4, laws, clamped=brake_applied)])
-    result = model.run(schedule, 400.0, SolverOptions(fixed_step=100.0))
+    result = model.run(schedule, 400.0, solver_options(setting, 100.0))
     return model, result
 
 
@@ -598,20 +643,22 @@ def _joint_heat_rates(model, result) -> np.ndarray:
     return np.concatenate((q_hot, q_cold))
 
 
-def test_contact_joint_steady_flux_matches_series_resistances():
+@at_both_settings()
+def test_contact_joint_steady_flux_matches_series_resistances(setting):
     # Incropera, 6th ed., eqs. 3.19-3.20 (from memory); h_c = 2000 W/(m^2 K), about 6 % of the
     # total resistance. Tolerance 0.5 %, on every cell pair of both slabs.
-    model, result = _joint_run(clamped=2000.0, released=None, brake_applied=False)
+    model, result = _joint_run(clamped=2000.0, released=None, brake_applied=False, setting=setting)
     q = _joint_heat_rates(model, result)
     assert np.max(np.abs(q / _joint_exact(2000.0) - 1.0)) <= 0.005
 
 
-def test_contact_joint_temperature_jump_is_flux_over_conductance():
+@at_both_settings()
+def test_contact_joint_temperature_jump_is_flux_over_conductance(setting):
     # Incropera, 6th ed., eq. 3.20 (from memory): T_A - T_B = q'' / h_c across the joint.
     # Face temperatures from the two cells touching the joint and their half-cell
     # resistances dz / (2 k). Tolerance 0.5 % of the jump.
     p = JOINT
-    model, result = _joint_run(clamped=2000.0, released=None, brake_applied=False)
+    model, result = _joint_run(clamped=2000.0, released=None, brake_applied=False, setting=setting)
     column = result.snapshots[-1][:, 0]
     z = model.grid.z_centres
     area = np.pi * (p["r2"] ** 2 - p["r1"] ** 2)
@@ -623,20 +670,22 @@ def test_contact_joint_temperature_jump_is_flux_over_conductance():
     assert t_a - t_b == pytest.approx(q_flux / 2000.0, rel=0.005)
 
 
-def test_contact_uses_released_conductance_when_brake_is_off():
+@at_both_settings()
+def test_contact_uses_released_conductance_when_brake_is_off(setting):
     # Same reference (Incropera, 6th ed., eqs. 3.19-3.20, from memory) with the released
     # conductance 2000 W/(m^2 K) while the clamped one is 8000: a phase with clamped=False
     # must use the released value. The two heat rates differ by about 4.5 %, far beyond
     # the 0.5 % tolerance.
-    model, result = _joint_run(clamped=8000.0, released=2000.0, brake_applied=False)
+    model, result = _joint_run(clamped=8000.0, released=2000.0, brake_applied=False, setting=setting)
     q = _joint_heat_rates(model, result)
     assert abs(_joint_exact(8000.0) / _joint_exact(2000.0) - 1.0) > 0.03
     assert np.max(np.abs(q / _joint_exact(2000.0) - 1.0)) <= 0.005
 
 
-def test_contact_uses_clamped_conductance_when_brake_is_on():
+@at_both_settings()
+def test_contact_uses_clamped_conductance_when_brake_is_on(setting):
     # As above with the phase clamped: the clamped conductance 8000 W/(m^2 K) applies.
-    model, result = _joint_run(clamped=8000.0, released=2000.0, brake_applied=True)
+    model, result = _joint_run(clamped=8000.0, released=2000.0, brake_applied=True, setting=setting)
     q = _joint_heat_rates(model, result)
     assert np.max(np.abs(q / _joint_exact(8000.0) - 1.0)) <= 0.005
 
@@ -647,7 +696,7 @@ def test_contact_uses_clamped_conductance_when_brake_is_on():
 def test_probe_reads_only_its_own_part():
     # A probe in a thin 2-cell part next to a part 700 K hotter must read its own part's
     # temperature (interpolation between the owning part's cell centres only, held flat
-    # at the part's edges), not a blend across the boundary. The parts are joined by a
+    # up to a face in contact with another part), not a blend across the boundary. The parts are joined by a
     # contact of 1e-6 W/(m^2 K) so they keep their initial temperatures over the 1 s run.
     material = simple_material("plain", density=7800.0, specific_heat=500.0, conductivity=50.0)
     assembly = Assembly(

@@ -16,12 +16,29 @@ conductances that change when the brake is released, and (in the first case) a t
 steel heat shield outside the stack that exchanges radiation with it across a void.
 A 40 s pulse of linearly falling power (500 kW to 0, 10 MJ) is followed by 3 h of
 cooling by convection (h = 15 W/(m^2 K)) and radiation to 300 K on every exposed face.
+
+Closure alone cannot see a wrong flux that is applied consistently (a doubled h both
+cools the stack and is booked as convected). So the convected and radiated accounts are
+also compared with independent integrals over the recorded surface temperatures (the
+area-mean temperature of each exposed side, ``series["surface:<part>:<side>"]``), with
+h, the emissivities and the areas taken from the case itself, not from the engine:
+
+    convected = integral of sum_sides h A (Ts - T_amb) dt
+    radiated  = integral of sum_sides eps(Ts) sigma A (Ts^4 - Tsur^4) dt
+
+(Newton's law of cooling and the grey-body exchange with large surroundings: Incropera,
+6th ed., eqs. 1.3a and 1.7, from memory). The integral over the record is taken by the
+trapezoidal rule; how a scheme distributes the flux inside a step is then uncertain by
+half the difference of the left and right rectangle sums, which is part of the
+tolerance. Both run at a fixed 10 s step and at the default settings
+(tests/validation/settings.py).
 """
 
 from __future__ import annotations
 
 import numpy as np
 import pytest
+from settings import at_both_settings, solver_options
 
 from heatstack import (
     Assembly,
@@ -165,3 +182,86 @@ def test_stored_energy_equals_enthalpy_of_final_field(large_step_run):
     assert abs(stored - result.ledger.stored[-1]) <= 1e-9 * ENERGY
     # and the check is not trivial: the stack still holds tens of kJ
     assert stored > 1e4
+
+
+# --------------------------------------------------------------------------- independent flux integrals
+
+SIGMA = 5.670374419e-8  # W/(m^2 K^4), CODATA 2018 (exact in the SI)
+H_CONVECTION, T_AIR = 15.0, 300.0  # the law of _schedule()
+FLUX_STEP = 10.0  # s, the fixed step
+
+
+def _side_area(part: Part, side: str) -> float:
+    """Area [m^2] of one exposed side of an annular part (full circumference)."""
+    if side in ("inner", "outer"):
+        radius = part.r_inner if side == "inner" else part.r_outer
+        return 2.0 * np.pi * radius * (part.z_max - part.z_min)
+    return np.pi * (part.r_outer**2 - part.r_inner**2)
+
+
+def _faces_a_gap(part: Part, side: str) -> bool:
+    """The stack's outer sides and the shield's inner side face each other across the 5 mm
+    void: they radiate to each other (internal), not to the surroundings."""
+    return side == ("inner" if part.name == "shield" else "outer")
+
+
+@pytest.fixture(scope="module")
+def flux_run(setting):
+    """The shipped case (with the heat shield) at a fixed 10 s step or at the default settings."""
+    assembly = _stack("carbon-carbon", heat_shield=True)
+    model = Model.build(assembly, cell_size=0.005, materials={"shield-steel": STEEL})
+    result = model.run(_schedule(), initial_temperature=300.0, options=solver_options(setting, FLUX_STEP))
+    return assembly, result
+
+
+def _surface_fluxes(assembly: Assembly, result) -> tuple[np.ndarray, np.ndarray]:
+    """Convective and radiative heat rates [W] to the surroundings at every record time."""
+    parts = {p.name: p for p in assembly.parts}
+    carbon = load_material("carbon-carbon")
+    convective = np.zeros(result.times.size)
+    radiative = np.zeros(result.times.size)
+    sides = [key.split(":")[1:] for key in result.series if key.startswith("surface:")]
+    assert len(sides) == 16  # 5 discs x (inner, outer) + their two ends + the shield's four sides
+    for name, side in sides:
+        part, ts = parts[name], result.series[f"surface:{name}:{side}"]
+        area = _side_area(part, side)
+        convective += H_CONVECTION * area * (ts - T_AIR)
+        if not _faces_a_gap(part, side):
+            emissivity = (STEEL if name == "shield" else carbon).emissivity(ts)
+            radiative += emissivity * SIGMA * area * (ts**4 - T_AIR**4)
+    return convective, radiative
+
+
+def _integral_and_band(times: np.ndarray, rate: np.ndarray) -> tuple[float, float]:
+    """Trapezoidal integral [J] and half the spread of the left and right rectangle sums [J]."""
+    steps = np.diff(times)
+    left, right = float(np.sum(steps * rate[:-1])), float(np.sum(steps * rate[1:]))
+    return 0.5 * (left + right), 0.5 * abs(right - left)
+
+
+@at_both_settings()
+def test_convected_energy_is_integral_of_h_area_surface_excess(flux_run):
+    # Newton's law of cooling, Incropera 6th ed., eq. 1.3a (from memory), integrated over the
+    # recorded side temperatures. h is uniform on every side, so the area mean of a side is
+    # exact for it: tolerance the quadrature band plus 1e-4 of the account.
+    assembly, result = flux_run
+    convective, _ = _surface_fluxes(assembly, result)
+    independent, band = _integral_and_band(result.times, convective)
+    booked = result.ledger.convected[-1]
+    assert booked > 0.3 * ENERGY  # convection carries a large share of the 10 MJ
+    assert abs(booked - independent) <= band + 1e-4 * booked, (booked, independent, band)
+
+
+@at_both_settings()
+def test_radiated_energy_is_integral_of_grey_exchange(flux_run):
+    # Grey surface in large surroundings, Incropera 6th ed., eq. 1.7 (from memory), integrated
+    # over the recorded side temperatures, emissivities from the material tables at those
+    # temperatures. The fourth power of a side's mean temperature is below the mean of the
+    # fourth powers (3.3e-4 of the account measured at 1 s steps): tolerance the quadrature
+    # band plus 1e-3 of the account.
+    assembly, result = flux_run
+    _, radiative = _surface_fluxes(assembly, result)
+    independent, band = _integral_and_band(result.times, radiative)
+    booked = result.ledger.radiated[-1]
+    assert booked > 0.2 * ENERGY
+    assert abs(booked - independent) <= band + 1e-3 * booked, (booked, independent, band)
