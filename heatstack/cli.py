@@ -554,6 +554,7 @@ def _add_study_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units:
     study.add_argument("--plots", help="folder for the margin histogram and tornado (default: the store)")
     study.add_argument("--unit", choices=units, default="degC")
     study.add_argument("--force", action="store_true", help=_FORCE_HELP)
+    study.add_argument("--check", action="store_true", help="read and plan the study and its base case, run nothing")
     study.set_defaults(func=cmd_study)
 
 

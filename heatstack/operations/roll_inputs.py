@@ -18,6 +18,7 @@ from ..units import convert_declared, declared, quantity
 from . import atmosphere
 
 __all__ = [
+    "AIRCRAFT_MASS_RANGE",
     "BRAKING_LEVELS",
     "Aircraft",
     "Runway",
@@ -30,6 +31,10 @@ __all__ = [
 #: Our own names for target decelerations of the aircraft [m/s^2]; "maximum" is the
 #: friction limit and "none" no braking.
 BRAKING_LEVELS: dict[str, float] = {"gentle": 1.5, "medium": 2.0, "firm": 3.0, "hard": 4.0}
+
+#: Aircraft masses a ground roll is computed for [kg]: a light aircraft to well above the heaviest
+#: aircraft flown (about 640 t); outside, the roll has no meaning (common practice, no source).
+AIRCRAFT_MASS_RANGE = (100.0, 2.0e6)
 
 
 def non_negative(value: Any, dimension: str, field: str, positive: bool = False) -> float:
@@ -83,7 +88,8 @@ class Aircraft:
     Parameters
     ----------
     mass : float or str
-        Aircraft mass [kg], > 0.
+        Aircraft mass [kg], from :data:`AIRCRAFT_MASS_RANGE` (100 kg to 2000 t: below or above, the
+        ground roll has no meaning; common practice, no source).
     drag_area : float or str
         Drag coefficient times reference area on the ground, ``C_D S`` [m^2], >= 0.
     lift_area : float or str
@@ -113,7 +119,7 @@ class Aircraft:
         Share of the weight on the wheels carried by the braked wheels (0, 1].
     """
 
-    mass: float = declared("mass", positive=True)
+    mass: float = declared("mass", minimum=AIRCRAFT_MASS_RANGE[0], maximum=AIRCRAFT_MASS_RANGE[1])
     drag_area: float = declared("area", 0.0, minimum=0.0)
     lift_area: float = declared("area", 0.0, minimum=0.0)
     lift_area_dumped: float = declared("area", 0.0, minimum=0.0)
