@@ -19,6 +19,10 @@ from . import atmosphere
 
 __all__ = [
     "AIRCRAFT_MASS_RANGE",
+    "GROUND_SPEED_MAX",
+    "RUNWAY_AIR_TEMPERATURE_RANGE",
+    "RUNWAY_PRESSURE_ALTITUDE_RANGE",
+    "WIND_SPEED_MAX",
     "BRAKING_LEVELS",
     "Aircraft",
     "Runway",
@@ -35,6 +39,18 @@ BRAKING_LEVELS: dict[str, float] = {"gentle": 1.5, "medium": 2.0, "firm": 3.0, "
 #: Aircraft masses a ground roll is computed for [kg]: a light aircraft to well above the heaviest
 #: aircraft flown (about 640 t); outside, the roll has no meaning (common practice, no source).
 AIRCRAFT_MASS_RANGE = (100.0, 2.0e6)
+#: The fastest ground speed of a rolling wheel [m/s] (150 m/s, 292 kt): above every aircraft tyre's
+#: speed rating; beyond it no correlation or tyre model means anything (common practice, no source).
+GROUND_SPEED_MAX = 150.0
+#: The strongest wind (or headwind, or fan air speed) accepted [m/s]: above any sustained wind
+#: measured at the ground (common practice, no source).
+WIND_SPEED_MAX = 100.0
+#: Runway air temperatures accepted [K]: -90 degC to +70 degC, beyond the coldest and hottest air
+#: recorded at the ground (common practice, no source).
+RUNWAY_AIR_TEMPERATURE_RANGE = (183.15, 343.15)
+#: Runway pressure altitudes accepted [m]: from below the lowest to above the highest airfield
+#: (common practice, no source).
+RUNWAY_PRESSURE_ALTITUDE_RANGE = (-1000.0, 10000.0)
 
 
 def non_negative(value: Any, dimension: str, field: str, positive: bool = False) -> float:
@@ -225,17 +241,20 @@ class Conditions:
     Parameters
     ----------
     headwind : float or str
-        Headwind component [m/s]; a tailwind is negative.
+        Headwind component [m/s]; a tailwind is negative; at most :data:`WIND_SPEED_MAX` either way.
     pressure_altitude : float or str
-        Pressure altitude of the runway [m].
+        Pressure altitude of the runway [m], within :data:`RUNWAY_PRESSURE_ALTITUDE_RANGE`.
     air_temperature : float or str, optional
         Outside air temperature [K]; or ``temperature_offset`` (ISA + dT) [K]; ISA if neither.
+        Either way within :data:`RUNWAY_AIR_TEMPERATURE_RANGE` (-90 to +70 degC).
     temperature_offset : float or str, optional
         ISA deviation [K].
     """
 
-    headwind: float = declared("speed", 0.0)
-    pressure_altitude: float = declared("length", 0.0)
+    headwind: float = declared("speed", 0.0, minimum=-WIND_SPEED_MAX, maximum=WIND_SPEED_MAX)
+    pressure_altitude: float = declared(
+        "length", 0.0, minimum=RUNWAY_PRESSURE_ALTITUDE_RANGE[0], maximum=RUNWAY_PRESSURE_ALTITUDE_RANGE[1]
+    )
     air_temperature: float | None = declared("temperature", None, positive=True)
     temperature_offset: float | None = declared("temperature_difference", None)
 
@@ -245,6 +264,12 @@ class Conditions:
         temperature = atmosphere.air_temperature_at(
             self.pressure_altitude, self.air_temperature, self.temperature_offset
         )
+        low, high = RUNWAY_AIR_TEMPERATURE_RANGE
+        if not low <= temperature <= high:
+            raise InputError(
+                f"conditions: air_temperature: {temperature - 273.15:.4g} degC is outside the "
+                f"{low - 273.15:.0f} to {high - 273.15:.0f} degC of air at a runway"
+            )
         put(self, "air_temperature", temperature)
         put(self, "temperature_offset", None)
 
@@ -280,12 +305,12 @@ def brake_on_ground_speed(speed: Any, speed_kind: str, conditions: Conditions, f
     Raises
     ------
     InputError
-        If the speed is not positive, the kind is unknown, or the headwind leaves no positive
-        ground speed.
+        If the speed is not positive, the kind is unknown, the headwind leaves no positive
+        ground speed, or the ground speed is above :data:`GROUND_SPEED_MAX`.
     """
     value = non_negative(speed, "speed", field, positive=True)
     if speed_kind == "ground":
-        return value
+        return _at_most_ground_speed_max(value, field)
     if speed_kind == "true":
         tas = value
     elif speed_kind == "calibrated":
@@ -295,6 +320,15 @@ def brake_on_ground_speed(speed: Any, speed_kind: str, conditions: Conditions, f
     ground = float(atmosphere.ground_speed(tas, conditions.headwind))
     if ground <= 0:
         raise InputError(f"{field}: the headwind leaves a ground speed of {ground:.3g} m/s")
+    return _at_most_ground_speed_max(ground, field)
+
+
+def _at_most_ground_speed_max(ground: float, field: str) -> float:
+    if ground > GROUND_SPEED_MAX:
+        raise InputError(
+            f"{field}: a ground speed of {ground:.4g} m/s ({ground / 0.514444:.4g} kt) is above the "
+            f"{GROUND_SPEED_MAX:g} m/s ({GROUND_SPEED_MAX / 0.514444:.0f} kt) of any aircraft tyre"
+        )
     return ground
 
 
