@@ -539,3 +539,36 @@ def write_mutant(mutant: Mutant, folder: Path, kind: str) -> list[str]:
     path = folder / "study.toml"
     path.write_bytes(mutant.data)
     return ["study", str(path), "--check", "--store", str(folder / "store")]
+
+
+#: How the demo case is cut short for runs of mutants: a coarse grid and a few simulated minutes.
+SHORT_CASE_EDITS = (
+    ('cell_size = "4 mm"', 'cell_size = "12 mm"'),
+    ('duration = "3 h"', 'duration = "3 min"'),
+    ('duration = "5 min"', 'duration = "1 min"'),
+    ('snapshot_times = ["1 min", "15 min", "45 min"]', 'snapshot_times = ["1 min"]'),
+    ('cooling_below = "150 degC"', 'cooling_below = "30 degC"'),
+)
+
+
+def write_short_case(folder: Path) -> Path:
+    """The demo case on a 12 mm grid over a few simulated minutes (a run of a few seconds), in ``folder``.
+
+    Parameters
+    ----------
+    folder : Path
+        Where to write ``short.toml``.
+
+    Returns
+    -------
+    Path
+        The file written.
+    """
+    text = CASE_FILE.read_text(encoding="utf-8")
+    for old, new in SHORT_CASE_EDITS:
+        if old not in text:
+            raise ValueError(f"the demo case no longer holds {old!r}: update SHORT_CASE_EDITS")
+        text = text.replace(old, new)
+    path = folder / "short.toml"
+    path.write_text(text, encoding="utf-8")
+    return path

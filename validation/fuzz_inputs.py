@@ -2,7 +2,9 @@
 
 Each input is a mutated copy of ``examples/demo_rto.toml`` (checked with ``heatstack check``) or of
 ``examples/demo_study.toml`` (``heatstack study --check``, with the demo case as its base), made by
-``tests/fuzz_mutations.py`` (the module the suite's ``tests/unit/test_fuzz_inputs.py`` uses too).
+``tests/fuzz_mutations.py`` (the module the suite's ``tests/unit/test_fuzz_inputs.py`` uses too);
+then ``heatstack run`` on mutants of the demo cut short (12 mm grid, minutes) that ``check`` accepts,
+with four times the time bound (a run refused after ``check`` accepted it counts as unclear).
 The inputs run in a worker process that is killed and replaced when one input passes its time
 bound (a hang); the worker's address space is limited, so an absurd size ends in MemoryError, not
 in the machine's swap. Each outcome is classified (clear error, accepted, computation failure,
@@ -12,7 +14,7 @@ class but the first two, and last ``unhandled_per_10k: X`` (tracebacks plus hang
 Usage::
 
     python validation/fuzz_inputs.py                 # 10,000 case files and 2,000 study files
-    python validation/fuzz_inputs.py --cases 500 --studies 100 --seed 7 --timeout 20
+    python validation/fuzz_inputs.py --cases 500 --studies 100 --runs 20 --seed 7 --timeout 20
 
 Exit status: 0 when nothing was unhandled and nothing silently misread, else 1.
 """
@@ -39,6 +41,7 @@ from fuzz_mutations import (  # noqa: E402
     mutate,
     run_in_process,
     write_mutant,
+    write_short_case,
 )
 
 
@@ -118,11 +121,42 @@ def fuzz(kind: str, count: int, rng: random.Random, runner: Runner, timeout: flo
     return counts
 
 
+def fuzz_runs(count: int, rng: random.Random, runner: Runner, timeout: float, examples: dict) -> Counter:
+    """``heatstack run`` on ``count`` mutants of the short demo case that ``check`` accepts; the counts.
+
+    A mutant ``check`` refuses is skipped (up to 50 tries for each run); a run may end in exit 0
+    or a failed computation (exit 1, one line), but not in a traceback, a hang, or exit 2 (the
+    input refused after ``check`` accepted it: ``unclear_error`` here).
+    """
+    counts: Counter = Counter()
+    with tempfile.TemporaryDirectory(prefix="heatstack-fuzz-") as base:
+        source = write_short_case(Path(base))
+        for _ in range(count):
+            for _ in range(50):
+                mutant = mutate(source, rng, changes=1)
+                with tempfile.TemporaryDirectory(prefix="heatstack-fuzz-") as folder:
+                    argv = write_mutant(mutant, Path(folder), "case")
+                    checked = classify(*runner.run(argv), timeout, mutant.must_fail)
+                    if checked != "accepted":
+                        continue
+                    run = ["run", argv[1], "--out", str(Path(folder) / "run"), "--quiet", "--no-plots"]
+                    code, out, err, seconds = runner.run(run)
+                outcome = classify(code, out, err, seconds, timeout, "")
+                outcome = "unclear_error" if outcome == "clear_error" else outcome
+                counts[outcome] += 1
+                if outcome not in ("accepted", "failed") and len(examples.setdefault(outcome, [])) < 10:
+                    last = (err.strip().splitlines() or [""])[-1][:200]
+                    examples[outcome].append(f"[run] {'; '.join(mutant.steps)[:300]} -> {code}: {last}")
+                break
+    return counts
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the fuzzing campaign and print its figures; 0 when nothing was unhandled or misread."""
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--cases", type=int, default=10_000, help="mutated case files (default: %(default)s)")
     parser.add_argument("--studies", type=int, default=2_000, help="mutated study files (default: %(default)s)")
+    parser.add_argument("--runs", type=int, default=100, help="runs of accepted mutants (default: %(default)s)")
     parser.add_argument("--seed", type=int, default=2026, help="random seed (default: %(default)s)")
     parser.add_argument("--timeout", type=float, default=30.0, help="seconds an input may take (default: %(default)s)")
     parser.add_argument("--memory", type=float, default=4.0, help="worker address-space limit [GiB] (default: 4)")
@@ -135,14 +169,18 @@ def main(argv: list[str] | None = None) -> int:
     try:
         cases = fuzz("case", args.cases, rng, runner, args.timeout, examples)
         studies = fuzz("study", args.studies, rng, runner, args.timeout, examples)
+        runs = fuzz_runs(args.runs, rng, runner, 4 * args.timeout, examples)
     finally:
         runner.close()
-    total = cases + studies
-    inputs = args.cases + args.studies
-    print(f"fuzzed {args.cases} case files and {args.studies} study files in {time.perf_counter() - started:.0f} s")
-    print(f"{'outcome':16s} {'case':>7s} {'study':>7s}")
+    total = cases + studies + runs
+    inputs = args.cases + args.studies + sum(runs.values())
+    print(
+        f"fuzzed {args.cases} case files, {args.studies} study files and {sum(runs.values())} runs "
+        f"in {time.perf_counter() - started:.0f} s"
+    )
+    print(f"{'outcome':16s} {'check':>7s} {'study':>7s} {'run':>7s}")
     for outcome in OUTCOMES:
-        print(f"{outcome:16s} {cases[outcome]:7d} {studies[outcome]:7d}")
+        print(f"{outcome:16s} {cases[outcome]:7d} {studies[outcome]:7d} {runs[outcome]:7d}")
     for outcome, lines in examples.items():
         print(f"examples of {outcome}:")
         for line in lines:

@@ -24,6 +24,7 @@ from fuzz_mutations import (
     mutate,
     run_in_process,
     write_mutant,
+    write_short_case,
 )
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -96,27 +97,10 @@ def test_a_decimal_comma_gets_its_own_message(tmp_path, capsys):
     assert "decimal point" in line and "70.5" in line
 
 
-def _short_case(folder: Path) -> Path:
-    """The demo case on a coarse grid and a few simulated minutes: a run of a couple of seconds."""
-    text = CASE_FILE.read_text(encoding="utf-8")
-    for old, new in (
-        ('cell_size = "4 mm"', 'cell_size = "12 mm"'),
-        ('duration = "3 h"', 'duration = "3 min"'),
-        ('duration = "5 min"', 'duration = "1 min"'),
-        ('snapshot_times = ["1 min", "15 min", "45 min"]', 'snapshot_times = ["1 min"]'),
-        ('cooling_below = "150 degC"', 'cooling_below = "30 degC"'),
-    ):
-        assert old in text
-        text = text.replace(old, new)
-    path = folder / "short.toml"
-    path.write_text(text, encoding="utf-8")
-    return path
-
-
 def test_accepted_mutants_of_a_short_case_run_to_the_end_or_fail_in_one_line(tmp_path, no_layout_figure):
     import random
 
-    source = _short_case(tmp_path)
+    source = write_short_case(tmp_path)
     rng = random.Random(14)
     ran = []
     for _ in range(200):
