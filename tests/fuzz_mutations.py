@@ -302,7 +302,7 @@ def _structural(document: dict, rng: random.Random, steps: list[str]) -> None:
         if quantities:
             target = rng.choice(quantities)
             number, _, unit = _parent(document, target)[target[-1]].strip().partition(" ")
-            scaled = f"{number}e{rng.choice((-300, -30, -6, 6, 30, 300))} {unit}"
+            scaled = f"{number}e{rng.choice((-300, -30, -6, -3, -1, 1, 3, 6, 30, 300))} {unit}"
             _parent(document, target)[target[-1]] = scaled
             steps.append(f"{_text(target)} = {scaled!r}")
     elif kind == "rename" and isinstance(parent, dict):

@@ -119,3 +119,23 @@ def test_accepted_mutants_of_a_short_case_run_to_the_end_or_fail_in_one_line(tmp
         assert code != 2, f"run refused what check accepted: {mutant.steps} -> {err[-400:]}"
         ran.append(mutant.steps)
     assert len(ran) == 4, ran
+
+
+def test_the_long_run_script_prints_its_counts_and_the_unhandled_rate_last():
+    import os
+    import subprocess
+    import sys
+
+    root = Path(__file__).resolve().parents[2]
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join([str(root), os.environ.get("PYTHONPATH", "")])}
+    done = subprocess.run(
+        [sys.executable, str(root / "validation" / "fuzz_inputs.py"), "--cases", "4", "--studies", "2", "--runs", "0"],
+        capture_output=True,
+        text=True,
+        env=env,
+        timeout=120,
+    )
+    lines = done.stdout.strip().splitlines()
+    assert done.returncode == 0, done.stdout + done.stderr
+    assert lines[0].startswith("fuzzed 4 case files, 2 study files and 0 runs")
+    assert lines[-1] == "unhandled_per_10k: 0.0" and "silent_misreads: 0" in lines
