@@ -20,6 +20,8 @@ from . import atmosphere
 __all__ = [
     "AIRCRAFT_MASS_RANGE",
     "GROUND_SPEED_MAX",
+    "MAX_BRAKED_WHEELS",
+    "MAX_REVERSERS",
     "RUNWAY_AIR_TEMPERATURE_RANGE",
     "RUNWAY_PRESSURE_ALTITUDE_RANGE",
     "WIND_SPEED_MAX",
@@ -39,6 +41,10 @@ BRAKING_LEVELS: dict[str, float] = {"gentle": 1.5, "medium": 2.0, "firm": 3.0, "
 #: Aircraft masses a ground roll is computed for [kg]: a light aircraft to well above the heaviest
 #: aircraft flown (about 640 t); outside, the roll has no meaning (common practice, no source).
 AIRCRAFT_MASS_RANGE = (100.0, 2.0e6)
+#: The most braked wheels and thrust reversers of an aircraft [-]: above any aircraft built (the
+#: largest have about 30 braked wheels and at most 8 engines; common practice, no source).
+MAX_BRAKED_WHEELS = 64
+MAX_REVERSERS = 8
 #: The fastest ground speed of a rolling wheel [m/s] (150 m/s, 292 kt): above every aircraft tyre's
 #: speed rating; beyond it no correlation or tyre model means anything (common practice, no source).
 GROUND_SPEED_MAX = 150.0
@@ -122,11 +128,11 @@ class Aircraft:
         Reverse thrust of ONE engine over air speed [m/s, N]; speeds increase strictly;
         held constant beyond the ends.
     reversers : int
-        Number of serviceable thrust reversers, >= 0.
+        Number of serviceable thrust reversers, 0 to :data:`MAX_REVERSERS`.
     reverse_cancel_speed : float or str
         Air speed below which reverse thrust is cancelled [m/s], >= 0.
     braked_wheels : int
-        Number of braked wheels, >= 1.
+        Number of braked wheels, 1 to :data:`MAX_BRAKED_WHEELS`.
     brake_shares : sequence of float, optional
         Share of the total brake force of each brake (``braked_wheels`` entries, each
         >= 0, summing to 1): e.g. 0 for an inoperative brake, more for a dragging one.
@@ -152,10 +158,10 @@ class Aircraft:
     def __post_init__(self) -> None:
         put = object.__setattr__
         convert_declared(self, "aircraft")
-        for name, minimum in (("reversers", 0), ("braked_wheels", 1)):
+        for name, minimum, maximum in (("reversers", 0, MAX_REVERSERS), ("braked_wheels", 1, MAX_BRAKED_WHEELS)):
             value = getattr(self, name)
-            if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
-                raise InputError(f"aircraft.{name}: expected a whole number >= {minimum}, got {value!r}")
+            if isinstance(value, bool) or not isinstance(value, int) or not minimum <= value <= maximum:
+                raise InputError(f"aircraft.{name}: expected a whole number from {minimum} to {maximum}, got {value!r}")
         if self.reverse_thrust is None or len(self.reverse_thrust) == 0:
             if self.reversers:
                 raise InputError("aircraft.reverse_thrust: a table is needed when reversers > 0")
