@@ -144,9 +144,9 @@ def fuzz_runs(count: int, rng: random.Random, runner: Runner, timeout: float, ex
                 outcome = classify(code, out, err, seconds, timeout, "")
                 outcome = "unclear_error" if outcome == "clear_error" else outcome
                 counts[outcome] += 1
-                if outcome not in ("accepted", "failed") and len(examples.setdefault(outcome, [])) < 10:
+                if outcome != "accepted" and len(examples.setdefault(f"run {outcome}", [])) < 10:
                     last = (err.strip().splitlines() or [""])[-1][:200]
-                    examples[outcome].append(f"[run] {'; '.join(mutant.steps)[:300]} -> {code}: {last}")
+                    examples[f"run {outcome}"].append(f"[run] {'; '.join(mutant.steps)[:300]} -> {code}: {last}")
                 break
     return counts
 

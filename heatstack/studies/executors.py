@@ -533,7 +533,7 @@ class DaskExecutor(StudyExecutor):
             raise
         except KilledWorker as exc:
             raise ExecutorError(
-                f"the Dask study stopped: case {future.key!r} killed its worker each time it was tried "
+                f"the Dask study stopped: {_case_name(future.key)} killed its worker each time it was tried "
                 f"({str(exc)[:120]}){counts}; fix the workers' memory or that case, then run the same command "
                 "again to resume"
             ) from None
@@ -606,6 +606,15 @@ class DaskExecutor(StudyExecutor):
                 time.sleep(0.05)
         finally:
             self.cancel(futures)
+
+
+def _case_name(key: Any) -> str:
+    """``case N`` for the task key of a study case (``heatstack-case-N-...``), else the key quoted."""
+    text = str(key)
+    parts = text.split("-")
+    if text.startswith("heatstack-case-") and len(parts) > 2 and parts[2].isdigit():
+        return f"case {parts[2]}"
+    return f"the call {text[:80]!r}"
 
 
 class _ClusterWatch:
