@@ -295,8 +295,9 @@ def _structural(document: dict, rng: random.Random, steps: list[str]) -> None:
     elif kind == "hostile":
         quantities = _quantity_paths(document)
         target = rng.choice(quantities) if quantities else path
-        _parent(document, target)[target[-1]] = rng.choice(HOSTILE_QUANTITIES)
-        steps.append(f"{_text(target)} = {rng.choice(HOSTILE_QUANTITIES)[:60]!r}")
+        value = rng.choice(HOSTILE_QUANTITIES)
+        _parent(document, target)[target[-1]] = value
+        steps.append(f"{_text(target)} = {value[:60]!r}")
     elif kind == "scale":
         quantities = _quantity_paths(document)
         if quantities:
@@ -513,7 +514,7 @@ def run_in_process(main, argv: list[str], limit: float) -> tuple[int | None, str
     return code, out.getvalue(), err.getvalue(), time.perf_counter() - started
 
 
-def write_mutant(mutant: Mutant, folder: Path, kind: str) -> list[str]:
+def write_mutant(mutant: Mutant, folder: Path, kind: str, base_case: Path = CASE_FILE) -> list[str]:
     """Write ``mutant`` into ``folder`` and return the ``heatstack`` arguments that check it.
 
     Parameters
@@ -535,7 +536,7 @@ def write_mutant(mutant: Mutant, folder: Path, kind: str) -> list[str]:
         path = folder / "case.toml"
         path.write_bytes(mutant.data)
         return ["check", str(path), "--out", str(folder / "out"), "--force"]
-    (folder / CASE_FILE.name).write_bytes(CASE_FILE.read_bytes())
+    (folder / CASE_FILE.name).write_bytes(base_case.read_bytes())
     path = folder / "study.toml"
     path.write_bytes(mutant.data)
     return ["study", str(path), "--check", "--store", str(folder / "store")]
@@ -572,3 +573,28 @@ def write_short_case(folder: Path) -> Path:
     path = folder / "short.toml"
     path.write_text(text, encoding="utf-8")
     return path
+
+
+def write_short_study(folder: Path) -> tuple[Path, Path]:
+    """The demo study cut to 3 cases of the short demo case (:func:`write_short_case`), in ``folder``.
+
+    Parameters
+    ----------
+    folder : Path
+        Where to write ``short.toml`` (the base case) and ``study.toml``.
+
+    Returns
+    -------
+    study, base_case : Path
+        The study file and its base case; a mutant of the study runs with a copy of the base case
+        beside it (:func:`write_mutant` with ``base_case``).
+    """
+    base = write_short_case(folder)
+    text = STUDY_FILE.read_text(encoding="utf-8")
+    for old, new in (("cases = 200", "cases = 3"), ('cell_size = "8 mm"', 'cell_size = "12 mm"')):
+        if old not in text:
+            raise ValueError(f"the demo study no longer holds {old!r}: update write_short_study")
+        text = text.replace(old, new)
+    study = folder / "study.toml"
+    study.write_text(text, encoding="utf-8")
+    return study, base

@@ -4,7 +4,9 @@ Each input is a mutated copy of ``examples/demo_rto.toml`` (checked with ``heats
 ``examples/demo_study.toml`` (``heatstack study --check``, with the demo case as its base), made by
 ``tests/fuzz_mutations.py`` (the module the suite's ``tests/unit/test_fuzz_inputs.py`` uses too);
 then ``heatstack run`` on mutants of the demo cut short (12 mm grid, minutes) that ``check`` accepts,
-with four times the time bound (a run refused after ``check`` accepted it counts as unclear).
+with four times the time bound, and ``heatstack study`` (one worker) on mutants of a 3-case study of
+that short case that ``study --check`` accepts, with eight times the bound (a run or study refused
+after its check accepted it counts as unclear).
 The inputs run in a worker process that is killed and replaced when one input passes its time
 bound (a hang); the worker's address space is limited, so an absurd size ends in MemoryError, not
 in the machine's swap. Each outcome is classified (clear error, accepted, computation failure,
@@ -42,6 +44,7 @@ from fuzz_mutations import (  # noqa: E402
     run_in_process,
     write_mutant,
     write_short_case,
+    write_short_study,
 )
 
 
@@ -73,7 +76,7 @@ class Runner:
 
     def _start(self) -> None:
         self.connection, child = self.context.Pipe()
-        self.process = self.context.Process(target=_worker, args=(child, self.memory_limit, self.layout), daemon=True)
+        self.process = self.context.Process(target=_worker, args=(child, self.memory_limit, self.layout), daemon=False)
         self.process.start()
 
     def run(self, argv: list[str]) -> tuple[int | None, str, str, float]:
@@ -151,12 +154,41 @@ def fuzz_runs(count: int, rng: random.Random, runner: Runner, timeout: float, ex
     return counts
 
 
+def fuzz_study_runs(count: int, rng: random.Random, runner: Runner, timeout: float, examples: dict) -> Counter:
+    """``heatstack study`` (one worker) on ``count`` mutants of a 3-case study of the short demo that
+    ``study --check`` accepts; the counts (a study refused after its check counts as unclear)."""
+    counts: Counter = Counter()
+    with tempfile.TemporaryDirectory(prefix="heatstack-fuzz-") as base:
+        source, short_case = write_short_study(Path(base))
+        for _ in range(count):
+            for _ in range(50):
+                mutant = mutate(source, rng, changes=1)
+                with tempfile.TemporaryDirectory(prefix="heatstack-fuzz-") as folder:
+                    argv = write_mutant(mutant, Path(folder), "study", base_case=short_case)
+                    if classify(*runner.run(argv), timeout, mutant.must_fail) != "accepted":
+                        continue
+                    run = ["study", argv[1], "--store", str(Path(folder) / "store"), "--workers", "1", "--quiet"]
+                    code, out, err, seconds = runner.run(run)
+                outcome = classify(code, out, err, seconds, timeout, "")
+                outcome = "unclear_error" if outcome == "clear_error" else outcome
+                counts[outcome] += 1
+                if outcome != "accepted" and len(examples.setdefault(f"study run {outcome}", [])) < 10:
+                    last = (err.strip().splitlines() or [""])[-1][:200]
+                    steps = "; ".join(mutant.steps)[:300]
+                    examples[f"study run {outcome}"].append(f"[study run] {steps} -> {code}: {last}")
+                break
+    return counts
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the fuzzing campaign and print its figures; 0 when nothing was unhandled or misread."""
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--cases", type=int, default=10_000, help="mutated case files (default: %(default)s)")
     parser.add_argument("--studies", type=int, default=2_000, help="mutated study files (default: %(default)s)")
     parser.add_argument("--runs", type=int, default=100, help="runs of accepted mutants (default: %(default)s)")
+    parser.add_argument(
+        "--study-runs", type=int, default=20, help="3-case studies of accepted study mutants (default: %(default)s)"
+    )
     parser.add_argument("--seed", type=int, default=2026, help="random seed (default: %(default)s)")
     parser.add_argument("--timeout", type=float, default=30.0, help="seconds an input may take (default: %(default)s)")
     parser.add_argument("--memory", type=float, default=4.0, help="worker address-space limit [GiB] (default: 4)")
@@ -170,17 +202,18 @@ def main(argv: list[str] | None = None) -> int:
         cases = fuzz("case", args.cases, rng, runner, args.timeout, examples)
         studies = fuzz("study", args.studies, rng, runner, args.timeout, examples)
         runs = fuzz_runs(args.runs, rng, runner, 4 * args.timeout, examples)
+        study_runs = fuzz_study_runs(args.study_runs, rng, runner, 8 * args.timeout, examples)
     finally:
         runner.close()
-    total = cases + studies + runs
-    inputs = args.cases + args.studies + sum(runs.values())
+    total = cases + studies + runs + study_runs
+    inputs = args.cases + args.studies + sum(runs.values()) + sum(study_runs.values())
     print(
-        f"fuzzed {args.cases} case files, {args.studies} study files and {sum(runs.values())} runs "
-        f"in {time.perf_counter() - started:.0f} s"
+        f"fuzzed {args.cases} case files, {args.studies} study files, {sum(runs.values())} runs and "
+        f"{sum(study_runs.values())} study runs in {time.perf_counter() - started:.0f} s"
     )
-    print(f"{'outcome':16s} {'check':>7s} {'study':>7s} {'run':>7s}")
+    print(f"{'outcome':16s} {'check':>7s} {'study':>7s} {'run':>7s} {'study run':>9s}")
     for outcome in OUTCOMES:
-        print(f"{outcome:16s} {cases[outcome]:7d} {studies[outcome]:7d} {runs[outcome]:7d}")
+        print(f"{outcome:16s} {cases[outcome]:7d} {studies[outcome]:7d} {runs[outcome]:7d} {study_runs[outcome]:9d}")
     for outcome, lines in examples.items():
         print(f"examples of {outcome}:")
         for line in lines:

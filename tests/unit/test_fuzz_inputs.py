@@ -129,7 +129,18 @@ def test_the_long_run_script_prints_its_counts_and_the_unhandled_rate_last():
     root = Path(__file__).resolve().parents[2]
     env = {**os.environ, "PYTHONPATH": os.pathsep.join([str(root), os.environ.get("PYTHONPATH", "")])}
     done = subprocess.run(
-        [sys.executable, str(root / "validation" / "fuzz_inputs.py"), "--cases", "4", "--studies", "2", "--runs", "0"],
+        [
+            sys.executable,
+            str(root / "validation" / "fuzz_inputs.py"),
+            "--cases",
+            "4",
+            "--studies",
+            "2",
+            "--runs",
+            "0",
+            "--study-runs",
+            "0",
+        ],
         capture_output=True,
         text=True,
         env=env,
@@ -137,5 +148,5 @@ def test_the_long_run_script_prints_its_counts_and_the_unhandled_rate_last():
     )
     lines = done.stdout.strip().splitlines()
     assert done.returncode == 0, done.stdout + done.stderr
-    assert lines[0].startswith("fuzzed 4 case files, 2 study files and 0 runs")
+    assert lines[0].startswith("fuzzed 4 case files, 2 study files, 0 runs and 0 study runs")
     assert lines[-1] == "unhandled_per_10k: 0.0" and "silent_misreads: 0" in lines
