@@ -548,12 +548,18 @@ def _add_study_verbs(verb: Callable[[str, str], argparse.ArgumentParser], units:
     place = study.add_mutually_exclusive_group()
     place.add_argument("--workers", type=int, default=None, help="local worker processes (default: all cores)")
     place.add_argument("--scheduler", help="address of a Dask scheduler, e.g. tcp://10.0.0.5:8786")
-    study.add_argument("--timeout", type=float, default=10.0, help="seconds to reach the scheduler")
+    study.add_argument(
+        "--timeout",
+        type=float,
+        default=10.0,
+        help="seconds to reach the Dask scheduler; a study stops after this long without a worker or scheduler",
+    )
     study.add_argument("--retry-failed", action="store_true", help="run again the cases recorded as failed")
     study.add_argument("--report", help="also write the study report (Markdown) to this file")
     study.add_argument("--plots", help="folder for the margin histogram and tornado (default: the store)")
     study.add_argument("--unit", choices=units, default="degC")
     study.add_argument("--force", action="store_true", help=_FORCE_HELP)
+    study.add_argument("--check", action="store_true", help="read and plan the study and its base case, run nothing")
     study.set_defaults(func=cmd_study)
 
 

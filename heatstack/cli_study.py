@@ -8,7 +8,37 @@ from pathlib import Path
 from .atomic import write_file_atomically
 from .errors import InputError
 
-__all__ = ["cmd_study", "fail_if_nothing_finished", "write_study_outputs"]
+__all__ = ["check_study", "cmd_study", "fail_if_nothing_finished", "write_study_outputs"]
+
+
+def check_study(study) -> int:
+    """``heatstack study --check``: plan ``study`` (its base case read, every path and value checked,
+    the sample table drawn), print what would run, run nothing; the exit code.
+
+    Parameters
+    ----------
+    study : Study
+        The study read from its file.
+
+    Returns
+    -------
+    int
+        0 when the study and its base case are valid.
+
+    Raises
+    ------
+    InputError
+        If the base case, a parameter or the sampling is wrong, or the study is too large for the
+        memory (from :func:`heatstack.studies.plan_study`).
+    """
+    from .studies import plan_study
+
+    plan = plan_study(study)
+    print(f"{study.title}")
+    print(f"study: {plan.n_cases} cases of {study.base_case.name}, {study.sampling.method} sampling; nothing run")
+    for name in plan.parameter_names:
+        print(f"  parameter: {name}")
+    return 0
 
 
 def cmd_study(args: argparse.Namespace) -> int:
@@ -22,7 +52,7 @@ def cmd_study(args: argparse.Namespace) -> int:
     args : argparse.Namespace
         The parsed ``heatstack study`` command line: ``study``, ``store``, ``workers``,
         ``scheduler``, ``timeout`` [s], ``retry_failed``, ``report``, ``plots``, ``unit``,
-        ``force`` and ``quiet``.
+        ``force``, ``check`` and ``quiet``.
 
     Returns
     -------
@@ -43,6 +73,8 @@ def cmd_study(args: argparse.Namespace) -> int:
     from .studies import LocalExecutor, load_study, run_study, study_report
 
     study = load_study(args.study)
+    if getattr(args, "check", False):
+        return check_study(study)
     store = Path(args.store) if args.store else Path(args.study).with_suffix(".store")
     if args.report and not args.force:
         check_replaceable(Path(args.report), "report file")  # before the study, not after it

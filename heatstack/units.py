@@ -349,6 +349,7 @@ def _check_range(
     maximum: float | None,
     allow_nonfinite: bool,
     error: type[InputError],
+    unit: str = "",
 ) -> None:
     if not allow_nonfinite and not np.all(np.isfinite(values)):
         raise error(f"{field}: must be finite, got {_shown(values)}")
@@ -356,9 +357,16 @@ def _check_range(
     if minimum is not None:
         low = finite <= minimum if exclusive_minimum else finite < minimum
         if np.any(low):
-            raise error(f"{field}: must be {'>' if exclusive_minimum else '>='} {minimum:g}, got {_shown(values)}")
+            sign = ">" if exclusive_minimum else ">="
+            raise error(f"{field}: must be {sign} {minimum:g}{unit}, got {_shown(values)}{unit}")
     if maximum is not None and np.any(finite > maximum):
-        raise error(f"{field}: must be <= {maximum:g}, got {_shown(values)}")
+        raise error(f"{field}: must be <= {maximum:g}{unit}, got {_shown(values)}{unit}")
+
+
+def _si_text(dimension: str) -> str:
+    """`` <SI unit>`` of ``dimension`` for messages (empty for none or an unknown dimension)."""
+    unit = SI_UNITS.get(dimension, "") if isinstance(dimension, str) else ""
+    return f" {unit}" if unit else ""
 
 
 def _shown(values: np.ndarray) -> str:
@@ -415,7 +423,7 @@ def quantity(
     values = _convert(value, unit, dimension, field, allow_nonfinite)
     if values.ndim != 0:
         raise InputError(f"{field}: expected one value, got {_shown(values)}")
-    _check_range(values, field, minimum, exclusive_minimum, maximum, allow_nonfinite, error)
+    _check_range(values, field, minimum, exclusive_minimum, maximum, allow_nonfinite, error, _si_text(dimension))
     return float(values)
 
 
@@ -474,7 +482,7 @@ def quantity_array(
         )
     else:
         out = np.asarray(_convert(values, unit, dimension, field, allow_nonfinite), dtype=float)
-    _check_range(out, field, minimum, exclusive_minimum, maximum, allow_nonfinite, error)
+    _check_range(out, field, minimum, exclusive_minimum, maximum, allow_nonfinite, error, _si_text(dimension))
     return out
 
 
@@ -623,11 +631,23 @@ def declared_dimensions(cls: Any) -> Mapping[str, str]:
     return {f.name: f.metadata["dimension"] for f in dataclasses.fields(cls) if "dimension" in f.metadata}
 
 
+def _scalar_field(f: dataclasses.Field) -> bool:
+    """Whether a declared field holds one value: annotated ``float`` (or ``float | None``)."""
+    annotation = f.type if isinstance(f.type, str) else getattr(f.type, "__name__", str(f.type))
+    return annotation.replace(" ", "") in ("float", "float|None", "None|float")
+
+
+def _quoted(value: Any) -> str:
+    """``repr(value)``, cut to the quoting limit."""
+    text = repr(value)
+    return text if len(text) <= _QUOTE else text[: _QUOTE - 3] + "..."
+
+
 def convert_declared(instance: Any, where: str, error: type[InputError] = InputError) -> None:
     """Convert every declared field of a (frozen) dataclass instance to SI, in place.
 
-    ``None`` stays ``None``; a sequence field holds a tuple of SI floats. Messages read
-    ``"<where>: <field>: ..."``.
+    ``None`` stays ``None``; a sequence field holds a tuple of SI floats, and a list given to a
+    field annotated ``float`` is refused. Messages read ``"<where>: <field>: ..."``.
 
     Parameters
     ----------
@@ -654,6 +674,8 @@ def convert_declared(instance: Any, where: str, error: type[InputError] = InputE
             continue
         bounds = {k: f.metadata[k] for k in ("minimum", "exclusive_minimum", "maximum")}
         name, dimension = f"{prefix}{f.name}", f.metadata["dimension"]
+        if isinstance(value, list | tuple) and _scalar_field(f):
+            raise error(f"{name}: expected one value, got a list {_quoted(value)}")
         if isinstance(value, list | tuple):
             out: Any = tuple(float(v) for v in quantity_array(value, dimension, name, error=error, **bounds))
         else:

@@ -6,13 +6,28 @@ surfaces; :mod:`heatstack.operations.environment` turns these into cooling laws.
 
 Symbols: ``Ra = g beta dT L^3 / (nu alpha)`` Rayleigh number, ``Re`` Reynolds
 number, ``Pr`` Prandtl number, all [-].
+
+Ranges of validity: every correlation knows the range of its source
+(:data:`VALIDITY_RANGES`, each with the source named). A group outside it is still
+evaluated (the correlation extrapolates) and gives one
+:class:`~heatstack.errors.HeatstackWarning` per correlation and run, which the run keeps
+and its report shows. The lower ends of the free-convection ranges are not warned: every
+surface passes through small Rayleigh numbers as it nears the air temperature, where its
+convected heat is small anyway.
 """
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
+from ..property_table import warn_once
+
 __all__ = [
+    "VALIDITY_RANGES",
+    "ValidityRange",
+    "warn_outside_range",
     "DISC_TRANSITION_REYNOLDS",
     "PLATE_TRANSITION_REYNOLDS",
     "nu_vertical_plate",
@@ -28,6 +43,124 @@ __all__ = [
 DISC_TRANSITION_REYNOLDS = 2.4e5
 #: Reynolds number ``V x / nu`` of transition on a flat plate in parallel flow [-].
 PLATE_TRANSITION_REYNOLDS = 5.0e5
+
+
+@dataclass(frozen=True)
+class ValidityRange:
+    """The range of a dimensionless group over which a correlation was established.
+
+    Attributes
+    ----------
+    correlation : str
+        What the correlation is, e.g. ``"cylinder in cross-flow (Churchill and Bernstein)"``.
+    group : str
+        The group checked: ``"Re"``, ``"Ra"`` or ``"Re Pr"``.
+    low, high : float
+        The range [-]; ``low`` 0 for no lower end.
+    source : str
+        Where the range comes from (book, edition, equation; "from memory" where so).
+    """
+
+    correlation: str
+    group: str
+    low: float
+    high: float
+    source: str
+
+
+#: The range of validity of each correlation of this module, by function name.
+VALIDITY_RANGES: dict[str, ValidityRange] = {
+    "nu_vertical_plate": ValidityRange(
+        "vertical plate, free convection (Churchill and Chu)",
+        "Ra",
+        0.0,
+        1e12,
+        "Incropera et al., Fundamentals of Heat and Mass Transfer, 6th ed., eq. 9.26, data up to "
+        "Ra = 1e12 (from memory)",
+    ),
+    "nu_horizontal_cylinder": ValidityRange(
+        "horizontal cylinder, free convection (Churchill and Chu)",
+        "Ra",
+        0.0,
+        1e12,
+        "Incropera et al., 6th ed., eq. 9.34, Ra_D <= 1e12 (from memory)",
+    ),
+    "nu_horizontal_plate_upper": ValidityRange(
+        "horizontal plate, hot side up, free convection (McAdams)",
+        "Ra",
+        0.0,
+        1e11,
+        "Incropera et al., 6th ed., eqs. 9.30-9.31, 1e4 <= Ra <= 1e11 (from memory)",
+    ),
+    "nu_horizontal_plate_lower": ValidityRange(
+        "horizontal plate, hot side down, free convection (McAdams)",
+        "Ra",
+        0.0,
+        1e10,
+        "Incropera et al., 6th ed., eq. 9.32, 1e5 <= Ra <= 1e10 (from memory)",
+    ),
+    "nu_cylinder_crossflow": ValidityRange(
+        "cylinder in cross-flow (Churchill and Bernstein)",
+        "Re Pr",
+        0.2,
+        np.inf,
+        "Incropera et al., 6th ed., eq. 7.54, Re Pr >= 0.2 (from memory)",
+    ),
+    "nu_cylinder_crossflow_reynolds": ValidityRange(
+        "cylinder in cross-flow (Churchill and Bernstein)",
+        "Re",
+        0.0,
+        1e7,
+        "Churchill and Bernstein 1977, data up to Re of about 1e7 (from memory)",
+    ),
+    "nu_rotating_disc": ValidityRange(
+        "disc rotating in still air (Cobb and Saunders; Dorfman)",
+        "Re",
+        0.0,
+        1e7,
+        "Cobb and Saunders 1956 and Dorfman 1963, measured up to Re of about 1e6-1e7 (from memory)",
+    ),
+    "nu_flat_plate_forced": ValidityRange(
+        "flat plate in parallel flow (laminar, then mixed)",
+        "Re",
+        0.0,
+        1e8,
+        "Incropera et al., 6th ed., eq. 7.38, 5e5 < Re_L <= 1e8, 0.6 <= Pr <= 60 (from memory)",
+    ),
+}
+
+
+def warn_outside_range(name: str, values: float | np.ndarray) -> None:
+    """Warn (once per correlation and run) when a group lies outside the correlation's range.
+
+    Exact zeros are not checked (no flow: the forced part of a law is then zero, not
+    extrapolated); nor are values that are not finite (the caller's checks see to them).
+
+    Parameters
+    ----------
+    name : str
+        A key of :data:`VALIDITY_RANGES`.
+    values : float or ndarray
+        The group's values [-] (Reynolds, Rayleigh, or Reynolds times Prandtl).
+    """
+    valid = VALIDITY_RANGES[name]
+    values = np.asarray(values, dtype=float)
+    checked = values[np.isfinite(values) & (values != 0.0)]
+    if checked.size == 0:
+        return
+    low, high = float(checked.min()), float(checked.max())
+    if low >= valid.low and high <= valid.high:
+        return
+    if low < valid.low:
+        where = f"{valid.group} = {low:.3g} is below its range of validity, {valid.group} >= {valid.low:g}"
+    else:
+        where = f"{valid.group} = {high:.3g} is above its range of validity, {valid.group} <= {valid.high:g}"
+    warn_once(
+        "convection correlation",
+        name,
+        f"{valid.correlation}: {where} ({valid.source}); the coefficient is extrapolated",
+        stacklevel=3,
+    )
 
 
 def _churchill_chu(ra: np.ndarray, pr: np.ndarray, base: float, pr_ref: float) -> np.ndarray:
@@ -60,6 +193,7 @@ def nu_vertical_plate(ra: float | np.ndarray, pr: float | np.ndarray) -> np.ndar
     turbulent free convection from a vertical plate, Int. J. Heat Mass Transfer 18,
     1323-1329.
     """
+    warn_outside_range("nu_vertical_plate", ra)
     return _churchill_chu(ra, pr, 0.825, 0.492)
 
 
@@ -86,6 +220,7 @@ def nu_horizontal_cylinder(ra: float | np.ndarray, pr: float | np.ndarray) -> np
     turbulent free convection from a horizontal cylinder, Int. J. Heat Mass
     Transfer 18, 1049-1053.
     """
+    warn_outside_range("nu_horizontal_cylinder", ra)
     return _churchill_chu(ra, pr, 0.60, 0.559)
 
 
@@ -115,6 +250,8 @@ def nu_cylinder_crossflow(re: float | np.ndarray, pr: float | np.ndarray) -> np.
     """
     re = np.asarray(re, dtype=float)
     pr = np.asarray(pr, dtype=float)
+    warn_outside_range("nu_cylinder_crossflow", re * pr)
+    warn_outside_range("nu_cylinder_crossflow_reynolds", re)
     lead = 0.62 * np.sqrt(re) * np.cbrt(pr) / (1.0 + (0.4 / pr) ** (2.0 / 3.0)) ** 0.25
     return 0.3 + lead * (1.0 + (re / 282000.0) ** 0.625) ** 0.8
 
@@ -153,6 +290,9 @@ def nu_horizontal_plate(ra: float | np.ndarray, upper_surface: bool | np.ndarray
     surface of various planforms, J. Heat Transfer 96, 443-447.
     """
     ra = np.asarray(ra, dtype=float)
+    upper_side = np.broadcast_to(np.asarray(upper_surface, dtype=bool), ra.shape)
+    warn_outside_range("nu_horizontal_plate_upper", ra[upper_side])
+    warn_outside_range("nu_horizontal_plate_lower", ra[~upper_side])
     quarter = ra**0.25
     third = 0.15 * np.cbrt(ra)
     upper = np.where(ra <= 1e7, 0.54 * quarter, third)
@@ -199,6 +339,7 @@ def nu_rotating_disc(re: float | np.ndarray) -> np.ndarray:
     Solids, Oliver and Boyd, Edinburgh.
     """
     re = np.asarray(re, dtype=float)
+    warn_outside_range("nu_rotating_disc", re)
     laminar_fraction = np.minimum(1.0, DISC_TRANSITION_REYNOLDS / np.maximum(re, 1e-300))
     laminar = 0.33 * np.sqrt(re) * laminar_fraction
     turbulent = 0.015 * re**0.8 * (1.0 - laminar_fraction**1.3)
@@ -232,6 +373,7 @@ def nu_flat_plate_forced(re: float | np.ndarray, pr: float | np.ndarray) -> np.n
     7.38.
     """
     re = np.asarray(re, dtype=float)
+    warn_outside_range("nu_flat_plate_forced", re)
     rec = PLATE_TRANSITION_REYNOLDS
     offset = 0.037 * rec**0.8 - 0.664 * np.sqrt(rec)
     laminar = 0.664 * np.sqrt(re)

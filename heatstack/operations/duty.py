@@ -20,6 +20,7 @@ from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
 from ..units import convert_declared, declared
 from .environment import CrossFlow, FanCooling, MixedConvection, NaturalConvection, RotatingDisc, WheelWell
 from .events import BrakingEvent, combine
+from .roll_inputs import GROUND_SPEED_MAX, WIND_SPEED_MAX
 
 __all__ = ["Environment", "DutyPhase", "DutyCycle"]
 
@@ -38,11 +39,13 @@ class Environment:
         Radiation surroundings [K]; the air temperature by default.
     ground_speed : float or str
         Speed at which the wheel rolls [m/s]; 0 when stopped. A rolling wheel sees a
-        cross-flow of air at this speed plus the headwind, and its disc faces spin.
+        cross-flow of air at this speed plus the headwind, and its disc faces spin. At most
+        :data:`~heatstack.operations.roll_inputs.GROUND_SPEED_MAX` (150 m/s).
     wind_speed : float or str
-        Wind across the wheel [m/s].
+        Wind across the wheel [m/s], at most
+        :data:`~heatstack.operations.roll_inputs.WIND_SPEED_MAX` (100 m/s).
     fan_speed : float or str
-        Air speed of a brake-cooling fan over the stack [m/s]; 0 for none.
+        Air speed of a brake-cooling fan over the stack [m/s]; 0 for none; at most 100 m/s.
     wheel_well : (float, float), optional
         Air and wall temperatures [K] of an enclosed wheel well (gear up): natural
         convection only, radiation to the walls.
@@ -53,9 +56,9 @@ class Environment:
     ambient_temperature: Any = declared("temperature", 288.15, positive=True)
     ambient_pressure: Any = declared("pressure", 101325.0, positive=True)
     surroundings_temperature: Any = declared("temperature", None, positive=True)
-    ground_speed: Any = declared("speed", 0.0, minimum=0.0)
-    wind_speed: Any = declared("speed", 0.0, minimum=0.0)
-    fan_speed: Any = declared("speed", 0.0, minimum=0.0)
+    ground_speed: Any = declared("speed", 0.0, minimum=0.0, maximum=GROUND_SPEED_MAX)
+    wind_speed: Any = declared("speed", 0.0, minimum=0.0, maximum=WIND_SPEED_MAX)
+    fan_speed: Any = declared("speed", 0.0, minimum=0.0, maximum=WIND_SPEED_MAX)
     wheel_well: tuple[Any, Any] | None = declared("temperature", None, positive=True)
     overrides: Mapping[str, BoundaryLaw] = field(default_factory=dict)
 

@@ -18,6 +18,13 @@ from ..units import convert_declared, declared, quantity
 from . import atmosphere
 
 __all__ = [
+    "AIRCRAFT_MASS_RANGE",
+    "GROUND_SPEED_MAX",
+    "MAX_BRAKED_WHEELS",
+    "MAX_REVERSERS",
+    "RUNWAY_AIR_TEMPERATURE_RANGE",
+    "RUNWAY_PRESSURE_ALTITUDE_RANGE",
+    "WIND_SPEED_MAX",
     "BRAKING_LEVELS",
     "Aircraft",
     "Runway",
@@ -30,6 +37,26 @@ __all__ = [
 #: Our own names for target decelerations of the aircraft [m/s^2]; "maximum" is the
 #: friction limit and "none" no braking.
 BRAKING_LEVELS: dict[str, float] = {"gentle": 1.5, "medium": 2.0, "firm": 3.0, "hard": 4.0}
+
+#: Aircraft masses a ground roll is computed for [kg]: a light aircraft to well above the heaviest
+#: aircraft flown (about 640 t); outside, the roll has no meaning (common practice, no source).
+AIRCRAFT_MASS_RANGE = (100.0, 2.0e6)
+#: The most braked wheels and thrust reversers of an aircraft [-]: above any aircraft built (the
+#: largest have about 30 braked wheels and at most 8 engines; common practice, no source).
+MAX_BRAKED_WHEELS = 64
+MAX_REVERSERS = 8
+#: The fastest ground speed of a rolling wheel [m/s] (150 m/s, 292 kt): above every aircraft tyre's
+#: speed rating; beyond it no correlation or tyre model means anything (common practice, no source).
+GROUND_SPEED_MAX = 150.0
+#: The strongest wind (or headwind, or fan air speed) accepted [m/s]: above any sustained wind
+#: measured at the ground (common practice, no source).
+WIND_SPEED_MAX = 100.0
+#: Runway air temperatures accepted [K]: -90 degC to +70 degC, beyond the coldest and hottest air
+#: recorded at the ground (common practice, no source).
+RUNWAY_AIR_TEMPERATURE_RANGE = (183.15, 343.15)
+#: Runway pressure altitudes accepted [m]: from below the lowest to above the highest airfield
+#: (common practice, no source).
+RUNWAY_PRESSURE_ALTITUDE_RANGE = (-1000.0, 10000.0)
 
 
 def non_negative(value: Any, dimension: str, field: str, positive: bool = False) -> float:
@@ -83,7 +110,8 @@ class Aircraft:
     Parameters
     ----------
     mass : float or str
-        Aircraft mass [kg], > 0.
+        Aircraft mass [kg], from :data:`AIRCRAFT_MASS_RANGE` (100 kg to 2000 t: below or above, the
+        ground roll has no meaning; common practice, no source).
     drag_area : float or str
         Drag coefficient times reference area on the ground, ``C_D S`` [m^2], >= 0.
     lift_area : float or str
@@ -100,11 +128,11 @@ class Aircraft:
         Reverse thrust of ONE engine over air speed [m/s, N]; speeds increase strictly;
         held constant beyond the ends.
     reversers : int
-        Number of serviceable thrust reversers, >= 0.
+        Number of serviceable thrust reversers, 0 to :data:`MAX_REVERSERS`.
     reverse_cancel_speed : float or str
         Air speed below which reverse thrust is cancelled [m/s], >= 0.
     braked_wheels : int
-        Number of braked wheels, >= 1.
+        Number of braked wheels, 1 to :data:`MAX_BRAKED_WHEELS`.
     brake_shares : sequence of float, optional
         Share of the total brake force of each brake (``braked_wheels`` entries, each
         >= 0, summing to 1): e.g. 0 for an inoperative brake, more for a dragging one.
@@ -113,7 +141,7 @@ class Aircraft:
         Share of the weight on the wheels carried by the braked wheels (0, 1].
     """
 
-    mass: float = declared("mass", positive=True)
+    mass: float = declared("mass", minimum=AIRCRAFT_MASS_RANGE[0], maximum=AIRCRAFT_MASS_RANGE[1])
     drag_area: float = declared("area", 0.0, minimum=0.0)
     lift_area: float = declared("area", 0.0, minimum=0.0)
     lift_area_dumped: float = declared("area", 0.0, minimum=0.0)
@@ -130,10 +158,10 @@ class Aircraft:
     def __post_init__(self) -> None:
         put = object.__setattr__
         convert_declared(self, "aircraft")
-        for name, minimum in (("reversers", 0), ("braked_wheels", 1)):
+        for name, minimum, maximum in (("reversers", 0, MAX_REVERSERS), ("braked_wheels", 1, MAX_BRAKED_WHEELS)):
             value = getattr(self, name)
-            if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
-                raise InputError(f"aircraft.{name}: expected a whole number >= {minimum}, got {value!r}")
+            if isinstance(value, bool) or not isinstance(value, int) or not minimum <= value <= maximum:
+                raise InputError(f"aircraft.{name}: expected a whole number from {minimum} to {maximum}, got {value!r}")
         if self.reverse_thrust is None or len(self.reverse_thrust) == 0:
             if self.reversers:
                 raise InputError("aircraft.reverse_thrust: a table is needed when reversers > 0")
@@ -219,17 +247,20 @@ class Conditions:
     Parameters
     ----------
     headwind : float or str
-        Headwind component [m/s]; a tailwind is negative.
+        Headwind component [m/s]; a tailwind is negative; at most :data:`WIND_SPEED_MAX` either way.
     pressure_altitude : float or str
-        Pressure altitude of the runway [m].
+        Pressure altitude of the runway [m], within :data:`RUNWAY_PRESSURE_ALTITUDE_RANGE`.
     air_temperature : float or str, optional
         Outside air temperature [K]; or ``temperature_offset`` (ISA + dT) [K]; ISA if neither.
+        Either way within :data:`RUNWAY_AIR_TEMPERATURE_RANGE` (-90 to +70 degC).
     temperature_offset : float or str, optional
         ISA deviation [K].
     """
 
-    headwind: float = declared("speed", 0.0)
-    pressure_altitude: float = declared("length", 0.0)
+    headwind: float = declared("speed", 0.0, minimum=-WIND_SPEED_MAX, maximum=WIND_SPEED_MAX)
+    pressure_altitude: float = declared(
+        "length", 0.0, minimum=RUNWAY_PRESSURE_ALTITUDE_RANGE[0], maximum=RUNWAY_PRESSURE_ALTITUDE_RANGE[1]
+    )
     air_temperature: float | None = declared("temperature", None, positive=True)
     temperature_offset: float | None = declared("temperature_difference", None)
 
@@ -239,6 +270,12 @@ class Conditions:
         temperature = atmosphere.air_temperature_at(
             self.pressure_altitude, self.air_temperature, self.temperature_offset
         )
+        low, high = RUNWAY_AIR_TEMPERATURE_RANGE
+        if not low <= temperature <= high:
+            raise InputError(
+                f"conditions: air_temperature: {temperature - 273.15:.4g} degC is outside the "
+                f"{low - 273.15:.0f} to {high - 273.15:.0f} degC of air at a runway"
+            )
         put(self, "air_temperature", temperature)
         put(self, "temperature_offset", None)
 
@@ -274,12 +311,12 @@ def brake_on_ground_speed(speed: Any, speed_kind: str, conditions: Conditions, f
     Raises
     ------
     InputError
-        If the speed is not positive, the kind is unknown, or the headwind leaves no positive
-        ground speed.
+        If the speed is not positive, the kind is unknown, the headwind leaves no positive
+        ground speed, or the ground speed is above :data:`GROUND_SPEED_MAX`.
     """
     value = non_negative(speed, "speed", field, positive=True)
     if speed_kind == "ground":
-        return value
+        return _at_most_ground_speed_max(value, field)
     if speed_kind == "true":
         tas = value
     elif speed_kind == "calibrated":
@@ -289,6 +326,15 @@ def brake_on_ground_speed(speed: Any, speed_kind: str, conditions: Conditions, f
     ground = float(atmosphere.ground_speed(tas, conditions.headwind))
     if ground <= 0:
         raise InputError(f"{field}: the headwind leaves a ground speed of {ground:.3g} m/s")
+    return _at_most_ground_speed_max(ground, field)
+
+
+def _at_most_ground_speed_max(ground: float, field: str) -> float:
+    if ground > GROUND_SPEED_MAX:
+        raise InputError(
+            f"{field}: a ground speed of {ground:.4g} m/s ({ground / 0.514444:.4g} kt) is above the "
+            f"{GROUND_SPEED_MAX:g} m/s ({GROUND_SPEED_MAX / 0.514444:.0f} kt) of any aircraft tyre"
+        )
     return ground
 
 

@@ -38,6 +38,7 @@ import hashlib
 import itertools
 import json
 import math
+import os
 import tomllib
 import warnings
 from collections.abc import Mapping, Sequence
@@ -62,6 +63,9 @@ __all__ = [
     "ResolvedParameter",
     "plan_study",
     "SAMPLING_METHODS",
+    "MAX_STUDY_CASES",
+    "check_study_size",
+    "study_memory_estimate",
 ]
 
 #: Sampling methods of a study.
@@ -69,6 +73,73 @@ SAMPLING_METHODS = ("grid", "random", "latin_hypercube", "sobol")
 
 #: Sampling methods whose first ``n`` cases do not depend on the number of cases drawn.
 GROWING_METHODS = ("random", "sobol")
+
+
+#: The most cases a study may plan [-]: a million full runs, eleven days of one core at a second each.
+MAX_STUDY_CASES = 1_000_000
+#: Bytes a study holds per case and parameter (the sample table and the sampler's working copies),
+#: and per case for its row of the results table and its place in the store's index [bytes].
+_BYTES_PER_CASE_PARAMETER = 4 * 8
+_BYTES_PER_CASE = 64 * 8
+
+
+def study_memory_estimate(cases: int, parameters: int) -> int:
+    """The memory a study of ``cases`` cases of ``parameters`` parameters needs for its tables [bytes].
+
+    Parameters
+    ----------
+    cases : int
+        Number of cases [-].
+    parameters : int
+        Number of sampled parameters [-].
+
+    Returns
+    -------
+    int
+        The estimate [bytes]: the sample table and the sampler's working copies (32 bytes a case
+        and parameter) and a row of the results table with the store's index (512 bytes a case).
+    """
+    return int(cases) * (_BYTES_PER_CASE_PARAMETER * int(parameters) + _BYTES_PER_CASE)
+
+
+def _memory_available() -> int:
+    """Half the physical memory of this machine [bytes] (8 GiB when it cannot be read)."""
+    try:
+        return os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES") // 2
+    except (AttributeError, ValueError, OSError):
+        return 8 * 2**30
+
+
+def check_study_size(cases: int, parameters: int, memory: int | None = None) -> None:
+    """Refuse, before any array is made, a study with too many cases for its tables or its runs.
+
+    Parameters
+    ----------
+    cases : int
+        Number of cases the study would plan [-].
+    parameters : int
+        Number of sampled parameters [-].
+    memory : int, optional
+        The memory the tables may take [bytes]; half the physical memory by default.
+
+    Raises
+    ------
+    InputError
+        Naming ``study.cases``, the estimate and the limit, when the tables would not fit in
+        ``memory`` or there are more than :data:`MAX_STUDY_CASES` cases.
+    """
+    limit = _memory_available() if memory is None else int(memory)
+    need = study_memory_estimate(cases, parameters)
+    if need > limit:
+        raise InputError(
+            f"study.cases: {cases:.4g} cases of {parameters} parameters need about {need / 2**30:.3g} GiB for "
+            f"their tables, more than the {limit / 2**30:.3g} GiB this machine can give; use fewer cases"
+        )
+    if cases > MAX_STUDY_CASES:
+        raise InputError(
+            f"study.cases: {cases:.4g} cases is more than the {MAX_STUDY_CASES:,} a study may plan "
+            f"(about {need / 2**20:.3g} MiB of tables, and as many full runs); use fewer cases"
+        )
 
 
 # ---------------------------------------------------------------------------- description
@@ -320,7 +391,7 @@ def sobol_points(d: int, n: int, seed: int) -> np.ndarray:
         return qmc.Sobol(d=d, scramble=True, rng=np.random.default_rng(seed)).random(n)
 
 
-def _check_sampling(sampling: Sampling, n_grid: int) -> None:
+def _check_sampling(sampling: Sampling, n_grid: int, parameters: int) -> None:
     if not isinstance(sampling, Sampling):
         raise InputError(f"study.sampling: expected a Sampling, got {type(sampling).__name__}")
     if sampling.method not in SAMPLING_METHODS:
@@ -336,11 +407,13 @@ def _check_sampling(sampling: Sampling, n_grid: int) -> None:
     if seed is not None and (isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0):
         raise InputError(f"study.seed: expected a whole number >= 0, got {seed!r}")
     if sampling.method == "grid":
+        check_study_size(n_grid, parameters)
         if cases is not None and cases != n_grid:
             raise InputError(f"study.cases: the grid has {n_grid} combinations, not {cases}; omit cases for a grid")
         return
     if cases is None:
         raise InputError(f"study.cases: required for {sampling.method} sampling")
+    check_study_size(int(cases), parameters)
     if seed is None:
         raise InputError(
             f"study.seed: required for {sampling.method} sampling "
@@ -386,7 +459,7 @@ def plan_study(study: Study) -> StudyPlan:
         if names.index(name) != k:
             raise InputError(f"study.parameters[{k}].name: {name!r} is used by two parameters")
     n_grid = math.prod(p.values.size for p in resolved) if grid else 0
-    _check_sampling(study.sampling, n_grid)
+    _check_sampling(study.sampling, n_grid, len(resolved))
     positive = {"minimum": 0.0, "exclusive_minimum": True}
     cell = None if study.cell_size is None else quantity(study.cell_size, "length", "study.cell_size", **positive)
     change = (

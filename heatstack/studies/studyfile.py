@@ -54,6 +54,8 @@ def _parameter_from_mapping(data: Any, where: str) -> Parameter:
     distribution = None
     if "distribution" in data:
         kind = data["distribution"]
+        if not isinstance(kind, str):
+            raise InputError(f"{where}.distribution: expected a name ({', '.join(DISTRIBUTIONS)}), got {kind!r:.80}")
         if kind not in DISTRIBUTIONS:
             close = difflib.get_close_matches(str(kind), DISTRIBUTIONS, n=1)
             hint = f"; did you mean {close[0]!r}?" if close else ""
