@@ -16,7 +16,7 @@ kill-safe and resumable like any study store (:mod:`heatstack.studies.store`)::
 Steps: (1) the reduced model is trained and gated on held-back full runs
 (:func:`heatstack.studies.surrogate.build_reduced_model`); (2) if accepted, it predicts
 every case of the study, and a case whose predicted margin (to a fuse plug's release or a
-limit) lies within ``confirm_within`` measured errors of zero is re-run in full, so no
+limit) lies within ``confirm_within`` measured errors (or ``confirm_margin``) of zero is re-run in full, so no
 release decision rests on the model; if refused, the study runs in full (``fallback =
 "full"``) or stops after saying so; (3) with a ``rare_event`` setting, the probability of
 the event is estimated (:mod:`heatstack.studies.rare_events`) with the model as the
@@ -265,14 +265,14 @@ def _predicted_table(plan: StudyPlan, model: ReducedModel, full: StudyTable | No
     )
 
 
-def _near_limit(model: ReducedModel, x: np.ndarray, within: float) -> np.ndarray:
-    """Rows whose predicted margin (any margin) lies within ``within`` measured errors of zero."""
+def _near_limit(model: ReducedModel, x: np.ndarray, settings: ReducedModelSettings) -> np.ndarray:
+    """Rows whose predicted margin (any margin) lies within the confirmation band of zero."""
     surface = model.surface
     margins = [j for j, n in enumerate(surface.output_names) if n.startswith(("plug_margin:", "limit_margin:"))]
     if not margins:
         return np.zeros(len(x), dtype=bool)
     predicted = surface.predict(x)[:, margins]
-    band = within * model.check.errors[margins]
+    band = settings.band(model.check.errors[margins])
     return np.any(np.abs(predicted) <= band, axis=1)
 
 
@@ -281,13 +281,13 @@ def estimate_rare_event(
     marginals: Sequence,
     settings: RareEventSettings,
     run_full: RunFull,
-    within: float,
+    model_settings: ReducedModelSettings,
     seed: int = 0,
 ) -> RareEventEstimate:
     """The probability of a rare event: the model as the margin, full runs where they decide.
 
-    A sample is run in full when any of the event's predicted margins lies within
-    ``within`` measured held-back errors of zero, or when it lies outside the box the
+    A sample is run in full when any of the event's predicted margins lies within the
+    confirmation band of zero (:meth:`ReducedModelSettings.band`), or when it lies outside the box the
     model was trained and checked on; with a refused model every sample runs in full (the
     model then only places the importance density, and the estimate stays unbiased).
 
@@ -301,8 +301,8 @@ def estimate_rare_event(
         Event, method, samples, confidence, defensive share (checked here).
     run_full : callable
         ``run_full(x, "rare")``: the full runs of rows ``x`` [SI], each output by name.
-    within : float
-        Confirmation band in measured errors [-].
+    model_settings : ReducedModelSettings
+        The model's settings (their confirmation band; checked here).
     seed : int, optional
         Seed of the samples when ``settings.seed`` is not given.
 
@@ -316,13 +316,13 @@ def estimate_rare_event(
     InputError
         If no surface could be fitted, or the event names no modelled margin.
     """
-    settings = settings.checked()
+    settings, model_settings = settings.checked(), model_settings.checked()
     if model.surface is None:
         raise InputError("study.rare_event: no reduced model could be fitted to place the samples; nothing estimated")
     surface = model.surface
     names = event_margins(settings.event, surface.output_names)
     columns = [surface.output_names.index(n) for n in names]
-    band = within * model.check.errors[columns] if model.usable else np.full(len(columns), np.inf)
+    band = model_settings.band(model.check.errors[columns]) if model.usable else np.full(len(columns), np.inf)
     seed = settings.seed if settings.seed is not None else int(seed)
 
     def predicted(x: np.ndarray) -> np.ndarray:
@@ -406,13 +406,14 @@ def run_reduced_study(
         model = build_reduced_model(runs.run, marginals, settings, int(plan.study.sampling.seed or 0))
         confirmed = 0
         if model.usable:
-            near = np.flatnonzero(_near_limit(model, plan.samples, settings.confirm_within))
+            near = np.flatnonzero(_near_limit(model, plan.samples, settings))
             confirmed = int(near.size)
             full = runs.study_cases(near.tolist()) if near.size else None
             table = _predicted_table(plan, model, full)
             decision = (
                 f"reduced model used for {plan.n_cases - confirmed} of {plan.n_cases} cases; {confirmed} cases "
-                f"with a predicted margin within {settings.confirm_within:g} measured errors of zero re-run in full"
+                f"with a predicted margin within {settings.confirm_within:g} measured errors "
+                f"(or {settings.confirm_margin:g} K) of zero re-run in full"
             )
         elif settings.fallback == "full":
             table = runs.study_cases(None)
@@ -424,7 +425,7 @@ def run_reduced_study(
         estimate = None
         if rare_event is not None:
             seed = int(plan.study.sampling.seed or 0)
-            estimate = estimate_rare_event(model, marginals, rare_event, runs.run, settings.confirm_within, seed)
+            estimate = estimate_rare_event(model, marginals, rare_event, runs.run, settings, seed)
     finally:
         if owned:
             runner.close()

@@ -15,6 +15,8 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
+
 from ..errors import InputError
 from ..units import quantity
 
@@ -69,6 +71,9 @@ class ReducedModelSettings:
     confirm_within : float
         A case whose predicted margin lies within this many measured errors of zero is
         re-run in full [-].
+    confirm_margin : float or str
+        ... and every case whose predicted margin lies within this of zero, whatever the
+        measured error (a floor for a model that measured itself very accurate) [K].
     fallback : {"full", "stop"}
         When the gate refuses: run the study's cases in full, or stop after saying so.
     kind : {"spline", "quadratic"}
@@ -89,6 +94,7 @@ class ReducedModelSettings:
     tolerance_peak: float | str = 1.0
     tolerance_time: float | str = 30.0
     confirm_within: float = 3.0
+    confirm_margin: float | str = 0.0
     fallback: str = "full"
     kind: str = "spline"
     tail: float = 1e-6
@@ -122,6 +128,7 @@ class ReducedModelSettings:
         positive = {"minimum": 0.0, "exclusive_minimum": True}
         peak = quantity(self.tolerance_peak, "temperature_difference", f"{where}.tolerance_peak", **positive)
         time = quantity(self.tolerance_time, "time", f"{where}.tolerance_time", **positive)
+        floor = quantity(self.confirm_margin, "temperature_difference", f"{where}.confirm_margin", minimum=0.0)
         confirm = self.confirm_within
         if isinstance(confirm, bool) or not isinstance(confirm, int | float) or not 0.0 <= confirm < math.inf:
             raise InputError(f"{where}.confirm_within: expected a number of errors >= 0, got {confirm!r}")
@@ -134,8 +141,28 @@ class ReducedModelSettings:
                 raise InputError(f"{where}.outputs: expected a non-empty list of output names, got {outputs!r}")
             outputs = tuple(outputs)
         return dataclasses.replace(
-            self, tolerance_peak=peak, tolerance_time=time, confirm_within=float(confirm), outputs=outputs
+            self,
+            tolerance_peak=peak,
+            tolerance_time=time,
+            confirm_within=float(confirm),
+            confirm_margin=floor,
+            outputs=outputs,
         )
+
+    def band(self, errors: np.ndarray) -> np.ndarray:
+        """Half-width of the confirmation band about a zero margin, per margin (a checked copy).
+
+        Parameters
+        ----------
+        errors : ndarray
+            Measured largest held-back error of each margin [K].
+
+        Returns
+        -------
+        ndarray
+            ``max(confirm_within * error, confirm_margin)`` [K].
+        """
+        return np.maximum(self.confirm_within * np.asarray(errors, dtype=float), float(self.confirm_margin))
 
     def tolerance_of(self, name: str) -> float:
         """The tolerance of output ``name``: a time's for peak times and delays, else a peak's.

@@ -76,11 +76,12 @@ def test_study_estimator_reproduces_the_exact_release_probability(probability):
     assert exact_probability(threshold) == pytest.approx(probability, rel=1e-9)
     calls: list = []
     run_full = lumped_runs(threshold, calls)
-    model = build_reduced_model(run_full, MARGINALS, ReducedModelSettings(training=12, held_back=8), seed=11)
+    model_settings = ReducedModelSettings(training=12, held_back=8)
+    model = build_reduced_model(run_full, MARGINALS, model_settings, seed=11)
     assert model.usable, model.note
     assert model.error_of("plug_margin:plug") < 1.0
     settings = RareEventSettings(samples=2000, seed=3)
-    estimate = estimate_rare_event(model, MARGINALS, settings, run_full, within=3.0)
+    estimate = estimate_rare_event(model, MARGINALS, settings, run_full, model_settings)
     assert estimate.contains(probability), estimate.describe()
     assert estimate.coefficient_of_variation < 0.1  # 2000 samples reach 1e-4 to better than 10 %
     assert estimate.reliability_index == pytest.approx(stats.norm.isf(probability), abs=0.05)
