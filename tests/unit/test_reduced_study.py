@@ -11,6 +11,10 @@ from __future__ import annotations
 
 import json
 import os
+import signal
+import subprocess
+import sys
+import time
 from pathlib import Path
 
 import numpy as np
@@ -286,3 +290,50 @@ def test_cli_study_with_a_reduced_model_reports_its_measured_error(folder, tmp_p
     assert "### Reduced model" in report and f"| {MARGIN} |" in report
     assert "### Rare event" in report and "importance sampling" in report
     assert "Not certified" in report or "not certified" in report
+
+
+KILLABLE = """
+import sys
+from pathlib import Path
+from heatstack.studies import LocalExecutor, load_study, run_reduced_study
+
+if __name__ == "__main__":
+    study = load_study(Path(sys.argv[1]))
+    run_reduced_study(study, Path(sys.argv[2]), executor=LocalExecutor(workers=2), progress=False)
+"""
+
+
+def test_a_killed_reduced_study_loses_no_full_run_and_resumes_to_the_same_answer(folder, tmp_path):
+    text = STUDY_FILE.replace("training = 12", "training = 40").replace("held_back = 6", "held_back = 10")
+    text = text.split("[study.rare_event]")[0]  # the design runs are what is killed here
+    (tmp_path / "lumped.toml").write_text(LUMPED)
+    (tmp_path / "study.toml").write_text(text)
+    script = tmp_path / "run.py"
+    script.write_text(KILLABLE)
+    store = tmp_path / "killed"
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join([str(ROOT), os.environ.get("PYTHONPATH", "")])}
+    proc = subprocess.Popen(
+        [sys.executable, str(script), str(tmp_path / "study.toml"), str(store)],
+        env=env,
+        start_new_session=True,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+    )
+    deadline = time.monotonic() + 90.0
+    try:
+        while len(list(store.glob("design-*/cases/case-*.h5"))) < 5:
+            assert proc.poll() is None, f"the study ended before it could be killed: {proc.stderr.read()!r}"
+            assert time.monotonic() < deadline, "no design run finished within 90 s"
+            time.sleep(0.02)
+    finally:
+        os.killpg(proc.pid, signal.SIGKILL)  # the study, its forkserver and its workers
+        proc.wait()
+    finished = len(list(store.glob("design-*/cases/case-*.h5")))
+    assert 5 <= finished < 50
+    study = load_study(tmp_path / "study.toml")
+    counter = CountingExecutor()
+    resumed = run_reduced_study(study, store, executor=counter, progress=False)
+    assert counter.submitted == resumed.total_full_runs - finished  # nothing finished was run again
+    reference = run_reduced_study(study, tmp_path / "whole", executor=SerialExecutor(), progress=False)
+    assert resumed.table.same_results(reference.table)
+    assert not list(store.glob("**/.*.tmp"))
