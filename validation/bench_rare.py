@@ -11,19 +11,23 @@ The study is an INVENTED variant of the demonstration study (no real fleet data)
 invented rejected take-off ``examples/demo_rto.toml`` at 8 mm cells and a 10 K target
 change, with a lighter aircraft so that a release is rare:
 
-* aircraft mass: normal, mean 37 t, standard deviation 2.5 t;
+* aircraft mass: normal, mean 41.5 t, standard deviation 2.5 t;
 * ambient temperature (all three phases and the brake's starting temperature): normal,
   mean 15 degC, standard deviation 8 K;
 * release temperature of each fuse plug: normal, mean 177 degC, standard deviation 1.5 K
-  (the 1e-2 cross-check lowers both means to 162.5 degC).
+  (the 1e-2 cross-check lowers both means to 163 degC).
 
 Steps: (1) one full run of the median case is timed; (2) the reduced model (thin-plate
 spline with a quadratic trend over a Sobol' design, gated on held-back full runs at 1 K;
-it models the plug margins and peaks, not peak times: a flat rim maximum's time is set by
-the step sizes and misses a 30 s tolerance, measured 20-80 s on the demo) is built and the
+over each parameter's 1e-8 and 1 - 1e-8 quantiles, so that few importance samples fall
+outside it; it models the plug margins and peaks, not peak times: a flat rim maximum's
+time is set by the step sizes and misses a 30 s tolerance, measured 20-80 s on the demo;
+nor the sensor peak, measured 0.92 K, close to the tolerance, and not part of the event)
+is built and the
 release probability of any plug is estimated by importance sampling about the design
-point found on it (:mod:`heatstack.studies.rare_events`), every sample within three
-measured errors (or 0.5 K) of release, or outside the checked box, run in full; (3) the
+point found on it (:mod:`heatstack.studies.rare_events`), every sample whose release the
+model does not settle (a margin within three measured errors, or 0.5 K, of zero) or that
+lies outside the checked box run in full; (3) the
 cross-check: the same method at the 1e-2 threshold against a plain full-run Monte Carlo of
 ``--mc-cases`` cases (Wilson interval); they agree when their intervals overlap.
 
@@ -71,7 +75,6 @@ MODELLED = (
     "plug_margin:fuse plug 2",
     "plug_peak:fuse plug 1",
     "plug_peak:fuse plug 2",
-    "peak:sensor",
 )
 
 
@@ -84,7 +87,7 @@ def variant(release_mean: str, cases: int, seed: int) -> Study:
     return Study(
         DEMO,
         [
-            Parameter("duty.phases[0].events[0].aircraft.mass", Normal("37 t", "2.5 t"), name="aircraft mass"),
+            Parameter("duty.phases[0].events[0].aircraft.mass", Normal("41.5 t", "2.5 t"), name="aircraft mass"),
             Parameter(AMBIENT_PATHS, Normal("15 degC", "8 K"), name="ambient temperature"),
             *plugs,
         ],
@@ -92,7 +95,7 @@ def variant(release_mean: str, cases: int, seed: int) -> Study:
         cell_size="8 mm",
         target_change="10 K",
         title=f"invented lighter-aircraft variant of the demo, plugs at {release_mean}",
-        reduced_model=ReducedModelSettings(outputs=MODELLED, confirm_margin="0.5 K"),
+        reduced_model=ReducedModelSettings(outputs=MODELLED, confirm_margin="0.5 K", tail=1e-8),
     )
 
 
@@ -142,9 +145,9 @@ def main() -> None:
         show("release probability near 1e-4 (plugs at 177 degC)", rare)
         print(f"wall time: {minutes:.2f} min on {args.workers} workers")
         if not args.no_check:
-            check_study = variant("162.5 degC", args.mc_cases, 13)
+            check_study = variant("163 degC", args.mc_cases, 13)
             check, check_minutes = estimate(check_study, folder / "rare-1e-2", args.samples, args.workers)
-            show("cross-check near 1e-2 (plugs at 162.5 degC)", check)
+            show("cross-check near 1e-2 (plugs at 163 degC)", check)
             started = time.perf_counter()
             plain_study = dataclasses.replace(check_study, reduced_model=None)
             # the check study's own cases in full, in its full/ store (its confirmations are reused)

@@ -181,9 +181,13 @@ class _FullRuns:
         self.progress, self.retry_failed = progress, retry_failed
         self.counts: dict[str, int] = {}
 
-    def run(self, x: np.ndarray, role: str) -> dict[str, np.ndarray]:
-        """Run the rows ``x`` in full as ``role``; each output by name (NaN where a case failed)."""
-        grows = role == "design"  # one sequence, named by its first point: a longer prefix grows the store
+    def run(self, x: np.ndarray, role: str, cases: Sequence[int] | None = None) -> dict[str, np.ndarray]:
+        """Run the rows ``x`` (only rows ``cases``, if given) in full as ``role``; each output by name.
+
+        The sub-store holds every row, named by the rows' hash (a design by its first row, so
+        that a longer prefix grows it); rows not run, and failed runs, are NaN.
+        """
+        grows = role == "design"
         tag = hashlib.sha256(np.ascontiguousarray(x[:1] if grows else x, dtype=float).tobytes()).hexdigest()[:10]
         name = f"{role}-{tag}"
         done = run_study(
@@ -192,8 +196,10 @@ class _FullRuns:
             self.executor,
             progress=self.progress,
             retry_failed=self.retry_failed,
+            cases=cases,
         )
-        self.counts[name] = done.table.counts()["ok"] + done.table.counts()["failed"]
+        counts = done.table.counts()
+        self.counts[name] = counts["ok"] + counts["failed"]
         return _columns(done.table)
 
     def study_cases(self, indices: Sequence[int] | None) -> StudyTable:
@@ -286,8 +292,9 @@ def estimate_rare_event(
 ) -> RareEventEstimate:
     """The probability of a rare event: the model as the margin, full runs where they decide.
 
-    A sample is run in full when any of the event's predicted margins lies within the
-    confirmation band of zero (:meth:`ReducedModelSettings.band`), or when it lies outside the box the
+    A sample is run in full unless the event is settled by the model: some predicted
+    margin below minus its confirmation band (:meth:`ReducedModelSettings.band`), or every
+    one above plus its band; and or when it lies outside the box the
     model was trained and checked on; with a refused model every sample runs in full (the
     model then only places the importance density, and the estimate stays unbiased).
 
@@ -300,7 +307,9 @@ def estimate_rare_event(
     settings : RareEventSettings
         Event, method, samples, confidence, defensive share (checked here).
     run_full : callable
-        ``run_full(x, "rare")``: the full runs of rows ``x`` [SI], each output by name.
+        ``run_full(x, "rare", rows)``: the full runs of ``x[rows]`` ([SI]; ``x`` is every
+        sample, so a store behind it keeps them all and reuses any run finished before),
+        each output by name for every row of ``x`` (NaN where not run).
     model_settings : ReducedModelSettings
         The model's settings (their confirmation band; checked here).
     seed : int, optional
@@ -330,12 +339,14 @@ def estimate_rare_event(
 
     def confirmed(x: np.ndarray) -> np.ndarray:
         margins = surface.predict(x)[:, columns]
-        rerun = np.any(np.abs(margins) <= band, axis=1) | ~surface.inside(x)
+        # the event is certain when a margin is below -band, its absence when every margin is above +band
+        settled = np.any(margins < -band, axis=1) | np.all(margins > band, axis=1)
+        rerun = np.flatnonzero(~settled | ~surface.inside(x))
         out = margins.min(axis=1)
-        if np.any(rerun):
-            full = run_full(x[rerun], "rare")
-            missing = np.full(int(rerun.sum()), np.nan)
-            out[rerun] = np.min(np.column_stack([full.get(n, missing) for n in names]), axis=1)
+        if rerun.size:
+            full = run_full(x, "rare", rerun)
+            missing = np.full(len(x), np.nan)
+            out[rerun] = np.min(np.column_stack([full.get(n, missing) for n in names]), axis=1)[rerun]
         return out
 
     if settings.method == "monte_carlo":

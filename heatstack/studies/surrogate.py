@@ -61,8 +61,9 @@ __all__ = [
     "build_reduced_model",
 ]
 
-#: Full runs: parameter rows (n, d) [SI] and a role name -> outputs by name, (n,) each [SI], NaN where a case failed.
-RunFull = Callable[[np.ndarray, str], Mapping[str, np.ndarray]]
+#: Full runs: parameter rows (n, d) [SI], a role name and optionally the rows to run (all by default) ->
+#: outputs by name, (n,) each [SI], NaN where a case failed or was not run.
+RunFull = Callable[..., Mapping[str, np.ndarray]]
 
 #: Output name prefixes modelled by default.
 MODELLED_PREFIXES = ("peak:", "peak_time:", "peak_delay:", "limit_margin:", "plug_peak:", "plug_margin:")

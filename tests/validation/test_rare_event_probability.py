@@ -61,10 +61,12 @@ def exact_probability(threshold: float) -> float:
 def lumped_runs(threshold: float, calls: list | None = None):
     """The closed form standing in for full runs: peak and plug margin of each row (E, T_a)."""
 
-    def run_full(x: np.ndarray, role: str) -> dict[str, np.ndarray]:
+    def run_full(x: np.ndarray, role: str, rows=None) -> dict[str, np.ndarray]:
         if calls is not None:
-            calls.append((role, len(x)))
+            calls.append((role, len(x) if rows is None else len(rows)))
         peak = x[:, 1] + x[:, 0] / HEAT_CAPACITY
+        if rows is not None:  # only those rows are "run"
+            peak = np.where(np.isin(np.arange(len(x)), rows), peak, np.nan)
         return {"peak:body": peak, "plug_margin:plug": threshold - peak}
 
     return run_full
