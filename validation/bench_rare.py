@@ -47,6 +47,7 @@ import tempfile
 import time
 from pathlib import Path
 
+from heatstack.report import CAUTION
 from heatstack.studies import (
     LocalExecutor,
     Normal,
@@ -136,7 +137,8 @@ def main() -> None:
     parser.add_argument("--no-check", action="store_true", help="skip the 1e-2 cross-check")
     parser.add_argument("--keep", help="keep the stores in this folder (a rerun resumes them)")
     args = parser.parse_args()
-    print("Not certified data: an invented variant of the invented demonstration study.")
+    print(CAUTION)
+    print("An INVENTED variant of the invented demonstration study; no real fleet data.")
     print(f"load average at start: {', '.join(f'{x:.2f}' for x in os.getloadavg())} on {os.cpu_count()} cores")
     print(f"one full run (median case, this process): {time_one_case():.2f} s")
     folder = Path(args.keep) if args.keep else Path(tempfile.mkdtemp(prefix="bench-rare-"))

@@ -41,13 +41,14 @@ References
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
 from scipy import optimize, stats
 
-from ..errors import InputError
+from ..errors import HeatstackWarning, InputError
 from .analysis import binomial_intervals
 
 __all__ = [
@@ -268,6 +269,17 @@ def find_design_point(
     return np.asarray(u_star, dtype=float), float(np.linalg.norm(u_star))
 
 
+def _warn_failed(margins: np.ndarray) -> None:
+    failed = int(np.count_nonzero(~np.isfinite(margins)))
+    if failed:
+        warnings.warn(
+            f"rare event: {failed} of {margins.size} samples have no margin (a full run failed); "
+            "importance sampling counts them outside the event, Monte Carlo leaves them out",
+            HeatstackWarning,
+            stacklevel=3,
+        )
+
+
 def _check_counts(samples: int, confidence: float) -> None:
     if isinstance(samples, bool) or not isinstance(samples, int | np.integer) or samples < 2:
         raise InputError(f"rare event: samples must be a whole number >= 2, got {samples!r}")
@@ -326,6 +338,7 @@ def importance_sampling(
     weights = 1.0 / (defensive + (1.0 - defensive) * np.exp(np.minimum(log_ratio, 700.0)))
     rows = from_standard_normal(marginals, u)
     margins = np.asarray(margin(rows), dtype=float).reshape(samples)
+    _warn_failed(margins)
     event = margins <= 0.0
     terms = np.where(event, weights, 0.0)
     estimate = float(terms.mean())
@@ -391,6 +404,7 @@ def monte_carlo(
     rng = np.random.default_rng([seed, 104723])
     rows = from_standard_normal(marginals, rng.standard_normal((samples, len(marginals))))
     margins = np.asarray(margin(rows), dtype=float).reshape(samples)
+    _warn_failed(margins)
     finished = np.isfinite(margins)
     n = int(np.count_nonzero(finished))
     if n == 0:

@@ -163,3 +163,18 @@ def test_gate_accepts_a_sufficient_training_set_grown_where_the_error_is_largest
     truth = curved_runs(x, "check")["peak:body"]
     worst = np.max(np.abs(model.surface.predict(x)[:, model.surface.output_names.index("peak:body")] - truth))
     assert worst < 3.0 * 1.0
+
+
+def test_a_failed_full_run_among_the_samples_is_said_not_hidden():
+    from heatstack.errors import HeatstackWarning
+
+    threshold = threshold_for(1e-2)
+
+    def margin(x):
+        out = threshold - (x[:, 1] + x[:, 0] / HEAT_CAPACITY)
+        out[0] = np.nan  # one full run failed
+        return out
+
+    with pytest.warns(HeatstackWarning, match="1 of 500 samples have no margin"):
+        plain = monte_carlo(margin, MARGINALS, 500, seed=1)
+    assert plain.samples == 499
