@@ -178,3 +178,24 @@ def test_a_failed_full_run_among_the_samples_is_said_not_hidden():
     with pytest.warns(HeatstackWarning, match="1 of 500 samples have no margin"):
         plain = monte_carlo(margin, MARGINALS, 500, seed=1)
     assert plain.samples == 499
+
+
+def test_no_release_decision_rests_on_the_model_error():
+    # a deliberately coarse model (about 2 K off, accepted under a loose 100 K tolerance): every sample whose
+    # event the model could get wrong runs in full, so each sample's event is the closed form's own
+    def run_full(x, role, rows=None):
+        out = curved_runs(x, role)
+        if rows is not None:
+            keep = np.isin(np.arange(len(x)), rows)
+            out = {k: np.where(keep, v, np.nan) for k, v in out.items()}
+        return out
+
+    marginals = [ENERGY, AMBIENT, CAPACITY]
+    model_settings = ReducedModelSettings(training=20, held_back=20, rounds=1, tolerance_peak="100 K")
+    model = build_reduced_model(run_full, marginals, model_settings, seed=3)
+    assert model.usable and model.error_of("plug_margin:plug") > 1.0
+    estimate = estimate_rare_event(model, marginals, RareEventSettings(samples=2000, seed=5), run_full, model_settings)
+    truth = curved_runs(estimate.rows, "truth")["plug_margin:plug"]
+    predicted = model.surface.predict(estimate.rows)[:, model.surface.output_names.index("plug_margin:plug")]
+    assert np.any((predicted <= 0) != (truth <= 0))  # the model alone would have decided some samples wrongly
+    assert np.array_equal(estimate.margins <= 0, truth <= 0)
