@@ -1,4 +1,9 @@
-"""The ``heatstack study`` verb: run or resume a study, report it, and fail when no case finished."""
+"""The ``heatstack study`` verb: run or resume a study, report it, and fail when no case finished.
+
+A study file with a ``[study.reduced_model]`` or ``[study.rare_event]`` table runs on a
+checked reduced model (:func:`heatstack.studies.reduced_study.run_reduced_study`) and its
+report adds the gate's verdict, the measured errors and the rare-event estimate.
+"""
 
 from __future__ import annotations
 
@@ -71,6 +76,7 @@ def cmd_study(args: argparse.Namespace) -> int:
     """
     from .own_files import check_replaceable, replacing_own_files_only
     from .studies import LocalExecutor, load_study, run_study, study_report
+    from .studies.reduced_study import reduced_model_lines, run_reduced_study
 
     study = load_study(args.study)
     if getattr(args, "check", False):
@@ -79,11 +85,12 @@ def cmd_study(args: argparse.Namespace) -> int:
     if args.report and not args.force:
         check_replaceable(Path(args.report), "report file")  # before the study, not after it
     executor = args.scheduler or LocalExecutor(workers=args.workers)
+    reduced = study.reduced_model is not None or study.rare_event is not None
     try:
-        run = run_study(
+        run = (run_reduced_study if reduced else run_study)(
             study,
             store,
-            executor,
+            executor=executor,
             progress=None if not args.quiet else False,
             retry_failed=args.retry_failed,
             timeout=args.timeout,
@@ -91,11 +98,15 @@ def cmd_study(args: argparse.Namespace) -> int:
     finally:
         if not isinstance(executor, str):
             executor.close()
-    print(
-        f"study: {run.cases_run} cases run, {run.cases_skipped} already in the store, "
-        f"{run.cases_failed} failed, {run.seconds:.1f} s"
-    )
-    report = study_report(run.table, temperature_unit=args.unit)
+    if reduced:
+        print(f"study: {run.decision}; {run.total_full_runs} full runs in the store, {run.seconds:.1f} s")
+        report = study_report(run.table, temperature_unit=args.unit) + "\n".join(reduced_model_lines(run)) + "\n"
+    else:
+        print(
+            f"study: {run.cases_run} cases run, {run.cases_skipped} already in the store, "
+            f"{run.cases_failed} failed, {run.seconds:.1f} s"
+        )
+        report = study_report(run.table, temperature_unit=args.unit)
     print(report)
     with replacing_own_files_only(args.force):
         write_study_outputs(args, run, report, store)

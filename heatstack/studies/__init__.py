@@ -43,7 +43,10 @@ from .description import Sampling, Study, StudyPlan, plan_study
 from .distributions import DISTRIBUTIONS, Distribution, LogNormal, Normal, Triangular, TruncatedNormal, Uniform
 from .executors import DaskExecutor, ExecutorError, LocalExecutor, SerialExecutor, StudyExecutor
 from .parameters import Parameter
+from .rare_events import RareEventEstimate
+from .reduced_study import ReducedStudyRun, run_reduced_study
 from .runner import CaseOutcome, StudyRun, run_study, summarise
+from .settings import RareEventSettings, ReducedModelSettings
 from .store import StudyStore, load_table
 from .studyfile import load_study, study_from_mapping
 
@@ -59,6 +62,10 @@ __all__ = [
     "OptionalDependencyError",
     "Parameter",
     "ProbabilityEstimate",
+    "RareEventEstimate",
+    "RareEventSettings",
+    "ReducedModelSettings",
+    "ReducedStudyRun",
     "Sampling",
     "SerialExecutor",
     "Sensitivity",
@@ -79,6 +86,7 @@ __all__ = [
     "margin_percentiles",
     "plan_study",
     "release_probability",
+    "run_reduced_study",
     "run_study",
     "sensitivity",
     "study_from_mapping",

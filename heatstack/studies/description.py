@@ -54,6 +54,7 @@ from ..errors import HeatstackError, InputError
 from ..units import quantity
 from .parameters import Parameter, ResolvedParameter, closest_path, design_fields, resolve_parameter
 from .paths import format_path, set_value_at
+from .settings import RareEventSettings, ReducedModelSettings
 
 __all__ = [
     "Parameter",
@@ -201,6 +202,12 @@ class Study:
     target_change : float or str, optional
         Overrides the solver's target temperature change per step [K] for speed.
     title : str
+    reduced_model : ReducedModelSettings, optional
+        Stand a checked reduced-order model in for full runs
+        (:func:`heatstack.studies.reduced_study.run_reduced_study`); not part of the
+        fingerprint, so the full runs of a study are reused whatever its model settings.
+    rare_event : RareEventSettings, optional
+        Also estimate a rare event's probability on the reduced model.
     """
 
     base_case: str | Path
@@ -210,6 +217,8 @@ class Study:
     cell_size: float | str | None = None
     target_change: float | str | None = None
     title: str = "untitled study"
+    reduced_model: ReducedModelSettings | None = None
+    rare_event: RareEventSettings | None = None
 
     def plan(self) -> StudyPlan:
         """Resolve against the base case: see :func:`plan_study`.
@@ -468,6 +477,11 @@ def plan_study(study: Study) -> StudyPlan:
         else quantity(study.target_change, "temperature_difference", "study.target_change", **positive)
     )
     outputs = _check_outputs(study.outputs, base_case)
+    for key, settings in (("reduced_model", study.reduced_model), ("rare_event", study.rare_event)):
+        if settings is not None:
+            if not isinstance(settings, ReducedModelSettings | RareEventSettings):
+                raise InputError(f"study.{key}: expected settings, got {type(settings).__name__}")
+            settings.checked(f"study.{key}")
     # every parameter alone, then all together, at a representative value: catches keys
     # the case does not accept and values of the wrong type before any case runs
     for k, p in enumerate(resolved):

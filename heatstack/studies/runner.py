@@ -50,6 +50,7 @@ __all__ = [
     "run_one_case",
     "summarise",
     "clear_model_cache",
+    "resolve_executor",
 ]
 
 log = logging.getLogger(__name__)
@@ -296,7 +297,29 @@ class StudyRun:
         return self.cases_run / self.seconds if self.seconds > 0 else math.nan
 
 
-def _executor(executor: StudyExecutor | str | None, timeout: float) -> tuple[StudyExecutor, bool]:
+def resolve_executor(executor: StudyExecutor | str | None, timeout: float) -> tuple[StudyExecutor, bool]:
+    """The executor a study runs on, and whether the caller owns it (must close it).
+
+    Parameters
+    ----------
+    executor : StudyExecutor or str, optional
+        ``None`` or ``"local"``: a new :class:`LocalExecutor`; a string: a new
+        :class:`DaskExecutor` for that scheduler address; an executor object: itself.
+    timeout : float
+        Seconds to wait for a Dask scheduler given by address [s].
+
+    Returns
+    -------
+    executor : StudyExecutor
+        The executor (not yet started).
+    owned : bool
+        True when it was made here (the caller closes it).
+
+    Raises
+    ------
+    InputError
+        If ``executor`` is none of these.
+    """
     if executor is None or executor == "local":
         return LocalExecutor(), True
     if isinstance(executor, str):
@@ -344,6 +367,7 @@ def run_study(
     progress: bool | Callable[[int, int], None] | None = None,
     retry_failed: bool = False,
     timeout: float = 10.0,
+    cases: Sequence[int] | None = None,
 ) -> StudyRun:
     """Run (or resume) a study into a store folder.
 
@@ -362,6 +386,9 @@ def run_study(
         Run again the cases the store records as failed.
     timeout : float
         Seconds to wait for a Dask scheduler given by address [s].
+    cases : sequence of int, optional
+        Run only these case numbers (the others stay as they are in the store; a reduced
+        model's confirmations run this way). All cases by default.
 
     Returns
     -------
@@ -377,14 +404,17 @@ def run_study(
     plan = study if isinstance(study, StudyPlan) else plan_study(study)
     target = StudyStore(store)
     target.preflight()
-    runner, owned = _executor(executor, timeout)
+    runner, owned = resolve_executor(executor, timeout)
     started = time.perf_counter()
     run = failed = skipped = 0
     try:
         runner.start()
         with target.session(plan) as session:
             todo = session.todo(retry_failed=retry_failed)
-            skipped = plan.n_cases - len(todo)
+            wanted = range(plan.n_cases) if cases is None else sorted({int(k) for k in cases})
+            skipped = len(wanted) - len(todo) if cases is None else len(set(wanted) - set(todo))
+            if cases is not None:
+                todo = sorted(set(todo) & set(wanted))
             log.info(
                 "study %r: %d cases, %d in the store, %d to run on %s",
                 plan.study.title,

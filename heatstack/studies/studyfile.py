@@ -18,6 +18,7 @@ from ..errors import InputError
 from .description import Sampling, Study
 from .distributions import DISTRIBUTIONS
 from .parameters import Parameter
+from .settings import RareEventSettings, ReducedModelSettings
 
 __all__ = ["study_from_mapping", "load_study"]
 
@@ -31,8 +32,24 @@ _STUDY_KEYS = (
     "target_change",
     "outputs",
     "parameters",
+    "reduced_model",
+    "rare_event",
 )
 _PARAMETER_KEYS = ("path", "name", "dimension", "values", "distribution")
+
+
+def _settings_from_mapping(data: Any, cls: type, where: str) -> Any:
+    if data is None:
+        return None
+    if not isinstance(data, Mapping):
+        raise InputError(f"{where}: expected a table ([{where}])")
+    _unknown(data, [f.name for f in fields(cls)], where)
+    values = dict(data)
+    if isinstance(values.get("outputs"), list):
+        values["outputs"] = tuple(values["outputs"])
+    settings = cls(**values)
+    settings.checked(where)
+    return settings
 
 
 def _unknown(data: Mapping, allowed: Sequence[str], where: str) -> None:
@@ -104,6 +121,19 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
             target_change = "8 K"
             outputs = ["sensor", "hottest rotor"]  # optional
 
+            [study.reduced_model]                  # optional: a checked reduced model
+            training = 40                          # full runs it is fitted to (Sobol' design)
+            held_back = 12                         # full runs it is checked on
+            tolerance_peak = "1 K"                 # accepted error of peaks and margins
+            tolerance_time = "30 s"                # accepted error of peak times
+            confirm_within = 3                     # re-run in full within 3 errors of a limit
+            fallback = "full"                      # refused: run in full, or "stop"
+
+            [study.rare_event]                     # optional: a rare release's probability
+            event = "any_plug_released"            # or "any_limit", or a margin column
+            method = "importance_sampling"         # or "monte_carlo" (the check)
+            samples = 2000
+
             [[study.parameters]]
             path = "duty.phases[0].events[0].mass"
             name = "aircraft mass"
@@ -152,6 +182,8 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
         cell_size=table.get("cell_size"),
         target_change=table.get("target_change"),
         title=title,
+        reduced_model=_settings_from_mapping(table.get("reduced_model"), ReducedModelSettings, "study.reduced_model"),
+        rare_event=_settings_from_mapping(table.get("rare_event"), RareEventSettings, "study.rare_event"),
     )
 
 
