@@ -29,6 +29,7 @@ _STUDY_KEYS = (
     "seed",
     "cell_size",
     "target_change",
+    "accuracy",
     "outputs",
     "parameters",
 )
@@ -99,7 +100,7 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
             cases = 200
             seed = 7
             cell_size = "8 mm"                     # optional speed overrides
-            target_change = "8 K"
+            accuracy = "0.5 K"                     # BDF2 step control: peaks within about 0.5 K
             outputs = ["sensor", "hottest rotor"]  # optional
 
             [[study.parameters]]
@@ -149,6 +150,7 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
         outputs=None if outputs is None else tuple(outputs),
         cell_size=table.get("cell_size"),
         target_change=table.get("target_change"),
+        accuracy=table.get("accuracy"),
         title=title,
     )
 
