@@ -32,7 +32,7 @@ class SolverOptions:
     accuracy : float
         BDF2 scheme: the wanted accuracy of peak temperatures [K], "peaks within about this
         of the converged answer". It sets the local-error tolerance of every step and cell,
-        ``0.75 accuracy + 1.5e-3 [1/K] accuracy |T - T_ambient|``; the mapping was
+        ``0.9 accuracy + 1.8e-3 [1/K] accuracy |T - T_ambient|``; the mapping was
         calibrated on the demonstration case by ``validation/bench_accuracy.py`` (at the
         default 0.2 K its largest peak error against a converged run was 0.18 K).
     target_change : float, optional

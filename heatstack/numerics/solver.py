@@ -166,11 +166,16 @@ class Integrator:
         predictor.accept(t, T)
         bdf2 = opt.scheme == "bdf2"
         last = None  # the previous accepted step: the error estimate's predictor and the BDF2 history
+        ambient = float(np.min(T, initial=0.0))
+        restarted = False  # the step was reset to initial_step where heating starts
         after_breakpoint = True  # backward Euler for the first step and the first after every breakpoint
         for target in breakpoints:
             while t < target - 1e-9 * max(1.0, abs(target)):
                 multistep = bdf2 and last is not None and not after_breakpoint
                 proposal = min(dt, MAX_STEP_RATIO * last.dt) if multistep else dt
+                if bdf2 and after_breakpoint and last is not None and opt.fixed_step is None and not restarted:
+                    # (where heating starts the step restarts from initial_step, as a chained run's does)
+                    proposal = control.corner_step(t, proposal, T, H, surfaces, last, ambient)
                 step = control.land(t, proposal, target)
                 outcome, taken, norm = control.advance(
                     t, step, T, H, predictor.guess(t + step), surfaces, last, multistep
@@ -184,7 +189,7 @@ class Integrator:
                     self.progress(t)
                 self.stats["steps"] += 1
                 self.stats["bdf2_steps"] += int(multistep)
-                last, after_breakpoint = outcome.history, False
+                last, after_breakpoint, ambient, restarted = outcome.history, False, outcome.ambient, False
                 if taken == step and step < proposal:
                     # a step shortened only to land on a breakpoint does not shrink the next one
                     dt = control.next_step(proposal, T - T_prev) if not bdf2 else proposal
@@ -196,7 +201,7 @@ class Integrator:
                 predictor.kink()
                 after_breakpoint = True
             if opt.fixed_step is None and control.heating_starts(target):
-                dt = opt.initial_step
+                dt, restarted = opt.initial_step, True
                 predictor.restart()
                 predictor.accept(t, T)
         rec.snapshot(t, T)

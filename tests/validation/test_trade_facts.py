@@ -34,9 +34,9 @@ def heavy_stop():
             DutyPhase("parked", "3 h", Environment(), clamped=True),
         ]
     )
-    # a peak time is resolved to the record spacing: at accuracy 0.05 K the records near the
-    # gauge's flat peak (about 640 s after braking) are ~35 s apart, at the default 0.2 K ~50 s
-    options = SolverOptions(accuracy=0.05)
+    # a peak time is resolved to the record spacing: at accuracy 0.02 K the records near the
+    # gauge's flat peak (about 640 s after braking) are ~27 s apart, at the default 0.2 K ~53 s
+    options = SolverOptions(accuracy=0.02)
     return built, model.run(duty.schedule(built.assembly.surfaces), 288.15, options)
 
 
