@@ -86,13 +86,13 @@ H_CONV = 50.0  # W/(m^2 K)
 
 
 def _lumped_errors(scheme: str, steps: tuple[float, ...]) -> np.ndarray:
-    # One cell of a very conductive block (Bi ~ 1e-5), convection on every face: lumped
+    # One cell of a very conductive block (Bi ~ 1e-7), convection on every face: lumped
     # capacitance, Incropera 6th ed. eq. 5.6, theta / theta_i = exp(-t / tau) at t = 2 tau.
     r1, r2, height = 0.10, 0.11, 0.01
     volume = np.pi * (r2**2 - r1**2) * height
     area = 2 * np.pi * (r2**2 - r1**2) + 2 * np.pi * (r1 + r2) * height
     rho_c = TAU * H_CONV * area / volume
-    material = simple_material("lumped", density=1000.0, specific_heat=rho_c / 1000.0, conductivity=1e5)
+    material = simple_material("lumped", density=1000.0, specific_heat=rho_c / 1000.0, conductivity=1e7)
     assembly = Assembly(parts=[Part("body", "lumped", r1, r2, 0.0, height)])
     model = Model.build(assembly, cell_size=0.05, min_cells=1, materials={"lumped": material})
     assert model.network.n_cells == 1
