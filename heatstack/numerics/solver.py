@@ -212,11 +212,11 @@ class Integrator:
 def landing_times(schedule: Schedule, smooth_nodes: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """The schedule's breakpoints the steps land on, and the corners among them.
 
-    A tabulated power history (a ground roll sampled every few hundredths of a second) has
+    A tabulated power history (one sampled every few hundredths of a second) has
     nodes where nothing happens: the power there lies on the straight line through its
     neighbours to within :data:`CORNER_FRACTION` of the peak power. A step may cross such a
     node, since :meth:`Schedule.energy` integrates the table exactly. The corners (the
-    start and end of the run and of heating, a spoiler or reverser ramp, the phase ends)
+    start and end of the run and of heating, a steep ramp of the power, the phase ends)
     are landed on and restart the BDF2 history with a backward-Euler step; the extra
     breakpoints (output times) are landed on only.
 

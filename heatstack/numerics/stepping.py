@@ -8,8 +8,8 @@ With the BDF2 scheme (the default) the step follows a local error estimate: the
 predictor-corrector difference of :func:`~heatstack.numerics.multistep.local_error`,
 measured cell by cell against ``atol + rtol |T - T_ambient|`` (a tolerance on the rise
 above ambient, so a slow cooling tail is held to the same relative accuracy as the
-pulse) in the maximum norm (the answers are peaks of single places - a fuse plug, a bead
-seat, a sensor - which a mean over the cells would let drift). A step whose norm
+pulse) in the maximum norm (the answers read are peaks at single places - a probe, a
+cell - which a mean over the cells would let drift). A step whose norm
 exceeds 1 is rejected and retried shorter; the next step is ``0.9 norm^(-1/(p+1))``
 times the last (``p`` = 2 for BDF2, 1 for backward Euler), within the growth and shrink
 limits. A rejection or a Newton cut leaves the accepted history valid, so the retry is a
