@@ -107,7 +107,7 @@ class StepControl:
     network : Network
     schedule : Schedule
     options : SolverOptions
-        The step-size controls (target change, step limits, growth, fixed step, cuts).
+        The step-size controls (scheme, accuracy or target change, step limits, growth, fixed step, cuts).
     newton : NewtonStep
         Takes the steps.
     stats : dict
@@ -171,8 +171,9 @@ class StepControl:
         surfaces : SurfaceTemperatures
             Surface temperatures at ``t``, the start of the boundary linearisation.
         last : StepHistory, optional
-            The step that ended at ``t``: the error estimate's predictor (BDF2 scheme), and the
-            BDF2 history when ``multistep``.
+            The step that ended at ``t``: the BDF2 history and the slope of the error estimate's
+            predictor when ``multistep`` (a backward-Euler step's predictor takes the rate at
+            ``t`` under the step's own laws instead).
         multistep : bool
             Take a BDF2 step over ``last`` (else backward Euler).
 
