@@ -66,6 +66,9 @@ RELATIVE_TOLERANCE_PER_ACCURACY = 1.8e-3
 
 #: The first step after a corner carries the old rate's error to at most this many tolerances.
 CORNER_SAFETY = 0.5
+#: Error-test rejections of one step before it is accepted as it is (the estimate has then
+#: hit a floor, such as the Newton tolerance, and no longer falls with the step).
+MAX_ERROR_REJECTIONS = 8
 #: Smallest factor by which a rejected BDF2-scheme step is shortened.
 SHRINK_LIMIT = 0.2
 #: Smallest factor by which a rejected backward-Euler step (after a breakpoint) is shortened.
@@ -87,16 +90,15 @@ def newton_tolerance(options: SolverOptions) -> float:
     Returns
     -------
     float
-        ``options.tolerance`` when given; else a tenth of the absolute local-error tolerance
-        for the error-controlled BDF2 scheme (the iteration's remaining error then does not
-        pollute the error estimate; energy stays exact at any Newton tolerance, by the
-        conservative update), and 1e-3 K otherwise.
+        For the error-controlled BDF2 scheme a tenth of the absolute local-error tolerance,
+        or ``options.tolerance`` if that is tighter (the iteration's remaining error then
+        does not pollute the error estimate; energy stays exact at any Newton tolerance, by
+        the conservative update); otherwise ``options.tolerance``, 1e-3 K when not given.
     """
-    if options.tolerance is not None:
-        return options.tolerance
     if options.scheme != "bdf2" or options.fixed_step is not None:
-        return DEFAULT_NEWTON_TOLERANCE
-    return NEWTON_SHARE * ABSOLUTE_TOLERANCE_PER_ACCURACY * options.accuracy
+        return DEFAULT_NEWTON_TOLERANCE if options.tolerance is None else options.tolerance
+    share = NEWTON_SHARE * ABSOLUTE_TOLERANCE_PER_ACCURACY * options.accuracy
+    return share if options.tolerance is None else min(options.tolerance, share)
 
 
 class StepControl:
@@ -193,7 +195,7 @@ class StepControl:
         """
         opt = self.opt
         euler = opt.scheme == "euler"
-        cut = 0
+        cut = error_rejections = 0
         while cut <= opt.max_step_cuts:
             try:
                 outcome = self.newton.step(t, dt, T, H, guess, surfaces, last if multistep else None)
@@ -217,12 +219,16 @@ class StepControl:
                     continue
                 return outcome, dt, None
             norm = self.error_norm(outcome, t, dt, T, H, surfaces, last if multistep else None)
-            if norm > 1.0 and dt > opt.min_step:
+            if norm > 1.0 and dt > opt.min_step and error_rejections < MAX_ERROR_REJECTIONS:
                 self.stats["rejected_steps"] += 1
+                error_rejections += 1
                 limit, exponent = (SHRINK_LIMIT, -1.0 / 3.0) if multistep else (EULER_SHRINK_LIMIT, -0.5)
                 dt = max(opt.min_step, dt * max(limit, 0.9 * norm**exponent))
-                guess, cut = T, cut + 1
+                guess = T
                 continue
+            if norm > 1.0:  # the estimate no longer falls with the step: accept, and count it
+                self.stats["accepted_above_tolerance"] = self.stats.get("accepted_above_tolerance", 0) + 1
+                log.debug("step at t=%g s, dt=%g s accepted at error norm %.3g", t, dt, norm)
             return outcome, dt, norm
         raise SolverError(f"at t = {t:.6g} s the step could not be completed")
 
