@@ -35,7 +35,7 @@ from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Pr
 from .material_files import material_from_mapping
 from .materials import Material
 from .model import Model
-from .numerics.options import SolverOptions
+from .numerics.options import SCHEMES, SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .property_table import forget_warnings
 from .questions.chaining import read_start, run_from_state, state_for_model
@@ -373,10 +373,18 @@ def _solver(t: CaseTable) -> SolverOptions:
         t.convert(v, (*t.tokens, "snapshot_times", k), f"{t.where('snapshot_times')}[{k}]")
         for k, v in enumerate(snapshots)
     )
-    values = t.declared(SolverOptions, ("target_change", "initial_step", "max_step", "tolerance"))
+    scheme = t.text("scheme", "bdf2")
+    if scheme not in SCHEMES:
+        raise InputError(f"{t.where('scheme')}: expected one of {', '.join(map(repr, SCHEMES))}, got {scheme!r}")
+    if scheme == "bdf2" and t.has("target_change"):
+        raise InputError(
+            f'{t.where("target_change")}: applies to scheme = "euler" only; with scheme "bdf2" (the default) '
+            'the step follows the error estimate: give accuracy (e.g. accuracy = "0.2 K") instead'
+        )
+    values = t.declared(SolverOptions, ("accuracy", "target_change", "initial_step", "max_step", "tolerance"))
     t.finish(tuple(sorted(t.used | {"max_steps", "max_wall_time"})))
     try:
-        return SolverOptions(**values, snapshot_times=times)
+        return SolverOptions(scheme=scheme, **values, snapshot_times=times)
     except InputError as exc:
         raise InputError(f"{t.path}: {exc}") from exc
 

@@ -233,7 +233,8 @@ def watch_budget(
             raise BudgetExceeded(
                 f"the run reached its budget of {what} at t = {t:g} s of {end:g} s ({done:.1f} % of the duty) "
                 f"after {steps} steps and {spent:.0f} s; no results file was written. Loosen "
-                "solver.target_change or solver.tolerance, or raise solver.max_steps / solver.max_wall_time"
+                'solver.accuracy (solver.target_change with scheme = "euler"), '
+                "or raise solver.max_steps / solver.max_wall_time"
             )
 
     return watch

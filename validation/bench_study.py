@@ -9,11 +9,11 @@ repository root::
 
 Step 1 (settings): the demonstration case ``examples/demo_rto.toml`` (an invented
 rejected take-off, 5 min held, 3 h of parked cooling) is run once at each cell size
-4 / 6 / 8 mm and solver target change 4 / 8 / 10 K, timed, and its sensor and fuse-plug
-peaks compared with the case's defaults (4 mm, 4 K). The study settings are the
-coarsest cell and then the largest target change whose peaks (sensor and both plugs)
-stay within ``--tolerance`` (1 K) of the defaults; ``--cell-size`` and
-``--target-change`` override the choice.
+4 / 6 / 8 mm and solver accuracy 0.15 / 0.5 / 1 K (the BDF2 step control), timed, and its
+sensor and fuse-plug peaks compared with the case's defaults (4 mm, 0.15 K). The study
+settings are the coarsest cell and then the loosest accuracy whose peaks (sensor and both
+plugs) stay within ``--tolerance`` (1 K) of the defaults; ``--cell-size`` and
+``--accuracy`` override the choice.
 
 Step 2 (study): a Latin hypercube of ``--cases`` cases (seed 20261201) on a local process
 pool of ``--workers`` processes (every core by default) or a Dask cluster. The varied
@@ -68,20 +68,20 @@ from heatstack.studies import (
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "examples" / "demo_rto.toml"
 CELLS = (0.004, 0.006, 0.008)
-CHANGES = (4.0, 8.0, 10.0)
+ACCURACIES = (0.15, 0.5, 1.0)
 WATCHED = ("sensor", "fuse plug 1", "fuse plug 2")
 SEED = 20261201
 
 
 def settings_sweep() -> list[dict]:
-    """Run the demo once per (cell size, target change); return timings and peaks."""
+    """Run the demo once per (cell size, accuracy); return timings and peaks."""
     text = DEMO.read_text(encoding="utf-8")
     rows = []
     for cell in CELLS:
-        for change in CHANGES:
+        for accuracy in ACCURACIES:
             data = tomllib.loads(text)
             data["assembly"]["cell_size"] = cell
-            data.setdefault("solver", {})["target_change"] = change
+            data.setdefault("solver", {})["accuracy"] = accuracy
             case = case_from_mapping(data, text, DEMO.name, DEMO.parent)
             started = time.perf_counter()
             model = case.build_model()
@@ -90,7 +90,7 @@ def settings_sweep() -> list[dict]:
             rows.append(
                 {
                     "cell": cell,
-                    "change": change,
+                    "accuracy": accuracy,
                     "cells": model.n_cells,
                     "steps": result.metadata["solver"]["steps"],
                     "seconds": seconds,
@@ -101,15 +101,15 @@ def settings_sweep() -> list[dict]:
 
 
 def choose(rows: list[dict], tolerance: float) -> tuple[dict, dict]:
-    reference = next(r for r in rows if r["cell"] == CELLS[0] and r["change"] == CHANGES[0])
+    reference = next(r for r in rows if r["cell"] == CELLS[0] and r["accuracy"] == ACCURACIES[0])
     for row in rows:
         row["diff"] = {n: row["peaks"][n] - reference["peaks"][n] for n in WATCHED}
     fits = [r for r in rows if max(abs(v) for v in r["diff"].values()) <= tolerance]
-    chosen = max(fits, key=lambda r: (r["cell"], r["change"]))
+    chosen = max(fits, key=lambda r: (r["cell"], r["accuracy"]))
     return chosen, reference
 
 
-def invented_study(cell: float, change: float, cases: int) -> Study:
+def invented_study(cell: float, accuracy: float, cases: int) -> Study:
     case = load_case(DEMO)
     h = case.built.design.rotor_stator_clamped
     plugs = [
@@ -141,7 +141,7 @@ def invented_study(cell: float, change: float, cases: int) -> Study:
         Sampling("latin_hypercube", cases, SEED),
         outputs=["sensor", "hottest rotor", "fuse plug 1", "fuse plug 2"],
         cell_size=cell,
-        target_change=change,
+        accuracy=accuracy,
         title="invented RTO fuse-plug Monte Carlo (benchmark)",
     )
 
@@ -153,38 +153,38 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--dask", default=None, help="Dask scheduler address instead of a local pool")
     parser.add_argument("--tolerance", type=float, default=1.0, help="accepted peak change [K]")
     parser.add_argument("--cell-size", type=float, default=None, help="[m], skips the choice")
-    parser.add_argument("--target-change", type=float, default=None, help="[K], skips the choice")
+    parser.add_argument("--accuracy", type=float, default=None, help="[K], skips the choice")
     parser.add_argument("--store", default=None, help="store folder (kept); a temporary one by default")
     args = parser.parse_args(argv)
 
     print("Not certified data. Invented demonstration case and invented scatter.")
     print(f"machine: {os.cpu_count()} cores; python {sys.version.split()[0]}")
-    print("\n1. settings: one demo case (RTO + 5 min held + 3 h cooling), differences vs 4 mm / 4 K")
+    print("\n1. settings: one demo case (RTO + 5 min held + 3 h cooling), differences vs 4 mm / 0.15 K")
     rows = settings_sweep()
     chosen, reference = choose(rows, args.tolerance)
-    print(f"{'cell':>6} {'dT':>5} {'cells':>6} {'steps':>6} {'time':>7}  " + "  ".join(f"{n:>12}" for n in WATCHED))
+    print(f"{'cell':>6} {'acc':>5} {'cells':>6} {'steps':>6} {'time':>7}  " + "  ".join(f"{n:>12}" for n in WATCHED))
     for r in rows:
         diffs = "  ".join(f"{r['diff'][n]:+11.2f}K" for n in WATCHED)
-        head = f"{1000 * r['cell']:4.0f}mm {r['change']:4.0f}K {r['cells']:6d} {r['steps']:6d} {r['seconds']:6.2f}s"
+        head = f"{1000 * r['cell']:4.0f}mm {r['accuracy']:4.1f}K {r['cells']:6d} {r['steps']:6d} {r['seconds']:6.2f}s"
         print(f"{head}  {diffs}")
     ref_peaks = ", ".join(f"{n} {reference['peaks'][n] - 273.15:.1f} degC" for n in WATCHED)
     print(f"default-settings peaks: {ref_peaks}")
     cell = args.cell_size if args.cell_size is not None else chosen["cell"]
-    change = args.target_change if args.target_change is not None else chosen["change"]
-    row = next((r for r in rows if r["cell"] == cell and r["change"] == change), None)
+    accuracy = args.accuracy if args.accuracy is not None else chosen["accuracy"]
+    row = next((r for r in rows if r["cell"] == cell and r["accuracy"] == accuracy), None)
     print(
-        f"study settings: cell {1000 * cell:g} mm, target change {change:g} K "
+        f"study settings: cell {1000 * cell:g} mm, accuracy {accuracy:g} K "
         f"(rule: coarsest within {args.tolerance:g} K of the defaults)"
     )
     if row is not None:
         cost = ", ".join(f"{n} {row['diff'][n]:+.2f} K" for n in WATCHED)
         print(
-            f"accuracy cost of these settings (peak differences vs 4 mm / 4 K): {cost}; "
+            f"accuracy cost of these settings (peak differences vs 4 mm / 0.15 K): {cost}; "
             f"one case {row['seconds']:.2f} s vs {reference['seconds']:.2f} s"
         )
 
     print(f"\n2. study: {args.cases} cases, Latin hypercube, seed {SEED}")
-    study = invented_study(cell, change, args.cases)
+    study = invented_study(cell, accuracy, args.cases)
     store = Path(args.store) if args.store else Path(tempfile.mkdtemp(prefix="bench-study-")) / "store"
     executor = DaskExecutor(args.dask) if args.dask else LocalExecutor(workers=args.workers)
     started = time.perf_counter()

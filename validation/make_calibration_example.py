@@ -68,7 +68,7 @@ def synthetic_readings(
     for path, value in {**values, **overrides}.items():
         set_value_at(mapping, parse_path(path), value)
     mapping["assembly"]["cell_size"] = cell_size
-    mapping.setdefault("solver", {})["target_change"] = target_change
+    mapping.setdefault("solver", {}).update(scheme="euler", target_change=target_change)
     mapping["assembly"].setdefault("probes", []).extend(dict(p) for p in extra_probes)
     case = case_from_mapping(mapping, base_text, "synthetic", FOLDER)
     result = run_case(case)

@@ -1,8 +1,17 @@
-"""One backward-Euler step on enthalpy, solved by a Newton iteration.
+"""One implicit step on enthalpy (backward Euler or variable-step BDF2), solved by Newton.
 
 Per cell ``i`` of volume ``V_i``::
 
-    V_i [H_i(T^{n+1}) - H_i(T^n)] / dt = sum_links G (T_j - T_i) - U_i (T_i - T_eq,i) + S_i
+    V_i [H_i(T^{n+1}) - H_i(T^n) - b (H_i^n - H_i^{n-1})] / (a dt)
+        = sum_links G (T_j - T_i) - U_i (T_i - T_eq,i) + S_i
+
+with ``a = 1, b = 0`` for backward Euler and the variable-step BDF2 coefficients of
+:func:`~heatstack.numerics.multistep.bdf2_coefficients` otherwise: the BDF2 step is the
+backward-Euler step over ``a dt`` from the start enthalpy ``H^n + b (H^n - H^{n-1})``, so
+one assembly and factorisation path serves both. The friction source of a BDF2 step is
+``(E_n - b E_{n-1}) / (a dt)`` with ``E`` the schedule's exact energy of a step (a
+second-order value of the power at the step's end), so every step books exactly the
+friction energy the schedule delivers over it.
 
 Every conductance, boundary coefficient and source partition is evaluated at the
 current iterate (:meth:`NewtonStep.linearise`), so the system stays symmetric positive
@@ -11,7 +20,10 @@ triangular solve); the iterates are Anderson-accelerated. When the correction is
 the tolerance, the new enthalpy is set *from the fluxes at* ``T + d`` and the
 temperature by the exact inverse of ``H``, so every accepted step conserves energy to
 round-off; the step is accepted only if that moves no temperature by more than ten
-tolerances. The step closes with its :class:`~heatstack.numerics.accounts.StepAccounts`.
+tolerances. The step closes with its :class:`~heatstack.numerics.accounts.StepAccounts`: each
+account is booked as ``a dt`` times its flow plus ``b`` times its booking of the previous
+step (:func:`~heatstack.numerics.multistep.book`), so the accounts sum to the stored
+enthalpy change to round-off also for BDF2.
 
 References
 ----------
@@ -20,6 +32,8 @@ References
    followed by the inverse temperature-enthalpy relation).
 .. [2] Walker, H.F., Ni, P., 2011, Anderson acceleration for fixed-point iterations,
    SIAM J. Numer. Anal. 49(4), 1715-1735.
+.. [3] Hairer, E., Norsett, S.P., Wanner, G., Solving Ordinary Differential Equations I,
+   2nd ed., Springer, 1993, sec. III.5 (variable-step BDF); from memory.
 """
 
 from __future__ import annotations
@@ -32,11 +46,16 @@ import scipy.sparse.linalg as spla
 from ..errors import PropertyRangeError
 from .accounts import StepAccounts
 from .boundaries import Boundaries, FaceExchange, GapExchange, SurfaceTemperatures
+from .multistep import StepHistory, bdf2_coefficients, book
 from .network import Network
 from .schedule import Phase, Schedule
 from .step_matrix import HeatSources, StepMatrix, cell_properties, cell_temperature, out_of_range_cell
 
-__all__ = ["NewtonStep", "StepFailed", "StepOutcome"]
+__all__ = ["NewtonStep", "StepFailed", "StepOutcome", "REFACTOR_BAND"]
+
+#: The factors of a step matrix are reused while the step's ``a dt`` stays within this
+#: band of the ``a dt`` they were made for (and the phase is the same).
+REFACTOR_BAND = (0.75, 1.35)
 
 
 class StepFailed(Exception):
@@ -71,6 +90,15 @@ class StepOutcome:
     accounts : StepAccounts
     iterations : int
         Newton iterations taken.
+    history : StepHistory
+        The step as the next one's multistep history.
+    heat_capacity : ndarray
+        Volumetric heat capacity [J/(m^3 K)] at the last iterate.
+    ambient : float
+        Mean ambient temperature of the exposed faces in the step's phase [K] (the lowest
+        cell temperature when nothing is exposed).
+    bdf2 : bool
+        Whether the step was BDF2 (else backward Euler).
     """
 
     temperature: np.ndarray
@@ -78,6 +106,10 @@ class StepOutcome:
     surfaces: SurfaceTemperatures
     accounts: StepAccounts
     iterations: int
+    history: StepHistory
+    heat_capacity: np.ndarray
+    ambient: float
+    bdf2: bool
 
 
 @dataclass(frozen=True, eq=False)
@@ -90,26 +122,42 @@ class StepFrame:
         The schedule phase at the middle of the step.
     time, dt : float
         End of the step and its length [s].
+    scale : float
+        ``a dt`` [s]: ``dt`` for backward Euler, ``dt (1 + w)/(1 + 2w)`` for BDF2.
+    weight : float
+        The history weight ``b`` (0 for backward Euler).
     power : float
-        Mean friction power over the step [W].
+        Friction power of the step equation [W]: the mean over the step for backward Euler,
+        ``(E_n - b E_{n-1}) / (a dt)`` for BDF2.
+    friction_energy : float
+        The schedule's friction energy over the step [J].
     contact : ndarray
         Contact resistance [K/W] of every link in this phase.
     volume_rate : ndarray
-        ``V / dt`` of every cell [m^3/s].
+        ``V / (a dt)`` of every cell [m^3/s].
     volume_source : ndarray or None
         Volumetric source heat [W] per cell at the end of the step.
-    enthalpy : ndarray
+    start_enthalpy : ndarray
         Enthalpy [J/m^3] at the start of the step.
+    enthalpy : ndarray
+        The step equation's base enthalpy ``H^n + b (H^n - H^{n-1})`` [J/m^3].
+    previous : StepAccounts or None
+        The previous step's bookings (None for backward Euler).
     """
 
     phase: Phase
     time: float
     dt: float
+    scale: float
+    weight: float
     power: float
+    friction_energy: float
     contact: np.ndarray
     volume_rate: np.ndarray
     volume_source: np.ndarray | None
+    start_enthalpy: np.ndarray
     enthalpy: np.ndarray
+    previous: StepAccounts | None
 
 
 @dataclass(frozen=True, eq=False)
@@ -121,7 +169,7 @@ class Linearisation:
     enthalpy : ndarray
         [J/m^3] at the iterate.
     capacity : ndarray
-        ``c V / dt`` [W/K] per cell.
+        ``c V / (a dt)`` [W/K] per cell.
     source : ndarray
         Right-hand side [W]: boundary inflow at the equivalent temperatures and heat sources.
     faces : FaceExchange
@@ -140,7 +188,7 @@ class Linearisation:
 
 
 class NewtonStep:
-    """Takes backward-Euler steps of one network under one schedule, keeping its factors.
+    """Takes backward-Euler and BDF2 steps of one network under one schedule, keeping its factors.
 
     Parameters
     ----------
@@ -169,7 +217,7 @@ class NewtonStep:
         """Forget the factors, so the next step factorises afresh."""
         self.lu = None
 
-    def frame(self, t0: float, dt: float, H_n: np.ndarray) -> StepFrame:
+    def frame(self, t0: float, dt: float, H_n: np.ndarray, last: StepHistory | None = None) -> StepFrame:
         """The fixed data of the step from ``t0`` over ``dt`` starting at enthalpy ``H_n``.
 
         Parameters
@@ -180,31 +228,53 @@ class NewtonStep:
             Step length [s].
         H_n : ndarray, shape (n,)
             Cell volumetric enthalpies at ``t0`` [J/m^3].
+        last : StepHistory, optional
+            The previous step, for a BDF2 step; None for backward Euler.
 
         Returns
         -------
         StepFrame
-            The phase at the step's midpoint, the end time [s], the mean friction power over the
-            step [W], the contact resistances in force [K/W] and the volumetric sources [W].
+            The phase at the step's midpoint, the end time [s], the BDF2 scale [s] and weight,
+            the friction power of the step equation [W], the contact resistances in force
+            [K/W] and the volumetric sources [W].
         """
         net = self.net
         phase = self.schedule.phase_at(t0 + 0.5 * dt)
         t1 = t0 + dt
+        energy = self.schedule.energy(t0, t1)
+        if last is None:
+            a, b, base, power, previous = 1.0, 0.0, H_n, energy / dt, None
+        else:
+            a, b = bdf2_coefficients(dt / last.dt)
+            base = H_n + b * (H_n - last.start_enthalpy)
+            power, previous = (energy - b * last.friction_energy) / (a * dt), last.accounts
         return StepFrame(
             phase=phase,
             time=t1,
             dt=dt,
-            power=self.schedule.energy(t0, t1) / dt,
+            scale=a * dt,
+            weight=b,
+            power=power,
+            friction_energy=energy,
             contact=net.link_contact_clamped if phase.clamped else net.link_contact_released,
-            volume_rate=net.volume / dt,
+            volume_rate=net.volume / (a * dt),
             volume_source=self.sources.volumetric(t1),
-            enthalpy=H_n,
+            start_enthalpy=H_n,
+            enthalpy=base,
+            previous=previous,
         )
 
     def step(
-        self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, guess: np.ndarray, surfaces: SurfaceTemperatures
+        self,
+        t0: float,
+        dt: float,
+        T_n: np.ndarray,
+        H_n: np.ndarray,
+        guess: np.ndarray,
+        surfaces: SurfaceTemperatures,
+        last: StepHistory | None = None,
     ) -> StepOutcome:
-        """Advance one step from ``T_n``, ``H_n`` at ``t0``.
+        """Advance one step from ``T_n``, ``H_n`` at ``t0`` (BDF2 when ``last`` is given).
 
         Parameters
         ----------
@@ -220,6 +290,9 @@ class NewtonStep:
             Initial iterate [K].
         surfaces : SurfaceTemperatures
             The last step's surface temperatures, moved here with their cells to the guess.
+        last : StepHistory, optional
+            The previous accepted step: given, the step is variable-step BDF2 over it; None,
+            backward Euler.
 
         Returns
         -------
@@ -232,12 +305,16 @@ class NewtonStep:
             If an iterate is not finite, leaves a property table, or Newton does not converge in
             ``max_iterations``.
         """
-        frame = self.frame(t0, dt, H_n)
+        frame = self.frame(t0, dt, H_n, last)
         T = guess.copy()
         previous_change = None
         surfaces = surfaces.moved(self.net, guess - T_n)
         # fresh factors when the step size or the phase (cooling laws, contact state) changes
-        refactor = self.lu is None or self.lu_phase is not frame.phase or not (0.75 <= dt / self.lu_dt <= 1.35)
+        refactor = (
+            self.lu is None
+            or self.lu_phase is not frame.phase
+            or not (REFACTOR_BAND[0] <= frame.scale / self.lu_dt <= REFACTOR_BAND[1])
+        )
         fresh = False
         history: list[tuple[np.ndarray, np.ndarray]] = []
         for iteration in range(self.max_iterations):
@@ -245,7 +322,7 @@ class NewtonStep:
             residual = (
                 self.system.matrix @ T
                 - system.capacity * T
-                + frame.volume_rate * (system.enthalpy - H_n)
+                + frame.volume_rate * (system.enthalpy - frame.enthalpy)
                 - system.source
             )
             if refactor:
@@ -283,6 +360,42 @@ class NewtonStep:
         raise StepFailed(
             f"Newton did not converge in {self.max_iterations} iterations (last update {largest:.3g} K)", cell
         )
+
+    def start_rate(
+        self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, surfaces: SurfaceTemperatures
+    ) -> np.ndarray:
+        """``dH/dt`` at the start of a backward-Euler step, under that step's sources and laws.
+
+        The explicit-Euler predictor of the step's error estimate: after a breakpoint the
+        rate at the end of the previous step belongs to the old laws and power.
+
+        Parameters
+        ----------
+        t0 : float
+            Time at the start of the step [s].
+        dt : float
+            Step length [s] (the friction power is the step's mean).
+        T_n : ndarray, shape (n,)
+            Cell temperatures at ``t0`` [K].
+        H_n : ndarray, shape (n,)
+            Cell volumetric enthalpies at ``t0`` [J/m^3].
+        surfaces : SurfaceTemperatures
+            Surface temperatures at ``t0``.
+
+        Returns
+        -------
+        ndarray, shape (n,)
+            Net heat flow into each cell over its volume [W/m^3].
+
+        Raises
+        ------
+        StepFailed
+            If a temperature lies outside a property table.
+        """
+        frame = self.frame(t0, dt, H_n)
+        system = self.linearise(frame, T_n, surfaces, 1)
+        outflow = self.system.matrix @ T_n - system.capacity * T_n
+        return (system.source - outflow) / self.net.volume
 
     def linearise(
         self, frame: StepFrame, T: np.ndarray, surfaces: SurfaceTemperatures, iteration: int
@@ -344,10 +457,10 @@ class NewtonStep:
         Parameters
         ----------
         frame : StepFrame
-            The step whose size [s] and phase the factors are kept for.
+            The step whose scale ``a dt`` [s] and phase the factors are kept for.
         """
         self.lu = self.system.factorise()
-        self.lu_dt = frame.dt
+        self.lu_dt = frame.scale
         self.lu_phase = frame.phase
         self.stats["factorisations"] += 1
 
@@ -450,20 +563,44 @@ class NewtonStep:
             The accepted state and its accounts (heat in, convected, radiated, stored, friction
             on either side) [J].
         """
-        net, dt, faces = self.net, frame.dt, system.faces
+        net, scale, weight, faces = self.net, frame.scale, frame.weight, system.faces
+        previous = frame.previous
         surfaces = self.boundaries.surface_temperatures(T_star, faces, system.gaps)
-        volume_heat = dt * float(np.sum(frame.volume_source)) if frame.volume_source is not None else 0.0
+        volume_heat = float(np.sum(frame.volume_source)) if frame.volume_source is not None else 0.0
         area = net.face_area
+
+        def booked(name: str, flow: float | np.ndarray) -> float | np.ndarray:
+            return book(scale, flow, weight, None if previous is None else getattr(previous, name))
+
         accounts = StepAccounts(
-            heat_in=frame.power * dt + volume_heat,
-            convected=dt * float(np.sum(faces.convection * area * (surfaces.face - faces.ambient))),
-            radiated=dt * float(np.sum(faces.radiation * area * (surfaces.face - faces.radiation_temperature))),
-            stored=float(np.sum(net.volume * (H_new - frame.enthalpy))),
-            friction_a=system.friction_a * dt,
-            friction_b=system.friction_b * dt,
+            heat_in=booked("heat_in", frame.power + volume_heat),
+            convected=booked("convected", float(np.sum(faces.convection * area * (surfaces.face - faces.ambient)))),
+            radiated=booked(
+                "radiated", float(np.sum(faces.radiation * area * (surfaces.face - faces.radiation_temperature)))
+            ),
+            stored=float(np.sum(net.volume * (H_new - frame.start_enthalpy))),
+            friction_a=booked("friction_a", system.friction_a),
+            friction_b=booked("friction_b", system.friction_b),
         )
+        history = StepHistory(
+            dt=frame.dt,
+            start_enthalpy=frame.start_enthalpy,
+            enthalpy=H_new,
+            rate=(H_new - frame.enthalpy) / scale,
+            accounts=accounts,
+            friction_energy=frame.friction_energy,
+        )
+        ambient = float(np.mean(faces.ambient)) if faces.ambient.size else float(np.min(T_new, initial=0.0))
         return StepOutcome(
-            temperature=T_new, enthalpy=H_new, surfaces=surfaces, accounts=accounts, iterations=iteration + 1
+            temperature=T_new,
+            enthalpy=H_new,
+            surfaces=surfaces,
+            accounts=accounts,
+            iterations=iteration + 1,
+            history=history,
+            heat_capacity=system.capacity / frame.volume_rate,
+            ambient=ambient,
+            bdf2=previous is not None,
         )
 
 

@@ -5,13 +5,16 @@
 
 - ``assembly.py``: the step matrix pattern, its assembly, cell properties, heat sources;
 - ``boundaries.py``: exposed faces (convection, linearised radiation) and radiating gaps;
-- ``newton.py``: one backward-Euler step on enthalpy, by Newton, closed by its accounts;
-- ``stepping.py``: step-size control, rejection and cuts;
+- ``newton.py``: one backward-Euler or BDF2 step on enthalpy, by Newton, closed by its accounts;
+- ``multistep.py``: the BDF2 coefficients, the ledger's history term and the error estimate;
+- ``stepping.py``: step-size control by the error estimate, rejection and cuts;
 - ``predictor.py`` (initial guess of a step) and ``recording.py`` (histories and ledger).
 
-The run loop here walks the schedule's breakpoints: each accepted step is extrapolated
-into the next step's guess and handed to the recorder; whole fields are kept at the
-snapshot times.
+The run loop here walks the schedule's breakpoints: the first step and the first step
+after every breakpoint (the corners of the power table, the phase changes) are backward
+Euler, which is L-stable on a corner; the others variable-step BDF2 over the step before
+(scheme ``"bdf2"``). Each accepted step is extrapolated into the next step's guess and
+handed to the recorder; whole fields are kept at the snapshot times.
 """
 
 from __future__ import annotations
@@ -30,9 +33,13 @@ from .predictor import Extrapolator
 from .recording import Recorder
 from .schedule import Schedule
 from .step_matrix import cell_enthalpy, cell_properties
-from .stepping import StepControl
+from .stepping import MAX_STEP_RATIO, StepControl, newton_tolerance
 
-__all__ = ["integrate", "Integrator", "initial_field"]
+__all__ = ["integrate", "Integrator", "initial_field", "landing_times", "CORNER_FRACTION"]
+
+#: A power-table node is a corner when the power there departs from the straight line
+#: through its neighbours by more than this fraction of the largest power.
+CORNER_FRACTION = 1e-3
 
 
 def integrate(
@@ -102,11 +109,11 @@ class Integrator:
         self.net, self.schedule, self.opt = network, schedule, options
         self.progress = progress
         self.mass = network.mass()
-        self.stats = {"steps": 0, "rejected_steps": 0, "iterations": 0, "factorisations": 0}
+        self.stats = {"steps": 0, "rejected_steps": 0, "iterations": 0, "factorisations": 0, "bdf2_steps": 0}
         self.newton = NewtonStep(
             network,
             schedule,
-            tolerance=options.tolerance,
+            tolerance=newton_tolerance(options),
             max_iterations=options.max_iterations,
             stats=self.stats,
         )
@@ -139,10 +146,11 @@ class Integrator:
             The recorded histories, snapshots, ledger and final state of the run.
         """
         net, opt, schedule, control = self.net, self.opt, self.schedule, self.control
-        breakpoints = np.unique(np.concatenate((schedule.breakpoints(), np.asarray(opt.snapshot_times, float))))
+        landings, corners = landing_times(schedule, smooth_nodes=opt.scheme == "euler")
+        breakpoints = np.unique(np.concatenate((landings, np.asarray(opt.snapshot_times, float))))
         breakpoints = breakpoints[(breakpoints > t_start) & (breakpoints <= schedule.end)]
         snapshot_times = set(float(t) for t in opt.snapshot_times)
-        kinks = set(float(b) for b in schedule.breakpoints())
+        kinks = set(float(b) for b in corners)
         T = T0.copy()
         H = cell_enthalpy(net, T)
         cell_properties(net, T)  # a field outside a property table fails here, naming the table
@@ -156,10 +164,22 @@ class Integrator:
             dt = min(max(float(first_step), opt.min_step), opt.max_step)
         predictor = Extrapolator()
         predictor.accept(t, T)
+        bdf2 = opt.scheme == "bdf2"
+        last = None  # the previous accepted step: the error estimate's predictor and the BDF2 history
+        ambient = float(np.min(T, initial=0.0))
+        restarted = False  # the step was reset to initial_step where heating starts
+        after_breakpoint = True  # backward Euler for the first step and the first after every breakpoint
         for target in breakpoints:
             while t < target - 1e-9 * max(1.0, abs(target)):
-                step = control.land(t, dt, target)
-                outcome, taken = control.advance(t, step, T, H, predictor.guess(t + step), surfaces)
+                multistep = bdf2 and last is not None and not after_breakpoint
+                proposal = min(dt, MAX_STEP_RATIO * last.dt) if multistep else dt
+                if bdf2 and after_breakpoint and last is not None and opt.fixed_step is None and not restarted:
+                    # (where heating starts the step restarts from initial_step, as a chained run's does)
+                    proposal = control.corner_step(t, proposal, T, H, surfaces, last, ambient)
+                step = control.land(t, proposal, target)
+                outcome, taken, norm = control.advance(
+                    t, step, T, H, predictor.guess(t + step), surfaces, last, multistep
+                )
                 T_prev = T
                 T, H, surfaces = outcome.temperature, outcome.enthalpy, outcome.surfaces
                 t = target if abs(t + taken - target) <= 1e-9 * max(1.0, abs(target)) else t + taken
@@ -168,19 +188,69 @@ class Integrator:
                 if self.progress is not None:
                     self.progress(t)
                 self.stats["steps"] += 1
-                # a step shortened only to land on a breakpoint does not shrink the next one
-                dt = control.next_step(dt if taken == step and step < dt else taken, T - T_prev)
+                self.stats["bdf2_steps"] += int(multistep)
+                last, after_breakpoint, ambient, restarted = outcome.history, False, outcome.ambient, False
+                if taken == step and step < proposal:
+                    # a step shortened only to land on a breakpoint does not shrink the next one
+                    dt = control.next_step(proposal, T - T_prev) if not bdf2 else proposal
+                else:
+                    dt = control.next_step(taken, T - T_prev, norm, multistep)
             if float(target) in snapshot_times:
                 rec.snapshot(t, T)
             if float(target) in kinks:
                 predictor.kink()
+                after_breakpoint = True
             if opt.fixed_step is None and control.heating_starts(target):
-                dt = opt.initial_step
+                dt, restarted = opt.initial_step, True
                 predictor.restart()
                 predictor.accept(t, T)
         rec.snapshot(t, T)
         final = State(time=t, temperature=T.copy(), step=float(dt))
         return rec.result(schedule, final, self.stats, start_readings)
+
+
+def landing_times(schedule: Schedule, smooth_nodes: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """The schedule's breakpoints the steps land on, and the corners among them.
+
+    A tabulated power history (one sampled every few hundredths of a second) has
+    nodes where nothing happens: the power there lies on the straight line through its
+    neighbours to within :data:`CORNER_FRACTION` of the peak power. A step may cross such a
+    node, since :meth:`Schedule.energy` integrates the table exactly. The corners (the
+    start and end of the run and of heating, a steep ramp of the power, the phase ends)
+    are landed on and restart the BDF2 history with a backward-Euler step; the extra
+    breakpoints (output times) are landed on only.
+
+    Parameters
+    ----------
+    schedule : Schedule
+        The run's schedule.
+    smooth_nodes : bool
+        Treat every power-table node as a corner (the Euler scheme, stepping as before).
+
+    Returns
+    -------
+    landings : ndarray
+        Sorted landing times [s].
+    corners : ndarray
+        The landing times that are corners [s].
+    """
+    times = schedule.breakpoints()
+    power = schedule.power
+    t, p = np.asarray(power.times, float), np.asarray(power.powers, float)
+    extra = np.asarray(schedule.extra_breakpoints, float)
+    kinks = np.array([schedule.start, schedule.end, *(phase.end for phase in schedule.phases)])
+    if np.any(p > 0):
+        if smooth_nodes or t.size < 3:
+            kinks = np.concatenate((kinks, t))
+        else:
+            left, right = np.diff(t)[:-1], np.diff(t)[1:]
+            bend = np.abs(np.diff(p)[1:] / right - np.diff(p)[:-1] / left) * left * right / (left + right)
+            switch = ((p[1:-1] > 0) != (p[:-2] > 0)) | ((p[1:-1] > 0) != (p[2:] > 0))
+            corner = (bend > CORNER_FRACTION * p.max()) | switch
+            kinks = np.concatenate((kinks, t[[0, -1]], t[1:-1][corner]))
+    corners = times[np.isin(times, kinks)]
+    landings = times[np.isin(times, kinks) | np.isin(times, extra)]
+    return landings, corners
 
 
 def initial_field(network: Network, initial: float | Mapping[str, float] | State | np.ndarray) -> np.ndarray:

@@ -17,7 +17,7 @@ Example (an invented study of the invented demonstration case)
 ...     [Parameter("duty.phases[0].events[0].mass", Normal("62 t", "3 t"), name="mass"),
 ...      Parameter("assembly.fuse_plugs[0].release_temperature", Uniform("174 degC", "180 degC"))],
 ...     Sampling("latin_hypercube", cases=200, seed=1),
-...     cell_size="8 mm", target_change="8 K")
+...     cell_size="8 mm", accuracy="0.5 K")
 >>> run = run_study(study, "mass-study")                               # doctest: +SKIP
 >>> release_probability(run.table).wilson                              # doctest: +SKIP
 

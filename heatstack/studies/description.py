@@ -200,7 +200,11 @@ class Study:
     cell_size : float or str, optional
         Overrides the case's cell size [m] (all directions) for speed.
     target_change : float or str, optional
-        Overrides the solver's target temperature change per step [K] for speed.
+        Overrides the solver's target temperature change per step [K] (a base case with
+        ``scheme = "euler"`` only).
+    accuracy : float or str, optional
+        Overrides the solver's accuracy [K] (the BDF2 scheme's "peaks within about this of
+        the converged answer") for speed.
     title : str
     reduced_model : ReducedModelSettings, optional
         Stand a checked reduced-order model in for full runs
@@ -216,6 +220,7 @@ class Study:
     outputs: Sequence[str] | None = None
     cell_size: float | str | None = None
     target_change: float | str | None = None
+    accuracy: float | str | None = None
     title: str = "untitled study"
     reduced_model: ReducedModelSettings | None = None
     rare_event: RareEventSettings | None = None
@@ -253,6 +258,8 @@ class StudyPlan:
         [m]
     target_change : float or None
         [K]
+    accuracy : float or None
+        Solver accuracy override [K].
     outputs : tuple of str or None
     description : dict
         JSON-ready description (as given, plus the base case's SHA-256).
@@ -277,6 +284,7 @@ class StudyPlan:
     description: dict
     fingerprint: str
     growth_key: str = ""
+    accuracy: float | None = None
 
     @property
     def n_cases(self) -> int:
@@ -301,7 +309,14 @@ class StudyPlan:
         dict
             The case mapping.
         """
-        return apply_values(self.base_mapping, self.parameters, self.samples[index], self.cell_size, self.target_change)
+        return apply_values(
+            self.base_mapping,
+            self.parameters,
+            self.samples[index],
+            self.cell_size,
+            self.target_change,
+            self.accuracy,
+        )
 
 
 def apply_values(
@@ -310,6 +325,7 @@ def apply_values(
     row: Sequence[float],
     cell_size: float | None = None,
     target_change: float | None = None,
+    accuracy: float | None = None,
 ) -> dict:
     """A deep copy of ``base`` with the speed overrides and one row of parameter values written in.
 
@@ -325,6 +341,8 @@ def apply_values(
         Cell size written over the assembly's cell sizes [m].
     target_change : float, optional
         Solver target temperature change per step [K].
+    accuracy : float, optional
+        Solver accuracy [K].
 
     Returns
     -------
@@ -339,6 +357,8 @@ def apply_values(
                 assembly[key] = float(cell_size)
     if target_change is not None:
         data.setdefault("solver", {})["target_change"] = float(target_change)
+    if accuracy is not None:
+        data.setdefault("solver", {})["accuracy"] = float(accuracy)
     for parameter, value in zip(parameters, row, strict=True):
         for path in parameter.paths:
             set_value_at(data, path, parameter.cast(value))
@@ -471,11 +491,7 @@ def plan_study(study: Study) -> StudyPlan:
     _check_sampling(study.sampling, n_grid, len(resolved))
     positive = {"minimum": 0.0, "exclusive_minimum": True}
     cell = None if study.cell_size is None else quantity(study.cell_size, "length", "study.cell_size", **positive)
-    change = (
-        None
-        if study.target_change is None
-        else quantity(study.target_change, "temperature_difference", "study.target_change", **positive)
-    )
+    change, accuracy = (_temperature_override(study, key) for key in ("target_change", "accuracy"))
     outputs = _check_outputs(study.outputs, base_case)
     for key, settings in (("reduced_model", study.reduced_model), ("rare_event", study.rare_event)):
         if settings is not None:
@@ -495,7 +511,7 @@ def plan_study(study: Study) -> StudyPlan:
                     f"study.parameters[{k}].path: {format_path(p.paths[0])!r} does not exist in the base "
                     f"case{hint} (nor does the case accept it: {exc})"
                 ) from None
-    trial = apply_values(mapping, resolved, [p.representative() for p in resolved], cell, change)
+    trial = apply_values(mapping, resolved, [p.representative() for p in resolved], cell, change, accuracy)
     try:
         _parse_case(trial, text, path.name, path.parent)
     except InputError as exc:
@@ -510,6 +526,8 @@ def plan_study(study: Study) -> StudyPlan:
         "cell_size": study.cell_size,
         "target_change": study.target_change,
     }
+    if study.accuracy is not None:  # only when given: the fingerprints of earlier studies stay
+        description["accuracy"] = study.accuracy
     compared = {k: v for k, v in description.items() if k != "title"}
     compared["base_case"] = {"sha256": description["base_case"]["sha256"]}
     fingerprint = hashlib.sha256(_canonical(compared).encode("utf-8")).hexdigest()
@@ -527,11 +545,20 @@ def plan_study(study: Study) -> StudyPlan:
         samples=samples,
         cell_size=cell,
         target_change=change,
+        accuracy=accuracy,
         outputs=outputs,
         description=json.loads(_canonical(description)),
         fingerprint=fingerprint,
         growth_key=growth_key,
     )
+
+
+def _temperature_override(study: Study, key: str) -> float | None:
+    """The study's solver override ``key`` (a temperature difference) in K, or None."""
+    value = getattr(study, key)
+    if value is None:
+        return None
+    return quantity(value, "temperature_difference", f"study.{key}", minimum=0.0, exclusive_minimum=True)
 
 
 def _check_outputs(outputs: Sequence[str] | None, case: Any) -> tuple[str, ...] | None:

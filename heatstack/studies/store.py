@@ -22,7 +22,7 @@ stay on disk, ignored, for when the count is raised again).
 
 The files are plain HDF5 (h5py): ``manifest.h5`` has attributes ``format``,
 ``format_version``, ``fingerprint``, ``description`` (JSON), ``base_case_text``,
-``n_cases``, ``seed``, ``method``, ``cell_size_m``, ``target_change_K``,
+``n_cases``, ``seed``, ``method``, ``cell_size_m``, ``target_change_K``, ``accuracy_K``,
 ``parameters`` (JSON: name, paths, dimension, unit), ``growth_key``, ``heatstack_version``,
 ``created_utc`` and a dataset ``samples`` (cases x parameters, SI). A case file has
 attributes ``index``, ``status`` (``ok`` or ``failed``), ``error``, ``warnings``,
@@ -343,6 +343,7 @@ class StudyStore:
             f.attrs["seed"] = -1 if sampling.seed is None else int(sampling.seed)
             f.attrs["cell_size_m"] = np.nan if plan.cell_size is None else float(plan.cell_size)
             f.attrs["target_change_K"] = np.nan if plan.target_change is None else float(plan.target_change)
+            f.attrs["accuracy_K"] = np.nan if plan.accuracy is None else float(plan.accuracy)
             f.attrs["parameters"] = json.dumps(parameters)
             f.attrs["outputs"] = json.dumps(None if plan.outputs is None else list(plan.outputs))
             f.attrs["heatstack_version"] = __version__

@@ -30,6 +30,7 @@ _STUDY_KEYS = (
     "seed",
     "cell_size",
     "target_change",
+    "accuracy",
     "outputs",
     "parameters",
     "reduced_model",
@@ -118,7 +119,7 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
             cases = 200
             seed = 7
             cell_size = "8 mm"                     # optional speed overrides
-            target_change = "8 K"
+            accuracy = "0.5 K"                     # BDF2 step control: peaks within about 0.5 K
             outputs = ["sensor", "hottest rotor"]  # optional
 
             [study.reduced_model]                  # optional: a checked reduced model
@@ -181,6 +182,7 @@ def study_from_mapping(table: Mapping[str, Any], base_case_path: str | Path) -> 
         outputs=None if outputs is None else tuple(outputs),
         cell_size=table.get("cell_size"),
         target_change=table.get("target_change"),
+        accuracy=table.get("accuracy"),
         title=title,
         reduced_model=_settings_from_mapping(table.get("reduced_model"), ReducedModelSettings, "study.reduced_model"),
         rare_event=_settings_from_mapping(table.get("rare_event"), RareEventSettings, "study.rare_event"),

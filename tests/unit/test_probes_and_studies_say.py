@@ -39,7 +39,7 @@ STUDY = """
 title = "every case fails (test)"
 base_case = "base.toml"
 method = "grid"
-target_change = "10 K"
+accuracy = "0.5 K"
 
 [[study.parameters]]
 path = "duty.phases[0].events[0].energy"

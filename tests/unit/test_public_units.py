@@ -84,8 +84,11 @@ def test_fixed_convection_takes_units():
 
 
 def test_solver_options_take_units():
-    options = SolverOptions(target_change="3 degC", max_step="2 min", fixed_step="500 ms", snapshot_times=("1 h",))
+    options = SolverOptions(
+        scheme="euler", target_change="3 degC", max_step="2 min", fixed_step="500 ms", snapshot_times=("1 h",)
+    )
     assert options.target_change == pytest.approx(3.0)
+    assert SolverOptions(accuracy="300 mK").accuracy == pytest.approx(0.3)
     assert options.max_step == 120.0 and options.fixed_step == pytest.approx(0.5)
     assert options.snapshot_times == (3600.0,)
 

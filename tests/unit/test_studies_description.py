@@ -169,11 +169,11 @@ def test_full_grid_has_every_combination_first_parameter_slowest():
 
 
 def test_speed_overrides_are_written_into_every_case():
-    plan = plan_study(lhs([Parameter(MASS, Normal("70 t", "2 t"))], cell_size="9 mm", target_change="8 K"))
+    plan = plan_study(lhs([Parameter(MASS, Normal("70 t", "2 t"))], cell_size="9 mm", accuracy="0.8 K"))
     row = plan.case_mapping(3)
     assert row["assembly"]["cell_size"] == pytest.approx(0.009)
-    assert row["solver"]["target_change"] == pytest.approx(8.0)
-    assert plan.cell_size == pytest.approx(0.009) and plan.target_change == pytest.approx(8.0)
+    assert row["solver"]["accuracy"] == pytest.approx(0.8)
+    assert plan.cell_size == pytest.approx(0.009) and plan.accuracy == pytest.approx(0.8)
 
 
 def test_fingerprint_ignores_the_title_but_not_the_seed():
@@ -272,7 +272,7 @@ method = "latin_hypercube"
 cases = 16
 seed = 5
 cell_size = "10 mm"
-target_change = "10 K"
+accuracy = "0.5 K"
 outputs = ["sensor", "fuse plug 1"]
 
 [[study.parameters]]

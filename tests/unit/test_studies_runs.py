@@ -121,7 +121,7 @@ method = "latin_hypercube"
 cases = {cases}
 seed = 2026
 cell_size = "12 mm"
-target_change = "10 K"
+accuracy = "0.5 K"
 
 [[study.parameters]]
 path = "duty.phases[0].events[0].aircraft.mass"
@@ -250,7 +250,7 @@ def test_a_varied_contact_conductance_builds_its_own_model(folder, tmp_path):
         Sampling("grid"),
         outputs=["hottest rotor"],
         cell_size="12 mm",
-        target_change="10 K",
+        accuracy="0.5 K",
     )
     clear_model_cache()
     table = run_study(study, tmp_path / "store", SerialExecutor(), progress=False).table
@@ -276,7 +276,7 @@ def test_rerun_skips_finished_cases_and_refuses_another_study(folder, tmp_path):
     assert executor.submitted == 0
     with h5py.File(store / "manifest.h5") as f:
         assert f.attrs["seed"] == 2026 and f.attrs["cell_size_m"] == pytest.approx(0.012)
-        assert f.attrs["target_change_K"] == pytest.approx(10.0)
+        assert f.attrs["accuracy_K"] == pytest.approx(0.5)
         assert np.array_equal(f["samples"][()], plan_study(study).samples)
 
 

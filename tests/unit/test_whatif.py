@@ -37,7 +37,7 @@ from heatstack.questions.whatif import CoolingAnswer, WhatIfAnswer, cooling_time
 RHO, CP, K = 8900.0, 385.0, 400.0  # copper-like [kg/m^3], [J/(kg K)], [W/(m K)]
 H, T_INF = 25.0, 300.0  # [W/(m^2 K)], [K]
 R_IN, R_OUT, LENGTH = 0.05, 0.07, 0.02  # [m]
-TIGHT = SolverOptions(max_step=5.0, target_change=0.5)  # backward Euler: small steps for a 1 % check
+TIGHT = SolverOptions(accuracy=0.02)  # BDF2 under a tight error tolerance, for a 1 % check
 
 
 @pytest.fixture(scope="module")

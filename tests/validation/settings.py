@@ -26,7 +26,7 @@ from heatstack import SolverOptions
 FIXED_STEP, DEFAULTS = "fixed_step", "defaults"
 
 #: What every strict expected failure at the defaults says after its measured miss.
-PENDING = "first-order default stepping misses by {miss} (measured); passes once issue 13 item 1 lands"
+PENDING = "the default step control misses by {miss} (measured); not loosened: the tolerance must tighten"
 
 
 def at_both_settings(defaults_miss: str | None = None):

@@ -103,7 +103,9 @@ def _run_pair(dr: float) -> dict:
     }
     assembly = Assembly(parts=PARTS, probes=[Probe(n, r, z) for n, (r, z) in probes.items()], gap_radiation=False)
     model = Model.build(assembly, cell_size, materials=MATERIALS)
-    result = model.run(_schedule(), 300.0, SolverOptions(fixed_step=0.5, tolerance=1e-6, snapshot_times=SNAPSHOTS))
+    result = model.run(
+        _schedule(), 300.0, SolverOptions(scheme="euler", fixed_step=0.5, tolerance=1e-6, snapshot_times=SNAPSHOTS)
+    )
     twin = FipyTwin(model.grid.r_edges, model.grid.z_edges, PARTS, MATERIALS, POWER_TIMES, POWER, COOLED)
     reference = twin.run(result.times, 300.0, probes=probes, snapshot_times=tuple(result.snapshot_times))
     field = max(
@@ -200,7 +202,7 @@ def dependent_pair() -> dict:
     model = Model.build(
         Assembly(parts=DEPENDENT_PARTS, gap_radiation=False), DEPENDENT_CELLS, materials=DEPENDENT_MATERIALS
     )
-    options = SolverOptions(fixed_step=DEPENDENT_STEP, tolerance=1e-6, snapshot_times=SNAPSHOTS)
+    options = SolverOptions(scheme="euler", fixed_step=DEPENDENT_STEP, tolerance=1e-6, snapshot_times=SNAPSHOTS)
     result = model.run(_schedule(), 300.0, options)
     grid = model.grid
     runs = {}
