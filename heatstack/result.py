@@ -15,7 +15,48 @@ from .errors import InputError
 from .numerics.accounts import LEDGER_ACCOUNTS
 from .resulttables import history_frame, result_dataset
 
-__all__ = ["Result", "EnergyLedger", "State", "first_non_finite"]
+__all__ = ["Result", "EnergyLedger", "State", "first_non_finite", "peak_time"]
+
+
+def peak_time(times: np.ndarray, values: np.ndarray, k: int | None = None) -> float:
+    """Time of the peak of a recorded history, between its records.
+
+    The vertex of the parabola through the highest record and its two neighbours (a
+    second-order estimate, as the time stepping is; it lies between the neighbours); the
+    record's own time at either end of the history or where the three records do not bend
+    down. With error-controlled steps the records around a slow rim or fuse-plug
+    maximum can be a minute or two apart: the vertex puts the peak's time within seconds of
+    a converged run's where the highest record alone is off by up to half a spacing.
+
+    Parameters
+    ----------
+    times : ndarray
+        Record times [s], increasing.
+    values : ndarray
+        The history at those times (any unit).
+    k : int, optional
+        Index of the highest record (the first, if it repeats); found when not given.
+
+    Returns
+    -------
+    float
+        Time of the peak [s].
+
+    References
+    ----------
+    Three-point parabolic interpolation of an extremum, e.g. Press et al., Numerical Recipes,
+    3rd ed., sec. 10.3, eq. 10.3.1 (from memory).
+    """
+    k = int(np.argmax(values)) if k is None else int(k)
+    if k <= 0 or k >= len(values) - 1:
+        return float(times[k])
+    (a, b, c), (fa, fb, fc) = times[k - 1 : k + 2], values[k - 1 : k + 2]
+    p, q = (b - a) * (fb - fc), (b - c) * (fb - fa)
+    denominator = 2.0 * (p - q)
+    if not (fb >= fa and fb >= fc) or not np.isfinite(denominator) or denominator == 0.0:
+        return float(times[k])
+    vertex = b - ((b - a) * p - (b - c) * q) / denominator
+    return float(min(max(vertex, a), c))
 
 
 @dataclass(frozen=True, eq=False)
@@ -217,7 +258,7 @@ class Result:
         peak : float
             Highest recorded value [K].
         time : float
-            Its time [s] (the first, if it repeats).
+            Its time [s], between the records (:func:`peak_time`).
 
         Raises
         ------
@@ -226,7 +267,7 @@ class Result:
         """
         values = self.history(name)
         k = int(np.argmax(values))
-        return float(values[k]), float(self.times[k])
+        return float(values[k]), peak_time(self.times, values, k)
 
     def snapshot(self, time: float) -> np.ndarray:
         """The stored field snapshot nearest to ``time``.

@@ -24,7 +24,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN
-from ..result import Result
+from ..result import Result, peak_time
 from ..units import quantity
 
 __all__ = [
@@ -326,7 +326,8 @@ def local_temperature(result: Result, name: str, field: str = "probe") -> np.nda
 def _peak_of(name: str, times: np.ndarray, values: np.ndarray, end_of_braking: float) -> Peak:
     k = int(np.argmax(values))
     bracket = (float(times[max(k - 1, 0)]), float(times[min(k + 1, times.size - 1)]))
-    return Peak(name, float(values[k]), float(times[k]), float(times[k] - end_of_braking), bracket)
+    when = peak_time(times, values, k)
+    return Peak(name, float(values[k]), when, when - end_of_braking, bracket)
 
 
 def level_crossings(times: np.ndarray, values: np.ndarray, level: float) -> list[tuple[float, str]]:
@@ -559,7 +560,7 @@ def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
         values = _history(result, name)
         k = int(np.argmax(values))
         top = float(values[k])
-        out.append(Margin(name, limit, top, limit - top, float(times[k]), bool(top > limit)))
+        out.append(Margin(name, limit, top, limit - top, peak_time(times, values, k), bool(top > limit)))
     return out
 
 

@@ -24,7 +24,7 @@ import numpy as np
 from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..numerics.instrument import first_order_lag
-from ..result import Result, State
+from ..result import Result, State, peak_time
 from ..units import convert_declared, declared, quantity
 from .analysis import first_reach, local_temperature, record_times
 
@@ -270,7 +270,7 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
             PlugAnswer(
                 name=plug.name,
                 peak=top,
-                time_of_peak=float(times[k]),
+                time_of_peak=peak_time(times, temperature, k),
                 release_time=release,
                 margin=plug.release_temperature - top,
                 margin_to_band_low=low - top,

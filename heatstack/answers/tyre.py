@@ -26,7 +26,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..numerics.instrument import first_order_lag
-from ..result import Result
+from ..result import Result, peak_time
 from ..units import quantity
 from .analysis import (
     Margin,
@@ -345,7 +345,7 @@ def tyre_gas(
         temperature=frozen_copy(gas),
         pressure=frozen_copy(pressure),
         peak_pressure=float(pressure[k]),
-        time_of_peak=float(times[k]),
+        time_of_peak=peak_time(times, pressure, k),
         peak_temperature=float(np.max(gas)),
         cold_pressure=p_cold,
         cold_temperature=t_cold,
