@@ -111,3 +111,18 @@ def test_an_input_where_extrapolation_is_meaningless_is_an_error_from_check(tmp_
     assert main(["check", str(case), "--out", str(tmp_path), "--force"]) == 2
     (line,) = capsys.readouterr().err.strip().splitlines()
     assert line.startswith("heatstack: error:") and key in line
+
+
+@pytest.mark.filterwarnings("default::heatstack.errors.HeatstackWarning")
+def test_check_warns_when_the_duty_overfills_the_heat_sink_and_not_for_the_demo(tmp_path, capsys):
+    # without braked_wheels the whole stop (about 155 MJ) goes into one brake, whose 30 kg carbon
+    # heat sink holds about 121 MJ up to the top of its specific-heat table: the run would fail
+    text = DEMO.read_text(encoding="utf-8")
+    assert "\nbraked_wheels = 4\n" in text
+    case = tmp_path / "case.toml"
+    case.write_text(text.replace("\nbraked_wheels = 4\n", "\n# braked_wheels = 4\n", 1), encoding="utf-8")
+    assert main(["check", str(case), "--out", str(tmp_path), "--force"]) == 0
+    err = capsys.readouterr().err
+    assert "heatstack: warning: the duty puts 154.8 MJ into the modelled brake, more than its heat sink" in err
+    assert main(["check", str(DEMO), "--out", str(tmp_path), "--force"]) == 0
+    assert "heat sink can hold" not in capsys.readouterr().err
