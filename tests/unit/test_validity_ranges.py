@@ -101,6 +101,7 @@ def test_a_run_outside_a_correlation_range_carries_the_warning_into_its_report(t
         ('mass = "70 t"', 'mass = "5e-324 kg"', "aircraft.mass"),
         ('mass = "70 t"', 'mass = "70e300 t"', "aircraft.mass"),
         ("braked_wheels = 4", "braked_wheels = 9223372036854775807", "aircraft.braked_wheels"),  # was MemoryError
+        ('duration = "24 s"', "duration = 9223372036854775807", "duration"),  # was refused only by run
     ],
 )
 def test_an_input_where_extrapolation_is_meaningless_is_an_error_from_check(tmp_path, capsys, old, new, key):
