@@ -26,6 +26,7 @@ __all__ = [
     "check_cell_count",
     "check_cooling_series",
     "estimated_cells",
+    "heat_sink_overload",
     "plain_file_name",
     "watch_budget",
 ]
@@ -127,6 +128,57 @@ def check_cell_count(assembly: Assembly, cell_size: tuple[float, float], min_cel
             f"{cell_size[1] * 1e3:.3g} mm cells, min_cells = {min_cells}), more than the limit of {limit:.3g}; "
             "use larger cells, or raise assembly.max_cells"
         )
+
+
+def heat_sink_overload(network, initial_temperature: float, energy: float) -> str | None:
+    """A warning when ``energy`` is more than the heat sink can hold within its specific-heat tables.
+
+    The capacity is the enthalpy the heat-sink cells gain from ``initial_temperature`` to the top
+    of each material's specific-heat table (first law, no losses). Above it the heat sink alone
+    cannot take the duty's energy without leaving its tables: the run then fails unless conduction
+    to the other parts carries the rest away.
+
+    Parameters
+    ----------
+    network : Network
+        The meshed model's network (its heat-sink cell group and materials are used).
+    initial_temperature : float
+        The uniform starting temperature [K].
+    energy : float
+        The duty's braking energy into the modelled brake [J].
+
+    Returns
+    -------
+    str or None
+        The warning text, or None when the energy fits, there is no heat-sink group, or a
+        heat-sink material clamps its table (no upper end).
+    """
+    from .geometry import HEAT_SINK
+
+    groups = zip(network.assembly.cell_groups, network.cell_group_masks, strict=True)
+    masks = [mask for group, mask in groups if group.name == HEAT_SINK]
+    if not masks:
+        return None
+    capacity, tops = 0.0, []
+    for material, block in network.material_blocks:
+        inside = masks[0][block]
+        if not inside.any():
+            continue
+        if material.specific_heat.extrapolation == "clamp":
+            return None
+        top = float(material.specific_heat.temperature_range[1])
+        if not top > initial_temperature:
+            return None  # the start itself is outside the table: the reader says so
+        rise = float(material.enthalpy(top) - material.enthalpy(initial_temperature))
+        capacity += rise * float(network.volume[block][inside].sum())
+        tops.append(top)
+    if not tops or energy <= capacity:
+        return None
+    return (
+        f"the duty puts {energy / 1e6:.4g} MJ into the modelled brake, more than its heat sink can hold within "
+        f"its material tables ({capacity / 1e6:.4g} MJ up to {min(tops) - 273.15:.0f} degC); the run will likely "
+        "fail when a part leaves its table: check the energy, braked_wheels and brake shares"
+    )
 
 
 def plain_file_name(name: str, where: str) -> str:

@@ -212,6 +212,8 @@ def _cmd_demo(args: argparse.Namespace) -> int:
 
 def _cmd_check(args: argparse.Namespace) -> int:
     from .case import load_case
+    from .case_guards import heat_sink_overload
+    from .errors import HeatstackWarning
     from .own_files import check_replaceable, replacing_own_files_only
     from .plotting import plot_layout
 
@@ -255,6 +257,10 @@ def _cmd_check(args: argparse.Namespace) -> int:
                 _print_ground_roll(event.ground_roll)
     if model.heat_sink_mass is not None:
         print(f"heat-sink mass: {model.heat_sink_mass:.2f} kg")
+    if isinstance(case.initial_temperature, float) and (
+        overload := heat_sink_overload(model.network, case.initial_temperature, energy)
+    ):
+        warnings.warn(overload, HeatstackWarning, stacklevel=1)
     with replacing_own_files_only(args.force):
         print(f"layout: {plot_layout(case.assembly, layout, model.grid)}")
     return 0

@@ -34,10 +34,11 @@ def one_line(exc: BaseException) -> str:
     Returns
     -------
     str
-        Its text (its class name if the text is empty); a longer text is cut and ends by
-        saying how many characters are not shown.
+        Its text (its class name if the text is empty) on one line, line breaks and runs of
+        white space made single spaces; a longer text is cut and ends by saying how many
+        characters are not shown.
     """
-    text = str(exc) or type(exc).__name__
+    text = " ".join((str(exc) or type(exc).__name__).split())  # one line: a quoted array may span several
     if len(text) > MESSAGE_LIMIT:
         text = f"{text[: MESSAGE_LIMIT - 60]} ... ({len(text) - MESSAGE_LIMIT + 60} characters not shown)"
     return text

@@ -8,9 +8,10 @@ A mutant is made in two layers. The parsed TOML mapping is changed: keys dropped
 added, values replaced by the wrong type, extreme or non-finite numbers, hostile quantity strings
 (``"9**9**9 s"``, ``"10**400 s"``, ``"70,5 t"``, ``"--1 degC"``, ``"nan degC"``, ``"1e308 W/K"``),
 deep nesting and absurd sizes; it is written back as TOML by :func:`to_toml`. Then, sometimes, the
-bytes are damaged: a null byte, bytes that are not UTF-8, another encoding, a cut. A mutant that
-puts a decimal comma, a doubled sign or arithmetic into a quantity field carries ``must_fail``:
-``heatstack check`` accepting it would be a silent misread.
+bytes are damaged: a null byte, bytes that are not UTF-8, another encoding, a cut. A quarter of
+the mutants (when the number of changes is not given) only put a decimal comma, a doubled sign or
+arithmetic into one quantity field of the file, which is otherwise valid; they carry ``must_fail``:
+``heatstack check`` accepting one would be a silent misread.
 """
 
 from __future__ import annotations
@@ -396,11 +397,13 @@ def mutate(source: Path, rng: random.Random, changes: int | None = None) -> Muta
     if rng.random() < 0.1:  # the original text, comments and all, with only its bytes damaged
         return Mutant(_damage_bytes(text.encode("utf-8"), rng, steps), steps)
     document = tomllib.loads(text)
-    for _ in range(rng.randint(1, 3) if changes is None else changes):
-        _structural(document, rng, steps)
-    must_fail = _must_fail(document, rng) if rng.random() < 0.25 else ""
-    if must_fail:
+    if changes is None and rng.random() < 0.25:  # alone, so that nothing else can be why it is refused
+        must_fail = _must_fail(document, rng)
         steps.append(must_fail)
+    else:
+        must_fail = ""
+        for _ in range(rng.randint(1, 3) if changes is None else changes):
+            _structural(document, rng, steps)
     data = _fill_deep(to_toml(document)).encode("utf-8")
     if not must_fail and rng.random() < 0.15:
         data = _damage_bytes(data, rng, steps)

@@ -122,6 +122,10 @@ class Environment:
         return CrossFlow(length, air_speed, **state)
 
 
+#: The longest phase [s]: ten years; beyond, simulated times lose the precision of a second step.
+MAX_PHASE_DURATION = 10 * 365.25 * 86400.0
+
+
 @dataclass(frozen=True)
 class DutyPhase:
     """One phase of a duty cycle.
@@ -141,7 +145,7 @@ class DutyPhase:
     """
 
     name: str
-    duration: Any = declared("time", positive=True)
+    duration: Any = declared("time", positive=True, maximum=MAX_PHASE_DURATION)
     environment: Environment = field(default_factory=Environment)
     events: Sequence[BrakingEvent] = ()
     clamped: bool | None = None

@@ -65,6 +65,7 @@ __all__ = [
     "plan_study",
     "SAMPLING_METHODS",
     "MAX_STUDY_CASES",
+    "MIN_TARGET_CHANGE",
     "check_study_size",
     "study_memory_estimate",
 ]
@@ -76,6 +77,8 @@ SAMPLING_METHODS = ("grid", "random", "latin_hypercube", "sobol")
 GROWING_METHODS = ("random", "sobol")
 
 
+#: The smallest ``target_change`` of a study [K]: below, each of its runs takes millions of steps.
+MIN_TARGET_CHANGE = 1e-3
 #: The most cases a study may plan [-]: a million full runs, eleven days of one core at a second each.
 MAX_STUDY_CASES = 1_000_000
 #: Bytes a study holds per case and parameter (the sample table and the sampler's working copies),
@@ -433,8 +436,8 @@ def _check_sampling(sampling: Sampling, n_grid: int, parameters: int) -> None:
     if cases is not None and (isinstance(cases, bool) or not isinstance(cases, int | np.integer) or cases < 1):
         raise InputError(f"study.cases: expected a whole number >= 1, got {cases!r}")
     seed = sampling.seed
-    if seed is not None and (isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0):
-        raise InputError(f"study.seed: expected a whole number >= 0, got {seed!r}")
+    if seed is not None and (isinstance(seed, bool) or not isinstance(seed, int | np.integer) or not 0 <= seed < 2**63):
+        raise InputError(f"study.seed: expected a whole number from 0 to 2**63 - 1, got {str(seed)[:40]}")
     if sampling.method == "grid":
         check_study_size(n_grid, parameters)
         if cases is not None and cases != n_grid:
@@ -554,11 +557,12 @@ def plan_study(study: Study) -> StudyPlan:
 
 
 def _temperature_override(study: Study, key: str) -> float | None:
-    """The study's solver override ``key`` (a temperature difference) in K, or None."""
+    """The study's solver override ``key`` (a temperature difference) in K, or None; below
+    :data:`MIN_TARGET_CHANGE` the solver would take steps without end (a fuzzed hang)."""
     value = getattr(study, key)
     if value is None:
         return None
-    return quantity(value, "temperature_difference", f"study.{key}", minimum=0.0, exclusive_minimum=True)
+    return quantity(value, "temperature_difference", f"study.{key}", minimum=MIN_TARGET_CHANGE)
 
 
 def _check_outputs(outputs: Sequence[str] | None, case: Any) -> tuple[str, ...] | None:

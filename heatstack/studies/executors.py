@@ -599,8 +599,9 @@ class DaskExecutor(StudyExecutor):
             while not waiting.is_empty():
                 if waiting.has_ready():
                     for future in waiting.next_batch(block=False):
+                        value = self.result(future, watch)
                         watch.finished += 1
-                        yield self.result(future, watch)
+                        yield value
                     continue
                 watch.check()
                 time.sleep(0.05)

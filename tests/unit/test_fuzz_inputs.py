@@ -31,6 +31,9 @@ from hypothesis import strategies as st
 
 from heatstack.cli import main
 
+#: A warning (e.g. a heat sink overloaded by a mutated energy) is a line on stderr, as at the command line.
+pytestmark = pytest.mark.filterwarnings("default::heatstack.errors.HeatstackWarning")
+
 #: Seconds one check may take (the demo's takes about 0.1 s without its figure).
 LIMIT = 10.0
 FUZZ = settings(

@@ -50,3 +50,27 @@ def test_study_check_plans_the_demo_study_and_runs_nothing(tmp_path, capsys):
     assert main(["study", str(_study(tmp_path, "200")), "--check", "--store", str(tmp_path / "store")]) == 0
     assert "200 cases" in capsys.readouterr().out
     assert not (tmp_path / "store").exists()
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "words"),
+    [
+        ("seed = 2026", "seed = 18446744073709551616", "study.seed"),  # was a store TypeError (object dtype)
+        ('target_change = "10 K"', 'target_change = "10e-30 K"', "study.target_change"),  # was a hang
+    ],
+)
+def test_a_seed_or_target_change_no_study_can_use_is_refused_by_check(tmp_path, capsys, old, new, words):
+    path = _study(tmp_path, "200")
+    text = path.read_text()
+    assert old in text
+    path.write_text(text.replace(old, new))
+    assert main(["study", str(path), "--check"]) == 2
+    (line,) = capsys.readouterr().err.strip().splitlines()
+    assert line.startswith("heatstack: error:") and words in line
+
+
+def test_an_error_quoting_a_nested_array_is_still_one_line(tmp_path, capsys):
+    path = _study(tmp_path, "200")
+    path.write_text(path.read_text().replace('std = "1.5 K"', "std = [[1, 2], [3, 4]]"))
+    assert main(["study", str(path), "--check"]) == 2
+    assert len(capsys.readouterr().err.strip().splitlines()) == 1

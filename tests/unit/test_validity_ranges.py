@@ -101,6 +101,7 @@ def test_a_run_outside_a_correlation_range_carries_the_warning_into_its_report(t
         ('mass = "70 t"', 'mass = "5e-324 kg"', "aircraft.mass"),
         ('mass = "70 t"', 'mass = "70e300 t"', "aircraft.mass"),
         ("braked_wheels = 4", "braked_wheels = 9223372036854775807", "aircraft.braked_wheels"),  # was MemoryError
+        ('duration = "24 s"', "duration = 9223372036854775807", "duration"),  # was refused only by run
     ],
 )
 def test_an_input_where_extrapolation_is_meaningless_is_an_error_from_check(tmp_path, capsys, old, new, key):
@@ -111,3 +112,18 @@ def test_an_input_where_extrapolation_is_meaningless_is_an_error_from_check(tmp_
     assert main(["check", str(case), "--out", str(tmp_path), "--force"]) == 2
     (line,) = capsys.readouterr().err.strip().splitlines()
     assert line.startswith("heatstack: error:") and key in line
+
+
+@pytest.mark.filterwarnings("default::heatstack.errors.HeatstackWarning")
+def test_check_warns_when_the_duty_overfills_the_heat_sink_and_not_for_the_demo(tmp_path, capsys):
+    # without braked_wheels the whole stop (about 155 MJ) goes into one brake, whose 30 kg carbon
+    # heat sink holds about 121 MJ up to the top of its specific-heat table: the run would fail
+    text = DEMO.read_text(encoding="utf-8")
+    assert "\nbraked_wheels = 4\n" in text
+    case = tmp_path / "case.toml"
+    case.write_text(text.replace("\nbraked_wheels = 4\n", "\n# braked_wheels = 4\n", 1), encoding="utf-8")
+    assert main(["check", str(case), "--out", str(tmp_path), "--force"]) == 0
+    err = capsys.readouterr().err
+    assert "heatstack: warning: the duty puts 154.8 MJ into the modelled brake, more than its heat sink" in err
+    assert main(["check", str(DEMO), "--out", str(tmp_path), "--force"]) == 0
+    assert "heat sink can hold" not in capsys.readouterr().err
