@@ -13,6 +13,7 @@ import os
 import time
 
 import pytest
+from lumped_ring_case import lumped_ring_case  # tests/ is on the path (conftest)
 
 from heatstack.cli_errors import exit_code_and_line
 from heatstack.errors import ExecutorError
@@ -21,64 +22,7 @@ from heatstack.studies.runner import clear_model_cache
 
 distributed = pytest.importorskip("distributed")
 
-LUMPED = """
-[case]
-title = "lumped ring pair for the study test (invented)"
-initial_temperature = "20 degC"
-
-[materials.conductor]
-description = "very high conductivity, constant properties: a lumped body (test)"
-extrapolation = "error"
-density = {value = 2000.0, unit = "kg/m^3", source = "test"}
-specific_heat = {unit = "J/(kg*K)", temperature_unit = "K", source = "test", table = [[200.0, 900.0], [2000.0, 900.0]]}
-conductivity = {unit = "W/(m*K)", temperature_unit = "K", source = "test", table = [[200.0, 5000.0], [2000.0, 5000.0]]}
-emissivity = {unit = "1", temperature_unit = "K", source = "test", table = [[200.0, 0.05], [2000.0, 0.05]]}
-
-[assembly]
-builder = "none"
-cell_size = "10 mm"
-[[assembly.parts]]
-name = "rotor"
-material = "conductor"
-r_inner = "100 mm"
-r_outer = "200 mm"
-z_min = 0
-z_max = "10 mm"
-role = "rotor"
-[[assembly.parts]]
-name = "stator"
-material = "conductor"
-r_inner = "100 mm"
-r_outer = "200 mm"
-z_min = "10 mm"
-z_max = "20 mm"
-role = "stator"
-[[assembly.probes]]
-name = "sensor"
-r = "150 mm"
-z = "5 mm"
-[assembly.length_scales]
-"rotor:inner" = "0.2 m"
-"rotor:outer" = "0.4 m"
-"rotor:bottom" = "0.4 m"
-"stator:inner" = "0.2 m"
-"stator:outer" = "0.4 m"
-"stator:top" = "0.4 m"
-
-[[duty.phases]]
-name = "stop"
-duration = "2 s"
-[[duty.phases.events]]
-kind = "stop_from_energy"
-energy = "1 MJ"
-duration = "2 s"
-[[duty.phases]]
-name = "parked"
-duration = "1 min"
-
-[output.limits]
-heat_sink_mean = "600 degC"
-"""
+LUMPED = lumped_ring_case("lumped ring pair for the study test (invented)")
 
 #: The executor's timeout in these tests [s]: the study must stop within it plus a poll or two.
 TIMEOUT = 2.0

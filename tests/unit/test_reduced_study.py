@@ -19,6 +19,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from lumped_ring_case import lumped_ring_case  # tests/ is on the path (conftest)
 
 from heatstack.errors import InputError
 from heatstack.studies import (
@@ -38,64 +39,7 @@ from heatstack.studies.executors import DaskExecutor
 
 ROOT = Path(__file__).resolve().parents[2]
 
-LUMPED = """
-[case]
-title = "lumped ring pair for the reduced-model test (invented)"
-initial_temperature = "20 degC"
-
-[materials.conductor]
-description = "very high conductivity, constant properties: a lumped body (test)"
-extrapolation = "error"
-density = {value = 2000.0, unit = "kg/m^3", source = "test"}
-specific_heat = {unit = "J/(kg*K)", temperature_unit = "K", source = "test", table = [[200.0, 900.0], [2000.0, 900.0]]}
-conductivity = {unit = "W/(m*K)", temperature_unit = "K", source = "test", table = [[200.0, 5000.0], [2000.0, 5000.0]]}
-emissivity = {unit = "1", temperature_unit = "K", source = "test", table = [[200.0, 0.05], [2000.0, 0.05]]}
-
-[assembly]
-builder = "none"
-cell_size = "10 mm"
-[[assembly.parts]]
-name = "rotor"
-material = "conductor"
-r_inner = "100 mm"
-r_outer = "200 mm"
-z_min = 0
-z_max = "10 mm"
-role = "rotor"
-[[assembly.parts]]
-name = "stator"
-material = "conductor"
-r_inner = "100 mm"
-r_outer = "200 mm"
-z_min = "10 mm"
-z_max = "20 mm"
-role = "stator"
-[[assembly.probes]]
-name = "sensor"
-r = "150 mm"
-z = "5 mm"
-[assembly.length_scales]
-"rotor:inner" = "0.2 m"
-"rotor:outer" = "0.4 m"
-"rotor:bottom" = "0.4 m"
-"stator:inner" = "0.2 m"
-"stator:outer" = "0.4 m"
-"stator:top" = "0.4 m"
-
-[[duty.phases]]
-name = "stop"
-duration = "2 s"
-[[duty.phases.events]]
-kind = "stop_from_energy"
-energy = "1 MJ"
-duration = "2 s"
-[[duty.phases]]
-name = "parked"
-duration = "1 min"
-
-[output.limits]
-heat_sink_mean = "380 degC"
-"""
+LUMPED = lumped_ring_case("lumped ring pair for the reduced-model test (invented)", heat_sink_limit="380 degC")
 
 STUDY_FILE = """
 [study]

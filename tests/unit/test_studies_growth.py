@@ -6,6 +6,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from lumped_ring_case import lumped_ring_case  # tests/ is on the path (conftest)
 
 from heatstack.errors import InputError
 from heatstack.studies import Parameter, Sampling, SerialExecutor, Study, Uniform, plan_study, run_study
@@ -15,61 +16,7 @@ ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "examples" / "demo_rto.toml"
 MASS = "duty.phases[0].events[0].aircraft.mass"
 
-LUMPED = """
-[case]
-title = "lumped ring for the growth test (invented)"
-initial_temperature = "20 degC"
-
-[materials.conductor]
-description = "very high conductivity, constant properties: a lumped body (test)"
-extrapolation = "error"
-density = {value = 2000.0, unit = "kg/m^3", source = "test"}
-specific_heat = {unit = "J/(kg*K)", temperature_unit = "K", source = "test", table = [[200.0, 900.0], [2000.0, 900.0]]}
-conductivity = {unit = "W/(m*K)", temperature_unit = "K", source = "test", table = [[200.0, 5000.0], [2000.0, 5000.0]]}
-emissivity = {unit = "1", temperature_unit = "K", source = "test", table = [[200.0, 0.05], [2000.0, 0.05]]}
-
-[assembly]
-builder = "none"
-cell_size = "10 mm"
-[[assembly.parts]]
-name = "rotor"
-material = "conductor"
-r_inner = "100 mm"
-r_outer = "200 mm"
-z_min = 0
-z_max = "10 mm"
-role = "rotor"
-[[assembly.parts]]
-name = "stator"
-material = "conductor"
-r_inner = "100 mm"
-r_outer = "200 mm"
-z_min = "10 mm"
-z_max = "20 mm"
-role = "stator"
-[[assembly.probes]]
-name = "sensor"
-r = "150 mm"
-z = "5 mm"
-[assembly.length_scales]
-"rotor:inner" = "0.2 m"
-"rotor:outer" = "0.4 m"
-"rotor:bottom" = "0.4 m"
-"stator:inner" = "0.2 m"
-"stator:outer" = "0.4 m"
-"stator:top" = "0.4 m"
-
-[[duty.phases]]
-name = "stop"
-duration = "2 s"
-[[duty.phases.events]]
-kind = "stop_from_energy"
-energy = "1 MJ"
-duration = "2 s"
-[[duty.phases]]
-name = "parked"
-duration = "30 s"
-"""
+LUMPED = lumped_ring_case("lumped ring for the growth test (invented)", parked="30 s", heat_sink_limit=None)
 
 
 class CountingExecutor(SerialExecutor):
