@@ -18,13 +18,15 @@ from .resulttables import history_frame, result_dataset
 __all__ = ["Result", "EnergyLedger", "State", "first_non_finite", "peak_time"]
 
 
-def peak_time(times: np.ndarray, values: np.ndarray, k: int | None = None) -> float:
+def peak_time(times: np.ndarray, values: np.ndarray, k: int | None = None, corners: np.ndarray | tuple = ()) -> float:
     """Time of the peak of a recorded history, between its records.
 
     The vertex of the parabola through the highest record and its two neighbours (a
     second-order estimate, as the time stepping is; it lies between the neighbours); the
-    record's own time at either end of the history or where the three records do not bend
-    down. With error-controlled steps the records around a slow rim or fuse-plug
+    record's own time at either end of the history, where the three records do not bend
+    down, or where the highest record lies on a corner of the duty (heating stops, a phase
+    ends: there the history has a kink, and the heat-sink mean's peak is exactly the end of
+    heating). With error-controlled steps the records around a slow rim or fuse-plug
     maximum can be a minute or two apart: the vertex puts the peak's time within seconds of
     a converged run's where the highest record alone is off by up to half a spacing.
 
@@ -36,6 +38,8 @@ def peak_time(times: np.ndarray, values: np.ndarray, k: int | None = None) -> fl
         The history at those times (any unit).
     k : int, optional
         Index of the highest record (the first, if it repeats); found when not given.
+    corners : array_like, optional
+        Times [s] where the history may kink (:meth:`Result.corner_times`).
 
     Returns
     -------
@@ -49,6 +53,9 @@ def peak_time(times: np.ndarray, values: np.ndarray, k: int | None = None) -> fl
     """
     k = int(np.argmax(values)) if k is None else int(k)
     if k <= 0 or k >= len(values) - 1:
+        return float(times[k])
+    corners = np.asarray(corners, dtype=float)
+    if corners.size and np.any(np.abs(corners - times[k]) <= 1e-9 * max(1.0, abs(float(times[k])))):
         return float(times[k])
     (a, b, c), (fa, fb, fc) = times[k - 1 : k + 2], values[k - 1 : k + 2]
     p, q = (b - a) * (fb - fc), (b - c) * (fb - fa)
@@ -267,7 +274,20 @@ class Result:
         """
         values = self.history(name)
         k = int(np.argmax(values))
-        return float(values[k]), peak_time(self.times, values, k)
+        return float(values[k]), peak_time(self.times, values, k, self.corner_times())
+
+    def corner_times(self) -> np.ndarray:
+        """Times where the histories may kink: each phase's start and end, the end of heating and of braking.
+
+        Returns
+        -------
+        ndarray
+            The times [s], sorted, each once.
+        """
+        times = [t for _, start, end in self.phases for t in (start, end)] + [self.end_of_heating]
+        if self.end_of_braking is not None:
+            times.append(self.end_of_braking)
+        return np.unique(np.asarray(times, dtype=float))
 
     def snapshot(self, time: float) -> np.ndarray:
         """The stored field snapshot nearest to ``time``.

@@ -323,10 +323,10 @@ def local_temperature(result: Result, name: str, field: str = "probe") -> np.nda
     return checked_history(result, name, result.probes[name])
 
 
-def _peak_of(name: str, times: np.ndarray, values: np.ndarray, end_of_braking: float) -> Peak:
+def _peak_of(name: str, times: np.ndarray, values: np.ndarray, end_of_braking: float, corners=()) -> Peak:
     k = int(np.argmax(values))
     bracket = (float(times[max(k - 1, 0)]), float(times[min(k + 1, times.size - 1)]))
-    when = peak_time(times, values, k)
+    when = peak_time(times, values, k, corners)
     return Peak(name, float(values[k]), when, when - end_of_braking, bracket)
 
 
@@ -418,7 +418,7 @@ def peak(result: Result, name: str) -> Peak:
         Unknown name (the message lists the known ones) or fewer than two records.
     """
     values = _history(result, name)
-    return _peak_of(name, record_times(result), values, float(result.end_of_braking))
+    return _peak_of(name, record_times(result), values, float(result.end_of_braking), result.corner_times())
 
 
 def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND) -> SensorLag:
@@ -461,8 +461,8 @@ def sensor_lag(result: Result, sensor: str = "sensor", band: Any = DEFAULT_BAND)
     mean = checked_history(result, HEAT_SINK_MEAN, result.series[HEAT_SINK_MEAN])
     hottest = checked_history(result, HEAT_SINK_MAX, result.series[HEAT_SINK_MAX])
     end = float(result.end_of_braking)
-    read_peak = _peak_of(sensor, times, reading, end)
-    local_peak = _peak_of(sensor, times, local, end)
+    read_peak = _peak_of(sensor, times, reading, end, result.corner_times())
+    local_peak = _peak_of(sensor, times, local, end, result.corner_times())
     to_mean, to_max = reading - mean, reading - hottest
     k = int(np.argmax(reading))
     return SensorLag(
@@ -560,7 +560,8 @@ def margins(result: Result, limits: Mapping[str, Any]) -> list[Margin]:
         values = _history(result, name)
         k = int(np.argmax(values))
         top = float(values[k])
-        out.append(Margin(name, limit, top, limit - top, peak_time(times, values, k), bool(top > limit)))
+        when = peak_time(times, values, k, result.corner_times())
+        out.append(Margin(name, limit, top, limit - top, when, bool(top > limit)))
     return out
 
 

@@ -270,7 +270,7 @@ def assess_fuse_plugs(result: Result, plugs: Sequence[FusePlug | FusePlugSpec]) 
             PlugAnswer(
                 name=plug.name,
                 peak=top,
-                time_of_peak=peak_time(times, temperature, k),
+                time_of_peak=peak_time(times, temperature, k, result.corner_times()),
                 release_time=release,
                 margin=plug.release_temperature - top,
                 margin_to_band_low=low - top,

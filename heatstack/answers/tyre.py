@@ -345,7 +345,7 @@ def tyre_gas(
         temperature=frozen_copy(gas),
         pressure=frozen_copy(pressure),
         peak_pressure=float(pressure[k]),
-        time_of_peak=peak_time(times, pressure, k),
+        time_of_peak=peak_time(times, pressure, k, result.corner_times()),
         peak_temperature=float(np.max(gas)),
         cold_pressure=p_cold,
         cold_temperature=t_cold,

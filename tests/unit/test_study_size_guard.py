@@ -56,7 +56,7 @@ def test_study_check_plans_the_demo_study_and_runs_nothing(tmp_path, capsys):
     ("old", "new", "words"),
     [
         ("seed = 2026", "seed = 18446744073709551616", "study.seed"),  # was a store TypeError (object dtype)
-        ('target_change = "10 K"', 'target_change = "10e-30 K"', "study.target_change"),  # was a hang
+        ('accuracy = "0.5 K"', 'accuracy = "10e-30 K"', "study.accuracy"),  # a hang (as target_change was)
     ],
 )
 def test_a_seed_or_target_change_no_study_can_use_is_refused_by_check(tmp_path, capsys, old, new, words):
