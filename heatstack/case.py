@@ -342,7 +342,10 @@ def _environment(t: CaseTable) -> Environment:
     try:
         return Environment(**values, wheel_well=well)
     except InputError as exc:
-        raise InputError(f"{t.path}: {exc}") from exc
+        message, own = str(exc), "environment: "
+        raise InputError(
+            f"{t.path}.{message[len(own) :]}" if message.startswith(own) else f"{t.path}: {message}"
+        ) from exc
 
 
 def _duty(table: CaseTable, base: Path) -> DutyCycle:

@@ -10,6 +10,7 @@ rejects unknown keys, suggesting the closest valid one.
 from __future__ import annotations
 
 import difflib
+import unicodedata
 from collections.abc import Mapping
 from typing import Any
 
@@ -128,11 +129,15 @@ class CaseTable:
         Raises
         ------
         InputError
-            If the key is missing (and required) or its value is not a string.
+            If the key is missing (and required), its value is not a string, or it holds a
+            control character.
         """
         value = self.raw(key, default)
         if value is not default and not isinstance(value, str):
             raise InputError(f"{self.where(key)}: expected a string, got {_shown(value)}")
+        if isinstance(value, str) and any(unicodedata.category(c) == "Cc" and c not in "\t\n\r" for c in value):
+            # a control character (a null byte, say) passes the solve and then breaks the results file
+            raise InputError(f"{self.where(key)}: control characters are not allowed in {_shown(value)}")
         return value
 
     def boolean(self, key: str, default: Any = _REQUIRED) -> bool:

@@ -18,6 +18,7 @@ from ..errors import ScheduleError
 from ..geometry import SurfaceGroup
 from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
 from ..units import convert_declared, declared
+from .air import T_MAX, T_MIN
 from .environment import CrossFlow, FanCooling, MixedConvection, NaturalConvection, RotatingDisc, WheelWell
 from .events import BrakingEvent, combine
 from .roll_inputs import GROUND_SPEED_MAX, WIND_SPEED_MAX
@@ -32,7 +33,8 @@ class Environment:
     Parameters
     ----------
     ambient_temperature : float or str
-        Outside air temperature [K] (or a string with a unit, e.g. ``"15 degC"``).
+        Outside air temperature [K] (or a string with a unit, e.g. ``"15 degC"``), within the
+        200-1500 K range of the air property fits (checked when the case is read, not at the run).
     ambient_pressure : float or str
         [Pa].
     surroundings_temperature : float or str, optional
@@ -53,7 +55,7 @@ class Environment:
         Cooling laws given by hand for some surface groups (``"*"`` for all others).
     """
 
-    ambient_temperature: Any = declared("temperature", 288.15, positive=True)
+    ambient_temperature: Any = declared("temperature", 288.15, minimum=T_MIN, maximum=T_MAX)
     ambient_pressure: Any = declared("pressure", 101325.0, positive=True)
     surroundings_temperature: Any = declared("temperature", None, positive=True)
     ground_speed: Any = declared("speed", 0.0, minimum=0.0, maximum=GROUND_SPEED_MAX)

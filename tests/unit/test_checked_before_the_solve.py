@@ -135,3 +135,28 @@ def test_a_result_holding_nan_is_never_written(tmp_path):
     with pytest.raises(ResultFileError, match="NaN"):
         write_result(result, tmp_path / "spoilt.h5", resolved_inputs={"x": float("nan")})
     assert not (tmp_path / "spoilt.h5").exists()
+
+
+DEMO = (Path(__file__).resolve().parents[2] / "examples" / "demo_rto.toml").read_text()
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "key"),
+    [
+        # found by the fuzz campaign: accepted by check, refused by run (the air fits' range) ...
+        (
+            'ambient_temperature = "25 degC"\nwind_speed',
+            'ambient_temperature = "25e300 degC"\nwind_speed',
+            "duty.phases[1].environment.ambient_temperature",
+        ),
+        # ... and a phase name with a null byte that failed only when the finished run was written
+        ('name = "held on the runway"', 'name = "held\\u0000"', "duty.phases[1].name"),
+    ],
+)
+def test_check_refuses_what_the_run_or_its_results_file_would(tmp_path, capsys, old, new, key):
+    case = tmp_path / "case.toml"
+    assert old in DEMO
+    case.write_text(DEMO.replace(old, new, 1))
+    assert main(["check", str(case), "--out", str(tmp_path)]) == 2
+    (line,) = capsys.readouterr().err.strip().splitlines()
+    assert key in line
