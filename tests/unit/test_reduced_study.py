@@ -19,6 +19,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from counting_executor import CountingExecutor  # tests/ is on the path (conftest)
 from lumped_ring_case import lumped_ring_case  # tests/ is on the path (conftest)
 
 from heatstack.errors import InputError
@@ -86,17 +87,6 @@ def folder(tmp_path_factory) -> Path:
     (path / "lumped.toml").write_text(LUMPED)
     (path / "study.toml").write_text(STUDY_FILE)
     return path
-
-
-class CountingExecutor(SerialExecutor):
-    """A serial executor that counts the calls submitted to it."""
-
-    def __init__(self):
-        self.submitted = 0
-
-    def submit(self, fn, arg):
-        self.submitted += 1
-        return super().submit(fn, arg)
 
 
 def small_study(folder: Path, cases: int = 40, **settings) -> Study:

@@ -6,6 +6,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from counting_executor import CountingExecutor  # tests/ is on the path (conftest)
 from lumped_ring_case import lumped_ring_case  # tests/ is on the path (conftest)
 
 from heatstack.errors import InputError
@@ -17,17 +18,6 @@ DEMO = ROOT / "examples" / "demo_rto.toml"
 MASS = "duty.phases[0].events[0].aircraft.mass"
 
 LUMPED = lumped_ring_case("lumped ring for the growth test (invented)", parked="30 s", heat_sink_limit=None)
-
-
-class CountingExecutor(SerialExecutor):
-    """A serial executor that counts the calls submitted to it."""
-
-    def __init__(self):
-        self.submitted = 0
-
-    def submit(self, fn, arg):
-        self.submitted += 1
-        return super().submit(fn, arg)
 
 
 @pytest.fixture()

@@ -28,6 +28,7 @@ import h5py
 import matplotlib
 import numpy as np
 import pytest
+from counting_executor import CountingExecutor  # tests/ is on the path (conftest)
 from lumped_ring_case import lumped_ring_case  # tests/ is on the path (conftest)
 
 from heatstack.answers.fuse_plugs import assess_fuse_plugs
@@ -103,17 +104,6 @@ def folder(tmp_path_factory) -> Path:
         (path / f"study{n}.toml").write_text(STUDY.replace("{cases}", str(n)))
     (path / "lumped.toml").write_text(LUMPED)
     return path
-
-
-class CountingExecutor(SerialExecutor):
-    """A serial executor that counts the calls submitted to it."""
-
-    def __init__(self):
-        self.submitted = 0
-
-    def submit(self, fn, arg):
-        self.submitted += 1
-        return super().submit(fn, arg)
 
 
 # ---------------------------------------------------------------------------- analytic study
