@@ -161,7 +161,7 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
     vmin, vmax = _record_scale(result, unit)
     masked = np.ma.masked_invalid(values.T)
     mesh = ax.pcolormesh(z_mm, r_mm, masked, cmap=_FIELD_CMAP, vmin=vmin, vmax=vmax, shading="flat")
-    _isotherms(ax, result, masked, (vmin, vmax))
+    isotherm_labels = _isotherms(ax, result, masked, (vmin, vmax))
     outlines = _cell_edges(result.part_map, result.r_edges, result.z_edges) * 1e3
     ax.add_collection(LineCollection(outlines, colors="0.1", linewidths=0.7, zorder=3))
     ax.set_xlim(z_mm[0], z_mm[-1])
@@ -181,6 +181,8 @@ def plot_field(result: Result, path: str | os.PathLike, time: float, unit: str =
         ax.plot([z], [r], "o", ms=5, mfc="white", mec="black", mew=1.0, zorder=5)
     placer = LabelPlacer(fig, ax, avoid_lines=False)
     placer.add_soft_segments(outlines)
+    for label in isotherm_labels:
+        placer.block_artist(label)
     placer.block_points(np.array([(z, r) for _, z, r in positions]).reshape(-1, 2), half=5.0)
     for name, z, r in positions:
         placer.place((z, r), name, boxed=True)
@@ -198,14 +200,16 @@ def _record_scale(result: Result, unit: str) -> tuple[float, float]:
     return vmin, vmax
 
 
-def _isotherms(ax: Axes, result: Result, masked: np.ma.MaskedArray, scale: tuple[float, float]) -> None:
+def _isotherms(ax: Axes, result: Result, masked: np.ma.MaskedArray, scale: tuple[float, float]) -> list:
     """Thin labelled isotherms on the cell centres at round steps of the shared scale, part by part.
 
     Each part is contoured alone, so no isotherm is drawn across a contact, where the temperature jumps.
+    Returns the isotherms' value labels, which part names and probe labels keep clear of.
     """
     levels = MaxNLocator(nbins=8).tick_values(*scale)
     z_mid = 0.5 * (result.z_edges[1:] + result.z_edges[:-1]) * 1e3
     r_mid = 0.5 * (result.r_edges[1:] + result.r_edges[:-1]) * 1e3
+    labels = []
     for index in range(len(result.part_names)):
         part = np.ma.masked_where(result.part_map.T != index, masked)
         if part.count() < 4:
@@ -216,35 +220,23 @@ def _isotherms(ax: Axes, result: Result, masked: np.ma.MaskedArray, scale: tuple
         lines = ax.contour(z_mid, r_mid, part, levels=inside, colors="white", linewidths=0.6, alpha=0.85, zorder=2)
         for label in ax.clabel(lines, fmt="%.0f", fontsize=6.5, inline=True, inline_spacing=2):
             label.set_color("white")
+            labels.append(label)
+    return labels
 
 
 def _name_parts(ax: Axes, placer: LabelPlacer, result: Result) -> None:
-    """Each part's name at the middle of its cells where it fits clear of other labels (else it is left out)."""
-    z_mid = 0.5 * (result.z_edges[1:] + result.z_edges[:-1]) * 1e3
-    r_mid = 0.5 * (result.r_edges[1:] + result.r_edges[:-1]) * 1e3
+    """Each part's name inside its cells where it fits clear of other labels, else beside it on a leader line."""
+    fontsize = 6.5
     for index, name in enumerate(result.part_names):
         j, i = np.nonzero(result.part_map == index)
         if j.size == 0:
             continue
-        lo = ax.transData.transform((result.z_edges[j.min()] * 1e3, result.r_edges[i.min()] * 1e3))
-        hi = ax.transData.transform((result.z_edges[j.max() + 1] * 1e3, result.r_edges[i.max() + 1] * 1e3))
-        width, height = np.abs(hi - lo)
-        centre = (float(np.mean(z_mid[j])), float(np.mean(r_mid[i])))
-        for rotation in (0, 90):
-            w, h = placer.text_size(name, 6.5, rotation)
-            if w + 4 > width or h + 4 > height:
-                continue
-            pixel = ax.transData.transform(centre)
-            box = np.array([pixel[0] - w / 2, pixel[1] - h / 2, pixel[0] + w / 2, pixel[1] + h / 2])
-            if any(box_overlap(box, other) > 0.0 for other in placer.boxes):
-                continue
-            label = ax.text(
-                *centre, name, rotation=rotation, ha="center", va="center", fontsize=6.5, color="black", zorder=4
-            )
-            label.set_bbox(dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.6))
-            label.set_in_layout(False)
-            placer.boxes.append(box)
-            break
+        low = (result.z_edges[j.min()] * 1e3, result.r_edges[i.min()] * 1e3)
+        high = (result.z_edges[j.max() + 1] * 1e3, result.r_edges[i.max() + 1] * 1e3)
+        if _label_inside(ax, placer, name, (low, high), fontsize, "black", box=True):
+            continue
+        centre = (0.5 * (low[0] + high[0]), 0.5 * (low[1] + high[1]))
+        placer.place(centre, name, boxed=True, colour="black", fontsize=fontsize)
 
 
 # --------------------------------------------------------------------------- 4. layout
@@ -320,7 +312,18 @@ def plot_layout(assembly: Assembly, path: str | os.PathLike, grid: Grid | None =
     placer.add_soft_segments(np.asarray(edges) * 1e3)
     placer.block_points(np.array([(z, r) for _, z, r in probes]).reshape(-1, 2), half=5.0)
     fontsize = 7.0
-    outside = [part for part in parts if not _label_inside(ax, placer, part, fontsize)]
+    outside = [
+        part
+        for part in parts
+        if not _label_inside(
+            ax,
+            placer,
+            part.name,
+            ((part.z_min * 1e3, part.r_inner * 1e3), (part.z_max * 1e3, part.r_outer * 1e3)),
+            fontsize,
+            _text_colour(_ROLE_COLOURS[part.role]),
+        )
+    ]
     for name, z, r in probes:
         placer.place((z, r), name, boxed=True, colour="black")
     for part in outside:
@@ -366,18 +369,27 @@ def _add_role_legend(fig: Figure, parts: Sequence[Part]) -> None:
     fig.legend(handles=handles, loc="outside right upper", fontsize=8, frameon=False, title="Role")
 
 
-def _label_inside(ax: Axes, placer: LabelPlacer, part: Part, fontsize: float) -> bool:
-    """Write the part's name inside its rectangle if it fits clear of other labels; return whether it did.
+def _label_inside(
+    ax: Axes,
+    placer: LabelPlacer,
+    name: str,
+    rectangle: tuple[tuple[float, float], tuple[float, float]],
+    fontsize: float,
+    colour: str,
+    box: bool = False,
+) -> bool:
+    """Write ``name`` inside ``rectangle`` [mm] if it fits clear of other labels; return whether it did.
 
-    Tries the name on one line, then split over two, horizontal before vertical.
+    Tries the name on one line, then split over two, horizontal before vertical; ``box`` puts a
+    light box behind it (over a coloured field).
     """
-    corners = ax.transData.transform([(part.z_min * 1e3, part.r_inner * 1e3), (part.z_max * 1e3, part.r_outer * 1e3)])
+    corners = ax.transData.transform(np.asarray(rectangle, dtype=float))
     width, height = np.abs(corners[1] - corners[0])
-    options = [(part.name, 0)]
-    split = _split_name(part.name)
+    options = [(name, 0)]
+    split = _split_name(name)
     if split:
         options.append((split, 0))
-    options.append((part.name, 90))
+    options.append((name, 90))
     if split:
         options.append((split, 90))
     for text, rotation in options:
@@ -394,10 +406,12 @@ def _label_inside(ax: Axes, placer: LabelPlacer, part: Part, fontsize: float) ->
                 va="center",
                 ma="center",
                 fontsize=fontsize,
-                color=_text_colour(_ROLE_COLOURS[part.role]),
+                color=colour,
                 zorder=4,
                 rotation_mode="anchor",
             )
+            if box:
+                label.set_bbox(dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.6))
             label.set_in_layout(False)
             placer.block_artist(label)
             return True

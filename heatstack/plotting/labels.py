@@ -27,7 +27,7 @@ def _candidates() -> list[tuple[float, float, str, str, bool]]:
         (-7, 0, "right", "center"),
     ]
     out = [(dx, dy, ha, va, False) for dx, dy, ha, va in near]
-    for radius in (22.0, 36.0, 52.0, 70.0):
+    for radius in (22.0, 36.0, 52.0, 70.0, 95.0, 125.0):
         for degrees in (45, 135, -45, -135, 90, -90, 0, 180, 20, 160, -20, -160, 65, 115, -65, -115):
             a = np.radians(degrees)
             dx, dy = radius * np.cos(a), radius * np.sin(a)
@@ -102,6 +102,7 @@ class LabelPlacer:
         self.points = np.concatenate(points) if points else np.zeros((0, 2))
         self.soft_points = np.zeros((0, 2))
         self.anchors = np.zeros((0, 2))
+        self.leaders: list[tuple[np.ndarray, np.ndarray]] = []
 
     def add_soft_segments(self, segments: np.ndarray) -> None:
         """Edges labels should rather not cover (weaker than curves), e.g. part outlines.
@@ -214,6 +215,11 @@ class LabelPlacer:
             score = 1e5 * (1.0 - inside / area) + 0.3 * index + (4.0 if leader else 0.0)
             score += sum(1e4 * box_overlap(box, other) / area for other in self.boxes)
             score += 15.0 * _count_inside(self.points, box) + 2.0 * _count_inside(self.soft_points, box)
+            if leader:
+                # a leader line crossing another leader, or running through a placed label, misreads
+                end = np.array([ox, oy])
+                score += 3000.0 * sum(_segments_cross(anchor, end, a, b) for a, b in self.leaders)
+                score += 3000.0 * sum(_segment_hits_box(anchor, end, other) for other in self.boxes)
             if self.anchors.size and not leader:
                 # a label must sit nearer its own anchor than any other marked anchor
                 own = _distance_to_box(anchor[None, :], box)[0]
@@ -224,6 +230,8 @@ class LabelPlacer:
             if score < best_score:
                 best, best_score = (dx, dy, ha, va, leader, box), score
         dx, dy, ha, va, leader, box = best
+        if leader:
+            self.leaders.append((anchor, anchor + np.array([dx, dy]) * self.scale))
         kwargs = dict(
             xy=xy,
             xycoords="data",
@@ -244,6 +252,22 @@ class LabelPlacer:
         label.set_in_layout(False)
         self.boxes.append(box)
         return label
+
+
+def _segments_cross(p1: np.ndarray, p2: np.ndarray, q1: np.ndarray, q2: np.ndarray) -> bool:
+    """Whether segments p1-p2 and q1-q2 [pixels] cross at a point inside both (orientation test)."""
+
+    def turn(a, b, c) -> float:
+        return float((b[0] - a[0]) * (c[1] - a[1]) - (b[1] - a[1]) * (c[0] - a[0]))
+
+    return turn(p1, p2, q1) * turn(p1, p2, q2) < 0.0 and turn(q1, q2, p1) * turn(q1, q2, p2) < 0.0
+
+
+def _segment_hits_box(p1: np.ndarray, p2: np.ndarray, box: np.ndarray) -> bool:
+    """Whether the segment p1-p2 [pixels] passes through the box (x0, y0, x1, y1), ends excluded."""
+    t = np.linspace(0.1, 0.9, 17)[:, None]
+    points = p1[None, :] + t * (p2 - p1)[None, :]
+    return _count_inside(points, box) > 0
 
 
 def _distance_to_box(points: np.ndarray, box: np.ndarray) -> np.ndarray:

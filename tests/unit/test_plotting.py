@@ -212,3 +212,49 @@ def test_field_maps_share_the_run_scale_and_name_the_parts(run, tmp_path):
     with matplotlib.rc_context({"svg.fonttype": "none"}):
         text = plot_field(run[2], tmp_path / "f.svg", 600.0).read_text(encoding="utf-8")
     assert "one scale for every snapshot of the run" in text and "torque tube" in text
+
+
+def test_every_part_is_named_on_the_field_map(run, tmp_path):
+    """A part too small for its name inside (the thin heat shield) is named beside it, never left out."""
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        text = plot_field(run[2], tmp_path / "f.svg", 600.0).read_text(encoding="utf-8")
+    missing = [name for name in run[2].part_names if not all(word in text for word in name.split())]
+    assert not missing
+
+
+def test_crowded_peak_labels_get_leaders_that_do_not_cross():
+    """Eight anchors packed on a band of curves: every label needs a leader, and no two leaders cross."""
+    import numpy as np
+
+    from heatstack.plotting.common import new_figure
+    from heatstack.plotting.labels import LabelPlacer
+
+    fig = new_figure(6.0, 4.0)
+    ax = fig.add_subplot()
+    x = np.linspace(0.0, 10.0, 200)
+    for offset in np.linspace(-0.3, 0.3, 7):
+        ax.plot(x, 5.0 + offset + 0.0 * x, color="0.5")
+    ax.set_xlim(0, 10)
+    ax.set_ylim(0, 10)
+    anchors = [(4.0 + 0.25 * k, 5.0 + 0.08 * (-1) ** k) for k in range(8)]
+    placer = LabelPlacer(fig, ax)
+    placer.block_points(np.array(anchors))
+    labels = [placer.place(xy, f"peak {k} at {xy[0]:.2f} min") for k, xy in enumerate(anchors)]
+    fig.draw_without_rendering()
+    segments = []
+    for label, xy in zip(labels, anchors, strict=True):
+        if label.arrow_patch is None:
+            continue
+        start = ax.transData.transform(xy)
+        segments.append((start, start + np.array(label.xyann) * fig.dpi / 72.0))
+
+    def turn(a, b, c):
+        return (b[0] - a[0]) * (c[1] - a[1]) - (b[1] - a[1]) * (c[0] - a[0])
+
+    crossings = [
+        (i, j)
+        for i, (p1, p2) in enumerate(segments)
+        for j, (q1, q2) in enumerate(segments[:i])
+        if turn(p1, p2, q1) * turn(p1, p2, q2) < 0 and turn(q1, q2, p1) * turn(q1, q2, p2) < 0
+    ]
+    assert len(segments) >= 4 and not crossings
