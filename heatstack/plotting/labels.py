@@ -216,10 +216,12 @@ class LabelPlacer:
             score += sum(1e4 * box_overlap(box, other) / area for other in self.boxes)
             score += 15.0 * _count_inside(self.points, box) + 2.0 * _count_inside(self.soft_points, box)
             if leader:
-                # a leader line crossing another leader, or running through a placed label, misreads
+                # a leader line crossing another leader, or running through a placed label, misreads;
+                # a long one reads worse than a short one
                 end = np.array([ox, oy])
+                score += 0.15 * np.hypot(dx, dy)
                 score += 3000.0 * sum(_segments_cross(anchor, end, a, b) for a, b in self.leaders)
-                score += 3000.0 * sum(_segment_hits_box(anchor, end, other) for other in self.boxes)
+                score += 20.0 * sum(_segment_hits_box(anchor, end, other) for other in self.boxes)
             if self.anchors.size and not leader:
                 # a label must sit nearer its own anchor than any other marked anchor
                 own = _distance_to_box(anchor[None, :], box)[0]
