@@ -18,7 +18,7 @@ from dataclasses import dataclass, field, replace
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
 from .errors import GeometryError
 from .geometry import Contact, FrictionSettings, Part, Probe, SurfaceGroup, ThermalLink
-from .units import convert_declared, declared
+from .unit_declarations import convert_declared, declared
 
 __all__ = [
     "WheelBrakeDesign",
@@ -91,7 +91,7 @@ class WheelBrakeDesign:
 
     Every default is INVENTED for the reference design (no real product). Each number may
     also be given with a unit (``rotor_thickness="18 mm"``) or as a pint Quantity; each
-    field declares its dimension once (:func:`heatstack.units.declared_dimension`).
+    field declares its dimension once (:func:`heatstack.unit_declarations.declared_dimension`).
     ``drive_key_conductance`` [W/K] is the conduction path from each rotor's keys through
     the wheel's drive keys into the rim bore (the keys themselves are not meshed).
 

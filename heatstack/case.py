@@ -41,7 +41,7 @@ from .property_table import forget_warnings
 from .questions.chaining import read_start, run_from_state, state_for_model
 from .report import ReportSettings, TyreSettings, with_tyre_gas_carried
 from .result import Result, State
-from .units import declared_dimensions
+from .unit_declarations import declared_dimensions
 
 __all__ = [
     "Case",

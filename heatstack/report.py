@@ -49,7 +49,7 @@ from .report_text import (
     unit_symbols,
 )
 from .result import Result
-from .units import convert_declared, declared
+from .unit_declarations import convert_declared, declared
 
 __all__ = [
     "TyreSettings",

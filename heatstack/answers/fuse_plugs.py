@@ -25,7 +25,8 @@ from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..numerics.instrument import first_order_lag
 from ..result import Result, State, peak_time
-from ..units import convert_declared, declared, quantity
+from ..unit_declarations import convert_declared, declared
+from ..units import quantity
 from .analysis import first_reach, local_temperature, record_times
 
 __all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs", "plug_temperature", "as_fuse_plug", "state_with_plugs"]
