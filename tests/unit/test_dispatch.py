@@ -306,7 +306,7 @@ def test_a_flights_table_with_a_non_increasing_time_is_refused(tmp_path):
 def arrival_file(wheel, tmp_path_factory):
     """An arrival run written with its case text, as `heatstack run` writes it."""
     from heatstack.case import load_case, run_case
-    from heatstack.cli import demo_case_path
+    from heatstack.cli_shipped import demo_case_path
 
     text = demo_case_path().read_text(encoding="utf-8").replace('cell_size = "4 mm"', 'cell_size = "8 mm"')
     text = text.replace('duration = "3 h"', 'duration = "10 min"')
