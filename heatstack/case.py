@@ -37,7 +37,7 @@ from .numerics.options import SolverOptions
 from .operations.duty import DutyCycle
 from .property_table import forget_warnings
 from .questions.chaining import read_start, run_from_state, state_for_model
-from .report import ReportSettings, TyreSettings, with_tyre_gas_carried
+from .report_settings import ReportSettings, TyreSettings, with_tyre_gas_carried
 from .result import Result, State
 
 __all__ = [

@@ -20,7 +20,7 @@ from .operations import heat_input, stops
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.events import BrakingEvent
 from .operations.roll_inputs import Aircraft, Conditions, Runway
-from .report import TyreSettings
+from .report_settings import TyreSettings
 from .unit_declarations import declared_dimension
 
 __all__ = ["EVENT_KINDS", "ROLL_RECORDS", "key_dimension"]

@@ -25,7 +25,7 @@ from .errors import InputError
 from .geometry import HEAT_SINK_MEAN, ROLES, Contact, FrictionSettings, Part, Probe, SurfaceGroup
 from .numerics.options import SCHEMES, SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
-from .report import TyreSettings
+from .report_settings import TyreSettings
 from .unit_declarations import declared_dimensions
 
 __all__ = ["OutputSettings", "read_assembly", "read_duty", "read_solver", "read_budget", "read_output", "read_tyre"]

@@ -18,7 +18,7 @@ __all__ = ["cmd_report", "cmd_plot", "cmd_export"]
 
 
 def _settings_from_file(path: Path, unit: str | None):
-    from .report import ReportSettings
+    from .report_settings import ReportSettings
     from .resultread import read_resolved_inputs
 
     stored = read_resolved_inputs(path).get("report")

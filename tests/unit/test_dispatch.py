@@ -447,7 +447,7 @@ def test_a_chained_run_carries_the_tyre_gas_on_as_the_run_in_one_piece(wheel):
 
 def test_the_results_file_keeps_the_tyre_gas_for_a_chained_run(arrival_file, tmp_path):
     from heatstack.case import parse_case
-    from heatstack.report import tyre_gas_for
+    from heatstack.report_settings import tyre_gas_for
     from heatstack.resultread import read_case_text, read_result
 
     stored = read_result(arrival_file)
