@@ -30,7 +30,7 @@ from .answers import (  # noqa: E402
     tyre_pressure_margin,
 )
 from .assembly import Assembly
-from .builders import FusePlugSpec, WheelBrakeDesign, build_wheel_brake  # noqa: E402
+from .builders import build_wheel_brake  # noqa: E402
 from .case import Case, load_case, run_case  # noqa: E402
 from .errors import HeatstackError, InputError, SolverError  # noqa: E402
 from .geometry import CellGroup, Contact, FrictionSettings, GapPair, Part, Probe, RubbingPair, SurfaceGroup
@@ -55,6 +55,7 @@ from .report_settings import ReportSettings, TyreSettings  # noqa: E402
 from .result import EnergyLedger, Result, State  # noqa: E402
 from .resultfile import write_result  # noqa: E402
 from .resultread import read_result  # noqa: E402
+from .wheel_design import FusePlugSpec, WheelBrakeDesign  # noqa: E402
 
 __all__ = [
     "Aircraft",

@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from .assembly import Assembly
-from .builders import BuiltWheelBrake, FusePlugSpec
+from .builders import BuiltWheelBrake
 from .case_guards import DEFAULT_MAX_CELLS, RunBudget, check_cell_count, check_cooling_series, watch_budget
 from .case_sections import (
     OutputSettings,
@@ -39,6 +39,7 @@ from .property_table import forget_warnings
 from .questions.chaining import read_start, run_from_state, state_for_model
 from .report_settings import ReportSettings, TyreSettings, with_tyre_gas_carried
 from .result import Result, State
+from .wheel_design import FusePlugSpec
 
 __all__ = [
     "Case",

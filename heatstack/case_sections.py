@@ -17,7 +17,7 @@ from typing import Any
 import numpy as np
 
 from .assembly import Assembly, cell_groups_by_role, rubbing_pairs_by_role
-from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, FusePlugSpec, WheelBrakeDesign, build_wheel_brake
+from .builders import SURFACE_ORIENTATION, BuiltWheelBrake, build_wheel_brake
 from .case_events import braking_event, stated_air_pressure
 from .case_guards import RunBudget, plain_file_name
 from .case_table import ABOVE_ZERO, CaseTable
@@ -27,6 +27,7 @@ from .numerics.options import SCHEMES, SolverOptions
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .report_settings import TyreSettings
 from .unit_declarations import declared_dimensions
+from .wheel_design import FusePlugSpec, WheelBrakeDesign
 
 __all__ = ["OutputSettings", "read_assembly", "read_duty", "read_solver", "read_budget", "read_output", "read_tyre"]
 

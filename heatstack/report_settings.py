@@ -14,11 +14,11 @@ from typing import Any
 import numpy as np
 
 from .answers.tyre import TyreGas, tyre_gas, with_tyre_gas_state
-from .builders import FusePlugSpec
 from .errors import InputError
 from .geometry import HEAT_SINK_MEAN
 from .result import Result
 from .unit_declarations import convert_declared, declared
+from .wheel_design import FusePlugSpec
 
 __all__ = ["TyreSettings", "ReportSettings", "tyre_gas_for", "with_tyre_gas_carried"]
 

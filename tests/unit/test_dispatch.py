@@ -469,8 +469,8 @@ def test_the_results_file_keeps_the_tyre_gas_for_a_chained_run(arrival_file, tmp
 def test_a_day_summary_flags_a_plug_peak_above_its_release_temperature():
     from types import SimpleNamespace
 
-    from heatstack.builders import FusePlugSpec
     from heatstack.questions.day import DayAnswer
+    from heatstack.wheel_design import FusePlugSpec
 
     plugs = (FusePlugSpec("fuse plug 1", 0.3, release_temperature="177 degC"),)
     flight = SimpleNamespace(number=1, arrival_time=7 * 3600.0, arrival_mass=62e3)
