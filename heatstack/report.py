@@ -22,16 +22,10 @@ from typing import Any
 import numpy as np
 
 from . import __version__
-from .answers.analysis import (
-    cooling_time_in_result,
-    level_crossings,
-    margins,
-    peak,
-    record_times,
-    sensor_lag,
-    threshold_crossings,
-)
+from .answers.analysis import cooling_time_in_result, margins, peak, threshold_crossings
 from .answers.fuse_plugs import PlugAnswer, assess_fuse_plugs, plug_temperature
+from .answers.histories import level_crossings, record_times
+from .answers.sensor import sensor_lag
 from .answers.tyre import plug_releases_before_limit, tyre_pressure_margin
 from .errors import InputError
 from .geometry import GLOBAL_SERIES, HEAT_SINK_MEAN

@@ -27,7 +27,7 @@ from ..result import Result, State, peak_time
 from ..unit_declarations import convert_declared, declared
 from ..units import quantity
 from ..wheel_design import FusePlugSpec
-from .analysis import first_reach, local_temperature, record_times
+from .histories import first_reach, local_temperature, record_times
 
 __all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs", "plug_temperature", "as_fuse_plug", "state_with_plugs"]
 
