@@ -30,7 +30,7 @@ from .answers import (  # noqa: E402
     tyre_pressure_margin,
 )
 from .assembly import Assembly
-from .builders import FusePlugSpec, WheelBrakeDesign, build_wheel_brake  # noqa: E402
+from .builders import build_wheel_brake  # noqa: E402
 from .case import Case, load_case, run_case  # noqa: E402
 from .errors import HeatstackError, InputError, SolverError  # noqa: E402
 from .geometry import CellGroup, Contact, FrictionSettings, GapPair, Part, Probe, RubbingPair, SurfaceGroup
@@ -50,10 +50,12 @@ from .operations.heat_input import (  # noqa: E402
 from .operations.roll_inputs import Aircraft, Conditions, Runway  # noqa: E402
 from .operations.stops import landing_roll, rejected_takeoff, taxi_stop  # noqa: E402
 from .questions import cooling_time_from_state, estimate_energy, predict_from_estimate, what_if  # noqa: E402
-from .report import ReportSettings, TyreSettings, build_report, format_report  # noqa: E402
+from .report import build_report, format_report  # noqa: E402
+from .report_settings import ReportSettings, TyreSettings  # noqa: E402
 from .result import EnergyLedger, Result, State  # noqa: E402
 from .resultfile import write_result  # noqa: E402
 from .resultread import read_result  # noqa: E402
+from .wheel_design import FusePlugSpec, WheelBrakeDesign  # noqa: E402
 
 __all__ = [
     "Aircraft",

@@ -1,9 +1,9 @@
 """Which physical dimension each key of a case file has, declared once.
 
 A key that is a field of a public dataclass (:class:`~heatstack.geometry.Part`,
-:class:`~heatstack.builders.WheelBrakeDesign`, :class:`~heatstack.operations.duty.Environment`
-...) has the dimension its field declares (:func:`heatstack.units.declared`); a
-braking-event key has the one its event function declares (:func:`heatstack.units.declares`);
+:class:`~heatstack.wheel_design.WheelBrakeDesign`, :class:`~heatstack.operations.duty.Environment`
+...) has the dimension its field declares (:func:`heatstack.unit_declarations.declared`); a
+braking-event key has the one its event function declares (:func:`heatstack.unit_declarations.declares`);
 the few keys that only the case file has are listed here. The case reader and the
 studies look dimensions up with :func:`key_dimension`; nothing guesses from a name.
 """
@@ -13,15 +13,15 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from typing import Any
 
-from .builders import FusePlugSpec, WheelBrakeDesign
 from .geometry import Contact, Part, Probe
 from .numerics.options import SolverOptions
 from .operations import heat_input, stops
 from .operations.duty import DutyCycle, DutyPhase, Environment
 from .operations.events import BrakingEvent
 from .operations.roll_inputs import Aircraft, Conditions, Runway
-from .report import TyreSettings
-from .units import declared_dimension
+from .report_settings import TyreSettings
+from .unit_declarations import declared_dimension
+from .wheel_design import FusePlugSpec, WheelBrakeDesign
 
 __all__ = ["EVENT_KINDS", "ROLL_RECORDS", "key_dimension"]
 
@@ -99,9 +99,9 @@ def key_dimension(tokens: tuple[str | int, ...], case: Mapping[str, Any] | None 
     """The physical dimension declared for the case key at ``tokens``, or None.
 
     ``("assembly", "design", "rotor_thickness")`` -> ``"length"`` (from the field of
-    :class:`~heatstack.builders.WheelBrakeDesign`); ``("output", "limits", "sensor")``
+    :class:`~heatstack.wheel_design.WheelBrakeDesign`); ``("output", "limits", "sensor")``
     -> ``"temperature"``. A braking-event key (``duty.phases[i].events[j].mass``) is
-    declared by its event function (:func:`heatstack.units.declares`); finding it needs
+    declared by its event function (:func:`heatstack.unit_declarations.declares`); finding it needs
     the event's ``kind``, read from the parsed ``case`` mapping.
 
     Parameters

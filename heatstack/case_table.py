@@ -16,7 +16,8 @@ from typing import Any
 
 from .case_keys import key_dimension
 from .errors import InputError
-from .units import declared_dimensions, quantity
+from .unit_declarations import declared_dimensions
+from .units import quantity
 
 __all__ = ["CaseTable"]
 
@@ -271,7 +272,7 @@ class CaseTable:
         Parameters
         ----------
         cls : type
-            A dataclass with fields declared by :func:`heatstack.units.declared`.
+            A dataclass with fields declared by :func:`heatstack.unit_declarations.declared`.
         names : tuple of str, optional
             The fields to read; every declared field by default.
 

@@ -2,6 +2,7 @@
 
 Two cases of one invocation never write one results file, and a case never silently overwrites the
 results file another case file wrote (the results file keeps the name of the case file that wrote it).
+The output folder a verb is given is made here (:func:`make_folder`).
 """
 
 from __future__ import annotations
@@ -11,12 +12,12 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from .errors import HeatstackError, InputError
+from .errors import HeatstackError, InputError, ResultFileError
 
 if TYPE_CHECKING:
     from .case import Case
 
-__all__ = ["PlannedRun", "planned_runs", "writer_of"]
+__all__ = ["PlannedRun", "planned_runs", "writer_of", "make_folder"]
 
 
 def writer_of(results: Path) -> str | None:
@@ -109,3 +110,32 @@ def planned_runs(case_paths: Sequence[Path], out: Path | None) -> list[PlannedRu
             )
         planned.append(PlannedRun(case_path, case, target, folder))
     return planned
+
+
+def make_folder(folder: Path, what: str) -> Path:
+    """Create ``folder`` (and its parents) for ``what`` (an output folder named on the command line).
+
+    Parameters
+    ----------
+    folder : Path
+        The folder.
+    what : str
+        What the folder is for, named in the error (e.g. ``"--out folder"``).
+
+    Returns
+    -------
+    Path
+        ``folder``, which now exists.
+
+    Raises
+    ------
+    ResultFileError
+        Naming the folder if it is a file or cannot be created.
+    """
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except (FileExistsError, NotADirectoryError) as exc:
+        raise ResultFileError(f"{what} {str(folder)!r} is a file, not a folder") from exc
+    except OSError as exc:
+        raise ResultFileError(f"{what} {str(folder)!r} cannot be created: {exc.strerror}") from exc
+    return folder

@@ -14,13 +14,13 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
-from .builders import FusePlugSpec
 from .case import load_case
 from .errors import InputError
 from .numerics.solver import SolverOptions
 from .questions.day import COLUMNS, Aircraft, DayPlan, Flight, check_timing
 from .questions.safe_wait import DispatchLimits
 from .units import to_si
+from .wheel_design import FusePlugSpec
 
 __all__ = ["load_operations", "read_flights"]
 

@@ -19,7 +19,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from .errors import GeometryError
-from .units import convert_declared, declared, quantity
+from .unit_declarations import convert_declared, declared
+from .units import quantity
 
 __all__ = [
     "ROLES",

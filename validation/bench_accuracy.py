@@ -41,7 +41,7 @@ import numpy as np
 from heatstack.answers.analysis import cooling_time_in_result
 from heatstack.answers.fuse_plugs import plug_temperature
 from heatstack.case import load_case
-from heatstack.cli import demo_case_path
+from heatstack.cli_shipped import demo_case_path
 from heatstack.numerics.options import SolverOptions
 
 REPEATS = 3

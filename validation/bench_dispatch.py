@@ -23,7 +23,7 @@ import warnings
 from dataclasses import replace
 
 from heatstack.case import load_case
-from heatstack.cli import demo_case_path
+from heatstack.cli_shipped import demo_case_path
 from heatstack.operations.duty import DutyCycle, Environment
 from heatstack.operations.heat_input import stop_from_aircraft
 from heatstack.questions.chaining import run_from_state

@@ -5,7 +5,11 @@ live in :mod:`heatstack.questions`, which may import from here; this package nev
 imports from there.
 
 analysis
-    Peaks and delays, sensor lag and offsets, threshold crossings, margins, cooling time.
+    Peaks and delays, threshold crossings, margins, cooling time.
+sensor
+    Sensor lag and offsets against the true heat-sink temperature.
+histories
+    The histories of a Result read by name and checked, their crossings (shared by the others).
 fuse_plugs
     Fuse-plug temperature (with its own lag), release time and margin.
 tyre
@@ -14,18 +18,9 @@ tyre
 
 from __future__ import annotations
 
-from .analysis import (
-    CoolingTime,
-    Margin,
-    Peak,
-    SensorLag,
-    cooling_time_in_result,
-    margins,
-    peak,
-    sensor_lag,
-    threshold_crossings,
-)
+from .analysis import CoolingTime, Margin, Peak, cooling_time_in_result, margins, peak, threshold_crossings
 from .fuse_plugs import FusePlug, PlugAnswer, assess_fuse_plugs
+from .sensor import SensorLag, sensor_lag
 from .tyre import (
     TyreGas,
     bead_seat_margin,

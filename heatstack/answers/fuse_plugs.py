@@ -21,12 +21,13 @@ from typing import Any
 
 import numpy as np
 
-from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..numerics.instrument import first_order_lag
 from ..result import Result, State, peak_time
-from ..units import convert_declared, declared, quantity
-from .analysis import first_reach, local_temperature, record_times
+from ..unit_declarations import convert_declared, declared
+from ..units import quantity
+from ..wheel_design import FusePlugSpec
+from .histories import first_reach, local_temperature, record_times
 
 __all__ = ["FusePlug", "PlugAnswer", "assess_fuse_plugs", "plug_temperature", "as_fuse_plug", "state_with_plugs"]
 
@@ -170,7 +171,7 @@ class PlugAnswer:
 
 
 def as_fuse_plug(item: FusePlug | FusePlugSpec) -> FusePlug:
-    """A :class:`FusePlug` from a plug or a builder's :class:`~heatstack.builders.FusePlugSpec`.
+    """A :class:`FusePlug` from a plug or a builder's :class:`~heatstack.wheel_design.FusePlugSpec`.
 
     A spec keeps its own time constant.
 

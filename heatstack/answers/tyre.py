@@ -28,17 +28,9 @@ from ..errors import InputError
 from ..numerics.instrument import first_order_lag
 from ..result import Result, peak_time
 from ..units import quantity
-from .analysis import (
-    Margin,
-    checked_history,
-    first_reach,
-    frozen_copy,
-    level_crossings,
-    margins,
-    name_tuple,
-    record_times,
-)
+from .analysis import Margin, margins
 from .fuse_plugs import PlugAnswer
+from .histories import checked_history, first_reach, frozen_copy, level_crossings, name_tuple, record_times
 
 __all__ = [
     "with_tyre_gas_state",

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..errors import InputError
-from ..units import convert_declared, declared
+from ..unit_declarations import convert_declared, declared
 
 __all__ = ["SolverOptions", "SCHEMES", "EULER_TARGET_CHANGE"]
 

@@ -14,7 +14,8 @@ from typing import ClassVar, Protocol, runtime_checkable
 import numpy as np
 
 from ..errors import ScheduleError
-from ..units import convert_declared, declared, quantity_array
+from ..unit_declarations import convert_declared, declared
+from ..units import quantity_array
 
 __all__ = [
     "BoundaryLaw",

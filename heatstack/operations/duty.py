@@ -17,7 +17,7 @@ import numpy as np
 from ..errors import ScheduleError
 from ..geometry import SurfaceGroup
 from ..numerics.schedule import BoundaryLaw, Phase, PowerHistory, Schedule
-from ..units import convert_declared, declared
+from ..unit_declarations import convert_declared, declared
 from .air import T_MAX, T_MIN
 from .environment import CrossFlow, FanCooling, MixedConvection, NaturalConvection, RotatingDisc, WheelWell
 from .events import BrakingEvent, combine

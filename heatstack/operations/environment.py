@@ -22,7 +22,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..numerics.schedule import BoundaryLaw
-from ..units import convert_declared, declared
+from ..unit_declarations import convert_declared, declared
 from . import convection as nu
 from .air import T_MAX, T_MIN, AirProperties, air_properties
 from .atmosphere import G0

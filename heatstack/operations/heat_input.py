@@ -24,7 +24,8 @@ import numpy as np
 
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
-from ..units import Declaration, declares, quantity, quantity_array
+from ..unit_declarations import Declaration, declares
+from ..units import quantity, quantity_array
 from . import atmosphere
 from .events import BrakingEvent, combine
 from .speed_trace import read_speed_trace

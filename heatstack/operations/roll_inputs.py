@@ -14,7 +14,8 @@ from typing import Any
 import numpy as np
 
 from ..errors import InputError
-from ..units import convert_declared, declared, quantity
+from ..unit_declarations import convert_declared, declared
+from ..units import quantity
 from . import atmosphere
 
 __all__ = [

@@ -14,7 +14,7 @@ from typing import Any
 
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
-from ..units import Declaration, declares
+from ..unit_declarations import Declaration, declares
 from .events import BrakingEvent
 from .ground_roll import StopResult, accelerate, ground_roll_from_speed_trace, integrate_ground_roll
 from .roll_inputs import Aircraft, Conditions, Runway, brake_on_ground_speed

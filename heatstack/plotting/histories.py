@@ -37,7 +37,7 @@ from .labels import LabelPlacer
 from .timeaxis import PHASE_FILLS, Curve, Panel, draw_curves, panel_at, shade_phases, time_panels
 
 if TYPE_CHECKING:
-    from ..builders import FusePlugSpec
+    from ..wheel_design import FusePlugSpec
 
 __all__ = ["plot_histories", "plot_sensor_offset", "plot_why_the_gauge_lags"]
 

@@ -22,13 +22,13 @@ from pathlib import Path
 import numpy as np
 
 from ..answers.fuse_plugs import FusePlug, state_with_plugs
-from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..model import Model
 from ..numerics.schedule import Schedule
 from ..numerics.solver import SolverOptions
 from ..result import Result, State
 from ..resultread import read_result
+from ..wheel_design import FusePlugSpec
 
 __all__ = ["ChainStart", "check_start_fits", "read_start", "run_from_state", "state_for_model"]
 

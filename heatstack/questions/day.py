@@ -41,7 +41,6 @@ from typing import Any
 
 from ..answers.fuse_plugs import assess_fuse_plugs
 from ..answers.tyre import TyreGas, tyre_gas, with_tyre_gas_state
-from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX, SurfaceGroup, series_label
 from ..model import Model
@@ -50,6 +49,7 @@ from ..operations.atmosphere import isa_pressure
 from ..operations.duty import DutyCycle, DutyPhase, Environment
 from ..operations.heat_input import BrakingEvent, gear_retraction, stop_from_aircraft, taxi_snubs
 from ..result import Result, State
+from ..wheel_design import FusePlugSpec
 from .chaining import run_from_state
 from .safe_wait import Departure, DispatchLimits, WaitProblem, WaitSample, evaluate_wait
 

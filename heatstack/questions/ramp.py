@@ -19,13 +19,13 @@ from typing import Any
 import numpy as np
 
 from ..answers.fuse_plugs import FusePlug, state_with_plugs
-from ..builders import FusePlugSpec
 from ..errors import InputError
 from ..geometry import SurfaceGroup
 from ..model import Model
 from ..numerics.solver import SolverOptions
 from ..operations.duty import DutyCycle
 from ..result import State
+from ..wheel_design import FusePlugSpec
 from .inverse import EnergyEstimate, estimate_energy, predict_from_estimate
 
 __all__ = ["RampState", "state_from_ramp_readings"]

@@ -33,7 +33,6 @@ from scipy.optimize import brentq
 
 from ..answers.fuse_plugs import FusePlug, assess_fuse_plugs
 from ..answers.tyre import TyreGas, tyre_gas, with_tyre_gas_state
-from ..builders import FusePlugSpec
 from ..errors import HeatstackError, InputError
 from ..geometry import HEAT_SINK_MAX, SurfaceGroup, series_label
 from ..model import Model
@@ -42,6 +41,7 @@ from ..operations.duty import DutyCycle, DutyPhase, Environment
 from ..operations.heat_input import BrakingEvent
 from ..result import Result, State
 from ..units import to_si
+from ..wheel_design import FusePlugSpec
 from .chaining import run_from_state
 
 __all__ = [

@@ -10,10 +10,10 @@ from typing import Any
 
 import numpy as np
 
-from ..builders import WheelBrakeDesign
 from ..case_keys import key_dimension
 from ..errors import InputError
 from ..units import SI_UNITS, quantity, to_si
+from ..wheel_design import WheelBrakeDesign
 from .distributions import Distribution
 from .paths import MISSING, Token, every_path, format_path, parse_path, value_at
 

@@ -22,7 +22,8 @@ from heatstack import (
     SolverOptions,
     simple_material,
 )
-from heatstack.answers.analysis import cooling_time_in_result, margins, peak, sensor_lag, threshold_crossings
+from heatstack.answers.analysis import cooling_time_in_result, margins, peak, threshold_crossings
+from heatstack.answers.sensor import sensor_lag
 from heatstack.errors import InputError, UnitError
 from heatstack.numerics.instrument import first_order_lag
 from heatstack.result import EnergyLedger, Result, State

@@ -5,8 +5,9 @@ from __future__ import annotations
 import pytest
 
 from heatstack import Model, Part
-from heatstack.builders import SURFACE_GROUPS, WheelBrakeDesign, build_wheel_brake
+from heatstack.builders import SURFACE_GROUPS, build_wheel_brake
 from heatstack.errors import GeometryError
+from heatstack.wheel_design import WheelBrakeDesign
 
 
 def test_reference_design_has_stack_wheel_and_probes():

@@ -13,9 +13,10 @@ import numpy as np
 import pytest
 
 from heatstack.case import parse_case
-from heatstack.cli import demo_case_path, main
+from heatstack.cli import main
+from heatstack.cli_shipped import demo_case_path
 from heatstack.errors import InputError, ResultFileError
-from heatstack.report import ReportSettings
+from heatstack.report_settings import ReportSettings
 from heatstack.resultfile import write_result
 from heatstack.resultread import read_result
 

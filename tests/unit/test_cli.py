@@ -9,7 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from heatstack.cli import demo_case_path, main
+from heatstack.cli import main
+from heatstack.cli_shipped import demo_case_path
 
 SMALL = (Path(__file__).parent / "test_case.py").read_text().split('SMALL = """', 1)[1].split('"""', 1)[0]
 

@@ -8,7 +8,8 @@ from pathlib import Path
 
 import pytest
 
-from heatstack.cli import EXAMPLES, main
+from heatstack.cli import main
+from heatstack.cli_shipped import EXAMPLES
 from heatstack.resultread import read_result
 from heatstack.studies import load_study
 

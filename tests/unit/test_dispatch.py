@@ -306,7 +306,7 @@ def test_a_flights_table_with_a_non_increasing_time_is_refused(tmp_path):
 def arrival_file(wheel, tmp_path_factory):
     """An arrival run written with its case text, as `heatstack run` writes it."""
     from heatstack.case import load_case, run_case
-    from heatstack.cli import demo_case_path
+    from heatstack.cli_shipped import demo_case_path
 
     text = demo_case_path().read_text(encoding="utf-8").replace('cell_size = "4 mm"', 'cell_size = "8 mm"')
     text = text.replace('duration = "3 h"', 'duration = "10 min"')
@@ -447,7 +447,7 @@ def test_a_chained_run_carries_the_tyre_gas_on_as_the_run_in_one_piece(wheel):
 
 def test_the_results_file_keeps_the_tyre_gas_for_a_chained_run(arrival_file, tmp_path):
     from heatstack.case import parse_case
-    from heatstack.report import tyre_gas_for
+    from heatstack.report_settings import tyre_gas_for
     from heatstack.resultread import read_case_text, read_result
 
     stored = read_result(arrival_file)
@@ -469,8 +469,8 @@ def test_the_results_file_keeps_the_tyre_gas_for_a_chained_run(arrival_file, tmp
 def test_a_day_summary_flags_a_plug_peak_above_its_release_temperature():
     from types import SimpleNamespace
 
-    from heatstack.builders import FusePlugSpec
     from heatstack.questions.day import DayAnswer
+    from heatstack.wheel_design import FusePlugSpec
 
     plugs = (FusePlugSpec("fuse plug 1", 0.3, release_temperature="177 degC"),)
     flight = SimpleNamespace(number=1, arrival_time=7 * 3600.0, arrival_mass=62e3)

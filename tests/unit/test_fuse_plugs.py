@@ -11,9 +11,10 @@ import numpy as np
 import pytest
 
 from heatstack.answers.fuse_plugs import FusePlug, assess_fuse_plugs
-from heatstack.builders import FusePlugSpec, build_wheel_brake
+from heatstack.builders import build_wheel_brake
 from heatstack.errors import InputError, UnitError
 from heatstack.result import EnergyLedger, Result, State
+from heatstack.wheel_design import FusePlugSpec
 
 
 def make_result(times, probes):

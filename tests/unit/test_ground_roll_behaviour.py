@@ -95,7 +95,7 @@ def test_speed_samples_fall_to_rest() -> None:
 
 
 def _demo_with(tmp_path, old: str, new: str):
-    from heatstack.cli import demo_case_path
+    from heatstack.cli_shipped import demo_case_path
 
     text = demo_case_path().read_text(encoding="utf-8")
     assert old in text

@@ -133,7 +133,7 @@ def test_a_damaged_study_manifest_is_a_clear_error(tmp_path):
 
 
 def test_the_cell_count_is_checked_before_any_grid_is_built(tmp_path, capsys):
-    from heatstack.cli import demo_case_path
+    from heatstack.cli_shipped import demo_case_path
 
     demo = demo_case_path().read_text()
     code, err = _check(tmp_path, demo.replace('cell_size = "4 mm"', 'cell_size = "1e-9 m"'), capsys)

@@ -23,7 +23,7 @@ from heatstack import (
     simple_material,
 )
 from heatstack.case import parse_case
-from heatstack.cli import demo_case_path
+from heatstack.cli_shipped import demo_case_path
 from heatstack.errors import InputError
 from heatstack.numerics.accounts import StepAccounts
 from heatstack.numerics.multistep import StepHistory, bdf2_coefficients, error_constant, local_error

@@ -18,13 +18,15 @@ from heatstack import (
     Schedule,
     SolverOptions,
 )
-from heatstack.builders import WheelBrakeDesign, build_wheel_brake
+from heatstack.builders import build_wheel_brake
 from heatstack.case import parse_case
 from heatstack.case_keys import key_dimension
 from heatstack.errors import GeometryError, InputError, UnitError
 from heatstack.materials import simple_material
 from heatstack.operations.heat_input import stop_from_aircraft
-from heatstack.units import declared_dimension, registry
+from heatstack.unit_declarations import declared_dimension
+from heatstack.unit_parser import registry
+from heatstack.wheel_design import WheelBrakeDesign
 
 DEMO = Path(__file__).resolve().parents[2] / "examples" / "demo_rto.toml"
 PLAIN = simple_material("plain", 7800.0, 480.0, 40.0, temperature_range=(200.0, 1500.0))

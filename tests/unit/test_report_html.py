@@ -10,7 +10,8 @@ from pathlib import Path
 
 import pytest
 
-from heatstack.cli import demo_case_path, main
+from heatstack.cli import main
+from heatstack.cli_shipped import demo_case_path
 from heatstack.report import CAUTION, build_report
 from heatstack.report_html import SECTIONS, html_report
 

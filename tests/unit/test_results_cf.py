@@ -294,7 +294,7 @@ def test_odd_series_names_go_to_temperature_series(result, tmp_path):
 
 def test_demo_results_file_opens_in_xarray_with_named_coordinates(tmp_path):
     from heatstack import load_case, run_case
-    from heatstack.cli import demo_case_path
+    from heatstack.cli_shipped import demo_case_path
 
     case = load_case(demo_case_path())
     path = write_result(run_case(case, case.build_model()), tmp_path / "demo.h5", case_text=case.text)

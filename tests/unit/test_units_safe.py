@@ -9,7 +9,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from heatstack.errors import HeatstackError, InputError, UnitError
-from heatstack.units import quantity, quantity_array, registry, unit
+from heatstack.unit_parser import registry, unit
+from heatstack.units import quantity, quantity_array
 
 
 def test_number_with_unit_converts_to_si():

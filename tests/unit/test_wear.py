@@ -8,13 +8,14 @@ import pytest
 
 from heatstack import Model
 from heatstack.answers.analysis import peak
-from heatstack.builders import WheelBrakeDesign, build_wheel_brake
+from heatstack.builders import build_wheel_brake
 from heatstack.errors import GeometryError
 from heatstack.geometry import HEAT_SINK_ROLES
 from heatstack.material_files import load_material
 from heatstack.operations.duty import DutyCycle, DutyPhase, Environment
 from heatstack.operations.heat_input import stop_from_energy
 from heatstack.report import build_report, format_report
+from heatstack.wheel_design import WheelBrakeDesign
 
 
 def _stack_parts(built):

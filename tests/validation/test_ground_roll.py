@@ -102,7 +102,7 @@ def test_trade_fact_reversers_tailwind_altitude_heat(capsys) -> None:
 
 
 def _demo_with(tmp_path, old: str, new: str):
-    from heatstack.cli import demo_case_path
+    from heatstack.cli_shipped import demo_case_path
 
     text = demo_case_path().read_text(encoding="utf-8")
     assert old in text

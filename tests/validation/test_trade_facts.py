@@ -14,8 +14,9 @@ from __future__ import annotations
 import pytest
 
 from heatstack import Model, SolverOptions
-from heatstack.answers.analysis import peak, sensor_lag
+from heatstack.answers.analysis import peak
 from heatstack.answers.fuse_plugs import assess_fuse_plugs
+from heatstack.answers.sensor import sensor_lag
 from heatstack.builders import build_wheel_brake
 from heatstack.operations.duty import DutyCycle, DutyPhase, Environment
 from heatstack.operations.heat_input import stop_from_energy
