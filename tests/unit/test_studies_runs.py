@@ -48,7 +48,8 @@ from heatstack.studies import (
     run_study,
     sensitivity,
 )
-from heatstack.studies.executors import DaskExecutor, StudyExecutor
+from heatstack.studies.dask_executor import DaskExecutor
+from heatstack.studies.executors import StudyExecutor
 from heatstack.studies.plots import plot_margin_histogram, plot_tornado
 from heatstack.studies.runner import clear_model_cache
 
