@@ -115,7 +115,8 @@ def estimate(study: Study, store: Path, samples: int, workers: int):
     """The reduced-model study with its rare event; (run, minutes)."""
     rare = RareEventSettings(event="any_plug_released", samples=samples, seed=7)
     started = time.perf_counter()
-    run = run_reduced_study(study, store, rare_event=rare, executor=LocalExecutor(workers=workers), progress=False)
+    with LocalExecutor(workers=workers) as executor:  # shut down here: a study leaves the executor it is given open
+        run = run_reduced_study(study, store, rare_event=rare, executor=executor, progress=False)
     return run, (time.perf_counter() - started) / 60.0
 
 
@@ -154,7 +155,8 @@ def main() -> None:
             plain_study = dataclasses.replace(check_study, reduced_model=None)
             # the check study's own cases in full, in its full/ store (its confirmations are reused)
             store = folder / "rare-1e-2" / "full"
-            plain = run_study(plain_study, store, LocalExecutor(workers=args.workers), progress=False)
+            with LocalExecutor(workers=args.workers) as executor:
+                plain = run_study(plain_study, store, executor, progress=False)
             plain_minutes = (time.perf_counter() - started) / 60.0
             mc = release_probability(plain.table)
             low, high = check.rare_event.interval

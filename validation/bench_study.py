@@ -243,8 +243,9 @@ def main(argv: list[str] | None = None) -> int:
     store = Path(args.store) if args.store else Path(tempfile.mkdtemp(prefix="bench-study-")) / "store"
     executor = DaskExecutor(args.dask) if args.dask else LocalExecutor(workers=args.workers)
     started = time.perf_counter()
-    run = run_study(study, store, executor, progress=None)
-    seconds = time.perf_counter() - started
+    with executor:  # run_study leaves an executor it is given open: its pool is shut down here, not at exit
+        run = run_study(study, store, executor, progress=None)
+        seconds = time.perf_counter() - started
     table = run.table
     counts = table.counts()
     print(f"executor: {run.executor}; store: {store}")
