@@ -10,7 +10,8 @@ never resampled), then one row ``(u - u_prior) / s_prior`` per prior.
 loss) minimises it over ``u``: ``ln(value)`` for a parameter whose lower bound is above
 zero, ``value / (upper - lower)`` otherwise. The Jacobian is by forward differences in
 ``u`` (step :data:`FD_STEP`); its runs, and the runs of every evaluation, are sent together
-to a study executor (:mod:`heatstack.studies.executors`: serial, local pool or Dask).
+to a study executor (serial or local pool, :mod:`heatstack.studies.executors`; Dask,
+:mod:`heatstack.studies.dask_executor`).
 
 Uncertainty: the linearised covariance ``(J^T J)^-1`` of the weighted problem, multiplied
 by the reduced chi-square when that exceeds one (stated noise too small), and 95 %
@@ -40,7 +41,8 @@ from scipy.optimize import least_squares
 
 from ..case import case_from_mapping, run_case
 from ..errors import HeatstackError, InputError
-from ..studies.executors import DaskExecutor, LocalExecutor, SerialExecutor, StudyExecutor
+from ..studies.dask_executor import DaskExecutor
+from ..studies.executors import LocalExecutor, SerialExecutor, StudyExecutor
 from ..studies.paths import set_value_at
 from ..studies.runner import summarise
 from .calibration_file import Calibration, FitParameter, TestRun

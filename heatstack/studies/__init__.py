@@ -26,22 +26,21 @@ Not certified data.
 
 from __future__ import annotations
 
+from ..errors import ExecutorError, OptionalDependencyError
 from .analysis import (
-    OptionalDependencyError,
     ProbabilityEstimate,
     Sensitivity,
     SensitivityResult,
-    StudyTable,
     binomial_intervals,
     governing_plugs,
     margin_percentiles,
     release_probability,
     sensitivity,
-    study_report,
 )
+from .dask_executor import DaskExecutor
 from .description import Sampling, Study, StudyPlan, plan_study
 from .distributions import DISTRIBUTIONS, Distribution, LogNormal, Normal, Triangular, TruncatedNormal, Uniform
-from .executors import DaskExecutor, ExecutorError, LocalExecutor, SerialExecutor, StudyExecutor
+from .executors import LocalExecutor, SerialExecutor, StudyExecutor
 from .parameters import Parameter
 from .rare_events import RareEventEstimate
 from .reduced_study import ReducedStudyRun, run_reduced_study
@@ -49,6 +48,8 @@ from .runner import CaseOutcome, StudyRun, run_study, summarise
 from .settings import RareEventSettings, ReducedModelSettings
 from .store import StudyStore, load_table
 from .studyfile import load_study, study_from_mapping
+from .summary import study_report
+from .table import StudyTable
 
 __all__ = [
     "CaseOutcome",

@@ -1,4 +1,4 @@
-"""Study results: the table, release probabilities with confidence intervals, percentiles, sensitivities.
+"""Study statistics: release probabilities with confidence intervals, percentiles, sensitivities.
 
 The release probability of a fuse plug is estimated by the fraction of cases in which
 it released, with two binomial confidence intervals: Wilson's score interval [1]_
@@ -19,7 +19,9 @@ for a regression), and the report and the tornado chart say so.
 
 Reading a ranking of ``plug_margin_min``: the smallest margin is one plug's margin in each
 case; a parameter of another plug cannot move it, and any correlation it shows is chance.
-:func:`governing_plugs` counts which plug gave the smallest margin, and the report lists it.
+:func:`governing_plugs` counts which plug gave the smallest margin, and the study report
+(:func:`heatstack.studies.summary.study_report`) lists it. The table these functions read is
+:class:`heatstack.studies.table.StudyTable`.
 
 References
 ----------
@@ -37,200 +39,32 @@ from __future__ import annotations
 
 import difflib
 import math
-import re
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 from scipy import stats
 
-from ..errors import InputError, OptionalDependencyError
-from ..report import CAUTION
-from ..units import from_si
-from .labels import output_label, plug_names
+from ..errors import InputError
+from .labels import plug_names
+from .table import StudyTable
 
 __all__ = [
-    "StudyTable",
-    "OptionalDependencyError",
     "ProbabilityEstimate",
     "Sensitivity",
     "SensitivityResult",
     "binomial_intervals",
+    "check_confidence",
     "release_probability",
     "margin_percentiles",
     "sensitivity",
-    "study_report",
-    "column_unit",
     "governing_plugs",
     "CASES_PER_PARAMETER",
-    "DIAGNOSTIC_COLUMNS",
 ]
 
 #: Finished cases per varied parameter below which a sensitivity ranking and its R^2 are
 #: flagged as too thin (common practice, no source: ten observations per predictor).
 CASES_PER_PARAMETER = 10
-
-#: Columns that describe how a case ran, not what it computed (they differ between runs).
-DIAGNOSTIC_COLUMNS = ("wall_time", "worker", "model_reused", "warnings")
-
-_UNITS = {
-    "peak:": "K",
-    "peak_time:": "s",
-    "peak_delay:": "s",
-    "limit_margin:": "K",
-    "plug_peak:": "K",
-    "plug_margin:": "K",
-    "plug_released:": "",
-    "solver:": "",
-}
-
-
-def column_unit(name: str) -> str:
-    """SI unit of an output column, from its name.
-
-    Parameters
-    ----------
-    name : str
-        Output column name, e.g. ``"peak:sensor"``.
-
-    Returns
-    -------
-    str
-        The unit (``"K"``, ``"s"``, ``"J"``), or ``""`` for a dimensionless or unknown column.
-    """
-    for prefix, unit in _UNITS.items():
-        if name.startswith(prefix):
-            return unit
-    return {"energy_in": "J", "plug_margin_min": "K", "any_plug_released": "", "wall_time": "s"}.get(name, "")
-
-
-@dataclass(frozen=True, eq=False)
-class StudyTable:
-    """The results of a study, one row per case in case order.
-
-    Attributes
-    ----------
-    columns : dict of str to ndarray
-        ``case``; one column per parameter [SI]; ``status`` (``ok``, ``failed`` or
-        ``pending``); ``error``; the outputs [SI] (NaN where a case did not finish, see
-        :func:`heatstack.studies.runner.summarise` for the names); and the diagnostic
-        columns ``warnings``, ``wall_time`` [s], ``worker``, ``model_reused``.
-    parameter_names, output_names : tuple of str
-    units : dict of str to str
-        SI unit of each column ("" for none).
-    title, method : str
-    """
-
-    columns: dict[str, np.ndarray]
-    parameter_names: tuple[str, ...]
-    output_names: tuple[str, ...]
-    units: dict[str, str] = field(default_factory=dict)
-    title: str = ""
-    method: str = ""
-
-    def __getitem__(self, name: str) -> np.ndarray:
-        if name not in self.columns:
-            close = difflib.get_close_matches(name, list(self.columns), n=1)
-            hint = f"; did you mean {close[0]!r}?" if close else ""
-            raise InputError(f"study table: no column {name!r}{hint}")
-        return self.columns[name]
-
-    def __contains__(self, name: str) -> bool:
-        return name in self.columns
-
-    def __len__(self) -> int:
-        return self.n_cases
-
-    @property
-    def names(self) -> tuple[str, ...]:
-        """Column names in order."""
-        return tuple(self.columns)
-
-    @property
-    def n_cases(self) -> int:
-        """Number of rows."""
-        return int(self.columns["case"].size)
-
-    @property
-    def ok(self) -> np.ndarray:
-        """Mask of the cases that finished without error."""
-        return self.columns["status"] == "ok"
-
-    def counts(self) -> dict[str, int]:
-        """Number of cases per status.
-
-        Returns
-        -------
-        dict of str to int
-            Counts of ``"ok"``, ``"failed"`` and ``"pending"`` cases.
-        """
-        status = self.columns["status"]
-        return {s: int(np.count_nonzero(status == s)) for s in ("ok", "failed", "pending")}
-
-    def as_dict(self) -> dict[str, np.ndarray]:
-        """The columns (a shallow copy of the mapping).
-
-        Returns
-        -------
-        dict of str to ndarray
-            Column name to values (SI, units in ``units``).
-        """
-        return dict(self.columns)
-
-    def same_results(self, other: StudyTable) -> bool:
-        """Whether two tables hold the same cases and values (diagnostic columns ignored).
-
-        Values are compared exactly (NaN equal to NaN).
-
-        Parameters
-        ----------
-        other : StudyTable
-            The table to compare with.
-
-        Returns
-        -------
-        bool
-            True when the non-diagnostic columns have the same names, shapes and values.
-        """
-        mine = [n for n in self.columns if n not in DIAGNOSTIC_COLUMNS]
-        theirs = [n for n in other.columns if n not in DIAGNOSTIC_COLUMNS]
-        if mine != theirs:
-            return False
-        for name in mine:
-            a, b = self.columns[name], other.columns[name]
-            if a.shape != b.shape:
-                return False
-            if a.dtype.kind == "f":
-                if not np.array_equal(a, b, equal_nan=True):
-                    return False
-            elif not np.array_equal(a, b):
-                return False
-        return True
-
-    def to_dataframe(self):
-        """The table as a :class:`pandas.DataFrame` (pandas is optional).
-
-        Returns
-        -------
-        pandas.DataFrame
-            The columns indexed by ``case``, with ``attrs["units"]`` and ``attrs["title"]``.
-
-        Raises
-        ------
-        OptionalDependencyError
-            If pandas is not installed.
-        """
-        try:
-            import pandas as pd
-        except ImportError:
-            raise OptionalDependencyError(
-                "StudyTable.to_dataframe needs pandas, an optional dependency that is not installed "
-                "(pip install pandas); without it the table is table.columns, a dict of numpy arrays"
-            ) from None
-        frame = pd.DataFrame({name: values for name, values in self.columns.items()})
-        frame.attrs["units"] = dict(self.units)
-        frame.attrs["title"] = self.title
-        return frame.set_index("case")
 
 
 # ---------------------------------------------------------------------------- probabilities
@@ -266,7 +100,24 @@ class ProbabilityEstimate:
     clopper_pearson: tuple[float, float]
 
 
-def _check_confidence(confidence: float) -> float:
+def check_confidence(confidence: float) -> float:
+    """A confidence level checked to lie strictly between 0 and 1.
+
+    Parameters
+    ----------
+    confidence : float
+        Two-sided confidence level, e.g. 0.95.
+
+    Returns
+    -------
+    float
+        ``confidence`` as a float.
+
+    Raises
+    ------
+    InputError
+        If it is not a number strictly between 0 and 1.
+    """
     if isinstance(confidence, bool) or not isinstance(confidence, int | float) or not 0.0 < confidence < 1.0:
         raise InputError(f"confidence: must lie strictly between 0 and 1, got {confidence!r}")
     return float(confidence)
@@ -300,7 +151,7 @@ def binomial_intervals(
     ``B(alpha/2; k, n-k+1)`` and ``B(1-alpha/2; k+1, n-k)`` (0 and 1 at the ends),
     from :data:`scipy.stats.beta`.
     """
-    confidence = _check_confidence(confidence)
+    confidence = check_confidence(confidence)
     for name, value in (("events", events), ("trials", trials)):
         if isinstance(value, bool) or not isinstance(value, int | np.integer):
             raise InputError(f"{name}: expected a whole number, got {value!r}")
@@ -570,210 +421,3 @@ def governing_plugs(table: StudyTable) -> dict[str, int]:
     counts = np.bincount(np.argmin(margins[keep], axis=1), minlength=len(names))
     order = np.argsort(-counts, kind="stable")
     return {names[k]: int(counts[k]) for k in order if counts[k]}
-
-
-# ---------------------------------------------------------------------------- report
-
-
-def _fmt(value: float, digits: int = 1) -> str:
-    return "n/a" if not math.isfinite(value) else f"{value:.{digits}f}"
-
-
-def study_report(
-    table: StudyTable,
-    confidence: float = 0.95,
-    output: str | None = None,
-    temperature_unit: str = "degC",
-    max_failures: int = 10,
-) -> str:
-    """A Markdown section summarising a study.
-
-    Contents: case counts; fuse-plug release probability (any plug and per plug) with
-    Wilson and Clopper-Pearson intervals; 5th/50th/95th percentiles of every margin;
-    the sensitivity ranking of ``output``; the first failed cases.
-
-    Parameters
-    ----------
-    table : StudyTable
-    confidence : float
-    output : str, optional
-        Output ranked for sensitivity (see :func:`sensitivity`).
-    temperature_unit : {"degC", "degF", "K"}
-        Unit of the peak temperatures listed (margins are always in K).
-    max_failures : int
-        Failed cases listed.
-
-    Returns
-    -------
-    str
-        The Markdown section, ending in a newline.
-    """
-    confidence = _check_confidence(confidence)
-    counts = table.counts()
-    lines = [
-        f"## Study: {table.title or 'untitled'}",
-        "",
-        f"*{CAUTION}*",
-        "",
-        f"Cases: {table.n_cases} ({counts['ok']} finished, {counts['failed']} failed, "
-        f"{counts['pending']} not run); sampling: {table.method or 'unknown'}.",
-    ]
-    if table.method == "grid":
-        lines.append("Grid sampling: the release fractions below are fractions of grid points, not probabilities.")
-    if counts["ok"]:
-        lines += _release_lines(table, confidence)
-        lines += _margin_lines(table)
-        lines += _plug_peak_lines(table, temperature_unit)
-    if counts["ok"] > len(table.parameter_names) + 1:
-        lines += _sensitivity_lines(table, output)
-    lines += _warning_lines(table)
-    lines += _failure_lines(table, max_failures)
-    return "\n".join(lines) + "\n"
-
-
-_TABLE_EDGE = re.compile(r"temperature (-?\d+(?:\.\d+)?) K is outside")
-
-
-def _warning_lines(table: StudyTable) -> list[str]:
-    """Each distinct warning raised in the cases, with how many cases raised it; empty if none.
-
-    Warnings that differ only in the temperature that left a material table are one line,
-    with the range of those temperatures.
-    """
-    if "warnings" not in table.columns:
-        return []
-    counts: dict[str, int] = {}
-    values: dict[str, list[float]] = {}
-    for text in table["warnings"]:
-        for line in dict.fromkeys(str(text).splitlines()):
-            if not line.strip():
-                continue
-            found = _TABLE_EDGE.search(line)
-            escaped = line.replace("{", "{{").replace("}", "}}")
-            key = _TABLE_EDGE.sub("temperature {} K is outside", escaped) if found else escaped
-            counts[key] = counts.get(key, 0) + 1
-            if found:
-                values.setdefault(key, []).append(float(found.group(1)))
-    if not counts:
-        return []
-    lines = ["", "### Warnings raised in the cases", ""]
-    for key, n in counts.items():
-        seen = values.get(key)
-        if seen:
-            key = key.format(f"{seen[0]:.1f}" if min(seen) == max(seen) else f"{min(seen):.1f} to {max(seen):.1f}")
-        else:
-            key = key.format()
-        lines.append(f"- {key} ({n} {'case' if n == 1 else 'cases'})")
-    return lines
-
-
-def _release_lines(table: StudyTable, confidence: float) -> list[str]:
-    """Fuse-plug release table (any plug, then each plug) with both intervals; empty without plugs."""
-    plugs = [n.split(":", 1)[1] for n in table.output_names if n.startswith("plug_released:")]
-    if not plugs:
-        return []
-    level = f"{100 * confidence:g} %"
-    lines = [
-        "",
-        "### Fuse-plug release",
-        "",
-        f"| plug | released / cases | estimate | Wilson {level} | Clopper-Pearson {level} |",
-        "|---|---|---|---|---|",
-    ]
-    for plug in [None, *plugs]:
-        est = release_probability(table, plug, confidence)
-        lines.append(
-            f"| {est.label} | {est.events} / {est.trials} | {est.estimate:.3f} | "
-            f"{est.wilson[0]:.3f} - {est.wilson[1]:.3f} | "
-            f"{est.clopper_pearson[0]:.3f} - {est.clopper_pearson[1]:.3f} |"
-        )
-    return lines
-
-
-def _margin_lines(table: StudyTable) -> list[str]:
-    """Percentiles of every plug and limit margin [K]; empty without margins."""
-    margins = [n for n in table.output_names if n.startswith(("plug_margin", "limit_margin:"))]
-    if not margins:
-        return []
-    lines = [
-        "",
-        "### Margins [K] (positive: below the release temperature or limit)",
-        "",
-        "| quantity | P5 | P50 | P95 |",
-        "|---|---|---|---|",
-    ]
-    for name in margins:
-        p = margin_percentiles(table, name)
-        lines.append(f"| {output_label(name)} | {_fmt(p[5.0])} | {_fmt(p[50.0])} | {_fmt(p[95.0])} |")
-    return lines
-
-
-def _plug_peak_lines(table: StudyTable, temperature_unit: str) -> list[str]:
-    """Percentiles of each fuse plug's peak temperature in ``temperature_unit``; empty without plugs."""
-    peaks = [n for n in table.output_names if n.startswith("plug_peak:")]
-    if not peaks:
-        return []
-    lines = [
-        "",
-        f"### Fuse-plug peak temperatures [{temperature_unit}]",
-        "",
-        "| plug | P5 | P50 | P95 |",
-        "|---|---|---|---|",
-    ]
-    for name in peaks:
-        p = margin_percentiles(table, name)
-        shown = [from_si(p[q], "temperature", temperature_unit) for q in (5.0, 50.0, 95.0)]
-        lines.append(f"| {name.split(':', 1)[1]} | " + " | ".join(_fmt(v) for v in shown) + " |")
-    return lines
-
-
-def _sensitivity_lines(table: StudyTable, output: str | None) -> list[str]:
-    """The sensitivity ranking of ``output``, or why it was not computed."""
-    try:
-        result = sensitivity(table, output)
-    except InputError as exc:
-        return ["", f"Sensitivity not computed: {exc}"]
-    lines = [
-        "",
-        f"### Sensitivity of {output_label(result.output, plug_names(table.output_names))} "
-        f"({result.cases} cases, R^2 of the linear fit = {result.r_squared:.2f})",
-        "",
-    ]
-    lines += [f"**Warning:** {w}." for w in result.warnings]
-    if result.output == "plug_margin_min":
-        governing = governing_plugs(table)
-        if governing:
-            shares = ", ".join(f"{name} in {count}" for name, count in governing.items())
-            lines.append(
-                f"The smallest margin is that of {shares} of {sum(governing.values())} cases; a parameter of another "
-                "plug cannot move it."
-            )
-    if len(lines) > 3:
-        lines.append("")
-    lines += [
-        "| parameter | Spearman rank correlation | its 95 % interval | p-value | standardised regression coefficient |",
-        "|---|---|---|---|---|",
-    ]
-    for e in result.entries:
-        low, high = e.spearman_interval
-        mark = "" if e.distinguishable else " (holds 0)"
-        lines.append(
-            f"| {e.parameter} | {e.spearman:+.3f} | {low:+.2f} to {high:+.2f}{mark} | {e.p_value:.2g} | {e.src:+.3f} |"
-        )
-    if result.skipped:
-        lines.append(f"Constant over the cases (left out): {', '.join(result.skipped)}.")
-    return lines
-
-
-def _failure_lines(table: StudyTable, max_failures: int) -> list[str]:
-    """The first line of the error of the first ``max_failures`` failed cases; empty if none failed."""
-    failed = np.flatnonzero(table["status"] == "failed")
-    if not failed.size:
-        return []
-    lines = ["", "### Failed cases", ""]
-    for index in failed[:max_failures]:
-        first = str(table["error"][index]).splitlines()[0] if table["error"][index] else "no error text"
-        lines.append(f"- case {int(index)}: {first}")
-    if failed.size > max_failures:
-        lines.append(f"- ... and {failed.size - max_failures} more")
-    return lines

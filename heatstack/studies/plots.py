@@ -18,8 +18,9 @@ from matplotlib.ticker import MaxNLocator
 
 from ..errors import InputError
 from ..plotting.common import OKABE_ITO, SERIES_STYLES, figure_target, new_figure, save_figure
-from .analysis import CASES_PER_PARAMETER, SensitivityResult, StudyTable, margin_percentiles
+from .analysis import CASES_PER_PARAMETER, SensitivityResult, margin_percentiles
 from .labels import output_label
+from .table import StudyTable
 
 __all__ = ["plot_margin_histogram", "plot_tornado"]
 

@@ -40,7 +40,6 @@ import numpy as np
 
 from ..atomic import write_file_atomically
 from ..errors import InputError
-from .analysis import StudyTable, column_unit
 from .description import Study, StudyPlan, plan_study
 from .executors import StudyExecutor
 from .rare_events import RareEventEstimate, find_design_point, importance_sampling, monte_carlo
@@ -48,6 +47,7 @@ from .runner import resolve_executor, run_study
 from .settings import RareEventSettings, ReducedModelSettings
 from .store import StudyStore
 from .surrogate import ReducedModel, RunFull, build_reduced_model
+from .table import StudyTable, column_unit
 
 __all__ = [
     "ReducedStudyRun",

@@ -37,10 +37,11 @@ import numpy as np
 from ..answers.fuse_plugs import assess_fuse_plugs
 from ..case import case_from_mapping, run_case
 from ..errors import HeatstackError, InputError
-from .analysis import StudyTable
+from .dask_executor import DaskExecutor
 from .description import Study, StudyPlan, plan_study
-from .executors import DaskExecutor, LocalExecutor, StudyExecutor
+from .executors import LocalExecutor, StudyExecutor
 from .store import StudyStore
+from .table import StudyTable
 
 __all__ = [
     "CaseJob",

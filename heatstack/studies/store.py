@@ -46,8 +46,8 @@ import numpy as np
 
 from ..atomic import write_file_atomically
 from ..errors import InputError, ResultFileError
-from .analysis import StudyTable, column_unit
 from .paths import format_path
+from .table import StudyTable, column_unit
 
 __all__ = ["StudyStore", "StoreSession", "load_table", "FORMAT", "FORMAT_VERSION"]
 

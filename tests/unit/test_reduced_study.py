@@ -36,7 +36,7 @@ from heatstack.studies import (
     run_reduced_study,
     run_study,
 )
-from heatstack.studies.executors import DaskExecutor
+from heatstack.studies.dask_executor import DaskExecutor
 
 ROOT = Path(__file__).resolve().parents[2]
 
