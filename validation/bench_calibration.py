@@ -13,8 +13,8 @@ import time
 from pathlib import Path
 
 from heatstack.questions.calibrate import calibrate, fit_summary, write_calibration_outputs
-from heatstack.questions.calibration import make_executor
 from heatstack.questions.calibration_file import load_calibration
+from heatstack.questions.calibration_runs import make_executor
 from heatstack.studies.paths import format_path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))

@@ -19,7 +19,7 @@ from .. import __version__
 from ..report import CAUTION
 from ..report_html import html_figure, html_page, html_paragraphs, html_table, library_versions
 from .calibration import CalibrationFit
-from .calibration_file import Calibration
+from .calibration_records import Calibration
 from .calibration_report import (
     CALIBRATION_NOTE,
     WHITE_LEVEL,

@@ -24,7 +24,7 @@ from ..atomic import write_file_atomically
 from ..report import CAUTION
 from ..units import SI_UNITS
 from .calibration import CalibrationFit
-from .calibration_file import Calibration, FitParameter
+from .calibration_records import Calibration, FitParameter
 from .identifiability import Identifiability, Profile
 
 __all__ = ["CalibrationAnswers", "RunsTest", "runs_test", "answer_intervals", "format_calibration_report",

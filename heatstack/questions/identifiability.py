@@ -41,8 +41,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..studies.executors import StudyExecutor
-from .calibration import Z95, CalibrationFit, fit_calibration, from_internal, to_internal
-from .calibration_file import Calibration
+from .calibration import Z95, CalibrationFit, fit_calibration
+from .calibration_records import Calibration
+from .calibration_runs import from_internal, to_internal
 
 __all__ = [
     "Identifiability",

@@ -37,7 +37,8 @@ from heatstack.errors import InputError
 from heatstack.questions.calibrate import calibrate, write_calibration_outputs
 from heatstack.questions.calibrated_case import read_calibration_block, toml_text, values_by_name
 from heatstack.questions.calibration import CalibrationFit, fit_calibration
-from heatstack.questions.calibration_file import FitParameter, load_calibration
+from heatstack.questions.calibration_file import load_calibration
+from heatstack.questions.calibration_records import FitParameter
 from heatstack.questions.calibration_report import answer_table, runs_test
 from heatstack.questions.identifiability import DETERMINED_RELATIVE_SD, identifiability
 from heatstack.report import CAUTION
