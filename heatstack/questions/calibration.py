@@ -12,10 +12,15 @@ zero, ``value / (upper - lower)`` otherwise. The Jacobian is by forward differen
 ``u`` (step :data:`FD_STEP`); its runs, and the runs of every evaluation, are sent together
 to a study executor (:mod:`heatstack.studies.executors`: serial, local pool or Dask).
 
-Uncertainty: the linearised covariance ``(J^T J)^-1`` of the weighted problem, multiplied
-by the reduced chi-square when that exceeds one (stated noise too small), and 95 %
-intervals ``u +/- 1.96 sd`` mapped back to the values (asymmetric for log parameters)
-[1]_, [2]_. What the data determine is in :mod:`heatstack.questions.identifiability`.
+Uncertainty: each reading weighs ``1 / sigma``, ``sigma`` the trace's measurement
+uncertainty and its stated model uncertainty in quadrature
+(:attr:`~heatstack.questions.calibration_records.MeasuredTrace.sigma`). The linearised
+covariance ``(J^T J)^-1`` of the weighted problem, multiplied by the reduced chi-square when
+that exceeds one (stated noise too small), plus, with ``[fit] model_error = "estimate"``, the
+systematic term of the fit model's estimated discretisation error
+(:mod:`heatstack.questions.calibration_model_error`); 95 % intervals ``u +/- 1.96 sd`` mapped
+back to the values (asymmetric for log parameters) [1]_, [2]_. What the data determine is in
+:mod:`heatstack.questions.identifiability`.
 
 References
 ----------
@@ -36,6 +41,7 @@ import numpy as np
 from scipy.optimize import least_squares
 
 from ..studies.executors import StudyExecutor
+from .calibration_model_error import ModelErrorEstimate, estimate_model_error
 from .calibration_records import Calibration, FitParameter
 from .calibration_runs import Evaluator, from_internal, make_executor, to_internal
 
@@ -44,6 +50,7 @@ __all__ = [
     "FD_STEP",
     "Z95",
     "fit_calibration",
+    "interval_95",
 ]
 
 log = logging.getLogger(__name__)
@@ -72,7 +79,7 @@ class CalibrationFit:
     internal : ndarray
         Fitted coordinates ``u``.
     covariance : ndarray
-        Covariance of ``u`` (priors included).
+        Covariance of ``u`` (priors included; the model-error term included when estimated).
     jacobian : ndarray
         Weighted Jacobian of the trace residuals in ``u`` (rows: readings; no prior rows).
     predicted : tuple of ndarray
@@ -87,6 +94,9 @@ class CalibrationFit:
     model_runs : int
     converged : bool
     message : str
+    model_error : ModelErrorEstimate or None
+        The fit model's estimated error and its shift of ``u`` (None unless
+        ``model_error = "estimate"``); its ``covariance()`` is part of ``covariance``.
     """
 
     parameters: tuple[FitParameter, ...]
@@ -104,6 +114,7 @@ class CalibrationFit:
     model_runs: int
     converged: bool
     message: str
+    model_error: ModelErrorEstimate | None = None
 
     def standard_errors(self) -> np.ndarray:
         """Standard deviation of each fitted coordinate ``u`` [-].
@@ -206,6 +217,7 @@ def fit_calibration(
     *,
     start: Sequence[float] | None = None,
     fixed: Mapping[int, float] | None = None,
+    model_error: bool | None = None,
 ) -> CalibrationFit:
     """Fit the calibration's parameters to its traces.
 
@@ -219,6 +231,10 @@ def fit_calibration(
         First guess [SI] instead of the file's ``start`` values.
     fixed : mapping of int to float, optional
         Parameters (by index) held at a value [SI] (a profile).
+    model_error : bool, optional
+        Estimate the fit model's discretisation error and add it to the covariance (one
+        refined re-run of every test run); by default as ``calibration.settings.model_error``
+        says (``"estimate"``).
 
     Returns
     -------
@@ -238,13 +254,16 @@ def fit_calibration(
     runner = make_executor(settings.executor, settings.workers, settings.timeout) if owned else executor
     try:
         runner.start()
-        return _fit(calibration, runner, start, dict(fixed or {}))
+        estimate = settings.model_error == "estimate" if model_error is None else model_error
+        return _fit(calibration, runner, start, dict(fixed or {}), estimate)
     finally:
         if owned:
             runner.close()
 
 
-def _fit(calibration: Calibration, runner: StudyExecutor, start, fixed: dict[int, float]) -> CalibrationFit:
+def _fit(
+    calibration: Calibration, runner: StudyExecutor, start, fixed: dict[int, float], model_error: bool
+) -> CalibrationFit:
     params = calibration.parameters
     ev = Evaluator(calibration, runner)
     problem = _Problem(ev)
@@ -278,12 +297,13 @@ def _fit(calibration: Calibration, runner: StudyExecutor, start, fixed: dict[int
     )
     converged, message = _message(result, ev.evaluations, settings.max_evaluations)
     u = full(result.x) if converged or problem.best is None else problem.best[1]
-    return _summarise_fit(calibration, problem, u, free, converged, message)
+    return _summarise_fit(calibration, problem, u, free, (converged, message), model_error)
 
 
 def _summarise_fit(
-    calibration: Calibration, problem: _Problem, u: np.ndarray, free: list[int], converged: bool, message: str
-) -> CalibrationFit:
+    calibration: Calibration, problem: _Problem, u: np.ndarray, free: list[int], status: tuple[bool, str],
+    model_error: bool,
+) -> CalibrationFit:  # fmt: skip
     ev, params = problem.ev, calibration.parameters
     readings = problem.base(u)
     jacobian = problem.data_jacobian(u)
@@ -294,17 +314,44 @@ def _summarise_fit(
     covariance = np.zeros((len(params), len(params)))
     full_jac = np.vstack([jacobian, prior_jac])[:, free]
     covariance[np.ix_(free, free)] = _covariance(full_jac, max(1.0, chi2))
-    sd = np.sqrt(np.clip(np.diag(covariance), 0.0, np.inf))
+    estimate = None
+    if model_error:
+        estimate = estimate_model_error(ev, u, ev.stack(readings), full_jac, free)
+        covariance = covariance + estimate.covariance()
+    low, high = interval_95(params, u, covariance)
     values = np.array([from_internal(p, x) for p, x in zip(params, u, strict=True)])
-    low, high = np.full(len(params), -np.inf), np.full(len(params), np.inf)
-    with np.errstate(over="ignore", invalid="ignore"):
-        for k, (p, x, s) in enumerate(zip(params, u, sd, strict=True)):
-            if np.isfinite(s):
-                low[k], high[k] = from_internal(p, x - Z95 * s), from_internal(p, x + Z95 * s)
     predicted = tuple(r for run_readings in readings for r in run_readings)
     traces = [t for run in calibration.runs for t in run.traces]
     residuals = tuple(p - t.temperatures for p, t in zip(predicted, traces, strict=True))
     return CalibrationFit(
         params, values, low, high, u, covariance, jacobian, predicted, residuals,
-        tuple(t.name for t in traces), chi2, ev.evaluations, ev.model_runs, converged, message,
+        tuple(t.name for t in traces), chi2, ev.evaluations, ev.model_runs, *status, estimate,
     )  # fmt: skip
+
+
+def interval_95(
+    parameters: Sequence[FitParameter], u: np.ndarray, covariance: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """95 % linearised intervals ``u +/- 1.96 sd`` mapped back to the values.
+
+    Parameters
+    ----------
+    parameters : sequence of FitParameter
+        The parameters (log or linear).
+    u : ndarray
+        Fitted coordinates [-].
+    covariance : ndarray
+        Covariance of ``u`` [-].
+
+    Returns
+    -------
+    lower, upper : ndarray
+        The interval's ends [SI]; -inf and inf where the standard deviation is not finite.
+    """
+    sd = np.sqrt(np.clip(np.diag(covariance), 0.0, np.inf))
+    low, high = np.full(len(parameters), -np.inf), np.full(len(parameters), np.inf)
+    with np.errstate(over="ignore", invalid="ignore"):
+        for k, (p, x, s) in enumerate(zip(parameters, u, sd, strict=True)):
+            if np.isfinite(s):
+                low[k], high[k] = from_internal(p, x - Z95 * s), from_internal(p, x + Z95 * s)
+    return low, high

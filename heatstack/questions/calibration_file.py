@@ -15,6 +15,8 @@ Layout (TOML, every quantity a number in SI or a string with a unit)::
     timeout = "10 s"                  # to reach a Dask scheduler
     prediction_samples = 24           # parameter draws for the answers' intervals
     profile = "contact clamped"       # a parameter to profile (optional)
+    model_error = "estimate"          # or "none" (default): the fit model's own error
+                                      # estimated by a refined re-run, in the intervals
 
     [[parameters]]
     name = "contact clamped"
@@ -38,10 +40,17 @@ Layout (TOML, every quantity a number in SI or a string with a unit)::
     file = "stop1_tc.csv"             # time, temperature (see questions.sensor_trace)
     probe = "tc stator"
     uncertainty = "0.5 K"             # one standard deviation of each reading
+    model_uncertainty = "0.1 K"       # optional: stated model uncertainty, in quadrature
 
 A prior is ``{kind = "normal", mean = ..., sd = ...}`` or ``{kind = "lognormal",
 median = ..., sigma = ...}`` (``sigma`` the standard deviation of the natural log, [-]).
 Parameters whose lower bound is above zero are fitted in log space.
+
+Uncertainty of the readings: each reading of a trace weighs ``1 / sigma`` with ``sigma =
+sqrt(uncertainty^2 + model_uncertainty^2)`` [K] (``model_uncertainty`` 0 when not given);
+``model_error = "estimate"`` adds the fit model's estimated discretisation error to the
+parameters' covariance as a systematic term
+(:mod:`heatstack.questions.calibration_model_error`).
 """
 
 from __future__ import annotations
@@ -68,6 +77,7 @@ from ..studies.paths import (
 from ..units import quantity
 from .calibration_records import (
     LOSSES,
+    MODEL_ERRORS,
     Calibration,
     FitParameter,
     FitSettings,
@@ -236,7 +246,7 @@ def _parameter(data: Any, k: int, calibration: Calibration, run_names: tuple[str
 
 def _trace(data: Any, where: str, run: str, folder: Path, probes: set[str], duration: float) -> MeasuredTrace:
     data = _table(data, where)
-    _check_keys(data, ("file", "probe", "uncertainty"), where)
+    _check_keys(data, ("file", "probe", "uncertainty", "model_uncertainty"), where)
     probe = str(_required(data, "probe", where))
     if probe not in probes:
         close = difflib.get_close_matches(probe, sorted(probes), n=1)
@@ -260,7 +270,10 @@ def _trace(data: Any, where: str, run: str, folder: Path, probes: set[str], dura
     sigma = quantity(_required(data, "uncertainty", where), "temperature_difference", f"{where}.uncertainty")
     if not sigma > 0:
         raise InputError(f"{where}.uncertainty: must be > 0")
-    return MeasuredTrace(f"{run}/{probe}", probe, times, temperatures, sigma, str(path))
+    model = quantity(data.get("model_uncertainty", 0.0), "temperature_difference", f"{where}.model_uncertainty")
+    if not model >= 0:
+        raise InputError(f"{where}.model_uncertainty: must be >= 0")
+    return MeasuredTrace(f"{run}/{probe}", probe, times, temperatures, sigma, str(path), model)
 
 
 def _run_mapping(data: Mapping, where: str, base: Mapping) -> dict:
@@ -314,6 +327,7 @@ def _settings(data: Any) -> FitSettings:
         "timeout",
         "prediction_samples",
         "profile",
+        "model_error",
     )
     _check_keys(data, allowed, "fit")
     loss = data.get("loss", "linear")
@@ -331,9 +345,12 @@ def _settings(data: Any) -> FitSettings:
         raise InputError("fit: loss_scale and timeout must be > 0")
     executor = str(data.get("executor", "local"))
     profile = data.get("profile")
+    model_error = data.get("model_error", "none")
+    if model_error not in MODEL_ERRORS:
+        raise InputError(f"fit.model_error: expected one of {', '.join(MODEL_ERRORS)}, got {model_error!r}")
     return FitSettings(
         loss, scale, counts["max_evaluations"], executor, counts["workers"] or None, timeout,
-        counts["prediction_samples"], None if profile is None else str(profile),
+        counts["prediction_samples"], None if profile is None else str(profile), model_error,
     )  # fmt: skip
 
 

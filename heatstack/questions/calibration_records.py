@@ -22,10 +22,13 @@ __all__ = [
     "FitSettings",
     "Calibration",
     "LOSSES",
+    "MODEL_ERRORS",
 ]
 
 #: Loss functions of :func:`scipy.optimize.least_squares` offered.
 LOSSES = ("linear", "soft_l1", "huber", "cauchy")
+#: What ``[fit] model_error`` may be.
+MODEL_ERRORS = ("none", "estimate")
 
 
 @dataclass(frozen=True)
@@ -96,9 +99,15 @@ class MeasuredTrace:
     temperatures : ndarray
         Readings [K].
     uncertainty : float
-        Standard deviation of each reading [K].
+        Measurement uncertainty: standard deviation of each reading [K].
     source : str
         File the trace came from.
+    model_uncertainty : float
+        Stated model uncertainty: standard deviation of the model's reading that the fit
+        model cannot remove, independent reading to reading [K] (0 when not given). Added in
+        quadrature to ``uncertainty`` (:attr:`sigma`); a systematic model error (the fit
+        model's discretisation error, the same in every trial) is better estimated with
+        ``[fit] model_error = "estimate"`` (:mod:`heatstack.questions.calibration_model_error`).
     """
 
     name: str
@@ -107,6 +116,12 @@ class MeasuredTrace:
     temperatures: np.ndarray
     uncertainty: float
     source: str
+    model_uncertainty: float = 0.0
+
+    @property
+    def sigma(self) -> float:
+        """The weight of each reading: ``sqrt(uncertainty^2 + model_uncertainty^2)`` [K]."""
+        return float(np.hypot(self.uncertainty, self.model_uncertainty))
 
 
 @dataclass(frozen=True, eq=False)
@@ -152,6 +167,10 @@ class FitSettings:
         Parameter draws for the answers' intervals.
     profile : str or None
         A parameter to profile.
+    model_error : {"none", "estimate"}
+        ``"estimate"``: after the fit, each test run is re-run once at the fitted values on
+        a refined model and the fit model's discretisation error is carried into the
+        covariance (:mod:`heatstack.questions.calibration_model_error`).
     """
 
     loss: str = "linear"
@@ -162,6 +181,7 @@ class FitSettings:
     timeout: float = 10.0
     prediction_samples: int = 24
     profile: str | None = None
+    model_error: str = "none"
 
 
 @dataclass(frozen=True, eq=False)

@@ -266,9 +266,7 @@ class Evaluator:
         self.calibration, self.executor = calibration, executor
         self.parameters = calibration.parameters
         self.evaluations = self.model_runs = 0
-        self.sigmas = np.concatenate(
-            [np.full(t.times.size, t.uncertainty) for run in calibration.runs for t in run.traces]
-        )
+        self.sigmas = np.concatenate([np.full(t.times.size, t.sigma) for run in calibration.runs for t in run.traces])
         self.measured = np.concatenate([t.temperatures for run in calibration.runs for t in run.traces])
 
     def job(self, run: TestRun, u: np.ndarray) -> CalibrationJob:
