@@ -27,7 +27,9 @@ day
     are read by :mod:`heatstack.dayfile`.
 calibrate
     The case's uncertain parameters fitted to measured test traces (:func:`calibrate`): the
-    file (calibration_file), the fit (calibration), what the data tell (identifiability),
+    records (calibration_records) read from the file (calibration_file), the model runs
+    (calibration_runs), the fit (calibration) with the fit model's own error
+    (calibration_model_error), what the data tell (identifiability),
     the calibrated case (calibrated_case) and the report (calibration_report). Uses the
     study machinery (:mod:`heatstack.studies`: key paths, executors), which never imports
     this package. It is imported from its module (``heatstack.questions.calibrate``), not from

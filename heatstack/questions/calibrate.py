@@ -17,25 +17,24 @@ from ..atomic import write_file_atomically
 from ..errors import InputError
 from ..studies.executors import StudyExecutor
 from .calibrated_case import calibrated_case_text, write_calibrated_case
-from .calibration import (
-    CalibrationFit,
-    CalibrationFitError,
-    CalibrationJob,
-    Evaluator,
-    fit_calibration,
-    from_internal,
-    make_executor,
-    parameter_mapping,
-    to_internal,
-)
-from .calibration_file import Calibration
+from .calibration import CalibrationFit, fit_calibration
 from .calibration_html import calibration_html
+from .calibration_records import Calibration
 from .calibration_report import (
     CalibrationAnswers,
     answer_intervals,
     format_calibration_report,
     plot_calibration,
     plot_run,
+)
+from .calibration_runs import (
+    CalibrationFitError,
+    CalibrationJob,
+    Evaluator,
+    from_internal,
+    make_executor,
+    parameter_mapping,
+    to_internal,
 )
 from .identifiability import Identifiability, Profile, identifiability, profile_parameter
 

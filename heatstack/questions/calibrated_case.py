@@ -24,8 +24,9 @@ from ..errors import InputError
 from ..report import CAUTION
 from ..studies.paths import format_path
 from ..units import SI_UNITS
-from .calibration import CalibrationFit, parameter_mapping
-from .calibration_file import Calibration
+from .calibration import CalibrationFit
+from .calibration_records import Calibration
+from .calibration_runs import parameter_mapping
 from .identifiability import Identifiability
 
 __all__ = [

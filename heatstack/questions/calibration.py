@@ -13,10 +13,15 @@ zero, ``value / (upper - lower)`` otherwise. The Jacobian is by forward differen
 to a study executor (serial or local pool, :mod:`heatstack.studies.executors`; Dask,
 :mod:`heatstack.studies.dask_executor`).
 
-Uncertainty: the linearised covariance ``(J^T J)^-1`` of the weighted problem, multiplied
-by the reduced chi-square when that exceeds one (stated noise too small), and 95 %
-intervals ``u +/- 1.96 sd`` mapped back to the values (asymmetric for log parameters)
-[1]_, [2]_. What the data determine is in :mod:`heatstack.questions.identifiability`.
+Uncertainty: each reading weighs ``1 / sigma``, ``sigma`` the trace's measurement
+uncertainty and its stated model uncertainty in quadrature
+(:attr:`~heatstack.questions.calibration_records.MeasuredTrace.sigma`). The linearised
+covariance ``(J^T J)^-1`` of the weighted problem, multiplied by the reduced chi-square when
+that exceeds one (stated noise too small), plus, with ``[fit] model_error = "estimate"``, the
+systematic term of the fit model's estimated discretisation error
+(:mod:`heatstack.questions.calibration_model_error`); 95 % intervals ``u +/- 1.96 sd`` mapped
+back to the values (asymmetric for log parameters) [1]_, [2]_. What the data determine is in
+:mod:`heatstack.questions.identifiability`.
 
 References
 ----------
@@ -28,39 +33,25 @@ References
 
 from __future__ import annotations
 
-import hashlib
-import json
 import logging
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
-from pathlib import Path
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 from scipy.optimize import least_squares
 
-from ..case import case_from_mapping, run_case
-from ..errors import HeatstackError, InputError
-from ..studies.dask_executor import DaskExecutor
-from ..studies.executors import LocalExecutor, SerialExecutor, StudyExecutor
-from ..studies.paths import set_value_at
-from ..studies.runner import summarise
-from .calibration_file import Calibration, FitParameter, TestRun
+from ..studies.executors import StudyExecutor
+from .calibration_model_error import ModelErrorEstimate, estimate_model_error
+from .calibration_records import Calibration, FitParameter
+from .calibration_runs import Evaluator, from_internal, make_executor, to_internal
 
 __all__ = [
-    "CalibrationJob",
-    "CalibrationOutcome",
     "CalibrationFit",
-    "CalibrationFitError",
     "FD_STEP",
     "Z95",
-    "run_calibration_job",
-    "make_executor",
     "fit_calibration",
-    "to_internal",
-    "from_internal",
-    "parameter_mapping",
-    "Evaluator",
+    "interval_95",
 ]
 
 log = logging.getLogger(__name__)
@@ -70,213 +61,6 @@ FD_STEP = 0.02
 #: Relative step and cost-change tolerances of the fit: finer than the runs' own step-control noise is not sought.
 XTOL, FTOL = 1e-4, 1e-6
 Z95 = 1.959963984540054  # two-sided 95 % normal quantile
-
-_MODELS: dict[str, Any] = {}
-
-
-class CalibrationFitError(HeatstackError, RuntimeError):
-    """A run the calibration needed failed."""
-
-
-# ---------------------------------------------------------------------------- the worker
-
-
-@dataclass(frozen=True)
-class CalibrationJob:
-    """One run of the model for a calibration (picklable).
-
-    Attributes
-    ----------
-    mapping : dict
-        Case mapping with the run's overrides and parameter values written in.
-    text, origin, base_dir : str
-        Base case text, file name and folder.
-    probes : tuple of str
-        Probes read at ``times``.
-    times : tuple of ndarray
-        Trace sample times [s], one array per probe.
-    summary : bool
-        Also return the run's answers (:func:`heatstack.studies.runner.summarise`) and
-        the cooling time of the case's ``output.cooling_below``.
-    """
-
-    mapping: dict
-    text: str
-    origin: str
-    base_dir: str
-    probes: tuple[str, ...] = ()
-    times: tuple[np.ndarray, ...] = ()
-    summary: bool = False
-
-    @property
-    def key(self) -> str:
-        """A task name for schedulers."""
-        digest = hashlib.sha256(json.dumps(self.mapping, sort_keys=True, default=str).encode()).hexdigest()
-        return f"heatstack-calibration-{digest[:16]}-{id(self)}"
-
-
-@dataclass(frozen=True, eq=False)
-class CalibrationOutcome:
-    """What a worker returns for one :class:`CalibrationJob`.
-
-    Attributes
-    ----------
-    readings : tuple of ndarray
-        The model's reading of each probe at its trace times [K].
-    names : tuple of str
-        Answer names (with ``summary``); ``cooling_time`` [s] among them when the case
-        asks for one (inf when the run ends before it is reached).
-    values : ndarray
-        Answer values [SI].
-    error : str
-        Error text of a failed run ("" if it ran).
-    """
-
-    readings: tuple[np.ndarray, ...]
-    names: tuple[str, ...] = ()
-    values: np.ndarray = field(default_factory=lambda: np.zeros(0))
-    error: str = ""
-
-
-def _model(case: Any, mapping: Mapping) -> Any:
-    content = {"assembly": mapping.get("assembly", {}), "materials": mapping.get("materials", {})}
-    key = hashlib.sha256(json.dumps(content, sort_keys=True, default=str).encode()).hexdigest()
-    if key not in _MODELS:
-        if len(_MODELS) > 8:
-            _MODELS.clear()
-        _MODELS[key] = case.build_model()
-    return _MODELS[key]
-
-
-def run_calibration_job(job: CalibrationJob) -> CalibrationOutcome:
-    """Build and run one case; read its probes at the trace times (never raises for a failed run).
-
-    Parameters
-    ----------
-    job : CalibrationJob
-        The case mapping, probes and trace times.
-
-    Returns
-    -------
-    CalibrationOutcome
-        Readings [K] and, with ``job.summary``, the run's answers [SI]; for a run that
-        raised a heatstack error, no readings and the error text.
-    """
-    from ..answers.analysis import cooling_time_in_result
-
-    try:
-        case = case_from_mapping(job.mapping, job.text, job.origin, Path(job.base_dir))
-        result = run_case(case, _model(case, job.mapping))
-        readings = tuple(
-            np.interp(times, result.times, result.history(probe))
-            for probe, times in zip(job.probes, job.times, strict=True)
-        )
-        pairs: list[tuple[str, float]] = []
-        if job.summary:
-            pairs = summarise(case, result)
-            if case.output.cooling_below is not None:
-                cooling = cooling_time_in_result(result, case.output.cooling_series, case.output.cooling_below)
-                pairs.append(("cooling_time", float(cooling.duration) if cooling.reached else np.inf))
-    except HeatstackError as exc:
-        return CalibrationOutcome((), error=f"{type(exc).__name__}: {exc}")
-    return CalibrationOutcome(readings, tuple(n for n, _ in pairs), np.array([v for _, v in pairs], dtype=float))
-
-
-def make_executor(name: str, workers: int | None = None, timeout: float = 10.0) -> StudyExecutor:
-    """``"serial"``, ``"local"`` (a process pool of ``workers``) or a Dask scheduler address.
-
-    Parameters
-    ----------
-    name : str
-        ``"serial"``, ``"local"`` or a scheduler address (``host:port`` or a URL).
-    workers : int, optional
-        Process count of the local pool.
-    timeout : float, optional
-        Time allowed to reach a Dask scheduler [s].
-
-    Returns
-    -------
-    StudyExecutor
-        The executor, not yet started.
-
-    Raises
-    ------
-    InputError
-        If ``name`` is none of these.
-    """
-    if name == "serial":
-        return SerialExecutor()
-    if name == "local":
-        return LocalExecutor(workers)
-    if "://" not in name and ":" not in name:
-        raise InputError(f"fit.executor: expected 'serial', 'local' or a scheduler address, got {name!r}")
-    return DaskExecutor(name, timeout=timeout)
-
-
-# ---------------------------------------------------------------------------- coordinates
-
-
-def to_internal(parameter: FitParameter, value: float) -> float:
-    """The fitted coordinate ``u`` of a value: ``ln(value)`` or ``value / (upper - lower)``.
-
-    Parameters
-    ----------
-    parameter : FitParameter
-        The parameter (log or linear, bounds [SI]).
-    value : float
-        Its value [SI].
-
-    Returns
-    -------
-    float
-        The coordinate ``u`` [-].
-    """
-    return float(np.log(value)) if parameter.log else value / (parameter.upper - parameter.lower)
-
-
-def from_internal(parameter: FitParameter, u: float) -> float:
-    """The value of a fitted coordinate ``u`` (inverse of :func:`to_internal`).
-
-    Parameters
-    ----------
-    parameter : FitParameter
-        The parameter (log or linear, bounds [SI]).
-    u : float
-        The coordinate [-].
-
-    Returns
-    -------
-    float
-        The value [SI].
-    """
-    return float(np.exp(u)) if parameter.log else u * (parameter.upper - parameter.lower)
-
-
-def parameter_mapping(base: Mapping, parameters: Sequence[FitParameter], values: Sequence[float], run: str | None):
-    """A deep copy of ``base`` with each parameter that applies to ``run`` set (None: shared ones only).
-
-    Parameters
-    ----------
-    base : mapping
-        Case mapping (JSON-compatible).
-    parameters : sequence of FitParameter
-        The fitted parameters and their key paths.
-    values : sequence of float
-        One value per parameter [SI].
-    run : str or None
-        Name of the test run; a parameter of another run is left out.
-
-    Returns
-    -------
-    dict
-        The new mapping.
-    """
-    data = json.loads(json.dumps(base))
-    for parameter, value in zip(parameters, values, strict=True):
-        if parameter.run is None or parameter.run == run:
-            for path in parameter.paths:
-                set_value_at(data, path, float(value))
-    return data
 
 
 # ---------------------------------------------------------------------------- the answer
@@ -296,7 +80,7 @@ class CalibrationFit:
     internal : ndarray
         Fitted coordinates ``u``.
     covariance : ndarray
-        Covariance of ``u`` (priors included).
+        Covariance of ``u`` (priors included; the model-error term included when estimated).
     jacobian : ndarray
         Weighted Jacobian of the trace residuals in ``u`` (rows: readings; no prior rows).
     predicted : tuple of ndarray
@@ -311,6 +95,9 @@ class CalibrationFit:
     model_runs : int
     converged : bool
     message : str
+    model_error : ModelErrorEstimate or None
+        The fit model's estimated error and its shift of ``u`` (None unless
+        ``model_error = "estimate"``); its ``covariance()`` is part of ``covariance``.
     """
 
     parameters: tuple[FitParameter, ...]
@@ -328,6 +115,7 @@ class CalibrationFit:
     model_runs: int
     converged: bool
     message: str
+    model_error: ModelErrorEstimate | None = None
 
     def standard_errors(self) -> np.ndarray:
         """Standard deviation of each fitted coordinate ``u`` [-].
@@ -338,179 +126,6 @@ class CalibrationFit:
             Square roots of the covariance diagonal (negative entries clipped to 0).
         """
         return np.sqrt(np.clip(np.diag(self.covariance), 0.0, np.inf))
-
-
-# ---------------------------------------------------------------------------- evaluation
-
-
-class Evaluator:
-    """Runs of every test run at parameter vectors in ``u``, through an executor.
-
-    Parameters
-    ----------
-    calibration : Calibration
-        The calibration: runs, traces and their uncertainties [K], parameters.
-    executor : StudyExecutor
-        Runs the jobs.
-    """
-
-    def __init__(self, calibration: Calibration, executor: StudyExecutor):
-        self.calibration, self.executor = calibration, executor
-        self.parameters = calibration.parameters
-        self.evaluations = self.model_runs = 0
-        self.sigmas = np.concatenate(
-            [np.full(t.times.size, t.uncertainty) for run in calibration.runs for t in run.traces]
-        )
-        self.measured = np.concatenate([t.temperatures for run in calibration.runs for t in run.traces])
-
-    def job(self, run: TestRun, u: np.ndarray) -> CalibrationJob:
-        """The job that runs ``run`` at the parameter vector ``u``.
-
-        Parameters
-        ----------
-        run : TestRun
-            The test run (its overrides and traces).
-        u : ndarray
-            Fitted coordinates of every parameter [-].
-
-        Returns
-        -------
-        CalibrationJob
-            The run's mapping with the parameter values written in, probes and trace times [s].
-        """
-        values = [from_internal(p, x) for p, x in zip(self.parameters, u, strict=True)]
-        c = self.calibration
-        return CalibrationJob(
-            parameter_mapping(run.mapping, self.parameters, values, run.name),
-            c.base_text,
-            c.base_origin,
-            str(c.base_dir),
-            tuple(t.probe for t in run.traces),
-            tuple(t.times for t in run.traces),
-        )
-
-    def run_jobs(self, jobs: list[CalibrationJob]) -> list[CalibrationOutcome]:
-        """Run the jobs on the executor; results in job order.
-
-        Parameters
-        ----------
-        jobs : list of CalibrationJob
-            The runs.
-
-        Returns
-        -------
-        list of CalibrationOutcome
-            One outcome per job, in job order.
-        """
-        self.executor.start()
-        futures = [self.executor.submit(run_calibration_job, job) for job in jobs]
-        index = {id(f): k for k, f in enumerate(futures)}
-        out: list[CalibrationOutcome | None] = [None] * len(jobs)
-        try:
-            for future in self.executor.as_completed(futures):
-                out[index[id(future)]] = self.executor.result(future)
-        finally:
-            self.executor.cancel(futures)
-        self.model_runs += len(jobs)
-        return out  # type: ignore[return-value]
-
-    def readings(self, points: list[np.ndarray], runs_of: list[tuple[int, ...]]) -> list[list[np.ndarray]]:
-        """Model readings per run at several parameter vectors, each re-running only its runs.
-
-        Parameters
-        ----------
-        points : list of ndarray
-            Parameter vectors in ``u`` [-].
-        runs_of : list of tuple of int
-            For each point, the indices of the runs to re-run.
-
-        Returns
-        -------
-        list of list
-            ``table[k][r]``: the readings [K] of run ``r`` at point ``k`` (a list of arrays, one
-            per trace), None for a run not re-run.
-
-        Raises
-        ------
-        CalibrationFitError
-            If a run fails (the parameter values are named).
-        """
-        runs = self.calibration.runs
-        jobs, where = [], []
-        for k, (u, which) in enumerate(zip(points, runs_of, strict=True)):
-            for r in which:
-                jobs.append(self.job(runs[r], u))
-                where.append((k, r))
-        outcomes = self.run_jobs(jobs)
-        table: list[list[Any]] = [[None] * len(runs) for _ in points]
-        for (k, r), outcome in zip(where, outcomes, strict=True):
-            if outcome.error:
-                values = ", ".join(
-                    f"{p.name}={from_internal(p, x):.5g}" for p, x in zip(self.parameters, points[k], strict=True)
-                )
-                raise CalibrationFitError(f"run {runs[r].name!r} failed at {values}: {outcome.error}")
-            table[k][r] = list(outcome.readings)
-        return table
-
-    def stack(self, per_run: list[Any]) -> np.ndarray:
-        """Concatenate per-run readings (lists of per-trace arrays) into one vector.
-
-        Parameters
-        ----------
-        per_run : list of list of ndarray
-            Readings of every run, one array per trace [K].
-
-        Returns
-        -------
-        ndarray
-            All readings in run and trace order [K].
-        """
-        return np.concatenate([np.concatenate(readings) for readings in per_run])
-
-    def prior_rows(self, u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Prior residuals and their Jacobian rows in ``u``.
-
-        Parameters
-        ----------
-        u : ndarray
-            Fitted coordinates of every parameter [-].
-
-        Returns
-        -------
-        rows : ndarray
-            One residual per parameter with a prior, in prior spreads [-].
-        jacobian : ndarray, shape (len(rows), len(u))
-            Their derivatives in ``u``.
-        """
-        rows, jac = [], []
-        for j, (p, x) in enumerate(zip(self.parameters, u, strict=True)):
-            if p.prior is None:
-                continue
-            value, row = from_internal(p, x), np.zeros(len(u))
-            if p.prior.kind == "lognormal":
-                rows.append((np.log(value) - np.log(p.prior.center)) / p.prior.spread)
-                row[j] = 1.0 / p.prior.spread  # a lognormal prior implies a log parameter
-            else:
-                rows.append((value - p.prior.center) / p.prior.spread)
-                row[j] = (value if p.log else p.upper - p.lower) / p.prior.spread
-            jac.append(row)
-        return np.array(rows), np.array(jac).reshape(len(rows), len(u))
-
-    def runs_using(self, j: int) -> tuple[int, ...]:
-        """The indices of the runs parameter ``j`` applies to (every run for a shared parameter).
-
-        Parameters
-        ----------
-        j : int
-            Parameter index.
-
-        Returns
-        -------
-        tuple of int
-            Run indices.
-        """
-        run = self.parameters[j].run
-        return tuple(k for k, r in enumerate(self.calibration.runs) if run is None or r.name == run)
 
 
 # ---------------------------------------------------------------------------- the fit
@@ -603,6 +218,7 @@ def fit_calibration(
     *,
     start: Sequence[float] | None = None,
     fixed: Mapping[int, float] | None = None,
+    model_error: bool | None = None,
 ) -> CalibrationFit:
     """Fit the calibration's parameters to its traces.
 
@@ -616,6 +232,10 @@ def fit_calibration(
         First guess [SI] instead of the file's ``start`` values.
     fixed : mapping of int to float, optional
         Parameters (by index) held at a value [SI] (a profile).
+    model_error : bool, optional
+        Estimate the fit model's discretisation error and add it to the covariance (one
+        refined re-run of every test run); by default as ``calibration.settings.model_error``
+        says (``"estimate"``).
 
     Returns
     -------
@@ -635,13 +255,16 @@ def fit_calibration(
     runner = make_executor(settings.executor, settings.workers, settings.timeout) if owned else executor
     try:
         runner.start()
-        return _fit(calibration, runner, start, dict(fixed or {}))
+        estimate = settings.model_error == "estimate" if model_error is None else model_error
+        return _fit(calibration, runner, start, dict(fixed or {}), estimate)
     finally:
         if owned:
             runner.close()
 
 
-def _fit(calibration: Calibration, runner: StudyExecutor, start, fixed: dict[int, float]) -> CalibrationFit:
+def _fit(
+    calibration: Calibration, runner: StudyExecutor, start, fixed: dict[int, float], model_error: bool
+) -> CalibrationFit:
     params = calibration.parameters
     ev = Evaluator(calibration, runner)
     problem = _Problem(ev)
@@ -675,12 +298,13 @@ def _fit(calibration: Calibration, runner: StudyExecutor, start, fixed: dict[int
     )
     converged, message = _message(result, ev.evaluations, settings.max_evaluations)
     u = full(result.x) if converged or problem.best is None else problem.best[1]
-    return _summarise_fit(calibration, problem, u, free, converged, message)
+    return _summarise_fit(calibration, problem, u, free, (converged, message), model_error)
 
 
 def _summarise_fit(
-    calibration: Calibration, problem: _Problem, u: np.ndarray, free: list[int], converged: bool, message: str
-) -> CalibrationFit:
+    calibration: Calibration, problem: _Problem, u: np.ndarray, free: list[int], status: tuple[bool, str],
+    model_error: bool,
+) -> CalibrationFit:  # fmt: skip
     ev, params = problem.ev, calibration.parameters
     readings = problem.base(u)
     jacobian = problem.data_jacobian(u)
@@ -691,17 +315,44 @@ def _summarise_fit(
     covariance = np.zeros((len(params), len(params)))
     full_jac = np.vstack([jacobian, prior_jac])[:, free]
     covariance[np.ix_(free, free)] = _covariance(full_jac, max(1.0, chi2))
-    sd = np.sqrt(np.clip(np.diag(covariance), 0.0, np.inf))
+    estimate = None
+    if model_error:
+        estimate = estimate_model_error(ev, u, ev.stack(readings), full_jac, free)
+        covariance = covariance + estimate.covariance()
+    low, high = interval_95(params, u, covariance)
     values = np.array([from_internal(p, x) for p, x in zip(params, u, strict=True)])
-    low, high = np.full(len(params), -np.inf), np.full(len(params), np.inf)
-    with np.errstate(over="ignore", invalid="ignore"):
-        for k, (p, x, s) in enumerate(zip(params, u, sd, strict=True)):
-            if np.isfinite(s):
-                low[k], high[k] = from_internal(p, x - Z95 * s), from_internal(p, x + Z95 * s)
     predicted = tuple(r for run_readings in readings for r in run_readings)
     traces = [t for run in calibration.runs for t in run.traces]
     residuals = tuple(p - t.temperatures for p, t in zip(predicted, traces, strict=True))
     return CalibrationFit(
         params, values, low, high, u, covariance, jacobian, predicted, residuals,
-        tuple(t.name for t in traces), chi2, ev.evaluations, ev.model_runs, converged, message,
+        tuple(t.name for t in traces), chi2, ev.evaluations, ev.model_runs, *status, estimate,
     )  # fmt: skip
+
+
+def interval_95(
+    parameters: Sequence[FitParameter], u: np.ndarray, covariance: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """95 % linearised intervals ``u +/- 1.96 sd`` mapped back to the values.
+
+    Parameters
+    ----------
+    parameters : sequence of FitParameter
+        The parameters (log or linear).
+    u : ndarray
+        Fitted coordinates [-].
+    covariance : ndarray
+        Covariance of ``u`` [-].
+
+    Returns
+    -------
+    lower, upper : ndarray
+        The interval's ends [SI]; -inf and inf where the standard deviation is not finite.
+    """
+    sd = np.sqrt(np.clip(np.diag(covariance), 0.0, np.inf))
+    low, high = np.full(len(parameters), -np.inf), np.full(len(parameters), np.inf)
+    with np.errstate(over="ignore", invalid="ignore"):
+        for k, (p, x, s) in enumerate(zip(parameters, u, sd, strict=True)):
+            if np.isfinite(s):
+                low[k], high[k] = from_internal(p, x - Z95 * s), from_internal(p, x + Z95 * s)
+    return low, high

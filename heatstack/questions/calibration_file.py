@@ -15,6 +15,8 @@ Layout (TOML, every quantity a number in SI or a string with a unit)::
     timeout = "10 s"                  # to reach a Dask scheduler
     prediction_samples = 24           # parameter draws for the answers' intervals
     profile = "contact clamped"       # a parameter to profile (optional)
+    model_error = "estimate"          # or "none" (default): the fit model's own error
+                                      # estimated by a refined re-run, in the intervals
 
     [[parameters]]
     name = "contact clamped"
@@ -38,10 +40,17 @@ Layout (TOML, every quantity a number in SI or a string with a unit)::
     file = "stop1_tc.csv"             # time, temperature (see questions.sensor_trace)
     probe = "tc stator"
     uncertainty = "0.5 K"             # one standard deviation of each reading
+    model_uncertainty = "0.1 K"       # optional: stated model uncertainty, in quadrature
 
 A prior is ``{kind = "normal", mean = ..., sd = ...}`` or ``{kind = "lognormal",
 median = ..., sigma = ...}`` (``sigma`` the standard deviation of the natural log, [-]).
 Parameters whose lower bound is above zero are fitted in log space.
+
+Uncertainty of the readings: each reading of a trace weighs ``1 / sigma`` with ``sigma =
+sqrt(uncertainty^2 + model_uncertainty^2)`` [K] (``model_uncertainty`` 0 when not given);
+``model_error = "estimate"`` adds the fit model's estimated discretisation error to the
+parameters' covariance as a systematic term
+(:mod:`heatstack.questions.calibration_model_error`).
 """
 
 from __future__ import annotations
@@ -50,11 +59,8 @@ import copy
 import difflib
 import tomllib
 from collections.abc import Mapping
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
-
-import numpy as np
 
 from ..case import case_from_mapping
 from ..case_keys import key_dimension
@@ -69,198 +75,25 @@ from ..studies.paths import (
     value_at,
 )
 from ..units import quantity
+from .calibration_records import (
+    LOSSES,
+    MODEL_ERRORS,
+    Calibration,
+    FitParameter,
+    FitSettings,
+    MeasuredTrace,
+    Prior,
+    TestRun,
+)
 from .sensor_trace import check_trace, read_sensor_trace
 
 __all__ = [
-    "Prior",
-    "FitParameter",
-    "MeasuredTrace",
-    "TestRun",
-    "FitSettings",
-    "Calibration",
-    "LOSSES",
     "load_calibration",
     "parse_calibration",
     "closest_path_hint",
 ]
 
-#: Loss functions of :func:`scipy.optimize.least_squares` offered.
-LOSSES = ("linear", "soft_l1", "huber", "cauchy")
 _MIN_POINTS = 5
-
-
-@dataclass(frozen=True)
-class Prior:
-    """A prior on one parameter.
-
-    Attributes
-    ----------
-    kind : {"normal", "lognormal"}
-    center : float
-        Mean (normal) or median (lognormal) [SI].
-    spread : float
-        Standard deviation (normal) [SI], or of the natural log (lognormal) [-].
-    """
-
-    kind: str
-    center: float
-    spread: float
-
-
-@dataclass(frozen=True)
-class FitParameter:
-    """One parameter to fit.
-
-    Attributes
-    ----------
-    name : str
-    paths : tuple of tuple
-        Case key paths (tokens) set to the parameter's value.
-    dimension : str
-        Physical dimension (a key of ``heatstack.units.SI_UNITS``).
-    start, lower, upper : float
-        First guess and bounds [SI].
-    log : bool
-        Fitted as ``ln(value)`` (positive quantities).
-    prior : Prior or None
-    run : str or None
-        The only run the parameter applies to (None: every run).
-    """
-
-    name: str
-    paths: tuple[tuple[Token, ...], ...]
-    dimension: str
-    start: float
-    lower: float
-    upper: float
-    log: bool
-    prior: Prior | None = None
-    run: str | None = None
-
-    @property
-    def label(self) -> str:
-        """The parameter's name with its first path."""
-        return f"{self.name} ({format_path(self.paths[0])})"
-
-
-@dataclass(frozen=True, eq=False)
-class MeasuredTrace:
-    """One measured temperature trace.
-
-    Attributes
-    ----------
-    name : str
-        ``<run>/<probe>``.
-    probe : str
-    times : ndarray
-        Sample times [s] on the run's clock.
-    temperatures : ndarray
-        Readings [K].
-    uncertainty : float
-        Standard deviation of each reading [K].
-    source : str
-        File the trace came from.
-    """
-
-    name: str
-    probe: str
-    times: np.ndarray
-    temperatures: np.ndarray
-    uncertainty: float
-    source: str
-
-
-@dataclass(frozen=True, eq=False)
-class TestRun:
-    """One test run: the base case with its overrides and probes, and its traces.
-
-    Attributes
-    ----------
-    name : str
-    mapping : dict
-        The run's case mapping (overrides and declared probes written in), before any
-        fitted parameter is set.
-    traces : tuple of MeasuredTrace
-    duration : float
-        Length of the run's duty [s].
-    """
-
-    name: str
-    mapping: dict
-    traces: tuple[MeasuredTrace, ...]
-    duration: float
-
-
-@dataclass(frozen=True)
-class FitSettings:
-    """How the fit runs (see the module docstring for the keys).
-
-    Attributes
-    ----------
-    loss : str
-        ``"linear"`` or a robust loss (``"soft_l1"``, ``"huber"``, ``"cauchy"``).
-    loss_scale : float
-        Residual where a robust loss bends, in measurement sigmas [-].
-    max_evaluations : int
-        Model evaluations allowed (each runs every test run once).
-    executor : str
-        ``"serial"``, ``"local"`` or a Dask scheduler address.
-    workers : int or None
-        Process count of a local executor.
-    timeout : float
-        Time allowed to reach a Dask scheduler [s].
-    prediction_samples : int
-        Parameter draws for the answers' intervals.
-    profile : str or None
-        A parameter to profile.
-    """
-
-    loss: str = "linear"
-    loss_scale: float = 3.0
-    max_evaluations: int = 40
-    executor: str = "local"
-    workers: int | None = None
-    timeout: float = 10.0
-    prediction_samples: int = 24
-    profile: str | None = None
-
-
-@dataclass(frozen=True, eq=False)
-class Calibration:
-    """A validated calibration file.
-
-    Attributes
-    ----------
-    title : str
-    base_text : str
-        Text of the base case file.
-    base_mapping : dict
-    base_origin : str
-    base_dir : Path
-    runs : tuple of TestRun
-    parameters : tuple of FitParameter
-    settings : FitSettings
-    origin : str
-        The calibration file's name.
-    text : str
-        The calibration file's text.
-    """
-
-    title: str
-    base_text: str
-    base_mapping: dict
-    base_origin: str
-    base_dir: Path
-    runs: tuple[TestRun, ...]
-    parameters: tuple[FitParameter, ...]
-    settings: FitSettings
-    origin: str
-    text: str = ""
-
-    @property
-    def n_points(self) -> int:
-        """Number of measured readings in all traces."""
-        return sum(trace.times.size for run in self.runs for trace in run.traces)
 
 
 # ---------------------------------------------------------------------------- helpers
@@ -413,7 +246,7 @@ def _parameter(data: Any, k: int, calibration: Calibration, run_names: tuple[str
 
 def _trace(data: Any, where: str, run: str, folder: Path, probes: set[str], duration: float) -> MeasuredTrace:
     data = _table(data, where)
-    _check_keys(data, ("file", "probe", "uncertainty"), where)
+    _check_keys(data, ("file", "probe", "uncertainty", "model_uncertainty"), where)
     probe = str(_required(data, "probe", where))
     if probe not in probes:
         close = difflib.get_close_matches(probe, sorted(probes), n=1)
@@ -437,7 +270,10 @@ def _trace(data: Any, where: str, run: str, folder: Path, probes: set[str], dura
     sigma = quantity(_required(data, "uncertainty", where), "temperature_difference", f"{where}.uncertainty")
     if not sigma > 0:
         raise InputError(f"{where}.uncertainty: must be > 0")
-    return MeasuredTrace(f"{run}/{probe}", probe, times, temperatures, sigma, str(path))
+    model = quantity(data.get("model_uncertainty", 0.0), "temperature_difference", f"{where}.model_uncertainty")
+    if not model >= 0:
+        raise InputError(f"{where}.model_uncertainty: must be >= 0")
+    return MeasuredTrace(f"{run}/{probe}", probe, times, temperatures, sigma, str(path), model)
 
 
 def _run_mapping(data: Mapping, where: str, base: Mapping) -> dict:
@@ -491,6 +327,7 @@ def _settings(data: Any) -> FitSettings:
         "timeout",
         "prediction_samples",
         "profile",
+        "model_error",
     )
     _check_keys(data, allowed, "fit")
     loss = data.get("loss", "linear")
@@ -508,9 +345,12 @@ def _settings(data: Any) -> FitSettings:
         raise InputError("fit: loss_scale and timeout must be > 0")
     executor = str(data.get("executor", "local"))
     profile = data.get("profile")
+    model_error = data.get("model_error", "none")
+    if model_error not in MODEL_ERRORS:
+        raise InputError(f"fit.model_error: expected one of {', '.join(MODEL_ERRORS)}, got {model_error!r}")
     return FitSettings(
         loss, scale, counts["max_evaluations"], executor, counts["workers"] or None, timeout,
-        counts["prediction_samples"], None if profile is None else str(profile),
+        counts["prediction_samples"], None if profile is None else str(profile), model_error,
     )  # fmt: skip
 
 

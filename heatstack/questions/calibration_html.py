@@ -19,7 +19,7 @@ from .. import __version__
 from ..report import CAUTION
 from ..report_html import html_figure, html_page, html_paragraphs, html_table, library_versions
 from .calibration import CalibrationFit
-from .calibration_file import Calibration
+from .calibration_records import Calibration
 from .calibration_report import (
     CALIBRATION_NOTE,
     WHITE_LEVEL,
@@ -28,6 +28,7 @@ from .calibration_report import (
     correlation_table,
     parameter_table,
     trace_table,
+    uncertainty_statement,
 )
 from .identifiability import DETERMINED_RELATIVE_SD, UNDETERMINED_RELATIVE_SD, Identifiability, Profile
 
@@ -40,7 +41,7 @@ def _outcome(calibration: Calibration, fit: CalibrationFit) -> str:
         f"{len(fit.parameters)} fitted parameters.",
         f"{fit.message}. Reduced chi-square {fit.reduced_chi_square:.3g}; {fit.model_runs} model runs.",
     ]
-    body = html_paragraphs(lines)
+    body = html_paragraphs(lines) + html_paragraphs(uncertainty_statement(fit), "note")
     if not fit.converged:
         body += html_paragraphs(["The fit did not converge: the values below are its best estimate."], "warnings")
     return body

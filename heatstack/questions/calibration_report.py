@@ -24,12 +24,13 @@ from ..atomic import write_file_atomically
 from ..report import CAUTION
 from ..units import SI_UNITS
 from .calibration import CalibrationFit
-from .calibration_file import Calibration, FitParameter
+from .calibration_model_error import REFINEMENT_FACTOR
+from .calibration_records import Calibration, FitParameter
 from .identifiability import Identifiability, Profile
 
 __all__ = ["CalibrationAnswers", "RunsTest", "runs_test", "answer_intervals", "format_calibration_report",
            "plot_calibration", "plot_run", "parameter_table", "trace_table", "answer_table", "correlation_table",
-           "CALIBRATION_NOTE", "WHITE_LEVEL"]  # fmt: skip
+           "uncertainty_statement", "CALIBRATION_NOTE", "WHITE_LEVEL"]  # fmt: skip
 
 #: What a calibration adds to the house caution (:data:`heatstack.report.CAUTION`).
 CALIBRATION_NOTE = "A model calibrated to test traces is still not certified data."
@@ -211,19 +212,59 @@ def trace_table(calibration: Calibration, fit: CalibrationFit) -> tuple[list[str
     rows : list of list of str
         One row of text cells per measured trace.
     """
-    header = ["trace", "points", "measured peak degC", "predicted peak degC", "rms residual K", "sigma K",
+    header = ["trace", "points", "measured peak degC", "predicted peak degC", "rms residual K",
+              "measurement sigma K", "stated model K", "sigma used K", "estimated model error rms K",
               "runs-test z", "runs-test p", "white at 1 %"]  # fmt: skip
     traces = [t for run in calibration.runs for t in run.traces]
+    estimated = fit.model_error.trace_rms if fit.model_error is not None else [None] * len(traces)
     rows = []
-    for trace, predicted, residual in zip(traces, fit.predicted, fit.residuals, strict=True):
+    for trace, predicted, residual, model in zip(traces, fit.predicted, fit.residuals, estimated, strict=True):
         white = runs_test(residual)
         rows.append([
             trace.name, str(trace.times.size), f"{np.max(trace.temperatures) - 273.15:.2f}",
             f"{np.max(predicted) - 273.15:.2f}", f"{float(np.sqrt(np.mean(residual**2))):.3g}",
-            f"{trace.uncertainty:.3g}", f"{white.z:+.2f}", f"{white.p_value:.3f}",
+            f"{trace.uncertainty:.3g}", f"{trace.model_uncertainty:.3g}", f"{trace.sigma:.3g}",
+            "not estimated" if model is None else f"{model:.3g}", f"{white.z:+.2f}", f"{white.p_value:.3f}",
             "yes" if white.p_value > WHITE_LEVEL else "NO",
         ])  # fmt: skip
     return header, rows
+
+
+def uncertainty_statement(fit: CalibrationFit) -> list[str]:
+    """What uncertainty the intervals carry, in sentences: the weights, the chi-square scaling, the model error.
+
+    Parameters
+    ----------
+    fit : CalibrationFit
+        The fit (its reduced chi-square and model-error estimate).
+
+    Returns
+    -------
+    list of str
+        One sentence a line.
+    """
+    scaled = fit.reduced_chi_square > 1.0
+    lines = [
+        "Uncertainty used: each reading is weighed by sigma, its trace's measurement uncertainty and stated "
+        "model uncertainty in quadrature (trace table).",
+        f"The noise covariance is {'multiplied by' if scaled else 'not scaled by'} the reduced chi-square "
+        f"({fit.reduced_chi_square:.3g}{'' if scaled else ', at most 1'}).",
+    ]
+    estimate = fit.model_error
+    if estimate is None:
+        lines.append('Model error: not estimated ([fit] model_error = "none"); the intervals leave the fit '
+                     "model's own discretisation error out.")  # fmt: skip
+        return lines
+    lines += [
+        "Model error: estimated by re-running every test run once at the fit on a refined model "
+        f"({estimate.description}); "
+        f"{REFINEMENT_FACTOR:g} x the difference (Richardson extrapolation, an error falling at least twofold), "
+        f"RMS {np.min(estimate.trace_rms):.3g} to {np.max(estimate.trace_rms):.3g} K over the traces, largest "
+        f"{np.max(estimate.trace_max):.3g} K.",
+        "Its first-order shift of the fitted parameters is added to their covariance as a systematic term "
+        "(an uncorrected systematic effect, JCGM 100:2008 F.2.4.5): the intervals include it.",
+    ]
+    return lines
 
 
 def _answer_value(value: float, scale: float, offset: float) -> str:
@@ -309,7 +350,8 @@ def format_calibration_report(
     lines = [f"# {calibration.title}" if markdown else calibration.title, "", CAUTION, CALIBRATION_NOTE, ""]
     lines += [f"Base case {calibration.base_origin}; {len(calibration.runs)} runs, "
               f"{calibration.n_points} readings; {fit.message}.",
-              f"Reduced chi-square {fit.reduced_chi_square:.3g}; {fit.model_runs} model runs.", ""]  # fmt: skip
+              f"Reduced chi-square {fit.reduced_chi_square:.3g}; {fit.model_runs} model runs.", "",
+              *uncertainty_statement(fit), ""]  # fmt: skip
     if not fit.converged:
         lines += ["WARNING: the fit did not converge; the values below are its best estimate.", ""]
     lines += [head("Measured and predicted"), ""]
@@ -412,7 +454,7 @@ def plot_run(calibration: Calibration, fit: CalibrationFit, run: int, path: str 
         colour = line[0].get_color()
         top.plot(minutes, predicted - 273.15, "-", color=colour, lw=1, label=f"{trace.probe} fitted")
         bottom.plot(minutes, residual, ".-", ms=3, lw=0.5, color=colour, label=trace.probe)
-        bottom.axhspan(-2 * trace.uncertainty, 2 * trace.uncertainty, color=colour, alpha=0.08)
+        bottom.axhspan(-2 * trace.sigma, 2 * trace.sigma, color=colour, alpha=0.08)
     top.set_ylabel("temperature [degC]")
     top.legend(fontsize=7)
     top.set_title(f"{calibration.title}: {test.name}\nmeasured (dots), calibrated model (lines)", fontsize=9)

@@ -41,8 +41,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..studies.executors import StudyExecutor
-from .calibration import Z95, CalibrationFit, fit_calibration, from_internal, to_internal
-from .calibration_file import Calibration
+from .calibration import Z95, CalibrationFit, fit_calibration
+from .calibration_records import Calibration
+from .calibration_runs import from_internal, to_internal
 
 __all__ = [
     "Identifiability",
@@ -281,7 +282,9 @@ def profile_parameter(
     grid = np.linspace(low, high, points)
     chi = []
     for u in grid:
-        refit = fit_calibration(calibration, executor, start=list(fit.values), fixed={j: from_internal(p, u)})
+        refit = fit_calibration(
+            calibration, executor, start=list(fit.values), fixed={j: from_internal(p, u)}, model_error=False
+        )
         chi.append(sum(float(np.sum((r / _sigma(calibration, k)) ** 2)) for k, r in enumerate(refit.residuals)))
     chi_arr = np.array(chi) / max(1.0, fit.reduced_chi_square)
     values = np.array([from_internal(p, u) for u in grid])
@@ -290,7 +293,7 @@ def profile_parameter(
 
 def _sigma(calibration: Calibration, k: int) -> float:
     traces = [t for run in calibration.runs for t in run.traces]
-    return traces[k].uncertainty
+    return traces[k].sigma
 
 
 def _crossings(values: np.ndarray, chi: np.ndarray) -> tuple[float, float]:

@@ -22,6 +22,7 @@ from calibration_case import (  # tests/ is on the path (conftest)
     GUARD,
     NOISE,
     SHORT_TIMES,
+    SMALL_NOISE,
     TIMES,
     TRUTH,
     clean_fine,
@@ -37,8 +38,10 @@ from heatstack.errors import InputError
 from heatstack.questions.calibrate import calibrate, write_calibration_outputs
 from heatstack.questions.calibrated_case import read_calibration_block, toml_text, values_by_name
 from heatstack.questions.calibration import CalibrationFit, fit_calibration
-from heatstack.questions.calibration_file import FitParameter, load_calibration
-from heatstack.questions.calibration_report import answer_table, runs_test
+from heatstack.questions.calibration_file import load_calibration
+from heatstack.questions.calibration_records import FitParameter
+from heatstack.questions.calibration_report import answer_table, runs_test, trace_table, uncertainty_statement
+from heatstack.questions.calibration_runs import Evaluator
 from heatstack.questions.identifiability import DETERMINED_RELATIVE_SD, identifiability
 from heatstack.report import CAUTION
 from heatstack.studies.executors import SerialExecutor
@@ -143,6 +146,96 @@ def test_interval_coverage_near_nominal_in_repeated_trials(tmp_path):
     low, high = chi2.ppf([0.005, 0.995], 2 * trials)
     total = float(np.sum(result.mahalanobis))
     assert low < total < high, (total, low, high, result.mahalanobis)
+
+
+def test_model_error_term_keeps_coverage_when_the_model_error_outweighs_the_noise(tmp_path):
+    # Readings from a finer model (5 mm cells, Euler at 0.25 K a step) than the fit's (10 mm, 4 K),
+    # whose own error (about 0.55 K RMS) is large beside the noise (0.3 K). The 95 % intervals
+    # (Seber & Wild 1989, sec. 5.1) with the estimated model-error term (Richardson extrapolation,
+    # Roache 1998 ch. 5; an uncorrected systematic effect, JCGM 100:2008 F.2.4.5) must still cover
+    # the truth as Binomial(6, 0.95) allows at 1 % (Johnson, Kemp & Kotz 2005, ch. 3):
+    # P(X <= 3) = 0.2 %, so at least 4 of 6. The noise covariance alone must fail that for the
+    # contact conductance (its interval too narrow for the bias the model error gives it).
+    from scipy.stats import binom, chi2
+
+    trials = 6
+    result = coverage_trials(tmp_path, trials, model_error=True)
+    assert binom.cdf(3, trials, 0.95) < 0.01 <= binom.cdf(4, trials, 0.95)  # the bound quoted above
+    assert np.all(result.covered >= 4), result.covered
+    assert result.covered_noise_only[0] < 4, result.covered_noise_only
+    # not too narrow: the sum of Mahalanobis distances no larger than chi-square(12) allows at 1 %
+    # (the bound on the model error is taken, so the intervals may be wide: no lower test)
+    assert float(np.sum(result.mahalanobis)) < chi2.ppf(0.99, 2 * trials), result.mahalanobis
+
+
+@pytest.fixture(scope="module")
+def model_error_fit(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("model-error")
+    path = make_campaign(folder, clean_short(fine=True), 3, fit='max_evaluations = 12\nmodel_error = "estimate"',
+                         short=True, noise=SMALL_NOISE)  # fmt: skip
+    calibration = load_calibration(path)
+    fit = fit_calibration(calibration, SerialExecutor(), start=[TRUTH["contact"], TRUTH["tau"]])
+    return calibration, fit
+
+
+def test_estimated_model_error_bounds_the_fit_models_own_error(model_error_fit):
+    # Richardson (1911), Roache 1998 ch. 5: for an error falling R >= 2 times per refinement, 2 x the
+    # difference to the refined model lies between the coarse model's error and twice it. The
+    # coarse error here: the fit model's readings at the truth against a much finer model's.
+    _, fit = model_error_fit
+    fine, coarse = clean_short(fine=True)[0], clean_short()[0]
+    own = np.array([np.sqrt(np.mean((c - f) ** 2)) for c, f in zip(coarse, fine, strict=True)])
+    assert fit.model_error is not None
+    assert np.all(fit.model_error.trace_rms >= 0.9 * own), (fit.model_error.trace_rms, own)
+    assert np.all(fit.model_error.trace_rms <= 2.1 * own), (fit.model_error.trace_rms, own)
+    assert "refined model: cells 5 x 5 mm, backward Euler, target change 1 K" in fit.model_error.description
+    # the term is in the covariance and widens the intervals
+    noise_only = fit.covariance - fit.model_error.covariance()
+    assert np.all(np.diag(fit.covariance) > np.diag(noise_only))
+
+
+def test_report_states_the_uncertainty_it_used(model_error_fit, recovered):
+    _, fit = model_error_fit
+    statement = " ".join(uncertainty_statement(fit))
+    assert "measurement uncertainty and stated model uncertainty in quadrature" in statement
+    assert "Model error: estimated by re-running every test run once" in statement
+    assert "added to their covariance as a systematic term" in statement
+    _, run, _ = recovered
+    assert "Model error: not estimated" in " ".join(uncertainty_statement(run.fit))
+    header, rows = trace_table(run.calibration, run.fit)
+    assert rows[0][header.index("sigma used K")] == f"{NOISE:.3g}"
+
+
+def test_stated_model_uncertainty_adds_in_quadrature(campaign):
+    # sigma = sqrt(u_meas^2 + u_model^2): independent components (JCGM 100:2008, eq. 10)
+    _edit(campaign, 'probe = "sensor"\nuncertainty = "2.0 K"',
+          'probe = "sensor"\nuncertainty = "2.0 K"\nmodel_uncertainty = "1.5 K"')  # fmt: skip
+    calibration = load_calibration(campaign)
+    first, second = calibration.runs[0].traces
+    assert first.model_uncertainty == 1.5 and first.sigma == pytest.approx(2.5)
+    assert second.model_uncertainty == 0.0 and second.sigma == 2.0
+    sigmas = Evaluator(calibration, SerialExecutor()).sigmas
+    assert sigmas[: first.times.size] == pytest.approx(2.5)
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "expected"),
+    [
+        ('uncertainty = "2.0 K"', 'uncertainty = "2.0 K"\nmodel_uncertainty = "-1 K"',
+         r"runs\[0\]\.traces\[0\]\.model_uncertainty: must be >= 0"),
+        ('uncertainty = "2.0 K"', 'uncertainty = "2.0 K"\nmodel_uncertainty = "1 s"', r"model_uncertainty"),
+        ('executor = "serial"', 'executor = "serial"\nmodel_error = "guess"',
+         r"fit\.model_error: expected one of none, estimate, got 'guess'"),
+    ],
+    ids=["negative", "wrong unit", "unknown mode"],
+)  # fmt: skip
+def test_cli_bad_model_uncertainty_exits_2_naming_the_key(campaign, capsys, old, new, expected):
+    _edit(campaign, old, new)
+    out = campaign.parent / "out"
+    assert main(["calibrate", str(campaign), "--out", str(out), "--quiet"]) == 2
+    err = capsys.readouterr().err
+    assert re.search(expected, err) and "Traceback" not in err, err
+    assert not out.exists()
 
 
 # ---------------------------------------------------------------------------- bad input
