@@ -16,7 +16,8 @@ friction energy the schedule delivers over it.
 Every conductance, boundary coefficient and source partition is evaluated at the
 current iterate (:meth:`NewtonStep.linearise`), so the system stays symmetric positive
 definite. Each iteration solves ``J d = -F`` with the factors of a recent ``J`` (one
-triangular solve); the iterates are Anderson-accelerated. When the correction is below
+triangular solve); the iterates are Anderson-accelerated
+(:func:`~heatstack.numerics.anderson.accelerate`). When the correction is below
 the tolerance, the new enthalpy is set *from the fluxes at* ``T + d`` and the
 temperature by the exact inverse of ``H``, so every accepted step conserves energy to
 round-off; the step is accepted only if that moves no temperature by more than ten
@@ -38,153 +39,24 @@ References
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 import scipy.sparse.linalg as spla
 
 from ..errors import PropertyRangeError
 from .accounts import StepAccounts
-from .boundaries import Boundaries, FaceExchange, GapExchange, SurfaceTemperatures
+from .anderson import accelerate
+from .boundaries import Boundaries, SurfaceTemperatures
 from .multistep import StepHistory, bdf2_coefficients, book
 from .network import Network
 from .schedule import Phase, Schedule
 from .step_matrix import HeatSources, StepMatrix, cell_properties, cell_temperature, out_of_range_cell
+from .step_records import Linearisation, StepFailed, StepFrame, StepOutcome
 
-__all__ = ["NewtonStep", "StepFailed", "StepOutcome", "REFACTOR_BAND"]
+__all__ = ["NewtonStep", "REFACTOR_BAND"]
 
 #: The factors of a step matrix are reused while the step's ``a dt`` stays within this
 #: band of the ``a dt`` they were made for (and the phase is the same).
 REFACTOR_BAND = (0.75, 1.35)
-
-
-class StepFailed(Exception):
-    """A step that did not converge or left a property table; the caller cuts the step.
-
-    Parameters
-    ----------
-    reason : str
-    cell : int, optional
-        The cell where it went wrong.
-    at_guess : bool
-        Whether it failed at the extrapolated initial guess.
-    """
-
-    def __init__(self, reason: str, cell: int | None = None, at_guess: bool = False):
-        super().__init__(reason)
-        self.reason, self.cell, self.at_guess = reason, cell, at_guess
-
-
-@dataclass(frozen=True, eq=False)
-class StepOutcome:
-    """An accepted step: the new state, its surfaces and its energy accounts.
-
-    Attributes
-    ----------
-    temperature : ndarray
-        [K] per cell.
-    enthalpy : ndarray
-        [J/m^3] per cell.
-    surfaces : SurfaceTemperatures
-        Surface temperatures [K] at the last Newton iterate, the next step's start.
-    accounts : StepAccounts
-    iterations : int
-        Newton iterations taken.
-    history : StepHistory
-        The step as the next one's multistep history.
-    heat_capacity : ndarray
-        Volumetric heat capacity [J/(m^3 K)] at the last iterate.
-    ambient : float
-        Mean ambient temperature of the exposed faces in the step's phase [K] (the lowest
-        cell temperature when nothing is exposed).
-    bdf2 : bool
-        Whether the step was BDF2 (else backward Euler).
-    """
-
-    temperature: np.ndarray
-    enthalpy: np.ndarray
-    surfaces: SurfaceTemperatures
-    accounts: StepAccounts
-    iterations: int
-    history: StepHistory
-    heat_capacity: np.ndarray
-    ambient: float
-    bdf2: bool
-
-
-@dataclass(frozen=True, eq=False)
-class StepFrame:
-    """What stays fixed during one step's iteration.
-
-    Attributes
-    ----------
-    phase : Phase
-        The schedule phase at the middle of the step.
-    time, dt : float
-        End of the step and its length [s].
-    scale : float
-        ``a dt`` [s]: ``dt`` for backward Euler, ``dt (1 + w)/(1 + 2w)`` for BDF2.
-    weight : float
-        The history weight ``b`` (0 for backward Euler).
-    power : float
-        Friction power of the step equation [W]: the mean over the step for backward Euler,
-        ``(E_n - b E_{n-1}) / (a dt)`` for BDF2.
-    friction_energy : float
-        The schedule's friction energy over the step [J].
-    contact : ndarray
-        Contact resistance [K/W] of every link in this phase.
-    volume_rate : ndarray
-        ``V / (a dt)`` of every cell [m^3/s].
-    volume_source : ndarray or None
-        Volumetric source heat [W] per cell at the end of the step.
-    start_enthalpy : ndarray
-        Enthalpy [J/m^3] at the start of the step.
-    enthalpy : ndarray
-        The step equation's base enthalpy ``H^n + b (H^n - H^{n-1})`` [J/m^3].
-    previous : StepAccounts or None
-        The previous step's bookings (None for backward Euler).
-    """
-
-    phase: Phase
-    time: float
-    dt: float
-    scale: float
-    weight: float
-    power: float
-    friction_energy: float
-    contact: np.ndarray
-    volume_rate: np.ndarray
-    volume_source: np.ndarray | None
-    start_enthalpy: np.ndarray
-    enthalpy: np.ndarray
-    previous: StepAccounts | None
-
-
-@dataclass(frozen=True, eq=False)
-class Linearisation:
-    """The step's linear system at one iterate (the matrix itself is in :class:`StepMatrix`).
-
-    Attributes
-    ----------
-    enthalpy : ndarray
-        [J/m^3] at the iterate.
-    capacity : ndarray
-        ``c V / (a dt)`` [W/K] per cell.
-    source : ndarray
-        Right-hand side [W]: boundary inflow at the equivalent temperatures and heat sources.
-    faces : FaceExchange
-    gaps : GapExchange
-    friction_a, friction_b : ndarray
-        Friction heat [W] into each side of every rubbing face.
-    """
-
-    enthalpy: np.ndarray
-    capacity: np.ndarray
-    source: np.ndarray
-    faces: FaceExchange
-    gaps: GapExchange
-    friction_a: np.ndarray
-    friction_b: np.ndarray
 
 
 class NewtonStep:
@@ -602,44 +474,3 @@ class NewtonStep:
             ambient=ambient,
             bdf2=previous is not None,
         )
-
-
-def accelerate(history: list, T: np.ndarray, correction: np.ndarray, depth: int = 2) -> np.ndarray:
-    """Anderson-accelerated next iterate of the fixed point ``T -> T + correction(T)``.
-
-    Parameters
-    ----------
-    history : list of (ndarray, ndarray)
-        The last ``depth + 1`` pairs (iterate [K], correction [K]); updated in place, and
-        cleared when the least-squares problem is singular.
-    T : ndarray, shape (n,)
-        Current iterate [K].
-    correction : ndarray, shape (n,)
-        Newton correction at ``T`` [K].
-    depth : int, optional
-        Number of past differences used.
-
-    Returns
-    -------
-    ndarray, shape (n,)
-        Next iterate [K] (plain ``T + correction`` with fewer than two pairs).
-
-    References
-    ----------
-    .. [1] Walker, H.F., Ni, P., 2011, Anderson acceleration for fixed-point
-       iterations, SIAM J. Numer. Anal. 49(4), 1715-1735 (type II, depth ``depth``).
-    """
-    history.append((T, correction))
-    if len(history) > depth + 1:
-        del history[0]
-    if len(history) < 2:
-        return T + correction
-    d_T = np.column_stack([b[0] - a[0] for a, b in zip(history[:-1], history[1:], strict=True)])
-    d_f = np.column_stack([b[1] - a[1] for a, b in zip(history[:-1], history[1:], strict=True)])
-    gram = d_f.T @ d_f
-    try:
-        gamma = np.linalg.solve(gram + 1e-14 * np.trace(gram) * np.eye(gram.shape[0]), d_f.T @ correction)
-    except np.linalg.LinAlgError:
-        history.clear()
-        return T + correction
-    return T + correction - (d_T + d_f) @ gamma

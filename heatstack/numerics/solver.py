@@ -3,9 +3,10 @@
 :func:`integrate` runs a schedule from an initial field and returns the
 :class:`~heatstack.result.Result`. Reading on, in the order a step uses them:
 
-- ``assembly.py``: the step matrix pattern, its assembly, cell properties, heat sources;
+- ``step_matrix.py``: the step matrix pattern, its assembly, cell properties, heat sources;
 - ``boundaries.py``: exposed faces (convection, linearised radiation) and radiating gaps;
-- ``newton.py``: one backward-Euler or BDF2 step on enthalpy, by Newton, closed by its accounts;
+- ``newton.py``: one backward-Euler or BDF2 step on enthalpy, by Newton, closed by its accounts
+  (its records in ``step_records.py``, its Anderson acceleration in ``anderson.py``);
 - ``multistep.py``: the BDF2 coefficients, the ledger's history term and the error estimate;
 - ``stepping.py``: step-size control by the error estimate, rejection and cuts;
 - ``predictor.py`` (initial guess of a step) and ``recording.py`` (histories and ledger).

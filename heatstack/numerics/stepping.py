@@ -38,9 +38,10 @@ from ..errors import SolverError
 from .boundaries import SurfaceTemperatures
 from .multistep import StepHistory, local_error
 from .network import Network
-from .newton import NewtonStep, StepFailed, StepOutcome
+from .newton import NewtonStep
 from .schedule import Schedule
 from .step_matrix import cell_properties
+from .step_records import StepFailed, StepOutcome
 
 if TYPE_CHECKING:
     from .options import SolverOptions
