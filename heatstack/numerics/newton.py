@@ -299,8 +299,9 @@ class NewtonStep:
         net, n = self.net, self.net.n_cells
         try:
             properties = cell_properties(net, T)
-            faces = self.boundaries.faces(frame.phase, frame.time, surfaces.face, properties.conductivity)
-            gaps = self.boundaries.gaps(surfaces.gap_a, surfaces.gap_b, properties.conductivity)
+            eps_faces, eps_a, eps_b = self.boundaries.emissivities(surfaces)
+            faces = self.boundaries.faces(frame.phase, frame.time, surfaces.face, properties.conductivity, eps_faces)
+            gaps = self.boundaries.gaps(surfaces.gap_a, surfaces.gap_b, properties.conductivity, (eps_a, eps_b))
         except PropertyRangeError as exc:
             raise StepFailed(str(exc), out_of_range_cell(net, T), at_guess=iteration == 0) from None
         G = self.system.link_conductances(properties.conductivity, frame.contact)
