@@ -28,6 +28,7 @@ ISO 2533:1975, Standard Atmosphere (density, through :mod:`.atmosphere`).
 """
 
 import math
+from bisect import bisect_right
 from dataclasses import dataclass
 from typing import Any
 
@@ -148,22 +149,27 @@ class StopResult:
 
 
 class _Forces:
-    """The forces of the equation of motion, vectorised over samples."""
+    """The forces of the equation of motion: vectorised over samples, or on plain floats for the solver."""
 
     def __init__(self, aircraft: Aircraft, runway: Runway, conditions: Conditions, braking: Any, forward: float):
-        self.aircraft, self.runway, self.forward = aircraft, runway, forward
+        self.aircraft, self.runway, self.forward = aircraft, runway, float(forward)
         self.mass = aircraft.mass
         weight = aircraft.mass * atmosphere.G0
         theta = math.atan(runway.slope)
         self.weight_normal, self.weight_along = weight * math.cos(theta), weight * math.sin(theta)
         self.density, self.headwind = conditions.density, conditions.headwind
+        self.half_density = 0.5 * self.density
         self.target = deceleration_target(braking)
         speeds, thrust = aircraft.reverse_thrust
         self.reverse_speeds = np.asarray(speeds)
         self.reverse_total = aircraft.reversers * np.asarray(thrust)
+        self.has_reverse = bool(self.reverse_total.size and np.any(self.reverse_total > 0))
+        self.reverse_table = _Table(speeds, [float(x) for x in self.reverse_total])
+        self.friction_table = _Table(*runway.braking_friction)
+        self.friction_weight = aircraft.braked_weight_fraction
 
     def evaluate(self, t: np.ndarray, v: np.ndarray, reverse_on: bool) -> tuple[np.ndarray, ...]:
-        """(forward, reverse, drag, rolling, gravity, brakes, brake limit) [N]."""
+        """(forward, reverse, drag, rolling, gravity, brakes, brake limit) [N] on arrays of time [s] and speed [m/s]."""
         a = self.aircraft
         air = v + self.headwind
         drag = 0.5 * self.density * air * np.abs(air) * a.drag_area
@@ -172,7 +178,7 @@ class _Forces:
         rolling = self.runway.rolling_friction * normal
         gravity = np.full(np.shape(v), self.weight_along)
         forward = np.full(np.shape(v), self.forward)
-        if reverse_on and self.reverse_total.size and np.any(self.reverse_total > 0):
+        if reverse_on and self.has_reverse:
             reverse = np.interp(np.abs(air), self.reverse_speeds, self.reverse_total)
         else:
             reverse = np.zeros(np.shape(v))
@@ -186,13 +192,59 @@ class _Forces:
             brakes = np.clip(need, 0.0, limit)
         return forward, reverse, drag, rolling, gravity, brakes, limit
 
-    def rates(self, t: float, y: np.ndarray, reverse_on: bool) -> np.ndarray:
-        v = y[0]
-        forward, reverse, drag, rolling, gravity, brakes, _ = self.evaluate(np.asarray(t), np.asarray(v), reverse_on)
+    def at(self, t: float, v: float, reverse_on: bool) -> tuple[float, float, float, float, float, float]:
+        """(forward, reverse, drag, rolling, gravity, brakes) [N] at one time [s] and speed [m/s].
+
+        The arithmetic of :meth:`evaluate` in the same order on plain floats, so each force
+        is the same double as there, at a fraction of the cost of numpy calls on scalars.
+        """
+        a = self.aircraft
+        air = v + self.headwind
+        drag = self.half_density * air * abs(air) * a.drag_area
+        lift_area = a.lift_area if t < a.spoiler_time else a.lift_area_dumped
+        normal = max(self.weight_normal - self.half_density * (air * air) * lift_area, 0.0)
+        rolling = self.runway.rolling_friction * normal
+        reverse = self.reverse_table(abs(air)) if reverse_on and self.has_reverse else 0.0
+        if self.target == "none":
+            return self.forward, reverse, drag, rolling, self.weight_along, 0.0
+        limit = self.friction_table(v) * self.friction_weight * normal
+        if self.target == "maximum":
+            return self.forward, reverse, drag, rolling, self.weight_along, limit
+        need = self.mass * self.target - (reverse + drag + rolling + self.weight_along - self.forward)
+        return self.forward, reverse, drag, rolling, self.weight_along, min(max(need, 0.0), limit)
+
+    def acceleration(self, t: float, v: float, reverse_on: bool) -> float:
+        """dV/dt [m/s^2] at one time [s] and speed [m/s]."""
+        forward, reverse, drag, rolling, gravity, brakes = self.at(t, v, reverse_on)
+        return (forward - reverse - drag - rolling - gravity - brakes) / self.mass
+
+    def rates(self, t: float, y: np.ndarray, reverse_on: bool) -> list[float]:
+        """Right-hand side of the 8 states (speed, distance, six work integrals) for the solver."""
+        v = float(y[0])
+        forward, reverse, drag, rolling, gravity, brakes = self.at(t, v, reverse_on)
         accel = (forward - reverse - drag - rolling - gravity - brakes) / self.mass
-        return np.array(
-            [accel, v, brakes * v, reverse * v, drag * v, rolling * v, gravity * v, forward * v], dtype=float
-        )
+        return [accel, v, brakes * v, reverse * v, drag * v, rolling * v, gravity * v, forward * v]
+
+
+class _Table:
+    """Linear interpolation in a table of one float, held beyond the ends: what ``np.interp`` gives."""
+
+    def __init__(self, xs: Any, fs: Any):
+        self.xs, self.fs = [float(x) for x in xs], [float(f) for f in fs]
+        self.slopes = [(f1 - f0) / (x1 - x0) for x0, x1, f0, f1 in zip(self.xs, self.xs[1:], self.fs, self.fs[1:])]
+
+    def __call__(self, x: float) -> float:
+        xs = self.xs
+        if not xs:
+            return 0.0
+        if x >= xs[-1]:
+            return self.fs[-1]
+        j = bisect_right(xs, x) - 1
+        if j < 0:
+            return self.fs[0]
+        if xs[j] == x:
+            return self.fs[j]
+        return self.slopes[j] * (x - xs[j]) + self.fs[j]
 
 
 def integrate_ground_roll(
@@ -287,14 +339,14 @@ def _cancel(cancel_ground_speed: float):
 
 def _never_ends(forces: _Forces, reverse_on: bool):
     def event(t: float, y: np.ndarray, reverse_on: bool) -> float:
-        return forces.rates(t, y, reverse_on)[0] + 1e-9
+        return forces.acceleration(t, float(y[0]), reverse_on) + 1e-9
 
     event.terminal, event.direction = True, 1
     return event
 
 
 def _check_moving(forces: _Forces, t: float, y: np.ndarray, reverse_on: bool) -> None:
-    if forces.rates(t, y, reverse_on)[0] >= -1e-9:
+    if forces.acceleration(t, float(y[0]), reverse_on) >= -1e-9:
         _raise_never_ends(forces, t, y, reverse_on)
 
 
@@ -450,8 +502,9 @@ def accelerate(aircraft: Aircraft, runway: Runway, conditions: Conditions, to_sp
     forces = _Forces(aircraft, runway, conditions, "none", aircraft.takeoff_thrust)
     before_dump = -1.0  # any time before the spoilers deploy
 
-    def rates(t: float, y: np.ndarray) -> np.ndarray:
-        return forces.rates(before_dump, y, False)[:2]
+    def rates(t: float, y: np.ndarray) -> list[float]:
+        v = float(y[0])
+        return [forces.acceleration(before_dump, v, False), v]
 
     def reached(t: float, y: np.ndarray) -> float:
         return y[0] - v1
