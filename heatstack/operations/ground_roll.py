@@ -418,9 +418,10 @@ def _result(
     forces: _Forces, pieces: list, t_stop: float, y_end: np.ndarray, v0: float, kinetic: float, stop_speed: float
 ) -> StopResult:
     aircraft = forces.aircraft
-    dense = np.concatenate([np.linspace(0.0, t_stop, _CHECK_SAMPLES + 1), *(p[0].ts for p in pieces)])
-    t_check, y_check, flags_check = _sample(pieces, np.unique(dense), 0.0)
-    _check_target(forces, t_check, np.maximum(y_check[0], 0.0), flags_check)
+    if isinstance(forces.target, float):
+        dense = np.concatenate([np.linspace(0.0, t_stop, _CHECK_SAMPLES + 1), *(p[0].ts for p in pieces)])
+        t_check, y_check, flags_check = _sample(pieces, np.unique(dense), 0.0)
+        _check_target(forces, t_check, np.maximum(y_check[0], 0.0), flags_check)
     width = min(_RAMP, 0.25 * t_stop / _KNOTS)
     t, y, reverse_flags = _sample(pieces, np.linspace(0.0, t_stop, _KNOTS + 1), width)
     v = np.maximum(y[0], 0.0)
