@@ -28,7 +28,6 @@ ISO 2533:1975, Standard Atmosphere (density, through :mod:`.atmosphere`).
 """
 
 import math
-from bisect import bisect_right
 from dataclasses import dataclass
 from typing import Any
 
@@ -38,7 +37,7 @@ from scipy.integrate import solve_ivp
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from . import atmosphere
-from .roll_inputs import Aircraft, Conditions, Runway, deceleration_target, non_negative
+from .roll_inputs import Aircraft, Conditions, Runway, SpeedTable, deceleration_target, non_negative
 from .speed_trace import read_speed_trace
 
 __all__ = [
@@ -165,8 +164,8 @@ class _Forces:
         self.reverse_speeds = np.asarray(speeds)
         self.reverse_total = aircraft.reversers * np.asarray(thrust)
         self.has_reverse = bool(self.reverse_total.size and np.any(self.reverse_total > 0))
-        self.reverse_table = _Table(speeds, [float(x) for x in self.reverse_total])
-        self.friction_table = _Table(*runway.braking_friction)
+        self.reverse_table = SpeedTable(speeds, [float(x) for x in self.reverse_total])
+        self.friction_table = SpeedTable(*runway.braking_friction)
         self.friction_weight = aircraft.braked_weight_fraction
 
     def evaluate(self, t: np.ndarray, v: np.ndarray, reverse_on: bool) -> tuple[np.ndarray, ...]:
@@ -226,28 +225,6 @@ class _Forces:
         forward, reverse, drag, rolling, gravity, brakes = self.at(v, reverse_on, lift_area)
         accel = (forward - reverse - drag - rolling - gravity - brakes) / self.mass
         return [accel, v, brakes * v, reverse * v, drag * v, rolling * v, gravity * v, forward * v]
-
-
-class _Table:
-    """Linear interpolation in a table of one float, held beyond the ends: what ``np.interp`` gives."""
-
-    def __init__(self, xs: Any, fs: Any):
-        self.xs, self.fs = [float(x) for x in xs], [float(f) for f in fs]
-        xs, fs = self.xs, self.fs
-        self.slopes = [(fs[j + 1] - fs[j]) / (xs[j + 1] - xs[j]) for j in range(len(xs) - 1)]
-
-    def __call__(self, x: float) -> float:
-        xs = self.xs
-        if not xs:
-            return 0.0
-        if x >= xs[-1]:
-            return self.fs[-1]
-        j = bisect_right(xs, x) - 1
-        if j < 0:
-            return self.fs[0]
-        if xs[j] == x:
-            return self.fs[j]
-        return self.slopes[j] * (x - xs[j]) + self.fs[j]
 
 
 def integrate_ground_roll(
