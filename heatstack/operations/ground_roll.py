@@ -37,7 +37,7 @@ from scipy.integrate import solve_ivp
 from ..errors import InputError
 from ..numerics.schedule import PowerHistory
 from . import atmosphere
-from .roll_inputs import Aircraft, Conditions, Runway, deceleration_target, non_negative
+from .roll_inputs import Aircraft, Conditions, Runway, SpeedTable, deceleration_target, non_negative
 from .speed_trace import read_speed_trace
 
 __all__ = [
@@ -54,6 +54,7 @@ _MAX_TIME = 3600.0  # a ground roll longer than this is taken as never ending [s
 _KNOTS = 100  # uniform intervals of the power history over a stop (each knot is a solver breakpoint)
 _CHECK_SAMPLES = 2000  # samples on which a target deceleration is checked against friction
 _RAMP = 1e-3  # width of the ramp replacing a step of the forces in the power history [s]
+_MERGE = 1e-9  # share of the stop's duration within which a grid time merges into a piece end [-]
 _KT = 1852.0 / 3600.0
 
 
@@ -148,22 +149,27 @@ class StopResult:
 
 
 class _Forces:
-    """The forces of the equation of motion, vectorised over samples."""
+    """The forces of the equation of motion: vectorised over samples, or on plain floats for the solver."""
 
     def __init__(self, aircraft: Aircraft, runway: Runway, conditions: Conditions, braking: Any, forward: float):
-        self.aircraft, self.runway, self.forward = aircraft, runway, forward
+        self.aircraft, self.runway, self.forward = aircraft, runway, float(forward)
         self.mass = aircraft.mass
         weight = aircraft.mass * atmosphere.G0
         theta = math.atan(runway.slope)
         self.weight_normal, self.weight_along = weight * math.cos(theta), weight * math.sin(theta)
         self.density, self.headwind = conditions.density, conditions.headwind
+        self.half_density = 0.5 * self.density
         self.target = deceleration_target(braking)
         speeds, thrust = aircraft.reverse_thrust
         self.reverse_speeds = np.asarray(speeds)
         self.reverse_total = aircraft.reversers * np.asarray(thrust)
+        self.has_reverse = bool(self.reverse_total.size and np.any(self.reverse_total > 0))
+        self.reverse_table = SpeedTable(speeds, [float(x) for x in self.reverse_total])
+        self.friction_table = SpeedTable(*runway.braking_friction)
+        self.friction_weight = aircraft.braked_weight_fraction
 
     def evaluate(self, t: np.ndarray, v: np.ndarray, reverse_on: bool) -> tuple[np.ndarray, ...]:
-        """(forward, reverse, drag, rolling, gravity, brakes, brake limit) [N]."""
+        """(forward, reverse, drag, rolling, gravity, brakes, brake limit) [N] on arrays of time [s] and speed [m/s]."""
         a = self.aircraft
         air = v + self.headwind
         drag = 0.5 * self.density * air * np.abs(air) * a.drag_area
@@ -172,7 +178,7 @@ class _Forces:
         rolling = self.runway.rolling_friction * normal
         gravity = np.full(np.shape(v), self.weight_along)
         forward = np.full(np.shape(v), self.forward)
-        if reverse_on and self.reverse_total.size and np.any(self.reverse_total > 0):
+        if reverse_on and self.has_reverse:
             reverse = np.interp(np.abs(air), self.reverse_speeds, self.reverse_total)
         else:
             reverse = np.zeros(np.shape(v))
@@ -186,13 +192,39 @@ class _Forces:
             brakes = np.clip(need, 0.0, limit)
         return forward, reverse, drag, rolling, gravity, brakes, limit
 
-    def rates(self, t: float, y: np.ndarray, reverse_on: bool) -> np.ndarray:
-        v = y[0]
-        forward, reverse, drag, rolling, gravity, brakes, _ = self.evaluate(np.asarray(t), np.asarray(v), reverse_on)
+    def at(self, v: float, reverse_on: bool, lift_area: float) -> tuple[float, float, float, float, float, float]:
+        """(forward, reverse, drag, rolling, gravity, brakes) [N] at one speed [m/s] and lift area [m^2].
+
+        The arithmetic of :meth:`evaluate` in the same order on plain floats, so each force
+        is the same double as there, at a fraction of the cost of numpy calls on scalars.
+        The lift area is the integrated piece's (before or after lift dumping), so no
+        stage of a step that ends at the spoiler time sees the step of the lift.
+        """
+        a = self.aircraft
+        air = v + self.headwind
+        drag = self.half_density * air * abs(air) * a.drag_area
+        normal = max(self.weight_normal - self.half_density * (air * air) * lift_area, 0.0)
+        rolling = self.runway.rolling_friction * normal
+        reverse = self.reverse_table(abs(air)) if reverse_on and self.has_reverse else 0.0
+        if self.target == "none":
+            return self.forward, reverse, drag, rolling, self.weight_along, 0.0
+        limit = self.friction_table(v) * self.friction_weight * normal
+        if self.target == "maximum":
+            return self.forward, reverse, drag, rolling, self.weight_along, limit
+        need = self.mass * self.target - (reverse + drag + rolling + self.weight_along - self.forward)
+        return self.forward, reverse, drag, rolling, self.weight_along, min(max(need, 0.0), limit)
+
+    def acceleration(self, v: float, reverse_on: bool, lift_area: float) -> float:
+        """dV/dt [m/s^2] at one speed [m/s] and lift area [m^2]."""
+        forward, reverse, drag, rolling, gravity, brakes = self.at(v, reverse_on, lift_area)
+        return (forward - reverse - drag - rolling - gravity - brakes) / self.mass
+
+    def rates(self, t: float, y: np.ndarray, reverse_on: bool, lift_area: float) -> list[float]:
+        """Right-hand side of the 8 states (speed, distance, six work integrals) for the solver."""
+        v = float(y[0])
+        forward, reverse, drag, rolling, gravity, brakes = self.at(v, reverse_on, lift_area)
         accel = (forward - reverse - drag - rolling - gravity - brakes) / self.mass
-        return np.array(
-            [accel, v, brakes * v, reverse * v, drag * v, rolling * v, gravity * v, forward * v], dtype=float
-        )
+        return [accel, v, brakes * v, reverse * v, drag * v, rolling * v, gravity * v, forward * v]
 
 
 def integrate_ground_roll(
@@ -241,15 +273,19 @@ def integrate_ground_roll(
     reverse_on = bool(aircraft.reversers) and v0 > aircraft.reverse_cancel_speed - conditions.headwind
     t, y = 0.0, np.array([v0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0])
     pieces: list[tuple[Any, bool, float, float]] = []
-    _check_moving(forces, t, y, reverse_on)
     while True:
-        t_end = aircraft.spoiler_time if t < aircraft.spoiler_time else _MAX_TIME
-        events = [_stopped(stop_speed), _never_ends(forces, reverse_on)]
+        before_dump = t < aircraft.spoiler_time
+        t_end, lift_area = (
+            (aircraft.spoiler_time, aircraft.lift_area) if before_dump else (_MAX_TIME, aircraft.lift_area_dumped)
+        )
+        if not pieces:
+            _check_moving(forces, y, reverse_on, lift_area)
+        events = [_stopped(stop_speed), _never_ends(forces)]
         if reverse_on:
             events.append(_cancel(aircraft.reverse_cancel_speed - conditions.headwind))
         solution = solve_ivp(
             forces.rates, (t, t_end), y, method="DOP853", rtol=_RTOL, atol=_RTOL * scale,
-            dense_output=True, events=events, args=(reverse_on,),
+            dense_output=True, events=events, args=(reverse_on, lift_area),
         )  # fmt: skip
         if solution.status < 0:
             raise InputError(f"ground roll: the integration failed at {solution.t[-1]:.4g} s ({solution.message})")
@@ -270,7 +306,7 @@ def integrate_ground_roll(
 
 
 def _stopped(stop_speed: float):
-    def event(t: float, y: np.ndarray, reverse_on: bool) -> float:
+    def event(t: float, y: np.ndarray, reverse_on: bool, lift_area: float) -> float:
         return y[0] - stop_speed
 
     event.terminal, event.direction = True, -1
@@ -278,24 +314,24 @@ def _stopped(stop_speed: float):
 
 
 def _cancel(cancel_ground_speed: float):
-    def event(t: float, y: np.ndarray, reverse_on: bool) -> float:
+    def event(t: float, y: np.ndarray, reverse_on: bool, lift_area: float) -> float:
         return y[0] - cancel_ground_speed
 
     event.terminal, event.direction = True, -1
     return event
 
 
-def _never_ends(forces: _Forces, reverse_on: bool):
-    def event(t: float, y: np.ndarray, reverse_on: bool) -> float:
-        return forces.rates(t, y, reverse_on)[0] + 1e-9
+def _never_ends(forces: _Forces):
+    def event(t: float, y: np.ndarray, reverse_on: bool, lift_area: float) -> float:
+        return forces.acceleration(float(y[0]), reverse_on, lift_area) + 1e-9
 
     event.terminal, event.direction = True, 1
     return event
 
 
-def _check_moving(forces: _Forces, t: float, y: np.ndarray, reverse_on: bool) -> None:
-    if forces.rates(t, y, reverse_on)[0] >= -1e-9:
-        _raise_never_ends(forces, t, y, reverse_on)
+def _check_moving(forces: _Forces, y: np.ndarray, reverse_on: bool, lift_area: float) -> None:
+    if forces.acceleration(float(y[0]), reverse_on, lift_area) >= -1e-9:
+        _raise_never_ends(forces, 0.0, y, reverse_on)
 
 
 def _raise_never_ends(forces: _Forces, t: float, y: np.ndarray, reverse_on: bool) -> None:
@@ -311,12 +347,16 @@ def _sample(pieces: list, grid: np.ndarray, width: float) -> tuple[np.ndarray, n
 
     A piece that is followed by another also gets a sample ``width`` before its end, so
     a step of the forces there (lift dumping, reverse cancelled) becomes a short ramp.
+    A grid time within :data:`_MERGE` of the stop's duration of a piece's end sample is
+    left out: two samples a few rounding errors apart would make an interval of no width.
     """
     times, states, flags = [], [], []
+    tiny = _MERGE * pieces[-1][3]
     for k, (sol, reverse_on, t0, t1) in enumerate(pieces):
         last = k == len(pieces) - 1
         inside = grid[(grid >= t0) & ((grid <= t1) if last else (grid < t1 - width))]
         ends = [t0, t1] if last else [t0, max(t1 - width, t0 + 0.5 * (t1 - t0))]
+        inside = inside[(np.abs(inside - ends[0]) > tiny) & (np.abs(inside - ends[1]) > tiny)]
         local = np.unique(np.concatenate((inside, ends)))
         times.append(local)
         states.append(sol(local))
@@ -355,9 +395,10 @@ def _result(
     forces: _Forces, pieces: list, t_stop: float, y_end: np.ndarray, v0: float, kinetic: float, stop_speed: float
 ) -> StopResult:
     aircraft = forces.aircraft
-    dense = np.concatenate([np.linspace(0.0, t_stop, _CHECK_SAMPLES + 1), *(p[0].ts for p in pieces)])
-    t_check, y_check, flags_check = _sample(pieces, np.unique(dense), 0.0)
-    _check_target(forces, t_check, np.maximum(y_check[0], 0.0), flags_check)
+    if isinstance(forces.target, float):
+        dense = np.concatenate([np.linspace(0.0, t_stop, _CHECK_SAMPLES + 1), *(p[0].ts for p in pieces)])
+        t_check, y_check, flags_check = _sample(pieces, np.unique(dense), 0.0)
+        _check_target(forces, t_check, np.maximum(y_check[0], 0.0), flags_check)
     width = min(_RAMP, 0.25 * t_stop / _KNOTS)
     t, y, reverse_flags = _sample(pieces, np.linspace(0.0, t_stop, _KNOTS + 1), width)
     v = np.maximum(y[0], 0.0)
@@ -448,10 +489,10 @@ def accelerate(aircraft: Aircraft, runway: Runway, conditions: Conditions, to_sp
     """
     v1 = non_negative(to_speed, "speed", "reject_speed", positive=True)
     forces = _Forces(aircraft, runway, conditions, "none", aircraft.takeoff_thrust)
-    before_dump = -1.0  # any time before the spoilers deploy
 
-    def rates(t: float, y: np.ndarray) -> np.ndarray:
-        return forces.rates(before_dump, y, False)[:2]
+    def rates(t: float, y: np.ndarray) -> list[float]:
+        v = float(y[0])
+        return [forces.acceleration(v, False, aircraft.lift_area), v]
 
     def reached(t: float, y: np.ndarray) -> float:
         return y[0] - v1

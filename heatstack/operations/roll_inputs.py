@@ -7,6 +7,7 @@ key (``aircraft.mass``, ``runway.braking_friction``, ...). Used by :mod:`.ground
 
 from __future__ import annotations
 
+from bisect import bisect_right
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -30,6 +31,7 @@ __all__ = [
     "Aircraft",
     "Runway",
     "Conditions",
+    "SpeedTable",
     "brake_on_ground_speed",
     "deceleration_target",
     "non_negative",
@@ -102,6 +104,40 @@ def _table(rows: Any, dimension: str, field: str, speed_field: str) -> tuple[tup
     if any(b <= a for a, b in zip(speeds, speeds[1:], strict=False)):
         raise InputError(f"{field}: the speeds must increase strictly, got {speeds} m/s")
     return tuple(speeds), tuple(values)
+
+
+class SpeedTable:
+    """A table over speed interpolated at one plain float: exactly what ``np.interp`` gives.
+
+    Linear between the speeds, held beyond the ends (0 for an empty table), without the
+    cost of a numpy call on a scalar; for a right-hand side evaluated thousands of times.
+
+    Parameters
+    ----------
+    speeds : sequence of float
+        Strictly increasing speeds [m/s].
+    values : sequence of float
+        Values at the speeds (SI).
+    """
+
+    def __init__(self, speeds: Sequence[float], values: Sequence[float]):
+        self.speeds, self.values = [float(x) for x in speeds], [float(f) for f in values]
+        xs, fs = self.speeds, self.values
+        self.slopes = [(fs[j + 1] - fs[j]) / (xs[j + 1] - xs[j]) for j in range(len(xs) - 1)]
+
+    def __call__(self, speed: float) -> float:
+        """The value at ``speed`` [m/s] (SI)."""
+        xs = self.speeds
+        if not xs:
+            return 0.0
+        if speed >= xs[-1]:
+            return self.values[-1]
+        j = bisect_right(xs, speed) - 1
+        if j < 0:
+            return self.values[0]
+        if xs[j] == speed:
+            return self.values[j]
+        return self.slopes[j] * (speed - xs[j]) + self.values[j]
 
 
 @dataclass(frozen=True)

@@ -150,3 +150,12 @@ def test_no_reverse_thrust_below_the_cancel_speed() -> None:
     assert slow.accounts.reverse_thrust == 0.0
     fast = integrate_ground_roll(aircraft(), DRY, Conditions(), 70 * KT, "medium")
     assert fast.accounts.reverse_thrust > 0.0
+
+
+def test_reverse_cancel_on_a_power_history_knot() -> None:
+    # At a constant 2 m/s^2 from 125 kt the 60 kt cancel falls on knot 52 of the 100 uniform
+    # intervals (to rounding): the power history keeps one sample there and its energy.
+    roll = integrate_ground_roll(aircraft(), DRY, Conditions(), 125 * KT, "medium")
+    steps = np.diff(roll.brake_power.times)
+    assert np.all(steps > 1e-9 * roll.stopping_time)
+    assert roll.brake_power.total_energy == pytest.approx(roll.accounts.brakes, rel=1e-9)
