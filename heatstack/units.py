@@ -10,6 +10,7 @@ once through :mod:`heatstack.unit_declarations`.
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 import numpy as np
@@ -182,6 +183,16 @@ def quantity(
     InputError
         (or ``error``) if the value is not a number, not one value, not finite or out of range.
     """
+    if unit is None and type(value) in (float, int) and dimension in SI_UNITS and abs(value) < 1e300:
+        # the common case (a bare SI number, e.g. from a study's overrides): plain float
+        # checks; any value they refuse takes the full path below for its message
+        number = float(value)
+        if (
+            math.isfinite(number)
+            and (minimum is None or (number > minimum if exclusive_minimum else number >= minimum))
+            and (maximum is None or number <= maximum)
+        ):
+            return number
     values = _convert(value, unit, dimension, field, allow_nonfinite)
     if values.ndim != 0:
         raise InputError(f"{field}: expected one value, got {_shown(values)}")

@@ -249,7 +249,38 @@ class Boundaries:
                 eps[faces] = material.emissivity(surface_t[faces])
         return eps
 
-    def faces(self, phase: Phase, time: float, surface_t: np.ndarray, conductivity: np.ndarray) -> FaceExchange:
+    def emissivities(self, surfaces: SurfaceTemperatures) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Emissivity [-] of every exposed face and of both sides of every gap pair, in one pass.
+
+        Parameters
+        ----------
+        surfaces : SurfaceTemperatures
+            Exposed-face and gap-side temperatures [K].
+
+        Returns
+        -------
+        faces, gap_a, gap_b : ndarray
+            Emissivities [-] at those temperatures.
+        """
+        nf, nq = surfaces.face.size, surfaces.gap_a.size
+        every = np.concatenate((surfaces.face, surfaces.gap_a, surfaces.gap_b))
+        eps = self.net.tables.emissivity(self.net.tables.emissivity_surfaces, every)
+        if eps is None:  # a surface outside its table: each table's range policy applies
+            return (
+                self.emissivity(self.net.tables.emissivity_faces, self.face_blocks, surfaces.face),
+                self.emissivity(self.net.tables.emissivity_gap_a, self.gap_blocks_a, surfaces.gap_a),
+                self.emissivity(self.net.tables.emissivity_gap_b, self.gap_blocks_b, surfaces.gap_b),
+            )
+        return eps[:nf], eps[nf : nf + nq], eps[nf + nq :]
+
+    def faces(
+        self,
+        phase: Phase,
+        time: float,
+        surface_t: np.ndarray,
+        conductivity: np.ndarray,
+        emissivity: np.ndarray | None = None,
+    ) -> FaceExchange:
         """Convection and linearised radiation of every exposed face at ``surface_t``.
 
         Parameters
@@ -262,6 +293,8 @@ class Boundaries:
             Exposed-face temperatures of the iterate [K].
         conductivity : ndarray, shape (2 n,)
             Cell conductivities [W/(m K)], radial for all cells then axial.
+        emissivity : ndarray, shape (f,), optional
+            The faces' emissivities at ``surface_t`` [-], if already known (:meth:`emissivities`).
 
         Returns
         -------
@@ -278,7 +311,9 @@ class Boundaries:
         h_conv = env.convection(surface_t, time)
         # grey radiation linearised on its tangent at the iterate's surface temperature:
         # q = eps sigma (Ts^4 - Tsur^4) ~ h_rad (T - t_rad) with h_rad = 4 eps sigma Ts^3
-        eps = env.radiates * self.emissivity(net.tables.emissivity_faces, self.face_blocks, surface_t)
+        if emissivity is None:
+            emissivity = self.emissivity(net.tables.emissivity_faces, self.face_blocks, surface_t)
+        eps = env.radiates * emissivity
         h_rad = 4.0 * eps * STEFAN_BOLTZMANN * surface_t**3
         q_rad = eps * STEFAN_BOLTZMANN * (surface_t**4 - env.surroundings**4)
         t_rad = surface_t - q_rad / np.where(h_rad > 0, h_rad, 1.0)
@@ -297,7 +332,13 @@ class Boundaries:
             ambient=env.ambient,
         )
 
-    def gaps(self, ts_a: np.ndarray, ts_b: np.ndarray, conductivity: np.ndarray) -> GapExchange:
+    def gaps(
+        self,
+        ts_a: np.ndarray,
+        ts_b: np.ndarray,
+        conductivity: np.ndarray,
+        emissivity: tuple[np.ndarray, np.ndarray] | None = None,
+    ) -> GapExchange:
         """Grey radiation across every gap pair with surface temperatures ``ts_a``, ``ts_b``.
 
         Parameters
@@ -306,6 +347,8 @@ class Boundaries:
             Temperatures of the side-a and side-b faces [K].
         conductivity : ndarray, shape (2 n,)
             Cell conductivities [W/(m K)], radial for all cells then axial.
+        emissivity : tuple of ndarray, optional
+            The emissivities of sides a and b at ``ts_a``, ``ts_b`` [-], if already known.
 
         Returns
         -------
@@ -313,8 +356,12 @@ class Boundaries:
             Conductance of each pair [W/K] and the half-cell resistances of its sides [K/W].
         """
         net = self.net
-        eps_a = self.emissivity(net.tables.emissivity_gap_a, self.gap_blocks_a, ts_a)
-        eps_b = self.emissivity(net.tables.emissivity_gap_b, self.gap_blocks_b, ts_b)
+        if emissivity is None:
+            emissivity = (
+                self.emissivity(net.tables.emissivity_gap_a, self.gap_blocks_a, ts_a),
+                self.emissivity(net.tables.emissivity_gap_b, self.gap_blocks_b, ts_b),
+            )
+        eps_a, eps_b = emissivity
         exchange = 1.0 / (1.0 / eps_a + net.gap_area_ratio * (1.0 / eps_b - 1.0))
         hA = STEFAN_BOLTZMANN * net.gap_area_a * exchange * (ts_a**2 + ts_b**2) * (ts_a + ts_b)
         r_a = net.gap_ga / conductivity[self.gap_a_conductivity]

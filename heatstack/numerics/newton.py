@@ -67,16 +67,31 @@ class NewtonStep:
     network : Network
     schedule : Schedule
     tolerance : float
-        Newton stops when the estimated remaining temperature error is below this [K].
+        Newton stops when the estimated remaining temperature error is below this [K]
+        (in a cell at ambient; see ``relative``).
+    relative : float
+        Growth of a cell's tolerance with its rise above ambient [1/K]: the cell's tolerance
+        is ``tolerance (1 + relative |T_n - T_ambient|)``, with ``T_n`` its temperature at
+        the step's start. 0 (the default) for one absolute tolerance.
     max_iterations : int
         Newton iterations before the step fails.
     stats : dict
         Run statistics, counted in place (iterations, factorisations, largest finish adjustment).
     """
 
-    def __init__(self, network: Network, schedule: Schedule, *, tolerance: float, max_iterations: int, stats: dict):
+    def __init__(
+        self,
+        network: Network,
+        schedule: Schedule,
+        *,
+        tolerance: float,
+        max_iterations: int,
+        stats: dict,
+        relative: float = 0.0,
+    ):
         self.net, self.schedule = network, schedule
         self.tolerance, self.max_iterations, self.stats = tolerance, max_iterations, stats
+        self.relative = relative
         self.system = StepMatrix(network)
         self.boundaries = Boundaries(network)
         self.sources = HeatSources(network, schedule)
@@ -178,6 +193,7 @@ class NewtonStep:
             ``max_iterations``.
         """
         frame = self.frame(t0, dt, H_n, last)
+        weight = self.weights(frame, T_n)
         T = guess.copy()
         previous_change = None
         surfaces = surfaces.moved(self.net, guess - T_n)
@@ -203,6 +219,8 @@ class NewtonStep:
             correction = self.lu.solve(-residual)
             T_star = T + correction
             change = np.abs(correction)
+            if weight is not None:
+                change *= weight
             largest = float(change.max()) if change.size else 0.0
             if not np.isfinite(largest):  # max propagates NaN and inf
                 bad = int(np.flatnonzero(~np.isfinite(T_star))[0])
@@ -210,10 +228,11 @@ class NewtonStep:
             self.stats["iterations"] += 1
             if self.converged(largest, previous_change):
                 T_new, H_new = self.conservative_update(T_star, frame, system)
-                adjustment = float(np.max(np.abs(T_new - T_star))) if T_new.size else 0.0
+                moved = np.abs(T_new - T_star)
+                adjustment = float(np.max(moved if weight is None else moved * weight)) if T_new.size else 0.0
                 if adjustment <= max(10.0 * self.tolerance, 1e-6):
-                    self.stats["largest_finish_adjustment"] = max(
-                        self.stats.get("largest_finish_adjustment", 0.0), adjustment
+                    self.stats["largest_finish_adjustment"] = max(  # in kelvin, unweighted
+                        self.stats.get("largest_finish_adjustment", 0.0), float(moved.max(initial=0.0))
                     )
                     return self.finish(frame, system, T_star, T_new, H_new, iteration)
                 # the fluxes at T_star do not yet balance the cells: iterate on from the
@@ -230,8 +249,32 @@ class NewtonStep:
             previous_change = largest
         cell = int(np.argmax(change))
         raise StepFailed(
-            f"Newton did not converge in {self.max_iterations} iterations (last update {largest:.3g} K)", cell
+            f"Newton did not converge in {self.max_iterations} iterations "
+            f"(last update {abs(float(correction[cell])):.3g} K)",
+            cell,
         )
+
+    def weights(self, frame: StepFrame, T_n: np.ndarray) -> np.ndarray | None:
+        """Each cell's absolute tolerance over its own, ``1 / (1 + relative |T_n - T_ambient|)``.
+
+        Parameters
+        ----------
+        frame : StepFrame
+            The step's fixed data (its phase gives the ambient temperature).
+        T_n : ndarray, shape (n,)
+            Cell temperatures at the step's start [K].
+
+        Returns
+        -------
+        ndarray or None
+            The weights [-] by which corrections are multiplied before the convergence test;
+            None for one absolute tolerance.
+        """
+        if self.relative <= 0.0:
+            return None
+        ambient = self.boundaries.surroundings(frame.phase).ambient
+        reference = float(np.mean(ambient)) if ambient.size else float(np.min(T_n, initial=0.0))
+        return 1.0 / (1.0 + self.relative * np.abs(T_n - reference))
 
     def start_rate(
         self, t0: float, dt: float, T_n: np.ndarray, H_n: np.ndarray, surfaces: SurfaceTemperatures
@@ -299,8 +342,9 @@ class NewtonStep:
         net, n = self.net, self.net.n_cells
         try:
             properties = cell_properties(net, T)
-            faces = self.boundaries.faces(frame.phase, frame.time, surfaces.face, properties.conductivity)
-            gaps = self.boundaries.gaps(surfaces.gap_a, surfaces.gap_b, properties.conductivity)
+            eps_faces, eps_a, eps_b = self.boundaries.emissivities(surfaces)
+            faces = self.boundaries.faces(frame.phase, frame.time, surfaces.face, properties.conductivity, eps_faces)
+            gaps = self.boundaries.gaps(surfaces.gap_a, surfaces.gap_b, properties.conductivity, (eps_a, eps_b))
         except PropertyRangeError as exc:
             raise StepFailed(str(exc), out_of_range_cell(net, T), at_guess=iteration == 0) from None
         G = self.system.link_conductances(properties.conductivity, frame.contact)

@@ -50,9 +50,9 @@ class SolverOptions:
     fixed_step : float, optional
         Use this step [s] throughout (still landing on every breakpoint), no error control.
     tolerance : float, optional
-        Newton stops when the estimated remaining temperature error is below this [K];
-        by default a tenth of the absolute local-error tolerance for the BDF2 scheme under
-        error control, 1e-3 K otherwise.
+        Newton stops when the estimated remaining temperature error is below this [K] in
+        every cell; by default, for the BDF2 scheme under error control, a share of each
+        cell's local-error tolerance (0.03 of ``atol + rtol |T - T_ambient|``), 1e-3 K otherwise.
     max_iterations : int
         Newton iterations before the step is cut.
     max_step_cuts : int

@@ -34,7 +34,7 @@ from .predictor import Extrapolator
 from .recording import Recorder
 from .schedule import Schedule
 from .step_matrix import cell_enthalpy, cell_properties
-from .stepping import MAX_STEP_RATIO, StepControl, newton_tolerance
+from .stepping import MAX_STEP_RATIO, StepControl, newton_relative, newton_tolerance
 
 __all__ = ["integrate", "Integrator", "initial_field", "landing_times", "CORNER_FRACTION"]
 
@@ -115,6 +115,7 @@ class Integrator:
             network,
             schedule,
             tolerance=newton_tolerance(options),
+            relative=newton_relative(options),
             max_iterations=options.max_iterations,
             stats=self.stats,
         )

@@ -1,9 +1,9 @@
 """Merged tables for the solver's hot loop: one interpolation per quantity per iteration.
 
 Every piecewise-polynomial table the Newton iteration reads — each material's
-conductivities, heat capacity and enthalpy, the inverse of its enthalpy, its
-emissivity, and each surface group's tabulated convection coefficient — is laid end
-to end with the others of its kind on one shifted axis (:class:`MergedPieces`), and
+conductivities, heat capacity and enthalpy, the inverse of its enthalpy and its
+emissivity — is laid end to end with the others of its kind on one shifted axis
+(:class:`MergedPieces`), and
 every cell or face knows its table's shift and pieces (:class:`PieceLookup`). One
 interval search over the merged knots then evaluates all materials or all groups in
 a single pass, with no Python loop over materials or groups; the values are those of
@@ -14,9 +14,11 @@ table's range policy (:class:`CellTables` returns None for them).
 A cooling law that does not depend on time (``time_dependent = False``) is evaluated on
 a uniform grid of surface temperatures once and interpolated linearly afterwards
 (:class:`TabulatedLaw`). The table covers only the temperatures met so far and grows (by
-whole blocks) when a surface leaves it, so a correlation is never evaluated far outside
-the range a run uses. :class:`MergedConvection` interpolates every tabulated group of a
-phase at once and calls the time-dependent laws on their own faces.
+whole blocks of 100 K, evaluating only the new points) when a surface leaves it, so a
+correlation is never evaluated more than a block outside the range a run uses.
+:class:`MergedConvection` interpolates every tabulated group of a phase at once, finding
+each face's interval on the uniform grid by arithmetic rather than by a search, and calls
+the time-dependent laws on their own faces.
 """
 
 from __future__ import annotations
@@ -43,7 +45,7 @@ __all__ = [
 
 #: Spacing of the surface-temperature grid [K].
 SPACING = 2.0
-_BLOCK = 50.0  # the table grows in blocks of this width [K]
+_BLOCK = 100.0  # the table grows in blocks of this width [K] (so at most this far past a surface)
 
 
 @dataclass(frozen=True, eq=False)
@@ -196,15 +198,19 @@ class PieceLookup:
         offset : ndarray, shape (n,)
             ``x`` minus the piece's left knot.
         """
+        # ndarray methods and ufuncs rather than the numpy functions: this runs several
+        # times per Newton iteration on arrays small enough for call overhead to count
         pieces = self.pieces
         if self._common[2] and x.size:  # one table: no shift, scalar bounds
             shift = self.shift[0]
-            k = np.searchsorted(pieces.shifted, x + shift if shift else x, side="right") - 1
-            np.clip(k, self.first[0], self.last[0], out=k)
+            k = pieces.shifted.searchsorted(x + shift if shift else x, side="right")
+            k -= 1
+            np.minimum(np.maximum(k, self.first[0], out=k), self.last[0], out=k)
         else:
-            k = np.searchsorted(pieces.shifted, x + self.shift, side="right") - 1
-            np.clip(k, self.first, self.last, out=k)
-        return np.take(pieces.coefficients, k, axis=1), x - np.take(pieces.knots, k)
+            k = pieces.shifted.searchsorted(x + self.shift, side="right")
+            k -= 1
+            np.minimum(np.maximum(k, self.first, out=k), self.last, out=k)
+        return pieces.coefficients.take(k, axis=1), x - pieces.knots.take(k)
 
 
 @dataclass(frozen=True, eq=False)
@@ -229,6 +235,8 @@ class CellTables:
         Per cell, the temperature range of its specific-heat table [K].
     emissivity_faces, emissivity_gap_a, emissivity_gap_b : PieceLookup
         Emissivity (value and slope) per exposed face and per gap side.
+    emissivity_surfaces : PieceLookup
+        The same for all of them at once, in that order (faces, gap sides a, gap sides b).
     """
 
     properties: PieceLookup
@@ -242,6 +250,7 @@ class CellTables:
     emissivity_faces: PieceLookup
     emissivity_gap_a: PieceLookup
     emissivity_gap_b: PieceLookup
+    emissivity_surfaces: PieceLookup
 
     @classmethod
     def of(
@@ -299,6 +308,7 @@ class CellTables:
             emissivity_faces=emissivity.lookup(cell_material[face_cell], low, high),
             emissivity_gap_a=emissivity.lookup(cell_material[gap_a], low, high),
             emissivity_gap_b=emissivity.lookup(cell_material[gap_b], low, high),
+            emissivity_surfaces=emissivity.lookup(cell_material[np.concatenate((face_cell, gap_a, gap_b))], low, high),
         )
 
     def thermal_properties(self, T: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
@@ -343,11 +353,13 @@ class CellTables:
         if not np.all((H >= self.enthalpy_low) & (H <= self.enthalpy_high)):
             return None
         lookup = self.inverse
-        energy = np.clip(H / self.density + self.reference_energy, lookup.low, lookup.high)
+        energy = H / self.density + self.reference_energy
+        np.minimum(np.maximum(energy, lookup.low, out=energy), lookup.high, out=energy)
         a, r = lookup.locate(energy)
         b = a[0]
         root = np.sqrt(np.maximum(b * b + 2.0 * a[1] * r, 0.0))
-        return np.clip(a[2] + 2.0 * r / (b + root), self.temperature_low, self.temperature_high)
+        T = a[2] + 2.0 * r / (b + root)
+        return np.minimum(np.maximum(T, self.temperature_low, out=T), self.temperature_high, out=T)
 
     def emissivity(self, lookup: PieceLookup, surface_t: np.ndarray) -> np.ndarray | None:
         """Emissivity [-] of each surface of ``lookup`` at ``surface_t`` [K], or None if a
@@ -378,6 +390,17 @@ class TabulatedLaw:
     ----------
     law : BoundaryLaw
         A law whose coefficient does not depend on time.
+
+    Attributes
+    ----------
+    temperature : ndarray
+        The tabulated surface temperatures [K], :data:`SPACING` apart.
+    h : ndarray
+        The coefficient at each [W/(m^2 K)].
+    slope : ndarray
+        The slope of the interval that starts at each temperature [W/(m^2 K^2)] (0 at the last).
+    low, high : float
+        The first and last tabulated temperature [K].
     """
 
     def __init__(self, law: BoundaryLaw):
@@ -386,6 +409,7 @@ class TabulatedLaw:
         self.high = -np.inf
         self.temperature = np.zeros(0)
         self.h = np.zeros(0)
+        self.slope = np.zeros(0)
 
     def cover(self, low: float, high: float, time: float) -> None:
         """Grow the table (by whole blocks) to cover ``low``..``high`` [K].
@@ -403,9 +427,22 @@ class TabulatedLaw:
         high = max(self.high, np.ceil(high / _BLOCK) * _BLOCK)
         low = max(low, SPACING)
         high = max(high, low + _BLOCK)
-        grid = np.arange(low, high + 0.5 * SPACING, SPACING)
-        self.h = np.asarray(self.law.convection_coefficient(grid, time), dtype=float)
-        self.temperature, self.low, self.high = grid, low, grid[-1]
+        if self.temperature.size == 0:
+            grid = np.arange(low, high + 0.5 * SPACING, SPACING)
+            self.h = np.asarray(self.law.convection_coefficient(grid, time), dtype=float)
+            self.temperature, self.low, self.high = grid, low, grid[-1]
+            self.slope = np.append(np.diff(self.h) / SPACING, 0.0)
+            return
+        # only the new blocks are evaluated: the points already tabulated keep their values
+        # (the law is pointwise in the surface temperature, so the table is the same)
+        below = self.low - SPACING * np.arange(round((self.low - low) / SPACING), 0, -1)
+        above = self.high + SPACING * np.arange(1, round((high - self.high) / SPACING) + 1)
+        new = np.concatenate((below, above))
+        h_new = np.asarray(self.law.convection_coefficient(new, time), dtype=float)
+        self.temperature = np.concatenate((below, self.temperature, above))
+        self.h = np.concatenate((h_new[: below.size], self.h, h_new[below.size :]))
+        self.low, self.high = float(self.temperature[0]), float(self.temperature[-1])
+        self.slope = np.append(np.diff(self.h) / SPACING, 0.0)
 
     def __call__(self, surface_temperature: np.ndarray, time: float) -> np.ndarray:
         """Coefficient [W/(m^2 K)] at each surface temperature [K]."""
@@ -440,8 +477,11 @@ def evaluator(law: BoundaryLaw):
 class MergedConvection:
     """The convection coefficient of every exposed face of one phase, in one pass.
 
-    The tables of the tabulated laws are merged and interpolated together (linear, as
-    :class:`TabulatedLaw`); a law that depends on time is called on its own faces.
+    The tables of the tabulated laws share one uniform spacing (:data:`SPACING`), so a
+    face's interval is found by arithmetic, ``i = floor((T - T_low) / SPACING)`` in its
+    own table, with no search; the tables' values and slopes lie end to end in two flat
+    arrays, and every tabulated face is interpolated linearly (as :class:`TabulatedLaw`)
+    in a handful of array operations. A law that depends on time is called on its own faces.
 
     Parameters
     ----------
@@ -464,19 +504,30 @@ class MergedConvection:
         table_of_group = np.full(len(evaluators), -1)
         table_of_group[tabulated] = np.arange(len(tabulated))
         self.face_table = table_of_group[face_group[self.tabulated_faces]]
-        self.lookup: PieceLookup | None = None
+        self.table_faces = [np.flatnonzero(self.face_table == t) for t in range(len(self.tables))]
+        self.merged = False
 
     def _merge(self) -> None:
-        knots = [t.temperature for t in self.tables]
-        merged = merge_pieces(knots, [np.array([t.h[:-1], np.diff(t.h) / np.diff(t.temperature)]) for t in self.tables])
-        self.lookup = merged.lookup(self.face_table, [k[0] for k in knots], [k[-1] for k in knots])
+        """Lay the tables' values and slopes end to end; each face's table start, lowest
+        temperature [K] and last interval."""
+        sizes = np.array([t.temperature.size for t in self.tables])
+        start = np.concatenate(([0], np.cumsum(sizes)[:-1]))
+        self.values = np.concatenate([t.h for t in self.tables])
+        # the slope of the interval that starts at each point (zero at a table's last point)
+        self.slopes = np.concatenate([t.slope for t in self.tables])
+        face = self.face_table
+        self.face_start = start[face]
+        self.face_low = np.array([t.low for t in self.tables])[face]
+        self.face_last = (sizes - 2)[face]  # the last interval of the face's table
+        self.face_high = np.array([t.high for t in self.tables])[face]
+        self.merged = True
 
     def _cover(self, surface_t: np.ndarray, time: float) -> None:
         """Grow the tables to the surface temperatures of their faces and merge them again."""
-        for index, table in enumerate(self.tables):
-            faces = surface_t[self.face_table == index]
+        for table, faces in zip(self.tables, self.table_faces, strict=True):
             if faces.size:
-                table.cover(float(faces.min()), float(faces.max()), time)
+                temperatures = surface_t[faces]
+                table.cover(float(temperatures.min()), float(temperatures.max()), time)
         self._merge()
 
     def __call__(self, surface_t: np.ndarray, time: float) -> np.ndarray:
@@ -494,17 +545,23 @@ class MergedConvection:
     def _tabulated(self, surface_t: np.ndarray, time: float) -> np.ndarray:
         if surface_t.size == 0:
             return np.zeros(0)
-        if self.lookup is None or not self.lookup.inside(surface_t):
+        if not self.merged or not self._inside(surface_t):
             if not np.all(np.isfinite(surface_t)):
                 return self._per_table(surface_t, time)
             self._cover(surface_t, time)
-        a, x = self.lookup.locate(surface_t)
-        return a[0] + a[1] * x
+        interval = np.floor((surface_t - self.face_low) * (1.0 / SPACING))
+        np.minimum(np.maximum(interval, 0.0, out=interval), self.face_last, out=interval)
+        point = self.face_start + interval.astype(np.intp)
+        offset = surface_t - (self.face_low + SPACING * interval)
+        return self.values[point] + self.slopes[point] * offset
+
+    def _inside(self, surface_t: np.ndarray) -> bool:
+        """Whether every face lies within its table (false for NaN)."""
+        return bool(np.all((surface_t >= self.face_low) & (surface_t <= self.face_high)))
 
     def _per_table(self, surface_t: np.ndarray, time: float) -> np.ndarray:
         """Each table's law called directly (for temperatures that are not finite)."""
         h = np.empty(surface_t.size)
-        for index, table in enumerate(self.tables):
-            faces = self.face_table == index
+        for table, faces in zip(self.tables, self.table_faces, strict=True):
             h[faces] = table.law.convection_coefficient(surface_t[faces], time)
         return h
