@@ -272,8 +272,9 @@ class NewtonStep:
         """
         if self.relative <= 0.0:
             return None
-        ambient = self.boundaries.surroundings(frame.phase).ambient
-        reference = float(np.mean(ambient)) if ambient.size else float(np.min(T_n, initial=0.0))
+        reference = self.boundaries.surroundings(frame.phase).mean_ambient
+        if reference is None:
+            reference = float(np.min(T_n, initial=0.0))
         return 1.0 / (1.0 + self.relative * np.abs(T_n - reference))
 
     def start_rate(
@@ -506,7 +507,9 @@ class NewtonStep:
             accounts=accounts,
             friction_energy=frame.friction_energy,
         )
-        ambient = float(np.mean(faces.ambient)) if faces.ambient.size else float(np.min(T_new, initial=0.0))
+        ambient = self.boundaries.surroundings(frame.phase).mean_ambient
+        if ambient is None:
+            ambient = float(np.min(T_new, initial=0.0))
         return StepOutcome(
             temperature=T_new,
             enthalpy=H_new,
