@@ -13,7 +13,7 @@ from .cli_runplan import make_folder
 from .errors import InputError, ResultFileError
 from .report import CAUTION
 
-__all__ = ["EXAMPLES", "demo_case_path", "cmd_materials", "cmd_example"]
+__all__ = ["EXAMPLES", "EXAMPLE_FOLDERS", "demo_case_path", "cmd_materials", "cmd_example"]
 
 
 def _examples_folder() -> Path:
@@ -35,13 +35,28 @@ def demo_case_path() -> Path:
     return _examples_folder() / "demo_rto.toml"
 
 
-#: ``heatstack example NAME``: the files each shipped example copies (a study needs its base case).
+#: ``heatstack example NAME``: the files each shipped example copies (a study or a calibration needs its base case).
 EXAMPLES = {
     "demo": ("demo_rto.toml",),
     "study": ("demo_study.toml", "demo_rto.toml"),
     "api": ("turnaround.py",),
     "day": ("operations.toml", "flights.csv", "demo_rto.toml"),
+    "calibration": (
+        "dyno_campaign.toml",
+        "dyno_brake.toml",
+        "stop1_sensor.csv",
+        "stop1_tc_stator.csv",
+        "stop1_tc_rotor.csv",
+        "stop2_sensor.csv",
+        "stop2_tc_stator.csv",
+        "stop2_tc_rotor.csv",
+        "stop3_sensor.csv",
+        "stop3_tc_stator.csv",
+        "stop3_tc_rotor.csv",
+    ),
 }
+#: The examples whose files sit in a sub-folder of the examples folder (copied flat into the target folder).
+EXAMPLE_FOLDERS = {"calibration": "calibration"}
 
 
 def cmd_materials(args: argparse.Namespace) -> int:
@@ -120,7 +135,7 @@ def cmd_example(args: argparse.Namespace) -> int:
     if args.name not in EXAMPLES:
         raise InputError(f"example {args.name!r} is not one of: {', '.join(EXAMPLES)}")
     folder = make_folder(Path(args.dir), "example folder")
-    source = _examples_folder()
+    source = _examples_folder() / EXAMPLE_FOLDERS.get(args.name, "")
     targets = [(source / name, folder / name) for name in EXAMPLES[args.name]]
     existing = [str(target) for _, target in targets if target.exists()]
     if existing:

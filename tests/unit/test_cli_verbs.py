@@ -83,6 +83,24 @@ def test_example_study_loads_with_its_base_case(tmp_path):
     assert load_study(tmp_path / "demo_study.toml").sampling.cases == 200
 
 
+def test_example_calibration_loads_with_its_base_case_and_traces(tmp_path, capsys):
+    from heatstack.questions.calibration_file import load_calibration
+
+    shipped = Path(__file__).resolve().parents[2] / "examples" / "calibration"
+    assert sorted(EXAMPLES["calibration"]) == sorted(p.name for p in shipped.iterdir())  # every file, none missed
+    assert main(["example", "calibration", str(tmp_path)]) == 0
+    calibration = load_calibration(tmp_path / "dyno_campaign.toml")
+    assert len(calibration.runs) == 3 and len(calibration.parameters) == 4
+    assert all(Path(t.source).parent == tmp_path for r in calibration.runs for t in r.traces)
+    # never overwrites: an edited trace stays as it is and nothing else is copied
+    edited = tmp_path / "stop2_sensor.csv"
+    edited.write_text("my own edits")
+    (tmp_path / "dyno_brake.toml").unlink()
+    assert main(["example", "calibration", str(tmp_path)]) == 2
+    assert "will not overwrite" in capsys.readouterr().err
+    assert edited.read_text() == "my own edits" and not (tmp_path / "dyno_brake.toml").exists()
+
+
 def test_example_never_overwrites(tmp_path, capsys):
     (tmp_path / "demo_rto.toml").write_text("my own edits")
     assert main(["example", "demo", str(tmp_path)]) == 2
