@@ -44,7 +44,7 @@ _EXAMPLES_HELP = {
     "fit": "example: heatstack fit my_case.toml recorded_trace.csv --sensor sensor",
     "study": "example: heatstack study demo_study.toml --workers 2 --report study.md",
     "materials": "example: heatstack materials carbon-carbon",
-    "example": "example: heatstack example study my-study/   (names: demo, study, api, day)",
+    "example": "example: heatstack example study my-study/   (names: demo, study, api, day, calibration)",
     "export": "example: heatstack export results/results.h5 --csv results/csv",
     "calibrate": "example: heatstack calibrate dyno_campaign.toml --out calibrated/",
 }
@@ -186,7 +186,9 @@ def _add_shipped_verbs(verb: Callable[[str, str], argparse.ArgumentParser]) -> N
     materials.add_argument("name", nargs="?", help="show this material's tables and their sources")
     materials.set_defaults(func=cmd_materials)
 
-    example = verb("example", "copy a shipped example (demo, study, api) into a folder, never overwriting")
+    example = verb(
+        "example", "copy a shipped example (demo, study, api, day, calibration) into a folder, never overwriting"
+    )
     example.add_argument("name", help=f"one of: {', '.join(EXAMPLES)}")
     example.add_argument("dir", nargs="?", default=".", help="folder to copy into (default: the current folder)")
     example.set_defaults(func=cmd_example)

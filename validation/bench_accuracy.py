@@ -10,7 +10,7 @@ rejected take-off, 5 min held on the runway, 3 h of parked cooling, 4 mm cells).
 meshed once; every setting below then solves the same model and schedule:
 
 * the DEFAULT solver settings (BDF2 under error control, ``accuracy`` 0.15 K);
-* BDF2 at accuracy 0.1, 0.2, 0.3 and 0.5 K (the calibration of ``accuracy``);
+* BDF2 at accuracy 0.1, 0.2, 0.3, 0.5, 0.75 and 1 K (the calibration of ``accuracy``);
 * backward Euler with its per-step target change of 4 K (``scheme = "euler"``, the old
   default control) for comparison;
 * the converged REFERENCE: BDF2 at accuracy 0.0002 K, 750 times tighter than the default,
@@ -83,6 +83,8 @@ def main() -> int:
         "bdf2, accuracy 0.2 K": SolverOptions(accuracy=0.2, snapshot_times=snapshots),
         "bdf2, accuracy 0.3 K": SolverOptions(accuracy=0.3, snapshot_times=snapshots),
         "bdf2, accuracy 0.5 K": SolverOptions(accuracy=0.5, snapshot_times=snapshots),
+        "bdf2, accuracy 0.75 K": SolverOptions(accuracy=0.75, snapshot_times=snapshots),
+        "bdf2, accuracy 1 K": SolverOptions(accuracy=1.0, snapshot_times=snapshots),
         "euler, target change 4 K": SolverOptions(scheme="euler", target_change=4.0, snapshot_times=snapshots),
     }
     reference_options = SolverOptions(accuracy=0.0002, snapshot_times=snapshots)

@@ -46,12 +46,16 @@ class PhaseSurroundings:
         Radiation surroundings temperature [K] of every face.
     radiates : ndarray
         1 where the face radiates in this phase, else 0.
+    mean_ambient : float or None
+        The faces' mean ambient temperature [K] (the reference of the tolerances on the
+        rise above ambient); None without exposed faces.
     """
 
     convection: MergedConvection
     ambient: np.ndarray
     surroundings: np.ndarray
     radiates: np.ndarray
+    mean_ambient: float | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -210,6 +214,7 @@ class Boundaries:
             ambient=ambient,
             surroundings=surroundings,
             radiates=radiates,
+            mean_ambient=float(ambient.mean()) if nf else None,
         )
         self._phase_cache = (phase, arrays)
         return arrays

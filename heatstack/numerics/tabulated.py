@@ -181,7 +181,7 @@ class PieceLookup:
         low, high, _ = self._common
         if x.min() >= low and x.max() <= high:  # the usual case, in two reductions
             return True
-        return bool(np.all((x >= self.low) & (x <= self.high)))
+        return bool(((x >= self.low) & (x <= self.high)).all())
 
     def locate(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """The coefficients (r, n) of each item's piece at ``x`` and the offset ``x - knot``.
@@ -350,7 +350,7 @@ class CellTables:
         ndarray or None
             Cell temperatures [K], or None when a cell is outside its table.
         """
-        if not np.all((H >= self.enthalpy_low) & (H <= self.enthalpy_high)):
+        if not ((H >= self.enthalpy_low) & (H <= self.enthalpy_high)).all():
             return None
         lookup = self.inverse
         energy = H / self.density + self.reference_energy
@@ -557,7 +557,7 @@ class MergedConvection:
 
     def _inside(self, surface_t: np.ndarray) -> bool:
         """Whether every face lies within its table (false for NaN)."""
-        return bool(np.all((surface_t >= self.face_low) & (surface_t <= self.face_high)))
+        return bool(((surface_t >= self.face_low) & (surface_t <= self.face_high)).all())
 
     def _per_table(self, surface_t: np.ndarray, time: float) -> np.ndarray:
         """Each table's law called directly (for temperatures that are not finite)."""

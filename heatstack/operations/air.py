@@ -301,9 +301,9 @@ def air_properties(temperature: float | np.ndarray, pressure: float = 101325.0, 
     """
     t = np.asarray(temperature, dtype=float)
     if clamp:
-        if np.any(~np.isfinite(t)):
+        if not np.isfinite(t).all():
             raise InputError("air temperature: non-finite value")
-        if np.any(t < T_MIN) or np.any(t > T_MAX):
+        if (t < T_MIN).any() or (t > T_MAX).any():
             warnings.warn(_CLAMP_MESSAGE, HeatstackWarning, stacklevel=3)
             t = np.clip(t, T_MIN, T_MAX)
     else:

@@ -290,7 +290,9 @@ def answer_table(answers: CalibrationAnswers) -> tuple[list[str], list[list[str]
     for name, value, low, high in zip(answers.names, answers.at_fit, answers.lower_95, answers.upper_95, strict=True):
         unit, scale, offset = _answer_unit(name)
         interval = "-"
-        if not np.isnan(low):
+        if np.isinf(low) and np.isinf(high):  # e.g. a cooling time no draw reaches
+            interval = "not reached in any draw"
+        elif not np.isnan(low):
             interval = f"{_answer_value(low, scale, offset)} to {_answer_value(high, scale, offset)}"
         rows.append([name, _answer_value(value, scale, offset), interval, unit])
     return ["answer", "at fit", "95 % interval", "unit"], rows

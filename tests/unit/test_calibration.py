@@ -40,7 +40,13 @@ from heatstack.questions.calibrated_case import read_calibration_block, toml_tex
 from heatstack.questions.calibration import CalibrationFit, fit_calibration
 from heatstack.questions.calibration_file import load_calibration
 from heatstack.questions.calibration_records import FitParameter
-from heatstack.questions.calibration_report import answer_table, runs_test, trace_table, uncertainty_statement
+from heatstack.questions.calibration_report import (
+    CalibrationAnswers,
+    answer_table,
+    runs_test,
+    trace_table,
+    uncertainty_statement,
+)
 from heatstack.questions.calibration_runs import Evaluator
 from heatstack.questions.identifiability import DETERMINED_RELATIVE_SD, identifiability
 from heatstack.report import CAUTION
@@ -117,6 +123,19 @@ def test_html_report_is_self_contained_with_the_key_numbers(recovered, tmp_path)
     for name, at_fit, interval, _ in answer_table(run.answers)[1]:
         assert f'<td class="text">{name}</td><td class="number">{at_fit}</td>' in page
         assert interval in page
+
+
+def test_answer_table_says_a_cooling_time_no_draw_reaches():
+    answers = CalibrationAnswers(
+        ("cooling_time", "peak:sensor"),
+        np.array([np.inf, 400.0]),
+        np.array([np.inf, 399.0]),
+        np.array([np.inf, 401.5]),
+        16,
+    )
+    rows = answer_table(answers)[1]
+    assert rows[0][1:3] == ["not reached in the run", "not reached in any draw"]
+    assert rows[1][2] == "125.9 to 128.4"
 
 
 def test_toml_writer_round_trips_the_base_case():
