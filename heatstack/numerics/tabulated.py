@@ -505,6 +505,11 @@ class MergedConvection:
         table_of_group[tabulated] = np.arange(len(tabulated))
         self.face_table = table_of_group[face_group[self.tabulated_faces]]
         self.table_faces = [np.flatnonzero(self.face_table == t) for t in range(len(self.tables))]
+        # the faces grouped table by table, for every table's lowest and highest surface in one pass
+        self.by_table = np.concatenate(self.table_faces) if self.table_faces else np.zeros(0, dtype=np.intp)
+        counts = np.array([faces.size for faces in self.table_faces], dtype=np.intp)
+        self.table_first = np.concatenate(([0], np.cumsum(counts)[:-1])).astype(np.intp)
+        self.has_faces = counts > 0
         self.merged = False
 
     def _merge(self) -> None:
@@ -524,10 +529,13 @@ class MergedConvection:
 
     def _cover(self, surface_t: np.ndarray, time: float) -> None:
         """Grow the tables to the surface temperatures of their faces and merge them again."""
-        for table, faces in zip(self.tables, self.table_faces, strict=True):
-            if faces.size:
-                temperatures = surface_t[faces]
-                table.cover(float(temperatures.min()), float(temperatures.max()), time)
+        if self.by_table.size:
+            grouped = surface_t[self.by_table]
+            first = self.table_first[self.has_faces]
+            lows, highs = np.minimum.reduceat(grouped, first), np.maximum.reduceat(grouped, first)
+            tables = [t for t, has in zip(self.tables, self.has_faces, strict=True) if has]
+            for table, low, high in zip(tables, lows.tolist(), highs.tolist(), strict=True):
+                table.cover(low, high, time)
         self._merge()
 
     def __call__(self, surface_t: np.ndarray, time: float) -> np.ndarray:
