@@ -4,7 +4,7 @@ Not a test (``validation/`` is outside the pytest ``testpaths``); run by hand fr
 repository root::
 
     PYTHONPATH=. python validation/bench_rare.py                    # 1e-4 estimate + 1e-2 cross-check
-    PYTHONPATH=. python validation/bench_rare.py --mc-cases 2000    # the cross-check's plain Monte Carlo size
+    PYTHONPATH=. python validation/bench_rare.py --mc-cases 500     # a smaller plain Monte Carlo for the check (2000 by default)
     PYTHONPATH=. python validation/bench_rare.py --no-check         # the 1e-4 estimate alone
 
 The study is an INVENTED variant of the demonstration study (no real fleet data): the
@@ -134,7 +134,7 @@ def main() -> None:
     """Run the benchmark (see the module notes)."""
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--samples", type=int, default=2000, help="importance samples (default 2000)")
-    parser.add_argument("--mc-cases", type=int, default=500, help="plain full-run Monte Carlo cases of the check")
+    parser.add_argument("--mc-cases", type=int, default=2000, help="plain full-run Monte Carlo cases of the check")
     parser.add_argument("--workers", type=int, default=2)
     parser.add_argument("--no-check", action="store_true", help="skip the 1e-2 cross-check")
     parser.add_argument("--keep", help="keep the stores in this folder (a rerun resumes them)")
