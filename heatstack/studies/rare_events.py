@@ -11,8 +11,12 @@ independent inputs, [1]_ sec. 7). In that space:
   SLSQP on ``min |u|^2 subject to margin(u) = 0``. It is meant for a cheap margin (the
   reduced model).
 * :func:`importance_sampling` draws from the defensive mixture
-  ``q(u) = a phi(u) + (1 - a) phi(u - u*)`` (Hesterberg [3]_: the share ``a`` at the
-  input distribution bounds every weight ``phi/q`` by ``1/a``) and estimates
+  ``q(u) = a phi(u) + (1 - a)/K sum_k phi(u - u*_k)`` about one or more design points
+  (Hesterberg [3]_: the share ``a`` at the input distribution bounds every weight
+  ``phi/q`` by ``1/a``; one component per design point when the event is the union of
+  several limits, such as any of two fuse plugs releasing, whose regions lie in different
+  directions: a mixture about only the nearest leaves the others to the defensive share,
+  and its estimate and interval then fall short, [1]_ sec. 3.5) and estimates
   ``p = E_q[1{margin <= 0} phi(u)/q(u)]`` by the sample mean, with the interval of the
   central limit theorem ``p_hat +- z s / sqrt(n)`` ([4]_ ch. 9; ``s`` the sample standard
   deviation of the weighted indicators). With no sample in the event the estimate is 0
@@ -100,6 +104,9 @@ class RareEventEstimate:
         The margin of each sample [K].
     weights : ndarray, shape (samples,)
         Likelihood ratio of each sample (1 for Monte Carlo) [-].
+    design_points : int
+        Components of the importance-sampling mixture about a design point (0 for Monte
+        Carlo); ``design_point`` is the nearest of them.
     """
 
     method: str
@@ -115,6 +122,7 @@ class RareEventEstimate:
     rows: np.ndarray
     margins: np.ndarray
     weights: np.ndarray
+    design_points: int = 0
 
     def contains(self, probability: float) -> bool:
         """Whether ``probability`` lies inside the interval (bounds included).
@@ -147,6 +155,8 @@ class RareEventEstimate:
         )
         if self.design_point is not None:
             text += f", design point at {self.reliability_index:.2f} standard deviations"
+            if self.design_points > 1:
+                text += f" (the nearest of {self.design_points}, one mixture component about each)"
         return text
 
 
@@ -296,7 +306,7 @@ def importance_sampling(
     confidence: float = 0.95,
     defensive: float = 0.1,
 ) -> RareEventEstimate:
-    """Probability of ``margin <= 0`` by importance sampling from a defensive mixture about ``u_star``.
+    """Probability of ``margin <= 0`` by importance sampling from a defensive mixture about design point(s).
 
     Parameters
     ----------
@@ -305,8 +315,9 @@ def importance_sampling(
         (the function a release decision rests on: full runs near the limit).
     marginals : sequence of scipy frozen distributions
         Each parameter's distribution [SI].
-    u_star : ndarray, shape (d,)
-        The shift (design point) in standard normal space [-].
+    u_star : ndarray, shape (d,) or (K, d)
+        The shift (design point) in standard normal space [-], or one per row for a
+        mixture with one component about each (each shifted sample picks one at random).
     samples : int
         Number of samples.
     seed : int, optional
@@ -330,12 +341,21 @@ def importance_sampling(
     _check_counts(samples, confidence)
     if not 0.0 < defensive < 1.0:
         raise InputError(f"rare event: defensive must lie strictly between 0 and 1, got {defensive!r}")
-    u_star = np.asarray(u_star, dtype=float).reshape(-1)
+    points = np.atleast_2d(np.asarray(u_star, dtype=float))
+    if points.shape[1] != len(marginals) or points.shape[0] == 0:
+        raise InputError(f"rare event: design points of shape {points.shape} for {len(marginals)} parameters")
     rng = np.random.default_rng([seed, 104729])
     shifted = rng.random(samples) >= defensive
-    u = rng.standard_normal((samples, len(marginals))) + np.where(shifted[:, None], u_star, 0.0)
-    log_ratio = u @ u_star - 0.5 * float(u_star @ u_star)  # log phi(u - u*) / phi(u)
-    weights = 1.0 / (defensive + (1.0 - defensive) * np.exp(np.minimum(log_ratio, 700.0)))
+    u = rng.standard_normal((samples, len(marginals)))
+    if len(points) == 1:  # the draws of a single design point, as before
+        u += np.where(shifted[:, None], points[0], 0.0)
+    else:
+        component = rng.integers(len(points), size=samples)
+        u += np.where(shifted[:, None], points[component], 0.0)
+    # log phi(u - u*_k) / phi(u) per component; the mixture's density ratio q / phi
+    log_ratio = u @ points.T - 0.5 * np.einsum("kd,kd->k", points, points)
+    ratio = np.exp(np.minimum(log_ratio, 700.0)).mean(axis=1)
+    weights = 1.0 / (defensive + (1.0 - defensive) * ratio)
     rows = from_standard_normal(marginals, u)
     margins = np.asarray(margin(rows), dtype=float).reshape(samples)
     _warn_failed(margins)
@@ -352,8 +372,9 @@ def importance_sampling(
         error = float(terms.std(ddof=1)) / math.sqrt(samples)
         interval = (max(0.0, estimate - z * error), min(1.0, estimate + z * error))
         source, cov = "central limit theorem", error / estimate
-    beta = float(np.linalg.norm(u_star))
-    point = from_standard_normal(marginals, u_star[None, :])[0]
+    nearest = points[int(np.argmin(np.linalg.norm(points, axis=1)))]
+    beta = float(np.linalg.norm(nearest))
+    point = from_standard_normal(marginals, nearest[None, :])[0]
     return RareEventEstimate(
         "importance_sampling",
         estimate,
@@ -368,6 +389,7 @@ def importance_sampling(
         rows,
         margins,
         weights,
+        len(points),
     )
 
 

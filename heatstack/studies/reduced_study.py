@@ -53,6 +53,7 @@ __all__ = [
     "ReducedStudyRun",
     "run_reduced_study",
     "estimate_rare_event",
+    "design_points",
     "role_plan",
     "event_margins",
     "reduced_model_lines",
@@ -351,10 +352,50 @@ def estimate_rare_event(
 
     if settings.method == "monte_carlo":
         return monte_carlo(confirmed, marginals, settings.samples, seed, settings.confidence)
-    u_star, _ = find_design_point(predicted, marginals, seed)
+    points = design_points(surface, columns, marginals, seed)
+    if points is None:
+        find_design_point(predicted, marginals, seed)  # raises: no point of the event
     return importance_sampling(
-        confirmed, marginals, u_star, settings.samples, seed, settings.confidence, settings.defensive
+        confirmed, marginals, points, settings.samples, seed, settings.confidence, settings.defensive
     )
+
+
+def design_points(surface, columns: Sequence[int], marginals: Sequence, seed: int = 0) -> np.ndarray | None:
+    """One design point per margin of the event, on the reduced model, those closer than 0.5 apart merged.
+
+    The event "any of these margins <= 0" is the union of one limit per margin (each fuse
+    plug, each limit); their design points lie in different directions of standard normal
+    space, and the importance-sampling mixture places a component about each.
+
+    Parameters
+    ----------
+    surface : ResponseSurface
+        The reduced model's surface (``predict(x)`` gives every output per row).
+    columns : sequence of int
+        The surface outputs that are the event's margins [K].
+    marginals : sequence of scipy frozen distributions
+        Each parameter's distribution [SI].
+    seed : int, optional
+        Seed of the design-point searches.
+
+    Returns
+    -------
+    ndarray, shape (K, d), or None
+        The design points [-], nearest first; None if no margin reaches zero within about
+        7 standard deviations.
+    """
+    found = []
+    for column in columns:
+        try:
+            point, beta = find_design_point(lambda x, c=column: surface.predict(x)[:, c], marginals, seed)
+        except InputError:  # this margin cannot be crossed: no component for it
+            continue
+        found.append((beta, point))
+    kept: list[np.ndarray] = []
+    for _, point in sorted(found, key=lambda item: item[0]):
+        if all(np.linalg.norm(point - other) > 0.5 for other in kept):
+            kept.append(point)
+    return np.array(kept) if kept else None
 
 
 def run_reduced_study(
