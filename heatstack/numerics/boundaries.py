@@ -284,7 +284,7 @@ class Boundaries:
         time: float,
         surface_t: np.ndarray,
         conductivity: np.ndarray,
-        emissivity: np.ndarray | None = None,
+        emissivity: np.ndarray,
     ) -> FaceExchange:
         """Convection and linearised radiation of every exposed face at ``surface_t``.
 
@@ -298,8 +298,8 @@ class Boundaries:
             Exposed-face temperatures of the iterate [K].
         conductivity : ndarray, shape (2 n,)
             Cell conductivities [W/(m K)], radial for all cells then axial.
-        emissivity : ndarray, shape (f,), optional
-            The faces' emissivities at ``surface_t`` [-], if already known (:meth:`emissivities`).
+        emissivity : ndarray, shape (f,)
+            The faces' emissivities at ``surface_t`` [-] (:meth:`emissivities`).
 
         Returns
         -------
@@ -316,8 +316,6 @@ class Boundaries:
         h_conv = env.convection(surface_t, time)
         # grey radiation linearised on its tangent at the iterate's surface temperature:
         # q = eps sigma (Ts^4 - Tsur^4) ~ h_rad (T - t_rad) with h_rad = 4 eps sigma Ts^3
-        if emissivity is None:
-            emissivity = self.emissivity(net.tables.emissivity_faces, self.face_blocks, surface_t)
         eps = env.radiates * emissivity
         h_rad = 4.0 * eps * STEFAN_BOLTZMANN * surface_t**3
         q_rad = eps * STEFAN_BOLTZMANN * (surface_t**4 - env.surroundings**4)
@@ -342,7 +340,7 @@ class Boundaries:
         ts_a: np.ndarray,
         ts_b: np.ndarray,
         conductivity: np.ndarray,
-        emissivity: tuple[np.ndarray, np.ndarray] | None = None,
+        emissivity: tuple[np.ndarray, np.ndarray],
     ) -> GapExchange:
         """Grey radiation across every gap pair with surface temperatures ``ts_a``, ``ts_b``.
 
@@ -352,8 +350,8 @@ class Boundaries:
             Temperatures of the side-a and side-b faces [K].
         conductivity : ndarray, shape (2 n,)
             Cell conductivities [W/(m K)], radial for all cells then axial.
-        emissivity : tuple of ndarray, optional
-            The emissivities of sides a and b at ``ts_a``, ``ts_b`` [-], if already known.
+        emissivity : tuple of ndarray
+            The emissivities of sides a and b at ``ts_a``, ``ts_b`` [-] (:meth:`emissivities`).
 
         Returns
         -------
@@ -361,11 +359,6 @@ class Boundaries:
             Conductance of each pair [W/K] and the half-cell resistances of its sides [K/W].
         """
         net = self.net
-        if emissivity is None:
-            emissivity = (
-                self.emissivity(net.tables.emissivity_gap_a, self.gap_blocks_a, ts_a),
-                self.emissivity(net.tables.emissivity_gap_b, self.gap_blocks_b, ts_b),
-            )
         eps_a, eps_b = emissivity
         exchange = 1.0 / (1.0 / eps_a + net.gap_area_ratio * (1.0 / eps_b - 1.0))
         hA = STEFAN_BOLTZMANN * net.gap_area_a * exchange * (ts_a**2 + ts_b**2) * (ts_a + ts_b)

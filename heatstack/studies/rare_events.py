@@ -347,11 +347,8 @@ def importance_sampling(
     rng = np.random.default_rng([seed, 104729])
     shifted = rng.random(samples) >= defensive
     u = rng.standard_normal((samples, len(marginals)))
-    if len(points) == 1:  # the draws of a single design point, as before
-        u += np.where(shifted[:, None], points[0], 0.0)
-    else:
-        component = rng.integers(len(points), size=samples)
-        u += np.where(shifted[:, None], points[component], 0.0)
+    component = rng.integers(len(points), size=samples)  # drawn after u: one point gives the same u
+    u += np.where(shifted[:, None], points[component], 0.0)
     # log phi(u - u*_k) / phi(u) per component; the mixture's density ratio q / phi
     log_ratio = u @ points.T - 0.5 * np.einsum("kd,kd->k", points, points)
     ratio = np.exp(np.minimum(log_ratio, 700.0)).mean(axis=1)

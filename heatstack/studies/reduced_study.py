@@ -335,9 +335,6 @@ def estimate_rare_event(
     band = model_settings.band(model.check.errors[columns]) if model.usable else np.full(len(columns), np.inf)
     seed = settings.seed if settings.seed is not None else int(seed)
 
-    def predicted(x: np.ndarray) -> np.ndarray:
-        return surface.predict(x)[:, columns].min(axis=1)
-
     def confirmed(x: np.ndarray) -> np.ndarray:
         margins = surface.predict(x)[:, columns]
         # the event is certain when a margin is below -band, its absence when every margin is above +band
@@ -353,14 +350,12 @@ def estimate_rare_event(
     if settings.method == "monte_carlo":
         return monte_carlo(confirmed, marginals, settings.samples, seed, settings.confidence)
     points = design_points(surface, columns, marginals, seed)
-    if points is None:
-        find_design_point(predicted, marginals, seed)  # raises: no point of the event
     return importance_sampling(
         confirmed, marginals, points, settings.samples, seed, settings.confidence, settings.defensive
     )
 
 
-def design_points(surface, columns: Sequence[int], marginals: Sequence, seed: int = 0) -> np.ndarray | None:
+def design_points(surface, columns: Sequence[int], marginals: Sequence, seed: int = 0) -> np.ndarray:
     """One design point per margin of the event, on the reduced model, those closer than 0.5 apart merged.
 
     The event "any of these margins <= 0" is the union of one limit per margin (each fuse
@@ -380,22 +375,29 @@ def design_points(surface, columns: Sequence[int], marginals: Sequence, seed: in
 
     Returns
     -------
-    ndarray, shape (K, d), or None
-        The design points [-], nearest first; None if no margin reaches zero within about
-        7 standard deviations.
+    ndarray, shape (K, d)
+        The design points [-], nearest first.
+
+    Raises
+    ------
+    InputError
+        If no margin reaches zero within about 7 standard deviations.
     """
-    found = []
+    found, refused = [], None
     for column in columns:
         try:
             point, beta = find_design_point(lambda x, c=column: surface.predict(x)[:, c], marginals, seed)
-        except InputError:  # this margin cannot be crossed: no component for it
+        except InputError as exc:  # this margin cannot be crossed: no component for it
+            refused = exc
             continue
         found.append((beta, point))
+    if not found:
+        raise refused if refused is not None else InputError("rare event: the event names no margin")
     kept: list[np.ndarray] = []
     for _, point in sorted(found, key=lambda item: item[0]):
         if all(np.linalg.norm(point - other) > 0.5 for other in kept):
             kept.append(point)
-    return np.array(kept) if kept else None
+    return np.array(kept)
 
 
 def run_reduced_study(
