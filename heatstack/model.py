@@ -20,7 +20,7 @@ from .errors import GeometryError
 from .geometry import HEAT_SINK
 from .materials import Material
 from .numerics.grid import Grid, build_grid
-from .numerics.network import Network, build_network
+from .numerics.network import Network, build_network, with_contacts
 from .numerics.options import SolverOptions
 from .numerics.schedule import Schedule
 from .numerics.solver import integrate
@@ -98,6 +98,28 @@ class Model:
         )
         grid = build_grid(assembly, sizes if pair else sizes[0], min_cells)
         return cls(assembly=assembly, grid=grid, network=build_network(assembly, grid, materials))
+
+    def with_contacts(self, assembly: Assembly) -> Model:
+        """This model with the contact conductances of ``assembly``, re-meshing nothing.
+
+        Parameters
+        ----------
+        assembly : Assembly
+            The meshed assembly with other contact conductances (clamped or released, by
+            part or role pair, or the default), and nothing else changed.
+
+        Returns
+        -------
+        Model
+            A model whose runs equal those of ``Model.build(assembly, ...)`` on the same grid;
+            it shares every array but the contact resistances with this one.
+
+        Raises
+        ------
+        ValueError
+            If ``assembly`` differs from this model's in anything but contact conductances.
+        """
+        return Model(assembly=assembly, grid=self.grid, network=with_contacts(self.network, assembly))
 
     @property
     def n_cells(self) -> int:

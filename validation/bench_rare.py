@@ -4,7 +4,7 @@ Not a test (``validation/`` is outside the pytest ``testpaths``); run by hand fr
 repository root::
 
     PYTHONPATH=. python validation/bench_rare.py                    # 1e-4 estimate + 1e-2 cross-check
-    PYTHONPATH=. python validation/bench_rare.py --mc-cases 500     # a smaller plain Monte Carlo for the check (2000 by default)
+    PYTHONPATH=. python validation/bench_rare.py --mc-cases 500     # a smaller plain Monte Carlo check (2000 default)
     PYTHONPATH=. python validation/bench_rare.py --no-check         # the 1e-4 estimate alone
 
 The study is an INVENTED variant of the demonstration study (no real fleet data): the

@@ -17,7 +17,7 @@ References
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -30,7 +30,7 @@ from .grid import Grid
 from .probe_stencil import ProbeStencils, SideFaces, probe_stencils
 from .tabulated import CellTables
 
-__all__ = ["Network", "build_network", "RADIAL", "AXIAL"]
+__all__ = ["Network", "build_network", "with_contacts", "contact_free", "RADIAL", "AXIAL"]
 
 RADIAL, AXIAL = 0, 1
 _TWO_PI = 2.0 * np.pi
@@ -546,3 +546,54 @@ def _material_blocks(assembly: Assembly, grid: Grid, known: dict[str, Material])
             spans[part.material] = [min(lo, block.start), max(hi, block.stop)]
     ordered = sorted(spans.items(), key=lambda item: item[1][0])
     return tuple((known[name], slice(lo, hi)) for name, (lo, hi) in ordered)
+
+
+def contact_free(assembly: Assembly) -> Assembly:
+    """``assembly`` with every contact conductance blanked: all that its mesh and network depend on but those.
+
+    Parameters
+    ----------
+    assembly : Assembly
+
+    Returns
+    -------
+    Assembly
+        The same parts, probes, groups and contacts (which parts or roles touch), every
+        contact's conductances and the default contact conductance set to None.
+    """
+    contacts = tuple(replace(c, clamped=None, released=None) for c in assembly.contacts)
+    return replace(assembly, contacts=contacts, default_contact_conductance=None)
+
+
+def with_contacts(network: Network, assembly: Assembly) -> Network:
+    """``network`` with the contact resistances of ``assembly``, which differs from its own only in those.
+
+    Only the contact resistances of the conduction links depend on the contact
+    conductances, so a study that varies a conductance re-meshes nothing: the links'
+    resistances are recomputed on the same grid (the declared thermal links after them
+    are kept) and every other array is shared.
+
+    Parameters
+    ----------
+    network : Network
+        A network built by :func:`build_network`.
+    assembly : Assembly
+        The assembly to take the contact conductances from.
+
+    Returns
+    -------
+    Network
+        Equal, array by array, to ``build_network(assembly, network.grid, ...)``.
+
+    Raises
+    ------
+    ValueError
+        If ``assembly`` differs from ``network.assembly`` in anything but contact conductances.
+    """
+    if contact_free(assembly) != contact_free(network.assembly):
+        raise ValueError("the assembly differs in more than its contact conductances: build the network afresh")
+    links = _Builder(assembly, network.grid, {}).links()
+    m = links["link_a"].size
+    clamped, released = network.link_contact_clamped.copy(), network.link_contact_released.copy()
+    clamped[:m], released[:m] = links["link_contact_clamped"], links["link_contact_released"]
+    return replace(network, assembly=assembly, link_contact_clamped=clamped, link_contact_released=released)

@@ -5,11 +5,12 @@ holds, sends the rest to an executor and writes each summary the moment it arriv
 A failing case is recorded with its error text and the study goes on. An interrupted
 study is resumed by calling :func:`run_study` again with the same description and store.
 
-Each worker process keeps a small cache of meshed models keyed by the content of the
-case's ``assembly`` and ``materials`` sections (fuse-plug release temperatures and
-tolerances left out: they do not change the mesh). Cases that vary only the duty, the
-environment, the solver or the fuse-plug ratings reuse one model per worker; cases that
-vary a dimension or a contact conductance build their own.
+Each worker process keeps a small cache of meshed models keyed by the case's built
+assembly with its contact conductances blanked, its cell sizes and its ``materials``
+section. Cases that vary only the duty, the environment, the solver, the fuse-plug
+ratings or a contact conductance reuse one mesh per worker (a new contact conductance
+recomputes only the links' contact resistances, :meth:`heatstack.model.Model.with_contacts`);
+cases that vary a dimension or a material build their own.
 """
 
 from __future__ import annotations
@@ -37,6 +38,7 @@ import numpy as np
 from ..answers.fuse_plugs import assess_fuse_plugs
 from ..case import case_from_mapping, run_case
 from ..errors import HeatstackError, InputError
+from ..numerics.network import contact_free
 from .dask_executor import DaskExecutor
 from .description import Study, StudyPlan, plan_study
 from .executors import LocalExecutor, StudyExecutor
@@ -133,22 +135,23 @@ def clear_model_cache() -> None:
         _MODELS.clear()
 
 
-def _model_key(mapping: Mapping) -> str:
-    assembly = json.loads(json.dumps(mapping.get("assembly", {}), default=str))
-    for plug in assembly.get("fuse_plugs", []) if isinstance(assembly, dict) else []:
-        if isinstance(plug, dict):
-            plug.pop("release_temperature", None)
-            plug.pop("tolerance", None)
-    content = {"assembly": assembly, "materials": mapping.get("materials", {})}
+def _model_key(case: Any, mapping: Mapping) -> str:
+    """What a case's mesh and network depend on, contact conductances aside, as a digest."""
+    content = {
+        "assembly": repr(contact_free(case.assembly)),
+        "cells": [case.cell_size, case.min_cells],
+        "materials": mapping.get("materials", {}),
+    }
     return hashlib.sha256(json.dumps(content, sort_keys=True, default=str).encode("utf-8")).hexdigest()
 
 
 def _model_for(case: Any, mapping: Mapping) -> tuple[Any, bool]:
-    key = _model_key(mapping)
+    key = _model_key(case, mapping)
     with _MODELS_LOCK:
         if key in _MODELS:
             _MODELS.move_to_end(key)
-            return _MODELS[key], True
+            cached = _MODELS[key]
+            return (cached if cached.assembly == case.assembly else cached.with_contacts(case.assembly)), True
     model = case.build_model()
     with _MODELS_LOCK:
         _MODELS[key] = model

@@ -64,3 +64,33 @@ def test_design_rejects_bad_numbers():
         WheelBrakeDesign(rim_thickness=-0.01)
     with pytest.raises(GeometryError, match="unknown field 'rotor_count'"):
         WheelBrakeDesign().with_changes(rotor_count=5)
+
+
+def _arrays(network) -> dict:
+    import numpy as np
+
+    return {k: v for k, v in vars(network).items() if isinstance(v, np.ndarray)}
+
+
+def test_a_model_with_other_contacts_equals_a_fresh_build_array_by_array():
+    import numpy as np
+
+    model = Model.build(build_wheel_brake().assembly, cell_size=0.012)
+    other = build_wheel_brake(WheelBrakeDesign(rotor_stator_clamped=2200.0, tyre_bead_rim=600.0)).assembly
+    fresh = Model.build(other, cell_size=0.012).network
+    reused = model.with_contacts(other).network
+    assert reused.assembly is other
+    changed = 0
+    for name, value in _arrays(fresh).items():
+        assert np.array_equal(getattr(reused, name), value), name
+        changed += not np.array_equal(getattr(model.network, name), value)
+    # the two contact resistance arrays, and nothing else, differ from the first model's
+    assert changed == 2
+    assert reused.link_ga is model.network.link_ga  # shared, not copied
+
+
+def test_other_contacts_refuse_an_assembly_with_another_geometry():
+    model = Model.build(build_wheel_brake().assembly, cell_size=0.012)
+    thicker = build_wheel_brake(WheelBrakeDesign(rotor_thickness=0.03)).assembly
+    with pytest.raises(ValueError, match="more than its contact conductances"):
+        model.with_contacts(thicker)
