@@ -558,7 +558,7 @@ def contact_free(assembly: Assembly) -> Assembly:
     Returns
     -------
     Assembly
-        The same parts, probes, groups and contacts (which parts or roles touch), every
+        The same parts, probes, groups and contacts (which of them touch), every
         contact's conductances and the default contact conductance set to None.
     """
     contacts = tuple(replace(c, clamped=None, released=None) for c in assembly.contacts)
