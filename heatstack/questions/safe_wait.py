@@ -494,11 +494,17 @@ def shortest_safe_wait(
     return _answer(problem, best, every, step)
 
 
+def _shown_margin(margin: float, unit: str) -> str:
+    """A margin in its own unit: kelvin, or bar for a pressure given in pascal."""
+    return f"{margin / 1e5:.2f} bar" if unit == "Pa" else f"{margin:.1f} K"
+
+
 def _answer(problem: WaitProblem, best: WaitSample, samples: list[WaitSample], step: float) -> WaitAnswer:
     at = best if best.result is not None else evaluate_wait(problem, best.wait, keep_result=True)
     wait, governing = at.wait, series_label(at.governing)
     if wait == 0.0:
-        message = f"safe now: the rejected take-off keeps every limit (least margin: {governing}, {at.margin:.1f})"
+        shown = next(_shown_margin(m, unit) for name, m, unit in at.margins if name == at.governing)
+        message = f"safe now: the rejected take-off keeps every limit (least margin: {governing}, {shown})"
     else:
         message = f"wait at least {wait / 60.0:.1f} min (to within {step:g} s): the {governing} limit governs"
     return WaitAnswer(wait, at.governing, at, tuple(samples), step, message)

@@ -220,6 +220,15 @@ def test_a_limit_broken_even_from_ambient_says_so(wait_problem):
         shortest_safe_wait(strict, max_wait="1 h", tolerance="60 s")
 
 
+def test_safe_now_states_the_governing_margin_in_its_own_unit(wait_problem):
+    # the governing margin is compared on a common footing (1 K, 0.1 bar), but shown in its own unit
+    lenient = replace(wait_problem, limits=DispatchLimits(heat_sink_limit=2000.0))
+    answer = shortest_safe_wait(lenient, max_wait="1 h", tolerance="60 s")
+    assert answer.wait == 0.0 and answer.message.startswith("safe now")
+    name, margin, unit = next(m for m in answer.at_wait.margins if m[0] == answer.governing)
+    assert unit == "K" and answer.message.endswith(f", {margin:.1f} K)")
+
+
 def test_a_falling_margin_is_refused_as_not_monotone(wait_answer):
     samples = list(wait_answer.samples)
     flipped = [replace(s, margin=-s.margin) for s in samples]
