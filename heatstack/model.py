@@ -173,7 +173,8 @@ class Model:
         SolverError
             If a step cannot be completed even at the smallest step size; the message
             says when and where.
-        The result's metadata states the heat-sink mass used (``heat_sink_mass_kg``).
+        The result's metadata states the heat-sink mass used (``heat_sink_mass_kg``) and how
+        the run was computed (``numerics``: cells, time-stepping scheme and its control).
         """
         positive = {"minimum": 0.0, "exclusive_minimum": True}
         if isinstance(initial_temperature, Mapping):
@@ -185,7 +186,20 @@ class Model:
             initial_temperature = quantity(initial_temperature, "temperature", "initial_temperature", **positive)
         result = integrate(self.network, schedule, initial_temperature, options, progress)
         result.metadata["heat_sink_mass_kg"] = self.heat_sink_mass
+        result.metadata["numerics"] = _numerics(self.n_cells, options or SolverOptions())
         return result
+
+
+def _numerics(cells: int, options: SolverOptions) -> dict:
+    """How a run was computed: cells and the time stepping's scheme and control (SI, JSON-able)."""
+    fixed = options.fixed_step is not None
+    return {
+        "cells": int(cells),
+        "scheme": options.scheme,
+        "fixed_step_s": options.fixed_step,
+        "accuracy_K": options.accuracy if options.scheme == "bdf2" and not fixed else None,
+        "target_change_K": options.euler_target_change if options.scheme == "euler" and not fixed else None,
+    }
 
 
 def simulate(

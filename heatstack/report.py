@@ -35,6 +35,7 @@ from .report_text import (
     cooling_sentences,
     end_of_braking_sentence,
     energy_sentence,
+    numerics_sentence,
     report_tables,
     sensor_sentences,
     stop_sentences,
@@ -105,9 +106,10 @@ def build_report(
     dict
         ``title``, ``caution``, ``heatstack_version``, ``end_of_braking_s``, ``phases``
         and the sections ``peaks``, ``sensor``, ``fuse_plugs``, ``limits``, ``tyre``,
-        ``cooling``, ``energy`` and ``warnings``. Every key names its unit (``_K``,
-        ``_s``, ``_J``, ``_Pa``, ``_Pa_gauge``); ``temperature_unit`` is the unit the
-        text forms show.
+        ``cooling``, ``energy``, ``numerics`` (how the run was computed; None for a results
+        file written before it was kept) and ``warnings``. Every key names its unit (``_K``,
+        ``_s``, ``_J``, ``_Pa``, ``_Pa_gauge``, ``_m``) or is a count (``_count``);
+        ``temperature_unit`` is the unit the text forms show.
 
     Raises
     ------
@@ -153,7 +155,28 @@ def _sections(result: Result, settings: ReportSettings) -> dict[str, Any]:
         report["cooling"] = _cooling_section(result, settings)
     report["energy"] = _energy_section(result)
     report["stops"] = list(result.metadata.get("stops", []))
+    report["numerics"] = _numerics_section(result)
     return report
+
+
+def _numerics_section(result: Result) -> dict[str, Any] | None:
+    """How the run was computed (cells, cell widths [m], time stepping, steps); None for a results file without it."""
+    numerics = result.metadata.get("numerics")
+    if not numerics:
+        return None
+    dr, dz = np.diff(result.r_edges), np.diff(result.z_edges)
+    stats = result.metadata.get("solver", {})
+    counts = {"steps": "step_count", "rejected_steps": "retried_step_count", "iterations": "newton_iteration_count"}
+    return {
+        "cell_count": int(numerics["cells"]),
+        "scheme": numerics["scheme"],
+        "fixed_step_s": numerics["fixed_step_s"],
+        "accuracy_K": numerics["accuracy_K"],
+        "target_change_K": numerics["target_change_K"],
+        "radial_width_m": [float(dr.min()), float(dr.max())],
+        "axial_width_m": [float(dz.min()), float(dz.max())],
+        **{name: int(stats[key]) for key, name in counts.items() if key in stats},
+    }
 
 
 def _delay(time: float, end_of_braking: float) -> tuple[float | None, bool]:
@@ -388,6 +411,8 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
     if report.get("stops"):
         lines += _heading("The stops: where the kinetic energy went", md) + stop_sentences(report)
     lines += _heading("Energy ledger [MJ]", md) + [energy_sentence(report["energy"])]
+    if report.get("numerics"):
+        lines += _heading("How this was computed", md) + [numerics_sentence(report["numerics"])]
     return "\n".join(lines) + "\n"
 
 

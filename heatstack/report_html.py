@@ -28,6 +28,7 @@ from .report import format_report
 from .report_text import (
     cooling_sentences,
     end_of_braking_sentence,
+    numerics_sentence,
     report_tables,
     sensor_sentences,
     stop_sentences,
@@ -58,6 +59,7 @@ SECTIONS = (
     "cooling",
     "stops",
     "energy",
+    "numerics",
     "figures",
     "case",
     "versions",
@@ -110,6 +112,7 @@ _TITLES = {
     "cooling": "Cooling time",
     "stops": "The stops: where the kinetic energy went",
     "energy": "Energy ledger",
+    "numerics": "How this was computed",
     "figures": "Figures",
     "case": "Case file",
     "versions": "Versions",
@@ -256,6 +259,8 @@ def _section_bodies(report: Mapping[str, Any], figures: Sequence[Path], case_tex
     if report.get("stops"):
         bodies["stops"] = html_paragraphs([t for t in stop_sentences(report) if t])
     bodies["energy"] = _energy_html(report["energy"])
+    if report.get("numerics"):
+        bodies["numerics"] = html_paragraphs([numerics_sentence(report["numerics"])])
     if figures:
         bodies["figures"] = "".join(html_figure(Path(f)) for f in figures)
     if case_text:

@@ -21,6 +21,7 @@ __all__ = [
     "tyre_sentences",
     "cooling_sentences",
     "energy_sentence",
+    "numerics_sentence",
     "stop_sentences",
     "shown_temperature",
     "shown_difference",
@@ -314,6 +315,41 @@ def energy_sentence(e: Mapping[str, Any]) -> str:
         f"radiated {e['radiated_J'] / 1e6:.3f}, stored {e['stored_J'] / 1e6:.3f}; "
         f"closure error {e['relative_closure_error']:.1e} of the input."
     )
+
+
+def numerics_sentence(n: Mapping[str, Any]) -> str:
+    """How the run was computed, in one sentence: the grid, the time stepping and its effort.
+
+    Parameters
+    ----------
+    n : mapping
+        The report's numerics section (cells, cell widths [m], scheme and its control [K or
+        s], steps, retried steps, Newton iterations).
+
+    Returns
+    -------
+    str
+        The sentence.
+    """
+    (r_lo, r_hi), (z_lo, z_hi) = n["radial_width_m"], n["axial_width_m"]
+    grid = (
+        f"{n['cell_count']} cells, {1e3 * r_lo:.2g}-{1e3 * r_hi:.2g} mm wide radially and "
+        f"{1e3 * z_lo:.2g}-{1e3 * z_hi:.2g} mm axially"
+    )
+    if n.get("fixed_step_s") is not None:
+        control = f"{'BDF2' if n['scheme'] == 'bdf2' else 'backward Euler'} at fixed steps of {n['fixed_step_s']:g} s"
+    elif n["scheme"] == "bdf2":
+        control = (
+            f"BDF2 under error control at accuracy {n['accuracy_K']:g} K (peaks within about this of the converged "
+            "answer on this grid; the grid's own error is not in it)"
+        )
+    else:
+        control = f"backward Euler, steps aimed at a change of {n['target_change_K']:g} K"
+    effort = ""
+    if n.get("step_count") is not None:
+        retried, iterations = n.get("retried_step_count", 0), n.get("newton_iteration_count", 0)
+        effort = f"; {n['step_count']} steps ({retried} retried), {iterations} Newton iterations"
+    return f"{grid}; time stepping: {control}{effort}."
 
 
 _STOP_TERMS = (

@@ -190,7 +190,7 @@ def test_a_tyre_without_outer_conductance_gets_the_estimate(demo_run):
 
 def _unnamed_numbers(node, key=""):
     """Keys of numeric leaves that do not name a unit."""
-    units = ("_K", "_s", "_J", "_Pa", "_Pa_gauge", "_W_per_K", "_kg", "_m")
+    units = ("_K", "_s", "_J", "_Pa", "_Pa_gauge", "_W_per_K", "_kg", "_m", "_count")
     if isinstance(node, dict):
         return [bad for k, v in node.items() for bad in _unnamed_numbers(v, k)]
     if isinstance(node, list):
@@ -279,3 +279,35 @@ def test_gauge_pressures_default_to_the_airfield_air_of_the_stop():
     # with no stated altitude the standard sea-level pressure is kept
     level = DEMO.replace('pressure_altitude = "1500 ft"\n', "", 1)
     assert parse_case(level, "demo at sea level").tyre.ambient_pressure == pytest.approx(101325.0)
+
+
+# ---------------------------------------------------------------------------- how it was computed
+
+
+def test_every_report_form_says_how_the_run_was_computed(demo_run, demo_report, tmp_path):
+    from heatstack.resultfile import write_result
+    from heatstack.resultread import read_result
+
+    case, result = demo_run
+    numerics = demo_report["numerics"]
+    assert numerics["cell_count"] == case.build_model().n_cells
+    assert numerics["scheme"] == "bdf2" and numerics["accuracy_K"] == case.solver.accuracy
+    assert numerics["step_count"] == result.metadata["solver"]["steps"] > 0
+    assert numerics["radial_width_m"][1] <= 0.008 + 1e-12 and numerics["axial_width_m"][1] <= 0.008 + 1e-12
+    sentence = f"{numerics['cell_count']} cells"
+    for text in (format_report(demo_report), format_report(demo_report, "markdown"), html_report(demo_report)):
+        assert "How this was computed" in text and sentence in text
+        assert f"accuracy {case.solver.accuracy:g} K" in text and f"{numerics['step_count']} steps" in text
+    # and it survives the results file, from which `heatstack report` rebuilds the report
+    again = build_report(read_result(write_result(result, tmp_path / "demo.h5")), case.report_settings())
+    assert again["numerics"] == numerics
+
+
+def test_a_fixed_step_run_is_reported_as_such():
+    from heatstack.report_text import numerics_sentence
+
+    fixed = {"cell_count": 9, "scheme": "euler", "fixed_step_s": 2.0, "accuracy_K": None, "target_change_K": None}
+    widths = {"radial_width_m": [0.001, 0.002], "axial_width_m": [0.001, 0.001]}
+    assert "backward Euler at fixed steps of 2 s" in numerics_sentence({**fixed, **widths})
+    controlled = {**fixed, "fixed_step_s": None, "target_change_K": 4.0}
+    assert "steps aimed at a change of 4 K" in numerics_sentence({**controlled, **widths})
