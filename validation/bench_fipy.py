@@ -368,7 +368,7 @@ def factorisations(repeats: int = 7) -> None:
     for size in ("3k", "12k", "50k"):
         model, _ = build(size)
         system = last_step_matrix(model)
-        A = system.matrix.copy()
+        A = system.assembled().copy()
         upper = sp.triu(A, format="csc")
         kept = qdldl.Solver(upper, upper=True)
         rhs = rng.standard_normal(A.shape[0])

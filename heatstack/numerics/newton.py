@@ -219,7 +219,7 @@ class NewtonStep:
         for iteration in range(self.max_iterations):
             system = self.linearise(frame, T, surfaces, iteration)
             residual = (
-                self.system.matrix @ T
+                self.system.product(T)
                 - system.capacity * T
                 + frame.volume_rate * (system.enthalpy - frame.enthalpy)
                 - system.source
@@ -321,7 +321,7 @@ class NewtonStep:
         """
         frame = self.frame(t0, dt, H_n)
         system = self.linearise(frame, T_n, surfaces, 1)
-        outflow = self.system.matrix @ T_n - system.capacity * T_n
+        outflow = self.system.product(T_n) - system.capacity * T_n
         return (system.source - outflow) / self.net.volume
 
     def linearise(
@@ -368,7 +368,7 @@ class NewtonStep:
         if frame.volume_source is not None:
             b += frame.volume_source
         capacity = properties.heat_capacity * frame.volume_rate
-        self.system.assemble(capacity + U_cell, G, gaps.conductance)
+        self.system.set_coefficients(capacity + U_cell, G, gaps.conductance)
         return Linearisation(
             enthalpy=properties.enthalpy,
             capacity=capacity,
@@ -453,7 +453,7 @@ class NewtonStep:
         StepFailed
             If the new enthalpy lies outside a property table.
         """
-        outflow = self.system.matrix @ T_star - system.capacity * T_star
+        outflow = self.system.product(T_star) - system.capacity * T_star
         H_new = frame.enthalpy + (system.source - outflow) / frame.volume_rate
         try:
             return cell_temperature(self.net, H_new), H_new

@@ -317,6 +317,7 @@ class StepMatrix:
             shape=(n, n),
         )
         self.ldl = None
+        self._coefficients: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
 
     def link_conductances(self, conductivity: np.ndarray, contact: np.ndarray) -> np.ndarray:
         """Conductance of every link: two half-cell resistances and the contact resistance.
@@ -353,6 +354,63 @@ class StepMatrix:
             Conductance of each radiating gap pair [W/K].
         """
         self.matrix.data[:] = self.assembly @ np.concatenate((diagonal, G, G_gap))
+        self._coefficients = None
+
+    def set_coefficients(self, diagonal: np.ndarray, G: np.ndarray, G_gap: np.ndarray) -> None:
+        """Take the step's coefficients; the matrix is assembled from them only when it is factorised.
+
+        A Newton iteration that reuses older factors needs only the product of the current
+        matrix with a vector (:meth:`product`), which the coefficients give directly.
+
+        Parameters
+        ----------
+        diagonal : ndarray, shape (n,)
+            Each cell's own term (capacity over step plus face transfer) [W/K].
+        G : ndarray, shape (m,)
+            Conductance of each conduction link [W/K].
+        G_gap : ndarray, shape (q,)
+            Conductance of each radiating gap pair [W/K].
+        """
+        self._coefficients = (diagonal, G, G_gap)
+
+    def product(self, T: np.ndarray) -> np.ndarray:
+        """The current step matrix times ``T``: each cell's own term plus the net flow out through its links [W].
+
+        Parameters
+        ----------
+        T : ndarray, shape (n,)
+            Cell temperatures [K].
+
+        Returns
+        -------
+        ndarray, shape (n,)
+            ``A @ T`` with ``A`` the matrix of the last coefficients given.
+        """
+        if self._coefficients is None:
+            return self.matrix @ T
+        diagonal, G, G_gap = self._coefficients
+        net, n = self.net, self.net.n_cells
+        flow = G * (T[net.link_a] - T[net.link_b])
+        out = diagonal * T
+        out += np.bincount(net.link_a, weights=flow, minlength=n)
+        out -= np.bincount(net.link_b, weights=flow, minlength=n)
+        if G_gap.size:
+            gap_flow = G_gap * (T[net.gap_a] - T[net.gap_b])
+            out += np.bincount(net.gap_a, weights=gap_flow, minlength=n)
+            out -= np.bincount(net.gap_b, weights=gap_flow, minlength=n)
+        return out
+
+    def assembled(self) -> sp.csc_matrix:
+        """The step matrix of the last coefficients given, assembled.
+
+        Returns
+        -------
+        scipy.sparse.csc_matrix
+            The matrix (kept in place: its data change with the next assembly).
+        """
+        if self._coefficients is not None:
+            self.assemble(*self._coefficients)
+        return self.matrix
 
     def factorise(self):
         """Factors of the matrix as it stands, with a ``solve(rhs)`` method.
@@ -374,6 +432,7 @@ class StepMatrix:
         qdldl.Solver or scipy.sparse.linalg.SuperLU
             The factors, with a ``solve(rhs)`` method.
         """
+        self.assembled()
         if qdldl is not None:
             self.upper.data[:] = self.matrix.data[self.upper_positions]
             try:
@@ -395,7 +454,7 @@ class StepMatrix:
             The factors, with a ``solve`` method.
         """
         return spla.splu(
-            self.matrix.copy(),
+            self.assembled().copy(),
             permc_spec="MMD_AT_PLUS_A",
             diag_pivot_thresh=0.0,
             options={"SymmetricMode": True},

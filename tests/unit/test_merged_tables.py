@@ -211,3 +211,24 @@ def test_a_run_gives_the_same_answer_with_either_factorisation(network, monkeypa
     # both converge each step to the Newton tolerance (1e-3 K by default)
     assert ldl.final_state.temperature.max() > 400.0
     np.testing.assert_allclose(ldl.final_state.temperature, lu.final_state.temperature, rtol=0, atol=1e-2)
+
+
+def test_the_product_of_the_coefficients_is_the_assembled_matrix_times_a_vector(network):
+    # a Newton iteration that reuses older factors takes A @ T from the link flows, unassembled
+    assert network.gap_a.size > 0  # the gap pairs' flows are in it too
+    rng = np.random.default_rng(11)
+    system = StepMatrix(network)
+    system.set_coefficients(
+        rng.uniform(1.0, 2.0, network.n_cells),
+        rng.uniform(0.5, 50.0, network.link_a.size),
+        rng.uniform(0.01, 0.1, network.gap_a.size),
+    )
+    T = rng.uniform(300.0, 900.0, network.n_cells)
+    lazy = system.product(T)
+    assembled = system.assembled()
+    np.testing.assert_allclose(lazy, assembled @ T, rtol=0, atol=1e-11 * np.max(np.abs(assembled @ T)))
+    # factorising assembles the coefficients given last
+    rhs = rng.standard_normal(network.n_cells)
+    system.set_coefficients(2.0 * np.ones(network.n_cells), np.ones(network.link_a.size), np.ones(network.gap_a.size))
+    factors = system.factorise()
+    np.testing.assert_allclose(system.product(factors.solve(rhs)), rhs, rtol=0, atol=1e-9)
