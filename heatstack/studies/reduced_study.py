@@ -269,6 +269,9 @@ def _predicted_table(plan: StudyPlan, model: ReducedModel, full: StudyTable | No
         units=units,
         title=plan.study.title,
         method=f"{plan.study.sampling.method} on the reduced model",
+        cell_size=plan.cell_size,
+        accuracy=plan.accuracy,
+        target_change=plan.target_change,
     )
 
 

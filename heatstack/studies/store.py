@@ -92,6 +92,16 @@ def _write_atomic(path: Path, fill) -> None:
     write_file_atomically(path, write, "study store file")
 
 
+#: The study's overrides of every case's settings, as the manifest names them (key, SI unit).
+_OVERRIDES = (("cell_size", "m"), ("accuracy", "K"), ("target_change", "K"))
+
+
+def _override(manifest: Mapping, attribute: str) -> float | None:
+    """A stored override [SI], None when the study left each case its own (stored as NaN or absent)."""
+    value = manifest.get(attribute)
+    return None if value is None or not np.isfinite(float(value)) else float(value)
+
+
 def _text(value: Any) -> str:
     return value.decode("utf-8") if isinstance(value, bytes) else str(value)
 
@@ -536,6 +546,7 @@ class StudyStore:
             units=units,
             title=_text(manifest.get("title", "")),
             method=_text(manifest.get("method", "")),
+            **{key: _override(manifest, f"{key}_{unit}") for key, unit in _OVERRIDES},
         )
 
 

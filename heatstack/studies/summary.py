@@ -67,6 +67,7 @@ def study_report(
         f"Cases: {table.n_cases} ({counts['ok']} finished, {counts['failed']} failed, "
         f"{counts['pending']} not run); sampling: {table.method or 'unknown'}.",
     ]
+    lines.append(_numerics_line(table))
     if table.method == "grid":
         lines.append("Grid sampling: the release fractions below are fractions of grid points, not probabilities.")
     if counts["ok"]:
@@ -78,6 +79,30 @@ def study_report(
     lines += _warning_lines(table)
     lines += _failure_lines(table, max_failures)
     return "\n".join(lines) + "\n"
+
+
+def _numerics_line(table: StudyTable) -> str:
+    """How the cases were computed: the study's cell size and step control, or each case's own; median steps."""
+    settings = []
+    if table.cell_size is not None:
+        settings.append(f"cells of {1e3 * table.cell_size:g} mm")
+    if table.accuracy is not None:
+        settings.append(
+            f"BDF2 time steps at accuracy {table.accuracy:g} K (peaks within about this of the converged answer on "
+            "that grid)"
+        )
+    if table.target_change is not None:
+        settings.append(f"backward-Euler steps aimed at a change of {table.target_change:g} K")
+    text = (
+        "Numerics: " + " and ".join(settings) + ", set by the study for every case"
+        if settings
+        else "Numerics: each case's own cell size and solver settings (the study overrides none)"
+    )
+    if table.cell_size is None and settings:
+        text += " (cell size: each case's own)"
+    if "solver:steps" in table and np.any(np.isfinite(table["solver:steps"])):
+        text += f"; median {np.nanmedian(table['solver:steps']):.0f} time steps per case"
+    return text + "."
 
 
 _TABLE_EDGE = re.compile(r"temperature (-?\d+(?:\.\d+)?) K is outside")

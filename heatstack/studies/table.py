@@ -67,6 +67,9 @@ class StudyTable:
     units : dict of str to str
         SI unit of each column ("" for none).
     title, method : str
+    cell_size, accuracy, target_change : float or None
+        The study's overrides of every case's cell size [m], BDF2 accuracy [K] and Euler
+        target change [K]; None where each case keeps its base case's own.
     """
 
     columns: dict[str, np.ndarray]
@@ -75,6 +78,9 @@ class StudyTable:
     units: dict[str, str] = field(default_factory=dict)
     title: str = ""
     method: str = ""
+    cell_size: float | None = None
+    accuracy: float | None = None
+    target_change: float | None = None
 
     def __getitem__(self, name: str) -> np.ndarray:
         if name not in self.columns:

@@ -201,6 +201,29 @@ def test_a_varied_contact_conductance_gives_the_outputs_of_a_fresh_build(folder,
             assert table[name][k] == fresh[name], name
 
 
+def test_the_study_report_says_how_its_cases_were_computed(folder, tmp_path):
+    from heatstack.studies.summary import study_report
+
+    h = Parameter("assembly.design.rotor_stator_clamped", values=[2500.0, 3500.0], name="h")
+    study = Study(folder / "short_demo.toml", [h], Sampling("grid"), cell_size="12 mm", accuracy="0.5 K")
+    table = run_study(study, tmp_path / "store", SerialExecutor(), progress=False).table
+    assert (table.cell_size, table.accuracy, table.target_change) == (pytest.approx(0.012), 0.5, None)
+    again = load_table(tmp_path / "store")  # read back from the store's manifest
+    assert (again.cell_size, again.accuracy) == (table.cell_size, table.accuracy)
+    text = study_report(again)
+    steps = np.median(table["solver:steps"])
+    assert "Numerics: cells of 12 mm and BDF2 time steps at accuracy 0.5 K" in text
+    assert f"median {steps:.0f} time steps per case" in text
+    own = Study(
+        folder / "lumped.toml", [Parameter("duty.phases[0].events[0].energy", values=["1 MJ"])], Sampling("grid")
+    )
+    own_table = run_study(own, tmp_path / "own", SerialExecutor(), progress=False).table
+    assert own_table.cell_size is None and own_table.accuracy is None
+    assert "Numerics: each case's own cell size and solver settings (the study overrides none)" in study_report(
+        own_table
+    )
+
+
 # ---------------------------------------------------------------------------- store
 
 
