@@ -116,7 +116,7 @@ class Model:
 
         Raises
         ------
-        ValueError
+        GeometryError
             If ``assembly`` differs from this model's in anything but contact conductances.
         """
         return Model(assembly=assembly, grid=self.grid, network=with_contacts(self.network, assembly))

@@ -587,11 +587,13 @@ def with_contacts(network: Network, assembly: Assembly) -> Network:
 
     Raises
     ------
-    ValueError
+    GeometryError
         If ``assembly`` differs from ``network.assembly`` in anything but contact conductances.
     """
     if contact_free(assembly) != contact_free(network.assembly):
-        raise ValueError("the assembly differs in more than its contact conductances: build the network afresh")
+        raise GeometryError(
+            "assembly: differs from the meshed one in more than its contact conductances; build a new model for it"
+        )
     links = _Builder(assembly, network.grid, {}).links()
     m = links["link_a"].size
     clamped, released = network.link_contact_clamped.copy(), network.link_contact_released.copy()

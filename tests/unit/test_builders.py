@@ -92,5 +92,5 @@ def test_a_model_with_other_contacts_equals_a_fresh_build_array_by_array():
 def test_other_contacts_refuse_an_assembly_with_another_geometry():
     model = Model.build(build_wheel_brake().assembly, cell_size=0.012)
     thicker = build_wheel_brake(WheelBrakeDesign(rotor_thickness=0.03)).assembly
-    with pytest.raises(ValueError, match="more than its contact conductances"):
+    with pytest.raises(GeometryError, match="more than its contact conductances"):
         model.with_contacts(thicker)
