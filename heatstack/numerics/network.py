@@ -591,9 +591,7 @@ def with_contacts(network: Network, assembly: Assembly) -> Network:
         If ``assembly`` differs from ``network.assembly`` in anything but contact conductances.
     """
     if contact_free(assembly) != contact_free(network.assembly):
-        raise GeometryError(
-            "assembly: differs from the meshed one in more than its contact conductances; build a new model for it"
-        )
+        raise GeometryError("assembly: differs from the meshed one in more than its contact conductances")
     links = _Builder(assembly, network.grid, {}).links()
     m = links["link_a"].size
     clamped, released = network.link_contact_clamped.copy(), network.link_contact_released.copy()
