@@ -212,7 +212,7 @@ def _check_wait_arguments(args: argparse.Namespace) -> None:
 
 def _answer_wait(args: argparse.Namespace, problem) -> int:
     """Find and print the shortest safe wait of ``problem``; the margin plot with ``--plot``."""
-    from .questions.safe_wait import shortest_safe_wait
+    from .questions.safe_wait import shortest_safe_wait, shown_margin
     from .studies import LocalExecutor
 
     with LocalExecutor(workers=args.workers) as executor:
@@ -226,7 +226,7 @@ def _answer_wait(args: argparse.Namespace, problem) -> int:
             top = ""
         else:
             top = f"peak {peak / 1e5:6.2f} bar gauge, " if unit == "Pa" else f"peak {peak - 273.15:6.1f} degC, "
-        shown = f"{margin / 1e5:7.2f} bar" if unit == "Pa" else f"{margin:7.1f} K"
+        shown = shown_margin(margin, unit, width=7)
         governs = "   <- governs" if name == answer.governing else ""
         print(f"  {series_label(name):24s} {top}margin {shown}{governs}")
     if at.sensor_at_departure is not None:

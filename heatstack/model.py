@@ -194,7 +194,7 @@ def _numerics(cells: int, options: SolverOptions) -> dict:
     """How a run was computed: cells and the time stepping's scheme and control (SI, JSON-able)."""
     fixed = options.fixed_step is not None
     return {
-        "cells": int(cells),
+        "cell_count": int(cells),
         "scheme": options.scheme,
         "fixed_step_s": options.fixed_step,
         "accuracy_K": options.accuracy if options.scheme == "bdf2" and not fixed else None,

@@ -168,11 +168,7 @@ def _numerics_section(result: Result) -> dict[str, Any] | None:
     stats = result.metadata.get("solver", {})
     counts = {"steps": "step_count", "rejected_steps": "retried_step_count", "iterations": "newton_iteration_count"}
     return {
-        "cell_count": int(numerics["cells"]),
-        "scheme": numerics["scheme"],
-        "fixed_step_s": numerics["fixed_step_s"],
-        "accuracy_K": numerics["accuracy_K"],
-        "target_change_K": numerics["target_change_K"],
+        **numerics,
         "radial_width_m": [float(dr.min()), float(dr.max())],
         "axial_width_m": [float(dz.min()), float(dz.max())],
         **{name: int(stats[key]) for key, name in counts.items() if key in stats},

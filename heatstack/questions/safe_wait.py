@@ -54,6 +54,7 @@ __all__ = [
     "WaitSample",
     "evaluate_wait",
     "shortest_safe_wait",
+    "shown_margin",
 ]
 
 #: Scale of a margin of each kind on the common footing of the governing margin.
@@ -494,16 +495,31 @@ def shortest_safe_wait(
     return _answer(problem, best, every, step)
 
 
-def _shown_margin(margin: float, unit: str) -> str:
-    """A margin in its own unit: kelvin, or bar for a pressure given in pascal."""
-    return f"{margin / 1e5:.2f} bar" if unit == "Pa" else f"{margin:.1f} K"
+def shown_margin(margin: float, unit: str, width: int = 0) -> str:
+    """A margin in its own unit: kelvin, or bar for a pressure given in pascal.
+
+    Parameters
+    ----------
+    margin : float
+        The margin [K or Pa].
+    unit : {"K", "Pa"}
+        Its unit, as :attr:`WaitSample.margins` gives it.
+    width : int
+        Width of the number, for columns (0: as narrow as it needs).
+
+    Returns
+    -------
+    str
+        E.g. ``"33.2 K"`` or ``"0.33 bar"``.
+    """
+    return f"{margin / 1e5:{width}.2f} bar" if unit == "Pa" else f"{margin:{width}.1f} K"
 
 
 def _answer(problem: WaitProblem, best: WaitSample, samples: list[WaitSample], step: float) -> WaitAnswer:
     at = best if best.result is not None else evaluate_wait(problem, best.wait, keep_result=True)
     wait, governing = at.wait, series_label(at.governing)
     if wait == 0.0:
-        shown = next(_shown_margin(m, unit) for name, m, unit in at.margins if name == at.governing)
+        shown = next(shown_margin(m, unit) for name, m, unit in at.margins if name == at.governing)
         message = f"safe now: the rejected take-off keeps every limit (least margin: {governing}, {shown})"
     else:
         message = f"wait at least {wait / 60.0:.1f} min (to within {step:g} s): the {governing} limit governs"
