@@ -211,6 +211,23 @@ def floor_text(stats: dict, factor: float, solve: float) -> str:
     )
 
 
+def budget_text(stats: dict, factor: float, solve: float, hs_step: float, fp_step: float, target: float = 40.0) -> str:
+    """What a ratio of ``target`` allows per step, and how much of it the solves and factorisations already take.
+
+    The rest of heatstack's step (properties, conductances, boundary laws, residuals,
+    acceleration, the conservative update: numpy work on arrays of the cell and link
+    counts) must fit in what is left.
+    """
+    steps = stats["steps"]
+    solver = (stats["iterations"] * solve + stats["factorisations"] * factor) / steps
+    allowed = fp_step / target
+    return (
+        f"a ratio of {target:g} allows {1e3 * allowed:.2f} ms per step; solves and factorisations take "
+        f"{1e3 * solver:.2f} ms, so the rest must fit in {1e3 * (allowed - solver):.2f} ms "
+        f"(it takes {1e3 * (hs_step - solver):.2f} ms now)"
+    )
+
+
 def header() -> None:
     import fipy
 
@@ -285,6 +302,7 @@ def compare() -> tuple[float, float, float]:
     )
     print(f"  for information, heatstack time per step / one triangular solve: {hs_step / solve:.1f}")
     print(f"    {floor_text(stats, factor, solve)}")
+    print(f"    {budget_text(stats, factor, solve, hs_step, fp_step)}")
     lax_step, lax = time_heatstack(model, SolverOptions(scheme="euler", fixed_step=DT))
     lax_stats = lax.metadata["solver"]
     lax_its = lax_stats["iterations"] / lax_stats["steps"]
