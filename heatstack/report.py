@@ -28,7 +28,7 @@ from .answers.histories import level_crossings, record_times
 from .answers.sensor import sensor_lag
 from .answers.tyre import plug_releases_before_limit, tyre_pressure_margin
 from .errors import InputError
-from .geometry import GLOBAL_SERIES, HEAT_SINK_MEAN
+from .geometry import GLOBAL_SERIES, HEAT_SINK_MAX, HEAT_SINK_MEAN
 from .report_settings import ReportSettings, tyre_gas_for
 from .report_text import (
     SERIES_LABELS,
@@ -48,6 +48,7 @@ __all__ = [
     "build_report",
     "format_report",
     "CAUTION",
+    "HOTTEST_CELL_NOTE",
     "PLUG_NOTE",
 ]
 
@@ -62,6 +63,13 @@ PLUG_NOTE = (
     "A fuse plug's own temperature lags the rim at its seat (the plug's small mass heats through "
     "its contact with the rim, with the time constant given), so it peaks lower and later than the "
     "rim; release, peak and margin are judged on the plug's own temperature."
+)
+
+#: What a hottest cell's peak is, and why it moves with the cell size (one sentence for the report).
+HOTTEST_CELL_NOTE = (
+    "A hottest cell's temperature is the mean over that cell: next to a rubbing face, where the temperature "
+    "falls steeply into the part, it reads below the friction surface itself, and a run with smaller cells "
+    "reads hotter; compare runs at two cell sizes before relying on it."
 )
 
 
@@ -145,6 +153,7 @@ def _sections(result: Result, settings: ReportSettings) -> dict[str, Any]:
     }
     plugs = assess_fuse_plugs(result, settings.fuse_plugs) if settings.fuse_plugs else []
     report["peaks"] = _peak_rows(result, {p.name for p in plugs})
+    report["peak_note"] = HOTTEST_CELL_NOTE if HEAT_SINK_MAX in result.series else ""
     if settings.sensor in result.readings and HEAT_SINK_MEAN in result.series:
         report["sensor"] = _sensor_section(result, settings)
     report["fuse_plugs"] = [_fuse_plug_row(result, a) for a in plugs]
@@ -388,6 +397,8 @@ def format_report(report: Mapping[str, Any], fmt: str = "text") -> str:
         lines += [f"Heat-sink mass: {report['heat_sink_mass_kg']:.2f} kg."]
     lines += _heading(f"Peak temperatures [{unit_symbols(report['temperature_unit'])[0]}]", md)
     lines += _table_lines(*tables["peaks"], md)
+    if report.get("peak_note"):
+        lines += ["", report["peak_note"]]
     for key, title, sentences in (
         ("sensor", "Why the gauge lags: sensor against the true heat-sink temperature", sensor_sentences),
         ("fuse_plugs", "Fuse plugs", None),

@@ -246,6 +246,8 @@ def _section_bodies(report: Mapping[str, Any], figures: Sequence[Path], case_tex
         items = "".join(f"<li>{_esc(w)}</li>" for w in report["warnings"])
         bodies["warnings"] = f'<ul class="warnings">{items}</ul>'
     bodies["peaks"] = html_paragraphs([end_of_braking_sentence(report)]) + html_table(*tables["peaks"])
+    if report.get("peak_note"):
+        bodies["peaks"] += html_paragraphs([report["peak_note"]], "note")
     if report.get("sensor"):
         bodies["sensor"] = html_paragraphs(sensor_sentences(report))
     if report["fuse_plugs"]:

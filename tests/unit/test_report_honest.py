@@ -16,7 +16,8 @@ from heatstack.answers.tyre import default_outer_conductance
 from heatstack.case import parse_case, run_case
 from heatstack.cli import main
 from heatstack.errors import InputError
-from heatstack.report import PLUG_NOTE, build_report, format_report
+from heatstack.geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN
+from heatstack.report import HOTTEST_CELL_NOTE, PLUG_NOTE, build_report, format_report
 from heatstack.report_html import html_report
 
 SMALL = (Path(__file__).parent / "test_case.py").read_text().split('SMALL = """', 1)[1].split('"""', 1)[0]
@@ -136,6 +137,24 @@ def test_the_plug_lags_the_rim_at_its_seat_and_the_report_says_why(demo_report):
         assert row["time_of_peak_s"] >= row["rim_at_seat_time_of_peak_s"]
     text = format_report(demo_report, "text")
     assert PLUG_NOTE in text
+
+
+def test_the_hottest_cell_is_explained_as_a_cell_mean_that_moves_with_the_cell_size(demo_run, demo_report):
+    # The cell next to a rubbing face reads below the friction surface by about q dz / (2 k):
+    # tests/validation/test_analytic_solutions.py checks that against Carslaw & Jaeger's
+    # constant-flux surface rise. Every form says so under the peaks when it shows the hottest cell.
+    assert any(row["name"] == HEAT_SINK_MAX for row in demo_report["peaks"])
+    for form in ("text", "markdown"):
+        text = format_report(demo_report, form)
+        assert text.index(HOTTEST_CELL_NOTE) < text.index("Why the gauge lags")
+    assert json.loads(format_report(demo_report, "json"))["peak_note"] == HOTTEST_CELL_NOTE
+    assert html.escape(HOTTEST_CELL_NOTE) in html_report(demo_report)
+    case, result = demo_run
+    # no heat-sink parts: neither heat-sink series, so no hottest cell to explain
+    series = {name: values for name, values in result.series.items() if name not in (HEAT_SINK_MAX, HEAT_SINK_MEAN)}
+    settings = dataclasses.replace(case.report_settings(), cooling_below=None)  # the cooling time reads the mean
+    without = build_report(dataclasses.replace(result, series=series), settings)
+    assert without["peak_note"] == "" and HOTTEST_CELL_NOTE not in format_report(without, "text")
 
 
 def test_no_internal_name_reaches_any_report_form(demo_report):
