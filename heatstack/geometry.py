@@ -33,6 +33,7 @@ __all__ = [
     "WHEEL",
     "HEAT_SINK_MEAN",
     "HEAT_SINK_MAX",
+    "RUBBING_FACE_MAX",
     "WHEEL_MAX",
     "GLOBAL_SERIES",
     "series_name",
@@ -98,10 +99,13 @@ def series_name(group: str, statistic: str) -> str:
 HEAT_SINK_MEAN = series_name(HEAT_SINK, "mean")
 HEAT_SINK_MAX = series_name(HEAT_SINK, "max")
 WHEEL_MAX = series_name(WHEEL, "max")
-GLOBAL_SERIES = (HEAT_SINK_MEAN, HEAT_SINK_MAX, WHEEL_MAX)
+#: The hottest rubbing surface (recorded for every model with rubbing faces, built or not).
+RUBBING_FACE_MAX = "rubbing_face_max"
+GLOBAL_SERIES = (HEAT_SINK_MEAN, HEAT_SINK_MAX, RUBBING_FACE_MAX, WHEEL_MAX)
 _GLOBAL_SERIES_LABELS = {
     HEAT_SINK_MEAN: "heat-sink mean",
     HEAT_SINK_MAX: "heat sink, hottest cell",
+    RUBBING_FACE_MAX: "hottest rubbing surface",
     WHEEL_MAX: "wheel, hottest cell",
 }
 

@@ -28,7 +28,7 @@ from .answers.histories import level_crossings, record_times
 from .answers.sensor import sensor_lag
 from .answers.tyre import plug_releases_before_limit, tyre_pressure_margin
 from .errors import InputError
-from .geometry import GLOBAL_SERIES, HEAT_SINK_MAX, HEAT_SINK_MEAN
+from .geometry import GLOBAL_SERIES, HEAT_SINK_MAX, HEAT_SINK_MEAN, RUBBING_FACE_MAX
 from .report_settings import ReportSettings, tyre_gas_for
 from .report_text import (
     SERIES_LABELS,
@@ -50,6 +50,7 @@ __all__ = [
     "CAUTION",
     "HOTTEST_CELL_NOTE",
     "PLUG_NOTE",
+    "RUBBING_SURFACE_NOTE",
 ]
 
 CAUTION = (
@@ -70,6 +71,11 @@ HOTTEST_CELL_NOTE = (
     "A hottest cell's temperature is the mean over that cell: next to a rubbing face, where the temperature "
     "falls steeply into the part, it reads below the friction surface itself, and a run with smaller cells "
     "reads hotter; compare runs at two cell sizes before relying on it."
+)
+#: What the hottest rubbing surface is (added to the note when the run has rubbing faces).
+RUBBING_SURFACE_NOTE = (
+    "The hottest rubbing surface is estimated from the two cells beside each rubbing face and the friction heat "
+    "crossing their half-widths; it moves much less with the cell size, and on coarse cells it reads high."
 )
 
 
@@ -153,7 +159,9 @@ def _sections(result: Result, settings: ReportSettings) -> dict[str, Any]:
     }
     plugs = assess_fuse_plugs(result, settings.fuse_plugs) if settings.fuse_plugs else []
     report["peaks"] = _peak_rows(result, {p.name for p in plugs})
-    report["peak_note"] = HOTTEST_CELL_NOTE if HEAT_SINK_MAX in result.series else ""
+    notes = [HOTTEST_CELL_NOTE] if HEAT_SINK_MAX in result.series else []
+    notes += [RUBBING_SURFACE_NOTE] if RUBBING_FACE_MAX in result.series else []
+    report["peak_note"] = " ".join(notes)
     if settings.sensor in result.readings and HEAT_SINK_MEAN in result.series:
         report["sensor"] = _sensor_section(result, settings)
     report["fuse_plugs"] = [_fuse_plug_row(result, a) for a in plugs]

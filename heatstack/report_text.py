@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any
 
-from .geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX
+from .geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, RUBBING_FACE_MAX, WHEEL_MAX
 from .units import from_si
 
 __all__ = [
@@ -33,6 +33,7 @@ __all__ = [
 SERIES_LABELS = {
     HEAT_SINK_MEAN: "heat sink mean (mass-weighted)",
     HEAT_SINK_MAX: "heat sink, hottest cell",
+    RUBBING_FACE_MAX: "heat sink, hottest rubbing surface",
     WHEEL_MAX: "wheel, hottest cell",
 }
 

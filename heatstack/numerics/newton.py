@@ -377,6 +377,7 @@ class NewtonStep:
             gaps=gaps,
             friction_a=friction_a,
             friction_b=friction_b,
+            conductivity=properties.conductivity,
         )
 
     def factorise(self, frame: StepFrame) -> None:
@@ -530,6 +531,7 @@ class NewtonStep:
             iterations=iteration + 1,
             history=history,
             heat_capacity=system.capacity / frame.volume_rate,
+            conductivity=system.conductivity,
             ambient=ambient,
             bdf2=previous is not None,
         )

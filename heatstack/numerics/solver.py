@@ -32,8 +32,9 @@ from .newton import NewtonStep
 from .options import SolverOptions
 from .predictor import Extrapolator
 from .recording import Recorder
+from .rubbing_faces import RubbingFaces
 from .schedule import Schedule
-from .step_matrix import cell_enthalpy, cell_properties
+from .step_matrix import CellProperties, cell_enthalpy, cell_properties
 from .stepping import MAX_STEP_RATIO, StepControl, newton_relative, newton_tolerance
 
 __all__ = ["integrate", "Integrator", "initial_field", "landing_times", "CORNER_FRACTION"]
@@ -157,8 +158,8 @@ class Integrator:
         H = cell_enthalpy(net, T)
         cell_properties(net, T)  # a field outside a property table fails here, naming the table
         surfaces = SurfaceTemperatures.of_cells(net, T)
-        rec = Recorder(net, self.mass)
-        rec.record(t_start, T, None, surfaces.face)
+        rec = Recorder(net, self.mass, RubbingFaces(net, schedule) if net.friction_a.size else None)
+        rec.record(t_start, T, None, surfaces.face, schedule.phase_at(t_start).clamped)
         rec.snapshot(t_start, T)
         t = t_start
         dt = opt.fixed_step or opt.initial_step
@@ -186,7 +187,14 @@ class Integrator:
                 T, H, surfaces = outcome.temperature, outcome.enthalpy, outcome.surfaces
                 t = target if abs(t + taken - target) <= 1e-9 * max(1.0, abs(target)) else t + taken
                 predictor.accept(t, T)
-                rec.record(t, T, outcome.accounts, surfaces.face)
+                rec.record(
+                    t,
+                    T,
+                    outcome.accounts,
+                    surfaces.face,
+                    schedule.phase_at(t - 0.5 * taken).clamped,
+                    CellProperties(outcome.conductivity, outcome.heat_capacity, H),
+                )
                 if self.progress is not None:
                     self.progress(t)
                 self.stats["steps"] += 1

@@ -55,6 +55,8 @@ class StepOutcome:
         The step as the next one's multistep history.
     heat_capacity : ndarray
         Volumetric heat capacity [J/(m^3 K)] at the last iterate.
+    conductivity : ndarray
+        Cell conductivities [W/(m K)] at the last iterate, radial for all cells then axial.
     ambient : float
         Mean ambient temperature of the exposed faces in the step's phase [K] (the lowest
         cell temperature when nothing is exposed).
@@ -69,6 +71,7 @@ class StepOutcome:
     iterations: int
     history: StepHistory
     heat_capacity: np.ndarray
+    conductivity: np.ndarray
     ambient: float
     bdf2: bool
 
@@ -137,6 +140,8 @@ class Linearisation:
     gaps : GapExchange
     friction_a, friction_b : ndarray
         Friction heat [W] into each side of every rubbing face.
+    conductivity : ndarray
+        Cell conductivities [W/(m K)] at the iterate, radial for all cells then axial.
     """
 
     enthalpy: np.ndarray
@@ -146,3 +151,4 @@ class Linearisation:
     gaps: GapExchange
     friction_a: np.ndarray
     friction_b: np.ndarray
+    conductivity: np.ndarray

@@ -16,7 +16,7 @@ from matplotlib.figure import Figure
 
 from ..answers.fuse_plugs import FusePlug, as_fuse_plug, plug_temperature
 from ..errors import InputError
-from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, WHEEL_MAX
+from ..geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, RUBBING_FACE_MAX, WHEEL_MAX
 from ..result import Result
 from .common import (
     SERIES_STYLES,
@@ -44,6 +44,7 @@ __all__ = ["plot_histories", "plot_sensor_offset", "plot_why_the_gauge_lags"]
 _SERIES_LABELS = {
     HEAT_SINK_MEAN: "heat-sink mean (mass-weighted)",
     HEAT_SINK_MAX: "heat sink, hottest cell",
+    RUBBING_FACE_MAX: "heat sink, hottest rubbing surface",
     WHEEL_MAX: "wheel, hottest cell",
 }
 

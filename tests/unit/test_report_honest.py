@@ -16,8 +16,8 @@ from heatstack.answers.tyre import default_outer_conductance
 from heatstack.case import parse_case, run_case
 from heatstack.cli import main
 from heatstack.errors import InputError
-from heatstack.geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN
-from heatstack.report import HOTTEST_CELL_NOTE, PLUG_NOTE, build_report, format_report
+from heatstack.geometry import HEAT_SINK_MAX, HEAT_SINK_MEAN, RUBBING_FACE_MAX
+from heatstack.report import HOTTEST_CELL_NOTE, PLUG_NOTE, RUBBING_SURFACE_NOTE, build_report, format_report
 from heatstack.report_html import html_report
 
 SMALL = (Path(__file__).parent / "test_case.py").read_text().split('SMALL = """', 1)[1].split('"""', 1)[0]
@@ -139,22 +139,31 @@ def test_the_plug_lags_the_rim_at_its_seat_and_the_report_says_why(demo_report):
     assert PLUG_NOTE in text
 
 
-def test_the_hottest_cell_is_explained_as_a_cell_mean_that_moves_with_the_cell_size(demo_run, demo_report):
-    # The cell next to a rubbing face reads below the friction surface by about q dz / (2 k):
-    # tests/validation/test_analytic_solutions.py checks that against Carslaw & Jaeger's
-    # constant-flux surface rise. Every form says so under the peaks when it shows the hottest cell.
-    assert any(row["name"] == HEAT_SINK_MAX for row in demo_report["peaks"])
+def test_the_hottest_cell_and_the_rubbing_surface_are_explained_under_the_peaks(demo_run, demo_report):
+    # The cell next to a rubbing face reads below the friction surface by about q dz / (2 k); the
+    # rubbing surface series adds it back (tests/validation/test_analytic_solutions.py checks both
+    # against Carslaw & Jaeger's constant-flux surface rise). Every form says so under the peaks.
+    names = [row["name"] for row in demo_report["peaks"]]
+    assert names.index(HEAT_SINK_MAX) + 1 == names.index(RUBBING_FACE_MAX)
+    rows = {row["name"]: row for row in demo_report["peaks"]}
+    assert rows[RUBBING_FACE_MAX]["peak_K"] > rows[HEAT_SINK_MAX]["peak_K"]
+    assert rows[RUBBING_FACE_MAX]["label"] == "heat sink, hottest rubbing surface"
+    both = f"{HOTTEST_CELL_NOTE} {RUBBING_SURFACE_NOTE}"
     for form in ("text", "markdown"):
         text = format_report(demo_report, form)
-        assert text.index(HOTTEST_CELL_NOTE) < text.index("Why the gauge lags")
-    assert json.loads(format_report(demo_report, "json"))["peak_note"] == HOTTEST_CELL_NOTE
-    assert html.escape(HOTTEST_CELL_NOTE) in html_report(demo_report)
+        assert text.index(both) < text.index("Why the gauge lags")
+    assert json.loads(format_report(demo_report, "json"))["peak_note"] == both
+    assert html.escape(both) in html_report(demo_report)
     case, result = demo_run
+    settings = dataclasses.replace(case.report_settings(), cooling_below=None)  # the cooling time reads the mean
     # no heat-sink parts: neither heat-sink series, so no hottest cell to explain
     series = {name: values for name, values in result.series.items() if name not in (HEAT_SINK_MAX, HEAT_SINK_MEAN)}
-    settings = dataclasses.replace(case.report_settings(), cooling_below=None)  # the cooling time reads the mean
     without = build_report(dataclasses.replace(result, series=series), settings)
-    assert without["peak_note"] == "" and HOTTEST_CELL_NOTE not in format_report(without, "text")
+    assert without["peak_note"] == RUBBING_SURFACE_NOTE
+    # and no rubbing faces either: nothing to explain
+    series.pop(RUBBING_FACE_MAX)
+    neither = build_report(dataclasses.replace(result, series=series), settings)
+    assert neither["peak_note"] == "" and HOTTEST_CELL_NOTE not in format_report(neither, "text")
 
 
 def test_no_internal_name_reaches_any_report_form(demo_report):
