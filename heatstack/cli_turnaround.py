@@ -319,7 +319,9 @@ def add_turnaround_verbs(verbs, loudness: argparse.ArgumentParser) -> None:
     for verb in (wait, ramp):
         verb.add_argument("--departure", required=True, help='the rejected take-off: "MASS, BRAKE-ON SPEED"')
         verb.add_argument("--plug-margin", default="10 K", help="fuse plugs below release by (default: %(default)s)")
-        verb.add_argument("--heat-sink-limit", help="highest heat-sink peak allowed, e.g. 900degC")
+        verb.add_argument(
+            "--heat-sink-limit", help="highest peak of the heat sink's hottest cell allowed, e.g. 900degC"
+        )
         verb.add_argument("--after", default="90 min", help="cooling watched after the stop (default: %(default)s)")
         verb.add_argument("--max-wait", default="4 h", help="longest wait looked at (default: %(default)s)")
         verb.add_argument("--tolerance", default="30 s", help="accuracy of the wait (default: %(default)s)")
