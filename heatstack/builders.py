@@ -294,6 +294,9 @@ def _probes(
 ) -> list[Probe]:
     """The design's probes (sensor, hottest rotor, bead seats, fuse plugs) and the ``extra`` ones.
 
+    The "hottest rotor" probe sits in the middle rotor's mid-plane at the mean friction
+    radius: the rotor's core temperature, not that of its rubbing faces.
+
     ``stack`` holds the axial ends of the stack [m]; the rim and the rotors are looked
     up by name in ``parts`` (after any replacement).
     """
