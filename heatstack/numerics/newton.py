@@ -532,6 +532,8 @@ class NewtonStep:
             history=history,
             heat_capacity=system.capacity / frame.volume_rate,
             conductivity=system.conductivity,
+            friction_a=system.friction_a,
+            friction_b=system.friction_b,
             ambient=ambient,
             bdf2=previous is not None,
         )

@@ -14,9 +14,7 @@ from ..result import EnergyLedger, Result, State
 from .accounts import LEDGER_ACCOUNTS, StepAccounts
 from .instrument import first_order_lag
 from .network import Network
-from .rubbing_faces import RubbingFaces
 from .schedule import Schedule
-from .step_matrix import CellProperties
 
 __all__ = ["Recorder"]
 
@@ -30,13 +28,10 @@ class Recorder:
         The meshed assembly being run.
     mass : ndarray, shape (n,)
         Cell masses [kg], the weights of the mass-mean cell-group series.
-    rubbing : RubbingFaces, optional
-        The rubbing faces' surface temperatures, recorded as the series
-        ``RUBBING_FACE_MAX`` (their hottest); None for a network without rubbing faces.
     """
 
-    def __init__(self, net: Network, mass: np.ndarray, rubbing: RubbingFaces | None = None):
-        self.net, self.mass, self.rubbing = net, mass, rubbing
+    def __init__(self, net: Network, mass: np.ndarray):
+        self.net, self.mass = net, mass
         self.times: list[float] = []
         self.probe_values: list[np.ndarray] = []
         self.series: dict[str, list[float]] = {}
@@ -59,8 +54,7 @@ class Recorder:
         T: np.ndarray,
         accounts: StepAccounts | None,
         face_ts: np.ndarray,
-        clamped: bool = False,
-        properties: CellProperties | None = None,
+        rubbing_surface: float | None = None,
     ) -> None:
         """Record one accepted state: probes, cell-group and surface series, and the ledger.
 
@@ -75,10 +69,9 @@ class Recorder:
         face_ts : ndarray, shape (f,)
             Exposed-face temperatures [K], area-averaged per surface group and read by
             the probes next to a face.
-        clamped : bool
-            Whether the phase is clamped at this state (the rubbing faces' clamped contact in force).
-        properties : CellProperties, optional
-            Cell properties for the rubbing surfaces (the step's last iterate's); evaluated when None.
+        rubbing_surface : float, optional
+            The hottest rubbing surface [K] (:class:`~heatstack.numerics.rubbing_faces.RubbingFaces`),
+            recorded as the series ``RUBBING_FACE_MAX``; None for a network without rubbing faces.
         """
         net = self.net
         self.times.append(t)
@@ -93,8 +86,8 @@ class Recorder:
         group_mean = np.bincount(net.face_group, weights=net.face_area * face_ts, minlength=len(net.groups))
         for name, mean in zip(net.groups, group_mean / self.group_area, strict=True):
             self.series.setdefault(f"surface:{name}", []).append(float(mean))
-        if self.rubbing is not None:
-            self.series.setdefault(RUBBING_FACE_MAX, []).append(self.rubbing.hottest(t, T, clamped, properties))
+        if rubbing_surface is not None:
+            self.series.setdefault(RUBBING_FACE_MAX, []).append(float(rubbing_surface))
         if accounts is not None:
             for account, totals in self.ledger.items():
                 totals.append(totals[-1] + getattr(accounts, account))

@@ -5,8 +5,8 @@ cell of the parts that rub is the mean over a cell next to a rubbing face, and r
 below the surface by about the heat crossing the cell's half-width times its
 half-cell resistance. :class:`RubbingFaces` estimates each rubbing surface from
 its two cells with the surfaces as nodes of no heat capacity: the heat ``q_a``,
-``q_b`` made on either side (the friction partition of the step equation, at the
-schedule's power of the moment) reaches the cell centres through the half-cell
+``q_b`` made on either side (the friction partition of the step that led to the
+state; none at the start of a run) reaches the cell centres through the half-cell
 resistances ``R_a``, ``R_b``, and the two surfaces exchange ``f`` through the
 contact resistance ``R_c``::
 
@@ -15,7 +15,9 @@ contact resistance ``R_c``::
 so that ``f = (T_a - T_b + q_a R_a - q_b R_b) / (R_a + R_b + R_c)``. For a
 semi-infinite solid under a constant flux this is the cell-centre value plus
 ``q dz / (2 k)``, which ``tests/validation`` checks against the closed-form
-surface rise.
+surface rise. It assumes the temperature varies linearly across the half-cell, so
+it reads high while the heated layer is thinner than a half-cell (the first
+instants of braking, or coarse cells).
 """
 
 from __future__ import annotations
@@ -23,21 +25,17 @@ from __future__ import annotations
 import numpy as np
 
 from .network import Network
-from .schedule import Schedule
-from .step_matrix import CellProperties, HeatSources, cell_properties
 
 __all__ = ["RubbingFaces"]
 
 
 class RubbingFaces:
-    """Surface temperatures of the rubbing faces of one network under one schedule.
+    """Surface temperatures of the rubbing faces of one network.
 
     Parameters
     ----------
     network : Network
-        The meshed assembly; it must have rubbing faces.
-    schedule : Schedule
-        The run's schedule (its friction power and phases).
+        The meshed assembly.
 
     Raises
     ------
@@ -45,10 +43,9 @@ class RubbingFaces:
         If a rubbing face is not one of the network's conduction links.
     """
 
-    def __init__(self, network: Network, schedule: Schedule):
+    def __init__(self, network: Network):
         net, n = network, network.n_cells
-        self.net, self.schedule = network, schedule
-        self.sources = HeatSources(network, schedule)
+        self.net = network
         # the conduction link of every rubbing face (side a is the link's side a)
         key = net.link_a.astype(np.int64) * n + net.link_b
         order = np.argsort(key)
@@ -56,28 +53,27 @@ class RubbingFaces:
         found = order[np.searchsorted(key, wanted, sorter=order).clip(0, max(key.size - 1, 0))]
         if wanted.size and (key.size == 0 or np.any(key[found] != wanted)):
             raise ValueError("a rubbing face is not a conduction link of the network")
-        self.link = found
         self.conductivity_a = net.link_a[found] + n * net.link_dir[found]
         self.conductivity_b = net.link_b[found] + n * net.link_dir[found]
         self.g_a, self.g_b = net.link_ga[found], net.link_gb[found]
         self.contact = {True: net.link_contact_clamped[found], False: net.link_contact_released[found]}
 
     def temperatures(
-        self, time: float, T: np.ndarray, clamped: bool, properties: CellProperties | None = None
+        self, T: np.ndarray, conductivity: np.ndarray, clamped: bool, heat_a: np.ndarray, heat_b: np.ndarray
     ) -> tuple[np.ndarray, np.ndarray]:
         """Temperature of either side's surface of every rubbing face.
 
         Parameters
         ----------
-        time : float
-            Time of the state [s] (the friction power is the schedule's at this time).
         T : ndarray, shape (n,)
             Cell temperatures [K].
+        conductivity : ndarray, shape (2 n,)
+            Cell conductivities [W/(m K)], radial for all cells then axial (those of the
+            step's last Newton iterate will do).
         clamped : bool
             Whether the phase is clamped (its clamped contact resistances in force).
-        properties : CellProperties, optional
-            The cells' conductivities and heat capacities (those of the step's last Newton
-            iterate will do); evaluated at ``T`` when None.
+        heat_a, heat_b : ndarray, shape (s,)
+            Friction heat made on side a and side b of each rubbing face [W].
 
         Returns
         -------
@@ -85,35 +81,32 @@ class RubbingFaces:
             Surface temperatures on side a and side b of each rubbing face [K].
         """
         net = self.net
-        if properties is None:
-            properties = cell_properties(net, T)
-        k = properties.conductivity
-        power = float(self.schedule.power.power(time))
-        heat_a, heat_b = self.sources.friction(power, properties)
-        R_a = self.g_a / k[self.conductivity_a]
-        R_b = self.g_b / k[self.conductivity_b]
+        R_a = self.g_a / conductivity[self.conductivity_a]
+        R_b = self.g_b / conductivity[self.conductivity_b]
         T_a, T_b = T[net.friction_a], T[net.friction_b]
         exchange = (T_a - T_b + heat_a * R_a - heat_b * R_b) / (R_a + R_b + self.contact[bool(clamped)])
         return T_a + (heat_a - exchange) * R_a, T_b + (heat_b + exchange) * R_b
 
-    def hottest(self, time: float, T: np.ndarray, clamped: bool, properties: CellProperties | None = None) -> float:
+    def hottest(
+        self, T: np.ndarray, conductivity: np.ndarray, clamped: bool, heat_a: np.ndarray, heat_b: np.ndarray
+    ) -> float:
         """The hottest rubbing surface, either side of any rubbing face (see :meth:`temperatures`).
 
         Parameters
         ----------
-        time : float
-            Time of the state [s].
         T : ndarray, shape (n,)
             Cell temperatures [K].
+        conductivity : ndarray, shape (2 n,)
+            Cell conductivities [W/(m K)], radial for all cells then axial.
         clamped : bool
             Whether the phase is clamped.
-        properties : CellProperties, optional
-            As for :meth:`temperatures`.
+        heat_a, heat_b : ndarray, shape (s,)
+            Friction heat made on side a and side b of each rubbing face [W].
 
         Returns
         -------
         float
             The highest surface temperature [K].
         """
-        surface_a, surface_b = self.temperatures(time, T, clamped, properties)
+        surface_a, surface_b = self.temperatures(T, conductivity, clamped, heat_a, heat_b)
         return float(max(surface_a.max(), surface_b.max()))

@@ -34,7 +34,8 @@ from .predictor import Extrapolator
 from .recording import Recorder
 from .rubbing_faces import RubbingFaces
 from .schedule import Schedule
-from .step_matrix import CellProperties, cell_enthalpy, cell_properties
+from .step_matrix import cell_enthalpy, cell_properties
+from .step_records import StepOutcome
 from .stepping import MAX_STEP_RATIO, StepControl, newton_relative, newton_tolerance
 
 __all__ = ["integrate", "Integrator", "initial_field", "landing_times", "CORNER_FRACTION"]
@@ -156,10 +157,14 @@ class Integrator:
         kinks = set(float(b) for b in corners)
         T = T0.copy()
         H = cell_enthalpy(net, T)
-        cell_properties(net, T)  # a field outside a property table fails here, naming the table
+        start = cell_properties(net, T)  # a field outside a property table fails here, naming the table
         surfaces = SurfaceTemperatures.of_cells(net, T)
-        rec = Recorder(net, self.mass, RubbingFaces(net, schedule) if net.friction_a.size else None)
-        rec.record(t_start, T, None, surfaces.face, schedule.phase_at(t_start).clamped)
+        rubbing = RubbingFaces(net) if net.friction_a.size else None
+        rec = Recorder(net, self.mass)
+        if rubbing is not None:  # no heat made yet: the surfaces from the cells alone
+            none = np.zeros(net.friction_a.size)
+            first = rubbing.hottest(T, start.conductivity, schedule.phase_at(t_start).clamped, none, none)
+        rec.record(t_start, T, None, surfaces.face, first if rubbing is not None else None)
         rec.snapshot(t_start, T)
         t = t_start
         dt = opt.fixed_step or opt.initial_step
@@ -187,14 +192,8 @@ class Integrator:
                 T, H, surfaces = outcome.temperature, outcome.enthalpy, outcome.surfaces
                 t = target if abs(t + taken - target) <= 1e-9 * max(1.0, abs(target)) else t + taken
                 predictor.accept(t, T)
-                rec.record(
-                    t,
-                    T,
-                    outcome.accounts,
-                    surfaces.face,
-                    schedule.phase_at(t - 0.5 * taken).clamped,
-                    CellProperties(outcome.conductivity, outcome.heat_capacity, H),
-                )
+                surface = _hottest_rubbing_surface(rubbing, schedule, t - 0.5 * taken, outcome)
+                rec.record(t, T, outcome.accounts, surfaces.face, surface)
                 if self.progress is not None:
                     self.progress(t)
                 self.stats["steps"] += 1
@@ -323,3 +322,13 @@ def _start_readings(state: State) -> dict[str, float]:
             raise InputError(f"initial state: reading of probe {name!r} must be finite and > 0 K, got {value!r}")
         readings[str(name)] = value
     return readings
+
+
+def _hottest_rubbing_surface(
+    rubbing: RubbingFaces | None, schedule: Schedule, midpoint: float, outcome: StepOutcome
+) -> float | None:
+    """The hottest rubbing surface [K] after a step whose midpoint is ``midpoint`` [s] (None without rubbing faces)."""
+    if rubbing is None:
+        return None
+    heat = (outcome.friction_a, outcome.friction_b)
+    return rubbing.hottest(outcome.temperature, outcome.conductivity, schedule.phase_at(midpoint).clamped, *heat)

@@ -57,6 +57,8 @@ class StepOutcome:
         Volumetric heat capacity [J/(m^3 K)] at the last iterate.
     conductivity : ndarray
         Cell conductivities [W/(m K)] at the last iterate, radial for all cells then axial.
+    friction_a, friction_b : ndarray
+        Friction heat [W] made on either side of every rubbing face in the step equation.
     ambient : float
         Mean ambient temperature of the exposed faces in the step's phase [K] (the lowest
         cell temperature when nothing is exposed).
@@ -72,6 +74,8 @@ class StepOutcome:
     history: StepHistory
     heat_capacity: np.ndarray
     conductivity: np.ndarray
+    friction_a: np.ndarray
+    friction_b: np.ndarray
     ambient: float
     bdf2: bool
 
