@@ -78,6 +78,8 @@ class Network:
         The exposed-surface group names (``face_group`` indexes it).
     friction_a, friction_b : ndarray of int, shape (s,)
         Cells on either side of each rubbing face.
+    friction_link : ndarray of int, shape (s,)
+        The conduction link of each rubbing face (its side a is the link's side a).
     friction_weight : ndarray, shape (s,)
         Share of the total friction power of each rubbing face [-] (sums to 1).
     friction_interface : ndarray of int, shape (s,)
@@ -126,6 +128,7 @@ class Network:
     groups: tuple[str, ...]
     friction_a: np.ndarray
     friction_b: np.ndarray
+    friction_link: np.ndarray
     friction_weight: np.ndarray
     friction_interface: np.ndarray
     friction_labels: tuple[str, ...]
@@ -405,6 +408,7 @@ class _Builder:
         return {
             "friction_a": links["link_a"][idx][keep],
             "friction_b": links["link_b"][idx][keep],
+            "friction_link": idx[keep],
             "friction_weight": (share[interface] * weight / np.where(totals > 0, totals, 1.0)[interface])[keep],
             "friction_interface": interface[keep],
             "friction_labels": unique,
@@ -424,14 +428,9 @@ class _Builder:
 
     @staticmethod
     def _no_friction() -> dict:
-        empty_i, empty_f = np.zeros(0, dtype=int), np.zeros(0)
-        return {
-            "friction_a": empty_i,
-            "friction_b": empty_i,
-            "friction_weight": empty_f,
-            "friction_interface": empty_i,
-            "friction_labels": (),
-        }
+        empty = np.zeros(0, dtype=int)
+        names = ("friction_a", "friction_b", "friction_link", "friction_interface")
+        return {**dict.fromkeys(names, empty), "friction_weight": np.zeros(0), "friction_labels": ()}
 
     def probes(self, faces: list[dict], in_gap: set[int]) -> dict:
         """Probe names, stencils and time constants; ``faces`` are the exposed faces in order,

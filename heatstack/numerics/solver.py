@@ -161,10 +161,10 @@ class Integrator:
         surfaces = SurfaceTemperatures.of_cells(net, T)
         rubbing = RubbingFaces(net) if net.friction_a.size else None
         rec = Recorder(net, self.mass)
-        if rubbing is not None:  # no heat made yet: the surfaces from the cells alone
-            none = np.zeros(net.friction_a.size)
-            first = rubbing.hottest(T, start.conductivity, schedule.phase_at(t_start).clamped, none, none)
-        rec.record(t_start, T, None, surfaces.face, first if rubbing is not None else None)
+        no_heat = np.zeros(net.friction_a.size)  # none made yet: the surfaces from the cells alone
+        clamped = schedule.phase_at(t_start).clamped
+        first = None if rubbing is None else rubbing.hottest(T, start.conductivity, clamped, no_heat, no_heat)
+        rec.record(t_start, T, None, surfaces.face, first)
         rec.snapshot(t_start, T)
         t = t_start
         dt = opt.fixed_step or opt.initial_step
